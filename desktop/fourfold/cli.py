@@ -1,0 +1,104 @@
+"""The ``fourfold`` command line: one parser for the window and the headless sub-commands.
+
+``fourfold [PLAN.json]`` opens the window (on the bundled sample plan when no file is given);
+``fourfold export``, ``fourfold shot`` and ``fourfold history`` run without a window. Each
+sub-command's work lives in its own package and is imported only when it runs, so that
+``fourfold --help`` stays instant.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from collections.abc import Sequence
+
+from fourfold import __version__
+from fourfold.errors import FourfoldError
+
+SUBCOMMANDS = ("open", "export", "shot", "history")
+
+
+def _size(text: str) -> tuple[int, int]:
+    try:
+        width, height = (int(part) for part in text.lower().split("x"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"size must look like 1400x900, not {text!r}") from None
+    if not (200 <= width <= 8000 and 200 <= height <= 8000):
+        raise argparse.ArgumentTypeError("width and height must be between 200 and 8000 pixels")
+    return width, height
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="fourfold",
+        description=(
+            "Plan the sample size of online controlled experiments. "
+            "Without a sub-command, opens the window on PLAN (or on the bundled sample plan)."
+        ),
+    )
+    parser.add_argument("--version", action="version", version=f"fourfold {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    p_open = sub.add_parser("open", help="open the window (the default command)")
+    p_open.add_argument("plan", nargs="?", help="plan file (.json); default: the sample plan")
+
+    p_export = sub.add_parser("export", help="write a plan to CSV or PDF without a window")
+    p_export.add_argument("plan", help="plan file (.json)")
+    p_export.add_argument(
+        "-o", "--output", required=True, help="output file; the format comes from .csv or .pdf"
+    )
+    p_export.add_argument(
+        "--page", choices=("a4", "letter"), default="a4", help="PDF page size (default a4)"
+    )
+
+    p_shot = sub.add_parser("shot", help="render the window offscreen to a PNG")
+    p_shot.add_argument("plan", nargs="?", help="plan file (.json); default: the sample plan")
+    p_shot.add_argument("-o", "--output", required=True, help="PNG file to write")
+    p_shot.add_argument(
+        "--size", type=_size, default=(1400, 900), help="window size, e.g. 1400x900"
+    )
+    p_shot.add_argument("--row", type=int, default=None, help="metric row to select (from 1)")
+
+    from fourfold.history.cli import configure as configure_history
+
+    configure_history(
+        sub.add_parser("history", help="baselines and variances from per-unit history")
+    )
+    return parser
+
+
+def _normalise(argv: Sequence[str]) -> list[str]:
+    """``fourfold PLAN.json`` means ``fourfold open PLAN.json``."""
+    argv = list(argv)
+    if not argv or (argv[0] not in SUBCOMMANDS and not argv[0].startswith("-")):
+        return ["open", *argv]
+    return argv
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(_normalise(sys.argv[1:] if argv is None else argv))
+    try:
+        if args.command == "open":
+            from fourfold.ui.app import run_window
+
+            return run_window(args.plan)
+        if args.command == "shot":
+            from fourfold.ui.app import run_shot
+
+            return run_shot(args.plan, args.output, size=args.size, row=args.row)
+        if args.command == "export":
+            from fourfold.export import export_file
+
+            export_file(args.plan, args.output, page=args.page)
+            print(f"wrote {args.output}")
+            return 0
+        if args.command == "history":
+            from fourfold.history.cli import run as run_history
+
+            return run_history(args)
+    except FourfoldError as error:
+        print(f"fourfold: error: {error}", file=sys.stderr)
+        return 2
+    parser.error(f"unknown command {args.command!r}")
+    return 2
