@@ -1,0 +1,35 @@
+"""The project's promises about itself: README commands, CI, cautions (no outside source)."""
+
+import re
+from pathlib import Path
+
+import fourfold
+
+ROOT = Path(__file__).resolve().parents[1]
+README = (ROOT / "README.md").read_text(encoding="utf-8")
+
+
+def _readme_commands() -> list[str]:
+    return re.findall(r"```\n(.+?)\n```", README)
+
+
+def test_readme_opens_with_the_job_then_two_commands():
+    first_block = README.index("```")
+    assert "A/B test" in README[:first_block]
+    install_and_open, install_and_test = _readme_commands()[:2]
+    assert install_and_open.startswith("python3 -m pip install -e .")
+    assert install_and_open.endswith("fourfold")
+    assert "pytest" in install_and_test
+
+
+def test_ci_runs_exactly_the_readme_test_command():
+    ci_lines = (ROOT / ".ci" / "run").read_text(encoding="utf-8").strip().splitlines()
+    assert ci_lines[-1] == _readme_commands()[1]
+
+
+def test_readme_carries_the_cautions():
+    assert " ".join(fourfold.CAUTION.split()) in " ".join(README.split())
+
+
+def test_sample_plan_is_bundled():
+    assert (ROOT / "samples" / "quillmoss-checkout.json").is_file()
