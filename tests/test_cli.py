@@ -1,0 +1,42 @@
+"""The command line's own behaviour: one parser, the default command, errors on stderr."""
+
+import subprocess
+import sys
+
+import pytest
+
+from fourfold import __version__, cli
+
+
+def test_plan_path_alone_means_open():
+    assert cli._normalise(["plan.json"]) == ["open", "plan.json"]
+    assert cli._normalise([]) == ["open"]
+    assert cli._normalise(["export", "p.json", "-o", "x.csv"])[0] == "export"
+
+
+def test_version_and_help(capsys):
+    with pytest.raises(SystemExit) as stop:
+        cli.main(["--version"])
+    assert stop.value.code == 0
+    assert __version__ in capsys.readouterr().out
+    with pytest.raises(SystemExit):
+        cli.main(["--help"])
+    out = capsys.readouterr().out
+    for command in ("export", "shot", "history"):
+        assert command in out
+
+
+def test_bad_size_is_refused_on_stderr(capsys):
+    with pytest.raises(SystemExit) as stop:
+        cli.main(["shot", "-o", "x.png", "--size", "wide"])
+    assert stop.value.code == 2
+    assert "1400x900" in capsys.readouterr().err
+
+
+def test_help_does_not_import_the_heavy_libraries():
+    code = (
+        "import sys; from fourfold import cli; cli.build_parser(); "
+        "print(sorted(m for m in ('PySide6', 'pyqtgraph', 'pandas', 'scipy') if m in sys.modules))"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "[]"
