@@ -1,0 +1,395 @@
+"""A Qt-free undo stack for plan edits.
+
+Every change to a plan — a cell, a setting, rows inserted, removed or moved, a paste — is a
+command done through a :class:`CommandStack`. The stack validates the command before touching
+the plan (an invalid value raises :class:`~fourfold.plan.fields.PlanError` and changes
+nothing), applies it, and tells every subscriber exactly what changed with a :class:`Change`,
+so that a Qt model can emit one ranged signal. The window's Edit menu and undo view mirror the
+stack (``undo_text``, ``redo_text``, ``clean``).
+
+Examples
+--------
+>>> from fourfold.plan.model import Plan
+>>> stack = CommandStack(Plan.empty())
+>>> stack.do(SetField(0, "baseline", 0.031))
+>>> stack.plan.metrics[0].baseline, stack.undo_text
+(0.031, 'Set baseline of Primary metric')
+>>> stack.undo()
+>>> stack.plan.metrics[0].baseline
+0.1
+"""
+
+from __future__ import annotations
+
+import abc
+import copy
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from fourfold.plan.fields import (
+    METHODS,
+    METRIC_FIELDS,
+    SETTINGS_FIELDS,
+    PlanError,
+    validate_field,
+    validate_metric,
+)
+from fourfold.plan.model import Metric, Plan
+
+CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "settings", "reset")
+
+
+@dataclass(frozen=True)
+class Change:
+    """What one do, undo or redo changed.
+
+    Attributes
+    ----------
+    kind : str
+        ``"cells"`` (metric fields of existing rows), ``"rows_inserted"``, ``"rows_removed"``,
+        ``"rows_moved"``, ``"settings"`` or ``"reset"`` (a new document).
+    rows : tuple of int
+        ``"cells"``: the rows touched, ascending. ``"rows_inserted"``: the new rows' indices
+        after the insertion, ascending. ``"rows_removed"``: the removed rows' indices before
+        the removal, ascending. ``"rows_moved"``: ``(source, destination)``, the moved row's
+        index before and after. Empty for ``"settings"`` and ``"reset"``. Apply
+        :meth:`blocks` of an insertion in ascending order and of a removal in descending
+        order to replay the change block by block.
+    fields : tuple of str
+        ``"cells"``: the metric fields touched; ``"settings"``: the settings fields touched.
+    """
+
+    kind: str
+    rows: tuple[int, ...] = ()
+    fields: tuple[str, ...] = ()
+
+    def blocks(self) -> tuple[tuple[int, int], ...]:
+        """``rows`` as contiguous ``(first, last)`` ranges, ascending.
+
+        Examples
+        --------
+        >>> Change("rows_removed", (1, 2, 5)).blocks()
+        ((1, 2), (5, 5))
+        """
+        ranges: list[tuple[int, int]] = []
+        for row in self.rows:
+            if ranges and row == ranges[-1][1] + 1:
+                ranges[-1] = (ranges[-1][0], row)
+            else:
+                ranges.append((row, row))
+        return tuple(ranges)
+
+
+def _check_row(plan: Plan, row: int, *, end: bool = False) -> int:
+    limit = len(plan.metrics) + (1 if end else 0)
+    if isinstance(row, bool) or not isinstance(row, int) or not 0 <= row < limit:
+        raise PlanError(f"row must be from 0 to {limit - 1}; got {row!r}", "row")
+    return row
+
+
+def _metric_field(field: str) -> str:
+    if field not in METRIC_FIELDS:
+        raise PlanError(f"unknown metric field {field!r}", field)
+    return field
+
+
+class Command(abc.ABC):
+    """Base of the plan commands: ``text`` names it in the Edit menu."""
+
+    text = ""
+
+    @abc.abstractmethod
+    def apply(self, plan: Plan) -> Change:
+        """Validate against ``plan``, then change it; raise PlanError before any change."""
+
+    @abc.abstractmethod
+    def revert(self, plan: Plan) -> Change:
+        """Undo :meth:`apply` exactly."""
+
+
+class SetFields(Command):
+    """Set many metric cells in one undo step (paste, history import, a dragged effect).
+
+    Parameters
+    ----------
+    edits : iterable of (row, field, value)
+        Applied in order; a later edit of the same cell wins.
+    text : str, optional
+        Edit-menu text (default: "Edit N cells").
+    """
+
+    def __init__(self, edits: Iterable[tuple[int, str, Any]], text: str | None = None) -> None:
+        self.edits = tuple(edits)
+        self.text = text or f"Edit {len(self.edits)} cells"
+        self._old: dict[tuple[int, str], Any] = {}
+
+    def _planned(self, plan: Plan) -> dict[tuple[int, str], Any]:
+        """The validated new values by (row, field); a kind change clears a foreign method."""
+        new: dict[tuple[int, str], Any] = {}
+        for row, field, value in self.edits:
+            metric = plan.metrics[_check_row(plan, row)]
+            field = _metric_field(field)
+            kind = new.get((row, "kind"), metric.kind)
+            if field == "kind":
+                kind = validate_field("kind", value)
+                method = new.get((row, "method"), metric.method)
+                new[(row, "kind")] = kind
+                if method is not None and method not in METHODS[kind]:
+                    new[(row, "method")] = None
+            else:
+                new[(row, field)] = validate_field(field, value, kind=kind)
+        return new
+
+    def apply(self, plan: Plan) -> Change:
+        new = self._planned(plan)
+        self._old = {key: getattr(plan.metrics[key[0]], key[1]) for key in new}
+        for (row, name), value in new.items():
+            setattr(plan.metrics[row], name, value)
+        return self._change(new)
+
+    def revert(self, plan: Plan) -> Change:
+        for (row, name), value in self._old.items():
+            setattr(plan.metrics[row], name, value)
+        return self._change(self._old)
+
+    @staticmethod
+    def _change(values: dict[tuple[int, str], Any]) -> Change:
+        rows = tuple(sorted({row for row, _ in values}))
+        fields = tuple(dict.fromkeys(name for _, name in values))
+        return Change("cells", rows, fields)
+
+
+class SetField(SetFields):
+    """Set one metric cell: ``SetField(row, field, value)``.
+
+    Changing ``kind`` also clears a ``method`` that does not belong to the new kind (in the
+    same undo step).
+    """
+
+    def __init__(self, row: int, field: str, value: Any) -> None:
+        super().__init__([(row, field, value)], text="")
+        self.row, self.field, self.value = row, field, value
+
+    def apply(self, plan: Plan) -> Change:
+        name = plan.metrics[_check_row(plan, self.row)].name
+        change = super().apply(plan)
+        self.text = f"Set {self.field} of {name}"
+        return change
+
+
+class SetSetting(Command):
+    """Set one plan setting: ``SetSetting(field, value)``."""
+
+    def __init__(self, field: str, value: Any) -> None:
+        self.field, self.value = field, value
+        self.text = f"Set {field}"
+        self._old: Any = None
+
+    def apply(self, plan: Plan) -> Change:
+        if self.field not in SETTINGS_FIELDS:
+            raise PlanError(f"unknown setting {self.field!r}", self.field)
+        value = validate_field(self.field, self.value, settings=True)
+        self._old = getattr(plan.settings, self.field)
+        setattr(plan.settings, self.field, value)
+        return Change("settings", fields=(self.field,))
+
+    def revert(self, plan: Plan) -> Change:
+        setattr(plan.settings, self.field, self._old)
+        return Change("settings", fields=(self.field,))
+
+
+class InsertMetrics(Command):
+    """Insert metric rows before ``row`` (``row == len(metrics)`` appends)."""
+
+    def __init__(self, row: int, metrics: Sequence[Metric]) -> None:
+        self.row = row
+        self.metrics = list(metrics)
+        count = len(self.metrics)
+        self.text = "Insert metric" if count == 1 else f"Insert {count} metrics"
+
+    def apply(self, plan: Plan) -> Change:
+        row = _check_row(plan, self.row, end=True)
+        if not self.metrics:
+            raise PlanError("metrics must hold at least one metric row to insert", "metrics")
+        checked = [validate_metric(metric) for metric in self.metrics]
+        plan.metrics[row:row] = checked
+        return Change("rows_inserted", tuple(range(row, row + len(checked))))
+
+    def revert(self, plan: Plan) -> Change:
+        rows = tuple(range(self.row, self.row + len(self.metrics)))
+        del plan.metrics[self.row:self.row + len(self.metrics)]
+        return Change("rows_removed", rows)
+
+
+class RemoveMetrics(Command):
+    """Remove the metric rows at the given indices (any order, no repeats)."""
+
+    def __init__(self, rows: Iterable[int]) -> None:
+        self.rows = tuple(rows)
+        count = len(self.rows)
+        self.text = "Remove metric" if count == 1 else f"Remove {count} metrics"
+        self._removed: list[tuple[int, Metric]] = []
+
+    def apply(self, plan: Plan) -> Change:
+        rows = sorted(_check_row(plan, row) for row in self.rows)
+        if not rows:
+            raise PlanError("rows must name at least one metric row to remove", "rows")
+        if len(set(rows)) != len(rows):
+            raise PlanError("rows must not repeat a row", "rows")
+        self._removed = [(row, plan.metrics[row]) for row in rows]
+        for row in reversed(rows):
+            del plan.metrics[row]
+        return Change("rows_removed", tuple(rows))
+
+    def revert(self, plan: Plan) -> Change:
+        for row, metric in self._removed:
+            plan.metrics.insert(row, metric)
+        return Change("rows_inserted", tuple(row for row, _ in self._removed))
+
+
+class MoveMetric(Command):
+    """Move the row at ``src`` so that it ends up at index ``dst``."""
+
+    def __init__(self, src: int, dst: int) -> None:
+        self.src, self.dst = src, dst
+        self.text = "Move metric"
+
+    def apply(self, plan: Plan) -> Change:
+        src, dst = _check_row(plan, self.src), _check_row(plan, self.dst)
+        if src == dst:
+            raise PlanError("the row is already there: src and dst are equal", "dst")
+        plan.metrics.insert(dst, plan.metrics.pop(src))
+        return Change("rows_moved", (src, dst))
+
+    def revert(self, plan: Plan) -> Change:
+        plan.metrics.insert(self.src, plan.metrics.pop(self.dst))
+        return Change("rows_moved", (self.dst, self.src))
+
+
+Subscriber = Callable[[Change], None]
+
+
+class CommandStack:
+    """The undo history of one plan.
+
+    Parameters
+    ----------
+    plan : Plan
+        The document the commands change (in place; ``stack.plan`` is that object).
+
+    Notes
+    -----
+    ``subscribe(callback)`` registers a function called with a :class:`Change` after every
+    do, undo, redo and :meth:`reset`; with ``before=True`` it is called just before the plan
+    changes instead (what a Qt model needs for ``beginRemoveRows`` and friends). Both return a
+    function that unsubscribes.
+    """
+
+    def __init__(self, plan: Plan) -> None:
+        self.plan = plan
+        self._done: list[Command] = []
+        self._undone: list[Command] = []
+        self._clean_depth: int | None = 0
+        self._after: list[Subscriber] = []
+        self._before: list[Subscriber] = []
+
+    def subscribe(self, callback: Subscriber, *, before: bool = False) -> Callable[[], None]:
+        """Call ``callback(change)`` on every change; returns the unsubscribe function."""
+        listeners = self._before if before else self._after
+        listeners.append(callback)
+        return lambda: listeners.remove(callback) if callback in listeners else None
+
+    def _notify(self, listeners: list[Subscriber], change: Change) -> None:
+        for callback in list(listeners):
+            callback(change)
+
+    def _run(self, step: Callable[[Plan], Change], preview: Change | None) -> Change:
+        if preview is not None and self._before:
+            self._notify(self._before, preview)
+        change = step(self.plan)
+        self._notify(self._after, change)
+        return change
+
+    def _preview(self, command: Command, undo: bool) -> Change | None:
+        """The change a step will make, for the ``before`` subscribers (computed on a copy)."""
+        if not self._before:
+            return None
+        trial = copy.deepcopy(self.plan)
+        twin = copy.deepcopy(command)
+        if undo:
+            return twin.revert(trial)
+        return twin.apply(trial)
+
+    def do(self, command: Command, *, merge: bool = False) -> None:
+        """Apply ``command`` and push it; PlanError (nothing changed) if it is invalid.
+
+        With ``merge=True`` and a :class:`SetField` of the same cell on top of the stack
+        (a value being dragged), the two become one undo step.
+        """
+        self._run(command.apply, self._preview(command, undo=False))
+        if self._clean_depth is not None and self._clean_depth > len(self._done):
+            self._clean_depth = None
+        self._undone.clear()
+        top = self._done[-1] if self._done else None
+        if (merge and type(command) is SetField and type(top) is SetField
+                and (top.row, top.field) == (command.row, command.field)
+                and self._clean_depth != len(self._done)):
+            command._old = {**command._old, **top._old}
+            self._done[-1] = command
+        else:
+            self._done.append(command)
+
+    def undo(self) -> None:
+        """Revert the last command (nothing happens when there is none)."""
+        if not self._done:
+            return
+        command = self._done[-1]
+        self._run(command.revert, self._preview(command, undo=True))
+        self._undone.append(self._done.pop())
+
+    def redo(self) -> None:
+        """Re-apply the last undone command (nothing happens when there is none)."""
+        if not self._undone:
+            return
+        command = self._undone[-1]
+        self._run(command.apply, self._preview(command, undo=False))
+        self._done.append(self._undone.pop())
+
+    def reset(self, plan: Plan) -> None:
+        """Replace the document (File → New/Open): history cleared, clean, ``"reset"`` sent."""
+        change = Change("reset")
+        if self._before:
+            self._notify(self._before, change)
+        self.plan = plan
+        self._done.clear()
+        self._undone.clear()
+        self._clean_depth = 0
+        self._notify(self._after, change)
+
+    def mark_clean(self) -> None:
+        """Record the current state as saved."""
+        self._clean_depth = len(self._done)
+
+    @property
+    def clean(self) -> bool:
+        """Whether the plan is in the state last marked clean (saved or loaded)."""
+        return self._clean_depth == len(self._done)
+
+    @property
+    def can_undo(self) -> bool:
+        return bool(self._done)
+
+    @property
+    def can_redo(self) -> bool:
+        return bool(self._undone)
+
+    @property
+    def undo_text(self) -> str:
+        """Text of the command :meth:`undo` would revert ("" when none)."""
+        return self._done[-1].text if self._done else ""
+
+    @property
+    def redo_text(self) -> str:
+        """Text of the command :meth:`redo` would re-apply ("" when none)."""
+        return self._undone[-1].text if self._undone else ""

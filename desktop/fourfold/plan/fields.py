@@ -1,0 +1,301 @@
+"""The rules for every field of a plan: allowed choices, ranges and normalisation.
+
+The table's editors, the command stack and the JSON loader all go through
+:func:`validate_field`, so a value the window accepts is a value the file accepts and the other
+way round. Checks here are per field; whether a baseline fits its kind (a proportion in (0, 1),
+a mean count above 0) depends on other fields of the row and is reported per row by the
+evaluation (:func:`fourfold.engine.problems`), so that changing a row's kind never loses data.
+The one cross-field rule enforced here is that a row's method belongs to its kind.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import math
+import numbers
+from collections.abc import Callable
+from typing import Any
+
+from fourfold.errors import FourfoldError
+from fourfold.plan.model import Metric, Settings
+
+ROLES = ("primary", "secondary", "guardrail")
+KINDS = ("mean", "proportion", "rate")
+METHODS = {
+    "mean": ("z", "t"),
+    "proportion": ("pooled", "unpooled", "arcsine", "pooled-cc"),
+    "rate": ("z",),
+}
+ALTERNATIVES = ("two-sided", "greater", "less")
+SOLVES = ("sample_size", "detectable_effect", "power", "significance_level")
+CORRECTIONS = ("none", "bonferroni", "sidak")
+SPENDING = ("ld-obrien-fleming", "ld-pocock", "hsd", "obrien-fleming", "pocock")
+
+CHOICES: dict[str, Any] = {
+    "role": ROLES,
+    "kind": KINDS,
+    "method": METHODS,
+    "alternative": ALTERNATIVES,
+    "solve": SOLVES,
+    "correction": CORRECTIONS,
+    "spending": SPENDING,
+}
+"""Allowed values of every choice field; ``CHOICES["method"]`` maps each kind to its methods
+(the first is the kind's default, used when a row's method is ``None``)."""
+
+METRIC_FIELDS = tuple(f.name for f in dataclasses.fields(Metric))
+SETTINGS_FIELDS = tuple(f.name for f in dataclasses.fields(Settings))
+
+MAX_ARMS = 20
+MAX_LOOKS = 20
+MAX_TEXT = 200
+
+
+class PlanError(FourfoldError, ValueError):
+    """A plan value or file that cannot be used; the message names the field.
+
+    Parameters
+    ----------
+    message : str
+        The text shown to the user.
+    field : str, optional
+        The field (or file location such as ``"metrics[2].alpha"``) at fault.
+    """
+
+    def __init__(self, message: str, field: str | None = None) -> None:
+        super().__init__(message)
+        self.field = field
+
+
+def _number(field: str, value: Any) -> float:
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
+        raise PlanError(f"{field} must be a number, not {value!r}", field)
+    number = float(value)
+    if not math.isfinite(number):
+        raise PlanError(f"{field} must be a finite number, not {number}", field)
+    return number
+
+
+def _ranged(low: float | None, high: float | None, *, low_open: bool = True,
+            high_open: bool = True, optional: bool = False) -> Callable[[str, Any], Any]:
+    left = "<" if low_open else "≤"
+    right = "<" if high_open else "≤"
+    if low is not None and high is not None:
+        text = f"{low:g} {left} {{f}} {right} {high:g}"
+    elif low is not None:
+        text = f"{{f}} {'>' if low_open else '≥'} {low:g}"
+    else:
+        text = "{f} finite"
+
+    def check(field: str, value: Any) -> float | None:
+        if value is None and optional:
+            return None
+        number = _number(field, value)
+        too_low = low is not None and (number <= low if low_open else number < low)
+        too_high = high is not None and (number >= high if high_open else number > high)
+        if too_low or too_high:
+            allowed = text.format(f=field)
+            empty = " or empty" if optional else ""
+            raise PlanError(f"{field} must satisfy {allowed}{empty}; got {number:g}", field)
+        return number
+
+    return check
+
+
+def _integer(low: int, high: int) -> Callable[[str, Any], int]:
+    def check(field: str, value: Any) -> int:
+        number = _number(field, value)
+        if number != int(number) or not low <= number <= high:
+            raise PlanError(
+                f"{field} must be a whole number from {low} to {high}; got {number:g}", field
+            )
+        return int(number)
+
+    return check
+
+
+def _choice(choices: tuple[str, ...]) -> Callable[[str, Any], str]:
+    def check(field: str, value: Any) -> str:
+        if not isinstance(value, str) or value not in choices:
+            raise PlanError(
+                f"{field} must be one of {', '.join(choices)}; got {value!r}", field
+            )
+        return value
+
+    return check
+
+
+def _flag(field: str, value: Any) -> bool:
+    if not isinstance(value, bool):
+        raise PlanError(f"{field} must be true or false, not {value!r}", field)
+    return value
+
+
+def _text(*, required: bool) -> Callable[[str, Any], str]:
+    def check(field: str, value: Any) -> str:
+        if not isinstance(value, str):
+            raise PlanError(f"{field} must be text, not {value!r}", field)
+        if required and not value.strip():
+            raise PlanError(f"{field} must not be empty", field)
+        return value.strip() if required else value
+
+    return check
+
+
+def _short_text(*, required: bool) -> Callable[[str, Any], str]:
+    text = _text(required=required)
+
+    def check(field: str, value: Any) -> str:
+        value = text(field, value)
+        if len(value) > MAX_TEXT:
+            raise PlanError(f"{field} must be at most {MAX_TEXT} characters long", field)
+        return value
+
+    return check
+
+
+def _method(field: str, value: Any, kind: str | None = None) -> str | None:
+    if value is None:
+        return None
+    if kind is not None:
+        return _choice(METHODS[_choice(KINDS)("kind", kind)])(field, value)
+    every = tuple(dict.fromkeys(name for names in METHODS.values() for name in names))
+    return _choice(every)(field, value)
+
+
+def _simulation(field: str, value: Any) -> dict | None:
+    if value is None:
+        return None
+    if not isinstance(value, dict):
+        raise PlanError(f"{field} must be an object or empty, not {value!r}", field)
+    try:
+        return json.loads(json.dumps(value, allow_nan=False))
+    except (TypeError, ValueError) as error:
+        raise PlanError(f"{field} must hold plain JSON values only ({error})", field) from None
+
+
+_PROBABILITY = dict(low=0.0, high=1.0)
+
+_METRIC_RULES: dict[str, Callable[[str, Any], Any]] = {
+    "name": _short_text(required=True),
+    "role": _choice(ROLES),
+    "kind": _choice(KINDS),
+    "method": _method,
+    "baseline": _ranged(None, None),
+    "sd": _ranged(0.0, None, optional=True),
+    "effect": _ranged(None, None, optional=True),
+    "relative": _flag,
+    "alternative": _choice(ALTERNATIVES),
+    "margin": _ranged(None, None),
+    "alpha": _ranged(0.0, 0.5, optional=True),
+    "power": _ranged(**_PROBABILITY, optional=True),
+    "rho": _ranged(-1.0, 1.0),
+    "cluster_size": _ranged(1.0, None, low_open=False),
+    "icc": _ranged(0.0, 1.0, low_open=False, high_open=False),
+    "cluster_cv": _ranged(0.0, None, low_open=False),
+    "solve": _choice(SOLVES),
+    "n": _ranged(0.0, None, optional=True),
+    "notes": _text(required=False),
+    "simulation": _simulation,
+}
+
+_SETTINGS_RULES: dict[str, Callable[[str, Any], Any]] = {
+    "title": _short_text(required=False),
+    "description": _text(required=False),
+    "alpha": _ranged(0.0, 0.5),
+    "power": _ranged(**_PROBABILITY),
+    "arms": _integer(1, MAX_ARMS),
+    "ratio": _ranged(0.01, 100.0, low_open=False, high_open=False),
+    "correction": _choice(CORRECTIONS),
+    "daily_units": _ranged(0.0, None, optional=True),
+    "share": _ranged(0.0, 1.0, high_open=False),
+    "whole_weeks": _flag,
+    "runtime_days": _ranged(0.0, None, optional=True),
+    "looks": _integer(1, MAX_LOOKS),
+    "spending": _choice(SPENDING),
+    "futility": _flag,
+}
+
+
+def validate_field(field: str, value: Any, *, kind: str | None = None,
+                   settings: bool = False) -> Any:
+    """Check one value of a metric row or of the plan settings and return it normalised.
+
+    Parameters
+    ----------
+    field : str
+        A :class:`~fourfold.plan.model.Metric` or :class:`~fourfold.plan.model.Settings` field.
+    value
+        The new value: numbers (ints, floats, numpy scalars), text, booleans or ``None`` for
+        optional fields. Text is never parsed as a number here; that is the editor's job.
+    kind : str, optional
+        The row's kind; with it, ``method`` is checked against that kind's methods (otherwise
+        against the methods of every kind).
+    settings : bool
+        Validate as a settings field; needed only for ``alpha`` and ``power``, which exist in
+        both (a row's may be ``None``, meaning the plan default; the plan's may not).
+
+    Returns
+    -------
+    value
+        Numbers as ``float`` (``int`` for ``arms`` and ``looks``), names stripped.
+
+    Raises
+    ------
+    PlanError
+        Naming the field and its allowed values or range.
+
+    Examples
+    --------
+    >>> validate_field("alpha", 0.01)
+    0.01
+    >>> validate_field("arms", 2.0)
+    2
+    >>> validate_field("solve", "duration")
+    Traceback (most recent call last):
+    ...
+    fourfold.plan.fields.PlanError: solve must be one of sample_size, detectable_effect, power, \
+significance_level; got 'duration'
+    """
+    if settings or field not in _METRIC_RULES:
+        rule = _SETTINGS_RULES.get(field)
+        if rule is None:
+            raise PlanError(f"unknown field {field!r}", field)
+        return rule(field, value)
+    if field == "method":
+        return _method(field, value, kind)
+    return _METRIC_RULES[field](field, value)
+
+
+def validate_metric(metric: Metric) -> Metric:
+    """Return a copy of ``metric`` with every field validated and normalised.
+
+    Raises
+    ------
+    PlanError
+        For the first field at fault (``method`` is checked against the row's kind).
+
+    Examples
+    --------
+    >>> validate_metric(Metric(name="  Conversion ")).name
+    'Conversion'
+    """
+    values = {}
+    for name in METRIC_FIELDS:
+        values[name] = validate_field(name, getattr(metric, name), kind=metric.kind)
+    return Metric(**values)
+
+
+def validate_settings(settings: Settings) -> Settings:
+    """Return a copy of ``settings`` with every field validated and normalised.
+
+    Examples
+    --------
+    >>> validate_settings(Settings(arms=2.0)).arms
+    2
+    """
+    return Settings(
+        **{name: validate_field(name, getattr(settings, name), settings=True)
+           for name in SETTINGS_FIELDS}
+    )
