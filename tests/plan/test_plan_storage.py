@@ -1,0 +1,201 @@
+"""Plan files: round trip, strict reading, atomic saving (Fourfold's own format; no outside
+source beyond the JSON standard, RFC 8259)."""
+
+import dataclasses
+import json
+import os
+
+import pytest
+
+from fourfold.plan import (
+    METRIC_FIELDS,
+    SETTINGS_FIELDS,
+    Metric,
+    Plan,
+    PlanError,
+    Settings,
+    dumps,
+    load,
+    loads,
+    sample_path,
+    save,
+)
+from fourfold.plan import storage
+
+
+def _full_plan() -> Plan:
+    """A plan where every field differs from its default, so a dropped field shows."""
+    settings = Settings(
+        title="Seed-packet test", description="Invented.\nTwo lines.", alpha=0.01, power=0.9,
+        arms=3, ratio=1.5, correction="sidak", daily_units=1234.5, share=0.25,
+        whole_weeks=False, runtime_days=21.0, looks=3, spending="hsd", futility=True,
+    )
+    metric = Metric(
+        name="Basket value", role="guardrail", kind="mean", method="t", baseline=41.5, sd=12.25,
+        effect=-0.5, relative=False, alternative="less", margin=0.75, alpha=0.02, power=0.85,
+        rho=0.4, cluster_size=3.5, icc=0.01, cluster_cv=0.6, solve="power", n=9000.0,
+        notes="ünïcode “quotes” and\nnewlines", simulation={"power": 0.84, "draws": 4000},
+    )
+    return Plan(settings, [metric, Metric()])
+
+
+def _document(**changes) -> dict:
+    data = json.loads(dumps(_full_plan()))
+    data.update(changes)
+    return data
+
+
+def test_full_plan_differs_from_defaults_in_every_field():
+    plan = _full_plan()
+    for name in SETTINGS_FIELDS:
+        assert getattr(plan.settings, name) != getattr(Settings(), name), name
+    for name in METRIC_FIELDS:
+        assert getattr(plan.metrics[0], name) != getattr(Metric(), name), name
+
+
+def test_round_trip_keeps_every_field(tmp_path):
+    plan = _full_plan()
+    path = tmp_path / "plan.json"
+    save(plan, path)
+    again = load(path)
+    assert again == plan
+    assert dataclasses.asdict(again) == dataclasses.asdict(plan)
+    assert loads(dumps(plan)) == plan
+
+
+def test_file_header_and_all_fields_written():
+    data = json.loads(dumps(_full_plan()))
+    assert data["format"] == "fourfold-plan"
+    assert data["schema_version"] == 1
+    assert list(data["settings"]) == list(SETTINGS_FIELDS)
+    assert list(data["metrics"][0]) == list(METRIC_FIELDS)
+
+
+def test_missing_optional_fields_take_defaults():
+    plan = loads(json.dumps({
+        "format": "fourfold-plan", "schema_version": 1,
+        "metrics": [{"name": "Conversion", "kind": "proportion", "baseline": 0.05}],
+    }))
+    assert plan.settings == Settings()
+    assert plan.metrics == [Metric(name="Conversion", baseline=0.05)]
+
+
+@pytest.mark.parametrize(
+    ("text", "named"),
+    [
+        ("{not json", "line 1, column 2"),
+        ("[1, 2]", "plan must be a JSON object"),
+        (json.dumps({"schema_version": 1}), "format"),
+        (json.dumps({"format": "some-other-tool", "schema_version": 1}), "format"),
+        (json.dumps({"format": "fourfold-plan"}), "schema_version"),
+        (json.dumps({"format": "fourfold-plan", "schema_version": "1"}), "schema_version"),
+        (json.dumps({"format": "fourfold-plan", "schema_version": 2}), "newer"),
+        (json.dumps({"format": "fourfold-plan", "schema_version": 1, "extra": 1}), "extra"),
+        (json.dumps({"format": "fourfold-plan", "schema_version": 1, "metrics": {}}),
+         "metrics must be a JSON list"),
+        (json.dumps({"format": "fourfold-plan", "schema_version": 1, "settings": []}),
+         "settings must be a JSON object"),
+    ],
+)
+def test_malformed_or_foreign_text_is_rejected(text, named):
+    with pytest.raises(PlanError, match=named):
+        loads(text)
+
+
+@pytest.mark.parametrize(
+    ("where", "key", "value", "place"),
+    [
+        ("settings", "alpha", 0.7, "settings.alpha"),
+        ("settings", "arms", "two", "settings.arms"),
+        ("settings", "colour", "green", "settings.colour"),
+        ("metric", "power", 1.5, "metrics[1].power"),
+        ("metric", "kind", "ratio", "metrics[1].kind"),
+        ("metric", "method", "t", "metrics[1].method"),
+        ("metric", "relative", "yes", "metrics[1].relative"),
+        ("metric", "sd", -1, "metrics[1].sd"),
+        ("metric", "typo", 1, "metrics[1].typo"),
+    ],
+)
+def test_bad_field_is_named_by_its_place(where, key, value, place):
+    data = _document()
+    target = data["settings"] if where == "settings" else data["metrics"][1]
+    target[key] = value
+    with pytest.raises(PlanError) as caught:
+        loads(json.dumps(data))
+    assert caught.value.field == place
+    assert str(caught.value).startswith(place)
+
+
+@pytest.mark.parametrize("key", ["name", "kind", "baseline"])
+def test_required_metric_field_missing(key):
+    data = _document()
+    del data["metrics"][0][key]
+    with pytest.raises(PlanError, match=rf"metrics\[0\]\.{key}: missing"):
+        loads(json.dumps(data))
+
+
+def test_load_names_the_file(tmp_path):
+    path = tmp_path / "broken.json"
+    path.write_text('{"format": "fourfold-plan", "schema_version": 9}', encoding="utf-8")
+    with pytest.raises(PlanError, match=r"^broken\.json: schema_version 9 is newer"):
+        load(path)
+    with pytest.raises(PlanError, match="cannot read"):
+        load(tmp_path / "absent.json")
+
+
+def _old_file(tmp_path):
+    path = tmp_path / "plan.json"
+    save(Plan.empty(), path)
+    os.chmod(path, 0o640)
+    return path, path.read_bytes()
+
+
+def test_failed_replace_keeps_the_old_file(tmp_path, monkeypatch):
+    path, before = _old_file(tmp_path)
+
+    def refuse(src, dst):
+        raise OSError("disk full")
+
+    monkeypatch.setattr(storage.os, "replace", refuse)
+    with pytest.raises(PlanError, match="disk full"):
+        save(_full_plan(), path)
+    assert path.read_bytes() == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["plan.json"]
+
+
+def test_failed_serialisation_keeps_the_old_file(tmp_path, monkeypatch):
+    path, before = _old_file(tmp_path)
+
+    def explode(plan):
+        raise ValueError("cannot serialise")
+
+    monkeypatch.setattr(storage, "dumps", explode)
+    with pytest.raises(PlanError, match="cannot serialise"):
+        save(_full_plan(), path)
+    assert path.read_bytes() == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["plan.json"]
+
+
+def test_save_replaces_and_keeps_permissions(tmp_path):
+    path, before = _old_file(tmp_path)
+    save(_full_plan(), path)
+    assert path.read_bytes() != before
+    assert load(path) == _full_plan()
+    assert os.stat(path).st_mode & 0o777 == 0o640
+
+
+def test_save_into_missing_folder_is_a_plan_error(tmp_path):
+    with pytest.raises(PlanError, match="cannot save"):
+        save(Plan.empty(), tmp_path / "no-such-folder" / "plan.json")
+
+
+def test_sample_plan_loads_and_is_the_invented_scenario():
+    path = sample_path()
+    assert path.is_file()
+    plan = load(path)
+    assert "Quillmoss" in plan.settings.title
+    assert plan.settings.arms == 2 and plan.settings.daily_units == 42_000
+    assert plan.settings.share == 0.6 and plan.settings.whole_weeks
+    roles = [metric.role for metric in plan.metrics]
+    assert roles.count("primary") == 1 and roles.count("guardrail") == 2 and len(roles) == 6
+    assert path.read_text(encoding="utf-8") == dumps(plan)
