@@ -1,0 +1,468 @@
+"""Interim looks: group sequential boundaries, their cost in units, and the price of peeking.
+
+A test analysed at K looks (information fractions t_1 < … < t_K = 1 of its maximum size) may
+stop early when the z statistic crosses an efficacy boundary. :func:`design` computes the
+boundaries, how much larger the maximum size must be than the fixed design for the same power
+(``inflation``), and the expected size under H0 and H1. :func:`peeking_alpha` gives the
+false-positive rate of a test that is simply checked K times at an unadjusted level.
+
+Conventions
+-----------
+- Probabilities come from recursive numerical integration over the joint distribution of the
+  sequential z statistics (Armitage, McPherson & Rowe 1969; Jennison & Turnbull 2000, ch. 19),
+  accurate to about 1e-8 in α, not from simulation.
+- Boundaries are on the z scale oriented in the direction of the alternative: with
+  ``"greater"`` reject when z ≥ upper, with ``"less"`` when z ≤ −upper, and with
+  ``"two-sided"`` when |z| ≥ upper. A two-sided α is split evenly over the two symmetric
+  boundaries: each spends α/2 with the one-sided spending function.
+- Power counts crossings in the direction of the effect only; the fixed design it is compared
+  with needs a drift of z₁₋α/₂ + z₁₋β (two-sided) or z₁₋α + z₁₋β (one-sided), so that
+  ``inflation`` = (drift of the sequential design / drift of the fixed design)².
+- ``futility`` adds a non-binding lower boundary built by β-spending under H1: the efficacy
+  boundaries ignore it (α holds whether or not the team stops for futility), while power, the
+  stopping probabilities and the expected sizes assume it is obeyed. Its last look meets the
+  efficacy boundary.
+
+References
+----------
+Armitage, P., McPherson, C. K. & Rowe, B. C. (1969). Repeated significance tests on
+accumulating data. *Journal of the Royal Statistical Society A* 132:235–244.
+
+Pocock, S. J. (1977). Group sequential methods in the design and analysis of clinical trials.
+*Biometrika* 64:191–199.
+
+O'Brien, P. C. & Fleming, T. R. (1979). A multiple testing procedure for clinical trials.
+*Biometrics* 35:549–556.
+
+Lan, K. K. G. & DeMets, D. L. (1983). Discrete sequential boundaries for clinical trials.
+*Biometrika* 70:659–663.
+
+Hwang, I. K., Shih, W. J. & DeCani, J. S. (1990). Group sequential designs using a family of
+type I error probability spending functions. *Statistics in Medicine* 9:1439–1445.
+
+Jennison, C. & Turnbull, B. W. (2000). *Group Sequential Methods with Applications to Clinical
+Trials*. Chapman & Hall/CRC, ch. 2, 7 and 19.
+"""
+
+from __future__ import annotations
+
+import math
+import operator
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.special import ndtr, ndtri
+
+from fourfold.engine import _sequential_grid as grid
+from fourfold.engine._sequential_spending import (
+    CLASSIC,
+    SPENDING_FUNCTIONS,
+    boundary_shape,
+    spent,
+)
+
+SPENDING = ("ld-obrien-fleming", "ld-pocock", "hsd", "obrien-fleming", "pocock")
+"""Boundary families: Lan–DeMets spending functions, Hwang–Shih–DeCani, classic shapes."""
+
+FUTILITY = SPENDING_FUNCTIONS
+"""Families a futility (β-spending) boundary may use."""
+
+ALTERNATIVES = ("two-sided", "greater", "less")
+MAX_LOOKS = 20
+MAX_PEEKS = 100
+GAMMA_RANGE = (-40.0, 40.0)
+DEFAULT_GAMMA = -4.0
+"""γ of the Hwang–Shih–DeCani family when none is given (an O'Brien–Fleming-like shape)."""
+
+_LOG_FLOOR = 1e-300
+
+
+@dataclass(frozen=True, eq=False)
+class SequentialDesign:
+    """A group sequential design; arrays hold one value per look (read-only).
+
+    Attributes
+    ----------
+    looks, alpha, power, alternative, spending, futility, gamma
+        The inputs (``gamma`` is the one used when a family is ``"hsd"``, else None).
+    fractions : ndarray
+        Information fractions t_k of the maximum size; the last is 1.
+    upper : ndarray
+        Efficacy z boundary per look, oriented in the direction of the alternative.
+    nominal_p : ndarray
+        The p-value (two-sided for a two-sided design) below which look k rejects H0.
+    lower : ndarray or None
+        Futility z boundary per look (stop for futility when z < lower), None without futility.
+    alpha_spent : ndarray
+        Cumulative type I error spent by each look (ignoring futility); the last equals α.
+    stop_h0, stop_h1 : ndarray
+        Probability of stopping at each look under H0 and under the planned effect (H1),
+        counting every reason to stop; each sums to 1.
+    efficacy_h1 : ndarray
+        Probability of stopping for efficacy at each look under H1; sums to the power.
+    inflation : float
+        Maximum size ÷ fixed-design size for the same α and power.
+    expected_h0, expected_h1 : float
+        Expected size under H0 and H1 as fractions of the fixed-design size.
+    drift : float
+        E[Z] at the maximum size under H1 (the fixed design's is z₁₋α/₂ + z₁₋β).
+    """
+
+    looks: int
+    alpha: float
+    power: float
+    alternative: str
+    spending: str
+    futility: str | None
+    gamma: float | None
+    fractions: np.ndarray
+    upper: np.ndarray
+    nominal_p: np.ndarray
+    lower: np.ndarray | None
+    alpha_spent: np.ndarray
+    stop_h0: np.ndarray
+    stop_h1: np.ndarray
+    efficacy_h1: np.ndarray
+    inflation: float
+    expected_h0: float
+    expected_h1: float
+    drift: float
+
+
+def _illinois(
+    f: Callable[[float], float], a: float, b: float, fa: float, fb: float, xtol: float = 1e-12
+) -> float:
+    """Root of ``f`` in the bracket [a, b] (fa, fb of opposite signs) by the Illinois method."""
+    if fa == 0.0:
+        return a
+    for _ in range(200):
+        if fb == 0.0 or abs(b - a) <= xtol * max(1.0, abs(b)):
+            return b
+        c = b - fb * (b - a) / (fb - fa)
+        fc = f(c)
+        if fc * fb < 0.0:
+            a, fa = b, fb
+        else:
+            fa = fa / 2.0
+        b, fb = c, fc
+    return b
+
+
+def _log_gap(prob: Callable[[float], float], target: float) -> Callable[[float], float]:
+    log_target = math.log(target)
+    return lambda x: math.log(max(prob(x), _LOG_FLOOR)) - log_target
+
+
+def _upper_for(before: grid.Density | None, t: float, drift: float, target: float) -> float:
+    """Boundary c with P(still running, Z ≥ c) = target at fraction ``t``."""
+    if target <= 0.0:
+        return math.inf
+    gap = _log_gap(lambda c: grid.exceed(before, t, drift, c), target)
+    hi = drift * math.sqrt(t) - float(ndtri(target))
+    g_hi = gap(hi)
+    if g_hi >= 0.0:
+        return hi
+    step, lo = 1.0, hi - 1.0
+    g_lo = gap(lo)
+    while g_lo < 0.0:
+        hi, g_hi = lo, g_lo
+        step *= 2.0
+        lo = hi - step
+        g_lo = gap(lo)
+    return _illinois(gap, lo, hi, g_lo, g_hi)
+
+
+def _lower_for(
+    before: grid.Density | None, t: float, drift: float, target: float, ceiling: float
+) -> float:
+    """Boundary l ≤ ceiling with P(still running, Z < l) = target, or ``ceiling`` if short."""
+    if target <= 0.0:
+        return -math.inf
+    prob = lambda c: grid.below(before, t, drift, c)  # noqa: E731
+    if prob(ceiling) <= target:
+        return ceiling
+    gap = _log_gap(prob, target)
+    lo = drift * math.sqrt(t) + float(ndtri(target))
+    g_lo = gap(lo)
+    if g_lo >= 0.0:
+        return lo
+    return _illinois(gap, lo, ceiling, g_lo, gap(ceiling))
+
+
+def _efficacy(t: np.ndarray, side_alpha: float, two_sided: bool, spending: str, gamma: float):
+    """Efficacy boundaries under H0, each side spending ``side_alpha`` in all."""
+    if spending in CLASSIC:
+        shape = boundary_shape(spending, t)
+
+        def gap(c: float) -> float:
+            low = -c * shape if two_sided else np.full(t.size, -np.inf)
+            up, _ = grid.crossings(t, c * shape, low, 0.0)
+            return math.log(max(up.sum(), _LOG_FLOOR)) - math.log(side_alpha)
+
+        lo = float(-ndtri(side_alpha))
+        hi = float(-ndtri(side_alpha / t.size))
+        if t.size == 1:
+            return shape * lo
+        return shape * _illinois(gap, lo, hi, gap(lo), gap(hi))
+    increments = np.diff(spent(spending, t, side_alpha, gamma), prepend=0.0)
+    upper = np.empty(t.size)
+    state: grid.Density | None = None
+    for k, t_k in enumerate(t):
+        upper[k] = _upper_for(state, t_k, 0.0, increments[k])
+        if k + 1 < t.size:
+            state = grid.advance(state, t_k, 0.0, -upper[k] if two_sided else -np.inf, upper[k])
+    return upper
+
+
+def _with_futility(
+    t: np.ndarray, upper: np.ndarray, floor: np.ndarray, drift: float, beta_steps: np.ndarray
+):
+    """Futility boundaries by β-spending under ``drift``, and the crossing probabilities."""
+    lower = np.empty(t.size)
+    up = np.empty(t.size)
+    down = np.empty(t.size)
+    state: grid.Density | None = None
+    for k, t_k in enumerate(t):
+        up[k] = grid.exceed(state, t_k, drift, upper[k])
+        if k + 1 < t.size:
+            level = _lower_for(state, t_k, drift, beta_steps[k], upper[k])
+        else:
+            level = upper[k]
+        lower[k] = max(level, floor[k])
+        down[k] = grid.below(state, t_k, drift, lower[k])
+        if k + 1 < t.size:
+            state = grid.advance(state, t_k, drift, lower[k], upper[k])
+    return lower, up, down
+
+
+def _stops(up: np.ndarray, down: np.ndarray) -> np.ndarray:
+    stop = up + down
+    stop[-1] = max(0.0, 1.0 - stop[:-1].sum())
+    return stop
+
+
+def _frozen(values: np.ndarray) -> np.ndarray:
+    values = np.array(values, dtype=float)
+    values.setflags(write=False)
+    return values
+
+
+def _probability(name: str, value: float) -> float:
+    try:
+        value = float(value)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be a number between 0 and 1, got {value!r}") from None
+    if not 0.0 < value < 1.0:
+        raise ValueError(f"{name} must be between 0 and 1 (exclusive), got {value!r}")
+    return value
+
+
+def _count(name: str, value: int, top: int) -> int:
+    try:
+        count = operator.index(value)
+    except TypeError:
+        raise ValueError(f"{name} must be a whole number from 1 to {top}, got {value!r}") from None
+    if isinstance(value, bool) or not 1 <= count <= top:
+        raise ValueError(f"{name} must be a whole number from 1 to {top}, got {value!r}")
+    return count
+
+
+def _fractions(timing: Sequence[float] | None, looks: int) -> np.ndarray:
+    if timing is None:
+        return np.arange(1, looks + 1) / looks
+    try:
+        t = np.array(timing, dtype=float).reshape(-1)
+    except (TypeError, ValueError):
+        raise ValueError(f"timing must be a list of {looks} fractions, got {timing!r}") from None
+    if t.size != looks:
+        raise ValueError(f"timing must have one fraction per look ({looks}), got {t.size}")
+    if not np.all(np.isfinite(t)) or t[0] <= 0.0 or np.any(np.diff(t) <= 0.0):
+        raise ValueError("timing must increase strictly, with every fraction in (0, 1]")
+    if abs(t[-1] - 1.0) > 1e-9:
+        raise ValueError(f"timing must end at 1 (the maximum size), got {t[-1]!r}")
+    t[-1] = 1.0
+    return t
+
+
+def _gamma(gamma: float | None, families: tuple[str | None, ...]) -> float | None:
+    if "hsd" not in families:
+        if gamma is not None:
+            raise ValueError("gamma applies only to the 'hsd' spending family")
+        return None
+    if gamma is None:
+        return DEFAULT_GAMMA
+    low, high = GAMMA_RANGE
+    try:
+        gamma = float(gamma)
+    except (TypeError, ValueError):
+        raise ValueError(f"gamma must be a number from {low:g} to {high:g}") from None
+    if not low <= gamma <= high:
+        raise ValueError(f"gamma must be from {low:g} to {high:g}, got {gamma!r}")
+    return gamma
+
+
+def design(
+    looks: int,
+    *,
+    alpha: float = 0.05,
+    power: float = 0.8,
+    alternative: str = "two-sided",
+    spending: str = "ld-obrien-fleming",
+    timing: Sequence[float] | None = None,
+    gamma: float | None = None,
+    futility: str | None = None,
+) -> SequentialDesign:
+    """Boundaries, stopping probabilities and size inflation of a group sequential test.
+
+    Parameters
+    ----------
+    looks : int
+        Number of analyses including the final one, 1–20 (1 is the fixed design).
+    alpha : float
+        Overall type I error, in (0, 1); two-sided designs split it evenly over both sides.
+    power : float
+        Power at the planned effect, in (0, 1) and above the one-sided α.
+    alternative : {"two-sided", "greater", "less"}
+        Direction of the test.
+    spending : str
+        One of :data:`SPENDING`: ``"ld-obrien-fleming"`` and ``"ld-pocock"`` (Lan & DeMets
+        1983), ``"hsd"`` (Hwang, Shih & DeCani 1990, with ``gamma``), or the classic constant
+        shapes ``"obrien-fleming"`` (C/√t_k) and ``"pocock"`` (C).
+    timing : sequence of float, optional
+        Information fractions of the looks, strictly increasing in (0, 1] and ending at 1;
+        equally spaced by default.
+    gamma : float, optional
+        γ of the Hwang–Shih–DeCani family, from −40 to 40 (default −4); only with ``"hsd"``.
+    futility : str, optional
+        Add a non-binding futility boundary from a β-spending function of :data:`FUTILITY`.
+
+    Returns
+    -------
+    SequentialDesign
+
+    Raises
+    ------
+    ValueError
+        An argument outside its range, naming the argument.
+
+    References
+    ----------
+    Jennison, C. & Turnbull, B. W. (2000). *Group Sequential Methods with Applications to
+    Clinical Trials*, ch. 2 (classic boundaries, inflation factors), ch. 7 (error spending),
+    ch. 19 (numerical computation). Lan & DeMets (1983) *Biometrika* 70:659–663.
+
+    Examples
+    --------
+    >>> d = design(5, spending="obrien-fleming")
+    >>> print(round(float(d.upper[-1]), 3), round(d.inflation, 3))
+    2.04 1.028
+    >>> d = design(3, futility="ld-obrien-fleming")
+    >>> bool(d.expected_h1 < 1.0 < d.inflation)
+    True
+    """
+    looks = _count("looks", looks, MAX_LOOKS)
+    alpha = _probability("alpha", alpha)
+    power = _probability("power", power)
+    if alternative not in ALTERNATIVES:
+        raise ValueError(f"alternative must be one of {ALTERNATIVES}, got {alternative!r}")
+    if spending not in SPENDING:
+        raise ValueError(f"spending must be one of {SPENDING}, got {spending!r}")
+    if futility is not None and futility not in FUTILITY:
+        raise ValueError(f"futility must be None or one of {FUTILITY}, got {futility!r}")
+    gamma = _gamma(gamma, (spending, futility))
+    t = _fractions(timing, looks)
+    two_sided = alternative == "two-sided"
+    side_alpha = alpha / 2.0 if two_sided else alpha
+    if power <= side_alpha:
+        raise ValueError(f"power must exceed the one-sided α ({side_alpha:g}), got {power!r}")
+
+    upper = _efficacy(t, side_alpha, two_sided, spending, gamma)
+    floor = -upper if two_sided else np.full(looks, -np.inf)
+    up_h0, _ = grid.crossings(t, upper, floor, 0.0)
+    fixed = float(ndtri(1.0 - side_alpha) + ndtri(power))
+
+    if futility is None:
+        lower = floor
+
+        def shortfall(drift: float) -> float:
+            return float(grid.crossings(t, upper, floor, drift)[0].sum()) - power
+    else:
+        beta_steps = np.diff(spent(futility, t, 1.0 - power, gamma), prepend=0.0)
+
+        def shortfall(drift: float) -> float:
+            return float(_with_futility(t, upper, floor, drift, beta_steps)[1].sum()) - power
+
+    lo, g_lo = fixed, shortfall(fixed)
+    hi, g_hi = fixed * 1.1, shortfall(fixed * 1.1)
+    while g_hi < 0.0:
+        lo, g_lo = hi, g_hi
+        hi, g_hi = hi * 1.25, shortfall(hi * 1.25)
+    drift = _illinois(shortfall, lo, hi, g_lo, g_hi, xtol=1e-11)
+
+    if futility is None:
+        eff_h1, down_h1 = grid.crossings(t, upper, floor, drift)
+    else:
+        lower, eff_h1, down_h1 = _with_futility(t, upper, floor, drift, beta_steps)
+    stop_h1 = _stops(eff_h1, down_h1)
+    stop_h0 = _stops(*grid.crossings(t, upper, lower, 0.0))
+    inflation = (drift / fixed) ** 2
+    sides = 2.0 if two_sided else 1.0
+    return SequentialDesign(
+        looks=looks,
+        alpha=alpha,
+        power=power,
+        alternative=alternative,
+        spending=spending,
+        futility=futility,
+        gamma=gamma,
+        fractions=_frozen(t),
+        upper=_frozen(upper),
+        nominal_p=_frozen(sides * ndtr(-upper)),
+        lower=None if futility is None else _frozen(lower),
+        alpha_spent=_frozen(sides * np.cumsum(up_h0)),
+        stop_h0=_frozen(stop_h0),
+        stop_h1=_frozen(stop_h1),
+        efficacy_h1=_frozen(eff_h1),
+        inflation=float(inflation),
+        expected_h0=float(inflation * (t @ stop_h0)),
+        expected_h1=float(inflation * (t @ stop_h1)),
+        drift=float(drift),
+    )
+
+
+def peeking_alpha(looks: int, nominal: float = 0.05) -> float:
+    """False-positive rate of a test checked ``looks`` times at an unadjusted two-sided level.
+
+    The looks are equally spaced and the test stops at the first look with p < ``nominal``
+    (|z| ≥ z₁₋nominal/2); the result is the probability of that under H0.
+
+    Parameters
+    ----------
+    looks : int
+        Number of checks, 1–100.
+    nominal : float
+        Two-sided significance level used at every check, in (0, 1).
+
+    Returns
+    -------
+    float
+
+    References
+    ----------
+    Armitage, P., McPherson, C. K. & Rowe, B. C. (1969). Repeated significance tests on
+    accumulating data. *Journal of the Royal Statistical Society A* 132:235–244.
+
+    Examples
+    --------
+    >>> round(peeking_alpha(1), 4)
+    0.05
+    >>> print(f"{peeking_alpha(5):.0%}")
+    14%
+    """
+    looks = _count("looks", looks, MAX_PEEKS)
+    nominal = _probability("nominal", nominal)
+    t = np.arange(1, looks + 1) / looks
+    c = np.full(looks, float(-ndtri(nominal / 2.0)))
+    up, down = grid.crossings(t, c, -c, 0.0)
+    return float(up.sum() + down.sum())
