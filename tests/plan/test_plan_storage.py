@@ -19,8 +19,8 @@ from fourfold.plan import (
     loads,
     sample_path,
     save,
+    storage,
 )
-from fourfold.plan import storage
 
 
 def _full_plan() -> Plan:
