@@ -25,5 +25,48 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--json", action="store_true", help="print one JSON object")
 
 
+def mapping_from_args(args: argparse.Namespace) -> list:
+    """The column mapping the options describe (``--cap`` applies to every cappable metric)."""
+    from fourfold.history.errors import HistoryError
+    from fourfold.history.summary import ColumnMap
+
+    def split_pair(text: str, option: str, what: str) -> tuple[str, str]:
+        parts = text.split(":")
+        if len(parts) != 2 or not all(part.strip() for part in parts):
+            raise HistoryError(f"{option} needs {what}, not {text!r}")
+        return parts[0].strip(), parts[1].strip()
+
+    pre: dict[str, str] = {}
+    for text in args.pre:
+        column, pre_column = split_pair(text, "--pre", "COL:PRECOL")
+        pre[column] = pre_column
+    specs = []
+    for kind, columns in (("mean", args.mean), ("proportion", args.proportion),
+                          ("count", args.count)):
+        for column in columns:
+            cap = None if kind == "proportion" else args.cap
+            specs.append(ColumnMap(kind, column, pre=pre.pop(column, None), cap=cap))
+    for text in args.ratio:
+        numerator, denominator = split_pair(text, "--ratio", "NUM:DEN")
+        specs.append(ColumnMap("ratio", numerator, denominator=denominator, cap=args.cap))
+    if pre:
+        column = next(iter(pre))
+        raise HistoryError(
+            f"--pre {column}:{pre[column]}: map {column!r} with --mean, --proportion or --count"
+        )
+    return specs
+
+
 def run(args: argparse.Namespace) -> int:
-    raise NotImplementedError
+    """Read the history file and print the summary (or JSON); errors are FourfoldError."""
+    import json
+
+    from fourfold.history.importer import read_history
+    from fourfold.history.text import summary_table
+
+    summary = read_history(args.data, mapping_from_args(args))
+    if args.json:
+        print(json.dumps(summary.to_dict(), indent=2, ensure_ascii=False))
+    else:
+        print(summary_table(summary))
+    return 0
