@@ -157,3 +157,22 @@ def test_early_stopping_uses_fewer_units_and_futility_costs_power():
                                    looks=futile)
     assert with_futility.power < seq.power
     assert with_futility.false_positive <= seq.false_positive
+
+
+@pytest.mark.parametrize("futility", [None, "ld-obrien-fleming"])
+def test_simulated_sequential_design_reaches_its_power(futility):
+    # fourfold.engine.sequential computes power and expected size by recursive integration
+    # (Jennison & Turnbull 2000, ch. 19); the simulated z path must agree. Fixed-design n per
+    # arm 2 (z_{1-a/2} + z_{1-b})^2 / d^2 (Lehr 1992), times the design's inflation.
+    from fourfold.engine.sequential import design
+
+    d = design(4, alpha=0.05, power=0.8, futility=futility)
+    n_fixed = 2 * (special.ndtri(0.975) + special.ndtri(0.8)) ** 2 / 0.1**2
+    r = simulate_power("mean", 0.0, 0.1, n_fixed * d.inflation, sd=1.0, looks=d, reps=4000,
+                       seed=1)
+    assert r.low <= d.power <= r.high
+    assert r.expected_fraction == pytest.approx(d.expected_h1 / d.inflation, abs=0.02)
+    if futility is None:
+        assert r.false_positive_low <= d.alpha <= r.false_positive_high
+    else:
+        assert r.false_positive_high < d.alpha  # a futility stop that is obeyed lowers α

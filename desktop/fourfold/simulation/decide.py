@@ -51,12 +51,14 @@ def fixed_rejections(z, alpha, alternative):
     return score >= critical, np.ones(z.shape[0])
 
 
-def sequential_rejections(z, fractions, upper, lower, alternative):
+def sequential_rejections(z, fractions, upper, lower, alternative, direction=1.0):
     """Replicates that cross the efficacy boundary before stopping.
 
-    At look ``k`` (in order) a replicate still running rejects H0 when its directed score
-    reaches ``upper[k]``, and stops for futility when it falls to ``lower[k]`` or below
-    (``lower`` None or nan: no futility stop at that look). The last look ends the test.
+    The boundaries follow :mod:`fourfold.engine.sequential`: at look ``k`` (in order) a
+    replicate still running rejects H0 when its directed score (``|z|`` two-sided) reaches
+    ``upper[k]``, and stops for futility when its score in the direction of the planned
+    effect falls below ``lower[k]`` (``lower`` None or nan: no futility stop). The last look
+    ends the test.
 
     Parameters
     ----------
@@ -65,8 +67,10 @@ def sequential_rejections(z, fractions, upper, lower, alternative):
     fractions : ndarray, shape (K,)
         Information fraction of each look (the last is 1).
     upper, lower : ndarray, shape (K,)
-        Efficacy and futility boundaries on the directed score scale.
+        Efficacy and futility boundaries.
     alternative : {"two-sided", "greater", "less"}
+    direction : float
+        Sign of the planned effect, orienting a two-sided futility boundary.
 
     Returns
     -------
@@ -83,11 +87,12 @@ def sequential_rejections(z, fractions, upper, lower, alternative):
     --------
     >>> z = np.array([[3.1, 0.0], [1.0, 2.1], [-1.0, 3.0]])
     >>> r, f = sequential_rejections(z, np.array([0.5, 1.0]), np.array([3.0, 2.0]),
-    ...                              np.array([0.0, np.nan]), "greater")
+    ...                              np.array([0.0, 2.0]), "greater")
     >>> r.tolist(), f.tolist()
     ([True, True, False], [0.5, 1.0, 0.5])
     """
     score = directed(z, alternative)
+    toward = z * direction if alternative == "two-sided" else directed(z, alternative)
     reps, looks = score.shape
     running = np.ones(reps, dtype=bool)
     rejected = np.zeros(reps, dtype=bool)
@@ -98,7 +103,7 @@ def sequential_rejections(z, fractions, upper, lower, alternative):
         rejected |= hit
         stop = hit
         if k < looks - 1 and np.isfinite(lower[k]):
-            stop = stop | (running & (score[:, k] <= lower[k]))
+            stop = stop | (running & (toward[:, k] < lower[k]))
         fraction[running & stop] = fractions[k]
         running &= ~stop
     return rejected, fraction

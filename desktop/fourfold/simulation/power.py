@@ -295,8 +295,8 @@ def simulate_power(
     looks : design, optional
         A ``fourfold.engine.sequential.design(...)`` result: the test is run at each look's
         information fraction of the units and stops at its boundaries (``upper`` for
-        efficacy, ``lower`` for futility, on the scale of the score oriented by
-        ``alternative``, ``|z|`` when two-sided).
+        efficacy, on the score oriented by ``alternative``, ``|z|`` when two-sided;
+        ``lower`` for futility, on the score in the direction of the planned effect).
     chunk : int
         Replicates between progress reports; does not change the result.
     workers : int, optional
@@ -377,6 +377,7 @@ def simulate_power(
         test = test.replace("(pooled)", "(unpooled)")
     scenarios = (treatment_for(effect_abs), treatment_for(margin_abs))
     phi = getattr(control, "phi", 1.0)
+    direction = -1.0 if effect_abs < margin_abs else 1.0
 
     def score(mean_c, m2_c, mean_t, m2_t):
         if history is not None or kind == "mean":
@@ -393,7 +394,7 @@ def simulate_power(
             if design is None:
                 rejected, used = fixed_rejections(z, alpha, alternative)
             else:
-                rejected, used = sequential_rejections(z, *design, alternative)
+                rejected, used = sequential_rejections(z, *design, alternative, direction)
             return int(rejected.sum()), float(used.sum())
 
         return job
