@@ -16,6 +16,8 @@ Reference values and their sources:
 """
 
 import math
+import subprocess
+import sys
 
 import numpy as np
 import pytest
@@ -24,7 +26,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.stats import multivariate_normal, norm
 
-from fourfold.engine.sequential import SPENDING, design, peeking_alpha
+from fourfold.engine.sequential import SPENDING, design, peeking_alpha, power_at
 
 SCIPY_VERSION = scipy.__version__  # 1.17.1 when these checks were written
 
@@ -250,3 +252,31 @@ def test_design_rejects_bad_arguments(kwargs, word):
 def test_peeking_rejects_bad_arguments(looks, nominal):
     with pytest.raises(ValueError, match="looks|nominal"):
         peeking_alpha(looks, nominal)
+
+
+@pytest.mark.parametrize("futility", [None, "ld-pocock"])
+def test_power_at_reproduces_the_design_and_h0(futility):
+    d = design(6, futility=futility, power=0.9)
+    assert power_at(d, d.drift) == pytest.approx(0.9, abs=1e-9)
+    drifts = np.linspace(0.0, 5.0, 11)
+    assert np.all(np.diff([power_at(d, x) for x in drifts]) > 0)
+    if futility is None:
+        assert power_at(d, 0.0) == pytest.approx(0.025, abs=1e-9)
+
+
+def test_power_at_against_bivariate_normal():
+    d = design(2, spending="pocock", timing=[0.4, 1.0])
+    c1, c2 = d.upper
+    assert power_at(d, 2.0) == pytest.approx(_two_look_probabilities(0.4, c1, c2, 2.0), abs=1e-7)
+
+
+@pytest.mark.parametrize("drift", [math.nan, math.inf, "far"])
+def test_power_at_rejects_bad_drift(drift):
+    with pytest.raises(ValueError, match="drift"):
+        power_at(design(2), drift)
+
+
+def test_import_stays_off_scipy_stats():
+    code = "import sys, fourfold.engine.sequential; print('scipy.stats' in sys.modules)"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "False"

@@ -467,3 +467,48 @@ def peeking_alpha(looks: int, nominal: float = 0.05) -> float:
     c = np.full(looks, float(-ndtri(nominal / 2.0)))
     up, down = grid.crossings(t, c, -c, 0.0)
     return float(up.sum() + down.sum())
+
+
+def power_at(sequential: SequentialDesign, drift: float) -> float:
+    """Power of a design's boundaries when E[Z] at the maximum size is ``drift``.
+
+    Counts crossings of the efficacy boundary in the direction of the alternative, with the
+    futility boundary (if any) obeyed. ``drift`` is the fixed design's z₁₋α/₂ + z₁₋β at the
+    same maximum size, so a row with a given number of units can be converted: fixed-design
+    power p at that size means drift = z₁₋α/₂ + Φ⁻¹(p).
+
+    Parameters
+    ----------
+    sequential : SequentialDesign
+        A result of :func:`design`.
+    drift : float
+        Expected z statistic at the maximum size; 0 is H0.
+
+    Returns
+    -------
+    float
+
+    References
+    ----------
+    Jennison, C. & Turnbull, B. W. (2000), ch. 19 (the recursion used for the boundaries).
+
+    Examples
+    --------
+    >>> d = design(4)
+    >>> round(power_at(d, d.drift), 6), round(power_at(d, 0.0), 6)
+    (0.8, 0.025)
+    """
+    try:
+        drift = float(drift)
+    except (TypeError, ValueError):
+        raise ValueError(f"drift must be a finite number, got {drift!r}") from None
+    if not math.isfinite(drift):
+        raise ValueError(f"drift must be a finite number, got {drift!r}")
+    if sequential.lower is not None:
+        lower = sequential.lower
+    elif sequential.alternative == "two-sided":
+        lower = -sequential.upper
+    else:
+        lower = np.full(sequential.looks, -np.inf)
+    up, _ = grid.crossings(sequential.fractions, sequential.upper, lower, drift)
+    return float(up.sum())
