@@ -1,0 +1,30 @@
+"""The computation engine: sample size, power, detectable effect and α for A/B tests.
+
+Pure numpy and ``scipy.special`` (``scipy.stats`` is never imported here), vectorised over
+arrays.  See :mod:`fourfold.engine.solve` for the conventions.
+
+Examples
+--------
+>>> from fourfold import engine
+>>> round(float(engine.sample_size("mean", 0.0, 1.0, sd=1.0)), 2)
+15.7
+"""
+
+from .catalog import ALTERNATIVES, KINDS, METHODS
+from .design import adjusted_alpha, duration_days, total_units, variance_factor
+from .solve import detectable_effect, power, problems, sample_size, significance_level
+
+__all__ = [
+    "ALTERNATIVES",
+    "KINDS",
+    "METHODS",
+    "adjusted_alpha",
+    "detectable_effect",
+    "duration_days",
+    "power",
+    "problems",
+    "sample_size",
+    "significance_level",
+    "total_units",
+    "variance_factor",
+]

@@ -1,0 +1,387 @@
+"""The four solvers: sample size, power, detectable effect and significance level.
+
+Fix three of sample size, effect, α and power; solve the fourth.  Every numeric argument
+broadcasts; results are float arrays (0-d for scalar calls) in control-arm units (the
+treatment arm has ``ratio`` times as many), not rounded.  A scalar call with impossible input
+raises ``ValueError`` naming the argument and its allowed range; an array call returns nan
+there and :func:`problems` gives the reason per element.
+
+Conventions
+-----------
+* A two-sided test's power adds both tails (the far tail too), as statsmodels does.
+* ``margin`` is the difference under H0; a negative margin with ``alternative="greater"``
+  is a non-inferiority test.  With ``relative=True`` effect, margin and the detectable effect
+  are fractions of the baseline.
+* ``detectable_effect`` returns the smallest effect on the side of the alternative (the
+  positive side for two-sided) that reaches the power.
+* ``significance_level`` returns the α at which the design reaches the power.
+
+References
+----------
+Lehr, R. (1992) Sixteen s-squared over d-squared. *Statistics in Medicine* 11:1099–1102.
+Cohen, J. (1988) *Statistical Power Analysis for the Behavioral Sciences*, 2nd ed.
+Fleiss, J. L., Levin, B. & Paik, M. C. (2003) *Statistical Methods for Rates and
+Proportions*, 3rd ed., ch. 4.
+
+Examples
+--------
+>>> round(float(sample_size("mean", 0.0, 0.5, sd=1.0)), 2)
+62.79
+>>> round(float(sample_size("mean", 0.0, 0.5, sd=1.0, method="t")), 2)
+63.77
+>>> round(float(power("proportion", 0.10, 0.02, 3841.0)), 3)
+0.8
+"""
+
+import numpy as np
+
+from . import _normal, roots
+from ._power import alpha_from_critical, critical, degrees_of_freedom, power_of
+from .checks import KIND_MODULES, prepare
+
+_TAIL_SIGN = {"greater": 1.0, "less": -1.0, "two-sided": 1.0}
+_N_MIN_Z = 1e-9
+_N_MAX = 1e18
+_ALPHA_MIN = 1e-300
+
+_REASONS = {
+    "sample_size": {
+        roots.BELOW: "power is reached with almost no units: raise the power",
+        roots.ABOVE: "the effect is too small: more than 1e18 units per arm would be needed",
+        roots.FAILED: "no sample size could be found for these inputs",
+    },
+    "detectable_effect": {
+        roots.BELOW: "no effect could be found for these inputs",
+        roots.ABOVE: "no effect within the possible range reaches the power with this n",
+        roots.FAILED: "no effect could be found for these inputs",
+    },
+    "significance_level": {
+        roots.BELOW: "alpha would be below 1e-300: the design is far stronger than needed",
+        roots.ABOVE: "no alpha below 1 reaches the power with this n and effect",
+        roots.FAILED: "no alpha could be found for these inputs",
+    },
+}
+_T_TOO_SMALL = "the effect is so large that the t method would need at most 1 unit per arm"
+
+
+def _finish(p, values, reasons):
+    values = values.reshape(p.shape)
+    if p.scalar:
+        if reasons[0]:
+            raise ValueError(reasons[0])
+        return values.reshape(())
+    return values
+
+
+def _moments(p, i, effect):
+    sd = None if p.sd is None else p.sd[i]
+    return KIND_MODULES[p.kind].moments(
+        p.method, p.baseline[i], effect, p.margin[i], sd, p.ratio[i]
+    )
+
+
+def _power_at(p, i, effect, n, alpha):
+    exact_t = p.method == "t"
+    d, s0, s1, cc = _moments(p, i, effect)
+    df = degrees_of_freedom(n, p.ratio[i]) if exact_t else None
+    u = critical(alpha, p.alternative, exact_t, df)
+    return power_of(d, s0, s1, cc, n, u, p.alternative, exact_t, p.ratio[i])
+
+
+def _record(p, reasons, i, status, solve):
+    for code, text in _REASONS[solve].items():
+        reasons[i[status == code]] = text
+
+
+def _sample_size(p):
+    values = np.full(p.reasons.size, np.nan)
+    reasons = p.reasons.copy()
+    i = np.flatnonzero(p.ok)
+    if i.size == 0:
+        return values, reasons
+    d, s0, s1, cc = _moments(p, i, p.effect[i])
+    main = np.abs(d) if p.alternative == "two-sided" else _TAIL_SIGN[p.alternative] * d
+    u = critical(p.alpha[i], p.alternative, False, None)
+    k = u * s0 + _normal.quantile(p.power[i]) * s1
+    with np.errstate(invalid="ignore", divide="ignore"):
+        x0 = (k + np.sqrt(k * k + 4.0 * main * cc)) / (2.0 * main)
+    n0 = np.where(x0 > 0, x0 * x0, 1.0)
+    exact_t = p.method == "t"
+    if exact_t:
+        n0 = n0 + u * u / (2.0 * (1.0 + p.ratio[i]))
+        n_min = np.maximum(1.0, 1.0 / p.ratio[i]) * (1.0 + 1e-12)
+        step = 0.02 / np.sqrt(n0) + 1e-7
+    else:
+        n_min = np.full(i.size, _N_MIN_Z)
+        step = np.full(i.size, 1e-6)
+    target = p.power[i]
+
+    def f(y, j):
+        sub = i[j]
+        return _power_at(p, sub, p.effect[sub], np.exp(y), p.alpha[sub]) - target[j]
+
+    y, status = roots.find_root(
+        f, np.log(np.maximum(n0, n_min)), step, np.log(n_min), np.full(i.size, np.log(_N_MAX))
+    )
+    values[i] = np.exp(y)
+    _record(p, reasons, i, status, "sample_size")
+    if exact_t:
+        reasons[i[status == roots.BELOW]] = _T_TOO_SMALL
+    return values, reasons
+
+
+def _power(p):
+    values = np.full(p.reasons.size, np.nan)
+    i = np.flatnonzero(p.ok)
+    if i.size:
+        values[i] = _power_at(p, i, p.effect[i], p.n[i], p.alpha[i])
+    return values, p.reasons.copy()
+
+
+def _detectable_effect(p):
+    values = np.full(p.reasons.size, np.nan)
+    reasons = p.reasons.copy()
+    i = np.flatnonzero(p.ok)
+    if i.size == 0:
+        return values, reasons
+    sign = _TAIL_SIGN[p.alternative]
+    margin = p.margin[i]
+    lo, hi = KIND_MODULES[p.kind].effect_bounds(p.baseline[i], margin, sign)
+    room = (hi - margin) if sign > 0 else (margin - lo)
+    _, s0, s1, _ = _moments(p, i, margin)
+    u = critical(p.alpha[i], p.alternative, False, None)
+    guess = (u * s0 + _normal.quantile(p.power[i]) * s1) / np.sqrt(p.n[i])
+    guess = np.where(np.isfinite(room), np.minimum(guess, 0.5 * room), guess)
+    y0 = np.log(np.maximum(guess, 1e-300))
+    y_max = np.where(np.isfinite(room), np.log(room) + np.log1p(-1e-12), y0 + 60.0)
+    y_min = np.minimum(y0, y_max) - 60.0
+    target = p.power[i]
+
+    def f(y, j):
+        sub = i[j]
+        effect = p.margin[sub] + sign * np.exp(y)
+        return _power_at(p, sub, effect, p.n[sub], p.alpha[sub]) - target[j]
+
+    y, status = roots.find_root(f, np.minimum(y0, y_max), 1e-3, y_min, y_max)
+    effect = margin + sign * np.exp(y)
+    scale = np.where(p.relative[i], p.baseline[i], 1.0)
+    values[i] = effect / scale
+    _record(p, reasons, i, status, "detectable_effect")
+    return values, reasons
+
+
+def _significance_level(p):
+    values = np.full(p.reasons.size, np.nan)
+    reasons = p.reasons.copy()
+    i = np.flatnonzero(p.ok)
+    if i.size == 0:
+        return values, reasons
+    two = p.alternative == "two-sided"
+    exact_t = p.method == "t"
+    d, s0, s1, cc = _moments(p, i, p.effect[i])
+    main = np.abs(d) if two else _TAIL_SIGN[p.alternative] * d
+    x = np.sqrt(p.n[i])
+    u0 = (main * x - cc / x - _normal.quantile(p.power[i]) * s1) / s0
+    y_max = np.full(i.size, np.log(0.5 if two else 1.0) + np.log1p(-1e-12))
+    y_min = np.full(i.size, np.log(_ALPHA_MIN))
+    y0 = np.clip(np.log(np.maximum(_normal.sf(u0), _ALPHA_MIN)), y_min, y_max)
+    target = p.power[i]
+    df_all = degrees_of_freedom(p.n[i], p.ratio[i]) if exact_t else None
+
+    def alpha_of(y, j):
+        tail = np.exp(y)
+        return 2.0 * tail if two else tail
+
+    def f(y, j):
+        sub = i[j]
+        return _power_at(p, sub, p.effect[sub], p.n[sub], alpha_of(y, j)) - target[j]
+
+    y, status = roots.find_root(f, y0, 1e-3, y_min, y_max)
+    values[i] = alpha_of(y, None)
+    if exact_t:
+        values[i] = alpha_from_critical(
+            critical(values[i], p.alternative, True, df_all), p.alternative, True, df_all
+        )
+    _record(p, reasons, i, status, "significance_level")
+    return values, reasons
+
+
+def sample_size(kind, baseline, effect, *, sd=None, alpha=0.05, power=0.8,
+                alternative="two-sided", ratio=1.0, relative=False, margin=0.0, method=None):
+    """Control-arm units for the test to reach ``power`` at ``effect``.
+
+    Parameters
+    ----------
+    kind : {"mean", "proportion", "rate"}
+        Metric kind: ``baseline`` is the control mean, the control proportion in (0, 1) or
+        the control mean count per unit.
+    baseline, effect : array_like
+        Control value and the effect (treatment − control; a fraction of baseline when
+        ``relative``).
+    sd : array_like, optional
+        Per-unit standard deviation: required for a mean; for a rate it overrides the
+        Poisson variance (over-dispersion); ignored for a proportion.
+    alpha, power : array_like
+        Significance level and power, both in (0, 1), power > alpha.
+    alternative : {"two-sided", "greater", "less"}
+    ratio : array_like
+        Treatment units per control unit (> 0).
+    relative : bool or array_like of bool
+        Effect and margin as fractions of the baseline.
+    margin : array_like
+        Difference under H0 (negative with "greater" for non-inferiority).
+    method : str, optional
+        One of ``METHODS[kind]``; None for the kind's default.
+
+    Returns
+    -------
+    numpy.ndarray
+        Control-arm units (not rounded); nan where impossible (array calls).
+
+    Raises
+    ------
+    ValueError
+        Scalar call with impossible input; unknown kind, method or alternative.
+
+    References
+    ----------
+    Lehr (1992); Fleiss, Levin & Paik (2003), ch. 4; Fleiss, Tytun & Ury (1980).
+
+    Examples
+    --------
+    >>> round(float(sample_size("mean", 10.0, 1.0, sd=2.0, power=0.9)), 1)
+    84.1
+    >>> sample_size("proportion", [0.1, 1.5], 0.02).round(1).tolist()
+    [3840.8, nan]
+    """
+    p = prepare("sample_size", kind, baseline, effect=effect, sd=sd, alpha=alpha, power=power,
+                alternative=alternative, ratio=ratio, relative=relative, margin=margin,
+                method=method)
+    return _finish(p, *_sample_size(p))
+
+
+def power(kind, baseline, effect, n, *, sd=None, alpha=0.05, alternative="two-sided",
+          ratio=1.0, relative=False, margin=0.0, method=None):
+    """Power of the test with ``n`` control-arm units at ``effect``.
+
+    Parameters are as in :func:`sample_size`; ``n`` is the control-arm size (> 0; > 1 unit
+    per arm for "t").
+
+    Returns
+    -------
+    numpy.ndarray
+        Power in (0, 1]; nan where impossible (array calls).
+
+    References
+    ----------
+    Cohen (1988), ch. 2; Fleiss, Levin & Paik (2003), ch. 4.
+
+    Examples
+    --------
+    >>> round(float(power("mean", 0.0, 0.5, 64.0, sd=1.0, method="t")), 4)
+    0.8015
+    """
+    p = prepare("power", kind, baseline, effect=effect, n=n, sd=sd, alpha=alpha,
+                alternative=alternative, ratio=ratio, relative=relative, margin=margin,
+                method=method)
+    return _finish(p, *_power(p))
+
+
+def detectable_effect(kind, baseline, n, *, sd=None, alpha=0.05, power=0.8,
+                      alternative="two-sided", ratio=1.0, relative=False, margin=0.0,
+                      method=None):
+    """Smallest effect on the side of the alternative that ``n`` units detect with ``power``.
+
+    For two-sided tests the positive effect is returned; with ``relative=True`` it is a
+    fraction of the baseline.  Other parameters as in :func:`sample_size`.
+
+    Returns
+    -------
+    numpy.ndarray
+        The effect (treatment − control); nan where impossible (array calls).
+
+    References
+    ----------
+    Cohen (1988), ch. 2; Fleiss, Levin & Paik (2003), ch. 4.
+
+    Examples
+    --------
+    >>> round(float(detectable_effect("mean", 0.0, 63.7656, sd=1.0, method="t")), 4)
+    0.5
+    """
+    p = prepare("detectable_effect", kind, baseline, n=n, sd=sd, alpha=alpha, power=power,
+                alternative=alternative, ratio=ratio, relative=relative, margin=margin,
+                method=method)
+    return _finish(p, *_detectable_effect(p))
+
+
+def significance_level(kind, baseline, effect, n, *, sd=None, power=0.8,
+                       alternative="two-sided", ratio=1.0, relative=False, margin=0.0,
+                       method=None):
+    """The α at which ``n`` units reach ``power`` at ``effect``.
+
+    Other parameters as in :func:`sample_size`.
+
+    Returns
+    -------
+    numpy.ndarray
+        α in (0, 1); nan where impossible (array calls).
+
+    References
+    ----------
+    Cohen (1988), ch. 2.
+
+    Examples
+    --------
+    >>> round(float(significance_level("mean", 0.0, 0.5, 62.7910, sd=1.0)), 4)
+    0.05
+    """
+    p = prepare("significance_level", kind, baseline, effect=effect, n=n, sd=sd, power=power,
+                alternative=alternative, ratio=ratio, relative=relative, margin=margin,
+                method=method)
+    return _finish(p, *_significance_level(p))
+
+
+_SOLVERS = {
+    "sample_size": _sample_size,
+    "power": _power,
+    "detectable_effect": _detectable_effect,
+    "significance_level": _significance_level,
+}
+
+
+def problems(solve, kind, baseline, *, effect=None, n=None, sd=None, alpha=0.05, power=0.8,
+             alternative="two-sided", ratio=1.0, relative=False, margin=0.0, method=None):
+    """Why each element of a call to ``solve`` cannot be computed ("" where it can).
+
+    Parameters
+    ----------
+    solve : {"sample_size", "power", "detectable_effect", "significance_level"}
+    kind, baseline, effect, n, sd, alpha, power, alternative, ratio, relative, margin, method
+        As for the solver; inputs the solve does not use are ignored.
+
+    Returns
+    -------
+    numpy.ndarray
+        Object array of the broadcast shape holding one short reason per element.
+
+    Examples
+    --------
+    >>> problems("sample_size", "proportion", [0.1, 1.2], effect=0.01).tolist()
+    ['', 'baseline must be between 0 and 1 (exclusive) for a proportion']
+    >>> problems("power", "mean", 1.0, effect=0.1, n=100, sd=1.0, method="w").tolist()
+    "method must be one of 'z', 't' for a mean, not 'w'"
+    """
+    kwargs = dict(effect=effect, n=n, sd=sd, alpha=alpha, power=power, alternative=alternative,
+                  ratio=ratio, relative=relative, margin=margin, method=method)
+    try:
+        p = prepare(solve, kind, baseline, **kwargs)
+    except ValueError as error:
+        if solve not in _SOLVERS:
+            raise
+        shapes = [np.shape(v) for v in (baseline, effect, n, sd, alpha, power, ratio, margin)
+                  if v is not None]
+        return np.full(np.broadcast_shapes(*shapes), str(error), dtype=object)
+    with np.errstate(all="ignore"):
+        _, reasons = _SOLVERS[solve](p)
+    return reasons.reshape(p.shape)
