@@ -1,0 +1,256 @@
+"""Interim looks in a plan: each row's group sequential design and what it does to units and days.
+
+With ``settings.looks > 1`` a row's units are the *maximum* the test may need: the fixed
+design's units times the design's inflation factor. Rows that start from a number of units
+(a runtime, or their own ``n``) treat it as the maximum, so they detect the effect a fixed
+design of ``n / inflation`` units detects, or reach the power of the boundaries at that size.
+Looks fall at equal shares of the maximum, hence on equally spaced days; expected units and
+days are those if the planned effect is real (H1), stopping at the first crossing.
+
+The design of a row uses its α (after correction) and power, its direction and the plan's
+spending family; a futility bound uses the Lan–DeMets family of the same shape (the classic
+Pocock and O'Brien–Fleming shapes have no β-spending form of their own).
+
+References
+----------
+Jennison, C. & Turnbull, B. W. (2000). *Group Sequential Methods with Applications to Clinical
+Trials*. Chapman & Hall/CRC, ch. 2 and 7 (inflation factors, expected sample size).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.special import ndtri
+
+from fourfold.engine import sequential
+from fourfold.engine.sequential import SequentialDesign
+
+FUTILITY_FAMILY = {
+    "ld-obrien-fleming": "ld-obrien-fleming",
+    "ld-pocock": "ld-pocock",
+    "hsd": "hsd",
+    "obrien-fleming": "ld-obrien-fleming",
+    "pocock": "ld-pocock",
+}
+"""The β-spending family a futility bound uses with each α-spending choice."""
+
+NO_ALPHA_SOLVE = ("with interim looks the significance level cannot be solved for; set looks "
+                  "to 1 or solve for power")
+
+
+def row_design(settings, alpha: float, power: float, alternative: str,
+               designs: dict | None = None) -> SequentialDesign | None:
+    """The group sequential design of a row, or ``None`` for a fixed design (one look).
+
+    ``designs`` may be a dict the caller keeps for one evaluation, so that rows sharing α,
+    power and direction share one design.
+
+    Raises
+    ------
+    ValueError
+        When the design is impossible (e.g. power not above the one-sided α).
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Settings
+    >>> round(row_design(Settings(looks=5, spending="pocock"), 0.05, 0.8,
+    ...                  "two-sided").inflation, 3)
+    1.229
+    >>> row_design(Settings(), 0.05, 0.8, "two-sided") is None
+    True
+    """
+    if settings.looks <= 1:
+        return None
+    key = (float(alpha), float(power), alternative)
+    if designs is not None and key in designs:
+        return designs[key]
+    made = sequential.design(
+        settings.looks, alpha=alpha, power=power, alternative=alternative,
+        spending=settings.spending,
+        futility=FUTILITY_FAMILY[settings.spending] if settings.futility else None,
+    )
+    if designs is not None:
+        designs[key] = made
+    return made
+
+
+def inflation(made: SequentialDesign | None) -> float:
+    """Maximum units ÷ fixed-design units (1 for a fixed design)."""
+    return 1.0 if made is None else made.inflation
+
+
+def power_of(made: SequentialDesign, fixed_power: float) -> float:
+    """Power of the boundaries at a size where a fixed design would reach ``fixed_power``.
+
+    The fixed design's drift there is z₁₋α/₂ + Φ⁻¹(fixed_power) (one-sided: z₁₋α).
+
+    Examples
+    --------
+    >>> made = sequential.design(3)
+    >>> round(power_of(made, 0.8), 3), round(power_of(made, 0.5), 3)
+    (0.795, 0.494)
+    """
+    side = made.alpha / 2.0 if made.alternative == "two-sided" else made.alpha
+    clipped = min(max(float(fixed_power), 1e-15), 1.0 - 1e-15)
+    return sequential.power_at(made, float(ndtri(1.0 - side) + ndtri(clipped)))
+
+
+def _ceil(value: float) -> float:
+    return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
+
+
+def look_days(made: SequentialDesign, days: float) -> tuple[float, ...] | None:
+    """Calendar day of each look (rounded up to whole days; the last is ``days``)."""
+    if not math.isfinite(days):
+        return None
+    return tuple(_ceil(t * days) for t in made.fractions[:-1]) + (float(days),)
+
+
+def row_fields(made: SequentialDesign | None, units_total: float,
+               days: float) -> tuple[float, float, float, tuple[float, ...] | None]:
+    """``(units_max, units_expected_h1, days_expected_h1, look_days)`` of a computed row.
+
+    ``units_total`` and ``days`` are the row's maximum; a fixed design returns them unchanged.
+
+    Examples
+    --------
+    >>> made = sequential.design(4, spending="obrien-fleming")
+    >>> units, expected, expected_days, looks = row_fields(made, 10_000.0, 28.0)
+    >>> units, looks
+    (10000.0, (7.0, 14.0, 21.0, 28.0))
+    >>> bool(expected < units and expected_days < 28.0)
+    True
+    """
+    if made is None:
+        return units_total, units_total, days, None
+    share = made.expected_h1 / made.inflation
+    expected_units = _ceil(units_total * share) if math.isfinite(units_total) else math.nan
+    looks = look_days(made, days)
+    expected_days = math.nan if looks is None else float(np.dot(made.stop_h1, looks))
+    return units_total, expected_units, expected_days, looks
+
+
+def peeking_text(looks: int, alpha: float) -> str:
+    """The price of unadjusted peeking, in words.
+
+    Examples
+    --------
+    >>> peeking_text(5, 0.05)
+    'Checking 5 times at p < 0.05 unadjusted gives a 14 % false-positive rate, not 5 %.'
+    """
+    rate = sequential.peeking_alpha(looks, alpha)
+    return (f"Checking {looks} times at p < {alpha:g} unadjusted gives a "
+            f"{rate * 100:.2g} % false-positive rate, not {alpha * 100:g} %.")
+
+
+def plan_notes(settings) -> tuple[str, ...]:
+    """Notes on the interim looks for the plan's summary; empty for a fixed design."""
+    if settings.looks <= 1:
+        return ()
+    try:
+        made = row_design(settings, settings.alpha, settings.power, "two-sided")
+    except ValueError as error:
+        return (f"Interim looks cannot be planned: {error}.",)
+    stops = made.expected_h1 / made.inflation
+    futility = " or futility" if settings.futility else ""
+    return (
+        f"{settings.looks} looks: units and days are the maximum the test may need, "
+        f"{made.inflation:.3f} × the fixed design (at the plan's α and power); if the effect "
+        f"is real it stops for efficacy{futility} after {stops * 100:.0f} % of them on "
+        "average.",
+        peeking_text(settings.looks, settings.alpha),
+    )
+
+
+@dataclass(frozen=True)
+class Look:
+    """One interim look of a row: when it happens and what it decides.
+
+    ``z_efficacy`` / ``z_futility`` are z boundaries oriented in the row's direction
+    (``z_futility`` is nan without a futility bound); ``p_efficacy`` is the nominal p-value
+    below which the look stops for efficacy; ``alpha_spent`` is cumulative.
+    """
+
+    look: int
+    fraction: float
+    day: float
+    units: float
+    z_efficacy: float
+    p_efficacy: float
+    z_futility: float
+    alpha_spent: float
+    stop_h0: float
+    stop_h1: float
+
+
+LOOK_HEADERS = {
+    "look": "Look",
+    "fraction": "Share of maximum",
+    "day": "Day",
+    "units": "Total units",
+    "z_efficacy": "Efficacy z",
+    "p_efficacy": "Nominal p",
+    "z_futility": "Futility z",
+    "alpha_spent": "α spent",
+    "stop_h0": "P(stop | no effect)",
+    "stop_h1": "P(stop | effect)",
+}
+"""Column headers of a looks table, keyed by :class:`Look` field."""
+
+
+def looks_of(made: SequentialDesign, units_total: float, days: float) -> tuple[Look, ...]:
+    """The looks table of a row with maximum ``units_total`` and ``days``.
+
+    Examples
+    --------
+    >>> made = sequential.design(2, spending="pocock")
+    >>> [(look.day, look.units, round(look.z_efficacy, 3)) for look in
+    ...  looks_of(made, 1000.0, 14.0)]
+    [(7.0, 500.0, 2.178), (14.0, 1000.0, 2.178)]
+    """
+    days_at = look_days(made, days) or (math.nan,) * made.looks
+    lower = made.lower if made.lower is not None else np.full(made.looks, math.nan)
+    return tuple(
+        Look(k + 1, float(t), days_at[k],
+             _ceil(t * units_total) if math.isfinite(units_total) else math.nan,
+             float(made.upper[k]), float(made.nominal_p[k]), float(lower[k]),
+             float(made.alpha_spent[k]), float(made.stop_h0[k]), float(made.stop_h1[k]))
+        for k, t in enumerate(made.fractions)
+    )
+
+
+def row_looks(plan, result, index: int) -> tuple[Look, ...]:
+    """The looks table of row ``index`` of an evaluated plan; empty for a fixed design or a
+    row that was not computed.
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan, Settings
+    >>> from fourfold.plan.evaluation import compute
+    >>> plan = Plan(Settings(looks=3), [Metric(name="Spend", role="primary", kind="mean",
+    ...                                       baseline=10.0, sd=5.0, effect=0.5)])
+    >>> [look.look for look in row_looks(plan, compute(plan), 0)]
+    [1, 2, 3]
+    """
+    made = design_of_row(plan, result, index)
+    if made is None:
+        return ()
+    row = result.rows[index]
+    return looks_of(made, row.units_total, row.days)
+
+
+def design_of_row(plan, result, index: int) -> SequentialDesign | None:
+    """The design behind row ``index`` of an evaluated plan (``None``: fixed or not computed)."""
+    settings = plan.settings
+    row = result.rows[index]
+    if settings.looks <= 1 or row.reason or not math.isfinite(row.alpha):
+        return None
+    metric = plan.metrics[index]
+    power = settings.power if metric.power is None else metric.power
+    try:
+        return row_design(settings, row.alpha, power, metric.alternative)
+    except ValueError:
+        return None
