@@ -1,0 +1,318 @@
+"""Check a plan's metric rows by simulation; the dicts stored in ``Metric.simulation``.
+
+A row is simulated exactly as :func:`fourfold.plan.evaluation.compute` evaluated it: its
+effect (given or solved) as an absolute difference, its α (corrected or solved), the plan's
+allocation ratio, and the design factor as effective units ``units_control / factor`` (the
+same variance of the difference as the closed form). With interim looks (``looks > 1``) the
+test stops at the boundaries of ``fourfold.engine.sequential.design`` built with the row's α
+and power, and the maximum size is the fixed size times the design's inflation.
+
+The stored dict holds the :class:`~fourfold.simulation.SimulationResult` fields, the
+closed-form power it is compared with, the inputs it was run on (to tell when it has gone
+stale), a verdict (:func:`verdict`) and a message in words (:func:`message`).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from fourfold.errors import FourfoldError
+from fourfold.plan.evaluation import compute
+from fourfold.simulation.intervals import wilson_interval
+from fourfold.simulation.power import simulate_power
+from fourfold.simulation.streams import SimulationCancelled
+
+FUTILITY_FAMILY = "ld-obrien-fleming"
+"""β-spending family of the futility boundary when a plan asks for one."""
+
+WIDE_LEVEL = 0.999
+"""Coverage of the interval beyond which a disagreement is called firm rather than borderline."""
+
+INPUT_FIELDS = ("kind", "baseline", "sd", "effect", "alpha", "alternative", "margin",
+                "n_control", "ratio", "looks")
+
+
+@dataclass(frozen=True)
+class PlanCheck:
+    """Outcome of :func:`check_plan`.
+
+    Attributes
+    ----------
+    checks : tuple of (int, dict)
+        Row index and the dict to store in its ``Metric.simulation``.
+    skipped : tuple of (int, str)
+        Rows that could not be simulated and why.
+    """
+
+    checks: tuple[tuple[int, dict], ...]
+    skipped: tuple[tuple[int, str], ...]
+
+    def edits(self):
+        """``(row, "simulation", dict)`` triples for one ``SetFields`` undo step."""
+        return [(row, "simulation", check) for row, check in self.checks]
+
+
+def _percent(value):
+    return f"{100 * value:.1f} %"
+
+
+def verdict(check):
+    """How the closed-form power compares with the simulated one.
+
+    ``"agrees"`` inside the 95 % interval; ``"borderline"`` outside it but inside the
+    99.9 % interval (1 check in 20 lands outside a 95 % interval by chance alone);
+    ``"below"`` when the simulated power is below the closed form beyond that, ``"above"``
+    when it is above.
+
+    Examples
+    --------
+    >>> verdict({"analytic_power": 0.8, "power": 0.64, "low": 0.62, "high": 0.66,
+    ...          "reps": 2000})
+    'below'
+    """
+    analytic = check["analytic_power"]
+    if check["low"] <= analytic <= check["high"]:
+        return "agrees"
+    low, high = wilson_interval(round(check["power"] * check["reps"]), check["reps"],
+                                level=WIDE_LEVEL)
+    if low <= analytic <= high:
+        return "borderline"
+    return "below" if check["power"] < analytic else "above"
+
+
+def message(check):
+    """The check in words, with advice when simulation and closed form disagree.
+
+    Examples
+    --------
+    >>> print(message({"analytic_power": 0.8, "power": 0.803, "low": 0.785, "high": 0.82,
+    ...                "false_positive": 0.05, "false_positive_low": 0.04,
+    ...                "false_positive_high": 0.06, "alpha": 0.05, "reps": 2000, "seed": 0}))
+    ... # doctest: +NORMALIZE_WHITESPACE
+    Simulated power 80.3 % (95 % interval 78.5 %–82.0 %, 2000 replicates, seed 0)
+    agrees with the closed form's 80.0 %.
+    """
+    head = (f"Simulated power {_percent(check['power'])} (95 % interval "
+            f"{_percent(check['low'])}–{_percent(check['high'])}, {check['reps']} replicates, "
+            f"seed {check['seed']})")
+    closed = _percent(check["analytic_power"])
+    how = verdict(check)
+    if how == "agrees":
+        text = f"{head} agrees with the closed form's {closed}."
+    elif how == "borderline":
+        text = (f"{head} is just outside the closed form's {closed}; this happens by chance "
+                "in 1 check out of 20, so run it with more replicates to tell.")
+    elif how == "below":
+        text = (f"{head} is below the closed form's {closed}: the normal approximation "
+                "overstates the power of this metric at this size (heavy tails or skew). "
+                "Raise n, or cap (winsorise) the metric.")
+    else:
+        text = (f"{head} is above the closed form's {closed}: the closed form is conservative "
+                "here, so fewer units may do; with a skewed metric check the false-positive "
+                "rate before relying on it.")
+    fp, alpha = check["false_positive"], check["alpha"]
+    if not check["false_positive_low"] <= alpha <= check["false_positive_high"]:
+        side = "above" if fp > alpha else "below"
+        text += (f" Under H0 the test rejected {_percent(fp)} of replicates, {side} α = "
+                 f"{alpha:g}: its level may not hold for this metric at this size.")
+    return text
+
+
+def _inputs(plan, index, row, n_control, looks):
+    metric = plan.metrics[index]
+    return {
+        "kind": metric.kind,
+        "baseline": metric.baseline,
+        "sd": metric.sd,
+        "effect": row.effect_abs,
+        "alpha": row.alpha,
+        "alternative": metric.alternative,
+        "margin": metric.margin,
+        "n_control": n_control,
+        "ratio": plan.settings.ratio,
+        "looks": looks,
+    }
+
+
+def _design(plan, metric, row):
+    settings = plan.settings
+    if settings.looks <= 1:
+        return None
+    from fourfold.engine.sequential import design
+
+    try:
+        return design(settings.looks, alpha=row.alpha, power=row.power,
+                      alternative=metric.alternative, spending=settings.spending,
+                      futility=FUTILITY_FAMILY if settings.futility else None)
+    except ValueError as error:
+        raise FourfoldError(f"{metric.name}: no sequential design for this row ({error})") from None
+
+
+def _row_setup(plan, index, result):
+    if not 0 <= index < len(plan.metrics):
+        raise FourfoldError(f"row {index + 1} does not exist (the plan has "
+                            f"{len(plan.metrics)} rows)")
+    metric = plan.metrics[index]
+    row = result.rows[index]
+    if row.reason:
+        raise FourfoldError(f"{metric.name}: cannot be simulated — {row.reason}")
+    values = (row.units_control, row.effect_abs, row.power, row.alpha, row.design_factor)
+    if not all(math.isfinite(v) for v in values):
+        raise FourfoldError(f"{metric.name}: the row has no finite units, effect, α and power")
+    looks = _design(plan, metric, row)
+    n_control = row.units_control / row.design_factor
+    if looks is not None:
+        n_control *= looks.inflation
+    return metric, row, looks, n_control
+
+
+def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect="shift",
+                 result=None, progress=None, cancelled=None, workers=None):
+    """Simulate metric row ``index`` of ``plan`` and return the dict for ``Metric.simulation``.
+
+    Parameters
+    ----------
+    plan : fourfold.plan.Plan
+    index : int
+        Row index (0-based).
+    reps, seed : int
+        Replicates per scenario and seed (see :func:`fourfold.simulation.simulate_power`).
+    history : array_like, optional
+        Historical per-unit values to bootstrap from instead of the parametric model.
+    history_effect : {"shift", "lift"}
+        How the effect is applied to bootstrapped values.
+    result : fourfold.plan.evaluation.PlanResult, optional
+        ``compute(plan)`` if already at hand.
+    progress, cancelled, workers
+        As for :func:`~fourfold.simulation.simulate_power`.
+
+    Returns
+    -------
+    dict
+        JSON-ready: the simulation result's fields plus ``analytic_power``, ``inputs``,
+        ``verdict`` and ``message``.
+
+    Raises
+    ------
+    FourfoldError
+        When the row cannot be computed or simulated (the message names the row).
+    SimulationCancelled
+        When ``cancelled()`` returned True.
+
+    Examples
+    --------
+    >>> from fourfold.plan import Metric, Plan
+    >>> plan = Plan(metrics=[Metric(name="Load time", kind="mean", baseline=1.84, sd=0.61,
+    ...                             effect=0.05, relative=True)])
+    >>> check = check_metric(plan, 0, reps=400, seed=3)
+    >>> check["verdict"], check["reps"]
+    ('agrees', 400)
+    """
+    result = compute(plan) if result is None else result
+    metric, row, looks, n_control = _row_setup(plan, index, result)
+    margin = metric.margin * metric.baseline if metric.relative else metric.margin
+    try:
+        outcome = simulate_power(
+            metric.kind, metric.baseline, row.effect_abs, n_control, sd=metric.sd,
+            alpha=row.alpha, alternative=metric.alternative, ratio=plan.settings.ratio,
+            margin=margin, reps=reps, seed=seed, history=history,
+            history_effect=history_effect, looks=looks, progress=progress,
+            cancelled=cancelled, workers=workers,
+        )
+    except ValueError as error:
+        raise FourfoldError(f"{metric.name}: cannot be simulated — {error}") from None
+    check = outcome.to_dict()
+    check["analytic_power"] = float(row.power)
+    check["inputs"] = _inputs(plan, index, row, n_control, outcome.looks)
+    check["verdict"] = verdict(check)
+    check["message"] = message(check)
+    return check
+
+
+def is_stale(plan, index, result=None):
+    """True when row ``index`` has a stored check that no longer matches its inputs.
+
+    Examples
+    --------
+    >>> from fourfold.plan import Metric, Plan
+    >>> plan = Plan(metrics=[Metric(name="Load time", kind="mean", baseline=1.84, sd=0.61,
+    ...                             effect=0.05, relative=True)])
+    >>> plan.metrics[0].simulation = check_metric(plan, 0, reps=100)
+    >>> is_stale(plan, 0)
+    False
+    >>> plan.metrics[0].baseline = 1.9
+    >>> is_stale(plan, 0)
+    True
+    """
+    stored = plan.metrics[index].simulation
+    if not stored or "inputs" not in stored:
+        return False
+    result = compute(plan) if result is None else result
+    try:
+        _, row, looks, n_control = _row_setup(plan, index, result)
+    except FourfoldError:
+        return True
+    now = _inputs(plan, index, row, n_control, 1 if looks is None else looks.looks)
+    before = stored["inputs"]
+    for name in INPUT_FIELDS:
+        a, b = now.get(name), before.get(name)
+        if isinstance(a, float) and isinstance(b, (int, float)):
+            if not math.isclose(a, b, rel_tol=1e-9, abs_tol=1e-12):
+                return True
+        elif a != b:
+            return True
+    return False
+
+
+def check_plan(plan, *, reps=2000, seed=0, progress=None, cancelled=None, workers=None):
+    """Simulate every row that can be computed, with one progress count over all of them.
+
+    Each row uses the same ``seed``, so its check equals :func:`check_metric` for that row.
+
+    Returns
+    -------
+    PlanCheck
+
+    Raises
+    ------
+    SimulationCancelled
+        When ``cancelled()`` returned True; nothing is returned.
+
+    Examples
+    --------
+    >>> from fourfold.plan import Metric, Plan
+    >>> plan = Plan(metrics=[Metric(name="Conversion", baseline=0.031, effect=0.2),
+    ...                      Metric(name="Broken", kind="mean", baseline=1.0, sd=None)])
+    >>> outcome = check_plan(plan, reps=100)
+    >>> [row for row, _ in outcome.checks], [row for row, _ in outcome.skipped]
+    ([0], [1])
+    """
+    result = compute(plan)
+    todo, skipped = [], []
+    for index in range(len(plan.metrics)):
+        try:
+            _row_setup(plan, index, result)
+        except FourfoldError as error:
+            skipped.append((index, str(error)))
+        else:
+            todo.append(index)
+    total = 2 * reps * len(todo)
+    checks = []
+    for position, index in enumerate(todo):
+        offset = 2 * reps * position
+
+        def report(done, _total, offset=offset):
+            if progress is not None:
+                progress(offset + done, total)
+
+        try:
+            check = check_metric(plan, index, reps=reps, seed=seed, result=result,
+                                 progress=report, cancelled=cancelled, workers=workers)
+        except SimulationCancelled:
+            raise
+        except FourfoldError as error:
+            skipped.append((index, str(error)))
+        else:
+            checks.append((index, check))
+    return PlanCheck(tuple(checks), tuple(sorted(skipped)))
