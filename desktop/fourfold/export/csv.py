@@ -1,0 +1,273 @@
+"""The plan table as CSV: one file of metric rows, one file of plan-level settings and results.
+
+``write_csv(plan, "checkout.csv")`` writes two UTF-8 files (with a byte-order mark, so that
+spreadsheets detect the encoding):
+
+``checkout.csv``
+    One header row, then one row per metric row of the plan, in plan order, holding every input
+    and every computed result.
+``checkout-settings.csv``
+    Three columns ``key,value,unit``: the plan's settings, then the plan-level results
+    (duration, total units, binding metric, notes).
+
+Column names
+------------
+Names are ``snake_case``; a suffix names the unit of the numbers in the column:
+
+``_units``
+    a count of experiment units (visitors, users…); not rounded, so a spreadsheet can round
+    the way the proposal needs;
+``_days``
+    days of traffic;
+``_frac``
+    a fraction: 0.05 means 5 %;
+no suffix
+    the metric's own unit (``baseline``, ``sd``, ``effect_abs``; for a proportion that is a
+    fraction of units, for a rate a count per unit), a dimensionless number (``cuped_rho``,
+    ``icc``, ``cluster_cv``, ``design_factor``), a flag (``true``/``false``) or text.
+
+``effect_input`` and ``margin_input`` are the numbers as entered: fractions of the baseline when
+``relative_input`` is true, the metric's unit otherwise. ``units_control`` is the control arm,
+``units_treatment_per_arm`` each treatment arm, ``units_total`` all arms together. ``look_days``
+lists the day of each interim look, separated by ``;``. An empty cell is a missing value (an
+input left to the plan's default, or a result that cannot be computed; ``reason`` then says why).
+
+Numbers are written in full precision (Python's shortest round-trip form), so reading the file
+back gives exactly the values of :func:`fourfold.plan.evaluate`. Text cells that a spreadsheet
+would run as a formula — beginning with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return —
+are prefixed with a single quote (OWASP, "CSV Injection"); numeric cells are never altered.
+
+References
+----------
+OWASP Foundation, "CSV Injection", https://owasp.org/www-community/attacks/CSV_Injection
+
+Examples
+--------
+>>> neutralise("=HYPERLINK(\\"http://x\\")")
+'\\'=HYPERLINK("http://x")'
+>>> neutralise("Checkout conversion")
+'Checkout conversion'
+>>> cell(0.1 + 0.2), cell(float("nan")), cell(True), cell(None)
+('0.30000000000000004', '', 'true', '')
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+import numbers
+import os
+from collections.abc import Callable, Iterable, Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from fourfold import __version__
+from fourfold.export.files import replacing
+from fourfold.plan import CHOICES
+
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+ENCODING = "utf-8-sig"
+
+
+def neutralise(text: str) -> str:
+    """Prefix text that a spreadsheet would evaluate as a formula with a single quote.
+
+    Parameters
+    ----------
+    text : str
+        A text cell.
+
+    Returns
+    -------
+    str
+        ``"'" + text`` when ``text`` begins with ``=``, ``+``, ``-``, ``@``, a tab or a carriage
+        return; ``text`` unchanged otherwise.
+
+    References
+    ----------
+    OWASP Foundation, "CSV Injection".
+
+    Examples
+    --------
+    >>> neutralise("-2+3"), neutralise("@SUM(A1:A2)"), neutralise("a-b")
+    ("'-2+3", "'@SUM(A1:A2)", 'a-b')
+    """
+    return "'" + text if text.startswith(FORMULA_STARTS) else text
+
+
+def cell(value: Any) -> str:
+    """Format one value for the CSV: numbers in full precision, text neutralised.
+
+    ``None`` and nan become an empty cell, booleans ``true``/``false``, other numbers their
+    shortest round-trip decimal form (``repr``), sequences of numbers a ``;``-separated list.
+
+    Examples
+    --------
+    >>> cell(3), cell(2.5e-7), cell(float("inf")), cell((7.0, 14.0)), cell("+1")
+    ('3', '2.5e-07', 'inf', '7.0;14.0', "'+1")
+    """
+    if value is None:
+        return ""
+    if isinstance(value, str):
+        return neutralise(value)
+    if isinstance(value, (bool, np.bool_)):
+        return "true" if value else "false"
+    if isinstance(value, numbers.Integral):
+        return str(int(value))
+    if isinstance(value, numbers.Real):
+        number = float(value)
+        return "" if math.isnan(number) else repr(number)
+    if isinstance(value, (list, tuple, np.ndarray)):
+        return ";".join(cell(item) for item in value)
+    return neutralise(str(value))
+
+
+def _method(metric) -> str:
+    return metric.method if metric.method is not None else CHOICES["method"][metric.kind][0]
+
+
+#: The metric-row columns in file order: (name, how to get the value from (index, metric, row
+#: result, plan result)).
+COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
+    ("row", lambda i, m, r, p: i + 1),
+    ("name", lambda i, m, r, p: m.name),
+    ("role", lambda i, m, r, p: m.role),
+    ("kind", lambda i, m, r, p: m.kind),
+    ("method", lambda i, m, r, p: _method(m)),
+    ("solve", lambda i, m, r, p: m.solve),
+    ("baseline", lambda i, m, r, p: m.baseline),
+    ("sd", lambda i, m, r, p: m.sd),
+    ("effect_input", lambda i, m, r, p: m.effect),
+    ("margin_input", lambda i, m, r, p: m.margin),
+    ("relative_input", lambda i, m, r, p: m.relative),
+    ("alternative", lambda i, m, r, p: m.alternative),
+    ("alpha_override_frac", lambda i, m, r, p: m.alpha),
+    ("power_override_frac", lambda i, m, r, p: m.power),
+    ("cuped_rho", lambda i, m, r, p: m.rho),
+    ("cluster_size_units", lambda i, m, r, p: m.cluster_size),
+    ("icc", lambda i, m, r, p: m.icc),
+    ("cluster_cv", lambda i, m, r, p: m.cluster_cv),
+    ("design_factor", lambda i, m, r, p: r.design_factor),
+    ("n_input_control_units", lambda i, m, r, p: m.n),
+    ("solved", lambda i, m, r, p: r.solved),
+    ("alpha_frac", lambda i, m, r, p: r.alpha),
+    ("power_frac", lambda i, m, r, p: r.power),
+    ("effect_abs", lambda i, m, r, p: r.effect_abs),
+    ("effect_rel_frac", lambda i, m, r, p: r.effect_rel),
+    ("units_control", lambda i, m, r, p: r.units_control),
+    ("units_treatment_per_arm", lambda i, m, r, p: r.units_treatment),
+    ("units_total", lambda i, m, r, p: r.units_total),
+    ("days", lambda i, m, r, p: r.days),
+    ("units_max", lambda i, m, r, p: r.units_max),
+    ("units_expected_h1", lambda i, m, r, p: r.units_expected_h1),
+    ("days_expected_h1", lambda i, m, r, p: r.days_expected_h1),
+    ("look_days", lambda i, m, r, p: r.look_days),
+    ("binding", lambda i, m, r, p: p.binding_index == i),
+    ("reason", lambda i, m, r, p: r.reason),
+    ("notes", lambda i, m, r, p: m.notes),
+)
+
+#: The settings file's rows: (key, unit, how to get the value from (settings, plan result)).
+SETTINGS: tuple[tuple[str, str, Callable[[Any, Any], Any]], ...] = (
+    ("title", "text", lambda s, p: s.title),
+    ("description", "text", lambda s, p: s.description),
+    ("alpha", "fraction", lambda s, p: s.alpha),
+    ("power", "fraction", lambda s, p: s.power),
+    ("arms", "treatment arms", lambda s, p: s.arms),
+    ("ratio", "treatment units per control unit, each arm", lambda s, p: s.ratio),
+    ("correction", "text", lambda s, p: s.correction),
+    ("daily_units", "units per day", lambda s, p: s.daily_units),
+    ("share", "fraction", lambda s, p: s.share),
+    ("whole_weeks", "flag", lambda s, p: s.whole_weeks),
+    ("runtime_days", "days", lambda s, p: s.runtime_days),
+    ("looks", "count", lambda s, p: s.looks),
+    ("spending", "text", lambda s, p: s.spending),
+    ("futility", "flag", lambda s, p: s.futility),
+    ("duration_days", "days", lambda s, p: p.duration_days),
+    ("total_units", "units", lambda s, p: p.total_units),
+    ("binding_row", "row number", lambda s, p: _row_number(p.binding_index)),
+    ("binding_name", "text", lambda s, p: p.binding_name),
+)
+
+
+def _row_number(index: int | None) -> int | None:
+    return None if index is None else index + 1
+
+
+def settings_path(path: os.PathLike | str) -> Path:
+    """The settings file written beside ``path``: ``plan.csv`` → ``plan-settings.csv``.
+
+    Examples
+    --------
+    >>> settings_path("out/checkout.csv").as_posix()
+    'out/checkout-settings.csv'
+    """
+    path = Path(path)
+    return path.with_name(f"{path.stem}-settings{path.suffix or '.csv'}")
+
+
+def metric_rows(plan, result) -> list[list[str]]:
+    """The metric file as lists of cells, header first (see the module docstring)."""
+    lines = [[name for name, _ in COLUMNS]]
+    for index, (metric, row) in enumerate(zip(plan.metrics, result.rows, strict=True)):
+        lines.append([cell(get(index, metric, row, result)) for _, get in COLUMNS])
+    return lines
+
+
+def settings_rows(plan, result) -> list[list[str]]:
+    """The settings file as lists of cells, header ``key,value,unit`` first."""
+    lines = [["key", "value", "unit"]]
+    lines += [[key, cell(get(plan.settings, result)), unit] for key, unit, get in SETTINGS]
+    lines += [[f"note_{i}", cell(note), "text"] for i, note in enumerate(result.notes, 1)]
+    lines.append(["fourfold_version", cell(__version__), "text"])
+    return lines
+
+
+def _write(path: Path, lines: Iterable[Sequence[str]]) -> None:
+    with open(path, "w", encoding=ENCODING, newline="") as handle:
+        csv.writer(handle, lineterminator="\r\n").writerows(lines)
+
+
+def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
+    """Write the plan's metric table to ``path`` and its settings beside it.
+
+    Parameters
+    ----------
+    plan : fourfold.plan.Plan
+        The plan; it is evaluated here with :func:`fourfold.plan.compute`.
+    path : path-like
+        The metric file. The settings go to :func:`settings_path` of it.
+
+    Returns
+    -------
+    tuple of pathlib.Path
+        The metric file and the settings file.
+
+    Raises
+    ------
+    fourfold.export.files.ExportError
+        When a file cannot be written; both files are then left as they were.
+
+    References
+    ----------
+    OWASP Foundation, "CSV Injection" (the neutralised text cells).
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> from fourfold.plan import load, sample_path
+    >>> out = pathlib.Path(tempfile.mkdtemp()) / "plan.csv"
+    >>> [p.name for p in write_csv(load(sample_path()), out)]
+    ['plan.csv', 'plan-settings.csv']
+    """
+    from fourfold.plan.evaluation import compute
+
+    result = compute(plan)
+    path = Path(path)
+    extra = settings_path(path)
+    with replacing(path, extra) as (part, extra_part):
+        _write(part, metric_rows(plan, result))
+        _write(extra_part, settings_rows(plan, result))
+    return path, extra
