@@ -65,3 +65,28 @@ def power_of(distance, s0, s1, cc, n, u, alternative, exact_t, ratio):
         for sign in _SIGNS[alternative]:
             total = total + _normal.cdf((sign * distance * x - cc / x - u * s0) / s1)
     return np.minimum(total, 1.0)
+
+
+def limit_power_and_slope(distance, s0, s1, cc, n, u, alternative, exact_t, ratio):
+    """Power and its derivative with respect to log n, in closed form.
+
+    Exact for the z-type tests; for the exact t it is the normal limit of the noncentral t
+    (see :mod:`fourfold.engine.tdist`), used for starting points and Newton slopes only.
+    """
+    x = np.sqrt(n)
+    total = np.zeros(np.broadcast(distance, n, u).shape)
+    slope = np.zeros_like(total)
+    if exact_t:
+        df = degrees_of_freedom(n, ratio)
+        scale = np.sqrt(1.0 + u * u / (2.0 * df))
+        for sign in _SIGNS[alternative]:
+            nc = sign * distance * x / s0
+            a = (nc - u * (1.0 - 0.25 / df)) / scale
+            total = total + _normal.cdf(a)
+            slope = slope + _normal.pdf(a) * 0.5 * nc / scale
+    else:
+        for sign in _SIGNS[alternative]:
+            a = (sign * distance * x - cc / x - u * s0) / s1
+            total = total + _normal.cdf(a)
+            slope = slope + _normal.pdf(a) * (sign * distance * x + cc / x) / (2.0 * s1)
+    return total, slope

@@ -27,13 +27,16 @@ ABOVE = 2
 FAILED = 3
 
 
-def _bracket(func, y0, step, y_min, y_max, grow, max_steps):
+def _bracket(func, y0, f0, y1, y_min, y_max, grow, max_steps):
+    """Grow a bracket outwards from the evaluated points ``y0`` and ``y1``."""
+    first_low = y0 <= y1
+    lo = np.where(first_low, y0, y1)
+    hi = np.where(first_low, y1, y0)
     idx_all = np.arange(y0.size)
-    lo = np.clip(y0 - step, y_min, y_max)
-    hi = np.clip(y0 + step, y_min, y_max)
-    flo = func(lo, idx_all)
-    fhi = func(hi, idx_all)
-    width = np.maximum(hi - lo, 1e-300)
+    f1 = func(y1, idx_all)
+    flo = np.where(first_low, f0, f1)
+    fhi = np.where(first_low, f1, f0)
+    width = np.maximum(hi - lo, 1e-12 * (1.0 + np.abs(lo)))
     for _ in range(max_steps):
         down = (flo > 0) & (lo > y_min)
         up = (fhi < 0) & (hi < y_max)
@@ -53,8 +56,8 @@ def _bracket(func, y0, step, y_min, y_max, grow, max_steps):
     return lo, hi, flo, fhi
 
 
-def find_root(func, y0, step, y_min, y_max, *, grow=4.0, max_steps=60, maxiter=100,
-              ftol=1e-13, ytol=1e-14, verify=1e-9):
+def find_root(func, y0, step, y_min, y_max, *, slope=None, grow=4.0, max_steps=60,
+              maxiter=100, ftol=1e-12, ytol=1e-14, verify=1e-9):
     """Root of an increasing ``func(y, idx)`` near ``y0`` within ``[y_min, y_max]``.
 
     Parameters
@@ -67,6 +70,9 @@ def find_root(func, y0, step, y_min, y_max, *, grow=4.0, max_steps=60, maxiter=1
         Half-width of the first bracket around ``y0``; it grows by ``grow`` per step.
     y_min, y_max : numpy.ndarray
         Finite limits of the search.
+    slope : numpy.ndarray, optional
+        Estimate of f'(y0); the second point is then a slightly lengthened Newton step, so
+        that the first two evaluations usually bracket the root tightly.
 
     Returns
     -------
@@ -84,16 +90,28 @@ def find_root(func, y0, step, y_min, y_max, *, grow=4.0, max_steps=60, maxiter=1
     y = np.full(y0.size, np.nan)
     start_ok = np.isfinite(y0) & np.isfinite(y_min) & np.isfinite(y_max) & (y_min < y_max)
     y0 = np.where(start_ok, y0, 0.5 * (np.nan_to_num(y_min) + np.nan_to_num(y_max)))
-    lo, hi, flo, fhi = _bracket(func, y0, step, y_min, y_max, grow, max_steps)
+    idx_all = np.arange(y0.size)
+    y0 = np.clip(y0, y_min, y_max)
+    f0 = func(y0, idx_all)
+    toward = np.where(f0 > 0, -1.0, 1.0)
+    y1 = y0 + toward * step
+    if slope is not None:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            newton = y0 - 1.001 * f0 / slope
+        usable = np.isfinite(newton) & (np.abs(newton - y0) > 0) & (slope > 0)
+        y1 = np.where(usable, newton + toward * 1e-13 * (1.0 + np.abs(y0)), y1)
+    y1 = np.clip(y1, y_min, y_max)
+    y1 = np.where(y1 == y0, np.where(y0 > y_min, y_min, y_max), y1)
+    lo, hi, flo, fhi = _bracket(func, y0, f0, y1, y_min, y_max, grow, max_steps)
     finite = start_ok & np.isfinite(flo) & np.isfinite(fhi)
     status[finite & (flo > 0)] = BELOW
     status[finite & (fhi < 0)] = ABOVE
     bracketed = finite & (flo <= 0) & (fhi >= 0)
 
-    a, fa, b, fb = lo.copy(), flo.copy(), hi.copy(), fhi.copy()
-    exact_lo = bracketed & (flo == 0)
-    b[exact_lo], fb[exact_lo] = lo[exact_lo], 0.0
-    active = bracketed & (fb != 0)
+    low_better = np.abs(flo) < np.abs(fhi)
+    a, fa = np.where(low_better, hi, lo), np.where(low_better, fhi, flo)
+    b, fb = np.where(low_better, lo, hi), np.where(low_better, flo, fhi)
+    active = bracketed & (np.abs(fb) > ftol)
     for _ in range(maxiter):
         i = np.flatnonzero(active)
         if i.size == 0:

@@ -36,13 +36,21 @@ Examples
 import numpy as np
 
 from . import _normal, roots
-from ._power import alpha_from_critical, critical, degrees_of_freedom, power_of
+from ._power import (
+    alpha_from_critical,
+    critical,
+    degrees_of_freedom,
+    limit_power_and_slope,
+    power_of,
+)
 from .checks import KIND_MODULES, prepare
 
 _TAIL_SIGN = {"greater": 1.0, "less": -1.0, "two-sided": 1.0}
 _N_MIN_Z = 1e-9
 _N_MAX = 1e18
 _ALPHA_MIN = 1e-300
+_FTOL_Z = 1e-13
+_FTOL_T = 1e-10
 
 _REASONS = {
     "sample_size": {
@@ -99,29 +107,38 @@ def _sample_size(p):
     i = np.flatnonzero(p.ok)
     if i.size == 0:
         return values, reasons
+    exact_t = p.method == "t"
+    ratio, target, alpha = p.ratio[i], p.power[i], p.alpha[i]
     d, s0, s1, cc = _moments(p, i, p.effect[i])
     main = np.abs(d) if p.alternative == "two-sided" else _TAIL_SIGN[p.alternative] * d
-    u = critical(p.alpha[i], p.alternative, False, None)
-    k = u * s0 + _normal.quantile(p.power[i]) * s1
+    u = critical(alpha, p.alternative, False, None)
+    k = u * s0 + _normal.quantile(target) * s1
     with np.errstate(invalid="ignore", divide="ignore"):
         x0 = (k + np.sqrt(k * k + 4.0 * main * cc)) / (2.0 * main)
     n0 = np.where(x0 > 0, x0 * x0, 1.0)
-    exact_t = p.method == "t"
     if exact_t:
-        n0 = n0 + u * u / (2.0 * (1.0 + p.ratio[i]))
-        n_min = np.maximum(1.0, 1.0 / p.ratio[i]) * (1.0 + 1e-12)
-        step = 0.02 / np.sqrt(n0) + 1e-7
+        n0 = n0 + u * u / (2.0 * (1.0 + ratio))
+        n_min = np.maximum(1.0, 1.0 / ratio) * (1.0 + 1e-12)
     else:
         n_min = np.full(i.size, _N_MIN_Z)
-        step = np.full(i.size, 1e-6)
-    target = p.power[i]
+    y = np.log(np.clip(n0, n_min, _N_MAX))
+    if exact_t:
+        u = critical(alpha, p.alternative, True, degrees_of_freedom(n0, ratio))
+    for _ in range(3):
+        level, slope = limit_power_and_slope(
+            d, s0, s1, cc, np.exp(y), u, p.alternative, exact_t, ratio
+        )
+        with np.errstate(invalid="ignore", divide="ignore"):
+            y_new = y - (level - target) / slope
+        y = np.where(np.isfinite(y_new), np.clip(y_new, np.log(n_min), np.log(_N_MAX)), y)
 
     def f(y, j):
         sub = i[j]
         return _power_at(p, sub, p.effect[sub], np.exp(y), p.alpha[sub]) - target[j]
 
     y, status = roots.find_root(
-        f, np.log(np.maximum(n0, n_min)), step, np.log(n_min), np.full(i.size, np.log(_N_MAX))
+        f, y, 1e-6, np.log(n_min), np.full(i.size, np.log(_N_MAX)), slope=slope,
+        ftol=_FTOL_T if exact_t else _FTOL_Z,
     )
     values[i] = np.exp(y)
     _record(p, reasons, i, status, "sample_size")
