@@ -141,17 +141,6 @@ def test_stale_when_an_input_changes_not_when_a_note_does():
     assert is_stale(stack.plan, 0)
 
 
-def test_sequential_plan_simulates_the_maximum_size_with_boundaries():
-    plan = _mean_plan()
-    plan.settings.looks = 3
-    check = check_metric(plan, 0, reps=2000, seed=4)
-    fixed = check_metric(_mean_plan(), 0, reps=100, seed=4)
-    assert check["looks"] == 3
-    assert check["n_control"] > fixed["n_control"]
-    assert check["expected_fraction"] < 1.0
-    assert check["verdict"] in ("agrees", "borderline")
-
-
 @pytest.mark.parametrize(
     ("power", "expected"),
     [(0.80, "agrees"), (0.775, "borderline"), (0.70, "below"), (0.90, "above")],

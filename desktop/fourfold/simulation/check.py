@@ -4,8 +4,8 @@ A row is simulated exactly as :func:`fourfold.plan.evaluation.compute` evaluated
 effect (given or solved) as an absolute difference, its α (corrected or solved), the plan's
 allocation ratio, and the design factor as effective units ``units_control / factor`` (the
 same variance of the difference as the closed form). With interim looks (``looks > 1``) the
-test stops at the boundaries of ``fourfold.engine.sequential.design`` built with the row's α
-and power, and the maximum size is the fixed size times the design's inflation.
+row's units are the maximum size (see :mod:`fourfold.plan.sequential`) and the test stops at
+the boundaries of the row's design (:func:`fourfold.plan.sequential.design_of_row`).
 
 The stored dict holds the :class:`~fourfold.simulation.SimulationResult` fields, the
 closed-form power it is compared with, the inputs it was run on (to tell when it has gone
@@ -19,12 +19,10 @@ from dataclasses import dataclass
 
 from fourfold.errors import FourfoldError
 from fourfold.plan.evaluation import compute
+from fourfold.plan.sequential import design_of_row
 from fourfold.simulation.intervals import wilson_interval
 from fourfold.simulation.power import simulate_power
 from fourfold.simulation.streams import SimulationCancelled
-
-FUTILITY_FAMILY = "ld-obrien-fleming"
-"""β-spending family of the futility boundary when a plan asks for one."""
 
 WIDE_LEVEL = 0.999
 """Coverage of the interval beyond which a disagreement is called firm rather than borderline."""
@@ -135,20 +133,6 @@ def _inputs(plan, index, row, n_control, looks):
     }
 
 
-def _design(plan, metric, row):
-    settings = plan.settings
-    if settings.looks <= 1:
-        return None
-    from fourfold.engine.sequential import design
-
-    try:
-        return design(settings.looks, alpha=row.alpha, power=row.power,
-                      alternative=metric.alternative, spending=settings.spending,
-                      futility=FUTILITY_FAMILY if settings.futility else None)
-    except ValueError as error:
-        raise FourfoldError(f"{metric.name}: no sequential design for this row ({error})") from None
-
-
 def _row_setup(plan, index, result):
     if not 0 <= index < len(plan.metrics):
         raise FourfoldError(f"row {index + 1} does not exist (the plan has "
@@ -160,11 +144,10 @@ def _row_setup(plan, index, result):
     values = (row.units_control, row.effect_abs, row.power, row.alpha, row.design_factor)
     if not all(math.isfinite(v) for v in values):
         raise FourfoldError(f"{metric.name}: the row has no finite units, effect, α and power")
-    looks = _design(plan, metric, row)
-    n_control = row.units_control / row.design_factor
-    if looks is not None:
-        n_control *= looks.inflation
-    return metric, row, looks, n_control
+    looks = design_of_row(plan, result, index)
+    if plan.settings.looks > 1 and looks is None:
+        raise FourfoldError(f"{metric.name}: no group sequential design for this row")
+    return metric, row, looks, row.units_control / row.design_factor
 
 
 def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect="shift",
