@@ -1,0 +1,245 @@
+"""The stopping boundaries of the selected row's interim looks, drawn with a plain QPainter.
+
+The figure shows, per look (on its calendar day, or its share of the maximum units when the
+plan has no traffic), the z value above which the test stops for efficacy, with the nominal
+p-value it corresponds to, and the futility z below which it stops for lack of effect. The
+numbers come from :func:`fourfold.plan.sequential.row_looks`; nothing is computed here.
+:func:`paint_boundaries` draws onto any painter (the widget, an image, a PDF page).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
+from PySide6.QtWidgets import QSizePolicy, QWidget
+
+from fourfold.plan.sequential import Look, row_looks
+from fourfold.ui import theme
+from fourfold.ui.formatting import MINUS
+
+Z_CAP = 6.0
+"""Highest z drawn; earlier boundaries above it are drawn at the cap with their value."""
+MAX_LABELS = 10
+
+FIXED_TEXT = ("One look: a fixed design. Set looks above 1 to plan interim analyses and see "
+              "their stopping boundaries here.")
+
+
+@dataclass(frozen=True)
+class BoundaryStyle:
+    """Colours and text size of the figure."""
+
+    foreground: QColor
+    muted: QColor
+    grid: QColor
+    efficacy: QColor
+    futility: QColor
+    points: float = 9.0
+
+
+def p_text(p: float) -> str:
+    """A nominal p-value for a label: "p < 0.0031", "p < 1.1e−06".
+
+    Examples
+    --------
+    >>> p_text(0.003123), p_text(1.08e-6), p_text(0.0374)
+    ('p < 0.0031', 'p < 1.1e−06', 'p < 0.037')
+    """
+    if p >= 1e-4:
+        digits = max(2, 1 - math.floor(math.log10(p)))
+        return f"p < {p:.{digits}f}"
+    return f"p < {p:.1e}".replace("-", MINUS)
+
+
+def _z_text(z: float) -> str:
+    return f"{z:.2f}".replace("-", MINUS)
+
+
+def _x_values(looks: tuple[Look, ...]) -> tuple[list[float], str, list[str]]:
+    if all(math.isfinite(look.day) for look in looks):
+        return ([look.day for look in looks], "Day of the look",
+                [f"{look.day:.0f}" for look in looks])
+    return ([look.fraction for look in looks], "Share of the maximum units",
+            [f"{look.fraction * 100:.0f} %" for look in looks])
+
+
+def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
+                     style: BoundaryStyle, title: str = "") -> None:
+    """Draw the boundaries of ``looks`` into ``rect``; a short text when there are none."""
+    painter.save()
+    painter.setRenderHint(QPainter.RenderHint.Antialiasing)
+    font = QFont(painter.font())
+    font.setPointSizeF(style.points)
+    painter.setFont(font)
+    metrics = painter.fontMetrics()
+    line = metrics.height()
+    painter.setPen(style.foreground)
+    if title:
+        bold = QFont(font)
+        bold.setBold(True)
+        painter.setFont(bold)
+        painter.drawText(QRectF(rect.left(), rect.top(), rect.width(), line),
+                         Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter, title)
+        painter.setFont(font)
+    if not looks:
+        painter.setPen(style.muted)
+        painter.drawText(rect.adjusted(line, 2 * line, -line, -line),
+                         Qt.AlignmentFlag.AlignCenter | Qt.TextFlag.TextWordWrap, FIXED_TEXT)
+        painter.restore()
+        return
+
+    xs, x_label, x_ticks = _x_values(looks)
+    futile = [look.z_futility for look in looks if math.isfinite(look.z_futility)]
+    z_low = min(0.0, math.floor(min(futile))) if futile else 0.0
+    z_high = min(Z_CAP, math.ceil(max(look.z_efficacy for look in looks) + 0.3))
+    labelled = set(range(len(looks) - 1, -1, -max(1, math.ceil(len(looks) / MAX_LABELS))))
+    labels = [f"z {_z_text(look.z_efficacy)}" if look.z_efficacy > z_high
+              else p_text(look.p_efficacy) for look in looks]
+    widest = max(metrics.horizontalAdvance(text) for text in labels)
+    plot = rect.adjusted(4.0 * metrics.horizontalAdvance("0") + 6, 3.4 * line,
+                         -widest - 8, -2.6 * line)
+
+    def at(x: float, z: float) -> QPointF:
+        zx = plot.left() + plot.width() * x / xs[-1]
+        zy = plot.bottom() - plot.height() * (min(z, z_high) - z_low) / (z_high - z_low)
+        return QPointF(zx, zy)
+
+    painter.setPen(QPen(style.grid, 1.0))
+    for z in range(int(z_low), int(z_high) + 1):
+        y = at(0.0, z).y()
+        painter.drawLine(QPointF(plot.left(), y), QPointF(plot.right(), y))
+        painter.setPen(style.muted)
+        painter.drawText(QRectF(rect.left(), y - line / 2, plot.left() - rect.left() - 6, line),
+                         Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter,
+                         str(z).replace("-", MINUS))
+        painter.setPen(QPen(style.grid, 1.0))
+
+    efficacy = [at(x, look.z_efficacy) for x, look in zip(xs, looks, strict=True)]
+    region = QPainterPath()
+    region.moveTo(QPointF(efficacy[0].x(), plot.top()))
+    for point in efficacy:
+        region.lineTo(point)
+    region.lineTo(QPointF(plot.right(), plot.top()))
+    region.closeSubpath()
+    shade = QColor(style.efficacy)
+    shade.setAlphaF(0.12)
+    painter.fillPath(region, shade)
+    if futile:
+        floor = [at(x, look.z_futility) for x, look in zip(xs, looks, strict=True)]
+        region = QPainterPath()
+        region.moveTo(QPointF(floor[0].x(), plot.bottom()))
+        for point in floor:
+            region.lineTo(point)
+        region.lineTo(QPointF(plot.right(), plot.bottom()))
+        region.closeSubpath()
+        shade = QColor(style.futility)
+        shade.setAlphaF(0.14)
+        painter.fillPath(region, shade)
+        _curve(painter, floor, style.futility, Qt.PenStyle.DashLine)
+
+    _curve(painter, efficacy, style.efficacy, Qt.PenStyle.SolidLine)
+    painter.setPen(style.foreground)
+    for k in sorted(labelled):
+        point = efficacy[k]
+        box = QRectF(point.x() + 5, point.y() - line - 2, widest + 4, line)
+        painter.drawText(box, Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
+                         labels[k])
+
+    painter.setPen(QPen(style.foreground, 1.0))
+    painter.drawLine(plot.bottomLeft(), plot.bottomRight())
+    painter.drawLine(plot.bottomLeft(), plot.topLeft())
+    painter.setPen(style.muted)
+    for k in sorted(labelled):
+        px, tick = at(xs[k], z_low).x(), x_ticks[k]
+        painter.drawText(QRectF(px - 40, plot.bottom() + 2, 80, line),
+                         Qt.AlignmentFlag.AlignCenter, tick)
+    painter.drawText(QRectF(plot.left(), plot.bottom() + 1.2 * line, plot.width(), line),
+                     Qt.AlignmentFlag.AlignCenter, x_label)
+    _legend(painter, QRectF(plot.left(), rect.top() + 1.2 * line, plot.width(), line), style,
+            bool(futile))
+    painter.restore()
+
+
+def _curve(painter: QPainter, points: list[QPointF], colour: QColor, dash) -> None:
+    pen = QPen(colour, 2.0)
+    pen.setStyle(dash)
+    painter.setPen(pen)
+    painter.drawPolyline(QPolygonF(points))
+    painter.setPen(QPen(colour, 1.0))
+    painter.setBrush(colour)
+    for point in points:
+        painter.drawEllipse(point, 3.0, 3.0)
+    painter.setBrush(Qt.BrushStyle.NoBrush)
+
+
+def _legend(painter: QPainter, band: QRectF, style: BoundaryStyle, futility: bool) -> None:
+    """Legend items in a line under the title."""
+    metrics = painter.fontMetrics()
+    items = [(style.efficacy, "Stop for efficacy above (z, nominal p)")]
+    if futility:
+        items.append((style.futility, "Stop for futility below"))
+    x = band.left()
+    middle = band.center().y()
+    for colour, text in items:
+        painter.fillRect(QRectF(x, middle - 4, 14, 8), colour)
+        painter.setPen(style.foreground)
+        painter.drawText(QPointF(x + 18, middle + metrics.ascent() / 2 - 1), text)
+        x += 30 + metrics.horizontalAdvance(text)
+
+
+def screen_style(widget: QWidget) -> BoundaryStyle:
+    """The figure's style from a widget's palette and the current scheme's tints."""
+    palette = widget.palette()
+    tint = theme.tints()
+    grid = QColor(palette.mid().color())
+    return BoundaryStyle(palette.windowText().color(), tint.muted, grid, tint.accent,
+                         tint.binding, max(7.0, widget.font().pointSizeF()))
+
+
+class BoundariesView(QWidget):
+    """The boundaries figure of one row; :meth:`show_row` updates it after each recompute."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.looks: tuple[Look, ...] = ()
+        self.title = ""
+        self.two_sided = True
+        self.setMinimumSize(280, 180)
+        self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Expanding)
+
+    def show_row(self, plan, result, index: int | None) -> None:
+        """Show the looks of row ``index`` of an evaluated plan (nothing for ``None``)."""
+        if result is None or index is None or not 0 <= index < len(result.rows):
+            self.looks, self.title = (), ""
+        else:
+            self.looks = row_looks(plan, result, index)
+            self.title = f"Stopping boundaries — {plan.metrics[index].name}"
+            self.two_sided = plan.metrics[index].alternative == "two-sided"
+        self.setToolTip(looks_text(self.looks, self.two_sided))
+        self.update()
+
+    def paintEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        painter = QPainter(self)
+        paint_boundaries(painter, QRectF(self.rect()).adjusted(8, 6, -8, -6), self.looks,
+                         screen_style(self), self.title)
+        painter.end()
+
+
+def looks_text(looks: tuple[Look, ...], two_sided: bool) -> str:
+    """The looks as lines of plain text (the widget's tooltip).
+
+    z is oriented in the direction of the planned effect; two-sided looks stop on |z|.
+    """
+    statistic = "|z|" if two_sided else "z"
+    lines = []
+    for look in looks:
+        when = f"day {look.day:.0f}" if math.isfinite(look.day) else f"{look.fraction:.0%}"
+        text = (f"Look {look.look} ({when}): stop if {statistic} ≥ {_z_text(look.z_efficacy)} "
+                f"({p_text(look.p_efficacy)})")
+        if math.isfinite(look.z_futility):
+            text += f", or z < {_z_text(look.z_futility)}"
+        lines.append(text)
+    return "\n".join(lines)
