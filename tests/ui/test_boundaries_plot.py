@@ -1,0 +1,100 @@
+"""The boundaries figure: it shows what the plan computes, for one row, and paints anywhere.
+
+Reference values: the Pocock constant C_P(3, 0.05) = 2.289, Jennison & Turnbull (2000)
+Table 2.1 — from memory.
+"""
+
+from __future__ import annotations
+
+import pytest
+from PySide6.QtCore import QRectF
+from PySide6.QtGui import QColor, QImage, QPainter
+
+from fourfold.plan.evaluation import compute
+from fourfold.plan.model import Metric, Plan, Settings
+from fourfold.plan.sequential import row_looks
+from fourfold.ui.boundaries_plot import (
+    FIXED_TEXT,
+    BoundariesView,
+    BoundaryStyle,
+    looks_text,
+    paint_boundaries,
+)
+
+pytestmark = pytest.mark.qt
+
+
+def _plan(**settings) -> Plan:
+    metric = Metric(name="Checkout conversion", role="primary", kind="proportion",
+                    baseline=0.031, effect=0.05, relative=True)
+    return Plan(Settings(daily_units=20_000, **settings), [metric])
+
+
+def _ink(image: QImage, colour: QColor) -> int:
+    """Pixels close to ``colour`` (the curve and its markers)."""
+    count = 0
+    for y in range(0, image.height(), 2):
+        for x in range(0, image.width(), 2):
+            pixel = image.pixelColor(x, y)
+            if (abs(pixel.red() - colour.red()) + abs(pixel.green() - colour.green())
+                    + abs(pixel.blue() - colour.blue())) < 30:
+                count += 1
+    return count
+
+
+def test_fixed_design_shows_a_hint(qtbot):
+    view = BoundariesView()
+    qtbot.addWidget(view)
+    plan = _plan()
+    view.show_row(plan, compute(plan), 0)
+    assert view.looks == ()
+    assert view.toolTip() == ""
+    assert FIXED_TEXT.startswith("One look")
+
+
+def test_three_pocock_looks_in_the_tooltip(qtbot):
+    view = BoundariesView()
+    qtbot.addWidget(view)
+    plan = _plan(looks=3, spending="pocock")
+    view.show_row(plan, compute(plan), 0)
+    lines = view.toolTip().splitlines()
+    assert len(lines) == 3
+    assert all("|z| ≥ 2.29" in line for line in lines)  # C_P(3, 0.05) = 2.289, J&T Table 2.1
+    assert view.looks[-1].day == compute(plan).rows[0].days
+
+
+def test_futility_appears_in_words_and_one_sided_uses_z():
+    plan = _plan(looks=4, futility=True)
+    plan.metrics[0].alternative = "greater"
+    text = looks_text(row_looks(plan, compute(plan), 0), two_sided=False)
+    assert text.count("or z <") == 4
+    assert "|z|" not in text
+
+
+def test_paint_draws_the_curves(qtbot):
+    plan = _plan(looks=5, futility=True)
+    looks = row_looks(plan, compute(plan), 0)
+    style = BoundaryStyle(QColor("#000000"), QColor("#777777"), QColor("#dddddd"),
+                          QColor("#0000ff"), QColor("#ff0000"))
+    drawn = {}
+    for name, content in (("empty", ()), ("looks", looks)):
+        image = QImage(600, 300, QImage.Format.Format_RGB32)
+        image.fill(QColor("#ffffff"))
+        painter = QPainter(image)
+        paint_boundaries(painter, QRectF(0, 0, 600, 300), content, style, "Boundaries")
+        painter.end()
+        drawn[name] = (_ink(image, style.efficacy), _ink(image, style.futility))
+    assert drawn["empty"] == (0, 0)
+    assert drawn["looks"][0] > 50 and drawn["looks"][1] > 50
+
+
+def test_widget_renders_offscreen(qtbot):
+    view = BoundariesView()
+    qtbot.addWidget(view)
+    view.resize(500, 260)
+    plan = _plan(looks=6)
+    view.show_row(plan, compute(plan), 0)
+    image = view.grab().toImage()
+    assert image.width() == 500
+    view.show_row(plan, None, None)
+    assert view.looks == ()
