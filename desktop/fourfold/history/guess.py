@@ -1,0 +1,84 @@
+"""A first column mapping guessed from the top of a history file (the dialog's starting point).
+
+The guess only looks at the first rows and is meant to be corrected by the user: a column of
+only 0/1 or true/false is a proportion, a column of non-negative whole numbers a count, any
+other numeric column a mean, and a column called ``pre_X`` (or ``X_pre``) is the pre-period
+column of ``X``. Text columns (identifiers) are left out; ratios are never guessed.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import numpy as np
+
+from fourfold.history.errors import HistoryError
+from fourfold.history.reader import iter_chunks, numbers, read_columns
+from fourfold.history.summary import ColumnMap
+
+SAMPLE_ROWS = 2000
+
+
+def _kind(values: np.ndarray) -> str:
+    present = values[~np.isnan(values)]
+    if present.size and np.isin(present, (0.0, 1.0)).all():
+        return "proportion"
+    if present.size and (present >= 0).all() and (present == np.floor(present)).all():
+        return "count"
+    return "mean"
+
+
+def _pre_of(name: str, header: set[str]) -> str | None:
+    lowered = name.lower()
+    for prefix in ("pre_", "pre-", "pre "):
+        if lowered.startswith(prefix) and name[len(prefix):] in header:
+            return name[len(prefix):]
+    for suffix in ("_pre", "-pre", " pre"):
+        if lowered.endswith(suffix) and name[: -len(suffix)] in header:
+            return name[: -len(suffix)]
+    return None
+
+
+def guess_mapping(path: str | os.PathLike) -> tuple[list[str], list[ColumnMap]]:
+    """The file's columns and a guessed mapping of its numeric columns.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> text = "id,bought,spend,pre_spend,visits\\nu1,0,1.5,2.0,3\\nu2,1,0.0,1.0,1\\n"
+    >>> _ = (folder / "h.csv").write_text(text)
+    >>> columns, mapping = guess_mapping(folder / "h.csv")
+    >>> [(m.kind, m.column, m.pre) for m in mapping]
+    [('proportion', 'bought', None), ('mean', 'spend', 'pre_spend'), ('count', 'visits', None)]
+    """
+    path = Path(path)
+    header = read_columns(path)
+    chunk = next(iter_chunks(path, header, SAMPLE_ROWS), None)
+    if chunk is None:
+        raise HistoryError(f"{path.name}: the file has a header line but no rows")
+    kinds: dict[str, str] = {}
+    for column in header:
+        try:
+            values = numbers(chunk.columns[column], column, proportion=True, path=path, start=0)
+            kinds[column] = "proportion"
+        except HistoryError:
+            try:
+                values = numbers(chunk.columns[column], column, proportion=False, path=path,
+                                 start=0)
+            except HistoryError:
+                continue
+            kinds[column] = _kind(values)
+    known = set(kinds)
+    pre = {}
+    for column in kinds:
+        target = _pre_of(column, known)
+        if target is not None:
+            pre[target] = column
+    mapping = []
+    for column, kind in kinds.items():
+        if column in pre.values():
+            continue
+        mapping.append(ColumnMap(kind, column, pre=pre.get(column)))
+    return header, mapping
