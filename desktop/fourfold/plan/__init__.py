@@ -4,6 +4,7 @@ Qt-free (the window and the exports build on it); pandas is imported only by
 :func:`evaluate`.
 """
 
+from fourfold.plan.evaluation import PlanResult, RowResult, compute, evaluate
 from fourfold.plan.fields import (
     CHOICES,
     METRIC_FIELDS,
@@ -23,8 +24,12 @@ __all__ = [
     "Metric",
     "Plan",
     "PlanError",
+    "PlanResult",
+    "RowResult",
     "Settings",
+    "compute",
     "dumps",
+    "evaluate",
     "load",
     "loads",
     "sample_path",

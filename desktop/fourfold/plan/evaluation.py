@@ -1,0 +1,369 @@
+"""Evaluate a plan: every metric row through the engine, then the plan's duration.
+
+:func:`compute` is what the window calls on every edit (numpy only); :func:`evaluate` is the
+same computation as a :class:`pandas.DataFrame` for exports and notebooks.
+
+Semantics
+---------
+α and power
+    A row's ``alpha`` / ``power`` override the plan's; otherwise the plan's apply. When the
+    plan's ``correction`` is not ``"none"``, primary rows test at
+    ``adjusted_alpha(α, arms × number of primary rows, correction)`` and secondary and guardrail
+    rows at ``adjusted_alpha(α, arms, correction)`` (each row is compared once per treatment
+    arm). Rows solving for the significance level report the α they achieve, uncorrected.
+Design factor
+    ``variance_factor(rho, cluster_size, icc, cluster_cv)`` multiplies the units a row needs;
+    rows that start from a number of units use ``n / factor`` effective units.
+Units from a runtime
+    With ``settings.runtime_days`` set, every row gets the control units the runtime provides,
+    ``runtime_days × daily_units × share / (1 + arms × ratio)``, and rows that would solve for
+    sample size solve for the detectable effect instead. Without a runtime, rows that solve for
+    detectable effect, power or α use their own ``n``.
+Rounding
+    Unit counts are rounded up to whole units: control ``ceil(n)``, each treatment arm
+    ``ceil(ratio × control)``, total ``control + arms × treatment``; days come from
+    :func:`fourfold.engine.duration_days` on that total (``nan`` without ``daily_units``).
+Binding metric
+    Among primary and guardrail rows that solve for sample size and can be computed, the one
+    needing the most days (then the most units) binds: it sets the plan's ``duration_days`` and
+    ``total_units``. Secondary rows are informational. In runtime mode nothing binds; the
+    duration is the runtime and the total is the traffic it brings.
+Problems
+    A row that cannot be computed gets ``nan`` results and the engine's reason
+    (:func:`fourfold.engine.problems`) in ``reason``; :func:`compute` does not raise for a plan
+    whose fields are valid.
+
+References
+----------
+Kohavi, R., Tang, D. & Xu, Y. (2020). *Trustworthy Online Controlled Experiments*. Cambridge
+University Press (ch. 15 and 17: power, multiple metrics, guardrails).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from fourfold import engine
+from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS
+from fourfold.plan.model import Metric, Plan, Settings
+
+if TYPE_CHECKING:
+    import pandas
+
+DECIDING_ROLES = ("primary", "guardrail")
+
+
+@dataclass(frozen=True)
+class RowResult:
+    """The evaluation of one metric row (``nan`` where it cannot be computed).
+
+    Attributes
+    ----------
+    units_control, units_treatment, units_total : float
+        Whole units: the control arm, each treatment arm, all arms together.
+    days : float
+        Days of traffic for ``units_total`` (``nan`` without daily units).
+    effect_abs, effect_rel : float
+        The effect (given or solved) as a difference and as a fraction of the baseline.
+    power, alpha : float
+        Power and significance level of the row (given, corrected or solved).
+    reason : str
+        Why the row cannot be computed; ``""`` when it can.
+    solved : str
+        The quantity computed: ``"sample_size"``, ``"detectable_effect"``, ``"power"`` or
+        ``"significance_level"``.
+    design_factor : float
+        The variance factor applied to the row's units.
+    units_max, units_expected_h1, days_expected_h1 : float
+        With interim looks: the maximum total units, the expected total units and days when the
+        effect is real. Equal to ``units_total`` / ``days`` for a fixed design.
+    look_days : tuple of float or None
+        Day of each interim look; ``None`` for a fixed design.
+    """
+
+    units_control: float
+    units_treatment: float
+    units_total: float
+    days: float
+    effect_abs: float
+    effect_rel: float
+    power: float
+    alpha: float
+    reason: str
+    solved: str
+    design_factor: float
+    units_max: float
+    units_expected_h1: float
+    days_expected_h1: float
+    look_days: tuple[float, ...] | None
+
+
+@dataclass(frozen=True)
+class PlanResult:
+    """The evaluation of a plan.
+
+    Attributes
+    ----------
+    rows : tuple of RowResult
+        One per metric row, in the plan's order.
+    duration_days : float or None
+        Days the test runs (the binding row's, or the runtime); ``None`` when nothing decides.
+    total_units : float or None
+        Units the test needs over all arms (the binding row's, or the runtime's traffic).
+    binding_index : int or None
+        Index of the binding metric row.
+    binding_name : str or None
+        Its name.
+    notes : tuple of str
+        Plain-language remarks on how the plan was evaluated.
+    """
+
+    rows: tuple[RowResult, ...]
+    duration_days: float | None
+    total_units: float | None
+    binding_index: int | None
+    binding_name: str | None
+    notes: tuple[str, ...]
+
+
+def _ceil(value: float) -> float:
+    """Round up to a whole number, forgiving floating-point dust just above an integer."""
+    if not math.isfinite(value):
+        return math.nan
+    return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
+
+
+def _row_alpha(plan: Plan, metric: Metric) -> float:
+    settings = plan.settings
+    alpha = settings.alpha if metric.alpha is None else metric.alpha
+    if settings.correction == "none":
+        return alpha
+    primaries = sum(1 for row in plan.metrics if row.role == "primary")
+    comparisons = settings.arms * (primaries if metric.role == "primary" else 1)
+    return float(engine.adjusted_alpha(alpha, comparisons, settings.correction))
+
+
+def runtime_units(settings: Settings) -> float | None:
+    """Control-arm units a fixed runtime provides, or ``None`` without runtime or traffic.
+
+    Examples
+    --------
+    >>> runtime_units(Settings(runtime_days=14, daily_units=30_000, share=0.5, arms=2))
+    70000.0
+    """
+    if settings.runtime_days is None or settings.daily_units is None:
+        return None
+    return (settings.runtime_days * settings.daily_units * settings.share
+            / (1.0 + settings.arms * settings.ratio))
+
+
+def _failed(solved: str, factor: float, alpha: float, power: float, reason: str) -> RowResult:
+    nan = math.nan
+    return RowResult(nan, nan, nan, nan, nan, nan, power, alpha, reason, solved, factor,
+                     nan, nan, nan, None)
+
+
+def _scalar(value: Any) -> float:
+    return float(np.asarray(value, dtype=float))
+
+
+def _evaluate_row(plan: Plan, metric: Metric) -> RowResult:
+    settings = plan.settings
+    runtime = settings.runtime_days is not None
+    solved = "detectable_effect" if runtime and metric.solve == "sample_size" else metric.solve
+    alpha = _row_alpha(plan, metric)
+    power = settings.power if metric.power is None else metric.power
+    factor = float(engine.variance_factor(metric.rho, metric.cluster_size, metric.icc,
+                                          metric.cluster_cv))
+    shown_alpha = math.nan if solved == "significance_level" else alpha
+    shown_power = math.nan if solved == "power" else power
+
+    n_control = None
+    if solved != "sample_size":
+        n_control = runtime_units(settings) if runtime else metric.n
+        if n_control is None:
+            why = ("a fixed runtime needs the plan's daily units" if runtime else
+                   "needs n (control units) or a plan runtime to solve for "
+                   + solved.replace("_", " "))
+            return _failed(solved, factor, shown_alpha, shown_power, why)
+    n_effective = None if n_control is None else n_control / factor
+
+    common = dict(sd=metric.sd, alternative=metric.alternative, ratio=settings.ratio,
+                  relative=metric.relative, margin=metric.margin, method=metric.method)
+    needs_effect = solved != "detectable_effect"
+    if needs_effect and metric.effect is None:
+        return _failed(solved, factor, shown_alpha, shown_power,
+                       "needs an effect to solve for " + solved.replace("_", " "))
+    reason = str(np.asarray(engine.problems(
+        solved, metric.kind, metric.baseline,
+        effect=metric.effect if needs_effect else None, n=n_effective,
+        alpha=alpha, power=power, **common,
+    )).item())
+    if reason:
+        return _failed(solved, factor, shown_alpha, shown_power, reason)
+
+    effect = metric.effect
+    try:
+        if solved == "sample_size":
+            n_control = _scalar(engine.sample_size(metric.kind, metric.baseline, effect,
+                                                   alpha=alpha, power=power, **common)) * factor
+        elif solved == "detectable_effect":
+            effect = _scalar(engine.detectable_effect(metric.kind, metric.baseline, n_effective,
+                                                      alpha=alpha, power=power, **common))
+        elif solved == "power":
+            power = _scalar(engine.power(metric.kind, metric.baseline, effect, n_effective,
+                                         alpha=alpha, **common))
+        else:
+            alpha = _scalar(engine.significance_level(metric.kind, metric.baseline, effect,
+                                                      n_effective, power=power, **common))
+    except ValueError as error:
+        return _failed(solved, factor, shown_alpha, shown_power, str(error))
+    if not all(math.isfinite(value) for value in (n_control, effect, power, alpha)):
+        return _failed(solved, factor, shown_alpha, shown_power,
+                       f"the engine found no finite {solved.replace('_', ' ')} for this row")
+
+    if metric.relative:
+        effect_abs, effect_rel = effect * metric.baseline, effect
+    else:
+        effect_abs = effect
+        effect_rel = effect / metric.baseline if metric.baseline != 0 else math.nan
+    units_control = _ceil(n_control)
+    units_treatment = _ceil(settings.ratio * units_control)
+    units_total = units_control + settings.arms * units_treatment
+    if runtime:
+        days = float(settings.runtime_days)
+    elif settings.daily_units is None:
+        days = math.nan
+    else:
+        days = float(engine.duration_days(units_total, settings.daily_units, settings.share,
+                                          settings.whole_weeks))
+    return RowResult(units_control, units_treatment, units_total, days, float(effect_abs),
+                     float(effect_rel), power, alpha, "", solved, factor,
+                     *_sequential_fields(settings, units_total, days))
+
+
+def _sequential_fields(settings: Settings, units_total: float,
+                       days: float) -> tuple[float, float, float, tuple[float, ...] | None]:
+    """``(units_max, units_expected_h1, days_expected_h1, look_days)`` of a computed row.
+
+    The one place where interim looks enter the evaluation; a fixed design gives the fixed
+    total and days and no look days.
+    """
+    return units_total, units_total, days, None
+
+
+def compute(plan: Plan) -> PlanResult:
+    """Evaluate every metric row of a plan and the plan's duration.
+
+    Parameters
+    ----------
+    plan : Plan
+        A plan whose fields are valid (as loaded or edited through the command stack).
+
+    Returns
+    -------
+    PlanResult
+        See the module documentation for the rules (α correction, design factor, runtime,
+        rounding, binding metric).
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan, Settings
+    >>> plan = Plan(Settings(daily_units=10_000, whole_weeks=False),
+    ...             [Metric(name="Spend", role="primary", kind="mean", baseline=10.0, sd=5.0,
+    ...                     effect=0.5, relative=False)])
+    >>> result = compute(plan)
+    >>> result.rows[0].units_control, result.binding_name
+    (1570.0, 'Spend')
+    """
+    rows = tuple(_evaluate_row(plan, metric) for metric in plan.metrics)
+    return _summarise(plan, rows)
+
+
+def _summarise(plan: Plan, rows: tuple[RowResult, ...]) -> PlanResult:
+    settings = plan.settings
+    notes = []
+    if settings.correction != "none":
+        primaries = sum(1 for metric in plan.metrics if metric.role == "primary")
+        notes.append(
+            f"α corrected ({settings.correction}): primary rows for {settings.arms} arm(s) × "
+            f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
+        )
+    for metric, row in zip(plan.metrics, rows, strict=True):
+        if row.reason:
+            notes.append(f"{metric.name}: not computed — {row.reason}.")
+
+    if settings.runtime_days is not None:
+        units = runtime_units(settings)
+        if any(metric.solve == "sample_size" for metric in plan.metrics):
+            notes.append(f"Fixed runtime of {settings.runtime_days:g} days: rows that solve for "
+                         "sample size show the effect they can detect instead.")
+        total = None if units is None else units * (1.0 + settings.arms * settings.ratio)
+        return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
+
+    deciding = [
+        index for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True))
+        if metric.role in DECIDING_ROLES and row.solved == "sample_size" and not row.reason
+    ]
+    if not deciding:
+        notes.append("No primary or guardrail row solves for sample size: nothing sets the "
+                     "duration.")
+        return PlanResult(rows, None, None, None, None, tuple(notes))
+
+    def need(index: int) -> tuple[float, float]:
+        days = rows[index].days
+        return (0.0 if math.isnan(days) else days, rows[index].units_total)
+
+    binding = max(deciding, key=need)
+    name = plan.metrics[binding].name
+    notes.append(f"{name} needs the most traffic among primary and guardrail rows and sets "
+                 "the duration; secondary rows are informational.")
+    duration = rows[binding].days
+    return PlanResult(rows, None if math.isnan(duration) else duration,
+                      rows[binding].units_total, binding, name, tuple(notes))
+
+
+def evaluate(plan: Plan) -> pandas.DataFrame:
+    """:func:`compute` as a table: one row per metric with every input and result.
+
+    Inputs keep their field names, except the row overrides of α and power, which are
+    ``alpha_override`` and ``power_override``; ``alpha`` and ``power`` are the values the row
+    was evaluated at (or solved). The plan-level results and the settings are in ``df.attrs``
+    (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``, ``notes``,
+    ``settings``).
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Plan
+    >>> frame = evaluate(Plan.empty())
+    >>> list(frame["role"]), frame.attrs["binding_name"]
+    (['primary'], 'Primary metric')
+    """
+    import pandas
+
+    result = compute(plan)
+    renamed = {"alpha": "alpha_override", "power": "power_override"}
+    records = []
+    for index, (metric, row) in enumerate(zip(plan.metrics, result.rows, strict=True)):
+        record = {renamed.get(name, name): getattr(metric, name)
+                  for name in METRIC_FIELDS if name != "simulation"}
+        record.update(dataclasses.asdict(row))
+        record["binding"] = index == result.binding_index
+        records.append(record)
+    columns = [renamed.get(name, name) for name in METRIC_FIELDS if name != "simulation"]
+    columns += [field.name for field in dataclasses.fields(RowResult)] + ["binding"]
+    frame = pandas.DataFrame.from_records(records, columns=columns)
+    frame.attrs.update(
+        duration_days=result.duration_days,
+        total_units=result.total_units,
+        binding_index=result.binding_index,
+        binding_name=result.binding_name,
+        notes=list(result.notes),
+        settings={name: getattr(plan.settings, name) for name in SETTINGS_FIELDS},
+    )
+    return frame
