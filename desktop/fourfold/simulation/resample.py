@@ -27,10 +27,10 @@ from fourfold.simulation.models import accumulate, segment_sizes
 DIRECT_MAX = 5_000
 """Largest arm resampled value by value."""
 
-MAX_BINS = 4_096
+MAX_BINS = 1_024
 """Most bins over the history."""
 
-TAIL = 256
+TAIL = 128
 """Values at each end of the sorted history that keep a bin of their own."""
 
 
