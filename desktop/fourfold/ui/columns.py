@@ -51,6 +51,11 @@ class Column:
     width: int = 9
 
     @property
+    def label(self) -> str:
+        """The header on one line, for messages."""
+        return self.header.replace("\n", " ")
+
+    @property
     def computed(self) -> bool:
         """Whether the column shows a result (read-only)."""
         return self.group == OUTPUT
@@ -58,67 +63,65 @@ class Column:
 
 COLUMNS: tuple[Column, ...] = (
     Column("name", "Metric", "What the row measures, as the team calls it.", editor=TEXT,
-           width=22),
+           width=14),
     Column("role", "Role", "Primary: the metric the decision rests on. Secondary: also "
-           "reported. Guardrail: must not get worse.", editor=CHOICE, width=10),
+           "reported. Guardrail: must not get worse.", editor=CHOICE, width=8),
     Column("kind", "Kind", "Mean (a per-unit average), proportion (a share of units that do "
            "something) or rate (a count per unit, such as contacts per visitor).", editor=CHOICE,
-           width=10),
-    Column("method", "Method", "The test statistic used for this kind. Empty: the usual one "
-           "for the kind.", editor=CHOICE, width=9),
+           width=9),
     Column("baseline", "Baseline", "The control arm's expected value: a mean, a proportion "
-           "(typed in percent, e.g. 3.1) or a mean count per unit.", width=9),
+           "(typed in percent, e.g. 3.1) or a mean count per unit.", width=7),
     Column("sd", "SD", "Standard deviation of one unit's value, from history. Required for "
            "means; for rates, empty means the count's variance equals its mean.", optional=True,
-           width=8),
+           width=6),
     Column("effect", "Effect", "The smallest change worth detecting (treatment minus control). "
            "In percent of the baseline when 'Relative' is ticked; in percentage points for an "
-           "absolute change of a proportion.", optional=True, width=9),
+           "absolute change of a proportion.", optional=True, width=7),
     Column("relative", "Relative", "Effect and margin are fractions of the baseline (a lift) "
-           "rather than differences in the metric's own unit.", editor=CHECK, width=7),
+           "rather than differences in the metric's own unit.", editor=CHECK, width=5),
     Column("alternative", "Direction", "Two-sided: a change either way counts. Greater / less: "
-           "only an increase / a decrease is tested for (one-sided).", editor=CHOICE, width=10),
+           "only an increase / a decrease is tested for (one-sided).", editor=CHOICE, width=9),
     Column("margin", "Margin", "The difference assumed under the null hypothesis. Zero for an "
            "ordinary test; a negative margin with 'greater' tests that the treatment is not "
-           "worse by more than it (non-inferiority).", width=8),
-    Column("alpha", "α", "This row's significance level; empty uses the plan's default "
-           "(before any correction for several comparisons).", optional=True, width=6),
-    Column("power", "Power", "This row's power, the chance of detecting the effect if it is "
-           "real; empty uses the plan's default.", optional=True, width=6),
-    Column("rho", "ρ (CUPED)", "Correlation of the metric with its pre-experiment value. "
-           "Variance reduction by CUPED multiplies the variance by 1 − ρ².", width=8),
-    Column("cluster_size", "Cluster size", "Mean number of units per randomised cluster; 1 "
-           "when each unit is randomised on its own.", width=8),
-    Column("icc", "ICC", "Intra-cluster correlation: how alike units of one cluster are.",
-           width=6),
-    Column("cluster_cv", "Cluster CV", "Coefficient of variation of cluster sizes (0 when all "
-           "clusters are the same size).", width=7),
-    Column("solve", "Solve for", "Which quantity this row computes from the others: sample "
+           "worse by more than it (non-inferiority).", width=7),
+    Column("solve", "Solve\nfor", "Which quantity this row computes from the others: sample "
            "size, detectable effect, power or α.", editor=CHOICE, width=12),
-    Column("n", "n (control)", "Control-arm units, for rows that solve for effect, power or α "
-           "when the plan has no fixed runtime.", optional=True, width=9),
-    Column("notes", "Notes", "Free text: where the numbers come from.", editor=TEXT, width=18),
-    Column("units_control", "Control units", "Units the control arm needs (or has), rounded up "
-           "to whole units.", group=OUTPUT, width=10),
-    Column("units_treatment", "Units / treatment", "Units each treatment arm needs: the "
-           "control's units times the allocation ratio.", group=OUTPUT, width=11),
-    Column("units_total", "Total units", "Units of all arms together.", group=OUTPUT, width=10),
+    Column("units_control", "Control\nunits", "Units the control arm needs (or has), rounded up "
+           "to whole units.", group=OUTPUT, width=8),
+    Column("units_treatment", "Units per\ntreatment", "Units each treatment arm needs: the "
+           "control's units times the allocation ratio.", group=OUTPUT, width=8),
+    Column("units_total", "Total\nunits", "Units of all arms together.", group=OUTPUT, width=9),
     Column("days", "Days", "Days of traffic the row needs at the plan's daily eligible units and "
-           "share of traffic.", group=OUTPUT, width=6),
-    Column("detectable", "Detectable effect", "The smallest effect this row can detect with its "
-           "units, α and power (in the row's own unit, like 'Effect').", group=OUTPUT, width=11),
-    Column("power_out", "Power reached", "The power this row reaches with its units and "
-           "effect.", group=OUTPUT, width=8),
-    Column("alpha_out", "α used", "The significance level the row is tested at, after the "
-           "plan's correction for several comparisons.", group=OUTPUT, width=8),
+           "share of traffic.", group=OUTPUT, width=4),
+    Column("detectable", "Detectable\neffect", "The smallest effect this row can detect with its "
+           "units, α and power (in the row's own unit, like 'Effect').", group=OUTPUT, width=8),
+    Column("power_out", "Power\nreached", "The power this row reaches with its units and "
+           "effect.", group=OUTPUT, width=6),
+    Column("alpha_out", "α\nused", "The significance level the row is tested at, after the "
+           "plan's correction for several comparisons.", group=OUTPUT, width=6),
+    Column("method", "Method", "The test statistic used for this kind. Empty: the usual one "
+           "for the kind.", editor=CHOICE, width=7),
+    Column("alpha", "α", "This row's significance level; empty uses the plan's default "
+           "(before any correction for several comparisons).", optional=True, width=5),
+    Column("power", "Power", "This row's power, the chance of detecting the effect if it is "
+           "real; empty uses the plan's default.", optional=True, width=5),
+    Column("rho", "ρ\n(CUPED)", "Correlation of the metric with its pre-experiment value. "
+           "Variance reduction by CUPED multiplies the variance by 1 − ρ².", width=5),
+    Column("cluster_size", "Cluster\nsize", "Mean number of units per randomised cluster; 1 "
+           "when each unit is randomised on its own.", width=5),
+    Column("icc", "ICC", "Intra-cluster correlation: how alike units of one cluster are.",
+           width=4),
+    Column("cluster_cv", "Cluster\nCV", "Coefficient of variation of cluster sizes (0 when all "
+           "clusters are the same size).", width=5),
+    Column("n", "n\n(control)", "Control-arm units, for rows that solve for effect, power or α "
+           "when the plan has no fixed runtime.", optional=True, width=7),
+    Column("notes", "Notes", "Free text: where the numbers come from.", editor=TEXT, width=20),
 )
 
 KEYS: tuple[str, ...] = tuple(column.key for column in COLUMNS)
-INPUT_KEYS: tuple[str, ...] = tuple(c.key for c in COLUMNS if not c.computed)
-FIRST_OUTPUT: int = next(i for i, c in enumerate(COLUMNS) if c.computed)
 
 SOLVED_COLUMN: dict[str, tuple[str, ...]] = {
-    "sample_size": ("units_control", "units_treatment", "units_total", "days"),
+    "sample_size": ("units_control",),
     "detectable_effect": ("detectable",),
     "power": ("power_out",),
     "significance_level": ("alpha_out",),

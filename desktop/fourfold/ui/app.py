@@ -1,0 +1,111 @@
+"""Start the window (``fourfold [PLAN]``) or render it offscreen to a PNG (``fourfold shot``)."""
+
+from __future__ import annotations
+
+import os
+import pathlib
+import sys
+import tempfile
+
+from PySide6.QtCore import QCoreApplication, QSettings
+from PySide6.QtWidgets import QApplication
+
+from fourfold.errors import FourfoldError
+from fourfold.plan import load, sample_path
+from fourfold.ui import theme
+
+APP_NAME = "Fourfold"
+ORGANISATION = "Fourfold"
+
+
+def application() -> QApplication:
+    """The one QApplication, created with Fourfold's names, style and palette."""
+    QCoreApplication.setApplicationName(APP_NAME)
+    QCoreApplication.setOrganizationName(ORGANISATION)
+    app = QApplication.instance()
+    if app is None:
+        app = QApplication(sys.argv[:1])
+        app.setApplicationDisplayName(APP_NAME)
+    theme.apply(app)
+    app.setWindowIcon(theme.app_icon())
+    return app
+
+
+def _load(plan_path: str | None):
+    path = pathlib.Path(plan_path) if plan_path is not None else None
+    plan = load(path if path is not None else sample_path())
+    return plan, path
+
+
+def _close(window, app: QApplication) -> None:
+    """Close the window and let Qt delete it before the interpreter exits."""
+    window.document.stack.mark_clean()
+    window.close()
+    window.deleteLater()
+    app.processEvents()
+
+
+def run_window(plan_path: str | None) -> int:
+    """Open the window on ``plan_path`` (the bundled sample plan when None) until it closes.
+
+    Raises
+    ------
+    FourfoldError
+        When the file cannot be read as a plan (the command line prints it).
+    """
+    plan, path = _load(plan_path)
+    app = application()
+    from fourfold.ui.main_window import MainWindow
+
+    window = MainWindow(plan, path, QSettings())
+    window.resize(1400, 900)
+    window.show()
+    window.offer_recovery()
+    code = app.exec()
+    window.deleteLater()
+    app.processEvents()
+    return code
+
+
+def run_shot(plan_path: str | None, output: str, size: tuple[int, int] = (1400, 900),
+             row: int | None = None) -> int:
+    """Render the window on ``plan_path`` offscreen to the PNG ``output``; returns 0.
+
+    Parameters
+    ----------
+    plan_path : str or None
+        The plan (the bundled sample when None).
+    output : str
+        PNG file to write.
+    size : (int, int)
+        Window width and height in pixels.
+    row : int, optional
+        Metric row to select, counted from 1.
+
+    Raises
+    ------
+    FourfoldError
+        When the plan cannot be read, ``row`` is out of range or the PNG cannot be written.
+    """
+    os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    plan, path = _load(plan_path)
+    if row is not None and not 1 <= row <= len(plan.metrics):
+        raise FourfoldError(f"--row must be from 1 to {len(plan.metrics)}; got {row}")
+    app = application()
+    from fourfold.ui.main_window import MainWindow
+
+    with tempfile.TemporaryDirectory(prefix="fourfold-shot-") as scratch:
+        settings = QSettings(os.path.join(scratch, "shot.ini"), QSettings.Format.IniFormat)
+        window = MainWindow(plan, path, settings, data_dir=scratch)
+        window.autosave_timer.stop()
+        window.resize(*size)
+        if row is not None:
+            window.table.selectRow(row - 1)
+            window.table.setCurrentIndex(window.model.index(row - 1, 0))
+        window.show()
+        app.processEvents()
+        ok = window.grab().toImage().save(output, "PNG")
+        _close(window, app)
+    if not ok:
+        raise FourfoldError(f"cannot write the PNG {output}")
+    return 0

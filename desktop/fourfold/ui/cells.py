@@ -1,0 +1,137 @@
+"""What one cell of the plan table says: its text, its raw number and how typed text is read.
+
+Qt-free helpers of :mod:`fourfold.ui.table_model`. A cell's unit depends on its row: a
+proportion's baseline is shown in percent, an effect or margin of a relative row in percent of the
+baseline, a proportion's absolute effect in percentage points; everything else in the metric's
+own unit.
+"""
+
+from __future__ import annotations
+
+import math
+
+from fourfold.plan import Metric, Settings
+from fourfold.ui.formatting import (
+    DASH,
+    format_count,
+    format_number,
+    format_percent,
+    parse_number,
+)
+
+LABELS = {
+    "sample_size": "sample size",
+    "detectable_effect": "detectable effect",
+    "power": "power",
+    "significance_level": "α",
+    "two-sided": "two-sided",
+    "greater": "greater",
+    "less": "less",
+}
+
+EFFECT_KEYS = ("effect", "margin", "detectable")
+NEEDED = {
+    "sample_size": ("effect",),
+    "detectable_effect": (),
+    "power": ("effect",),
+    "significance_level": ("effect",),
+}
+
+
+def label(value: str) -> str:
+    """A choice as the table shows it (``"sample_size"`` → ``"sample size"``)."""
+    return LABELS.get(value, value)
+
+
+def unit(metric: Metric, key: str) -> str | None:
+    """The percent unit of a cell: ``"%"``, ``"pp"`` or ``None`` (the metric's own unit).
+
+    Examples
+    --------
+    >>> unit(Metric(kind="proportion", relative=False), "effect")
+    'pp'
+    >>> unit(Metric(kind="mean", relative=True), "margin")
+    '%'
+    >>> unit(Metric(kind="mean", relative=False), "baseline") is None
+    True
+    """
+    if key == "baseline":
+        return "%" if metric.kind == "proportion" else None
+    if key in EFFECT_KEYS:
+        if metric.relative:
+            return "%"
+        return "pp" if metric.kind == "proportion" else None
+    return None
+
+
+def show_value(metric: Metric, key: str, value: float | None) -> str:
+    """Text of a number in a cell of ``metric``'s row (inputs and the detectable effect).
+
+    Examples
+    --------
+    >>> show_value(Metric(kind="proportion", relative=True), "effect", 0.05)
+    '+5.0 %'
+    >>> show_value(Metric(kind="mean"), "baseline", 1234.5)
+    '1,235'
+    """
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return "" if key not in ("detectable",) else DASH
+    suffix = unit(metric, key)
+    signed = key in EFFECT_KEYS
+    if value == 0 and key in EFFECT_KEYS:
+        return "0"
+    if suffix is not None:
+        return format_percent(value, signed=signed and value != 0, suffix=suffix)
+    if key in ("n",):
+        return format_count(value)
+    return format_number(value, sig=4 if key in ("baseline", "sd") else 3,
+                         signed=signed and value != 0)
+
+
+def read_value(metric: Metric, key: str, text: str, header: str) -> float:
+    """Read typed text for a number cell of ``metric``'s row (percent cells take percent).
+
+    Raises
+    ------
+    fourfold.ui.formatting.ParseError
+        With a message naming the column.
+
+    Examples
+    --------
+    >>> read_value(Metric(kind="proportion"), "baseline", "3.1", "Baseline")
+    0.031
+    >>> read_value(Metric(kind="mean"), "baseline", "3.1%", "Baseline")
+    0.031
+    """
+    return parse_number(text, percent=unit(metric, key) is not None, label=header)
+
+
+def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
+    """Text of a computed cell from the row's result (``row`` is a ``RowResult`` or None)."""
+    if row is None:
+        return DASH
+    if key in ("units_control", "units_treatment", "units_total"):
+        return format_count(getattr(row, key))
+    if key == "days":
+        return format_number(row.days, sig=3)
+    if key == "detectable":
+        value = row.effect_rel if metric.relative else row.effect_abs
+        return show_value(metric, "detectable", value)
+    if key == "power_out":
+        return format_number(row.power, sig=3)
+    if key == "alpha_out":
+        return format_number(row.alpha, sig=3)
+    raise KeyError(key)
+
+
+def output_number(metric: Metric, row, key: str) -> float:
+    """Raw number of a computed cell for sorting (nan when missing)."""
+    if row is None:
+        return math.nan
+    attribute = {
+        "power_out": "power",
+        "alpha_out": "alpha",
+        "detectable": "effect_rel" if metric.relative else "effect_abs",
+    }.get(key, key)
+    value = getattr(row, attribute)
+    return math.nan if value is None else float(value)

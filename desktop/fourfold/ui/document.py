@@ -1,0 +1,144 @@
+"""The open plan as the window sees it: the command stack, the file path and the last result.
+
+:class:`PlanDocument` is the one place the window changes a plan (through commands) and the one
+place it asks :func:`fourfold.plan.compute` for numbers. Bursts of changes (a paste of 500
+cells, a spin box held down) are coalesced by a zero-delay single-shot timer, so the plan is
+recomputed and redrawn once per burst.
+"""
+
+from __future__ import annotations
+
+import pathlib
+
+from PySide6.QtCore import QObject, QTimer, Signal
+
+from fourfold.errors import FourfoldError
+from fourfold.plan import Plan
+from fourfold.plan.commands import CommandStack
+from fourfold.plan.evaluation import compute
+
+
+class PlanDocument(QObject):
+    """An open plan: its commands, where it lives on disk and its computed result.
+
+    Signals
+    -------
+    changed(object)
+        Emitted with the stack's ``Change`` right after every do/undo/redo (before recompute).
+    computed()
+        Emitted after a recompute; ``result`` holds the new :class:`fourfold.plan.PlanResult`.
+    replaced()
+        Emitted after a different plan was loaded (New, Open, recovery) and computed.
+    message(str)
+        A problem to show in the status line (a refused edit).
+    history()
+        Emitted after every do, undo, redo, save or load, once the stack's undo/redo texts and
+        clean flag are up to date (the stack's own callbacks run before it updates them).
+    """
+
+    changed = Signal(object)
+    computed = Signal()
+    replaced = Signal()
+    message = Signal(str)
+    history = Signal()
+
+    def __init__(self, plan: Plan, path: str | pathlib.Path | None = None,
+                 parent: QObject | None = None) -> None:
+        super().__init__(parent)
+        self._timer = QTimer(self)
+        self._timer.setSingleShot(True)
+        self._timer.setInterval(0)
+        self._timer.timeout.connect(self.recompute_now)
+        self.compute_error = ""
+        self._unsaved = False
+        self.stack = CommandStack(plan)
+        self.stack.subscribe(self._on_change)
+        self.path = pathlib.Path(path) if path is not None else None
+        self.result = self._compute()
+
+    @property
+    def plan(self) -> Plan:
+        """The plan being edited (owned by the command stack)."""
+        return self.stack.plan
+
+    @property
+    def dirty(self) -> bool:
+        """Whether there are changes since the last save (or load)."""
+        return self._unsaved or not self.stack.clean
+
+    @property
+    def file_name(self) -> str:
+        """The file's name for the window title ("untitled.json" before the first save)."""
+        return self.path.name if self.path is not None else "untitled.json"
+
+    def replace(self, plan: Plan, path: str | pathlib.Path | None, *,
+                unsaved: bool = False) -> None:
+        """Edit a different plan from now on (a fresh undo history).
+
+        ``unsaved=True`` marks it as not saved yet (a plan restored after a crash).
+        """
+        self.path = pathlib.Path(path) if path is not None else None
+        self._unsaved = unsaved
+        self.stack.reset(plan)
+        self.recompute_now()
+        self.replaced.emit()
+        self.history.emit()
+
+    def mark_saved(self, path: str | pathlib.Path) -> None:
+        """Record that the plan now lives, unchanged, in ``path``."""
+        self.path = pathlib.Path(path)
+        self._unsaved = False
+        self.stack.mark_clean()
+        self.history.emit()
+
+    def apply(self, command, *, merge: bool = False) -> bool:
+        """Run a command; a refused value is reported on ``message`` and changes nothing.
+
+        ``merge=True`` folds a repeated edit of the same cell (a dragged effect) into one
+        undo step.
+        """
+        try:
+            self.stack.do(command, merge=merge)
+        except FourfoldError as error:
+            self.message.emit(str(error))
+            return False
+        self.history.emit()
+        return True
+
+    def undo(self) -> None:
+        """Undo the last command, if any."""
+        if self.stack.can_undo:
+            self.stack.undo()
+            self.history.emit()
+
+    def redo(self) -> None:
+        """Redo the last undone command, if any."""
+        if self.stack.can_redo:
+            self.stack.redo()
+            self.history.emit()
+
+    def _on_change(self, change) -> None:
+        self.changed.emit(change)
+        if not self._timer.isActive():
+            self._timer.start()
+
+    def _compute(self):
+        try:
+            result = compute(self.stack.plan)
+        except FourfoldError as error:
+            self.compute_error = str(error)
+            return None
+        self.compute_error = ""
+        return result
+
+    def pending(self) -> bool:
+        """Whether a recompute is scheduled but has not run yet."""
+        return self._timer.isActive()
+
+    def recompute_now(self) -> None:
+        """Recompute at once (the coalescing timer calls this; tests may too)."""
+        self._timer.stop()
+        self.result = self._compute()
+        if self.compute_error:
+            self.message.emit(self.compute_error)
+        self.computed.emit()

@@ -1,0 +1,252 @@
+"""The plan settings panel: the defaults and the traffic every metric row shares.
+
+Each field becomes a :class:`fourfold.plan.commands.SetSetting` command when the user finishes
+editing it (Enter, Tab or leaving the field); a refused value is reported on the status line and
+the field shows the plan's value again. The panel redraws itself from the plan after every
+change, so undo and redo show up here too.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QCheckBox,
+    QComboBox,
+    QFrame,
+    QGridLayout,
+    QHBoxLayout,
+    QLabel,
+    QLineEdit,
+    QSpinBox,
+    QVBoxLayout,
+    QWidget,
+)
+
+from fourfold.errors import FourfoldError
+from fourfold.plan import CHOICES
+from fourfold.plan.commands import SetSetting
+from fourfold.plan.fields import MAX_ARMS, MAX_LOOKS
+from fourfold.ui.document import PlanDocument
+from fourfold.ui.formatting import format_count, format_number, format_percent, parse_number
+
+CORRECTION_LABELS = {"none": "none", "bonferroni": "Bonferroni", "sidak": "Šidák"}
+SPENDING_LABELS = {
+    "ld-obrien-fleming": "LD O'Brien–Fleming",
+    "ld-pocock": "LD Pocock",
+    "hsd": "Hwang–Shih–DeCani",
+    "obrien-fleming": "O'Brien–Fleming",
+    "pocock": "Pocock",
+}
+SPENDING_TIP = ("How α is spent over the looks. LD: Lan–DeMets spending functions of the "
+                "O'Brien–Fleming or Pocock type; Hwang–Shih–DeCani; or the classical "
+                "O'Brien–Fleming and Pocock boundaries.")
+
+# field: (label, tooltip, shown in percent, optional)
+NUMBER_FIELDS = {
+    "alpha": ("α", "Default significance level of every row (before correction).", False,
+              False),
+    "power": ("Power", "Default power of every row: the chance of detecting a real effect.",
+              False, False),
+    "ratio": ("Allocation", "Units in each treatment arm per unit in control (1 = equal split).",
+              False, False),
+    "daily_units": ("Daily units", "Eligible units (visitors, users) per day; empty: no "
+                    "durations.", False, True),
+    "share": ("Traffic share", "Share of the eligible traffic that enters the test, in "
+              "percent.", True, False),
+    "runtime_days": ("Fixed runtime", "Days the test will run, if fixed; rows then solve for "
+                     "the effect or power those days allow. Empty: rows solve for units.",
+                     False, True),
+}
+
+
+def _group(title: str) -> tuple[QFrame, QGridLayout]:
+    frame = QFrame()
+    frame.setObjectName("settingsGroup")
+    outer = QVBoxLayout(frame)
+    outer.setContentsMargins(10, 6, 10, 8)
+    outer.setSpacing(4)
+    heading = QLabel(title.upper())
+    heading.setObjectName("groupHeading")
+    outer.addWidget(heading)
+    grid = QGridLayout()
+    grid.setHorizontalSpacing(8)
+    grid.setVerticalSpacing(4)
+    outer.addLayout(grid)
+    return frame, grid
+
+
+class SettingsPanel(QWidget):
+    """Compact editor of :class:`fourfold.plan.Settings`.
+
+    Signals
+    -------
+    message(str)
+        A refused value, for the status line.
+    """
+
+    message = Signal(str)
+
+    def __init__(self, document: PlanDocument, parent=None) -> None:
+        super().__init__(parent)
+        self.document = document
+        self.fields: dict[str, QWidget] = {}
+        outer = QVBoxLayout(self)
+        outer.setContentsMargins(0, 0, 0, 0)
+        outer.setSpacing(6)
+        names = QHBoxLayout()
+        names.setSpacing(16)
+        outer.addLayout(names)
+        layout = QHBoxLayout()
+        layout.setSpacing(8)
+        outer.addLayout(layout)
+
+        self.title = QLineEdit()
+        self.title.setObjectName("planTitle")
+        self.title.setPlaceholderText("Plan title")
+        self.title.setToolTip("The plan's title, shown in the exports.")
+        self.title.editingFinished.connect(lambda: self._commit("title", self.title.text()))
+        self.fields["title"] = self.title
+        self.description = QLineEdit()
+        self.description.setObjectName("planDescription")
+        self.description.setPlaceholderText("What is being tested, and why")
+        self.description.setToolTip("A line on the test, shown in the exports.")
+        self.description.editingFinished.connect(
+            lambda: self._commit("description", self.description.text()))
+        self.fields["description"] = self.description
+        names.addWidget(self.title, 2)
+        names.addWidget(self.description, 3)
+
+        frame, grid = _group("Test")
+        self._number(grid, 0, 0, "alpha")
+        self._number(grid, 0, 2, "power")
+        self._choice(grid, 1, 0, "correction", "Correction",
+                     "Correction of α for several treatment arms and metrics.", CORRECTION_LABELS)
+        layout.addWidget(frame, 2)
+
+        frame, grid = _group("Arms")
+        arms = QSpinBox()
+        arms.setRange(1, MAX_ARMS)
+        arms.setToolTip("Treatment arms, each compared with the one control arm.")
+        arms.valueChanged.connect(lambda value: self._commit("arms", value))
+        self.fields["arms"] = arms
+        grid.addWidget(self._label("Treatment arms", arms), 0, 0)
+        grid.addWidget(arms, 0, 1)
+        self._number(grid, 1, 0, "ratio")
+        layout.addWidget(frame, 1)
+
+        frame, grid = _group("Traffic")
+        self._number(grid, 0, 0, "daily_units")
+        self._number(grid, 0, 2, "share")
+        self._number(grid, 1, 0, "runtime_days")
+        weeks = QCheckBox("Whole weeks")
+        weeks.setToolTip("Round durations up to whole weeks, so every weekday counts equally.")
+        weeks.toggled.connect(lambda value: self._commit("whole_weeks", value))
+        self.fields["whole_weeks"] = weeks
+        grid.addWidget(weeks, 1, 2, 1, 2)
+        layout.addWidget(frame, 2)
+
+        frame, grid = _group("Interim looks")
+        looks = QSpinBox()
+        looks.setRange(1, MAX_LOOKS)
+        looks.setToolTip("Analyses during the test, the last one included (1: a fixed design).")
+        looks.valueChanged.connect(lambda value: self._commit("looks", value))
+        self.fields["looks"] = looks
+        grid.addWidget(self._label("Looks", looks), 0, 0)
+        grid.addWidget(looks, 0, 1)
+        futility = QCheckBox("Futility bound")
+        futility.setToolTip("Also stop early when the effect looks absent.")
+        futility.toggled.connect(lambda value: self._commit("futility", value))
+        self.fields["futility"] = futility
+        grid.addWidget(futility, 0, 2)
+        self._choice(grid, 1, 0, "spending", "Spending",
+                     SPENDING_TIP, SPENDING_LABELS, span=2)
+        layout.addWidget(frame, 2)
+
+        document.changed.connect(self._on_change)
+        document.replaced.connect(self.refresh)
+        self.refresh()
+
+    @staticmethod
+    def _label(text: str, buddy: QWidget) -> QLabel:
+        label = QLabel(text)
+        label.setBuddy(buddy)
+        label.setToolTip(buddy.toolTip())
+        label.setObjectName("fieldLabel")
+        return label
+
+    def _number(self, grid: QGridLayout, row: int, column: int, field: str) -> None:
+        text, tooltip, _, optional = NUMBER_FIELDS[field]
+        edit = QLineEdit()
+        edit.setToolTip(tooltip)
+        edit.setAlignment(Qt.AlignmentFlag.AlignRight)
+        edit.setMinimumWidth(56)
+        edit.setMaximumWidth(110)
+        if optional:
+            edit.setPlaceholderText("none")
+        edit.editingFinished.connect(lambda: self._commit_number(field, edit))
+        self.fields[field] = edit
+        grid.addWidget(self._label(text, edit), row, column)
+        grid.addWidget(edit, row, column + 1)
+
+    def _choice(self, grid: QGridLayout, row: int, column: int, field: str, text: str,
+                tooltip: str, labels: dict[str, str], span: int = 1) -> None:
+        combo = QComboBox()
+        combo.setToolTip(tooltip)
+        for value in CHOICES[field]:
+            combo.addItem(labels.get(value, value), value)
+        combo.activated.connect(lambda _=0: self._commit(field, combo.currentData()))
+        self.fields[field] = combo
+        grid.addWidget(self._label(text, combo), row, column)
+        grid.addWidget(combo, row, column + 1, 1, span)
+
+    def _commit_number(self, field: str, edit: QLineEdit) -> None:
+        text, _, percent, optional = NUMBER_FIELDS[field]
+        raw = edit.text().strip()
+        try:
+            value = None if (optional and not raw) else parse_number(raw, percent, label=text)
+        except FourfoldError as error:
+            self.message.emit(str(error))
+            self.refresh()
+            return
+        self._commit(field, value)
+
+    def _commit(self, field: str, value) -> None:
+        if getattr(self.document.plan.settings, field) == value:
+            self.refresh()
+            return
+        if not self.document.apply(SetSetting(field, value)):
+            self.refresh()
+
+    def _on_change(self, change) -> None:
+        if change.kind in ("settings", "reset"):
+            self.refresh()
+
+    @staticmethod
+    def show_setting(field: str, value) -> str:
+        """A settings number as the panel shows it."""
+        if value is None:
+            return ""
+        if field == "share":
+            return format_percent(value)
+        if field == "daily_units":
+            return format_count(value)
+        return format_number(value, sig=4)
+
+    def refresh(self) -> None:
+        """Show the plan's current settings (without sending commands)."""
+        settings = self.document.plan.settings
+        for field, widget in self.fields.items():
+            value = getattr(settings, field)
+            widget.blockSignals(True)
+            if isinstance(widget, QCheckBox):
+                widget.setChecked(bool(value))
+            elif isinstance(widget, QSpinBox):
+                widget.setValue(int(value))
+            elif isinstance(widget, QComboBox):
+                widget.setCurrentIndex(max(widget.findData(value), 0))
+            elif field in NUMBER_FIELDS:
+                widget.setText(self.show_setting(field, value))
+            else:
+                widget.setText(value)
+                widget.setCursorPosition(0)
+            widget.blockSignals(False)

@@ -1,0 +1,82 @@
+"""The summary line: the plan's duration, its total units and the binding metric, always shown."""
+
+from __future__ import annotations
+
+import math
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel
+
+from fourfold.ui.document import PlanDocument
+from fourfold.ui.formatting import format_count, format_number
+
+
+def duration_text(days: float | None) -> str:
+    """Days and weeks in words, e.g. "28 days (4 weeks)".
+
+    Examples
+    --------
+    >>> duration_text(28.0)
+    '28 days (4 weeks)'
+    >>> duration_text(10.5)
+    '10.5 days (1.5 weeks)'
+    >>> duration_text(None)
+    '—'
+    """
+    if days is None or not math.isfinite(days):
+        return "—"
+    weeks = days / 7.0
+    week_word = "week" if weeks == 1 else "weeks"
+    day_word = "day" if days == 1 else "days"
+    return f"{format_number(days, sig=3)} {day_word} ({format_number(weeks, sig=2)} {week_word})"
+
+
+class SummaryBar(QFrame):
+    """One line under the settings: duration, total units, binding metric, notes on hover."""
+
+    def __init__(self, document: PlanDocument, parent=None) -> None:
+        super().__init__(parent)
+        self.setObjectName("summaryBar")
+        self.document = document
+        layout = QHBoxLayout(self)
+        layout.setContentsMargins(12, 6, 12, 6)
+        layout.setSpacing(28)
+        self.duration = QLabel()
+        self.units = QLabel()
+        self.binding = QLabel()
+        for label in (self.duration, self.units, self.binding):
+            label.setTextFormat(Qt.TextFormat.RichText)
+            label.setObjectName("summaryItem")
+            layout.addWidget(label)
+        layout.addStretch(1)
+        document.computed.connect(self.refresh)
+        self.refresh()
+
+    def texts(self) -> tuple[str, str, str]:
+        """The three items as plain text (for tests and the status of a shot)."""
+        return tuple(label.text().replace("<b>", "").replace("</b>", "")
+                     for label in (self.duration, self.units, self.binding))
+
+    def refresh(self) -> None:
+        """Show the document's current result."""
+        result = self.document.result
+        if result is None:
+            self.duration.setText(f"Cannot compute the plan: {self.document.compute_error}")
+            self.units.setText("")
+            self.binding.setText("")
+            return
+        settings = self.document.plan.settings
+        duration = duration_text(result.duration_days)
+        if result.duration_days is None and settings.daily_units is None:
+            duration = "— (set daily units)"
+        self.duration.setText(f"Duration <b>{duration}</b>")
+        total = format_count(result.total_units) if result.total_units is not None else "—"
+        self.units.setText(f"Total units <b>{total}</b>")
+        if result.binding_name:
+            row = result.binding_index + 1
+            self.binding.setText(f"Binding metric <b>▶ {result.binding_name}</b> (row {row})")
+        elif settings.runtime_days is not None:
+            self.binding.setText("Fixed runtime: rows report what it allows")
+        else:
+            self.binding.setText("No binding metric (no primary or guardrail row sized)")
+        self.setToolTip("\n".join(result.notes))

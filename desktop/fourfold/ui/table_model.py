@@ -1,0 +1,459 @@
+"""The plan table's model: a thin adapter over the open plan and its command stack.
+
+Edits become :class:`fourfold.plan.commands.SetField` commands (refused values are reported on
+the document's status message and change nothing). The model keeps its own snapshot of the row
+list so that Qt's row-insert/remove/move notifications always describe the change as it happens,
+and it emits one ranged ``dataChanged`` per recompute — never one per cell, never a reset for an
+edit.
+"""
+
+from __future__ import annotations
+
+import math
+
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPointF, Qt
+from PySide6.QtGui import QColor, QFont, QIcon, QPainter, QPixmap, QPolygonF
+
+from fourfold.errors import FourfoldError
+from fourfold.plan import CHOICES
+from fourfold.plan.commands import SetField
+from fourfold.ui import cells, theme
+from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, SOLVED_COLUMN, TEXT
+from fourfold.ui.document import PlanDocument
+
+SORT_ROLE = Qt.ItemDataRole.UserRole + 1
+"""Role returning a cell's raw value (numbers as floats, nan when missing) for sorting."""
+
+CHOICES_ROLE = Qt.ItemDataRole.UserRole + 2
+"""Role returning a choice cell's allowed values as ``[(label, value), ...]``."""
+
+ROLE = Qt.ItemDataRole
+
+
+def _marker_icon(colour: QColor) -> QIcon:
+    pixmap = QPixmap(16, 16)
+    pixmap.fill(Qt.GlobalColor.transparent)
+    painter = QPainter(pixmap)
+    painter.setRenderHint(QPainter.RenderHint.Antialiasing)
+    painter.setPen(Qt.PenStyle.NoPen)
+    painter.setBrush(colour)
+    painter.drawPolygon(QPolygonF([QPointF(3, 2), QPointF(13, 8), QPointF(3, 14)]))
+    painter.end()
+    return QIcon(pixmap)
+
+
+class PlanTableModel(QAbstractTableModel):
+    """One row per metric, one column per input and output (see :mod:`fourfold.ui.columns`).
+
+    Parameters
+    ----------
+    document : PlanDocument
+        The open plan; the model follows its changes and recomputes.
+    """
+
+    def __init__(self, document: PlanDocument, parent=None) -> None:
+        super().__init__(parent)
+        self.document = document
+        self._rows = list(document.plan.metrics)
+        self._results = self._result_rows()
+        self._binding = self._binding_index()
+        self._tints = theme.tints()
+        self._marker = _marker_icon(self._tints.binding)
+        self._italic = QFont()
+        self._italic.setItalic(True)
+        self._bold = QFont()
+        self._bold.setBold(True)
+        self.data_changed_count = 0
+        document.changed.connect(self._on_change)
+        document.computed.connect(self._on_computed)
+
+    # -- structure -----------------------------------------------------------------------
+
+    def rowCount(self, parent=QModelIndex()) -> int:  # noqa: B008 - Qt's signature
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent=QModelIndex()) -> int:  # noqa: B008 - Qt's signature
+        return 0 if parent.isValid() else len(COLUMNS)
+
+    def _result_rows(self) -> list:
+        result = self.document.result
+        rows = list(result.rows) if result is not None else []
+        rows += [None] * (len(self._rows) - len(rows))
+        return rows[: len(self._rows)]
+
+    def _binding_index(self) -> int | None:
+        result = self.document.result
+        return None if result is None else result.binding_index
+
+    def _reset_rows(self) -> None:
+        self.beginResetModel()
+        self._rows = list(self.document.plan.metrics)
+        self._results = self._result_rows()
+        self._binding = self._binding_index()
+        self.endResetModel()
+
+    def _on_change(self, change) -> None:
+        kind = change.kind
+        metrics = self.document.plan.metrics
+        if kind == "rows_inserted":
+            for first, last in change.blocks():
+                self.beginInsertRows(QModelIndex(), first, last)
+                self._rows[first:first] = metrics[first:last + 1]
+                self._results[first:first] = [None] * (last - first + 1)
+                self.endInsertRows()
+        elif kind == "rows_removed":
+            for first, last in reversed(change.blocks()):
+                self.beginRemoveRows(QModelIndex(), first, last)
+                del self._rows[first:last + 1]
+                del self._results[first:last + 1]
+                self.endRemoveRows()
+        elif kind == "rows_moved":
+            source, target = change.rows
+            if source != target:
+                after = target + 1 if target > source else target
+                self.beginMoveRows(QModelIndex(), source, source, QModelIndex(), after)
+                self._rows.insert(target, self._rows.pop(source))
+                self._results.insert(target, self._results.pop(source))
+                self.endMoveRows()
+        elif kind == "reset" or len(metrics) != len(self._rows):
+            self._reset_rows()
+            return
+        self._rows = list(metrics)
+
+    def _on_computed(self) -> None:
+        if len(self._rows) != len(self.document.plan.metrics):
+            self._reset_rows()
+            return
+        self._rows = list(self.document.plan.metrics)
+        self._results = self._result_rows()
+        binding = self._binding_index()
+        if self._rows:
+            self.data_changed_count += 1
+            self.dataChanged.emit(self.index(0, 0), self.index(len(self._rows) - 1,
+                                                               len(COLUMNS) - 1))
+            if binding != self._binding:
+                self.headerDataChanged.emit(Qt.Orientation.Vertical, 0, len(self._rows) - 1)
+        self._binding = binding
+
+    def set_dark(self, dark: bool) -> None:
+        """Follow a change of the colour scheme."""
+        self._tints = theme.tints(dark)
+        self._marker = _marker_icon(self._tints.binding)
+        if self._rows:
+            self.dataChanged.emit(self.index(0, 0), self.index(len(self._rows) - 1,
+                                                               len(COLUMNS) - 1))
+
+    # -- reading ------------------------------------------------------------------------
+
+    def metric(self, row: int):
+        """The metric shown in ``row``."""
+        return self._rows[row]
+
+    def row_result(self, row: int):
+        """The computed result of ``row`` (None before the first recompute or on failure)."""
+        return self._results[row]
+
+    def is_solved(self, row: int, column: int) -> bool:
+        """Whether the cell shows the quantity its row solves for."""
+        result = self._results[row]
+        solved = result.solved if result is not None else self._rows[row].solve
+        return COLUMNS[column].key in SOLVED_COLUMN.get(solved, ())
+
+    def _reason(self, row: int) -> str:
+        result = self._results[row]
+        if result is None:
+            return self.document.compute_error or "not computed yet"
+        return result.reason
+
+    def _is_unused(self, metric, key: str) -> bool:
+        settings = self.document.plan.settings
+        if key == "effect":
+            return metric.solve == "detectable_effect"
+        if key == "n":
+            return metric.solve == "sample_size" or settings.runtime_days is not None
+        return key == "sd" and metric.kind == "proportion"
+
+    def _default_text(self, key: str) -> str:
+        settings = self.document.plan.settings
+        return cells.format_number(getattr(settings, key), sig=3)
+
+    def display_text(self, row: int, column: int) -> str:
+        """The text shown in a cell."""
+        metric = self._rows[row]
+        col = COLUMNS[column]
+        key = col.key
+        if col.computed:
+            if self._reason(row):
+                return cells.DASH
+            return cells.output_text(metric, self.document.plan.settings, self._results[row],
+                                     key)
+        value = getattr(metric, key)
+        if col.editor == TEXT:
+            return value
+        if col.editor == CHECK:
+            return ""
+        if col.editor == CHOICE:
+            if key == "method" and value is None:
+                return CHOICES["method"][metric.kind][0]
+            return cells.label(value)
+        if value is None and key in ("alpha", "power"):
+            return self._default_text(key)
+        if value is None and key == "sd" and metric.kind == "rate":
+            return "= mean"
+        return cells.show_value(metric, key, value)
+
+    def edit_text(self, row: int, column: int) -> str:
+        """The text an editor starts with (empty for unset optional values)."""
+        metric = self._rows[row]
+        col = COLUMNS[column]
+        value = getattr(metric, col.key)
+        if value is None:
+            return ""
+        if col.editor == NUMBER:
+            return cells.show_value(metric, col.key, value)
+        return value if isinstance(value, str) else str(value)
+
+    def sort_value(self, row: int, column: int):
+        """The raw value of a cell: numbers as floats (nan when missing), text as text."""
+        metric = self._rows[row]
+        col = COLUMNS[column]
+        if col.computed:
+            return cells.output_number(metric, self._results[row], col.key)
+        value = getattr(metric, col.key)
+        if col.editor == NUMBER:
+            return math.nan if value is None else float(value)
+        if col.editor == CHECK:
+            return bool(value)
+        return "" if value is None else value
+
+    def choices(self, row: int, column: int) -> list[tuple[str, object]]:
+        """Allowed values of a choice cell as ``(label, value)`` pairs."""
+        metric = self._rows[row]
+        key = COLUMNS[column].key
+        if key == "method":
+            methods = CHOICES["method"][metric.kind]
+            return [(f"{methods[0]} (default)", None)] + [(name, name) for name in methods]
+        return [(cells.label(value), value) for value in CHOICES[key]]
+
+    def _tooltip(self, row: int, column: int) -> str | None:
+        col = COLUMNS[column]
+        reason = self._reason(row)
+        if col.computed and reason:
+            return f"Cannot compute this row: {reason}"
+        metric = self._rows[row]
+        if col.key in ("alpha", "power") and getattr(metric, col.key) is None:
+            return "Plan default (type a value to override it for this row)"
+        if col.key == "notes" and metric.notes:
+            return metric.notes
+        if col.key == "method" and metric.method is None:
+            return f"The usual method for a {metric.kind} (choose another to override it)"
+        if self.is_solved(row, column):
+            return "The quantity this row solves for"
+        if col.key == "name" and reason:
+            return f"Cannot compute this row: {reason}"
+        return None
+
+    def data(self, index, role=ROLE.DisplayRole):
+        if not index.isValid():
+            return None
+        row, column = index.row(), index.column()
+        col = COLUMNS[column]
+        if role == ROLE.DisplayRole:
+            return self.display_text(row, column)
+        if role == ROLE.EditRole:
+            return self.edit_text(row, column)
+        if role == SORT_ROLE:
+            return self.sort_value(row, column)
+        if role == ROLE.CheckStateRole and col.editor == CHECK:
+            checked = bool(getattr(self._rows[row], col.key))
+            return Qt.CheckState.Checked if checked else Qt.CheckState.Unchecked
+        if role == ROLE.ToolTipRole:
+            return self._tooltip(row, column)
+        if role == ROLE.TextAlignmentRole:
+            if col.editor == NUMBER or col.computed:
+                return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+            return int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
+        if role == ROLE.BackgroundRole:
+            if self.is_solved(row, column):
+                return self._tints.solved
+            if col.computed:
+                return self._tints.computed
+            return None
+        if role == ROLE.ForegroundRole:
+            return self._foreground(row, column)
+        if role == ROLE.FontRole:
+            if self.is_solved(row, column):
+                return self._bold
+            if col.computed:
+                return self._italic
+            if col.key in ("alpha", "power") and getattr(self._rows[row], col.key) is None:
+                return self._italic
+            if col.key == "method" and self._rows[row].method is None:
+                return self._italic
+            return None
+        if role == CHOICES_ROLE and col.editor == CHOICE:
+            return self.choices(row, column)
+        return None
+
+    def _foreground(self, row: int, column: int):
+        col = COLUMNS[column]
+        metric = self._rows[row]
+        if col.computed and self._reason(row):
+            return self._tints.problem
+        if self.is_solved(row, column):
+            return self._tints.solved_text
+        if col.key == "name" and self._reason(row):
+            return self._tints.problem
+        if col.key in ("alpha", "power") and getattr(metric, col.key) is None:
+            return self._tints.muted
+        if col.key == "method" and metric.method is None:
+            return self._tints.muted
+        if col.key == "sd" and metric.sd is None:
+            return self._tints.muted
+        if self._is_unused(metric, col.key):
+            return self._tints.muted
+        return None
+
+    def headerData(self, section, orientation, role=ROLE.DisplayRole):
+        if orientation == Qt.Orientation.Horizontal:
+            if not 0 <= section < len(COLUMNS):
+                return None
+            col = COLUMNS[section]
+            if role == ROLE.DisplayRole:
+                return col.header
+            if role == ROLE.ToolTipRole:
+                kind = "Computed. " if col.computed else ""
+                return f"<p>{kind}{col.tooltip}</p>"
+            return None
+        if not 0 <= section < len(self._rows):
+            return None
+        binding = section == self._binding
+        if role == ROLE.DisplayRole:
+            return str(section + 1)
+        if role == ROLE.DecorationRole and binding:
+            return self._marker
+        if role == ROLE.ToolTipRole:
+            if binding:
+                return "Binding metric: this row needs the most days and sets the plan's duration"
+            return f"Row {section + 1}"
+        return None
+
+    def flags(self, index):
+        if not index.isValid():
+            return Qt.ItemFlag.NoItemFlags
+        base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
+        col = COLUMNS[index.column()]
+        if col.computed:
+            return base
+        if col.editor == CHECK:
+            return base | Qt.ItemFlag.ItemIsUserCheckable
+        return base | Qt.ItemFlag.ItemIsEditable
+
+    # -- editing ------------------------------------------------------------------------
+
+    def parse(self, row: int, column: int, value):
+        """Turn an editor's value into a field value; raises FourfoldError for bad text."""
+        metric = self._rows[row]
+        col = COLUMNS[column]
+        if col.computed:
+            raise FourfoldError(f"{col.label} is computed and cannot be edited")
+        if col.editor == CHECK:
+            if isinstance(value, str):
+                lowered = value.strip().lower()
+                truth = {"true": True, "yes": True, "1": True, "✓": True,
+                         "false": False, "no": False, "0": False, "": False}
+                if lowered not in truth:
+                    raise FourfoldError(f"{col.label}: type yes or no, not {value!r}")
+                return truth[lowered]
+            return bool(value)
+        if col.editor == CHOICE:
+            if not isinstance(value, str):
+                return value
+            text = value.strip()
+            if col.key == "method":
+                return self._parse_method(metric, text)
+            for shown, choice in self.choices(row, column):
+                if text in (shown, choice) or (choice is not None and text == cells.label(choice)):
+                    return choice
+            allowed = ", ".join(shown for shown, _ in self.choices(row, column))
+            raise FourfoldError(f"{col.label}: choose one of {allowed}; got {text!r}")
+        if col.editor == TEXT:
+            return str(value)
+        if isinstance(value, (int, float)) and not isinstance(value, bool):
+            return float(value)
+        text = str(value).strip()
+        if not text or text == cells.DASH:
+            if col.optional:
+                return None
+            raise FourfoldError(f"{col.label}: enter a number")
+        return cells.read_value(metric, col.key, text, col.label)
+
+    def _parse_method(self, metric, text: str) -> str | None:
+        methods = CHOICES["method"]
+        if not text or text == f"{methods[metric.kind][0]} (default)" or text == "default":
+            return None
+        if any(text in names for names in methods.values()):
+            return text
+        raise FourfoldError(
+            f"Method: choose one of {', '.join(methods[metric.kind])} for a {metric.kind} "
+            f"(or leave it empty for the default); got {text!r}"
+        )
+
+    def copy_text(self, row: int, column: int) -> str:
+        """A cell as text for the clipboard; pasting it back gives the same value."""
+        col = COLUMNS[column]
+        if col.computed:
+            return self.display_text(row, column)
+        value = getattr(self._rows[row], col.key)
+        if col.editor == CHECK:
+            return "yes" if value else "no"
+        if col.editor == CHOICE:
+            return "" if value is None else value
+        return self.edit_text(row, column)
+
+    def paste_edits(self, top: int, left: int, grid: list[list[str]]):
+        """Read a block of pasted text at ``(top, left)`` into field edits.
+
+        Returns
+        -------
+        edits : list of (row, field, value)
+            One per writable cell inside the table.
+        skipped : int
+            Cells that fell on computed columns or outside the table (ignored).
+        errors : list of str
+            One message per cell whose text could not be read.
+        """
+        edits, errors, skipped = [], [], 0
+        for r, line in enumerate(grid):
+            for c, text in enumerate(line):
+                row, column = top + r, left + c
+                if row >= len(self._rows) or column >= len(COLUMNS) or COLUMNS[column].computed:
+                    skipped += 1
+                    continue
+                try:
+                    value = self.parse(row, column, text)
+                except FourfoldError as error:
+                    errors.append(f"row {row + 1}: {error}")
+                    continue
+                edits.append((row, COLUMNS[column].key, value))
+        return edits, skipped, errors
+
+    def setData(self, index, value, role=ROLE.EditRole) -> bool:
+        if not index.isValid():
+            return False
+        row, column = index.row(), index.column()
+        col = COLUMNS[column]
+        if role == ROLE.CheckStateRole and col.editor == CHECK:
+            value = Qt.CheckState(value) == Qt.CheckState.Checked
+        elif role != ROLE.EditRole:
+            return False
+        try:
+            parsed = self.parse(row, column, value)
+        except FourfoldError as error:
+            self.document.message.emit(str(error))
+            return False
+        if parsed == getattr(self._rows[row], col.key) and type(parsed) is type(
+            getattr(self._rows[row], col.key)
+        ):
+            return True
+        return self.document.apply(SetField(row, col.key, parsed))

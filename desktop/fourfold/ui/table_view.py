@@ -1,0 +1,200 @@
+"""The plan table's view: keyboard navigation, copy and paste of rectangular ranges.
+
+Enter edits the current cell and, once typed, moves down a row; Tab moves right. Copy puts the
+selected rectangle on the clipboard as tab-separated text (what spreadsheets exchange). Paste
+reads tab-separated text at the current cell as one undo step, all or nothing: if any cell of
+the block cannot be read or is refused by the plan's rules, nothing changes and the status line
+says which cells are at fault. Cells that fall on computed columns or below the last row are
+skipped (and counted in the status line). A single copied value pasted onto a larger selection
+fills the selection.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QItemSelection, QItemSelectionModel, Qt, Signal
+from PySide6.QtGui import QFont, QFontMetrics, QGuiApplication, QKeySequence
+from PySide6.QtWidgets import QAbstractItemDelegate, QAbstractItemView, QHeaderView, QTableView
+
+from fourfold.plan.commands import SetFields
+from fourfold.ui.columns import COLUMNS
+from fourfold.ui.delegates import PlanDelegate
+from fourfold.ui.table_model import PlanTableModel
+
+MAX_ERRORS_SHOWN = 3
+MAX_COLUMN_CHARS = 30
+
+
+def parse_grid(text: str) -> list[list[str]]:
+    """Split tab-separated clipboard text into rows of cells (a trailing newline is ignored).
+
+    Examples
+    --------
+    >>> parse_grid("1\\t2\\n3\\t4\\n")
+    [['1', '2'], ['3', '4']]
+    """
+    lines = text.replace("\r\n", "\n").replace("\r", "\n").split("\n")
+    if lines and lines[-1] == "":
+        lines.pop()
+    return [line.split("\t") for line in lines]
+
+
+class PlanTableView(QTableView):
+    """The plan table.
+
+    Signals
+    -------
+    message(str)
+        Something to show in the status line (a paste report).
+    """
+
+    message = Signal(str)
+
+    def __init__(self, parent=None) -> None:
+        super().__init__(parent)
+        self.setItemDelegate(PlanDelegate(self))
+        self.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectItems)
+        self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
+        self.setEditTriggers(
+            QAbstractItemView.EditTrigger.DoubleClicked
+            | QAbstractItemView.EditTrigger.EditKeyPressed
+            | QAbstractItemView.EditTrigger.AnyKeyPressed
+        )
+        self.setAlternatingRowColors(True)
+        self.setWordWrap(False)
+        self.setCornerButtonEnabled(True)
+        self.setHorizontalScrollMode(QAbstractItemView.ScrollMode.ScrollPerPixel)
+        self.setVerticalScrollMode(QAbstractItemView.ScrollMode.ScrollPerPixel)
+        header = self.horizontalHeader()
+        header.setHighlightSections(False)
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        header.setDefaultAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
+        header.setTextElideMode(Qt.TextElideMode.ElideNone)
+        vertical = self.verticalHeader()
+        vertical.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
+        vertical.setDefaultAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+
+    def plan_model(self) -> PlanTableModel:
+        """The model, typed."""
+        return self.model()
+
+    def fit_columns(self) -> None:
+        """Size rows and columns to the current font and contents (after load or rescale)."""
+        metrics = self.fontMetrics()
+        char = metrics.averageCharWidth()
+        bold = QFont(self.horizontalHeader().font())
+        bold.setBold(True)
+        header_metrics = QFontMetrics(bold)
+        self.verticalHeader().setDefaultSectionSize(int(metrics.height() * 1.7))
+        self.horizontalHeader().setFixedHeight(int(header_metrics.height() * 2.0 + 10))
+        for position, column in enumerate(COLUMNS):
+            title = max(header_metrics.horizontalAdvance(line)
+                        for line in column.header.split("\n")) + 16
+            content = self.sizeHintForColumn(position) + 6
+            wanted = max(title, min(content, MAX_COLUMN_CHARS * char), column.width * char)
+            self.setColumnWidth(position, wanted)
+
+    def wanted_height(self, rows: int) -> int:
+        """Height showing the header and ``rows`` rows without scrolling."""
+        return (self.horizontalHeader().height() + rows * self.verticalHeader().defaultSectionSize()
+                + self.horizontalScrollBar().sizeHint().height() + 2 * self.frameWidth() + 2)
+
+    # -- navigation ---------------------------------------------------------------------
+
+    def closeEditor(self, editor, hint):
+        moved_down = hint == QAbstractItemDelegate.EndEditHint.SubmitModelCache
+        super().closeEditor(editor, QAbstractItemDelegate.EndEditHint.NoHint if moved_down
+                            else hint)
+        if moved_down:
+            current = self.currentIndex()
+            below = current.sibling(current.row() + 1, current.column())
+            if below.isValid():
+                self.setCurrentIndex(below)
+
+    def keyPressEvent(self, event):
+        if event.matches(QKeySequence.StandardKey.Copy):
+            self.copy_selection()
+            return
+        if event.matches(QKeySequence.StandardKey.Paste):
+            self.paste()
+            return
+        if (event.key() in (Qt.Key.Key_Return, Qt.Key.Key_Enter)
+                and self.state() != QAbstractItemView.State.EditingState):
+            current = self.currentIndex()
+            if current.isValid() and current.flags() & Qt.ItemFlag.ItemIsEditable:
+                self.edit(current)
+                return
+        super().keyPressEvent(event)
+
+    # -- clipboard ----------------------------------------------------------------------
+
+    def _selected_rect(self) -> tuple[int, int, int, int] | None:
+        indexes = self.selectedIndexes() or ([self.currentIndex()]
+                                             if self.currentIndex().isValid() else [])
+        if not indexes:
+            return None
+        rows = [index.row() for index in indexes]
+        columns = [index.column() for index in indexes]
+        return min(rows), min(columns), max(rows), max(columns)
+
+    def selection_text(self) -> str:
+        """The selected rectangle as tab-separated text."""
+        rect = self._selected_rect()
+        if rect is None:
+            return ""
+        top, left, bottom, right = rect
+        model = self.plan_model()
+        return "\n".join(
+            "\t".join(model.copy_text(row, column) for column in range(left, right + 1))
+            for row in range(top, bottom + 1)
+        ) + "\n"
+
+    def copy_selection(self) -> None:
+        """Copy the selected rectangle to the clipboard."""
+        text = self.selection_text()
+        if text:
+            QGuiApplication.clipboard().setText(text)
+
+    def paste(self, text: str | None = None) -> bool:
+        """Paste tab-separated text (the clipboard's by default) at the current cell.
+
+        Returns whether anything was applied.
+        """
+        if text is None:
+            text = QGuiApplication.clipboard().text()
+        grid = parse_grid(text)
+        rect = self._selected_rect()
+        if not grid or rect is None:
+            self.message.emit("Nothing to paste")
+            return False
+        top, left, bottom, right = rect
+        if len(grid) == 1 and len(grid[0]) == 1 and (bottom > top or right > left):
+            grid = [[grid[0][0]] * (right - left + 1) for _ in range(bottom - top + 1)]
+        model = self.plan_model()
+        edits, skipped, errors = model.paste_edits(top, left, grid)
+        if errors:
+            shown = "; ".join(errors[:MAX_ERRORS_SHOWN])
+            extra = len(errors) - MAX_ERRORS_SHOWN
+            more = f" (and {extra} more)" if extra > 0 else ""
+            self.message.emit(f"Nothing pasted — {len(errors)} cell(s) cannot be read: "
+                              f"{shown}{more}")
+            return False
+        if not edits:
+            self.message.emit("Nothing pasted: the block falls on computed columns only")
+            return False
+        applied = model.document.apply(SetFields(edits, text=f"Paste {len(edits)} cells"))
+        if applied:
+            rows = max(row for row, _, _ in edits)
+            last = max(left + len(line) for line in grid) - 1
+            selection = self.selectionModel()
+            selection.select(
+                self._range(top, left, rows, min(last, len(COLUMNS) - 1)),
+                QItemSelectionModel.SelectionFlag.ClearAndSelect,
+            )
+            note = f"; {skipped} cell(s) on computed columns or below the table skipped" \
+                if skipped else ""
+            self.message.emit(f"Pasted {len(edits)} cells{note}")
+        return applied
+
+    def _range(self, top: int, left: int, bottom: int, right: int):
+        model = self.model()
+        return QItemSelection(model.index(top, left), model.index(bottom, right))
