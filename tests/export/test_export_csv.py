@@ -10,6 +10,8 @@ from __future__ import annotations
 import csv
 import dataclasses
 import math
+import subprocess
+import sys
 
 import numpy as np
 import pandas as pd
@@ -181,3 +183,16 @@ def test_missing_folder_is_a_user_error(tmp_path):
     with pytest.raises(ExportError, match="does not exist"):
         write_csv(_sample(), tmp_path / "nowhere" / "plan.csv")
     assert list(tmp_path.iterdir()) == []
+
+
+def test_csv_export_loads_neither_qt_nor_pandas(tmp_path):
+    """Project rule (DEVELOPERS.md): fourfold.export.csv is Qt-free; pandas is not needed."""
+    code = (
+        "import sys; from fourfold.export import export_file; "
+        "from fourfold.plan import sample_path; "
+        f"export_file(sample_path(), {str(tmp_path / 'p.csv')!r}); "
+        "print(sorted(m for m in ('PySide6', 'pyqtgraph', 'pandas') if m in sys.modules))"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          check=True)
+    assert done.stdout.strip() == "[]"

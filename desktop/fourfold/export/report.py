@@ -14,13 +14,21 @@ The methods section cites, per method a plan uses:
 - Fleiss, J. L., Levin, B. & Paik, M. C. (2003). *Statistical Methods for Rates and
   Proportions*, 3rd ed., ch. 4.
 - Fleiss, J. L., Tytun, A. & Ury, H. K. (1980). *Biometrics* 36, 343–346.
+- Farrington, C. P. & Manning, G. (1990). *Statistics in Medicine* 9, 1447–1454.
+- Kohavi, R., Tang, D. & Xu, Y. (2020). *Trustworthy Online Controlled Experiments*, ch. 17.
+- Chow, S.-C., Shao, J. & Wang, H. (2008). *Sample Size Calculations in Clinical Research*,
+  2nd ed. (tests against a margin).
 - Deng, A., Xu, Y., Kohavi, R. & Walker, T. (2013). WSDM 2013, 123–132 (CUPED).
 - Kish, L. (1965). *Survey Sampling*; Eldridge, S. M., Ashby, D. & Kerry, S. (2006).
   *International Journal of Epidemiology* 35, 1292–1300 (design effect).
 - Deng, A., Knoblich, U. & Lu, J. (2018). KDD 2018 (delta method).
-- Šidák, Z. (1967). *Journal of the American Statistical Association* 62, 626–633.
-- Lan, K. K. G. & DeMets, D. L. (1983). *Biometrika* 70, 659–663; Jennison, C. & Turnbull,
-  B. W. (2000). *Group Sequential Methods with Applications to Clinical Trials*.
+- Bonferroni, C. E. (1936); Šidák, Z. (1967). *Journal of the American Statistical
+  Association* 62, 626–633.
+- Lan, K. K. G. & DeMets, D. L. (1983). *Biometrika* 70, 659–663; O'Brien, P. C. & Fleming,
+  T. R. (1979). *Biometrics* 35, 549–556; Pocock, S. J. (1977). *Biometrika* 64, 191–199;
+  Hwang, I. K., Shih, W. J. & DeCani, J. S. (1990). *Statistics in Medicine* 9, 1439–1445;
+  Jennison, C. & Turnbull, B. W. (2000). *Group Sequential Methods with Applications to
+  Clinical Trials*.
 """
 
 from __future__ import annotations
@@ -45,6 +53,20 @@ SPENDING_LABELS = {
     "hsd": "Hwang–Shih–DeCani",
     "obrien-fleming": "O'Brien–Fleming",
     "pocock": "Pocock",
+}
+
+_LAN_DEMETS = ("Lan, K. K. G. & DeMets, D. L. (1983). Discrete sequential boundaries for "
+               "clinical trials. Biometrika 70, 659–663.")
+SPENDING_SOURCES = {
+    "ld-obrien-fleming": _LAN_DEMETS,
+    "ld-pocock": _LAN_DEMETS,
+    "hsd": "Hwang, I. K., Shih, W. J. & DeCani, J. S. (1990). Group sequential designs using a "
+           "family of type I error probability spending functions. Statistics in Medicine 9, "
+           "1439–1445.",
+    "obrien-fleming": "O'Brien, P. C. & Fleming, T. R. (1979). A multiple testing procedure "
+                      "for clinical trials. Biometrics 35, 549–556.",
+    "pocock": "Pocock, S. J. (1977). Group sequential methods in the design and analysis of "
+              "clinical trials. Biometrika 64, 191–199.",
 }
 
 
@@ -397,14 +419,14 @@ _KIND_METHODS = {
     ),
     ("proportion", "pooled"): (
         "Two proportions, pooled variance under H0",
-        "Normal approximation with the pooled proportion under H0 and each arm's own variance "
-        "under H1.",
+        "Normal approximation with the pooled proportion under H0 (the restricted estimates "
+        "of Farrington & Manning when H0 has a margin) and each arm's own variance under H1.",
         "Fleiss, J. L., Levin, B. & Paik, M. C. (2003). Statistical Methods for Rates and "
         "Proportions, 3rd ed., ch. 4.",
     ),
     ("proportion", "unpooled"): (
         "Two proportions, unpooled variance",
-        "Normal approximation with each arm's own variance under H0 and H1.",
+        "Wald test: each arm's own variance under H0 as well as under H1.",
         "Fleiss, J. L., Levin, B. & Paik, M. C. (2003). Statistical Methods for Rates and "
         "Proportions, 3rd ed., ch. 4.",
     ),
@@ -423,9 +445,10 @@ _KIND_METHODS = {
     ),
     ("rate", "z"): (
         "Difference of mean counts, normal approximation",
-        "Counts per unit with variance equal to the mean (Poisson) unless a per-unit sd is "
-        "given, compared with the large-sample normal approximation.",
-        "Standard large-sample approximation; no single source.",
+        "Counts per unit with variance equal to the mean (Poisson), or over-dispersed with the "
+        "control arm's variance-to-mean ratio when a per-unit sd is given; Wald test.",
+        "Kohavi, R., Tang, D. & Xu, Y. (2020). Trustworthy Online Controlled Experiments. "
+        "Cambridge University Press, ch. 17.",
     ),
 }
 
@@ -469,6 +492,14 @@ def methods(plan) -> list[Method]:
                 "The per-unit variance of a ratio of sums comes from its linearisation.",
                 "Deng, A., Knoblich, U. & Lu, J. (2018). Applying the delta method in metric "
                 "analytics: a practical guide with novel ideas. KDD 2018.", m.name)
+        if m.margin != 0 and m.kind == "proportion" and method_of(m) in ("pooled", "pooled-cc"):
+            add("farrington-manning", "Restricted estimates under a margin (Farrington–Manning)",
+                "With a margin in H0, the H0 variance uses the maximum-likelihood proportions "
+                "restricted to the margin.",
+                "Farrington, C. P. & Manning, G. (1990). Test statistics and sample size formulae "
+                "for comparative binomial trials with null hypothesis of non-zero risk "
+                "difference or non-unity relative risk. Statistics in Medicine 9, 1447–1454.",
+                m.name)
         if m.margin != 0:
             add("margin", "Test against a margin",
                 "H0 places the difference at the margin instead of zero (non-inferiority, or "
@@ -494,11 +525,13 @@ def _plan_methods(plan, add) -> None:
             "normal distributions. Journal of the American Statistical Association 62, "
             "626–633.")
     if s.looks > 1:
+        futility = " and a futility bound" if s.futility else ""
         add("sequential", "Group-sequential design with α spending",
-            f"{s.looks} looks with {SPENDING_LABELS[s.spending]} boundaries; the maximum "
-            "sample size is the fixed one times the design's inflation factor.",
-            "Lan, K. K. G. & DeMets, D. L. (1983). Discrete sequential boundaries for clinical "
-            "trials. Biometrika 70, 659–663. Jennison, C. & Turnbull, B. W. (2000). Group "
+            f"{s.looks} looks at equal shares of the maximum units, "
+            f"{SPENDING_LABELS[s.spending]} boundaries{futility}; the maximum is the fixed "
+            "design's units times the design's inflation factor, and the expected units assume "
+            "the planned effect is real.",
+            f"{SPENDING_SOURCES[s.spending]} Jennison, C. & Turnbull, B. W. (2000). Group "
             "Sequential Methods with Applications to Clinical Trials. Chapman & Hall/CRC.")
     if s.daily_units is not None:
         text = "Days = total units ÷ (eligible units per day × share of traffic in the test)"

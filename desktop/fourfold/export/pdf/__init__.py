@@ -1,0 +1,261 @@
+"""The plan as a PDF report to attach to a test proposal (Qt's PDF writer, no other library).
+
+``write_pdf(plan, "plan.pdf", page="a4")`` lays out, in this order: the title, description and
+date; the key figures (duration, total units, binding metric, arms and split) and the
+evaluation's notes; the assumptions (α, power, correction, traffic, share, rounding, interim
+looks); the metric rows as entered; the results, with the solved quantity of each row in bold
+and the binding row highlighted; interim looks when the plan has them; variance reduction and
+clustering per row; each row's notes; the trade-off figures of every primary metric; and the
+published methods the rows use, with references. Every page carries ``fourfold.CAUTION`` and
+"page i of n" in its footer.
+
+The page is laid out from the writer's resolution with fonts in points, so it looks the same at
+any resolution; tables continue over pages under a repeated header. Painting text needs a
+``QGuiApplication``; when none exists (a headless ``fourfold export``) an offscreen application
+is created once and kept for the life of the process.
+
+References
+----------
+The methods section's sources are listed in :mod:`fourfold.export.report`.
+"""
+
+from __future__ import annotations
+
+import datetime
+import os
+from pathlib import Path
+
+from PySide6.QtCore import QMarginsF, QRectF, Qt
+from PySide6.QtGui import QGuiApplication, QPageLayout, QPageSize, QPainter, QPdfWriter
+
+from fourfold import CAUTION, __version__
+from fourfold.export import report
+from fourfold.export.files import ExportError, replacing
+from fourfold.export.pdf.flow import ACCENT, INK, MUTED, RULE, Flow, Text, font
+from fourfold.export.pdf.nonecount import keep_none_alive
+
+PAGES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}
+RESOLUTION = 300
+MARGINS_MM = QMarginsF(18.0, 15.0, 18.0, 12.0)
+_APPLICATIONS: list[QGuiApplication] = []
+
+
+def application() -> QGuiApplication:
+    """The running Qt application, or a new offscreen one kept for the rest of the process.
+
+    Also applies :func:`fourfold.export.pdf.nonecount.keep_none_alive`: a report makes tens of
+    thousands of Qt calls.
+    """
+    keep_none_alive()
+    running = QGuiApplication.instance()
+    if running is not None:
+        return running
+    from PySide6.QtWidgets import QApplication
+
+    created = QApplication(["fourfold", "-platform", "offscreen"])
+    _APPLICATIONS.append(created)
+    return created
+
+
+def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
+              today: datetime.date | None = None) -> Path:
+    """Write the plan's report to ``path``.
+
+    Parameters
+    ----------
+    plan : fourfold.plan.Plan
+        The plan; it is evaluated here with :func:`fourfold.plan.evaluation.compute`.
+    path : path-like
+        The PDF file; replaced only when the report is complete.
+    page : {"a4", "letter"}
+        Paper size (portrait).
+    today : datetime.date, optional
+        The date printed on the report (default: today).
+
+    Returns
+    -------
+    pathlib.Path
+        ``path``.
+
+    Raises
+    ------
+    fourfold.export.files.ExportError
+        For an unknown page size or a file that cannot be written; an existing file at
+        ``path`` is then left as it was.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> from fourfold.plan import load, sample_path
+    >>> out = pathlib.Path(tempfile.mkdtemp()) / "plan.pdf"
+    >>> write_pdf(load(sample_path()), out).read_bytes()[:5]
+    b'%PDF-'
+    """
+    if page not in PAGES:
+        raise ExportError(f"page must be one of {', '.join(PAGES)}; got {page!r}")
+    from fourfold.plan.evaluation import compute
+
+    result = compute(plan)
+    application()
+    path = Path(path)
+    when = today or datetime.date.today()
+    with replacing(path) as (part,):
+        writer = QPdfWriter(str(part))
+        writer.setPageSize(QPageSize(PAGES[page]))
+        writer.setPageOrientation(QPageLayout.Orientation.Portrait)
+        writer.setPageMargins(MARGINS_MM, QPageLayout.Unit.Millimeter)
+        writer.setResolution(RESOLUTION)
+        writer.setTitle(plan.settings.title)
+        writer.setCreator(f"Fourfold {__version__}")
+        painter = QPainter()
+        if not painter.begin(writer):
+            raise ExportError(f"cannot write {path}: the PDF writer could not open the file")
+        try:
+            _render(painter, writer, plan, result, when)
+        finally:
+            painter.end()
+        del painter, writer
+    return path
+
+
+def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.date) -> None:
+    width, height = float(writer.width()), float(writer.height())
+
+    def pt(points: float) -> float:
+        return points * writer.resolution() / 72.0
+
+    footer_caution = Text(CAUTION, font(6.5), width * 0.8, writer, spacing=1.1)
+    footer_height = footer_caution.height + pt(9)
+    header_height = pt(24)
+    flow = Flow(writer, width=width, top_first=0.0, top=header_height,
+                bottom=height - footer_height)
+    _content(flow, plan, result, when)
+    dated = f"{when.day} {when:%B %Y}"
+    title = plan.settings.title
+
+    def decorate(p: QPainter, index: int, count: int) -> None:
+        rule_y = height - footer_height + pt(3)
+        _rule(p, 0, width, rule_y, RULE, pt(0.5))
+        footer_caution.draw(p, 0, rule_y + pt(4), MUTED)
+        label = Text(f"page {index + 1} of {count}", font(7.5), width * 0.18, writer,
+                     Qt.AlignmentFlag.AlignRight)
+        label.draw(p, width * 0.82, rule_y + pt(4), MUTED)
+        if index:
+            left = Text(title, font(7.5), width * 0.7, writer)
+            left.draw(p, 0, 0, MUTED)
+            right = Text(f"Sample-size plan · {dated}", font(7.5), width * 0.3, writer,
+                         Qt.AlignmentFlag.AlignRight)
+            right.draw(p, width * 0.7, 0, MUTED)
+            _rule(p, 0, width, max(left.height, right.height) + pt(3), RULE, pt(0.5))
+
+    flow.paint(painter, writer.newPage, decorate)
+
+
+def _rule(p: QPainter, x0: float, x1: float, y: float, color, width: float) -> None:
+    pen = p.pen()
+    pen.setColor(color)
+    pen.setWidthF(width)
+    p.setPen(pen)
+    p.drawLine(QRectF(x0, y, x1 - x0, 0).topLeft(), QRectF(x0, y, x1 - x0, 0).topRight())
+
+
+def _roles(plan) -> str:
+    counts = {role: sum(1 for m in plan.metrics if m.role == role) for role in report.ROLE_ORDER}
+    parts = [f"{count} {role}" for role, count in counts.items() if count]
+    rows = "metric row" if len(plan.metrics) == 1 else "metric rows"
+    return f"{len(plan.metrics)} {rows} ({', '.join(parts)})" if parts else f"0 {rows}"
+
+
+def _content(flow: Flow, plan, result, when: datetime.date) -> None:
+    s = plan.settings
+    flow.paragraph("SAMPLE-SIZE PLAN", font(8, bold=True), ACCENT, after=2)
+    flow.paragraph(s.title, font(19, bold=True), INK, spacing=1.1, after=5)
+    flow.paragraph(f"Prepared {when.day} {when:%B %Y} with Fourfold {__version__} · "
+                   f"{_roles(plan)}", font(8), MUTED, after=8)
+    flow.paragraph(s.description, font(9.5), INK, spacing=1.3, after=10)
+    flow.cards(report.summary(plan, result))
+    flow.space(8)
+    for note in result.notes:
+        flow.paragraph(f"• {note}", font(8.5), MUTED, indent=2, spacing=1.25, after=2)
+
+    flow.heading("Assumptions")
+    flow.key_values(report.assumptions(plan))
+    flow.heading("Variance reduction and clustering per row", level=2)
+    flow.paragraph("The variance factor multiplies the units a row needs: (1 − ρ²) from CUPED "
+                   "times the design effect of clustered units.", font(8), MUTED, spacing=1.25)
+    design = report.design_table(plan, result)
+    if design.rows:
+        flow.table(design)
+    others = len(plan.metrics) - len(design.rows)
+    if others:
+        rows = "row uses" if others == 1 else "rows use"
+        flow.space(4)
+        flow.paragraph(f"{'The other' if design.rows else 'All'} {others} {rows} neither CUPED "
+                       "nor clustering (variance factor 1).", font(8), MUTED)
+
+    flow.heading("Metric rows")
+    flow.paragraph("As entered. Effects are treatment minus control: “%” is relative to the "
+                   "baseline, “pp” percentage points. “H0 margin” is the difference under the "
+                   "null hypothesis of a non-inferiority or superiority-by-margin test.",
+                   font(8), MUTED, spacing=1.25)
+    flow.table(report.inputs_table(plan))
+
+    flow.heading("Results")
+    flow.paragraph("Units are rounded up to whole units. The quantity each row solves for is in "
+                   "bold; the binding row, which sets the duration, is highlighted. α is the "
+                   "level each comparison is tested at, after any correction.",
+                   font(8), MUTED, spacing=1.25)
+    flow.table(report.results_table(plan, result))
+
+    sequential = report.sequential_table(plan, result)
+    if sequential is not None:
+        flow.heading("Interim looks")
+        flow.table(sequential)
+
+    _figures(flow, plan, result)
+
+    row_notes = report.notes(plan)
+    if row_notes:
+        flow.heading("Notes on the rows")
+        for label, text in row_notes:
+            entry = [(label, font(8.5, bold=True), INK, 0, 1),
+                     (text, font(8.5), INK, 10, 5)]
+            _entry(flow, entry)
+
+    flow.heading("Methods and references")
+    for method in report.methods(plan):
+        used = ""
+        if method.rows:
+            names = ", ".join(method.rows) if len(method.rows) <= 8 else f"{len(method.rows)} rows"
+            used = f" Used by: {names}."
+        _entry(flow, [(method.name, font(8.5, bold=True), INK, 0, 1),
+                      (method.text + used, font(8.5), INK, 10, 1),
+                      (method.reference, font(8, italic=True), MUTED, 10, 6)])
+
+
+def _entry(flow: Flow, parts) -> None:
+    """Paragraphs (text, font, colour, indent, space after) kept together on one page."""
+    flow.keep(sum(flow.measure(text, face, indent=indent, spacing=1.25, after=after)
+                  for text, face, _, indent, after in parts))
+    for text, face, color, indent, after in parts:
+        flow.paragraph(text, face, color, indent=indent, spacing=1.25, after=after)
+
+
+def _figures(flow: Flow, plan, result) -> None:
+    from fourfold.ui.plots import paint_tradeoffs
+
+    for index, metric in enumerate(plan.metrics):
+        if metric.role != "primary":
+            continue
+        height = flow.width * 0.66
+        flow.keep(height + flow.pt(80))
+        flow.heading(f"Trade-offs: {metric.name}")
+        flow.paragraph("Units needed against the effect, the power and α, and the effect the "
+                       "test can detect against its runtime; the solid curve is this row's "
+                       "design, the dashed one a neighbouring choice.",
+                       font(8), MUTED, spacing=1.25)
+
+        def paint(p, rect, index=index):
+            paint_tradeoffs(p, rect, plan, result, index)
+
+        flow.figure(height, paint)
