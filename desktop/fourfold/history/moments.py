@@ -49,7 +49,7 @@ class Moments:
             return cls()
         mean = float(x.mean())
         dev = x - mean
-        return cls(n, mean, float(np.dot(dev, dev)))
+        return cls(n, mean, float(np.sum(dev * dev)))
 
     @classmethod
     def from_summary(cls, n: int, mean: float, variance: float) -> Moments:
@@ -119,9 +119,9 @@ class CoMoments:
         mx, my = float(x.mean()), float(y.mean())
         dx, dy = x - mx, y - my
         return cls(
-            Moments(int(x.size), mx, float(np.dot(dx, dx))),
-            Moments(int(y.size), my, float(np.dot(dy, dy))),
-            float(np.dot(dx, dy)),
+            Moments(int(x.size), mx, float(np.sum(dx * dx))),
+            Moments(int(y.size), my, float(np.sum(dy * dy))),
+            float(np.sum(dx * dy)),
         )
 
     @classmethod

@@ -131,7 +131,6 @@ def _csv_chunks(path: Path, columns: list[str], chunk_rows: int) -> Iterator[Chu
                 chunksize=chunk_rows,
                 skip_blank_lines=False,
                 encoding="utf-8-sig",
-                skipinitialspace=True,
             )
             with reader:
                 for frame in reader:
