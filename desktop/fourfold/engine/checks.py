@@ -167,8 +167,10 @@ def _check(solve, kind, method, alternative, needs, flat, rel, has_sd):
     if "n" in needs:
         checks.append((~(flat["n"] > 0), "n must be greater than 0"))
         if method == "t":
-            many = (flat["n"] > 1) & (flat["n"] * flat["ratio"] > 1)
-            checks.append((~many, "n must give more than 1 unit in each arm for the t method"))
+            n, r = flat["n"], flat["ratio"]
+            many = (n > 1) & (n * r > 1) & (n * (1 + r) >= 3)
+            message = "n must give more than 1 unit in each arm and 3 in all for the t method"
+            checks.append((~many, message))
     b = flat["baseline"]
     checks.append((rel & (b == 0), "baseline must not be 0 for a relative effect or margin"))
     scale = np.where(rel, b, 1.0)

@@ -69,7 +69,7 @@ _REASONS = {
         roots.FAILED: "no alpha could be found for these inputs",
     },
 }
-_T_TOO_SMALL = "the effect is so large that the t method would need at most 1 unit per arm"
+_T_TOO_SMALL = "the effect is so large that the t method would need fewer than 3 units in all"
 
 
 def _finish(p, values, reasons):
@@ -118,7 +118,7 @@ def _sample_size(p):
     n0 = np.where(x0 > 0, x0 * x0, 1.0)
     if exact_t:
         n0 = n0 + u * u / (2.0 * (1.0 + ratio))
-        n_min = np.maximum(1.0, 1.0 / ratio) * (1.0 + 1e-12)
+        n_min = np.maximum(np.maximum(1.0, 1.0 / ratio), 3.0 / (1.0 + ratio)) * (1.0 + 1e-12)
     else:
         n_min = np.full(i.size, _N_MIN_Z)
     y = np.log(np.clip(n0, n_min, _N_MAX))

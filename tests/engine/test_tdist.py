@@ -1,0 +1,118 @@
+"""Noncentral t tails and the exact-t solvers at A/B-test scale (df up to millions).
+
+Reference: mpmath 1.3 (30-digit quadrature of P(T > t) = E[Φ(δ − t·√(V/ν))], V ~ χ²(ν)),
+and statsmodels 0.15.0 / scipy 1.17.1 where they are finite.  scipy's ``nctdtr`` (and so
+``scipy.stats.nct`` and statsmodels' t power) returns nan for some of these inputs.
+"""
+
+import mpmath as mp
+import numpy as np
+import pytest
+
+from fourfold import engine
+from fourfold.engine import tdist
+
+MPMATH_VERSION = mp.__version__
+
+
+def _nct_sf_mpmath(df, nc, t):
+    with mp.workdps(30):
+        df, nc, t = mp.mpf(df), mp.mpf(nc), mp.mpf(t)
+        s = mp.sqrt(2 * df)
+        log_norm = -(df / 2) * mp.log(2) - mp.loggamma(df / 2)
+
+        def integrand(w):
+            v = df + s * w
+            if v <= 0:
+                return mp.mpf(0)
+            density = mp.exp(log_norm + (df / 2 - 1) * mp.log(v) - v / 2) * s
+            return density * mp.ncdf(nc - t * mp.sqrt(v / df))
+
+        lo = -df / s
+        points = [lo, *(w for w in (-40, -20, -10, -5, 0, 5, 10, 20, 40) if w > lo), mp.inf]
+        return float(mp.quad(integrand, points))
+
+
+@pytest.mark.parametrize("df,nc,t", [
+    (2.0e6, -6.4, 2.86),    # mirror of a far tail where nctdtr gives nan (df 2e6)
+    (3.0e6, 2.8, 1.96),     # main tail, α = 0.05 two-sided, power ≈ 0.8, n ≈ 1.5e6
+    (3.0e6, -2.8, 1.96),    # its far tail (≈ 1e-6)
+    (99_999.0, 2.8, 1.96),  # just below the switch to the normal limit
+    (100_001.0, -2.8, 1.96),  # just above it, far tail
+    (1198.0, -6.53, 5.4),   # df 1198, tiny tail of a strict α
+    (30.0, 2.0, 1.7),
+])
+def test_nct_tail_matches_high_precision_quadrature(df, nc, t):
+    ref = _nct_sf_mpmath(df, nc, t)
+    got = float(tdist.nct_sf(df, nc, t))
+    assert got == pytest.approx(ref, rel=1e-7, abs=1e-13)
+
+
+def test_nct_tail_is_finite_everywhere_scipy_is_not():
+    rng = np.random.default_rng(20261201)
+    df = 10 ** rng.uniform(0.3, 7.0, 20_000)
+    nc = rng.uniform(-40.0, 40.0, df.size)
+    t = rng.uniform(-10.0, 10.0, df.size)
+    for sign in (1.0, -1.0):
+        got = tdist.nct_sf(df, sign * nc, t)
+        assert np.all(np.isfinite(got))
+        assert np.all((got >= 0.0) & (got <= 1.0))
+
+
+def test_nct_tail_is_continuous_across_the_normal_limit():
+    df = tdist.NORMAL_LIMIT_DF
+    nc = np.linspace(-5.0, 5.0, 41)
+    below = tdist.nct_sf(df * (1 - 1e-9), nc, 1.96)
+    above = tdist.nct_sf(df * (1 + 1e-9), nc, 1.96)
+    np.testing.assert_allclose(below, above, atol=2e-11)
+
+
+@pytest.mark.parametrize("alternative", ["two-sided", "greater"])
+def test_exact_t_at_millions_is_finite_and_close_to_z(alternative):
+    # n up to 3e6 per arm.  The t needs a little more than z: about u²/(2(1 + r)) units
+    # (Guenther 1981, from memory), which is tiny next to n.
+    sd = 14.8
+    effect = sd * np.array([0.002, 0.004, 0.01, 0.05])
+    ratio = np.array([1.0, 2.0, 1.0, 0.5])
+    n_t = engine.sample_size("mean", 2.35, effect, sd=sd, method="t", ratio=ratio,
+                             alternative=alternative)
+    n_z = engine.sample_size("mean", 2.35, effect, sd=sd, method="z", ratio=ratio,
+                             alternative=alternative)
+    assert np.all(np.isfinite(n_t))
+    assert n_t[0] > 3.0e6
+    assert np.all(n_t > n_z)
+    u = 1.959964 if alternative == "two-sided" else 1.644854
+    np.testing.assert_allclose(n_t - n_z, u * u / (2 * (1 + ratio)), rtol=0.05, atol=0.02)
+    back = engine.power("mean", 2.35, effect, n_t, sd=sd, method="t", ratio=ratio,
+                        alternative=alternative)
+    np.testing.assert_allclose(back, 0.8, atol=1e-9)
+
+
+def test_exact_t_power_where_statsmodels_returns_nan():
+    # statsmodels 0.15 TTestIndPower.power gives nan here (n = 400 and 800, α = 1.85e-7):
+    # the far tail hits the nctdtr nan.  The engine's value agrees with the mpmath tails.
+    n, ratio, d, alpha = 400.0, 2.0, 0.4, 1.8544e-7
+    df = n * (1 + ratio) - 2
+    nc = d * np.sqrt(n * ratio / (1 + ratio))
+    from scipy import special
+
+    u = -special.stdtrit(df, alpha / 2)
+    ref = _nct_sf_mpmath(df, nc, u) + _nct_sf_mpmath(df, -nc, u)
+    got = engine.power("mean", 0.0, d, n, sd=1.0, alpha=alpha, ratio=ratio, method="t")
+    assert got == pytest.approx(ref, rel=1e-9)
+
+
+def test_exact_t_small_samples():
+    # Tiny n: df = 2·n − 2 down to 1.  Below df = 1 the t power is not monotone in n
+    # (the critical value runs off to infinity), so the engine stops there with a reason.
+    d = np.array([2.0, 4.0, 8.0, 100.0])
+    n = engine.sample_size("mean", 0.0, d, sd=1.0, method="t")
+    assert np.all(np.isfinite(n[:3])) and np.all(n[:3] >= 1.5)
+    back = engine.power("mean", 0.0, d[:3], n[:3], sd=1.0, method="t")
+    np.testing.assert_allclose(back, 0.8, atol=1e-9)
+    assert np.isnan(n[3])
+    reasons = engine.problems("sample_size", "mean", 0.0, effect=d, sd=1.0, method="t")
+    assert reasons[3] == (
+        "the effect is so large that the t method would need fewer than 3 units in all"
+    )
+    assert list(reasons[:3]) == ["", "", ""]
