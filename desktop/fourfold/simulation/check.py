@@ -248,14 +248,24 @@ def is_stale(plan, index, result=None):
     return False
 
 
-def check_plan(plan, *, reps=2000, seed=0, progress=None, cancelled=None, workers=None):
-    """Simulate every row that can be computed, with one progress count over all of them.
+def check_plan(plan, *, rows=None, reps=2000, seed=0, history=None, history_effect="shift",
+               progress=None, cancelled=None, workers=None):
+    """Simulate rows of a plan (all by default), with one progress count over all of them.
 
     Each row uses the same ``seed``, so its check equals :func:`check_metric` for that row.
+
+    Parameters
+    ----------
+    plan : fourfold.plan.Plan
+    rows : sequence of int, optional
+        Row indices to check; every row when omitted.
+    reps, seed, history, history_effect, progress, cancelled, workers
+        As for :func:`check_metric` (``progress`` counts over all rows).
 
     Returns
     -------
     PlanCheck
+        Rows that cannot be computed or simulated are in ``skipped`` with the reason.
 
     Raises
     ------
@@ -272,8 +282,9 @@ def check_plan(plan, *, reps=2000, seed=0, progress=None, cancelled=None, worker
     ([0], [1])
     """
     result = compute(plan)
+    wanted = range(len(plan.metrics)) if rows is None else sorted(set(rows))
     todo, skipped = [], []
-    for index in range(len(plan.metrics)):
+    for index in wanted:
         try:
             _row_setup(plan, index, result)
         except FourfoldError as error:
@@ -290,7 +301,8 @@ def check_plan(plan, *, reps=2000, seed=0, progress=None, cancelled=None, worker
                 progress(offset + done, total)
 
         try:
-            check = check_metric(plan, index, reps=reps, seed=seed, result=result,
+            check = check_metric(plan, index, reps=reps, seed=seed, history=history,
+                                 history_effect=history_effect, result=result,
                                  progress=report, cancelled=cancelled, workers=workers)
         except SimulationCancelled:
             raise
