@@ -10,10 +10,12 @@ import math
 import numpy as np
 import pytest
 import scipy
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.stats import norm
 
 from fourfold import engine
-from fourfold.plan import Metric, Plan, Settings, load, sample_path
+from fourfold.plan import CHOICES, Metric, Plan, Settings, load, sample_path, validate_metric
 from fourfold.plan.evaluation import compute, evaluate, runtime_units
 
 SCIPY = scipy.__version__
@@ -242,3 +244,51 @@ def test_evaluate_is_compute_as_a_frame():
     assert frame.attrs["binding_name"] == result.binding_name
     assert frame.attrs["notes"] == list(result.notes)
     assert frame.attrs["settings"]["arms"] == 2
+
+
+_METRICS = st.builds(
+    Metric,
+    role=st.sampled_from(CHOICES["role"]),
+    kind=st.sampled_from(CHOICES["kind"]),
+    baseline=st.floats(-2.0, 60.0),
+    sd=st.one_of(st.none(), st.floats(0.01, 40.0)),
+    effect=st.one_of(st.none(), st.floats(-1.0, 1.0)),
+    relative=st.booleans(),
+    alternative=st.sampled_from(CHOICES["alternative"]),
+    margin=st.floats(-0.2, 0.2),
+    alpha=st.one_of(st.none(), st.floats(0.001, 0.3)),
+    power=st.one_of(st.none(), st.floats(0.05, 0.99)),
+    rho=st.floats(-0.95, 0.95),
+    cluster_size=st.floats(1.0, 20.0),
+    icc=st.floats(0.0, 1.0),
+    solve=st.sampled_from(CHOICES["solve"]),
+    n=st.one_of(st.none(), st.floats(1.0, 1e7)),
+)
+_SETTINGS = st.builds(
+    Settings,
+    arms=st.integers(1, 4),
+    ratio=st.floats(0.25, 4.0),
+    correction=st.sampled_from(CHOICES["correction"]),
+    daily_units=st.one_of(st.none(), st.floats(10.0, 1e6)),
+    share=st.floats(0.05, 1.0),
+    whole_weeks=st.booleans(),
+    runtime_days=st.one_of(st.none(), st.floats(1.0, 90.0)),
+)
+
+
+@settings(max_examples=60, deadline=None)
+@given(_SETTINGS, st.lists(_METRICS, min_size=1, max_size=3))
+def test_compute_never_raises_and_explains_every_missing_result(plan_settings, metrics):
+    """Property of the contract (no outside source): valid fields never make compute raise."""
+    plan = Plan(plan_settings, [validate_metric(metric) for metric in metrics])
+    result = compute(plan)
+    assert len(result.rows) == len(metrics)
+    for row in result.rows:
+        if row.reason:
+            assert math.isnan(row.units_control)
+        else:
+            assert row.units_control >= 1 and row.units_control == math.ceil(row.units_control)
+    if result.binding_index is not None:
+        binding = result.rows[result.binding_index]
+        assert plan.metrics[result.binding_index].role in ("primary", "guardrail")
+        assert result.total_units == binding.units_total
