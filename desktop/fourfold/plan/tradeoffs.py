@@ -1,20 +1,82 @@
 """Curve data for the trade-off plots of one metric row (no Qt).
 
-PLACEHOLDER-DRAFT
+For one row of a plan, four figures answer the questions a planning meeting asks:
+
+``effect``
+    Control-arm units against the effect, over a range around the row's effect; beside it the
+    same curve at a neighbouring power (0.9 next to 0.8, 0.8 next to anything higher).
+``power``
+    Units against power 0.5–0.99; beside it a neighbouring α (0.01 next to 0.05).
+``alpha``
+    Units against α 0.001–0.2 (log scale); beside it the neighbouring power.
+``runtime``
+    Detectable effect against days of runtime, one day to about eight weeks, with each whole
+    week marked ("what each extra week buys"); beside it the neighbouring power. Needs the
+    plan's daily units.
+
+Every curve is one vectorised engine call with the row's own design, exactly as
+:func:`fourfold.plan.evaluation.compute` evaluates the row: its α (overridden and corrected for
+multiple comparisons) and power come from the row's result, units are multiplied by the row's
+design factor, and days turn into units through :func:`fourfold.plan.evaluation.runtime_units`.
+Each figure carries the row's design point, which lies on its solid curve. Effects are shown in
+display units: percent of the baseline for relative rows, percentage points for absolute
+proportions, the metric's own units otherwise (``Tradeoffs.effect_scale`` converts back).
+
+References
+----------
+Lehr, R. (1992). Sixteen s-squared over d-squared: a relation for crude sample size estimates.
+*Statistics in Medicine* 11, 1099–1102 (units grow with 1/δ², hence the log axis on the effect
+figure).
+
+Kohavi, R., Tang, D. & Xu, Y. (2020). *Trustworthy Online Controlled Experiments*. Cambridge
+University Press, ch. 15 (trading effect size, power and duration).
+
+Examples
+--------
+>>> from fourfold.plan.model import Metric, Plan, Settings
+>>> plan = Plan(Settings(daily_units=20_000),
+...             [Metric(name="Spend", kind="mean", baseline=10.0, sd=5.0, effect=0.02)])
+>>> data = tradeoffs(plan, 0)
+>>> data.effect.x_label, data.effect.point
+('effect (% of baseline)', (2.0, 9812.0))
+>>> len(data.runtime.marks.x)
+8
 """
 
 from __future__ import annotations
 
+import dataclasses
+import math
 from dataclasses import dataclass
 
 import numpy as np
 
+from fourfold import engine
+from fourfold.plan.evaluation import PlanResult, RowResult, compute, runtime_units
+from fourfold.plan.model import Metric, Plan
+
 FIGURES = ("effect", "power", "alpha", "runtime")
+POINTS = 81
+WEEKS = 8
+MAX_WEEKS = 52
+SPAN = (0.4, 2.5)
+POWER_RANGE = (0.5, 0.99)
+ALPHA_RANGE = (0.001, 0.2)
+
+_EMPTY = np.empty(0)
 
 
 @dataclass(frozen=True)
 class Curve:
-    """One line of a figure: ``y`` against ``x`` (nan where a point cannot be computed)."""
+    """One line of a figure: ``y`` against ``x`` in display units (nan where not computable).
+
+    Attributes
+    ----------
+    x, y : numpy.ndarray
+        Points of the line.
+    label : str
+        What distinguishes the line (e.g. ``"power 80 %"``).
+    """
 
     x: np.ndarray
     y: np.ndarray
@@ -23,7 +85,31 @@ class Curve:
 
 @dataclass(frozen=True)
 class Figure:
-    """One trade-off figure of a row, in display units."""
+    """One trade-off figure of a row.
+
+    Attributes
+    ----------
+    name : str
+        One of :data:`FIGURES`.
+    title, x_label, y_label : str
+        Texts of the figure; labels name their units.
+    x_log, y_log : bool
+        Whether an axis is best shown on a log scale (y when the curve spans a decade or more).
+    curve : Curve
+        The row's own design.
+    neighbour : Curve
+        The neighbouring choice (power or α), to be drawn faint.
+    point : tuple of float
+        The row's design point ``(x, y)``; nan when the row cannot be computed.
+    marks : Curve
+        Marked points on the curve (the whole weeks of the runtime figure; empty otherwise).
+    guide : float
+        An x position worth a vertical line (the plan's duration on the runtime figure), or nan.
+    guide_label : str
+        Its label.
+    reason : str
+        Why the figure is empty; ``""`` when it is drawn.
+    """
 
     name: str
     title: str
@@ -34,9 +120,7 @@ class Figure:
     curve: Curve
     neighbour: Curve
     point: tuple[float, float]
-    point_label: str
     marks: Curve
-    mark_labels: tuple[str, ...]
     guide: float
     guide_label: str
     reason: str
@@ -44,11 +128,32 @@ class Figure:
 
 @dataclass(frozen=True)
 class Tradeoffs:
-    """The four figures of one row and how to turn an effect on the plot back into the row's."""
+    """The four figures of one row.
+
+    Attributes
+    ----------
+    index : int
+        The metric row, from 0.
+    name : str
+        The row's name.
+    effect_scale : float
+        Display effect = row effect × ``effect_scale`` (100 for percent and percentage points).
+    effect_unit : str
+        ``"%"``, ``"pp"`` or ``""`` (the metric's own units).
+    effect_span : tuple of float
+        The effect range of the effect figure, in the row's own units (low, high).
+    effect_editable : bool
+        Whether the row's effect is an input (so the effect marker may be dragged).
+    effect, power, alpha, runtime : Figure
+        The figures.
+    reason : str
+        Why the row cannot be computed; ``""`` when it can.
+    """
 
     index: int
     name: str
     effect_scale: float
+    effect_unit: str
     effect_span: tuple[float, float]
     effect_editable: bool
     effect: Figure
@@ -59,4 +164,243 @@ class Tradeoffs:
 
     @property
     def figures(self) -> tuple[Figure, Figure, Figure, Figure]:
+        """The four figures in display order."""
         return (self.effect, self.power, self.alpha, self.runtime)
+
+
+def neighbour_power(power: float) -> float:
+    """The power to compare with: 0.9 beside anything below 0.85, else 0.8.
+
+    Examples
+    --------
+    >>> neighbour_power(0.8), neighbour_power(0.9)
+    (0.9, 0.8)
+    """
+    return 0.9 if power < 0.85 else 0.8
+
+
+def neighbour_alpha(alpha: float) -> float:
+    """The α to compare with: 0.01 beside anything above 0.02, else 0.05.
+
+    Examples
+    --------
+    >>> neighbour_alpha(0.05), neighbour_alpha(0.01)
+    (0.01, 0.05)
+    """
+    return 0.01 if alpha > 0.02 else 0.05
+
+
+def _power_label(power: float) -> str:
+    return f"power {power * 100:.3g} %"
+
+
+def _alpha_label(alpha: float) -> str:
+    return f"α {alpha:.3g}"
+
+
+def _effect_units(metric: Metric) -> tuple[float, str, str]:
+    """``(scale, unit, axis text)`` of the row's effect as displayed."""
+    if metric.relative:
+        return 100.0, "%", "% of baseline"
+    if metric.kind == "proportion":
+        return 100.0, "pp", "percentage points"
+    if metric.kind == "rate":
+        return 1.0, "", "difference in count per unit"
+    return 1.0, "", "difference in means"
+
+
+def _row_effect(metric: Metric, row: RowResult) -> float:
+    return row.effect_rel if metric.relative else row.effect_abs
+
+
+def _default_span(metric: Metric, effect: float) -> tuple[float, float]:
+    distance = effect - metric.margin
+    ends = sorted((metric.margin + distance * SPAN[0], metric.margin + distance * SPAN[1]))
+    return float(ends[0]), float(ends[1])
+
+
+def _usable_span(span: tuple[float, float] | None, effect: float) -> bool:
+    if span is None:
+        return False
+    low, high = span
+    return math.isfinite(low) and math.isfinite(high) and low < effect < high
+
+
+def _spans_decades(values: np.ndarray) -> bool:
+    finite = values[np.isfinite(values) & (values > 0)]
+    return bool(finite.size > 1 and finite.max() / finite.min() >= 10.0)
+
+
+def _empty_figure(name: str, title: str, x_label: str, y_label: str, reason: str,
+                  x_log: bool = False) -> Figure:
+    blank = Curve(_EMPTY, _EMPTY, "")
+    return Figure(name, title, x_label, y_label, x_log, False, blank, blank,
+                  (math.nan, math.nan), blank, math.nan, "", reason)
+
+
+class _Row:
+    """The engine calls of one computed row, vectorised over any of effect, α, power, n."""
+
+    def __init__(self, plan: Plan, metric: Metric, row: RowResult) -> None:
+        self.plan, self.metric, self.row = plan, metric, row
+        settings = plan.settings
+        self.common = dict(sd=metric.sd, alternative=metric.alternative, ratio=settings.ratio,
+                           relative=metric.relative, margin=metric.margin, method=metric.method)
+
+    def units(self, effect, alpha, power) -> np.ndarray:
+        """Control-arm units (with the design factor), as the evaluation computes them."""
+        metric = self.metric
+        with np.errstate(all="ignore"):
+            n = engine.sample_size(metric.kind, metric.baseline, effect, alpha=alpha,
+                                   power=power, **self.common)
+        return np.asarray(n, dtype=float) * self.row.design_factor
+
+    def detectable(self, n_control, alpha, power) -> np.ndarray:
+        """Detectable effect (row units) for control-arm units (before the design factor)."""
+        metric = self.metric
+        with np.errstate(all="ignore"):
+            effect = engine.detectable_effect(metric.kind, metric.baseline,
+                                              np.asarray(n_control) / self.row.design_factor,
+                                              alpha=alpha, power=power, **self.common)
+        return np.asarray(effect, dtype=float)
+
+
+def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
+              effect_span: tuple[float, float] | None = None, points: int = POINTS
+              ) -> Tradeoffs:
+    """The curve data of row ``index``'s four trade-off figures.
+
+    Parameters
+    ----------
+    plan : Plan
+        The plan.
+    index : int
+        The metric row, from 0.
+    result : PlanResult, optional
+        ``compute(plan)``, when the caller has it already.
+    effect_span : tuple of float, optional
+        Effect range (row units) of the effect figure to keep, e.g. while the user drags the
+        effect; ignored unless the row's effect lies strictly inside it.
+    points : int
+        Points per curve (at least 5).
+
+    Returns
+    -------
+    Tradeoffs
+        Empty curves and the reason when the row cannot be computed.
+
+    Raises
+    ------
+    ValueError
+        When ``index`` is not a row of the plan or ``points`` is below 5.
+    """
+    if not 0 <= index < len(plan.metrics):
+        raise ValueError(f"index must be a row of the plan (0 to {len(plan.metrics) - 1}), "
+                         f"got {index!r}")
+    if points < 5:
+        raise ValueError(f"points must be at least 5, got {points!r}")
+    result = compute(plan) if result is None else result
+    metric, row = plan.metrics[index], result.rows[index]
+    scale, unit, effect_text = _effect_units(metric)
+    y_units = "units per arm" if plan.settings.ratio == 1.0 else "control-arm units"
+    sided = "two-sided" if metric.alternative == "two-sided" else "one-sided"
+    per = ", per comparison" if plan.settings.correction != "none" else ""
+    labels = {
+        "effect": ("Sample size against effect", f"effect ({effect_text})", y_units),
+        "power": ("Sample size against power", "power (%)", y_units),
+        "alpha": ("Sample size against α", f"α ({sided}{per}, log scale)", y_units),
+        "runtime": ("What each week can detect", "days of runtime",
+                    f"detectable effect ({effect_text})"),
+    }
+    editable = row.solved != "detectable_effect"
+    effect = _row_effect(metric, row)
+    if row.reason or not math.isfinite(effect):
+        reason = row.reason or "the row has no effect to plot"
+        figures = [_empty_figure(name, *labels[name], reason, x_log=name == "alpha")
+                   for name in FIGURES]
+        return Tradeoffs(index, metric.name, scale, unit, (math.nan, math.nan), editable,
+                         *figures, reason)
+
+    engine_row = _Row(plan, metric, row)
+    span = effect_span if _usable_span(effect_span, effect) else _default_span(metric, effect)
+    figures = (
+        _effect_figure(engine_row, effect, span, scale, labels["effect"], points),
+        _power_figure(engine_row, effect, scale, labels["power"], points),
+        _alpha_figure(engine_row, effect, scale, labels["alpha"], points),
+        _runtime_figure(engine_row, result, effect, scale, labels["runtime"], points),
+    )
+    return Tradeoffs(index, metric.name, scale, unit, (float(span[0]), float(span[1])),
+                     editable, *figures, "")
+
+
+def _effect_figure(r: _Row, effect: float, span: tuple[float, float], scale: float,
+                   labels: tuple[str, str, str], points: int) -> Figure:
+    row = r.row
+    grid = np.linspace(span[0], span[1], points)
+    other = neighbour_power(row.power)
+    y = r.units(grid, row.alpha, row.power)
+    return Figure("effect", *labels, False, _spans_decades(y),
+                  Curve(grid * scale, y, _power_label(row.power)),
+                  Curve(grid * scale, r.units(grid, row.alpha, other), _power_label(other)),
+                  (effect * scale, row.units_control), Curve(_EMPTY, _EMPTY, ""),
+                  math.nan, "", "")
+
+
+def _power_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, str],
+                  points: int) -> Figure:
+    row = r.row
+    low = max(0.05, min(POWER_RANGE[0], row.power - 0.05))
+    high = min(0.999, max(POWER_RANGE[1], row.power + 0.005))
+    grid = np.linspace(low, high, points)
+    other = neighbour_alpha(row.alpha)
+    y = r.units(effect, row.alpha, grid)
+    return Figure("power", *labels, False, _spans_decades(y),
+                  Curve(grid * 100.0, y, _alpha_label(row.alpha)),
+                  Curve(grid * 100.0, r.units(effect, other, grid), _alpha_label(other)),
+                  (row.power * 100.0, row.units_control), Curve(_EMPTY, _EMPTY, ""),
+                  math.nan, "", "")
+
+
+def _alpha_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, str],
+                  points: int) -> Figure:
+    row = r.row
+    low = min(ALPHA_RANGE[0], row.alpha / 2.0)
+    high = max(ALPHA_RANGE[1], min(0.5, row.alpha * 1.5))
+    grid = np.geomspace(low, high, points)
+    other = neighbour_power(row.power)
+    y = r.units(effect, grid, row.power)
+    return Figure("alpha", *labels, True, _spans_decades(y),
+                  Curve(grid, y, _power_label(row.power)),
+                  Curve(grid, r.units(effect, grid, other), _power_label(other)),
+                  (row.alpha, row.units_control), Curve(_EMPTY, _EMPTY, ""),
+                  math.nan, "", "")
+
+
+def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
+                    labels: tuple[str, str, str], points: int) -> Figure:
+    row, settings = r.row, r.plan.settings
+    if settings.daily_units is None:
+        return _empty_figure("runtime", *labels,
+                             "set the plan's daily units to see days of runtime")
+    per_day = runtime_units(dataclasses.replace(settings, runtime_days=1.0))
+    needed = row.units_control / per_day  # exact days (the table rounds up to days or weeks)
+    longest = max(needed, result.duration_days or 0.0)
+    weeks = int(min(MAX_WEEKS, max(WEEKS, math.ceil(longest / 7.0) + 1)))
+    first = min(1.0, needed / 2.0) if math.isfinite(needed) and needed > 0 else 1.0
+    days = np.linspace(first, 7.0 * weeks, max(points, 2 * weeks + 1))
+    week_days = 7.0 * np.arange(1, weeks + 1)
+    other = neighbour_power(row.power)
+
+    def effect_at(day_values, power):
+        units = runtime_units(dataclasses.replace(settings, runtime_days=day_values))
+        return r.detectable(units, row.alpha, power) * scale
+
+    duration = result.duration_days
+    guide = float(duration) if duration is not None and math.isfinite(duration) else math.nan
+    guide_label = f"test runs {guide:g} d" if math.isfinite(guide) else ""
+    return Figure("runtime", *labels, False, False,
+                  Curve(days, effect_at(days, row.power), _power_label(row.power)),
+                  Curve(days, effect_at(days, other), _power_label(other)),
+                  (needed, effect * scale),
+                  Curve(week_days, effect_at(week_days, row.power), "whole weeks"),
+                  guide, guide_label, "")

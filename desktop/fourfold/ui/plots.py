@@ -1,0 +1,662 @@
+"""The live trade-off plots of the selected metric row, and the same figures for the PDF.
+
+Four small plots answer the questions a planning meeting asks about one row: how many units a
+smaller or larger effect needs, what more power costs, what a stricter α costs, and what each
+extra week of runtime buys. The curves come from :func:`fourfold.plan.tradeoffs.tradeoffs`
+(which asks the engine); this module only draws them. Each plot shows the row's own design as
+a solid curve with its design point, and one neighbouring choice as a faint dashed curve.
+
+:class:`PlotPanel` is the window's widget: it reuses its plot items on every update, coalesces
+bursts of updates into one redraw, and lets the user drag the effect marker (or move the slider
+below the plots) to change the row's effect. :func:`paint_tradeoffs` draws the same figures
+with any :class:`~PySide6.QtGui.QPainter` (a PDF page, an image).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import QEvent, QRectF, Qt, QTimer, Signal
+from PySide6.QtGui import QColor, QFont, QPainter, QPalette
+from PySide6.QtWidgets import QApplication, QHBoxLayout, QLabel, QSlider, QVBoxLayout, QWidget
+
+from fourfold.plan.tradeoffs import Figure, Tradeoffs, tradeoffs
+from fourfold.ui.formatting import MINUS, format_count, format_number
+
+TICK_POINTS = 9.0
+LABEL_POINTS = 9.5
+TITLE_POINTS = 10.5
+MAX_MARK_LABELS = 12
+DRAG_INTERVAL_MS = 40
+SLIDER_STEPS = 400
+SCREEN_DPI = 96.0
+
+_GRID = ((0, 0), (0, 1), (1, 0), (1, 1))
+_LEGEND_CORNER = {"effect": (8, -8), "power": (8, 8), "alpha": (8, -8), "runtime": (8, -8)}
+_POINT_ANCHOR = {"effect": (1.08, -0.15), "power": (-0.08, -0.15), "alpha": (1.08, -0.15),
+                 "runtime": (-0.08, 1.45)}
+
+
+def compact(value: float) -> str:
+    """A short tick label: 1,500 → "1.5k", 2,000,000 → "2M", −0.25 → "−0.25".
+
+    Examples
+    --------
+    >>> compact(1500.0), compact(2e6), compact(-0.25), compact(40.0)
+    ('1.5k', '2M', '−0.25', '40')
+    """
+    magnitude = abs(value)
+    for size, suffix in ((1e9, "G"), (1e6, "M"), (1e3, "k")):
+        if magnitude >= size:
+            text = f"{value / size:.3g}{suffix}"
+            break
+    else:
+        text = f"{value:.3g}" if magnitude >= 1e-4 or value == 0 else f"{value:.1e}"
+    return text.replace("-", MINUS)
+
+
+class _CompactAxis(pg.AxisItem):
+    """An axis whose ticks read "20k" and "1.5M"; log axes tick at 1, 2 and 5 per decade.
+
+    With ``direct`` set, the axis paints straight onto the painter instead of replaying its
+    cached ``QPicture`` (a picture replayed on a high-resolution device such as a PDF page is
+    laid out for the wrong resolution).
+    """
+
+    direct = False
+
+    def paint(self, p, opt, widget):
+        if not self.direct:
+            super().paint(p, opt, widget)
+            return
+        p.save()
+        if self.style["tickFont"]:
+            p.setFont(self.style["tickFont"])
+        specs = self.generateDrawSpecs(p)
+        if specs is not None:
+            self.drawPicture(p, *specs)
+        p.restore()
+
+    def tickStrings(self, values, scale, spacing):  # noqa: N802 (pyqtgraph's name)
+        if self.logMode:
+            return [compact(10.0 ** v) for v in values]
+        if spacing * scale >= 1000:
+            return [compact(v * scale) for v in values]
+        decimals = max(0, math.ceil(-math.log10(spacing * scale))) if spacing > 0 else 0
+        return [f"{v * scale:.{decimals}f}".replace("-", MINUS) for v in values]
+
+    def logTickValues(self, minVal, maxVal, size, stdTicks):  # noqa: N802, N803
+        decades = maxVal - minVal
+        mantissas = (1, 2, 5) if decades <= 2.5 else (1,)
+        if decades < 0.8:
+            mantissas = (1, 1.5, 2, 3, 4, 5, 6, 8)
+        values = [
+            e + math.log10(m)
+            for e in range(math.floor(minVal), math.ceil(maxVal) + 1)
+            for m in mantissas
+            if minVal <= e + math.log10(m) <= maxVal
+        ]
+        return [(None, values)]
+
+
+@dataclass(frozen=True)
+class Style:
+    """Colours, text sizes and line widths of the figures.
+
+    ``pen_scale`` multiplies line widths, for painting onto devices with more dots per inch
+    than a screen (lines are drawn in device pixels; markers are scaled by the export mode of
+    :func:`paint_tradeoffs`). ``pixel_dpi``, when set,
+    gives fonts a pixel size for that many pixels per inch instead of a point size: the axes
+    cache their drawing as a ``QPicture``, whose point-sized text grows with the resolution of
+    the device it is replayed on (a 1200 dpi PDF page), while pixel-sized text follows the
+    painter's transform like everything else.
+    """
+
+    background: QColor
+    foreground: QColor
+    muted: QColor
+    grid: QColor
+    curve: QColor
+    neighbour: QColor
+    point: QColor
+    marks: QColor
+    text_scale: float = 1.0
+    pen_scale: float = 1.0
+    pixel_dpi: float | None = None
+
+    def font(self, points: float) -> QFont:
+        font = QFont()
+        if self.pixel_dpi is None:
+            font.setPointSizeF(points * self.text_scale)
+        else:
+            font.setPixelSize(max(1, round(points * self.text_scale * self.pixel_dpi / 72.0)))
+        return font
+
+    def size(self, points: float) -> str:
+        return f"{points * self.text_scale:.1f}pt"
+
+
+def style_from_palette(palette: QPalette, text_scale: float = 1.0, pen_scale: float = 1.0,
+                       pixel_dpi: float | None = None) -> Style:
+    """The figures' style for a widget palette: light or dark follows the palette's base colour.
+
+    The curves take the palette's highlight colour (the application's accent); the design point
+    is a warm amber and the weekly marks a violet, both lighter on dark backgrounds.
+    """
+    background = palette.color(QPalette.ColorRole.Base)
+    foreground = palette.color(QPalette.ColorRole.WindowText)
+    dark = background.lightness() < 128
+    curve = QColor(palette.color(QPalette.ColorRole.Highlight))
+    if dark:
+        curve = curve.lighter(125)
+    neighbour = QColor(curve)
+    neighbour.setAlpha(120)
+    muted = QColor(foreground)
+    muted.setAlpha(170)
+    grid = QColor(foreground)
+    grid.setAlpha(60)
+    return Style(
+        background=background,
+        foreground=foreground,
+        muted=muted,
+        grid=grid,
+        curve=curve,
+        neighbour=neighbour,
+        point=QColor("#f4b045") if dark else QColor("#b5560d"),
+        marks=QColor("#b8a4ef") if dark else QColor("#5b3f9e"),
+        text_scale=text_scale,
+        pen_scale=pen_scale,
+        pixel_dpi=pixel_dpi,
+    )
+
+
+def _view(values: np.ndarray | float, log: bool) -> np.ndarray:
+    """Data values as ViewBox coordinates (log10 on log axes; nan where not positive)."""
+    values = np.asarray(values, dtype=float)
+    if not log:
+        return values
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(values > 0, np.log10(np.where(values > 0, values, 1.0)), np.nan)
+
+
+def _point_text(figure: Figure, unit: str) -> str:
+    x, y = figure.point
+    if figure.name == "runtime":
+        effect = format_number(y, signed=True) + (f" {unit}" if unit else "")
+        return f"{effect} in {format_number(x)} d"
+    return format_count(y)
+
+
+class _Plot:
+    """One figure's plot item and the items on it, created once and updated with ``setData``."""
+
+    def __init__(self, layout: pg.GraphicsLayout, row: int, col: int, name: str) -> None:
+        self.name = name
+        self.axes = {"bottom": _CompactAxis("bottom"), "left": _CompactAxis("left")}
+        for axis in self.axes.values():
+            axis.enableAutoSIPrefix(False)
+        self.item: pg.PlotItem = layout.addPlot(row=row, col=col, axisItems=self.axes)
+        self.item.setMenuEnabled(False)
+        self.item.hideButtons()
+        self.item.setMouseEnabled(x=False, y=False)
+        self.item.showGrid(x=True, y=True, alpha=0.3)
+        self.item.vb.setDefaultPadding(0.03)
+        self.neighbour = self.item.plot([], [], connect="finite")
+        self.curve = self.item.plot([], [], connect="finite")
+        self.marks = self.item.plot([], [], pen=None, symbol="o")
+        self.point = self.item.plot([], [], pen=None, symbol="o")
+        self.guide = pg.InfiniteLine(angle=90, movable=False, label="",
+                                     labelOpts={"position": 0.92, "anchors": [(0, 0), (0, 0)]})
+        self.item.addItem(self.guide, ignoreBounds=True)
+        self.point_text = pg.TextItem(anchor=_POINT_ANCHOR[name])
+        self.item.addItem(self.point_text, ignoreBounds=True)
+        self.mark_texts = [pg.TextItem(anchor=(1.0, -0.1)) for _ in range(MAX_MARK_LABELS)]
+        for text in self.mark_texts:
+            self.item.addItem(text, ignoreBounds=True)
+        self.message = pg.TextItem(anchor=(0.5, 0.5))
+        self.item.addItem(self.message, ignoreBounds=True)
+        self.legend = pg.LegendItem(offset=_LEGEND_CORNER[name])
+        self.legend.setParentItem(self.item.vb)
+        # Follow the painter's scale when painted onto a page (the view box does not zoom it).
+        self.legend.setFlag(self.legend.GraphicsItemFlag.ItemIgnoresTransformations, False)
+        self.legend.addItem(self.curve, "")
+        self.legend.addItem(self.neighbour, "")
+        self._figure: Figure | None = None
+        self._unit = ""
+
+    def apply_style(self, style: Style) -> None:
+        width = 2.6 * style.pen_scale
+        self.curve.setPen(pg.mkPen(style.curve, width=width))
+        self.neighbour.setPen(pg.mkPen(style.neighbour, width=width * 0.8,
+                                       style=Qt.PenStyle.DashLine))
+        self.point.setSymbolBrush(style.point)
+        self.point.setSymbolPen(pg.mkPen(style.background, width=1.5))
+        self.point.setSymbolSize(13 * style.text_scale ** 0.5)
+        self.marks.setSymbolBrush(style.marks)
+        self.marks.setSymbolPen(pg.mkPen(style.background, width=1.0))
+        self.marks.setSymbolSize(8 * style.text_scale ** 0.5)
+        self.guide.setPen(pg.mkPen(style.muted, width=1.2 * style.pen_scale,
+                                   style=Qt.PenStyle.DotLine))
+        self.guide.label.setColor(style.muted)
+        self.guide.label.setFont(style.font(TICK_POINTS))
+        for axis in self.axes.values():
+            axis.setPen(pg.mkPen(style.muted, width=style.pen_scale))
+            axis.setTextPen(pg.mkPen(style.foreground))
+            axis.setTickFont(style.font(TICK_POINTS))
+            axis.setStyle(tickLength=-int(5 * style.text_scale),
+                          tickTextOffset=int(4 * style.text_scale))
+        self.point_text.setColor(style.point if style.background.lightness() < 128
+                                 else style.foreground)
+        self.point_text.setFont(style.font(LABEL_POINTS))
+        label_back = QColor(style.background)
+        label_back.setAlpha(200)
+        self.point_text.fill = pg.mkBrush(label_back)
+        for text in self.mark_texts:
+            text.setColor(style.marks)
+            text.setFont(style.font(TICK_POINTS * 0.9))
+        self.message.setColor(style.muted)
+        self.message.setFont(style.font(LABEL_POINTS))
+        self.legend.setLabelTextColor(style.foreground)
+        self.legend.setLabelTextSize(style.size(TICK_POINTS))
+        legend_back = QColor(style.background)
+        legend_back.setAlpha(215)
+        self.legend.setBrush(legend_back)
+        self.legend.setPen(pg.mkPen(style.grid))
+        if self._figure is not None:
+            self.set_figure(self._figure, style, self._unit)
+
+    def set_figure(self, figure: Figure, style: Style, unit: str = "") -> None:
+        self._figure = figure
+        self._unit = unit
+        labels = {"color": style.foreground.name(), "font-size": style.size(LABEL_POINTS)}
+        self.item.setTitle(figure.title, color=style.foreground.name(),
+                           size=style.size(TITLE_POINTS), bold=True)
+        title_height = int(TITLE_POINTS * style.text_scale * 2.2)
+        self.item.titleLabel.setMaximumHeight(title_height)
+        self.item.layout.setRowFixedHeight(0, title_height)
+        self.item.setLabel("bottom", figure.x_label, **labels)
+        self.item.setLabel("left", figure.y_label, **labels)
+        empty = bool(figure.reason)
+        self.item.setLogMode(x=figure.x_log and not empty, y=figure.y_log and not empty)
+        self.curve.setData(figure.curve.x, figure.curve.y)
+        self.neighbour.setData(figure.neighbour.x, figure.neighbour.y)
+        self.marks.setData(figure.marks.x, figure.marks.y)
+        x, y = figure.point
+        finite = math.isfinite(x) and math.isfinite(y)
+        self.point.setData([x] if finite else [], [y] if finite else [])
+        self._set_legend(figure)
+        self._set_texts(figure, finite and not empty)
+        self._set_guide(figure)
+        if empty:
+            self.message.setText(figure.reason)
+            self.message.setPos(0.5, 0.5)
+            self.message.show()
+            self.item.setRange(xRange=(0, 1), yRange=(0, 1), padding=0)
+        else:
+            self.message.hide()
+            self.item.enableAutoRange()
+            if len(figure.marks.y) and not figure.y_log:
+                self._clip_top(figure)
+
+    def _clip_top(self, figure: Figure) -> None:
+        """Runtime figure: keep the steep first days from squashing the weeks that matter."""
+        top = np.nanmax(np.concatenate([figure.marks.y[:1] * 1.35, [figure.point[1] * 1.6]]))
+        if math.isfinite(top) and top > 0:
+            self.item.enableAutoRange(axis="x")
+            self.item.setYRange(0.0, float(top), padding=0.02)
+
+    def clear(self) -> None:
+        """Show nothing (no row selected)."""
+        self._figure = None
+        for item in (self.curve, self.neighbour, self.marks, self.point):
+            item.setData([], [])
+        for item in (self.point_text, self.guide, self.message, self.legend, *self.mark_texts):
+            item.hide()
+        self.item.setTitle(None)
+
+    def _set_legend(self, figure: Figure) -> None:
+        (_, first), (_, second) = self.legend.items
+        first.setText(figure.curve.label)
+        second.setText(figure.neighbour.label)
+        self.legend.setVisible(not figure.reason and bool(figure.curve.label))
+        self.legend.updateSize()
+
+    def _set_texts(self, figure: Figure, show_point: bool) -> None:
+        x, y = figure.point
+        if show_point:
+            self.point_text.setText(_point_text(figure, self._unit))
+            self.point_text.setPos(float(_view(x, figure.x_log)), float(_view(y, figure.y_log)))
+        self.point_text.setVisible(show_point)
+        xs = _view(figure.marks.x, figure.x_log)
+        ys = _view(figure.marks.y, figure.y_log)
+        for i, text in enumerate(self.mark_texts):
+            shown = i < len(xs) and math.isfinite(xs[i]) and math.isfinite(ys[i])
+            if shown:
+                text.setText(format_number(float(figure.marks.y[i])))
+                text.setPos(float(xs[i]), float(ys[i]))
+            text.setVisible(shown)
+
+    def _set_guide(self, figure: Figure) -> None:
+        shown = not figure.reason and math.isfinite(figure.guide)
+        if shown:
+            self.guide.setValue(float(_view(figure.guide, figure.x_log)))
+            self.guide.label.setFormat(figure.guide_label)
+        self.guide.setVisible(shown)
+
+
+class FigureGrid(pg.GraphicsLayoutWidget):
+    """The four figures of one row in a 2 × 2 grid, plus the draggable effect marker.
+
+    Used inside :class:`PlotPanel` and, offscreen, by :func:`paint_tradeoffs`.
+    """
+
+    def __init__(self, parent: QWidget | None = None, style: Style | None = None, *,
+                 direct: bool = False) -> None:
+        super().__init__(parent)
+        self.ci.setContentsMargins(4, 4, 4, 4)
+        self.ci.setSpacing(6)
+        self.plots = {
+            name: _Plot(self.ci, row, col, name)
+            for name, (row, col) in zip(("effect", "power", "alpha", "runtime"), _GRID,
+                                        strict=True)
+        }
+        for plot in self.plots.values():
+            for axis in plot.axes.values():
+                axis.direct = direct
+        self.handle = pg.InfiniteLine(angle=90, movable=True, label="",
+                                      labelOpts={"position": 0.97, "anchors": [(0, 0), (0, 0)]})
+        self.plots["effect"].item.addItem(self.handle, ignoreBounds=True)
+        self.handle.hide()
+        self.shown: Tradeoffs | None = None
+        self.style = style or style_from_palette(self.palette())
+        self.apply_style(self.style)
+
+    def apply_style(self, style: Style) -> None:
+        """Recolour and resize text and lines; the data stays."""
+        self.style = style
+        self.setBackground(style.background)
+        for plot in self.plots.values():
+            plot.apply_style(style)
+        self.handle.setPen(pg.mkPen(style.point, width=1.6 * style.pen_scale))
+        self.handle.setHoverPen(pg.mkPen(style.point, width=4.0 * style.pen_scale))
+        self.handle.label.setColor(style.point if style.background.lightness() < 128
+                                   else style.foreground)
+        self.handle.label.setFont(style.font(TICK_POINTS))
+
+    def blank(self) -> None:
+        """Show empty plots (no row selected)."""
+        self.shown = None
+        for plot in self.plots.values():
+            plot.clear()
+        self.handle.hide()
+
+    def set_tradeoffs(self, data: Tradeoffs, *, keep_handle: bool = False) -> None:
+        """Show a row's figures; ``keep_handle`` leaves the effect marker where the user holds it.
+        """
+        self.shown = data
+        for figure in data.figures:
+            self.plots[figure.name].set_figure(figure, self.style, data.effect_unit)
+        x = data.effect.point[0]
+        visible = data.effect_editable and not data.effect.reason and math.isfinite(x)
+        self.handle.setVisible(visible)
+        if visible:
+            low, high = (v * data.effect_scale for v in data.effect_span)
+            self.handle.setBounds((low, high))
+            unit = f" {data.effect_unit}" if data.effect_unit else ""
+            self.handle.label.setFormat("{value:+.3g}" + unit + "  ⟷")
+            if not keep_handle:
+                self.handle.setValue(x)
+
+
+class PlotPanel(QWidget):
+    """The trade-off plots of the selected row, beside the plan table.
+
+    Call :meth:`show_row` after every recomputation; redraws are coalesced with a zero-delay
+    timer. Dragging the effect marker on the first plot, or moving the slider below the plots,
+    emits :attr:`effect_dragged` ``(row, effect)`` with the effect in the row's own units (a
+    fraction of the baseline for relative rows), during the drag (at most every 40 ms) and on
+    release.
+    """
+
+    effect_dragged = Signal(int, float)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self._text_scale = 1.0
+        self.grid = FigureGrid(self)
+        self.slider = QSlider(Qt.Orientation.Horizontal, self)
+        self.slider.setRange(0, SLIDER_STEPS)
+        self.slider.setSingleStep(1)
+        self.slider.setPageStep(SLIDER_STEPS // 20)
+        self.slider.setAccessibleName("Effect of the selected row")
+        self.slider_label = QLabel("Effect", self)
+        self.slider_label.setBuddy(self.slider)
+        self.slider_value = QLabel("", self)
+        self.slider_value.setMinimumWidth(self.fontMetrics().horizontalAdvance("+00.00 % ") + 8)
+        controls = QHBoxLayout()
+        controls.setContentsMargins(8, 0, 8, 4)
+        controls.addWidget(self.slider_label)
+        controls.addWidget(self.slider, 1)
+        controls.addWidget(self.slider_value)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.setSpacing(2)
+        layout.addWidget(self.grid, 1)
+        layout.addLayout(controls)
+
+        self._pending: tuple | None = None
+        self._span_key: tuple | None = None
+        self._queued: float | None = None
+        self._sent: float | None = None
+        self._redraw_timer = QTimer(self)
+        self._redraw_timer.setSingleShot(True)
+        self._redraw_timer.setInterval(0)
+        self._redraw_timer.timeout.connect(self._redraw)
+        self._drag_timer = QTimer(self)
+        self._drag_timer.setSingleShot(True)
+        self._drag_timer.setInterval(DRAG_INTERVAL_MS)
+        self._drag_timer.timeout.connect(self._send)
+        self.grid.handle.sigDragged.connect(self._handle_dragged)
+        self.grid.handle.sigPositionChangeFinished.connect(self._handle_released)
+        self.slider.valueChanged.connect(self._slider_moved)
+        self.slider.sliderReleased.connect(self._flush)
+        self._set_controls_enabled(False)
+
+    @property
+    def tradeoffs(self) -> Tradeoffs | None:
+        """The curve data on show (``None`` before the first row)."""
+        return self.grid.shown
+
+    def show_row(self, plan, result, index: int | None) -> None:
+        """Show row ``index`` of ``plan`` (with its computed ``result``); ``None`` clears.
+
+        Parameters
+        ----------
+        plan : fourfold.plan.Plan
+        result : fourfold.plan.PlanResult or None
+            The plan's computed result; ``None`` computes it.
+        index : int or None
+            The row, from 0.
+        """
+        self._pending = (plan, result, index)
+        self._redraw_timer.start()
+
+    def set_text_scale(self, factor: float) -> None:
+        """Scale every text of the plots (1.0 = normal; e.g. 1.5 on a projector)."""
+        if not 0.5 <= factor <= 4.0:
+            raise ValueError(f"factor must be between 0.5 and 4, got {factor!r}")
+        self._text_scale = float(factor)
+        self._restyle()
+
+    def changeEvent(self, event: QEvent) -> None:  # noqa: N802 (Qt's name)
+        if event.type() in (QEvent.Type.PaletteChange, QEvent.Type.ApplicationPaletteChange):
+            self._restyle()
+        super().changeEvent(event)
+
+    def _restyle(self) -> None:
+        self.grid.apply_style(style_from_palette(self.palette(), self._text_scale))
+
+    def _redraw(self) -> None:
+        if self._pending is None:
+            return
+        plan, result, index = self._pending
+        self._pending = None
+        if index is None or not 0 <= index < len(plan.metrics):
+            self.grid.blank()
+            self._set_controls_enabled(False)
+            return
+        metric = plan.metrics[index]
+        key = (index, metric.kind, metric.relative, metric.alternative, metric.margin,
+               metric.solve)
+        span = self.grid.shown.effect_span if key == self._span_key and self.grid.shown else None
+        data = tradeoffs(plan, index, result, effect_span=span)
+        self._span_key = key
+        self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving)
+        self._sync_slider(data)
+
+    def _set_controls_enabled(self, enabled: bool) -> None:
+        for widget in (self.slider, self.slider_label, self.slider_value):
+            widget.setEnabled(enabled)
+        if not enabled:
+            self.slider_value.setText("")
+
+    def _sync_slider(self, data: Tradeoffs) -> None:
+        editable = data.effect_editable and not data.effect.reason
+        self._set_controls_enabled(editable)
+        if not editable or self.slider.isSliderDown():
+            return
+        effect = data.effect.point[0] / data.effect_scale
+        low, high = data.effect_span
+        position = round((effect - low) / (high - low) * SLIDER_STEPS)
+        self.slider.blockSignals(True)
+        self.slider.setValue(min(max(position, 0), SLIDER_STEPS))
+        self.slider.blockSignals(False)
+        self.slider_value.setText(self._effect_text(effect, data))
+
+    @staticmethod
+    def _effect_text(effect: float, data: Tradeoffs) -> str:
+        shown = format_number(effect * data.effect_scale, signed=True)
+        return f"{shown} {data.effect_unit}" if data.effect_unit else shown
+
+    def _slider_moved(self, position: int) -> None:
+        data = self.grid.shown
+        if data is None:
+            return
+        low, high = data.effect_span
+        effect = float(np.float64(low + (high - low) * position / SLIDER_STEPS).round(12))
+        self.slider_value.setText(self._effect_text(effect, data))
+        self._queue(effect)
+        if not self.slider.isSliderDown():
+            self._flush()
+
+    def _handle_dragged(self, line: pg.InfiniteLine) -> None:
+        data = self.grid.shown
+        if data is not None:
+            self._queue(float(line.value()) / data.effect_scale)
+
+    def _handle_released(self, line: pg.InfiniteLine) -> None:
+        self._handle_dragged(line)
+        self._flush()
+
+    def _queue(self, effect: float) -> None:
+        self._queued = effect
+        if not self._drag_timer.isActive():
+            self._drag_timer.start()
+
+    def _flush(self) -> None:
+        self._drag_timer.stop()
+        self._send()
+
+    def _send(self) -> None:
+        data = self.grid.shown
+        if self._queued is None or data is None:
+            return
+        effect, self._queued = self._queued, None
+        if effect != self._sent:
+            self._sent = effect
+            self.effect_dragged.emit(data.index, effect)
+
+
+def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *,
+                    dpi: float | None = None, text_scale: float = 1.0,
+                    palette: QPalette | None = None) -> None:
+    """Paint row ``index``'s four trade-off figures into ``rect`` with ``painter``.
+
+    The figures are built offscreen at the physical size of ``rect`` (so that fonts keep their
+    point sizes on any device), drawn as vectors through ``QGraphicsScene.render`` and then
+    deleted. Needs a running ``QApplication``.
+
+    Parameters
+    ----------
+    painter : QPainter
+        Active painter on any device (``QPdfWriter``, ``QImage``, ``QPrinter``).
+    rect : QRectF
+        Target rectangle in the painter's device coordinates.
+    plan : fourfold.plan.Plan
+    result : fourfold.plan.PlanResult or None
+        The computed plan (``None`` computes it).
+    index : int
+        The metric row, from 0.
+    dpi : float, optional
+        Device dots per inch of the painter's device; default its logical resolution.
+    text_scale : float
+        Text size relative to the window's normal size.
+    palette : QPalette, optional
+        Colours; default a light palette (paper).
+
+    Examples
+    --------
+    >>> from PySide6.QtGui import QImage
+    >>> from fourfold.plan import Plan
+    >>> app = QApplication.instance() or QApplication([])
+    >>> image = QImage(800, 600, QImage.Format.Format_ARGB32)
+    >>> image.fill(0xFFFFFFFF)
+    >>> painter = QPainter(image)
+    >>> paint_tradeoffs(painter, QRectF(0, 0, 800, 600), Plan.empty(), None, 0)
+    >>> painter.end()
+    True
+    """
+    if QApplication.instance() is None:
+        raise RuntimeError("paint_tradeoffs needs a QApplication")
+    device_dpi = float(dpi or painter.device().logicalDpiX())
+    grid = FigureGrid(direct=True)
+    grid.setAttribute(Qt.WidgetAttribute.WA_DontShowOnScreen, True)
+    screen_dpi = float(grid.logicalDpiX() or SCREEN_DPI)
+    width = max(1, round(rect.width() / device_dpi * screen_dpi))
+    height = max(1, round(rect.height() / device_dpi * screen_dpi))
+    scale = rect.width() / width
+    grid.apply_style(style_from_palette(palette or _paper(), text_scale, pen_scale=scale,
+                                        pixel_dpi=screen_dpi))
+    grid.resize(width, height)
+    try:
+        grid.show()
+        grid.set_tradeoffs(tradeoffs(plan, index, result))
+        grid.handle.hide()
+        QApplication.processEvents()
+        for plot in grid.plots.values():
+            plot.legend.updateSize()
+            for item in (plot.point, plot.marks):
+                item.scatter.setExportMode(True, {"antialias": True, "resolutionScale": scale})
+        QApplication.processEvents()
+        painter.save()
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+        grid.scene().render(painter, rect, QRectF(0, 0, width, height))
+        painter.restore()
+    finally:
+        grid.close()
+        grid.deleteLater()
+        QApplication.processEvents()
+
+
+def _paper() -> QPalette:
+    """A light palette for printed figures, independent of the window's scheme."""
+    palette = QPalette()
+    palette.setColor(QPalette.ColorRole.Base, QColor("#ffffff"))
+    palette.setColor(QPalette.ColorRole.Window, QColor("#ffffff"))
+    palette.setColor(QPalette.ColorRole.WindowText, QColor("#1c2126"))
+    palette.setColor(QPalette.ColorRole.Highlight, QColor("#2d6a6f"))
+    return palette
