@@ -39,7 +39,7 @@ def test_row_check_is_stored_as_one_undo_step(qtbot):
     assert all(metric.simulation is None for metric in document.plan.metrics[1:])
     assert document.stack.undo_text == "Check by simulation"
     assert seen and seen[-1] == dialog.progress.maximum() == 1000
-    assert "Checkout conversion" in dialog.results.text()
+    assert "Checkout conversion" in dialog.results.toPlainText()
     document.undo()
     assert document.plan.metrics[0].simulation is None
 

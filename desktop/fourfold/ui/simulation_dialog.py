@@ -12,19 +12,21 @@ import html
 import time
 
 import numpy as np
-from PySide6.QtCore import Qt, QThread, Signal, Slot
+from PySide6.QtCore import QThread, Signal, Slot
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
     QDialog,
     QFileDialog,
     QFormLayout,
+    QFrame,
     QHBoxLayout,
     QLabel,
     QLineEdit,
     QProgressBar,
     QPushButton,
     QSpinBox,
+    QTextBrowser,
     QVBoxLayout,
     QWidget,
 )
@@ -89,6 +91,7 @@ class SimulationDialog(QDialog):
         self._job: SimulationJob | None = None
         self._snapshot = ""
         self._started = 0.0
+        self._columns_of = ""
         self.setObjectName("simulationDialog")
         self.setWindowTitle("Check by simulation")
         self.resize(640, 420)
@@ -171,10 +174,9 @@ class SimulationDialog(QDialog):
         layout.addWidget(self.progress)
         self.time_label = QLabel("")
         layout.addWidget(self.time_label)
-        self.results = QLabel("")
-        self.results.setWordWrap(True)
-        self.results.setTextFormat(Qt.TextFormat.RichText)
-        self.results.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.results = QTextBrowser()
+        self.results.setOpenLinks(False)
+        self.results.setFrameShape(QFrame.Shape.NoFrame)
         layout.addWidget(self.results, 1)
 
         buttons = QHBoxLayout()
@@ -201,6 +203,9 @@ class SimulationDialog(QDialog):
         from fourfold.history.reader import read_columns
 
         path = self.history_path.text().strip()
+        if path == self._columns_of:
+            return
+        self._columns_of = path
         self.column_box.clear()
         if not path:
             return
@@ -254,7 +259,7 @@ class SimulationDialog(QDialog):
             self.show_status(str(error), error=True)
             return
         self.outcome = None
-        self.results.setText("")
+        self.results.clear()
         self._snapshot = dumps(self.document.plan)
         self._started = time.monotonic()
         self.progress.setRange(0, 1)
@@ -331,7 +336,7 @@ class SimulationDialog(QDialog):
         for _row, reason in outcome.skipped:
             parts.append(f'<p style="color:{tints.muted.name()}">Skipped: '
                          f"{html.escape(reason)}</p>")
-        self.results.setText("".join(parts))
+        self.results.setHtml("".join(parts))
 
     @Slot(str)
     def _on_failed(self, message: str) -> None:
