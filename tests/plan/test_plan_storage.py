@@ -199,3 +199,18 @@ def test_sample_plan_loads_and_is_the_invented_scenario():
     roles = [metric.role for metric in plan.metrics]
     assert roles.count("primary") == 1 and roles.count("guardrail") == 2 and len(roles) == 6
     assert path.read_text(encoding="utf-8") == dumps(plan)
+
+
+def test_save_through_a_symlink_keeps_the_link(tmp_path):
+    target = tmp_path / "real.json"
+    save(Plan.empty(), target)
+    link = tmp_path / "link.json"
+    link.symlink_to(target)
+    save(_full_plan(), link)
+    assert link.is_symlink() and load(target) == _full_plan()
+
+
+def test_load_accepts_a_byte_order_mark(tmp_path):
+    path = tmp_path / "bom.json"
+    path.write_text(dumps(_full_plan()), encoding="utf-8-sig")
+    assert load(path) == _full_plan()

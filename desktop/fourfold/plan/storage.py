@@ -176,7 +176,7 @@ def load(path: str | os.PathLike) -> Plan:
     """
     path = pathlib.Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        text = path.read_text(encoding="utf-8-sig")
     except (OSError, UnicodeDecodeError) as error:
         raise PlanError(f"cannot read {path}: {error}") from None
     try:
@@ -189,14 +189,15 @@ def save(plan: Plan, path: str | os.PathLike) -> None:
     """Write a plan file atomically: the old file stays intact if anything fails.
 
     The text is written to a temporary file in the target's folder, flushed to disk and moved
-    over the target with :func:`os.replace`; an existing file's permissions are kept.
+    over the target with :func:`os.replace`; an existing file's permissions are kept, and a
+    symbolic link is followed (its target is replaced, the link stays).
 
     Raises
     ------
     PlanError
         When the plan cannot be written (the message names the file and the reason).
     """
-    path = pathlib.Path(path)
+    path = pathlib.Path(os.path.realpath(path))
     try:
         mode = stat.S_IMODE(path.stat().st_mode)
     except FileNotFoundError:
