@@ -104,3 +104,20 @@ def test_unknown_page_and_failed_write_leave_the_old_file(tmp_path, monkeypatch)
         write_pdf(load(sample_path()), target)
     assert target.read_bytes() == b"previous report"
     assert [p.name for p in tmp_path.iterdir()] == ["plan.pdf"]
+
+
+def test_primary_metric_figures_are_vector_drawings(sample_pdf):
+    """The trade-off figures are painted as vectors (no raster image on their page), so they
+    stay sharp at any zoom; their page carries far more drawing than a text-only page."""
+    path, pages = sample_pdf
+    plan = load(sample_path())
+    reader = PdfReader(path)
+    text_only = min(len(page.get_contents().get_data())
+                    for page, text in zip(reader.pages, pages, strict=True)
+                    if "Trade-offs" not in text)
+    for metric in (m for m in plan.metrics if m.role == "primary"):
+        number = next(i for i, text in enumerate(pages) if f"Trade-offs: {metric.name}" in text)
+        page = reader.pages[number]
+        assert not page.images
+        drawing = len(page.get_contents().get_data())
+        assert drawing > 2 * text_only

@@ -234,7 +234,9 @@ def duration_text(result) -> str:
 def summary(plan, result) -> list[tuple[str, str, str]]:
     """The key figures at the top of the report: (label, value, a line of detail)."""
     s = plan.settings
-    if not _finite(result.duration_days):
+    if s.daily_units is None and s.runtime_days is None:
+        duration_detail = "no daily traffic given"
+    elif not _finite(result.duration_days):
         duration_detail = "nothing sets the duration"
     elif s.runtime_days is not None:
         duration_detail = "fixed runtime"

@@ -32,7 +32,6 @@ from fourfold import CAUTION, __version__
 from fourfold.export import report
 from fourfold.export.files import ExportError, replacing
 from fourfold.export.pdf.flow import ACCENT, INK, MUTED, RULE, Flow, Text, font
-from fourfold.export.pdf.nonecount import keep_none_alive
 
 PAGES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}
 RESOLUTION = 300
@@ -41,12 +40,7 @@ _APPLICATIONS: list[QGuiApplication] = []
 
 
 def application() -> QGuiApplication:
-    """The running Qt application, or a new offscreen one kept for the rest of the process.
-
-    Also applies :func:`fourfold.export.pdf.nonecount.keep_none_alive`: a report makes tens of
-    thousands of Qt calls.
-    """
-    keep_none_alive()
+    """The running Qt application, or a new offscreen one kept for the rest of the process."""
     running = QGuiApplication.instance()
     if running is not None:
         return running
@@ -198,6 +192,8 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
                    "baseline, “pp” percentage points. “H0 margin” is the difference under the "
                    "null hypothesis of a non-inferiority or superiority-by-margin test.",
                    font(8), MUTED, spacing=1.25)
+    if not plan.metrics:
+        flow.paragraph("The plan has no metric rows yet.", font(9), INK)
     flow.table(report.inputs_table(plan))
 
     flow.heading("Results")
