@@ -142,3 +142,43 @@ def test_ratio_needs_a_denominator(qtbot, dialog):
     dialog.start_reading()
     assert not dialog.reading
     assert "denominator" in dialog.status.text()
+
+
+def test_warehouse_query_result_fills_rows(qtbot, document):
+    duckdb = pytest.importorskip("duckdb")  # DuckDB 2.0, test-only
+    widget = HistoryDialog(document)
+    qtbot.addWidget(widget)
+    widget.source_tabs.setCurrentIndex(1)
+    widget.add_mapping_row(None)
+    widget.map_table.cellWidget(0, 0).setCurrentText("revenue")
+    widget.map_table.cellWidget(0, 3).setCurrentText("pre_revenue")
+    widget.table_edit.setText("shop.visits")
+    widget.partition_edit.setText("day")
+    assert widget.write_sql()
+    con = duckdb.connect()
+    con.execute("CREATE SCHEMA shop; CREATE TABLE shop.visits AS SELECT *, "
+                f"(row_number() OVER ()) % 7 AS day FROM read_csv_auto('{SAMPLE.as_posix()}')")
+    result = con.execute(widget.sql_view.toPlainText()).df()
+    widget.result_edit.setPlainText(result.to_csv(index=False, sep="\t"))
+    assert widget.read_button.isEnabled()
+    widget.read()
+    expected = read_history(SAMPLE, [ColumnMap("mean", "revenue", pre="pre_revenue")])
+    got = widget.summary["revenue"]
+    assert got.sd == pytest.approx(expected["revenue"].sd, rel=1e-9)
+    assert got.rho == pytest.approx(expected["revenue"].rho, rel=1e-9)
+    count = len(document.plan.metrics)
+    widget.apply_to_plan()
+    assert len(document.plan.metrics) == count + 1
+    document.undo()
+    assert len(document.plan.metrics) == count
+
+
+def test_warehouse_paste_errors_show_in_the_status_line(qtbot, document):
+    widget = HistoryDialog(document)
+    qtbot.addWidget(widget)
+    widget.source_tabs.setCurrentIndex(1)
+    widget.add_mapping_row(None)
+    widget.map_table.cellWidget(0, 0).setCurrentText("revenue")
+    widget.result_edit.setPlainText("rows,m1_revenue_n\n10,9\n")
+    widget.read()
+    assert "m1_revenue_mean" in widget.status.text() and widget.summary is None

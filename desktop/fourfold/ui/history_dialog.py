@@ -15,17 +15,22 @@ import time
 from pathlib import Path
 
 from PySide6.QtCore import QObject, Qt, QThread, Signal, Slot
+from PySide6.QtGui import QFontDatabase, QGuiApplication
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
     QDialog,
     QFileDialog,
+    QFrame,
+    QGridLayout,
     QHBoxLayout,
     QHeaderView,
     QLabel,
     QLineEdit,
+    QPlainTextEdit,
     QProgressBar,
     QPushButton,
+    QTabBar,
     QTableWidget,
     QTableWidgetItem,
     QVBoxLayout,
@@ -43,6 +48,7 @@ from fourfold.history import (
 )
 from fourfold.history.guess import guess_mapping
 from fourfold.history.text import number
+from fourfold.history.warehouse import read_warehouse_result, warehouse_sql
 from fourfold.plan import Metric
 from fourfold.plan.commands import InsertMetrics, SetFields
 
@@ -52,6 +58,8 @@ CAP_CHOICES = ("no cap", "99", "99.5", "99.9", "99.99")
 MAP_COLUMNS = ("Column", "Kind", "Denominator", "Pre-period", "Cap at percentile")
 RESULT_COLUMNS = ("Metric", "n", "Missing", "Mean", "sd", "ρ", "Cap value", "Capped",
                   "Variance ×", "Plan row")
+CHUNK_ROWS = 50_000  # short chunks keep the progress bar and Cancel lively
+RESULT_LIMIT = 1 << 20
 FILE_FILTER = "History files (*.csv *.parquet *.pq);;CSV (*.csv);;All files (*)"
 
 
@@ -70,8 +78,8 @@ class _Worker(QObject):
     @Slot()
     def run(self) -> None:
         try:
-            summary = read_history(self.path, self.mapping, progress=self.progress.emit,
-                                   cancel=self.stop.is_set)
+            summary = read_history(self.path, self.mapping, chunk_rows=CHUNK_ROWS,
+                                   progress=self.progress.emit, cancel=self.stop.is_set)
         except HistoryCancelled:
             self.cancelled.emit()
         except FourfoldError as error:
@@ -111,7 +119,7 @@ class HistoryDialog(QDialog):
         self.document = document
         self.setWindowTitle("Import history")
         self.setObjectName("historyDialog")
-        self.resize(980, 660)
+        self.resize(1000, 780)
         self.columns: list[str] = []
         self.summary: HistorySummary | None = None
         self._thread: QThread | None = None
@@ -119,6 +127,7 @@ class HistoryDialog(QDialog):
         self._stop = threading.Event()
         self._started = 0.0
         self._build()
+        self._source_changed(0)
         if path is not None:
             self.open_path(path)
         self._update_buttons()
@@ -128,22 +137,24 @@ class HistoryDialog(QDialog):
     def _build(self) -> None:
         layout = QVBoxLayout(self)
         intro = QLabel(
-            "Read one row per unit from a pre-period (CSV, or Parquet with pyarrow) to fill "
-            "in baselines, standard deviations and the pre-period correlation ρ."
+            "Fill in baselines, standard deviations and the pre-period correlation ρ from one "
+            "row per unit of a pre-period: read a file (CSV, or Parquet with pyarrow), or run "
+            "the query written here in your warehouse and paste its result."
         )
         intro.setWordWrap(True)
         layout.addWidget(intro)
-
-        file_row = QHBoxLayout()
-        file_row.addWidget(QLabel("History file:"))
-        self.path_edit = QLineEdit()
-        self.path_edit.setReadOnly(True)
-        self.path_edit.setPlaceholderText("choose a file of one row per unit")
-        file_row.addWidget(self.path_edit, 1)
-        self.choose_button = QPushButton("Choose…")
-        self.choose_button.clicked.connect(self.choose_file)
-        file_row.addWidget(self.choose_button)
-        layout.addLayout(file_row)
+        # A tab bar over pages that hide, so the short file page does not take the height of
+        # the warehouse page.
+        self.source_tabs = QTabBar()
+        self.source_tabs.addTab("History file")
+        self.source_tabs.addTab("Warehouse query")
+        self.source_tabs.setExpanding(False)
+        self.source_tabs.currentChanged.connect(self._source_changed)
+        layout.addWidget(self.source_tabs)
+        self.source_pages = [self._file_tab(), self._warehouse_tab()]
+        for page in self.source_pages:
+            page.setObjectName("historySource")
+            layout.addWidget(page)
 
         layout.addWidget(QLabel("Columns to read (one line per metric):"))
         self.map_table = QTableWidget(0, len(MAP_COLUMNS))
@@ -160,7 +171,7 @@ class HistoryDialog(QDialog):
         self.remove_button.clicked.connect(self.remove_mapping_rows)
         self.read_button = QPushButton("Read history")
         self.read_button.setDefault(True)
-        self.read_button.clicked.connect(self.start_reading)
+        self.read_button.clicked.connect(self.read)
         map_buttons.addWidget(self.add_button)
         map_buttons.addWidget(self.remove_button)
         map_buttons.addStretch(1)
@@ -205,6 +216,109 @@ class HistoryDialog(QDialog):
         bottom.addWidget(self.close_button)
         layout.addLayout(bottom)
 
+    def _file_tab(self) -> QFrame:
+        tab = QFrame()
+        tab.setFrameShape(QFrame.Shape.StyledPanel)
+        row = QHBoxLayout(tab)
+        row.addWidget(QLabel("File:"))
+        self.path_edit = QLineEdit()
+        self.path_edit.setReadOnly(True)
+        self.path_edit.setPlaceholderText("choose a file of one row per unit")
+        row.addWidget(self.path_edit, 1)
+        self.choose_button = QPushButton("Choose…")
+        self.choose_button.clicked.connect(self.choose_file)
+        row.addWidget(self.choose_button)
+        row.setContentsMargins(6, 6, 6, 6)
+        return tab
+
+    def _warehouse_tab(self) -> QFrame:
+        tab = QFrame()
+        tab.setFrameShape(QFrame.Shape.StyledPanel)
+        grid = QGridLayout(tab)
+        grid.addWidget(QLabel("Table:"), 0, 0)
+        self.table_edit = QLineEdit()
+        self.table_edit.setPlaceholderText("schema.table")
+        grid.addWidget(self.table_edit, 0, 1)
+        grid.addWidget(QLabel("One result row per (optional):"), 0, 2)
+        self.partition_edit = QLineEdit()
+        self.partition_edit.setPlaceholderText("a partition column, e.g. day")
+        grid.addWidget(self.partition_edit, 0, 3)
+        self.sql_button = QPushButton("Write SQL")
+        self.sql_button.clicked.connect(self.write_sql)
+        grid.addWidget(self.sql_button, 0, 4)
+        self.copy_button = QPushButton("Copy SQL")
+        self.copy_button.clicked.connect(
+            lambda: QGuiApplication.clipboard().setText(self.sql_view.toPlainText()))
+        grid.addWidget(self.copy_button, 0, 5)
+        mono = QFontDatabase.systemFont(QFontDatabase.SystemFont.FixedFont)
+        self.sql_view = QPlainTextEdit()
+        self.sql_view.setReadOnly(True)
+        self.sql_view.setFont(mono)
+        self.sql_view.setPlaceholderText("the query for the columns below appears here")
+        grid.addWidget(self.sql_view, 1, 0, 1, 6)
+        self.result_edit = QPlainTextEdit()
+        self.result_edit.setFont(mono)
+        self.result_edit.setPlaceholderText(
+            "paste the query's result here: the header line and one row per partition")
+        grid.addWidget(self.result_edit, 2, 0, 1, 5)
+        self.result_file_button = QPushButton("Load result…")
+        self.result_file_button.clicked.connect(self.load_result_file)
+        grid.addWidget(self.result_file_button, 2, 5, Qt.AlignmentFlag.AlignTop)
+        for box in (self.sql_view, self.result_edit):
+            box.setMaximumHeight(96)
+            box.setLineWrapMode(QPlainTextEdit.LineWrapMode.NoWrap)
+        self.result_edit.textChanged.connect(self._update_buttons)
+        return tab
+
+    def _source_changed(self, index: int) -> None:
+        for page_index, page in enumerate(self.source_pages):
+            page.setVisible(page_index == index)
+        for widget in (self.progress, self.speed_label, self.cancel_button):
+            widget.setVisible(index == 0)
+        self._update_buttons()
+
+    # -- warehouse -----------------------------------------------------------------------
+
+    def write_sql(self) -> bool:
+        """Show the query for the current mapping and table; False (and a message) if none."""
+        try:
+            sql = warehouse_sql(self.mapping(), self.table_edit.text().strip(),
+                                group_by=self.partition_edit.text().strip() or None)
+        except FourfoldError as error:
+            self.show_status(str(error), error=True)
+            return False
+        self.sql_view.setPlainText(sql)
+        self.show_status("Run the query in the warehouse, then paste its result below.")
+        return True
+
+    def load_result_file(self) -> None:
+        path, _ = QFileDialog.getOpenFileName(self, "Choose a saved query result", "",
+                                              "Query results (*.csv *.tsv *.txt);;All files (*)")
+        if not path:
+            return
+        try:
+            size = Path(path).stat().st_size
+            if size > RESULT_LIMIT:
+                raise HistoryError(f"{Path(path).name}: a query result should be a few lines")
+            self.result_edit.setPlainText(Path(path).read_text(encoding="utf-8-sig"))
+        except (OSError, UnicodeDecodeError) as error:
+            self.show_status(f"{Path(path).name}: cannot be read ({error})", error=True)
+        except FourfoldError as error:
+            self.show_status(str(error), error=True)
+
+    def read_result(self) -> None:
+        """Read the pasted query result into the results table (instant: a few lines)."""
+        self._clear_results()
+        try:
+            summary = read_warehouse_result(self.result_edit.toPlainText(), self.mapping())
+        except FourfoldError as error:
+            self.show_status(str(error), error=True)
+            return
+        self.summary = summary
+        self._fill_results(summary)
+        self.show_status(f"The result covers {summary.rows:,} rows. Choose a plan row for each "
+                         "metric (or a new row) and apply; one Undo takes it back.")
+
     # -- file and mapping ----------------------------------------------------------------
 
     def choose_file(self) -> None:
@@ -234,10 +348,12 @@ class HistoryDialog(QDialog):
         row = self.map_table.rowCount()
         self.map_table.insertRow(row)
         choices = self.columns or [""]
-        column = _combo(choices, spec.column if spec else None)
+        column = _combo(choices, spec.column if spec else None, editable=True)
         kind = _combo(HISTORY_KINDS, spec.kind if spec else "mean")
-        denominator = _combo([NONE, *self.columns], spec.denominator if spec else NONE)
-        pre = _combo([NONE, *self.columns], spec.pre if spec and spec.pre else NONE)
+        denominator = _combo([NONE, *self.columns], spec.denominator if spec else NONE,
+                             editable=True)
+        pre = _combo([NONE, *self.columns], spec.pre if spec and spec.pre else NONE,
+                     editable=True)
         cap = _combo(CAP_CHOICES, f"{spec.cap:g}" if spec and spec.cap else CAP_CHOICES[0],
                      editable=True)
         for index, widget in enumerate((column, kind, denominator, pre, cap)):
@@ -297,6 +413,13 @@ class HistoryDialog(QDialog):
     @property
     def reading(self) -> bool:
         return self._thread is not None
+
+    def read(self) -> None:
+        """The Read button: the file on a worker thread, or the pasted query result."""
+        if self.source_tabs.currentIndex() == 1:
+            self.read_result()
+        else:
+            self.start_reading()
 
     def start_reading(self) -> None:
         if self.reading:
@@ -482,10 +605,14 @@ class HistoryDialog(QDialog):
 
     def _update_buttons(self, *_args) -> None:
         busy = self.reading
-        has_file = bool(self.path_edit.text())
-        for widget in (self.choose_button, self.add_button, self.remove_button, self.map_table):
+        warehouse = self.source_tabs.currentIndex() == 1
+        ready = bool(self.result_edit.toPlainText().strip()) if warehouse else bool(
+            self.path_edit.text())
+        for widget in (self.source_tabs, *self.source_pages, self.add_button, self.remove_button,
+                       self.map_table):
             widget.setEnabled(not busy)
-        self.read_button.setEnabled(not busy and has_file and self.map_table.rowCount() > 0)
+        self.read_button.setText("Read query result" if warehouse else "Read history file")
+        self.read_button.setEnabled(not busy and ready and self.map_table.rowCount() > 0)
         self.cancel_button.setEnabled(busy)
         self.apply_button.setEnabled(not busy and self.summary is not None)
 
