@@ -90,6 +90,22 @@ def exceed(before: Density | None, t: float, drift: float, c: float) -> float:
     return float(before.mass @ ndtr((mean - c * np.sqrt(t)) / sd))
 
 
+def exceed_slope(before: Density | None, t: float, drift: float, c: float) -> float:
+    """d/d(drift) of :func:`exceed` with the boundaries held fixed.
+
+    The derivative of a path's likelihood in the drift is its score S − drift·t, so the slope
+    is E[(S_k − drift·t_k) 1{still running, Z_k ≥ c}], split into the part carried by the
+    previous look's score and the part of the last increment (σ φ(a) for a normal increment).
+    """
+    if before is None:
+        a = drift * np.sqrt(t) - c
+        return float(np.sqrt(t) * np.exp(-0.5 * a * a) * _INV_SQRT_2PI)
+    mean, sd = _shift(before, t, drift)
+    a = (mean - c * np.sqrt(t)) / sd
+    score = before.z * np.sqrt(before.t) - drift * before.t
+    return float(before.mass @ (score * ndtr(a) + sd * np.exp(-0.5 * a * a) * _INV_SQRT_2PI))
+
+
 def below(before: Density | None, t: float, drift: float, c: float) -> float:
     """P(no stop before this look, Z < c at fraction ``t``)."""
     if before is None:
@@ -122,17 +138,20 @@ def advance(
 
 def crossings(
     fractions: np.ndarray, upper: np.ndarray, lower: np.ndarray, drift: float, r: int = GRID_SIZE
-) -> tuple[np.ndarray, np.ndarray]:
+) -> tuple[np.ndarray, np.ndarray, float]:
     """Per-look probabilities of a first crossing above ``upper`` and below ``lower``.
 
-    A path stops at the first look where Z ≥ upper or Z < lower (either may be ±inf).
+    A path stops at the first look where Z ≥ upper or Z < lower (either may be ±inf). The third
+    result is the slope of the total upper-crossing probability in the drift (boundaries fixed).
     """
     up = np.zeros(fractions.size)
     down = np.zeros(fractions.size)
+    slope = 0.0
     state: Density | None = None
     for k, t in enumerate(fractions):
         up[k] = exceed(state, t, drift, upper[k])
         down[k] = below(state, t, drift, lower[k])
+        slope += exceed_slope(state, t, drift, upper[k])
         if k + 1 < fractions.size:
             state = advance(state, t, drift, lower[k], upper[k], r)
-    return up, down
+    return up, down, slope

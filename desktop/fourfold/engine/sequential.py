@@ -150,6 +150,45 @@ def _illinois(
     return b
 
 
+def _drift_root(
+    evaluate: Callable[[float], tuple[float, float]], start: float, secant: bool
+) -> float:
+    """Root of an increasing function given with its slope: safeguarded Newton steps.
+
+    With ``secant`` the slope is only approximate (futility boundaries move with the drift),
+    so after the first step the secant through the last two values is used instead. Steps that
+    leave the bracket found so far are replaced by bisection; the last point returned has been
+    evaluated.
+    """
+    lo = hi = -1.0
+    x = start
+    f, slope = evaluate(x)
+    previous: tuple[float, float] | None = None
+    for _ in range(100):
+        if abs(f) < 1e-11:
+            return x
+        if f < 0.0:
+            lo = x
+        else:
+            hi = x
+        if secant and previous is not None and previous[1] != f:
+            new = x - f * (x - previous[0]) / (f - previous[1])
+        else:
+            new = x - f / slope if slope > 0.0 else math.nan
+        if lo >= 0.0 and hi >= 0.0:
+            if not min(lo, hi) < new < max(lo, hi):
+                new = 0.5 * (lo + hi)
+        elif not math.isfinite(new) or (f < 0.0) != (new > x):
+            new = x * 1.25 if f < 0.0 else x / 1.25
+        previous = (x, f)
+        done = abs(new - x) <= 1e-12 * x
+        x = new
+        f, slope = evaluate(x)
+        if done:
+            return x
+    return x
+
+
 def _log_gap(prob: Callable[[float], float], target: float) -> Callable[[float], float]:
     log_target = math.log(target)
     return lambda x: math.log(max(prob(x), _LOG_FLOOR)) - log_target
@@ -192,40 +231,49 @@ def _lower_for(
 
 
 def _efficacy(t: np.ndarray, side_alpha: float, two_sided: bool, spending: str, gamma: float):
-    """Efficacy boundaries under H0, each side spending ``side_alpha`` in all."""
+    """Efficacy boundaries under H0, each side spending ``side_alpha`` in all.
+
+    Returns the boundaries and the probability of a first crossing of the upper one per look.
+    """
     if spending in CLASSIC:
         shape = boundary_shape(spending, t)
 
-        def gap(c: float) -> float:
+        def crossed(c: float) -> np.ndarray:
             low = -c * shape if two_sided else np.full(t.size, -np.inf)
-            up, _ = grid.crossings(t, c * shape, low, 0.0)
-            return math.log(max(up.sum(), _LOG_FLOOR)) - math.log(side_alpha)
+            return grid.crossings(t, c * shape, low, 0.0)[0]
+
+        def gap(c: float) -> float:
+            return math.log(max(crossed(c).sum(), _LOG_FLOOR)) - math.log(side_alpha)
 
         lo = float(-ndtri(side_alpha))
         hi = float(-ndtri(side_alpha / t.size))
-        if t.size == 1:
-            return shape * lo
-        return shape * _illinois(gap, lo, hi, gap(lo), gap(hi))
+        c = lo if t.size == 1 else _illinois(gap, lo, hi, gap(lo), gap(hi))
+        return shape * c, crossed(c)
     increments = np.diff(spent(spending, t, side_alpha, gamma), prepend=0.0)
     upper = np.empty(t.size)
+    up = np.empty(t.size)
     state: grid.Density | None = None
     for k, t_k in enumerate(t):
         upper[k] = _upper_for(state, t_k, 0.0, increments[k])
+        up[k] = grid.exceed(state, t_k, 0.0, upper[k])
         if k + 1 < t.size:
             state = grid.advance(state, t_k, 0.0, -upper[k] if two_sided else -np.inf, upper[k])
-    return upper
+    return upper, up
 
 
 def _with_futility(
     t: np.ndarray, upper: np.ndarray, floor: np.ndarray, drift: float, beta_steps: np.ndarray
 ):
-    """Futility boundaries by β-spending under ``drift``, and the crossing probabilities."""
+    """Futility boundaries by β-spending under ``drift``, the crossing probabilities and the
+    slope of the power in the drift with these boundaries held fixed."""
     lower = np.empty(t.size)
     up = np.empty(t.size)
     down = np.empty(t.size)
+    slope = 0.0
     state: grid.Density | None = None
     for k, t_k in enumerate(t):
         up[k] = grid.exceed(state, t_k, drift, upper[k])
+        slope += grid.exceed_slope(state, t_k, drift, upper[k])
         if k + 1 < t.size:
             level = _lower_for(state, t_k, drift, beta_steps[k], upper[k])
         else:
@@ -234,7 +282,7 @@ def _with_futility(
         down[k] = grid.below(state, t_k, drift, lower[k])
         if k + 1 < t.size:
             state = grid.advance(state, t_k, drift, lower[k], upper[k])
-    return lower, up, down
+    return lower, up, down, slope
 
 
 def _stops(up: np.ndarray, down: np.ndarray) -> np.ndarray:
@@ -378,35 +426,27 @@ def design(
     if power <= side_alpha:
         raise ValueError(f"power must exceed the one-sided α ({side_alpha:g}), got {power!r}")
 
-    upper = _efficacy(t, side_alpha, two_sided, spending, gamma)
+    upper, up_h0 = _efficacy(t, side_alpha, two_sided, spending, gamma)
     floor = -upper if two_sided else np.full(looks, -np.inf)
-    up_h0, _ = grid.crossings(t, upper, floor, 0.0)
     fixed = float(ndtri(1.0 - side_alpha) + ndtri(power))
+    beta_steps = (None if futility is None
+                  else np.diff(spent(futility, t, 1.0 - power, gamma), prepend=0.0))
+    passes: dict[float, tuple[np.ndarray, np.ndarray, np.ndarray, float]] = {}
 
-    if futility is None:
-        lower = floor
+    def shortfall(drift: float) -> tuple[float, float]:
+        if beta_steps is None:
+            passes[drift] = (floor, *grid.crossings(t, upper, floor, drift))
+        else:
+            passes[drift] = _with_futility(t, upper, floor, drift, beta_steps)
+        return float(passes[drift][1].sum()) - power, passes[drift][3]
 
-        def shortfall(drift: float) -> float:
-            return float(grid.crossings(t, upper, floor, drift)[0].sum()) - power
-    else:
-        beta_steps = np.diff(spent(futility, t, 1.0 - power, gamma), prepend=0.0)
-
-        def shortfall(drift: float) -> float:
-            return float(_with_futility(t, upper, floor, drift, beta_steps)[1].sum()) - power
-
-    lo, g_lo = fixed, shortfall(fixed)
-    hi, g_hi = fixed * 1.1, shortfall(fixed * 1.1)
-    while g_hi < 0.0:
-        lo, g_lo = hi, g_hi
-        hi, g_hi = hi * 1.25, shortfall(hi * 1.25)
-    drift = _illinois(shortfall, lo, hi, g_lo, g_hi, xtol=1e-11)
-
-    if futility is None:
-        eff_h1, down_h1 = grid.crossings(t, upper, floor, drift)
-    else:
-        lower, eff_h1, down_h1 = _with_futility(t, upper, floor, drift, beta_steps)
+    drift = _drift_root(shortfall, fixed, secant=beta_steps is not None)
+    lower, eff_h1, down_h1, _ = passes[drift]
     stop_h1 = _stops(eff_h1, down_h1)
-    stop_h0 = _stops(*grid.crossings(t, upper, lower, 0.0))
+    if futility is None:
+        stop_h0 = _stops(up_h0, up_h0 if two_sided else np.zeros(looks))
+    else:
+        stop_h0 = _stops(*grid.crossings(t, upper, lower, 0.0)[:2])
     inflation = (drift / fixed) ** 2
     sides = 2.0 if two_sided else 1.0
     return SequentialDesign(
@@ -465,7 +505,7 @@ def peeking_alpha(looks: int, nominal: float = 0.05) -> float:
     nominal = _probability("nominal", nominal)
     t = np.arange(1, looks + 1) / looks
     c = np.full(looks, float(-ndtri(nominal / 2.0)))
-    up, down = grid.crossings(t, c, -c, 0.0)
+    up, down, _ = grid.crossings(t, c, -c, 0.0)
     return float(up.sum() + down.sum())
 
 
@@ -510,5 +550,5 @@ def power_at(sequential: SequentialDesign, drift: float) -> float:
         lower = -sequential.upper
     else:
         lower = np.full(sequential.looks, -np.inf)
-    up, _ = grid.crossings(sequential.fractions, sequential.upper, lower, drift)
+    up, _, _ = grid.crossings(sequential.fractions, sequential.upper, lower, drift)
     return float(up.sum())

@@ -28,6 +28,11 @@ Binding metric
     needing the most days (then the most units) binds: it sets the plan's ``duration_days`` and
     ``total_units``. Secondary rows are informational. In runtime mode nothing binds; the
     duration is the runtime and the total is the traffic it brings.
+Interim looks
+    With ``settings.looks > 1`` every row's units and days are the maximum of its group
+    sequential design (:mod:`fourfold.plan.sequential`): the fixed design's units times the
+    design's inflation factor; units from a runtime or ``n`` are that maximum. Expected units
+    and days under H1 and the day of each look fill the sequential fields.
 Problems
     A row that cannot be computed gets ``nan`` results and the engine's reason
     (:func:`fourfold.engine.problems`) in ``reason``; :func:`compute` does not raise for a plan
@@ -49,6 +54,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from fourfold import engine
+from fourfold.plan import sequential
 from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Metric, Plan, Settings
 
@@ -172,7 +178,7 @@ def _scalar(value: Any) -> float:
     return float(np.asarray(value, dtype=float))
 
 
-def _evaluate_row(plan: Plan, metric: Metric) -> RowResult:
+def _evaluate_row(plan: Plan, metric: Metric, designs: dict | None = None) -> RowResult:
     settings = plan.settings
     runtime = settings.runtime_days is not None
     solved = "detectable_effect" if runtime and metric.solve == "sample_size" else metric.solve
@@ -191,6 +197,13 @@ def _evaluate_row(plan: Plan, metric: Metric) -> RowResult:
                    "needs n (control units) or a plan runtime to solve for "
                    + solved.replace("_", " "))
             return _failed(solved, factor, shown_alpha, shown_power, why)
+    try:
+        staged = sequential.row_design(settings, alpha, power, metric.alternative, designs)
+    except ValueError as error:
+        return _failed(solved, factor, shown_alpha, shown_power, str(error))
+    if staged is not None and solved == "significance_level":
+        return _failed(solved, factor, shown_alpha, shown_power, sequential.NO_ALPHA_SOLVE)
+    inflation = sequential.inflation(staged)
     n_effective = None if n_control is None else n_control / factor
 
     common = dict(sd=metric.sd, alternative=metric.alternative, ratio=settings.ratio,
@@ -211,13 +224,17 @@ def _evaluate_row(plan: Plan, metric: Metric) -> RowResult:
     try:
         if solved == "sample_size":
             n_control = _scalar(engine.sample_size(metric.kind, metric.baseline, effect,
-                                                   alpha=alpha, power=power, **common)) * factor
+                                                   alpha=alpha, power=power, **common))
+            n_control *= factor * inflation
         elif solved == "detectable_effect":
-            effect = _scalar(engine.detectable_effect(metric.kind, metric.baseline, n_effective,
-                                                      alpha=alpha, power=power, **common))
+            effect = _scalar(engine.detectable_effect(metric.kind, metric.baseline,
+                                                      n_effective / inflation, alpha=alpha,
+                                                      power=power, **common))
         elif solved == "power":
             power = _scalar(engine.power(metric.kind, metric.baseline, effect, n_effective,
                                          alpha=alpha, **common))
+            if staged is not None:
+                power = sequential.power_of(staged, power)
         else:
             alpha = _scalar(engine.significance_level(metric.kind, metric.baseline, effect,
                                                       n_effective, power=power, **common))
@@ -244,17 +261,7 @@ def _evaluate_row(plan: Plan, metric: Metric) -> RowResult:
                                           settings.whole_weeks))
     return RowResult(units_control, units_treatment, units_total, days, float(effect_abs),
                      float(effect_rel), power, alpha, "", solved, factor,
-                     *_sequential_fields(settings, units_total, days))
-
-
-def _sequential_fields(settings: Settings, units_total: float,
-                       days: float) -> tuple[float, float, float, tuple[float, ...] | None]:
-    """``(units_max, units_expected_h1, days_expected_h1, look_days)`` of a computed row.
-
-    The one place where interim looks enter the evaluation; a fixed design gives the fixed
-    total and days and no look days.
-    """
-    return units_total, units_total, days, None
+                     *sequential.row_fields(staged, units_total, days))
 
 
 def compute(plan: Plan) -> PlanResult:
@@ -281,7 +288,8 @@ def compute(plan: Plan) -> PlanResult:
     >>> result.rows[0].units_control, result.binding_name
     (1570.0, 'Spend')
     """
-    rows = tuple(_evaluate_row(plan, metric) for metric in plan.metrics)
+    designs: dict = {}
+    rows = tuple(_evaluate_row(plan, metric, designs) for metric in plan.metrics)
     return _summarise(plan, rows)
 
 
@@ -294,6 +302,7 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...]) -> PlanResult:
             f"α corrected ({settings.correction}): primary rows for {settings.arms} arm(s) × "
             f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
         )
+    notes.extend(sequential.plan_notes(settings))
     for metric, row in zip(plan.metrics, rows, strict=True):
         if row.reason:
             notes.append(f"{metric.name}: not computed — {row.reason}.")

@@ -46,7 +46,7 @@ def row_design(settings, alpha: float, power: float, alternative: str,
     """The group sequential design of a row, or ``None`` for a fixed design (one look).
 
     ``designs`` may be a dict the caller keeps for one evaluation, so that rows sharing α,
-    power and direction share one design.
+    power and sidedness share one design ("greater" and "less" have the same boundaries).
 
     Raises
     ------
@@ -64,7 +64,7 @@ def row_design(settings, alpha: float, power: float, alternative: str,
     """
     if settings.looks <= 1:
         return None
-    key = (float(alpha), float(power), alternative)
+    key = (float(alpha), float(power), alternative == "two-sided")
     if designs is not None and key in designs:
         return designs[key]
     made = sequential.design(
