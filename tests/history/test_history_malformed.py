@@ -134,3 +134,15 @@ def test_impossible_mappings(kwargs, words):
 def test_the_same_metric_twice(tmp_path):
     path = _write(tmp_path, "a\n1\n2\n")
     assert "more than one" in _error(path, [ColumnMap("mean", "a"), ColumnMap("count", "a")])
+
+
+def test_header_names_are_taken_as_written(tmp_path):
+    path = _write(tmp_path, "id, spend\nu1, 2\nu2, 3\n")
+    assert "' spend'" in _error(path, [ColumnMap("mean", "spend")])
+    assert read_history(path, [ColumnMap("mean", " spend")])[" spend"].mean == 2.5
+
+
+def test_a_parquet_name_on_something_else(tmp_path):
+    pytest.importorskip("pyarrow")
+    path = _write(tmp_path, "spend\n1\n2\n", name="h.parquet")
+    assert "Parquet" in _error(path, [ColumnMap("mean", "spend")])

@@ -70,8 +70,7 @@ def read_columns(path: str | os.PathLike) -> list[str]:
     except UnicodeDecodeError:
         raise HistoryError(f"{path.name}: not a UTF-8 CSV text file") from None
     header = next(csv.reader(io.StringIO(text)), [])
-    header = [name.strip() for name in header]
-    if not any(header):
+    if not any(name.strip() for name in header):
         raise HistoryError(f"{path.name}: the first line must name the columns")
     _check_last_line(path, len(header))
     return header
@@ -151,6 +150,8 @@ def _csv_chunks(path: Path, columns: list[str], chunk_rows: int) -> Iterator[Chu
             ) from None
         except pd.errors.EmptyDataError:
             raise HistoryError(f"{path.name}: the file is empty") from None
+        except ValueError as error:  # pandas' remaining complaints about the file's layout
+            raise HistoryError(f"{path.name}: cannot be read as CSV ({error})") from None
 
 
 def _parser_message(error: Exception) -> str:
