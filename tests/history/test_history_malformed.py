@@ -5,6 +5,8 @@ is common practice, no source.
 """
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from fourfold.errors import FourfoldError
 from fourfold.history import ColumnMap, HistoryError, read_history
@@ -146,3 +148,26 @@ def test_a_parquet_name_on_something_else(tmp_path):
     pytest.importorskip("pyarrow")
     path = _write(tmp_path, "spend\n1\n2\n", name="h.parquet")
     assert "Parquet" in _error(path, [ColumnMap("mean", "spend")])
+
+
+CELLS = ["", "1", "0", "2.5", "-3", "x", "true", "NA", '"', "1e400", " 7", "\x00", "é"]
+
+
+@settings(max_examples=60, deadline=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(body=st.lists(st.lists(st.sampled_from(CELLS), max_size=4), max_size=12),
+       tail=st.booleans())
+def test_any_small_file_gives_numbers_or_a_history_error(tmp_path, body, tail):
+    # Common practice, no source: a reader must never crash on what users feed it.
+    text = "a,b,c\n" + "\n".join(",".join(row) for row in body) + ("\n" if tail else "")
+    path = tmp_path / "fuzz.csv"
+    path.write_text(text, encoding="utf-8")
+    mapping = [ColumnMap("mean", "a", pre="b"), ColumnMap("proportion", "b"),
+               ColumnMap("count", "c", cap=90.0), ColumnMap("ratio", "a", denominator="c")]
+    for spec in mapping:
+        try:
+            result = read_history(path, [spec], chunk_rows=3)
+        except HistoryError:
+            continue
+        metric = result.metrics[0]
+        assert metric.n >= 2 and metric.sd > 0
