@@ -216,6 +216,8 @@ def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect
 def is_stale(plan, index, result=None):
     """True when row ``index`` has a stored check that no longer matches its inputs.
 
+    Cheap enough to call for every table repaint when ``result`` (``compute(plan)``) is given.
+
     Examples
     --------
     >>> from fourfold.plan import Metric, Plan
@@ -232,11 +234,11 @@ def is_stale(plan, index, result=None):
     if not stored or "inputs" not in stored:
         return False
     result = compute(plan) if result is None else result
-    try:
-        _, row, looks, n_control = _row_setup(plan, index, result)
-    except FourfoldError:
+    row = result.rows[index]
+    if row.reason or row.design_factor == 0 or not math.isfinite(row.units_control):
         return True
-    now = _inputs(plan, index, row, n_control, 1 if looks is None else looks.looks)
+    now = _inputs(plan, index, row, row.units_control / row.design_factor,
+                  plan.settings.looks)
     before = stored["inputs"]
     for name in INPUT_FIELDS:
         a, b = now.get(name), before.get(name)
