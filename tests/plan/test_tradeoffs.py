@@ -195,3 +195,28 @@ def test_bad_index_and_points_are_rejected():
         tradeoffs(mean_plan(), 3)
     with pytest.raises(ValueError, match="points"):
         tradeoffs(mean_plan(), 0, points=2)
+
+
+def test_interim_looks_inflate_the_curves_like_the_evaluation():
+    # Reference: the engine's group sequential design (its inflation factors are checked
+    # against Jennison & Turnbull 2000, ch. 2, in tests/engine) times the fixed units.
+    from fourfold.engine import sequential
+
+    plan = mean_plan(daily=2_000)
+    plan = dataclasses.replace(plan, settings=dataclasses.replace(plan.settings, looks=3))
+    result = compute(plan)
+    data = tradeoffs(plan, 0, result, points=41)
+    grow = sequential.design(3, alpha=0.05, power=0.8).inflation
+    assert grow > 1.0
+    fixed = closed_form(4.0, data.effect.curve.x, 0.05, 0.8)
+    np.testing.assert_allclose(data.effect.curve.y, fixed * grow, rtol=2e-3)
+    grow_90 = sequential.design(3, alpha=0.05, power=0.9).inflation
+    np.testing.assert_allclose(data.effect.neighbour.y,
+                               closed_form(4.0, data.effect.neighbour.x, 0.05, 0.9) * grow_90,
+                               rtol=2e-3)
+    assert data.effect.point[1] == result.rows[0].units_control
+    for figure in (data.power, data.alpha):
+        xs, x = figure.curve.x, figure.point[0]
+        if figure.x_log:
+            xs, x = np.log(xs), math.log(x)
+        assert np.interp(x, xs, figure.curve.y) == pytest.approx(figure.point[1], rel=1e-3)

@@ -17,7 +17,9 @@ For one row of a plan, four figures answer the questions a planning meeting asks
 Every curve is one vectorised engine call with the row's own design, exactly as
 :func:`fourfold.plan.evaluation.compute` evaluates the row: its α (overridden and corrected for
 multiple comparisons) and power come from the row's result, units are multiplied by the row's
-design factor, and days turn into units through :func:`fourfold.plan.evaluation.runtime_units`.
+design factor and, with interim looks, by the inflation of the group sequential design the
+evaluation gives the row at that α and power (:mod:`fourfold.plan.sequential`), and days turn
+into units through :func:`fourfold.plan.evaluation.runtime_units`.
 Each figure carries the row's design point, which lies on its solid curve. Effects are shown in
 display units: percent of the baseline for relative rows, percentage points for absolute
 proportions, the metric's own units otherwise (``Tradeoffs.effect_scale`` converts back).
@@ -46,14 +48,16 @@ Examples
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from dataclasses import dataclass
 
 import numpy as np
 
 from fourfold import engine
+from fourfold.plan import sequential
 from fourfold.plan.evaluation import PlanResult, RowResult, compute, runtime_units
-from fourfold.plan.model import Metric, Plan
+from fourfold.plan.model import Metric, Plan, Settings
 
 FIGURES = ("effect", "power", "alpha", "runtime")
 POINTS = 81
@@ -62,6 +66,7 @@ MAX_WEEKS = 52
 SPAN = (0.4, 2.5)
 POWER_RANGE = (0.5, 0.99)
 ALPHA_RANGE = (0.001, 0.2)
+INFLATION_NODES = 8
 
 _EMPTY = np.empty(0)
 
@@ -238,6 +243,17 @@ def _empty_figure(name: str, title: str, x_label: str, y_label: str, reason: str
                   (math.nan, math.nan), blank, math.nan, "", reason)
 
 
+@functools.lru_cache(maxsize=256)
+def _inflation(looks: int, spending: str, futility: bool, alpha: float, power: float,
+               alternative: str) -> float:
+    """Maximum ÷ fixed units of the row design the evaluation uses (nan when impossible)."""
+    staged = Settings(looks=looks, spending=spending, futility=futility)
+    try:
+        return sequential.inflation(sequential.row_design(staged, alpha, power, alternative))
+    except ValueError:
+        return math.nan
+
+
 class _Row:
     """The engine calls of one computed row, vectorised over any of effect, α, power, n."""
 
@@ -247,21 +263,50 @@ class _Row:
         self.common = dict(sd=metric.sd, alternative=metric.alternative, ratio=settings.ratio,
                            relative=metric.relative, margin=metric.margin, method=metric.method)
 
-    def units(self, effect, alpha, power) -> np.ndarray:
-        """Control-arm units (with the design factor), as the evaluation computes them."""
+    def inflation(self, alpha, power, design: float | None = None, log: bool = False):
+        """Interim-look inflation at α and power (1 for a fixed design).
+
+        Along a grid of α or power the inflation, smooth in both, is computed at a few nodes
+        (and at ``design``, the row's own value, so that the design point stays exact) and
+        interpolated; each group sequential design costs milliseconds.
+        """
+        settings = self.plan.settings
+        if settings.looks <= 1:
+            return 1.0
+
+        def at(a: float, p: float) -> float:
+            return _inflation(settings.looks, settings.spending, settings.futility, float(a),
+                              float(p), self.metric.alternative)
+
+        alpha, power = np.asarray(alpha, dtype=float), np.asarray(power, dtype=float)
+        if alpha.ndim == 0 and power.ndim == 0:
+            return at(alpha, power)
+        grid, fixed, along_alpha = (alpha, power, True) if alpha.ndim else (power, alpha, False)
+        nodes = np.unique(np.concatenate([grid[:: max(1, grid.size // INFLATION_NODES)],
+                                          grid[-1:], [] if design is None else [design]]))
+        values = [at(x, fixed) if along_alpha else at(fixed, x) for x in nodes]
+        if log:
+            return np.interp(np.log(grid), np.log(nodes), values)
+        return np.interp(grid, nodes, values)
+
+    def units(self, effect, alpha, power, *, design: float | None = None,
+              log: bool = False) -> np.ndarray:
+        """Control-arm units (design factor and interim looks included), as the evaluation
+        computes them."""
         metric = self.metric
         with np.errstate(all="ignore"):
             n = engine.sample_size(metric.kind, metric.baseline, effect, alpha=alpha,
                                    power=power, **self.common)
-        return np.asarray(n, dtype=float) * self.row.design_factor
+        grow = self.inflation(alpha, power, design, log)
+        return np.asarray(n, dtype=float) * self.row.design_factor * grow
 
     def detectable(self, n_control, alpha, power) -> np.ndarray:
-        """Detectable effect (row units) for control-arm units (before the design factor)."""
+        """Detectable effect (row units) for control-arm units (the maximum with looks)."""
         metric = self.metric
+        n = np.asarray(n_control) / (self.row.design_factor * self.inflation(alpha, power))
         with np.errstate(all="ignore"):
-            effect = engine.detectable_effect(metric.kind, metric.baseline,
-                                              np.asarray(n_control) / self.row.design_factor,
-                                              alpha=alpha, power=power, **self.common)
+            effect = engine.detectable_effect(metric.kind, metric.baseline, n, alpha=alpha,
+                                              power=power, **self.common)
         return np.asarray(effect, dtype=float)
 
 
@@ -310,7 +355,7 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
         "power": ("Sample size against power", "power (%)", y_units),
         "alpha": ("Sample size against α", f"α ({sided}{per}, log scale)", y_units),
         "runtime": ("What each week can detect", "days of runtime",
-                    f"detectable effect ({effect_text})"),
+                    f"MDE ({effect_text})" if unit else "MDE"),
     }
     editable = row.solved != "detectable_effect"
     effect = _row_effect(metric, row)
@@ -353,10 +398,11 @@ def _power_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, 
     high = min(0.999, max(POWER_RANGE[1], row.power + 0.005))
     grid = np.linspace(low, high, points)
     other = neighbour_alpha(row.alpha)
-    y = r.units(effect, row.alpha, grid)
+    y = r.units(effect, row.alpha, grid, design=row.power)
     return Figure("power", *labels, False, _spans_decades(y),
                   Curve(grid * 100.0, y, _alpha_label(row.alpha)),
-                  Curve(grid * 100.0, r.units(effect, other, grid), _alpha_label(other)),
+                  Curve(grid * 100.0, r.units(effect, other, grid, design=row.power),
+                        _alpha_label(other)),
                   (row.power * 100.0, row.units_control), Curve(_EMPTY, _EMPTY, ""),
                   math.nan, "", "")
 
@@ -368,10 +414,11 @@ def _alpha_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, 
     high = max(ALPHA_RANGE[1], min(0.5, row.alpha * 1.5))
     grid = np.geomspace(low, high, points)
     other = neighbour_power(row.power)
-    y = r.units(effect, grid, row.power)
+    y = r.units(effect, grid, row.power, design=row.alpha, log=True)
     return Figure("alpha", *labels, True, _spans_decades(y),
                   Curve(grid, y, _power_label(row.power)),
-                  Curve(grid, r.units(effect, grid, other), _power_label(other)),
+                  Curve(grid, r.units(effect, grid, other, design=row.alpha, log=True),
+                        _power_label(other)),
                   (row.alpha, row.units_control), Curve(_EMPTY, _EMPTY, ""),
                   math.nan, "", "")
 

@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QEvent, QRectF, Qt, QTimer, Signal
-from PySide6.QtGui import QColor, QFont, QPainter, QPalette
+from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPalette
 from PySide6.QtWidgets import QApplication, QHBoxLayout, QLabel, QSlider, QVBoxLayout, QWidget
 
 from fourfold.plan.tradeoffs import Figure, Tradeoffs, tradeoffs
@@ -33,9 +33,12 @@ MAX_MARK_LABELS = 12
 DRAG_INTERVAL_MS = 40
 SLIDER_STEPS = 400
 SCREEN_DPI = 96.0
+WIDEST_TICK = "−00.0k"
 
 _GRID = ((0, 0), (0, 1), (1, 0), (1, 1))
-_LEGEND_CORNER = {"effect": (8, -8), "power": (8, 8), "alpha": (8, -8), "runtime": (8, -8)}
+LEGEND_LEFT = (8, 8)
+LEGEND_RIGHT = (-8, 8)
+LEGEND_LOW_RIGHT = (-8, -8)
 _POINT_ANCHOR = {"effect": (1.08, -0.15), "power": (-0.08, -0.15), "alpha": (1.08, -0.15),
                  "runtime": (-0.08, 1.45)}
 
@@ -209,7 +212,7 @@ class _Plot:
         self.marks = self.item.plot([], [], pen=None, symbol="o")
         self.point = self.item.plot([], [], pen=None, symbol="o")
         self.guide = pg.InfiniteLine(angle=90, movable=False, label="",
-                                     labelOpts={"position": 0.92, "anchors": [(0, 0), (0, 0)]})
+                                     labelOpts={"position": 0.06, "anchors": [(0, 1), (0, 1)]})
         self.item.addItem(self.guide, ignoreBounds=True)
         self.point_text = pg.TextItem(anchor=_POINT_ANCHOR[name])
         self.item.addItem(self.point_text, ignoreBounds=True)
@@ -218,7 +221,7 @@ class _Plot:
             self.item.addItem(text, ignoreBounds=True)
         self.message = pg.TextItem(anchor=(0.5, 0.5))
         self.item.addItem(self.message, ignoreBounds=True)
-        self.legend = pg.LegendItem(offset=_LEGEND_CORNER[name])
+        self.legend = pg.LegendItem(offset=LEGEND_RIGHT)
         self.legend.setParentItem(self.item.vb)
         # Follow the painter's scale when painted onto a page (the view box does not zoom it).
         self.legend.setFlag(self.legend.GraphicsItemFlag.ItemIgnoresTransformations, False)
@@ -242,12 +245,19 @@ class _Plot:
                                    style=Qt.PenStyle.DotLine))
         self.guide.label.setColor(style.muted)
         self.guide.label.setFont(style.font(TICK_POINTS))
+        tick_font = style.font(TICK_POINTS)
+        metrics = QFontMetricsF(tick_font)
         for axis in self.axes.values():
             axis.setPen(pg.mkPen(style.muted, width=style.pen_scale))
             axis.setTextPen(pg.mkPen(style.foreground))
-            axis.setTickFont(style.font(TICK_POINTS))
+            axis.setTickFont(tick_font)
+            # Room for the widest compact tick label, fixed up front: the layout is right on
+            # the first frame and does not jump while the user drags the effect.
             axis.setStyle(tickLength=-int(5 * style.text_scale),
-                          tickTextOffset=int(4 * style.text_scale))
+                          tickTextOffset=int(4 * style.text_scale),
+                          autoExpandTextSpace=False,
+                          tickTextWidth=math.ceil(metrics.horizontalAdvance(WIDEST_TICK)) + 2,
+                          tickTextHeight=math.ceil(metrics.height()))
         self.point_text.setColor(style.point if style.background.lightness() < 128
                                  else style.foreground)
         self.point_text.setFont(style.font(LABEL_POINTS))
@@ -298,15 +308,23 @@ class _Plot:
         else:
             self.message.hide()
             self.item.enableAutoRange()
-            if len(figure.marks.y) and not figure.y_log:
+            if len(figure.marks.y) and math.isfinite(figure.marks.y[0]):
                 self._clip_top(figure)
 
     def _clip_top(self, figure: Figure) -> None:
-        """Runtime figure: keep the steep first days from squashing the weeks that matter."""
-        top = np.nanmax(np.concatenate([figure.marks.y[:1] * 1.35, [figure.point[1] * 1.6]]))
-        if math.isfinite(top) and top > 0:
+        """Runtime figure: keep the steep first days from squashing the weeks that matter.
+
+        Only when the detectable effect shrinks towards zero with the days (a superiority
+        test); a non-inferiority curve is shown whole.
+        """
+        y = figure.curve.y[np.isfinite(figure.curve.y)]
+        if y.size < 2 or not abs(y[0]) > abs(y[-1]) or not np.all(np.sign(y) == np.sign(y[-1])):
+            return
+        reach = max(abs(figure.marks.y[0]) * 1.35, abs(figure.point[1]) * 1.6)
+        if math.isfinite(reach) and reach > 0:
             self.item.enableAutoRange(axis="x")
-            self.item.setYRange(0.0, float(top), padding=0.02)
+            low, high = (0.0, reach) if y[-1] > 0 else (-reach, 0.0)
+            self.item.setYRange(low, high, padding=0.02)
 
     def clear(self) -> None:
         """Show nothing (no row selected)."""
@@ -323,6 +341,13 @@ class _Plot:
         second.setText(figure.neighbour.label)
         self.legend.setVisible(not figure.reason and bool(figure.curve.label))
         self.legend.updateSize()
+        finite = figure.curve.y[np.isfinite(figure.curve.y)]
+        rising = finite.size > 1 and finite[-1] > finite[0]
+        if not rising:
+            corner = LEGEND_RIGHT
+        else:  # a rising runtime curve has its point and week labels at the top left
+            corner = LEGEND_LOW_RIGHT if figure.name == "runtime" else LEGEND_LEFT
+        self.legend.setOffset(corner)
 
     def _set_texts(self, figure: Figure, show_point: bool) -> None:
         x, y = figure.point
@@ -385,6 +410,12 @@ class FigureGrid(pg.GraphicsLayoutWidget):
         self.handle.label.setColor(style.point if style.background.lightness() < 128
                                    else style.foreground)
         self.handle.label.setFont(style.font(TICK_POINTS))
+
+    def settle(self) -> None:
+        """Apply pending layout changes now (new axis labels), so the next frame is final."""
+        for plot in self.plots.values():
+            plot.item.layout.activate()
+        self.ci.layout.activate()
 
     def blank(self) -> None:
         """Show empty plots (no row selected)."""
@@ -515,6 +546,7 @@ class PlotPanel(QWidget):
         data = tradeoffs(plan, index, result, effect_span=span)
         self._span_key = key
         self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving)
+        self.grid.settle()
         self._sync_slider(data)
 
     def _set_controls_enabled(self, enabled: bool) -> None:
