@@ -32,11 +32,8 @@ def _pages(path) -> list[str]:
 
 
 @pytest.fixture(scope="module")
-def sample_pdf(tmp_path_factory):
+def sample_pdf(qapp, tmp_path_factory):
     """The sample plan's report (A4) and its text per page, made once for this module."""
-    from PySide6.QtWidgets import QApplication
-
-    QApplication.instance() or QApplication([])
     path = tmp_path_factory.mktemp("pdf") / "plan.pdf"
     write_pdf(load(sample_path()), path, today=datetime.date(2026, 3, 14))
     return path, _pages(path)
@@ -90,7 +87,7 @@ def test_two_hundred_rows_spread_over_more_pages_without_losing_one(sample_pdf, 
     assert len(header_pages) >= 3, "the results header repeats on every page of the table"
 
 
-def test_unknown_page_and_failed_write_leave_the_old_file(tmp_path, monkeypatch):
+def test_unknown_page_and_failed_write_leave_the_old_file(qapp, tmp_path, monkeypatch):
     target = tmp_path / "plan.pdf"
     target.write_bytes(b"previous report")
     with pytest.raises(ExportError, match="letter"):
