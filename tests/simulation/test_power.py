@@ -6,6 +6,8 @@ Reference libraries: statsmodels 0.15.0 (``statsmodels.stats.power``,
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy import special
 from statsmodels.stats.power import TTestIndPower
 from statsmodels.stats.proportion import power_proportions_2indep
@@ -197,3 +199,13 @@ def test_impossible_input_raises_value_error_naming_it(kwargs, word):
     with pytest.raises(ValueError, match=word.replace("[", r"\[")):
         simulate_power(args.pop("kind"), args.pop("baseline"), args.pop("effect"),
                        args.pop("n"), **args)
+
+
+@settings(max_examples=15, deadline=None)
+@given(chunk=st.integers(1, 3000), workers=st.integers(1, 3), seed=st.integers(0, 2**32))
+def test_chunk_and_threads_never_change_the_result(chunk, workers, seed):
+    # Common practice, no source: one random stream per fixed block of replicates.
+    args = dict(reps=700, seed=seed, sd=0.9, alternative="greater", margin=-0.02)
+    one = simulate_power("rate", 0.4, 0.0, 3000, chunk=700, workers=1, **args)
+    other = simulate_power("rate", 0.4, 0.0, 3000, chunk=chunk, workers=workers, **args)
+    assert one == other

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import operator
 from dataclasses import asdict, dataclass
 
 import numpy as np
@@ -90,6 +91,18 @@ def _finite(name, value):
         raise ValueError(f"{name} must be a number, got {value!r}") from None
     if not math.isfinite(number):
         raise ValueError(f"{name} must be a finite number, got {value!r}")
+    return number
+
+
+def _whole(name, value, low, high):
+    try:
+        number = operator.index(value)
+    except TypeError:
+        number = None
+    if isinstance(value, bool) or number is None or number < low or (
+            high is not None and number > high):
+        span = f"from {low:,} to {high:,}" if high is not None else f"of at least {low:,}"
+        raise ValueError(f"{name} must be a whole number {span}, got {value!r}")
     return number
 
 
@@ -351,14 +364,10 @@ def simulate_power(
     ratio = _finite("ratio", ratio)
     if ratio <= 0:
         raise ValueError(f"ratio must be positive (treatment:control), got {ratio!r}")
-    if isinstance(reps, bool) or int(reps) != reps or not 10 <= reps <= MAX_REPS:
-        raise ValueError(f"reps must be a whole number from 10 to {MAX_REPS:,}, got {reps!r}")
-    if isinstance(seed, bool) or int(seed) != seed or seed < 0:
-        raise ValueError(f"seed must be a non-negative whole number, got {seed!r}")
-    if int(chunk) < 1:
-        raise ValueError(f"chunk must be at least 1 replicate, got {chunk!r}")
-    reps, seed = int(reps), int(seed)
-    workers = default_workers() if workers is None else max(1, int(workers))
+    reps = _whole("reps", reps, 10, MAX_REPS)
+    seed = _whole("seed", seed, 0, None)
+    chunk = _whole("chunk", chunk, 1, None)
+    workers = default_workers() if workers is None else _whole("workers", workers, 1, 64)
     if relative:
         effect_abs, margin_abs = effect * baseline, margin * baseline
     else:
