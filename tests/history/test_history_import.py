@@ -7,12 +7,24 @@ References: pandas ``Series.mean``/``Series.std`` (ddof 1), ``numpy.corrcoef``,
 
 import numpy as np
 import pytest
+from history_frames import make_frame, write_csv
 
 from fourfold.history import (
     ColumnMap,
     HistoryCancelled,
     read_history,
 )
+
+
+@pytest.fixture
+def frame():
+    return make_frame()
+
+
+@pytest.fixture
+def history_csv(tmp_path, frame):
+    return write_csv(tmp_path, frame)
+
 
 MAPPING = [
     ColumnMap("mean", "spend", pre="pre_spend"),
@@ -62,8 +74,8 @@ def test_every_kind_matches_the_in_memory_figures(history_csv, frame):
 
 
 @pytest.mark.parametrize("chunk_rows", [1, 7, 10_000])
-def test_results_do_not_depend_on_the_chunk_size(tmp_path, frame_maker, chunk_rows):
-    small = frame_maker(rows=240, seed=8)
+def test_results_do_not_depend_on_the_chunk_size(tmp_path, chunk_rows):
+    small = make_frame(rows=240, seed=8)
     path = tmp_path / "small.csv"
     small.to_csv(path, index=False)
     reference = read_history(path, MAPPING, chunk_rows=240)

@@ -1,8 +1,11 @@
-"""Generated history files for the import tests (invented, seeded data)."""
+"""Generated history tables for the import tests (invented, seeded data).
+
+A helper module, not a conftest: pytest collects doctests from every module here, and two
+modules called ``conftest`` in folders without ``__init__.py`` would clash.
+"""
 
 import numpy as np
 import pandas as pd
-import pytest
 
 
 def make_frame(rows: int = 3000, seed: int = 4) -> pd.DataFrame:
@@ -26,18 +29,8 @@ def make_frame(rows: int = 3000, seed: int = 4) -> pd.DataFrame:
     })
 
 
-@pytest.fixture
-def frame_maker():
-    return make_frame
-
-
-@pytest.fixture
-def frame() -> pd.DataFrame:
-    return make_frame()
-
-
-@pytest.fixture
-def history_csv(tmp_path, frame):
-    path = tmp_path / "history.csv"
+def write_csv(folder, frame: pd.DataFrame, name: str = "history.csv"):
+    """Write ``frame`` as a CSV history file in ``folder``; returns its path."""
+    path = folder / name
     frame.to_csv(path, index=False)
     return path
