@@ -15,7 +15,7 @@ from fourfold.plan import load, sample_path
 from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import tradeoffs
 from fourfold.simulation import check_metric
-from fourfold.ui import simulation_cells
+from fourfold.ui import simulation_cells, theme
 from fourfold.ui.plots import FigureGrid
 from fourfold.ui.simulation_marks import show_simulation
 
@@ -27,33 +27,40 @@ def checked():
     return plan
 
 
+def _cell(plan, index, result):
+    return plan.metrics[index], plan.settings, None if result is None else result.rows[index]
+
+
 def test_cell_text_tooltip_and_sort_value(checked):
     result = compute(checked)
     check = checked.metrics[1].simulation
-    shown = simulation_cells.text(checked, result, 1)
+    shown = simulation_cells.text(*_cell(checked, 1, result))
     assert shown.startswith(f"{100 * check['power']:.1f} %")
     assert shown.endswith(simulation_cells.MARKS[check["verdict"]])
-    assert simulation_cells.text(checked, result, 0) == ""
-    assert "Check by simulation" in simulation_cells.tooltip(checked, result, 0)
-    tip = simulation_cells.tooltip(checked, result, 1)
+    assert simulation_cells.text(*_cell(checked, 0, result)) == ""
+    assert "Check by simulation" in simulation_cells.tooltip(*_cell(checked, 0, result))
+    tip = simulation_cells.tooltip(*_cell(checked, 1, result))
     assert "400 replicates, seed 2" in tip and check["message"] in tip
-    assert simulation_cells.number(checked, 1) == check["power"]
-    assert math.isnan(simulation_cells.number(checked, 0))
-    assert not simulation_cells.stale(checked, result, 1)
+    assert simulation_cells.number(checked.metrics[1]) == check["power"]
+    assert math.isnan(simulation_cells.number(checked.metrics[0]))
+    assert simulation_cells.colour(theme.tints(False), *_cell(checked, 1, result)) is None
 
 
 def test_cell_marks_a_changed_row_stale(checked):
     checked.metrics[1].baseline = 2.6
     result = compute(checked)
-    assert simulation_cells.text(checked, result, 1).endswith("(stale)")
-    assert "run it again" in simulation_cells.tooltip(checked, result, 1)
-    assert simulation_cells.stale(checked, result, 1)
+    assert simulation_cells.text(*_cell(checked, 1, result)).endswith("(stale)")
+    assert "run it again" in simulation_cells.tooltip(*_cell(checked, 1, result))
+    tints = theme.tints(False)
+    assert simulation_cells.colour(tints, *_cell(checked, 1, result)) == tints.muted
 
 
 def test_flagged_check_is_flagged(checked):
     checked.metrics[1].simulation = dict(checked.metrics[1].simulation, verdict="below")
-    assert simulation_cells.flagged(checked, 1)
-    assert simulation_cells.text(checked, None, 1).endswith("⚠")
+    result = compute(checked)
+    tints = theme.tints(False)
+    assert simulation_cells.colour(tints, *_cell(checked, 1, result)) == tints.problem
+    assert simulation_cells.text(*_cell(checked, 1, None)).endswith("⚠")
 
 
 def test_power_plot_shows_the_point_with_its_interval(qtbot, checked):

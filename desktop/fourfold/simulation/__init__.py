@@ -11,6 +11,7 @@ from fourfold.simulation.check import (
     check_plan,
     is_stale,
     message,
+    row_is_stale,
     verdict,
 )
 from fourfold.simulation.intervals import wilson_interval
@@ -27,6 +28,7 @@ __all__ = [
     "check_plan",
     "is_stale",
     "message",
+    "row_is_stale",
     "simulate_power",
     "verdict",
     "wilson_interval",

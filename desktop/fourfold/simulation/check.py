@@ -117,8 +117,7 @@ def message(check):
     return text
 
 
-def _inputs(plan, index, row, n_control, looks):
-    metric = plan.metrics[index]
+def _inputs(metric, settings, row, n_control, looks):
     return {
         "kind": metric.kind,
         "baseline": metric.baseline,
@@ -128,7 +127,7 @@ def _inputs(plan, index, row, n_control, looks):
         "alternative": metric.alternative,
         "margin": metric.margin,
         "n_control": n_control,
-        "ratio": plan.settings.ratio,
+        "ratio": settings.ratio,
         "looks": looks,
     }
 
@@ -207,7 +206,7 @@ def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect
         raise FourfoldError(f"{metric.name}: cannot be simulated — {error}") from None
     check = outcome.to_dict()
     check["analytic_power"] = float(row.power)
-    check["inputs"] = _inputs(plan, index, row, n_control, outcome.looks)
+    check["inputs"] = _inputs(metric, plan.settings, row, n_control, outcome.looks)
     check["verdict"] = verdict(check)
     check["message"] = message(check)
     return check
@@ -215,8 +214,6 @@ def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect
 
 def is_stale(plan, index, result=None):
     """True when row ``index`` has a stored check that no longer matches its inputs.
-
-    Cheap enough to call for every table repaint when ``result`` (``compute(plan)``) is given.
 
     Examples
     --------
@@ -230,15 +227,22 @@ def is_stale(plan, index, result=None):
     >>> is_stale(plan, 0)
     True
     """
-    stored = plan.metrics[index].simulation
+    result = compute(plan) if result is None else result
+    return row_is_stale(plan.metrics[index], plan.settings, result.rows[index])
+
+
+def row_is_stale(metric, settings, row):
+    """True when ``metric``'s stored check no longer matches its evaluated ``row``.
+
+    ``row`` is the metric's :class:`~fourfold.plan.evaluation.RowResult`; cheap enough for
+    every table repaint. A metric without a check is never stale.
+    """
+    stored = metric.simulation
     if not stored or "inputs" not in stored:
         return False
-    result = compute(plan) if result is None else result
-    row = result.rows[index]
     if row.reason or row.design_factor == 0 or not math.isfinite(row.units_control):
         return True
-    now = _inputs(plan, index, row, row.units_control / row.design_factor,
-                  plan.settings.looks)
+    now = _inputs(metric, settings, row, row.units_control / row.design_factor, settings.looks)
     before = stored["inputs"]
     for name in INPUT_FIELDS:
         a, b = now.get(name), before.get(name)

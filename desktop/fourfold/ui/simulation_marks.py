@@ -27,7 +27,7 @@ class SimulationMark:
 
     def __init__(self, item: pg.PlotItem) -> None:
         self.bar = pg.ErrorBarItem(x=np.empty(0), y=np.empty(0), beam=0.0)
-        self.dot = pg.ScatterPlotItem(symbol="d")
+        self.dot = pg.ScatterPlotItem(symbol="d", useCache=False)  # vector on a PDF page
         self.label = pg.TextItem(anchor=(0.5, 1.25))
         for part in (self.bar, self.dot, self.label):
             item.addItem(part, ignoreBounds=True)
