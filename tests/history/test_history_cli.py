@@ -72,3 +72,32 @@ def test_errors_go_to_stderr_with_exit_2(history_csv, capsys, arguments, words):
     captured = capsys.readouterr()
     assert captured.out == ""
     assert captured.err.startswith("fourfold: error:") and words in captured.err
+
+
+def test_sql_then_query_result_round_trip_on_duckdb(history_csv, frame, tmp_path, capsys):
+    duckdb = pytest.importorskip("duckdb")  # DuckDB 2.0, test-only
+    options = ["--mean", "spend", "--pre", "spend:pre_spend", "--ratio", "clicks:sessions"]
+    assert cli.main(["history", "--sql", "visits", "--group-by", "day", *options]) == 0
+    sql = capsys.readouterr().out
+    con = duckdb.connect()
+    con.register("frame_view", frame.assign(day=frame.index % 3))
+    con.execute("CREATE TABLE visits AS SELECT * FROM frame_view")
+    result = tmp_path / "result.csv"
+    con.execute(sql).df().to_csv(result, index=False)
+    assert cli.main(["history", str(result), "--query-result", "--json", *options]) == 0
+    from_query = json.loads(capsys.readouterr().out)
+    assert cli.main(["history", str(history_csv), "--json", *options]) == 0
+    from_file = json.loads(capsys.readouterr().out)
+    for name in ("spend", "clicks:sessions"):
+        for key in ("n", "missing"):
+            assert from_query[name][key] == from_file[name][key]
+        for key in ("mean", "sd"):
+            assert from_query[name][key] == pytest.approx(from_file[name][key], rel=1e-9)
+    assert from_query["spend"]["rho"] == pytest.approx(from_file["spend"]["rho"], rel=1e-9)
+
+
+def test_group_by_needs_sql_and_a_file_is_needed(history_csv, capsys):
+    assert cli.main(["history", str(history_csv), "--mean", "spend", "--group-by", "d"]) == 2
+    assert "--group-by goes with --sql" in capsys.readouterr().err
+    assert cli.main(["history", "--mean", "spend"]) == 2
+    assert "history file" in capsys.readouterr().err

@@ -9,7 +9,9 @@ import argparse
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("data", help="per-unit history: CSV (or Parquet with pyarrow installed)")
+    parser.add_argument("data", nargs="?",
+                        help="per-unit history: CSV (or Parquet with pyarrow installed); with "
+                             "--query-result, the saved result of the --sql query")
     parser.add_argument("--mean", action="append", default=[], metavar="COL",
                         help="numeric column: mean and standard deviation")
     parser.add_argument("--proportion", action="append", default=[], metavar="COL",
@@ -23,6 +25,13 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--cap", type=float, default=None, metavar="PERCENTILE",
                         help="cap heavy tails at this percentile (e.g. 99.9)")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
+    parser.add_argument("--sql", metavar="TABLE",
+                        help="print a standard-SQL query of the same figures for a warehouse "
+                             "table instead of reading a file")
+    parser.add_argument("--group-by", metavar="COL",
+                        help="with --sql: one result row per value of COL (e.g. the day)")
+    parser.add_argument("--query-result", action="store_true",
+                        help="DATA is the saved result of the --sql query (rows are merged)")
 
 
 def mapping_from_args(args: argparse.Namespace) -> list:
@@ -61,10 +70,23 @@ def run(args: argparse.Namespace) -> int:
     """Read the history file and print the summary (or JSON); errors are FourfoldError."""
     import json
 
+    from fourfold.history.errors import HistoryError
     from fourfold.history.importer import read_history
     from fourfold.history.text import summary_table
+    from fourfold.history.warehouse import read_warehouse_file, warehouse_sql
 
-    summary = read_history(args.data, mapping_from_args(args))
+    mapping = mapping_from_args(args)
+    if args.sql is not None:
+        print(warehouse_sql(mapping, args.sql, group_by=args.group_by) + ";")
+        return 0
+    if args.group_by is not None:
+        raise HistoryError("--group-by goes with --sql")
+    if args.data is None:
+        raise HistoryError("give a history file (or --sql TABLE to write a warehouse query)")
+    if args.query_result:
+        summary = read_warehouse_file(args.data, mapping)
+    else:
+        summary = read_history(args.data, mapping)
     if args.json:
         print(json.dumps(summary.to_dict(), indent=2, ensure_ascii=False))
     else:
