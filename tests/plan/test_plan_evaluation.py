@@ -145,6 +145,20 @@ def test_binding_metric_follows_the_data():
     assert result.rows[0].reason != ""
 
 
+def test_secondary_rows_that_need_more_are_named_in_the_notes():
+    metrics = [_mean_row(name="Primary"), _mean_row(name="Wide", role="secondary", sd=30.0),
+               _mean_row(name="Narrow", role="secondary", sd=2.0)]
+    result = compute(Plan(Settings(daily_units=500.0), metrics))
+    wide = result.rows[1]
+    assert result.binding_name == "Primary"
+    assert (f"Wide (secondary) would need {wide.days:g} days for its power; the test runs "
+            f"{result.duration_days:g}.") in result.notes
+    assert not any(note.startswith("Narrow") for note in result.notes)
+    without_traffic = compute(Plan(Settings(), metrics))
+    assert any(note.startswith("Wide (secondary) would need") and "units" in note
+               for note in without_traffic.notes)
+
+
 def test_without_daily_units_the_binding_row_has_no_days():
     plan = Plan(Settings(), [_mean_row(), _mean_row(name="Big", role="guardrail", sd=30.0)])
     result = compute(plan)

@@ -26,8 +26,9 @@ Rounding
 Binding metric
     Among primary and guardrail rows that solve for sample size and can be computed, the one
     needing the most days (then the most units) binds: it sets the plan's ``duration_days`` and
-    ``total_units``. Secondary rows are informational. In runtime mode nothing binds; the
-    duration is the runtime and the total is the traffic it brings.
+    ``total_units``. Secondary rows are informational (a note names those that would need
+    more). In runtime mode nothing binds; the duration is the runtime and the total is the
+    traffic it brings.
 Interim looks
     With ``settings.looks > 1`` every row's units and days are the maximum of its group
     sequential design (:mod:`fourfold.plan.sequential`): the fixed design's units times the
@@ -333,8 +334,17 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...]) -> PlanResult:
     notes.append(f"{name} needs the most traffic among primary and guardrail rows and sets "
                  "the duration; secondary rows are informational.")
     duration = rows[binding].days
-    return PlanResult(rows, None if math.isnan(duration) else duration,
-                      rows[binding].units_total, binding, name, tuple(notes))
+    total = rows[binding].units_total
+    for metric, row in zip(plan.metrics, rows, strict=True):
+        if (metric.role == "secondary" and row.solved == "sample_size" and not row.reason
+                and row.units_total > total):
+            if math.isfinite(duration):
+                gap = f"{row.days:g} days for its power; the test runs {duration:g}"
+            else:
+                gap = f"{row.units_total:,.0f} units for its power; the test has {total:,.0f}"
+            notes.append(f"{metric.name} (secondary) would need {gap}.")
+    return PlanResult(rows, None if math.isnan(duration) else duration, total, binding, name,
+                      tuple(notes))
 
 
 def evaluate(plan: Plan) -> pandas.DataFrame:
