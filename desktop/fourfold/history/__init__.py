@@ -9,6 +9,7 @@ row.
 """
 
 from fourfold.history.errors import HistoryCancelled, HistoryError
+from fourfold.history.guess import guess_mapping
 from fourfold.history.importer import read_history
 from fourfold.history.moments import CoMoments, Moments
 from fourfold.history.summary import (
@@ -20,6 +21,7 @@ from fourfold.history.summary import (
     Tally,
 )
 from fourfold.history.tail import TailEstimate, TailSketch
+from fourfold.history.warehouse import read_warehouse_file, read_warehouse_result, warehouse_sql
 
 __all__ = [
     "HISTORY_KINDS",
@@ -34,5 +36,9 @@ __all__ = [
     "Tally",
     "TailEstimate",
     "TailSketch",
+    "guess_mapping",
     "read_history",
+    "read_warehouse_file",
+    "read_warehouse_result",
+    "warehouse_sql",
 ]

@@ -11,6 +11,10 @@ exactly with the same moment merges as the file import's chunks.
 Caps are percentiles, which do not merge across partitions; map capped metrics with the file
 import instead (or cap in the warehouse and map the capped column).
 
+Every value is cast to ``DOUBLE PRECISION`` (so that integer columns average as decimals); a
+proportion column must be numeric 0/1 — some warehouses cannot cast a boolean to a float, so
+cast a boolean column to an integer in a view first.
+
 References
 ----------
 Chan, Golub & LeVeque (1983), the pairwise merge of (n, mean, m2) used for partitions;

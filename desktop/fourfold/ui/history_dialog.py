@@ -86,6 +86,8 @@ class _Worker(QObject):
             self.failed.emit(str(error))
         except (OSError, MemoryError) as error:
             self.failed.emit(f"{Path(self.path).name}: {error}")
+        except Exception as error:  # a bug, but the thread must still end and say so
+            self.failed.emit(f"internal error while reading {Path(self.path).name}: {error!r}")
         else:
             self.finished.emit(summary)
 
