@@ -37,15 +37,18 @@ def _nct_sf_mpmath(df, nc, t):
     (2.0e6, -6.4, 2.86),    # mirror of a far tail where nctdtr gives nan (df 2e6)
     (3.0e6, 2.8, 1.96),     # main tail, α = 0.05 two-sided, power ≈ 0.8, n ≈ 1.5e6
     (3.0e6, -2.8, 1.96),    # its far tail (≈ 1e-6)
-    (99_999.0, 2.8, 1.96),  # just below the switch to the normal limit
-    (100_001.0, -2.8, 1.96),  # just above it, far tail
+    (9_999.0, 2.8, 1.96),   # just below the switch to the normal limit (df 1e4)
+    (10_001.0, -2.8, 1.96),  # just above it, far tail
+    (10_001.0, 8.0, 5.5),   # above it, large noncentrality and strict α
+    (10_001.0, -8.0, -5.5),
+    (100_000.0, 2.8, 1.96),
     (1198.0, -6.53, 5.4),   # df 1198, tiny tail of a strict α
     (30.0, 2.0, 1.7),
 ])
 def test_nct_tail_matches_high_precision_quadrature(df, nc, t):
     ref = _nct_sf_mpmath(df, nc, t)
     got = float(tdist.nct_sf(df, nc, t))
-    assert got == pytest.approx(ref, rel=1e-7, abs=1e-13)
+    assert got == pytest.approx(ref, rel=1e-9, abs=1e-13)
 
 
 def test_nct_tail_is_finite_everywhere_scipy_is_not():
@@ -59,12 +62,22 @@ def test_nct_tail_is_finite_everywhere_scipy_is_not():
         assert np.all((got >= 0.0) & (got <= 1.0))
 
 
+def test_t_quantile_series_matches_stdtrit():
+    # Cornish–Fisher (Abramowitz & Stegun 1964, 26.7.5) against scipy 1.17.1 stdtrit.
+    from scipy import special
+
+    p = np.geomspace(1e-12, 0.5, 60)
+    for df in (1e4, 3e5, 3e6):
+        np.testing.assert_allclose(tdist.t_upper_quantile(df, p), -special.stdtrit(df, p),
+                                   rtol=1e-13)
+
+
 def test_nct_tail_is_continuous_across_the_normal_limit():
     df = tdist.NORMAL_LIMIT_DF
     nc = np.linspace(-5.0, 5.0, 41)
     below = tdist.nct_sf(df * (1 - 1e-9), nc, 1.96)
     above = tdist.nct_sf(df * (1 + 1e-9), nc, 1.96)
-    np.testing.assert_allclose(below, above, atol=2e-11)
+    np.testing.assert_allclose(below, above, atol=1e-12)
 
 
 @pytest.mark.parametrize("alternative", ["two-sided", "greater"])

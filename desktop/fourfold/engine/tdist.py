@@ -1,20 +1,27 @@
-"""Central and noncentral t tails that stay finite at A/B-test scale.
+"""Central and noncentral t tails that stay finite and exact at A/B-test scale.
 
 ``scipy.special.nctdtr`` silently returns nan for some large-df, large-noncentrality
 inputs (for instance df ≈ 2·10⁶, noncentrality 6.4, t = −2.9, the far tail of a two-sided
-test).  The tail here is computed in three layers:
+test), and loses digits at large df.  The tail here is computed in three layers:
 
-1. df above ``NORMAL_LIMIT_DF``: the normal limit of the noncentral t,
-   P(T ≤ t) ≈ Φ((t(1 − 1/(4ν)) − δ) / √(1 + t²/(2ν))), whose error falls as 1/ν²
-   (about 7·10⁻¹² at ν = 10⁵ for |t|, |δ| ≤ 10);
+1. df ≥ ``NORMAL_LIMIT_DF`` (10⁴): the normal limit of T = (Z + δ)/S, S = √(χ²_ν/ν), with
+   the exact mean and variance of S and the Edgeworth term for its skewness:
+   P(T > t) = Φ(−w) + γ/6·(w² − 1)·φ(w), w = (t·E[S] − δ)/√(1 + t²·Var S),
+   γ = −t³κ₃(S)/(1 + t²·Var S)^{3/2}.  Its error falls as 1/ν³: below 10⁻¹³ at ν = 10⁴
+   for |t| ≤ 5.5, |δ| ≤ 8 (checked against 30-digit quadrature in the tests);
 2. otherwise ``nctdtr`` on the side that keeps small tails precise, then its complement;
-3. where both are non-finite, Gauss–Legendre quadrature of E[Φ(t·√(V/ν) − δ)] over the
-   quantiles of V ~ χ²(ν) (absolute error below 10⁻⁴, only reached at tiny ν and far tails).
+3. where both are non-finite, Gauss–Legendre quadrature of E[Φ(δ − t·S)] over the
+   quantiles of χ²_ν (absolute error below 10⁻⁴, only reached at tiny ν and far tails).
+
+Central t quantiles use the Cornish–Fisher expansion (Abramowitz & Stegun 26.7.5, four
+terms) for ν ≥ 10⁴ and |z| ≤ 7, where it agrees with ``stdtrit`` to 3·10⁻¹⁵, and
+``stdtrit`` elsewhere.
 
 References
 ----------
 Johnson, N. L., Kotz, S. & Balakrishnan, N. (1995) *Continuous Univariate Distributions*,
 vol. 2, 2nd ed., ch. 31 (noncentral t and its normal approximation).
+Abramowitz, M. & Stegun, I. A. (1964) *Handbook of Mathematical Functions*, 26.7.5.
 
 Examples
 --------
@@ -27,7 +34,9 @@ True
 import numpy as np
 from scipy import special
 
-NORMAL_LIMIT_DF = 1.0e5
+NORMAL_LIMIT_DF = 1.0e4
+_CORNISH_FISHER_Z = 7.0
+_INV_SQRT_2PI = 1.0 / np.sqrt(2.0 * np.pi)
 
 _NODES, _WEIGHTS = np.polynomial.legendre.leggauss(96)
 _NODES = 0.5 * (_NODES + 1.0)
@@ -35,8 +44,16 @@ _WEIGHTS = 0.5 * _WEIGHTS
 
 
 def _limit_sf(df, nc, t):
-    z = (nc - t * (1.0 - 0.25 / df)) / np.sqrt(1.0 + t * t / (2.0 * df))
-    return special.ndtr(z)
+    inv = 1.0 / df
+    gap = inv * (0.25 - inv * (1.0 / 32.0 + inv * (5.0 / 128.0 - inv * 21.0 / 2048.0)))
+    mean = 1.0 - gap
+    var = gap * (2.0 - gap)
+    kappa3 = mean * inv * inv * (0.25 + 0.125 * inv)
+    var_y = 1.0 + t * t * var
+    w = (t * mean - nc) / np.sqrt(var_y)
+    skew = -(t**3) * kappa3 / var_y**1.5
+    tail = special.ndtr(-w) + skew / 6.0 * (w * w - 1.0) * _INV_SQRT_2PI * np.exp(-0.5 * w * w)
+    return tail
 
 
 def _quadrature_sf(df, nc, t):
@@ -75,7 +92,7 @@ def nct_sf(df, nc, t):
     shape = df.shape
     df, nc, t = df.ravel(), nc.ravel(), t.ravel()
     out = np.empty(df.shape)
-    big = df > NORMAL_LIMIT_DF
+    big = df >= NORMAL_LIMIT_DF
     out[big] = _limit_sf(df[big], nc[big], t[big])
     small = ~big
     if small.any():
@@ -98,5 +115,26 @@ def t_sf(df, t):
 
 
 def t_upper_quantile(df, p):
-    """t with P(T > t) = p for the central t; precise for small p."""
-    return -special.stdtrit(df, p)
+    """t with P(T > t) = p for the central t; precise for small p.
+
+    Examples
+    --------
+    >>> round(float(t_upper_quantile(1.0e5, 0.025)), 6)
+    1.959988
+    """
+    df, p = np.broadcast_arrays(np.asarray(df, dtype=float), np.asarray(p, dtype=float))
+    x = -special.ndtri(p)
+    inv = 1.0 / df
+    x2 = x * x
+    g1 = x * (x2 + 1.0) / 4.0
+    g2 = x * (3.0 + x2 * (16.0 + 5.0 * x2)) / 96.0
+    g3 = x * (-15.0 + x2 * (17.0 + x2 * (19.0 + 3.0 * x2))) / 384.0
+    g4 = x * (-945.0 + x2 * (-1920.0 + x2 * (1482.0 + x2 * (776.0 + 79.0 * x2)))) / 92160.0
+    series = x + inv * (g1 + inv * (g2 + inv * (g3 + inv * g4)))
+    use = (df >= NORMAL_LIMIT_DF) & (np.abs(x) <= _CORNISH_FISHER_Z)
+    if use.all():
+        return series
+    out = np.where(use, series, 0.0)
+    rest = ~use
+    out[rest] = -special.stdtrit(df[rest], p[rest])
+    return out
