@@ -55,11 +55,12 @@ def guess_mapping(path: str | os.PathLike) -> tuple[list[str], list[ColumnMap]]:
     """
     path = Path(path)
     header = read_columns(path)
-    chunk = next(iter_chunks(path, header, SAMPLE_ROWS), None)
+    unique = list(dict.fromkeys(header))
+    chunk = next(iter_chunks(path, unique, SAMPLE_ROWS), None)
     if chunk is None:
         raise HistoryError(f"{path.name}: the file has a header line but no rows")
     kinds: dict[str, str] = {}
-    for column in header:
+    for column in unique:
         try:
             values = numbers(chunk.columns[column], column, proportion=True, path=path, start=0)
             kinds[column] = "proportion"

@@ -4,6 +4,10 @@ Only the mapped columns are read, ``chunk_rows`` rows at a time, so memory does 
 the file. pandas and pyarrow are imported here, lazily, never at start-up. Every problem with
 the file becomes a :class:`~fourfold.history.errors.HistoryError` that names the file, the
 column and, where there is one, the first offending line (CSV) or row (Parquet).
+
+A blank line is a unit with every cell empty (counted as missing), so CSV line numbers in
+messages are exact as long as no quoted cell holds a line break. Cells beyond the header's
+columns are ignored, as pandas does when it reads selected columns.
 """
 
 from __future__ import annotations
