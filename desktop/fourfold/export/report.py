@@ -179,6 +179,7 @@ def probability(value) -> str:
 
 
 def signed(text: str, value) -> str:
+    """``text`` with a leading ``+`` when ``value`` is positive."""
     return "+" + text if _finite(value) and float(value) > 0 else text
 
 
@@ -188,6 +189,7 @@ def method_of(metric) -> str:
 
 
 def baseline_text(metric) -> str:
+    """The baseline: a percentage for a proportion, the metric's unit otherwise."""
     if metric.kind == "proportion":
         return percent(metric.baseline, 4)
     return number(metric.baseline)
@@ -205,6 +207,7 @@ def effect_text(metric, value, *, relative: bool) -> str:
 
 
 def alternative_text(metric) -> str:
+    """The test's direction in words."""
     text = {"two-sided": "two-sided", "greater": "one-sided, >", "less": "one-sided, <"}
     return text[metric.alternative]
 

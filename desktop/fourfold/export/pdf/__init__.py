@@ -25,13 +25,20 @@ import datetime
 import os
 from pathlib import Path
 
-from PySide6.QtCore import QMarginsF, QRectF, Qt
-from PySide6.QtGui import QGuiApplication, QPageLayout, QPageSize, QPainter, QPdfWriter
+from PySide6.QtCore import QMarginsF, Qt
+from PySide6.QtGui import (
+    QFontMetricsF,
+    QGuiApplication,
+    QPageLayout,
+    QPageSize,
+    QPainter,
+    QPdfWriter,
+)
 
 from fourfold import CAUTION, __version__
 from fourfold.export import report
 from fourfold.export.files import ExportError, replacing
-from fourfold.export.pdf.flow import ACCENT, INK, MUTED, RULE, Flow, Text, font
+from fourfold.export.pdf.flow import ACCENT, INK, MUTED, RULE, Flow, Text, clean, font, hline
 
 PAGES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}
 RESOLUTION = 300
@@ -125,32 +132,27 @@ def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.
                 bottom=height - footer_height)
     _content(flow, plan, result, when)
     dated = f"{when.day} {when:%B %Y}"
-    title = plan.settings.title
+    small = font(7.5)
+    title = QFontMetricsF(small, writer).elidedText(clean(plan.settings.title),
+                                                    Qt.TextElideMode.ElideRight, width * 0.68)
+    running = (Text(title, small, width * 0.7, writer),
+               Text(f"Sample-size plan · {dated}", small, width * 0.3, writer,
+                    Qt.AlignmentFlag.AlignRight))
 
     def decorate(p: QPainter, index: int, count: int) -> None:
         rule_y = height - footer_height + pt(3)
-        _rule(p, 0, width, rule_y, RULE, pt(0.5))
+        hline(p, 0, width, rule_y, RULE, pt(0.5))
         footer_caution.draw(p, 0, rule_y + pt(4), MUTED)
-        label = Text(f"page {index + 1} of {count}", font(7.5), width * 0.18, writer,
+        label = Text(f"page {index + 1} of {count}", small, width * 0.18, writer,
                      Qt.AlignmentFlag.AlignRight)
         label.draw(p, width * 0.82, rule_y + pt(4), MUTED)
         if index:
-            left = Text(title, font(7.5), width * 0.7, writer)
+            left, right = running
             left.draw(p, 0, 0, MUTED)
-            right = Text(f"Sample-size plan · {dated}", font(7.5), width * 0.3, writer,
-                         Qt.AlignmentFlag.AlignRight)
             right.draw(p, width * 0.7, 0, MUTED)
-            _rule(p, 0, width, max(left.height, right.height) + pt(3), RULE, pt(0.5))
+            hline(p, 0, width, max(left.height, right.height) + pt(3), RULE, pt(0.5))
 
     flow.paint(painter, writer.newPage, decorate)
-
-
-def _rule(p: QPainter, x0: float, x1: float, y: float, color, width: float) -> None:
-    pen = p.pen()
-    pen.setColor(color)
-    pen.setWidthF(width)
-    p.setPen(pen)
-    p.drawLine(QRectF(x0, y, x1 - x0, 0).topLeft(), QRectF(x0, y, x1 - x0, 0).topRight())
 
 
 def _roles(plan) -> str:

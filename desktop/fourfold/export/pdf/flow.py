@@ -173,13 +173,16 @@ class Flow:
     # -- placing -------------------------------------------------------------------------------
 
     def add(self, op: Op) -> None:
+        """Record a paint operation on the current page."""
         self.pages[-1].append(op)
 
     def new_page(self) -> None:
+        """Continue on a new page, below its running header."""
         self.pages.append([])
         self.y = self.top
 
     def at_top(self) -> bool:
+        """Whether nothing has been placed on the current page yet."""
         return self.y <= self.top + 1e-6
 
     def ensure(self, height: float) -> None:
@@ -188,6 +191,7 @@ class Flow:
             self.new_page()
 
     def space(self, points: float) -> None:
+        """Vertical space of ``points`` points (none at the top of a page)."""
         if not self.at_top():
             self.y = min(self.y + self.pt(points), self.bottom)
 
@@ -216,7 +220,7 @@ class Flow:
         self.y += block.height
         if level == 1:
             rule_y = self.y + self.pt(2)
-            self.add(lambda p: _hline(p, 0, self.width, rule_y, ACCENT, self.pt(0.8)))
+            self.add(lambda p: hline(p, 0, self.width, rule_y, ACCENT, self.pt(0.8)))
             self.y += self.pt(4)
         self.y += self.pt(4)
 
@@ -303,7 +307,7 @@ class Flow:
                 p.fillRect(QRectF(0, top, total, head_height), SHADE)
                 for c, block in enumerate(head_blocks):
                     block.draw(p, lefts[c] + pad_x, top + pad_y, MUTED)
-                _hline(p, 0, total, top + head_height, INK, self.pt(0.6))
+                hline(p, 0, total, top + head_height, INK, self.pt(0.6))
 
             self.add(draw)
             self.y += head_height
@@ -329,7 +333,7 @@ class Flow:
                     p.fillRect(QRectF(0, top + inset, total, height - inset), shade)
                 for c, block in enumerate(blocks):
                     block.draw(p, lefts[c] + pad_x, top + pad_y, color[c])
-                _hline(p, 0, total, top + height, RULE, self.pt(0.3))
+                hline(p, 0, total, top + height, RULE, self.pt(0.3))
 
             self.add(draw)
             self.y += height
@@ -379,8 +383,9 @@ class Flow:
             painter.restore()
 
 
-def _hline(painter: QPainter, x0: float, x1: float, y: float, color: QColor,
-           width: float) -> None:
+def hline(painter: QPainter, x0: float, x1: float, y: float, color: QColor,
+          width: float) -> None:
+    """A horizontal rule from x0 to x1 at y, ``width`` device pixels thick."""
     pen = QPen(color)
     pen.setWidthF(width)
     painter.setPen(pen)
