@@ -23,8 +23,10 @@ from PySide6.QtCore import QEvent, QRectF, Qt, QTimer, Signal
 from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPalette
 from PySide6.QtWidgets import QApplication, QHBoxLayout, QLabel, QSlider, QVBoxLayout, QWidget
 
+from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import Figure, Tradeoffs, tradeoffs
 from fourfold.ui.formatting import MINUS, format_count, format_number
+from fourfold.ui.simulation_marks import show_simulation
 
 TICK_POINTS = 9.0
 LABEL_POINTS = 9.5
@@ -40,7 +42,7 @@ LEGEND_LEFT = (8, 8)
 LEGEND_RIGHT = (-8, 8)
 LEGEND_LOW_RIGHT = (-8, -8)
 _POINT_ANCHOR = {"effect": (1.08, -0.15), "power": (-0.08, -0.15), "alpha": (1.08, -0.15),
-                 "runtime": (-0.08, 1.45)}
+                 "runtime": (0.0, 0.0)}
 
 
 def compact(value: float) -> str:
@@ -189,7 +191,7 @@ def _point_text(figure: Figure, unit: str) -> str:
     x, y = figure.point
     if figure.name == "runtime":
         effect = format_number(y, signed=True) + (f" {unit}" if unit else "")
-        return f"{effect} in {format_number(x)} d"
+        return f"{effect} needs {format_number(x)} d"
     return format_count(y)
 
 
@@ -212,7 +214,7 @@ class _Plot:
         self.marks = self.item.plot([], [], pen=None, symbol="o")
         self.point = self.item.plot([], [], pen=None, symbol="o")
         self.guide = pg.InfiniteLine(angle=90, movable=False, label="",
-                                     labelOpts={"position": 0.06, "anchors": [(0, 1), (0, 1)]})
+                                     labelOpts={"position": 0.45, "anchors": [(0, 0.5), (0, 0.5)]})
         self.item.addItem(self.guide, ignoreBounds=True)
         self.point_text = pg.TextItem(anchor=_POINT_ANCHOR[name])
         self.item.addItem(self.point_text, ignoreBounds=True)
@@ -221,12 +223,14 @@ class _Plot:
             self.item.addItem(text, ignoreBounds=True)
         self.message = pg.TextItem(anchor=(0.5, 0.5))
         self.item.addItem(self.message, ignoreBounds=True)
-        self.legend = pg.LegendItem(offset=LEGEND_RIGHT)
+        self.legend = pg.LegendItem(offset=LEGEND_RIGHT, verSpacing=-5)
         self.legend.setParentItem(self.item.vb)
         # Follow the painter's scale when painted onto a page (the view box does not zoom it).
         self.legend.setFlag(self.legend.GraphicsItemFlag.ItemIgnoresTransformations, False)
         self.legend.addItem(self.curve, "")
         self.legend.addItem(self.neighbour, "")
+        if name == "runtime":  # its design point is read from the legend, not a floating label
+            self.legend.addItem(self.point, "")
         self._figure: Figure | None = None
         self._unit = ""
 
@@ -320,7 +324,7 @@ class _Plot:
         y = figure.curve.y[np.isfinite(figure.curve.y)]
         if y.size < 2 or not abs(y[0]) > abs(y[-1]) or not np.all(np.sign(y) == np.sign(y[-1])):
             return
-        reach = max(abs(figure.marks.y[0]) * 1.35, abs(figure.point[1]) * 1.6)
+        reach = max(abs(figure.marks.y[0]) * 1.5, abs(figure.point[1]) * 1.8)
         if math.isfinite(reach) and reach > 0:
             self.item.enableAutoRange(axis="x")
             low, high = (0.0, reach) if y[-1] > 0 else (-reach, 0.0)
@@ -336,21 +340,24 @@ class _Plot:
         self.item.setTitle(None)
 
     def _set_legend(self, figure: Figure) -> None:
-        (_, first), (_, second) = self.legend.items
-        first.setText(figure.curve.label)
-        second.setText(figure.neighbour.label)
+        texts = [figure.curve.label, figure.neighbour.label]
+        if figure.name == "runtime":
+            texts.append(_point_text(figure, self._unit))
+        for (_, label), text in zip(self.legend.items, texts, strict=True):
+            label.setText(text)
         self.legend.setVisible(not figure.reason and bool(figure.curve.label))
         self.legend.updateSize()
         finite = figure.curve.y[np.isfinite(figure.curve.y)]
         rising = finite.size > 1 and finite[-1] > finite[0]
-        if not rising:
-            corner = LEGEND_RIGHT
-        else:  # a rising runtime curve has its point and week labels at the top left
-            corner = LEGEND_LOW_RIGHT if figure.name == "runtime" else LEGEND_LEFT
+        if figure.name == "runtime":  # week labels sit below the curve, left of each point
+            corner = LEGEND_LOW_RIGHT if rising else LEGEND_RIGHT
+        else:
+            corner = LEGEND_LEFT if rising else LEGEND_RIGHT
         self.legend.setOffset(corner)
 
     def _set_texts(self, figure: Figure, show_point: bool) -> None:
         x, y = figure.point
+        show_point = show_point and figure.name != "runtime"
         if show_point:
             self.point_text.setText(_point_text(figure, self._unit))
             self.point_text.setPos(float(_view(x, figure.x_log)), float(_view(y, figure.y_log)))
@@ -358,11 +365,24 @@ class _Plot:
         xs = _view(figure.marks.x, figure.x_log)
         ys = _view(figure.marks.y, figure.y_log)
         for i, text in enumerate(self.mark_texts):
-            shown = i < len(xs) and math.isfinite(xs[i]) and math.isfinite(ys[i])
-            if shown:
+            if i < len(xs) and math.isfinite(xs[i]) and math.isfinite(ys[i]):
                 text.setText(format_number(float(figure.marks.y[i])))
                 text.setPos(float(xs[i]), float(ys[i]))
-            text.setVisible(shown)
+        self.thin_marks()
+
+    def thin_marks(self) -> None:
+        """Label every week, or every second or third one when the plot is too narrow."""
+        figure = self._figure
+        count = 0 if figure is None or figure.reason else len(figure.marks.x)
+        step = 1
+        if count > 1:
+            span = float(np.nanmax(figure.curve.x) - np.nanmin(figure.curve.x)) or 1.0
+            spacing = self.item.vb.width() * float(figure.marks.x[1] - figure.marks.x[0]) / span
+            widest = max(text.boundingRect().width() for text in self.mark_texts[:count])
+            step = max(1, math.ceil(widest * 1.15 / max(spacing, 1.0)))
+        for i, text in enumerate(self.mark_texts):
+            finite = i < count and math.isfinite(figure.marks.y[i])
+            text.setVisible(finite and (count - 1 - i) % step == 0)
 
     def _set_guide(self, figure: Figure) -> None:
         shown = not figure.reason and math.isfinite(figure.guide)
@@ -416,6 +436,15 @@ class FigureGrid(pg.GraphicsLayoutWidget):
         for plot in self.plots.values():
             plot.item.layout.activate()
         self.ci.layout.activate()
+        self.plots["runtime"].thin_marks()
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        super().resizeEvent(event)
+        # pyqtgraph resizes once before __init__ ends, and again in close() after it has
+        # emptied the scene.
+        plots = getattr(self, "plots", None)
+        if plots is not None and not self.closed:
+            plots["runtime"].thin_marks()
 
     def blank(self) -> None:
         """Show empty plots (no row selected)."""
@@ -537,8 +566,10 @@ class PlotPanel(QWidget):
         self._pending = None
         if index is None or not 0 <= index < len(plan.metrics):
             self.grid.blank()
+            show_simulation(self.grid, plan, result, None)
             self._set_controls_enabled(False)
             return
+        result = compute(plan) if result is None else result
         metric = plan.metrics[index]
         key = (index, metric.kind, metric.relative, metric.alternative, metric.margin,
                metric.solve)
@@ -546,6 +577,7 @@ class PlotPanel(QWidget):
         data = tradeoffs(plan, index, result, effect_span=span)
         self._span_key = key
         self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving)
+        show_simulation(self.grid, plan, result, index)
         self.grid.settle()
         self._sync_slider(data)
 
@@ -665,13 +697,17 @@ def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *
     grid.resize(width, height)
     try:
         grid.show()
+        result = compute(plan) if result is None else result
         grid.set_tradeoffs(tradeoffs(plan, index, result))
+        show_simulation(grid, plan, result, index)
         grid.handle.hide()
+        grid.settle()
         QApplication.processEvents()
         for plot in grid.plots.values():
             plot.legend.updateSize()
-            for item in (plot.point, plot.marks):
-                item.scatter.setExportMode(True, {"antialias": True, "resolutionScale": scale})
+        for item in grid.scene().items():
+            if isinstance(item, pg.ScatterPlotItem):  # markers are sized in device pixels
+                item.setExportMode(True, {"antialias": True, "resolutionScale": scale})
         QApplication.processEvents()
         painter.save()
         painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
