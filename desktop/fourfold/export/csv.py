@@ -15,8 +15,8 @@ Column names
 Names are ``snake_case``; a suffix names the unit of the numbers in the column:
 
 ``_units``
-    a count of experiment units (visitors, users…); not rounded, so a spreadsheet can round
-    the way the proposal needs;
+    a count of experiment units (visitors, users…); results are whole units as the evaluation
+    rounds them up, inputs (``n_input_control_units``, ``cluster_size_units``) as entered;
 ``_days``
     days of traffic;
 ``_frac``
@@ -28,14 +28,18 @@ no suffix
 
 ``effect_input`` and ``margin_input`` are the numbers as entered: fractions of the baseline when
 ``relative_input`` is true, the metric's unit otherwise. ``units_control`` is the control arm,
-``units_treatment_per_arm`` each treatment arm, ``units_total`` all arms together. ``look_days``
-lists the day of each interim look, separated by ``;``. An empty cell is a missing value (an
-input left to the plan's default, or a result that cannot be computed; ``reason`` then says why).
+``units_treatment_per_arm`` each treatment arm, ``units_total`` all arms together. With interim
+looks, ``units_max`` and ``units_expected_h1`` are totals over all arms (the most the test can
+need, and what it needs on average if the effect is real) and ``look_days`` lists the day of
+each look, separated by ``;``; for a fixed design they repeat ``units_total`` and ``days``.
+An empty cell is a missing value (an input left to the plan's default, or a result that cannot
+be computed; ``reason`` then says why).
 
 Numbers are written in full precision (Python's shortest round-trip form), so reading the file
-back gives exactly the values of :func:`fourfold.plan.evaluate`. Text cells that a spreadsheet
-would run as a formula — beginning with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return —
-are prefixed with a single quote (OWASP, "CSV Injection"); numeric cells are never altered.
+back gives exactly the values of :func:`fourfold.plan.evaluation.evaluate`. Text cells that a
+spreadsheet would run as a formula — beginning with ``=``, ``+``, ``-``, ``@``, a tab or a
+carriage return — are prefixed with a single quote (OWASP, "CSV Injection"); numeric cells are
+never altered.
 
 References
 ----------
