@@ -98,10 +98,11 @@ def run_shot(plan_path: str | None, output: str, size: tuple[int, int] = (1400, 
         settings = QSettings(os.path.join(scratch, "shot.ini"), QSettings.Format.IniFormat)
         window = MainWindow(plan, path, settings, data_dir=scratch)
         window.autosave_timer.stop()
+        window.setMinimumSize(200, 200)  # honour small sizes; the layout squeezes
         window.resize(*size)
         if row is not None:
-            window.table.selectRow(row - 1)
             window.table.setCurrentIndex(window.model.index(row - 1, 0))
+            window.table.selectRow(row - 1)
         window.show()
         app.processEvents()
         ok = window.grab().toImage().save(output, "PNG")

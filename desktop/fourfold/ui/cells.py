@@ -121,6 +121,14 @@ def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
         return format_number(row.power, sig=3)
     if key == "alpha_out":
         return format_number(row.alpha, sig=3)
+    if key == "units_expected_h1":
+        return format_count(row.units_expected_h1)
+    if key == "days_expected_h1":
+        return format_number(row.days_expected_h1, sig=3)
+    if key == "look_days":
+        if not row.look_days:
+            return DASH
+        return ", ".join(format_number(day, sig=3) for day in row.look_days)
     raise KeyError(key)
 
 
@@ -128,6 +136,8 @@ def output_number(metric: Metric, row, key: str) -> float:
     """Raw number of a computed cell for sorting (nan when missing)."""
     if row is None:
         return math.nan
+    if key == "look_days":
+        return float(row.look_days[0]) if row.look_days else math.nan
     attribute = {
         "power_out": "power",
         "alpha_out": "alpha",

@@ -40,6 +40,8 @@ class Column:
         An empty cell is allowed and means "not set" (``None``).
     width : int
         Preferred width in average character widths.
+    sequential : bool
+        Shown only while the plan has interim looks.
     """
 
     key: str
@@ -49,6 +51,7 @@ class Column:
     editor: str = NUMBER
     optional: bool = False
     width: int = 9
+    sequential: bool = False
 
     @property
     def label(self) -> str:
@@ -87,10 +90,11 @@ COLUMNS: tuple[Column, ...] = (
     Column("solve", "Solve\nfor", "Which quantity this row computes from the others: sample "
            "size, detectable effect, power or α.", editor=CHOICE, width=12),
     Column("units_control", "Control\nunits", "Units the control arm needs (or has), rounded up "
-           "to whole units.", group=OUTPUT, width=8),
+           "to whole units. With interim looks, the most it may need.", group=OUTPUT, width=8),
     Column("units_treatment", "Units per\ntreatment", "Units each treatment arm needs: the "
            "control's units times the allocation ratio.", group=OUTPUT, width=8),
-    Column("units_total", "Total\nunits", "Units of all arms together.", group=OUTPUT, width=9),
+    Column("units_total", "Total\nunits", "Units of all arms together (with interim looks, the "
+           "most the test may need).", group=OUTPUT, width=9),
     Column("days", "Days", "Days of traffic the row needs at the plan's daily eligible units and "
            "share of traffic.", group=OUTPUT, width=4),
     Column("detectable", "Detectable\neffect", "The smallest effect this row can detect with its "
@@ -99,6 +103,13 @@ COLUMNS: tuple[Column, ...] = (
            "effect.", group=OUTPUT, width=6),
     Column("alpha_out", "α\nused", "The significance level the row is tested at, after the "
            "plan's correction for several comparisons.", group=OUTPUT, width=6),
+    Column("units_expected_h1", "Expected\nunits", "With interim looks: the total units the "
+           "test uses on average if the effect is real, since it may stop at an earlier look.",
+           group=OUTPUT, width=8, sequential=True),
+    Column("days_expected_h1", "Expected\ndays", "With interim looks: the days the test runs on "
+           "average if the effect is real.", group=OUTPUT, width=6, sequential=True),
+    Column("look_days", "Look\ndays", "With interim looks: the day of each analysis; the last "
+           "one is the longest the test may run.", group=OUTPUT, width=12, sequential=True),
     Column("method", "Method", "The test statistic used for this kind. Empty: the usual one "
            "for the kind.", editor=CHOICE, width=7),
     Column("alpha", "α", "This row's significance level; empty uses the plan's default "

@@ -129,7 +129,7 @@ class MainWindow(QMainWindow):
         self.autosave_timer.start()
 
         self.apply_style()
-        self.set_text_scale(self.text_scale())
+        self.set_text_scale(self.text_scale(), announce=False)
         self._after_replace()
         self._after_change()
         if self.model.rowCount():
@@ -212,6 +212,13 @@ class MainWindow(QMainWindow):
             "Import &history…", self.import_history, "Ctrl+Shift+H",
             "Fill baselines, sds and ρ from a per-unit history file (one undo step)")
         self.plan_menu.addAction(self.history_action)
+        self.simulate_action = self._action(
+            "Check by &simulation…", self.check_by_simulation, "Ctrl+Shift+K",
+            "Simulate the selected rows' tests and compare with the closed-form power")
+        self.simulate_plan_action = self._action(
+            "Check whole plan by si&mulation…", self.check_plan_by_simulation, "Ctrl+Alt+K",
+            "Simulate every row's test and compare with the closed-form power")
+        self.plan_menu.addActions([self.simulate_action, self.simulate_plan_action])
         self.view_menu = bar.addMenu("&View")
         self.view_menu.addActions([self.bigger_action, self.smaller_action,
                                    self.reset_text_action])
@@ -297,7 +304,7 @@ class MainWindow(QMainWindow):
         low, high = SCALE_RANGE
         return min(max(value, low), high)
 
-    def set_text_scale(self, scale: float) -> None:
+    def set_text_scale(self, scale: float, announce: bool = True) -> None:
         """Scale the text of the table and plots and remember it."""
         low, high = SCALE_RANGE
         scale = round(min(max(scale, low), high), 2)
@@ -309,7 +316,8 @@ class MainWindow(QMainWindow):
         self.table.verticalHeader().setFont(font)
         self.fit_table()
         self.plots.set_text_scale(scale)
-        self.show_message(f"Text size {round(scale * 100)} %")
+        if announce:
+            self.show_message(f"Text size {round(scale * 100)} %")
 
     def step_text(self, steps: int) -> None:
         """Make the text one step larger (+1) or smaller (−1)."""
@@ -560,6 +568,22 @@ class MainWindow(QMainWindow):
         from fourfold.ui.history_dialog import HistoryDialog
 
         HistoryDialog(self.document, self).exec()
+
+    def check_by_simulation(self) -> None:
+        """Plan → Check by simulation: the selected rows (the dialog's own module, lazily)."""
+        rows = self.selected_rows()
+        if not rows:
+            self.show_message("Select a row to check by simulation")
+            return
+        from fourfold.ui.simulation_dialog import SimulationDialog
+
+        SimulationDialog(self.document, rows, self).exec()
+
+    def check_plan_by_simulation(self) -> None:
+        """Plan → Check whole plan by simulation."""
+        from fourfold.ui.simulation_dialog import SimulationDialog
+
+        SimulationDialog(self.document, None, self).exec()
 
     def about(self) -> None:
         """The About box: version and the caution."""

@@ -120,7 +120,8 @@ class SettingsPanel(QWidget):
         self._number(grid, 0, 0, "alpha")
         self._number(grid, 0, 2, "power")
         self._choice(grid, 1, 0, "correction", "Correction",
-                     "Correction of α for several treatment arms and metrics.", CORRECTION_LABELS)
+                     "Correction of α for several treatment arms and metrics.", CORRECTION_LABELS,
+                     span=3)
         layout.addWidget(frame, 2)
 
         frame, grid = _group("Arms")
@@ -179,7 +180,7 @@ class SettingsPanel(QWidget):
         edit = QLineEdit()
         edit.setToolTip(tooltip)
         edit.setAlignment(Qt.AlignmentFlag.AlignRight)
-        edit.setMinimumWidth(56)
+        edit.setMinimumWidth(44)
         edit.setMaximumWidth(110)
         if optional:
             edit.setPlaceholderText("none")
@@ -192,6 +193,8 @@ class SettingsPanel(QWidget):
                 tooltip: str, labels: dict[str, str], span: int = 1) -> None:
         combo = QComboBox()
         combo.setToolTip(tooltip)
+        combo.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+        combo.setMinimumContentsLength(8)
         for value in CHOICES[field]:
             combo.addItem(labels.get(value, value), value)
         combo.activated.connect(lambda _=0: self._commit(field, combo.currentData()))

@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel
+from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QSizePolicy
 
 from fourfold.ui.document import PlanDocument
 from fourfold.ui.formatting import format_count, format_number
@@ -47,6 +47,8 @@ class SummaryBar(QFrame):
         for label in (self.duration, self.units, self.binding):
             label.setTextFormat(Qt.TextFormat.RichText)
             label.setObjectName("summaryItem")
+            label.setMinimumWidth(40)
+            label.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Preferred)
             layout.addWidget(label)
         layout.addStretch(1)
         document.computed.connect(self.refresh)

@@ -77,6 +77,18 @@ class PlanTableView(QTableView):
         """The model, typed."""
         return self.model()
 
+    def setModel(self, model) -> None:  # noqa: N802 (Qt's name)
+        super().setModel(model)
+        model.document.computed.connect(self.follow_looks)
+        self.follow_looks()
+
+    def follow_looks(self) -> None:
+        """Show the interim-look columns only while the plan has more than one look."""
+        hidden = self.plan_model().document.plan.settings.looks <= 1
+        for position, column in enumerate(COLUMNS):
+            if column.sequential:
+                self.setColumnHidden(position, hidden)
+
     def fit_columns(self) -> None:
         """Size rows and columns to the current font and contents (after load or rescale)."""
         metrics = self.fontMetrics()

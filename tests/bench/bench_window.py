@@ -1,0 +1,137 @@
+"""Window benchmarks (run on demand: ``python3 tests/bench/bench_window.py``).
+
+1. Start-up: process start to the first painted window on the sample plan, median of 5
+   subprocess runs (target ≤ 1.2 s). Reference, measured in the same run: a process that only
+   imports PySide6.QtWidgets, pyqtgraph and scipy.special (the floor no window can beat).
+2. Edit: one cell edit of a 500-row plan → recomputed, table repainted, plots redrawn; median of
+   40 edits (target ≤ 16 ms). Reference: :func:`fourfold.plan.evaluation.compute` alone on the
+   same plan (the engine's share of the work).
+"""
+
+from __future__ import annotations
+
+import os
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+
+RUNS = 5
+EDITS = 40
+
+IMPORTS_ONLY = """
+import PySide6.QtWidgets, pyqtgraph, scipy.special
+print("ready", flush=True)
+"""
+
+FIRST_PAINT = """
+import os, sys, tempfile
+from PySide6.QtCore import QEvent, QObject, QSettings
+from PySide6.QtWidgets import QApplication
+from fourfold.plan import load, sample_path
+from fourfold.ui.app import application
+from fourfold.ui.main_window import MainWindow
+
+app = application()
+scratch = tempfile.mkdtemp()
+window = MainWindow(load(sample_path()), None,
+                    QSettings(os.path.join(scratch, "s.ini"), QSettings.Format.IniFormat),
+                    data_dir=scratch)
+
+class FirstPaint(QObject):
+    def eventFilter(self, obj, event):
+        if event.type() == QEvent.Type.Paint:
+            print("ready", flush=True)
+            app.quit()
+        return False
+
+watcher = FirstPaint()
+window.table.viewport().installEventFilter(watcher)
+window.resize(1400, 900)
+window.show()
+app.exec()
+window.document.stack.mark_clean()
+window.close()
+window.deleteLater()
+app.processEvents()
+"""
+
+
+def _time_process(code: str) -> float:
+    start = time.perf_counter()
+    process = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE,
+                               stderr=subprocess.DEVNULL, text=True)
+    line = process.stdout.readline()
+    elapsed = time.perf_counter() - start
+    process.wait()
+    if line.strip() != "ready":
+        raise RuntimeError(f"the benchmark process failed (exit {process.returncode})")
+    return elapsed
+
+
+def startup() -> None:
+    reference = statistics.median(_time_process(IMPORTS_ONLY) for _ in range(RUNS))
+    window = statistics.median(_time_process(FIRST_PAINT) for _ in range(RUNS))
+    print(f"start-up: imports only {reference:.3f} s; first painted window {window:.3f} s "
+          f"(target ≤ 1.2 s); ratio {window / reference:.2f}")
+
+
+def edits() -> None:
+    import dataclasses
+
+    from PySide6.QtCore import QSettings
+
+    from fourfold.plan import Plan, load, sample_path
+    from fourfold.plan.evaluation import compute
+    from fourfold.ui.app import application
+    from fourfold.ui.columns import column_index
+    from fourfold.ui.main_window import MainWindow
+
+    app = application()
+    sample = load(sample_path())
+    metrics = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
+               for i in range(500)]
+    plan = Plan(sample.settings, metrics)
+    scratch = tempfile.mkdtemp()
+    window = MainWindow(plan, None, QSettings(os.path.join(scratch, "s.ini"),
+                                              QSettings.Format.IniFormat), data_dir=scratch)
+    window.resize(1400, 900)
+    window.show()
+    app.processEvents()
+    model = window.model
+    column = column_index("sd")
+    row = 1
+    window.table.setCurrentIndex(model.index(row, column))
+    app.processEvents()
+
+    reference = []
+    for _ in range(EDITS):
+        start = time.perf_counter()
+        compute(window.document.plan)
+        reference.append(time.perf_counter() - start)
+
+    timings = []
+    for step in range(EDITS):
+        start = time.perf_counter()
+        model.setData(model.index(row, column), f"{14.0 + 0.01 * step:.2f}")
+        app.processEvents()  # the coalesced recompute, then the plots' coalesced redraw
+        app.processEvents()
+        window.table.viewport().repaint()
+        window.plots.repaint()
+        timings.append(time.perf_counter() - start)
+    edit = statistics.median(timings)
+    engine = statistics.median(reference)
+    print(f"edit of a 500-row plan: compute alone {engine * 1e3:.1f} ms; edit → table and plots "
+          f"{edit * 1e3:.1f} ms (target ≤ 16 ms); ratio {edit / engine:.2f}")
+    window.document.stack.mark_clean()
+    window.close()
+    window.deleteLater()
+    app.processEvents()
+
+
+if __name__ == "__main__":
+    startup()
+    edits()
