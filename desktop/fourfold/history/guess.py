@@ -2,8 +2,9 @@
 
 The guess only looks at the first rows and is meant to be corrected by the user: a column of
 only 0/1 or true/false is a proportion, a column of non-negative whole numbers a count, any
-other numeric column a mean, and a column called ``pre_X`` (or ``X_pre``) is the pre-period
-column of ``X``. Text columns (identifiers) are left out; ratios are never guessed.
+other numeric column (at least 90 % numbers) a mean, and a column called ``pre_X`` (or
+``X_pre``) is the pre-period column of ``X``. Text columns (identifiers) are left out; ratios
+are never guessed.
 """
 
 from __future__ import annotations
@@ -27,6 +28,20 @@ def _kind(values: np.ndarray) -> str:
     if present.size and (present >= 0).all() and (present == np.floor(present)).all():
         return "count"
     return "mean"
+
+
+def _mostly_numbers(series) -> np.ndarray | None:
+    """The parsable cells of a column whose filled cells are at least 90 % numbers, else None
+    (a numeric column with a few stray cells is still offered; reading it names the cells)."""
+    import pandas as pd
+
+    filled = series.dropna().astype(str).str.strip()
+    filled = filled[filled != ""]
+    parsed = pd.to_numeric(filled, errors="coerce").to_numpy(np.float64)
+    good = np.isfinite(parsed)
+    if filled.size == 0 or good.mean() < 0.9:
+        return None
+    return parsed[good]
 
 
 def _pre_of(name: str, header: set[str]) -> str | None:
@@ -57,7 +72,7 @@ def guess_mapping(path: str | os.PathLike) -> tuple[list[str], list[ColumnMap]]:
     header = read_columns(path)
     unique = list(dict.fromkeys(header))
     chunk = next(iter_chunks(path, unique, SAMPLE_ROWS), None)
-    if chunk is None:
+    if chunk is None or chunk.rows == 0:
         raise HistoryError(f"{path.name}: the file has a header line but no rows")
     kinds: dict[str, str] = {}
     for column in unique:
@@ -69,7 +84,9 @@ def guess_mapping(path: str | os.PathLike) -> tuple[list[str], list[ColumnMap]]:
                 values = numbers(chunk.columns[column], column, proportion=False, path=path,
                                  start=0)
             except HistoryError:
-                continue
+                values = _mostly_numbers(chunk.columns[column])
+                if values is None:
+                    continue
             kinds[column] = _kind(values)
     known = set(kinds)
     pre = {}
