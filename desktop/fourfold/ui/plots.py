@@ -304,6 +304,7 @@ class _Plot:
         self._set_legend(figure)
         self._set_texts(figure, finite and not empty)
         self._set_guide(figure)
+        self.fit()
         if empty:
             self.message.setText(figure.reason)
             self.message.setPos(0.5, 0.5)
@@ -368,7 +369,16 @@ class _Plot:
             if i < len(xs) and math.isfinite(xs[i]) and math.isfinite(ys[i]):
                 text.setText(format_number(float(figure.marks.y[i])))
                 text.setPos(float(xs[i]), float(ys[i]))
+
+    def fit(self) -> None:
+        """Fit the texts to the plot's size: week labels and the runtime legend's shape."""
         self.thin_marks()
+        if self.name == "runtime":  # one line along the top when it fits, clear of the weeks
+            self.legend.setColumnCount(3)
+            self.legend.updateSize()
+            if self.legend.width() > self.item.vb.width() - 16:
+                self.legend.setColumnCount(1)
+                self.legend.updateSize()
 
     def thin_marks(self) -> None:
         """Label every week, or every second or third one when the plot is too narrow."""
@@ -436,7 +446,7 @@ class FigureGrid(pg.GraphicsLayoutWidget):
         for plot in self.plots.values():
             plot.item.layout.activate()
         self.ci.layout.activate()
-        self.plots["runtime"].thin_marks()
+        self.plots["runtime"].fit()
 
     def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
         super().resizeEvent(event)
@@ -444,7 +454,7 @@ class FigureGrid(pg.GraphicsLayoutWidget):
         # emptied the scene.
         plots = getattr(self, "plots", None)
         if plots is not None and not self.closed:
-            plots["runtime"].thin_marks()
+            plots["runtime"].fit()
 
     def blank(self) -> None:
         """Show empty plots (no row selected)."""
