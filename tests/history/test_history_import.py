@@ -170,3 +170,17 @@ def test_the_bundled_sample_reads_with_every_metric_of_the_demo_plan():
     # Invented scenario: the generator aims near the demo plan's 3.1 % and 11.4 % (loose).
     assert 0.02 < result["converted"].mean < 0.045
     assert 0.08 < result["added_to_cart"].mean < 0.15
+
+
+def test_a_column_capped_in_one_metric_stays_whole_in_another(history_csv, frame):
+    mapping = [ColumnMap("mean", "clicks", cap=90.0),
+               ColumnMap("ratio", "clicks", denominator="sessions"),
+               ColumnMap("count", "sessions", cap=99.0)]
+    result = read_history(history_csv, mapping)
+    assert result["clicks"].cap.threshold == pytest.approx(
+        np.percentile(frame["clicks"].dropna(), 90.0), rel=1e-12)
+    assert result["sessions"].cap.threshold == pytest.approx(
+        np.percentile(frame["sessions"], 99.0), rel=1e-12)
+    whole = read_history(history_csv, mapping[1:2])["clicks:sessions"]
+    assert result["clicks:sessions"].mean == whole.mean
+    assert result["clicks:sessions"].sd == whole.sd

@@ -107,10 +107,8 @@ def read_history(
                 x = _column(chunk, column, kinds[column], path)
                 sketches[column].add(x[~np.isnan(x)])
         thresholds = {
-            column: sketches[column].estimate(
-                next(spec.cap for spec in mapping if column in spec.capped_columns)
-            )
-            for column in capped
+            (column, spec.cap): sketches[column].estimate(spec.cap)
+            for spec in mapping for column in spec.capped_columns
         }
 
     tallies = [Tally() for _ in mapping]
@@ -166,8 +164,9 @@ def _column(chunk, column: str, kind: str, path, cache=None) -> np.ndarray:
     return x
 
 
-def _capped(x: np.ndarray, column: str, thresholds: dict) -> tuple[np.ndarray, int]:
-    estimate = thresholds.get(column)
+def _capped(x: np.ndarray, column: str, spec: ColumnMap, thresholds: dict):
+    """``x`` with values above the spec's cap of ``column`` lowered to it, and how many."""
+    estimate = thresholds.get((column, spec.cap)) if spec.cap is not None else None
     if estimate is None:
         return x, 0
     over = x > estimate.value
@@ -182,19 +181,19 @@ def _tally(spec: ColumnMap, chunk, path, cache, thresholds) -> Tally:
         d = _column(chunk, spec.denominator, "mean", path, cache)
         both = ~(np.isnan(x) | np.isnan(d))
         x, d = x[both], d[both]
-        capped_x, count = _capped(x, spec.column, thresholds)
+        capped_x, count = _capped(x, spec.column, spec, thresholds)
         pairs = CoMoments.of(d, capped_x)
         raw = CoMoments.of(d, x) if spec.cap is not None else CoMoments()
         return Tally(chunk.rows, pairs.y, pairs, raw_pairs=raw, capped=count)
     present = ~np.isnan(x)
     x = x[present]
-    capped_x, count = _capped(x, spec.column, thresholds)
+    capped_x, count = _capped(x, spec.column, spec, thresholds)
     values = Moments.of(capped_x)
     raw = Moments.of(x) if spec.cap is not None else Moments()
     pairs = CoMoments()
     if spec.pre is not None:
         pre = _column(chunk, spec.pre, spec.kind, path, cache)[present]
         both = ~np.isnan(pre)
-        pre_capped, _ = _capped(pre[both], spec.pre, thresholds)
+        pre_capped, _ = _capped(pre[both], spec.pre, spec, thresholds)
         pairs = CoMoments.of(pre_capped, capped_x[both])
     return Tally(chunk.rows, values, pairs, raw_values=raw, capped=count)

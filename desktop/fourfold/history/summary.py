@@ -317,7 +317,8 @@ def _listing(header: list[str]) -> str:
 def finish(spec: ColumnMap, tally: Tally, *, thresholds: dict | None = None) -> MetricSummary:
     """The summary of one metric's tally; HistoryError when its numbers cannot be used.
 
-    ``thresholds`` maps a capped column to its :class:`~fourfold.history.tail.TailEstimate`.
+    ``thresholds`` maps ``(column, cap percentile)`` to its
+    :class:`~fourfold.history.tail.TailEstimate`.
     """
     if spec.kind == "ratio":
         return _finish_ratio(spec, tally, thresholds)
@@ -382,8 +383,8 @@ def _finish_ratio(spec: ColumnMap, tally: Tally, thresholds: dict | None) -> Met
 def _cap(spec: ColumnMap, raw: Moments, capped: int, thresholds: dict | None):
     if spec.cap is None:
         return None
-    estimate = (thresholds or {})[spec.column]
-    pre = (thresholds or {}).get(spec.pre) if spec.pre is not None else None
+    estimate = (thresholds or {})[(spec.column, spec.cap)]
+    pre = (thresholds or {}).get((spec.pre, spec.cap)) if spec.pre is not None else None
     return CapSummary(
         float(spec.cap), estimate.value, estimate.exact and (pre is None or pre.exact), capped,
         raw.mean, raw.sd, None if pre is None else pre.value,
