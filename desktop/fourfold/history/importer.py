@@ -146,7 +146,7 @@ def _chunks(path, columns, chunk_rows, cancel, counter: _Counter, pass_index: in
 
 
 def _column(chunk, column: str, kind: str, path, cache=None) -> np.ndarray:
-    key = (column, "proportion" if kind == "proportion" else "number")
+    key = (column, kind if kind in ("proportion", "count") else "number")
     if cache is not None and key in cache:
         return cache[key]
     x = numbers(chunk.columns[column], column, proportion=kind == "proportion", path=path,
