@@ -28,6 +28,7 @@ from fourfold.errors import FourfoldError
 from fourfold.plan import Metric, Plan, load, save
 from fourfold.plan.commands import InsertMetrics, MoveMetric, RemoveMetrics, SetField
 from fourfold.ui import theme
+from fourfold.ui.boundaries_plot import BoundariesView
 from fourfold.ui.document import PlanDocument
 from fourfold.ui.plots import PlotPanel
 from fourfold.ui.recovery import Recovery
@@ -96,7 +97,15 @@ class MainWindow(QMainWindow):
         self.splitter = QSplitter(Qt.Orientation.Vertical)
         self.splitter.addWidget(self.table)
         self.plots = PlotPanel()
-        self.splitter.addWidget(self.plots)
+        self.boundaries = BoundariesView()
+        self.figures = QSplitter(Qt.Orientation.Horizontal)
+        self.figures.addWidget(self.plots)
+        self.figures.addWidget(self.boundaries)
+        self.figures.setStretchFactor(0, 3)
+        self.figures.setStretchFactor(1, 1)
+        self.figures.setChildrenCollapsible(False)
+        self.figures.setSizes([2500, 1000])
+        self.splitter.addWidget(self.figures)
         self.splitter.setStretchFactor(0, 2)
         self.splitter.setStretchFactor(1, 3)
         self.splitter.setChildrenCollapsible(False)
@@ -142,7 +151,12 @@ class MainWindow(QMainWindow):
         action = QAction(text, self)
         if shortcut is not None:
             keys = shortcut if isinstance(shortcut, list) else [shortcut]
-            action.setShortcuts([QKeySequence(key) for key in keys])
+            sequences = {}
+            for key in keys:
+                sequence = QKeySequence(key)
+                if not sequence.isEmpty():
+                    sequences.setdefault(sequence.toString(), sequence)
+            action.setShortcuts(list(sequences.values()))
         action.setStatusTip(tip)
         action.triggered.connect(slot)
         self.addAction(action)
@@ -159,7 +173,8 @@ class MainWindow(QMainWindow):
                                        "Write the plan table as CSV")
         self.pdf_action = self._action("&PDF report…", self.export_pdf, "Ctrl+Shift+E",
                                        "Write the plan as a PDF report")
-        self.quit_action = self._action("&Quit", self.close, key.Quit, "Close Fourfold")
+        self.quit_action = self._action("&Quit", self.close, [key.Quit, "Ctrl+Q"],
+                                        "Close Fourfold")
         self.undo_action = self._action("&Undo", self.document.undo, key.Undo)
         self.redo_action = self._action("&Redo", self.document.redo, [key.Redo, "Ctrl+Y"])
         self.copy_action = self._action("&Copy cells", self.table.copy_selection, key.Copy,
@@ -261,6 +276,8 @@ class MainWindow(QMainWindow):
     def _show_row(self, *_args) -> None:
         row = self.current_row()
         self.plots.show_row(self.document.plan, self.document.result, row)
+        self.boundaries.setVisible(self.document.plan.settings.looks > 1)
+        self.boundaries.show_row(self.document.plan, self.document.result, row)
         if row is None:
             self.row_status.setText("")
             return
@@ -314,6 +331,7 @@ class MainWindow(QMainWindow):
         self.table.setFont(font)
         self.table.horizontalHeader().setFont(font)
         self.table.verticalHeader().setFont(font)
+        self.boundaries.setFont(font)
         self.fit_table()
         self.plots.set_text_scale(scale)
         if announce:
