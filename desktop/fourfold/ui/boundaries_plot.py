@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtCore import QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
 from PySide6.QtWidgets import QSizePolicy, QWidget
 
@@ -99,8 +99,11 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     labels = [f"z {_z_text(look.z_efficacy)}" if look.z_efficacy > z_high
               else p_text(look.p_efficacy) for look in looks]
     widest = max(metrics.horizontalAdvance(text) for text in labels)
-    plot = rect.adjusted(4.0 * metrics.horizontalAdvance("0") + 6, 3.4 * line,
-                         -widest - 8, -2.6 * line)
+    items = _legend_items(style, bool(futile))
+    stacked = sum(30 + metrics.horizontalAdvance(text) for _, text in items) > rect.width()
+    legend_lines = len(items) if stacked else 1
+    plot = rect.adjusted(4.0 * metrics.horizontalAdvance("0") + 6,
+                         (2.4 + 1.1 * legend_lines) * line, -widest - 8, -2.6 * line)
 
     def at(x: float, z: float) -> QPointF:
         zx = plot.left() + plot.width() * x / xs[-1]
@@ -117,6 +120,9 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
                          str(z).replace("-", MINUS))
         painter.setPen(QPen(style.grid, 1.0))
 
+    painter.setPen(style.muted)
+    painter.drawText(QRectF(rect.left(), plot.top() - 1.3 * line, plot.left() - rect.left() - 6,
+                            line), Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter, "z")
     efficacy = [at(x, look.z_efficacy) for x, look in zip(xs, looks, strict=True)]
     region = QPainterPath()
     region.moveTo(QPointF(efficacy[0].x(), plot.top()))
@@ -158,8 +164,8 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
                          Qt.AlignmentFlag.AlignCenter, tick)
     painter.drawText(QRectF(plot.left(), plot.bottom() + 1.2 * line, plot.width(), line),
                      Qt.AlignmentFlag.AlignCenter, x_label)
-    _legend(painter, QRectF(plot.left(), rect.top() + 1.2 * line, plot.width(), line), style,
-            bool(futile))
+    painter.setPen(style.foreground)
+    _legend(painter, QPointF(rect.left(), rect.top() + 1.7 * line), items, stacked)
     painter.restore()
 
 
@@ -175,19 +181,25 @@ def _curve(painter: QPainter, points: list[QPointF], colour: QColor, dash) -> No
     painter.setBrush(Qt.BrushStyle.NoBrush)
 
 
-def _legend(painter: QPainter, band: QRectF, style: BoundaryStyle, futility: bool) -> None:
-    """Legend items in a line under the title."""
-    metrics = painter.fontMetrics()
-    items = [(style.efficacy, "Stop for efficacy above (z, nominal p)")]
+def _legend_items(style: BoundaryStyle, futility: bool) -> list[tuple[QColor, str]]:
+    items = [(style.efficacy, "Stop for efficacy above (nominal p)")]
     if futility:
         items.append((style.futility, "Stop for futility below"))
-    x = band.left()
-    middle = band.center().y()
+    return items
+
+
+def _legend(painter: QPainter, origin: QPointF, items: list[tuple[QColor, str]],
+            stacked: bool) -> None:
+    """Legend items under the title: in one line, or one per line when narrow."""
+    metrics = painter.fontMetrics()
+    x, middle = origin.x(), origin.y()
     for colour, text in items:
         painter.fillRect(QRectF(x, middle - 4, 14, 8), colour)
-        painter.setPen(style.foreground)
         painter.drawText(QPointF(x + 18, middle + metrics.ascent() / 2 - 1), text)
-        x += 30 + metrics.horizontalAdvance(text)
+        if stacked:
+            middle += 1.1 * metrics.height()
+        else:
+            x += 30 + metrics.horizontalAdvance(text)
 
 
 def screen_style(widget: QWidget) -> BoundaryStyle:
@@ -209,6 +221,9 @@ class BoundariesView(QWidget):
         self.two_sided = True
         self.setMinimumSize(280, 180)
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Expanding)
+
+    def sizeHint(self) -> QSize:  # noqa: N802 (Qt's name)
+        return QSize(360, 260)
 
     def show_row(self, plan, result, index: int | None) -> None:
         """Show the looks of row ``index`` of an evaluated plan (nothing for ``None``)."""
