@@ -20,6 +20,7 @@ from fourfold.ui.boundaries_plot import (
     looks_text,
     paint_boundaries,
 )
+from fourfold.ui.columns import COLUMNS
 
 pytestmark = pytest.mark.qt
 
@@ -98,3 +99,22 @@ def test_widget_renders_offscreen(qtbot):
     assert image.width() == 500
     view.show_row(plan, None, None)
     assert view.looks == ()
+
+
+def test_window_shows_the_figure_only_with_interim_looks(make_window):
+    from fourfold.plan.commands import SetSetting
+
+    window = make_window(_plan())
+    window.show()
+    assert not window.boundaries.isVisible()
+    window.document.apply(SetSetting("looks", 3))
+    window.document.recompute_now()
+    assert window.boundaries.isVisible()
+    assert len(window.boundaries.looks) == 3
+    assert not window.table.isColumnHidden(
+        next(i for i, c in enumerate(COLUMNS) if c.key == "look_days"))
+    window.document.undo()
+    window.document.recompute_now()
+    assert not window.boundaries.isVisible()
+    assert window.table.isColumnHidden(
+        next(i for i, c in enumerate(COLUMNS) if c.key == "look_days"))
