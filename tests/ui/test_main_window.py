@@ -10,6 +10,7 @@ import dataclasses
 import os
 
 import pytest
+from PySide6.QtCore import Qt
 from PySide6.QtGui import QImage
 
 from fourfold.errors import FourfoldError
@@ -229,3 +230,47 @@ def test_edits_of_a_plan_without_traffic_still_show_units(make_window):
     window.document.recompute_now()
     units = window.model.data(window.model.index(0, column_index("units_control")), SORT_ROLE)
     assert units == compute(window.document.plan).rows[0].units_control
+
+
+def test_export_actions_write_csv_and_pdf(make_window, tmp_path, monkeypatch):
+    from PySide6.QtWidgets import QFileDialog
+
+    window = make_window()
+    targets = iter([str(tmp_path / "plan"), str(tmp_path / "report.pdf")])
+    monkeypatch.setattr(QFileDialog, "getSaveFileName",
+                        lambda *args, **kwargs: (next(targets), ""))
+    window.csv_action.trigger()
+    window.pdf_action.trigger()
+    assert window.errors == []
+    assert (tmp_path / "plan.csv").stat().st_size > 0
+    assert (tmp_path / "report.pdf").read_bytes().startswith(b"%PDF")
+
+
+def test_the_dark_palette_follows_the_scheme(make_window):
+    from fourfold.ui import theme
+
+    window = make_window()
+    light = window.model.data(window.model.index(0, column_index("power_out")),
+                              Qt.ItemDataRole.BackgroundRole)
+    window.model.set_dark(True)
+    dark = window.model.data(window.model.index(0, column_index("power_out")),
+                             Qt.ItemDataRole.BackgroundRole)
+    assert dark == theme.tints(True).computed and light == theme.tints(False).computed
+    for scheme in (False, True):
+        palette = theme.palette(scheme)
+        assert _contrast(palette.text().color(), palette.base().color()) >= 7.0
+        assert _contrast(palette.text().color(), theme.tints(scheme).computed) >= 7.0
+        assert _contrast(theme.tints(scheme).solved_text, theme.tints(scheme).solved) >= 7.0
+
+
+def _contrast(first, second) -> float:
+    """Contrast ratio of two colours: W3C (2018) WCAG 2.1, relative luminance definition."""
+    def luminance(colour):
+        channels = []
+        for value in (colour.redF(), colour.greenF(), colour.blueF()):
+            channels.append(value / 12.92 if value <= 0.04045 else ((value + 0.055) / 1.055) ** 2.4)
+        red, green, blue = channels
+        return 0.2126 * red + 0.7152 * green + 0.0722 * blue
+
+    light, dark = sorted((luminance(first), luminance(second)), reverse=True)
+    return (light + 0.05) / (dark + 0.05)

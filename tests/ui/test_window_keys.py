@@ -13,6 +13,7 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QComboBox, QLineEdit, QMessageBox
 
 import fourfold
+from fourfold.plan.commands import SetField
 from fourfold.ui.columns import column_index
 
 
@@ -112,3 +113,16 @@ def test_opening_the_window_imports_neither_pandas_nor_scipy_stats():
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                           timeout=120, check=True)
     assert done.stdout.strip().splitlines()[-1] == "[]"
+
+
+def test_delete_empties_optional_cells_in_one_step(make_window, qtbot):
+    window = make_window()
+    table, model = window.table, window.model
+    window.document.apply(SetField(0, "alpha", 0.01))
+    table.setCurrentIndex(model.index(0, column_index("alpha")))
+    qtbot.keyClick(table, Qt.Key.Key_Delete)
+    assert window.document.plan.metrics[0].alpha is None
+    table.setCurrentIndex(model.index(0, column_index("baseline")))
+    qtbot.keyClick(table, Qt.Key.Key_Delete)  # a baseline cannot be empty
+    assert window.document.plan.metrics[0].baseline == 0.031
+    assert "optional" in window.statusBar().currentMessage()

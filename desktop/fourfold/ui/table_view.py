@@ -1,6 +1,7 @@
 """The plan table's view: keyboard navigation, copy and paste of rectangular ranges.
 
-Enter edits the current cell and, once typed, moves down a row; Tab moves right. Copy puts the
+Enter edits the current cell and, once typed, moves down a row; Tab moves right; Delete empties
+the selected optional cells (back to "not set" or the plan default). Copy puts the
 selected rectangle on the clipboard as tab-separated text (what spreadsheets exchange). Paste
 reads tab-separated text at the current cell as one undo step, all or nothing: if any cell of
 the block cannot be read or is refused by the plan's rules, nothing changes and the status line
@@ -129,6 +130,10 @@ class PlanTableView(QTableView):
         if event.matches(QKeySequence.StandardKey.Paste):
             self.paste()
             return
+        if (event.key() in (Qt.Key.Key_Delete, Qt.Key.Key_Backspace)
+                and self.state() != QAbstractItemView.State.EditingState):
+            self.clear_selection()
+            return
         if (event.key() in (Qt.Key.Key_Return, Qt.Key.Key_Enter)
                 and self.state() != QAbstractItemView.State.EditingState):
             current = self.currentIndex()
@@ -165,6 +170,25 @@ class PlanTableView(QTableView):
         text = self.selection_text()
         if text:
             QGuiApplication.clipboard().setText(text)
+
+    def clear_selection(self) -> bool:
+        """Empty the selected cells that may be empty (optional numbers, notes); one undo step."""
+        rect = self._selected_rect()
+        if rect is None:
+            return False
+        selected = self.selectedIndexes() or [self.currentIndex()]
+        edits = []
+        for index in selected:
+            column = COLUMNS[index.column()]
+            if column.optional:
+                edits.append((index.row(), column.key, None))
+            elif column.key == "notes":
+                edits.append((index.row(), column.key, ""))
+        if not edits:
+            self.message.emit("Only optional numbers and notes can be emptied")
+            return False
+        return self.plan_model().document.apply(
+            SetFields(edits, text=f"Clear {len(edits)} cells"))
 
     def paste(self, text: str | None = None) -> bool:
         """Paste tab-separated text (the clipboard's by default) at the current cell.
