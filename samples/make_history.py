@@ -33,15 +33,15 @@ OUTPUT = Path(__file__).with_name("quillmoss-history.csv")
 def generate(rows: int = ROWS, seed: int = SEED) -> dict[str, np.ndarray]:
     """The synthetic columns, drawn from one seeded generator."""
     rng = np.random.default_rng(seed)
-    loyal = rng.random(rows) < 0.02
-    propensity = np.where(loyal, rng.uniform(8.0, 14.0, rows), rng.gamma(2.0, 0.4, rows))
+    loyal = rng.random(rows) < 0.012  # regular customers: most of them buy in both periods
+    propensity = np.where(loyal, rng.uniform(24.0, 30.0, rows), rng.gamma(2.0, 0.36, rows))
     converted = rng.random(rows) < np.minimum(0.031 * propensity, 1.0)
     converted_before = rng.random(rows) < np.minimum(0.031 * propensity, 1.0)
 
-    taste = rng.normal(0.0, 0.45, rows)
+    taste = rng.normal(0.0, 0.6, rows)
 
     def order_values(size: int) -> np.ndarray:
-        base = rng.lognormal(4.05 + taste, 0.35, size)
+        base = rng.lognormal(3.95 + taste, 0.25, size)
         big = rng.random(size) < 0.02
         return np.where(big, base * rng.uniform(4.0, 9.0, size), base)
 
@@ -49,7 +49,7 @@ def generate(rows: int = ROWS, seed: int = SEED) -> dict[str, np.ndarray]:
     pre_revenue = np.where(converted_before, order_values(rows), 0.0)
     orders = converted * (1 + (rng.random(rows) < 0.06))
     items = np.where(orders > 0, orders + rng.poisson(1.6 * orders), 0)
-    added = converted | (rng.random(rows) < 0.086 * propensity)
+    added = converted | (rng.random(rows) < 0.085)
     support = rng.poisson(rng.gamma(0.25, 0.018 / 0.25, rows))
     device = rng.normal(0.0, 0.26, rows)
     page_load = np.exp(0.555 + device + rng.normal(0.0, 0.18, rows))
