@@ -17,7 +17,7 @@ def test_the_sample_is_guessed_kind_by_kind():
     assert found["converted"] == ("proportion", None)
     assert found["added_to_cart"] == ("proportion", None)  # true/false text
     assert found["revenue"] == ("mean", "pre_revenue")
-    assert found["support_contacts"] == ("count", None)
+    assert found["items"] == ("count", None)
     assert found["page_load_s"] == ("mean", "pre_page_load_s")
 
 
