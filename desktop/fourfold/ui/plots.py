@@ -233,6 +233,7 @@ class _Plot:
             self.legend.addItem(self.point, "")
         self._figure: Figure | None = None
         self._unit = ""
+        self._texts: tuple | None = None
 
     def apply_style(self, style: Style) -> None:
         width = 2.6 * style.pen_scale
@@ -259,7 +260,7 @@ class _Plot:
             # the first frame and does not jump while the user drags the effect.
             axis.setStyle(tickLength=-int(5 * style.text_scale),
                           tickTextOffset=int(4 * style.text_scale),
-                          autoExpandTextSpace=False,
+                          autoExpandTextSpace=False, maxTickLevel=1,
                           tickTextWidth=math.ceil(metrics.horizontalAdvance(WIDEST_TICK)) + 2,
                           tickTextHeight=math.ceil(metrics.height()))
         self.point_text.setColor(style.point if style.background.lightness() < 128
@@ -275,6 +276,8 @@ class _Plot:
         self.message.setFont(style.font(LABEL_POINTS))
         self.legend.setLabelTextColor(style.foreground)
         self.legend.setLabelTextSize(style.size(TICK_POINTS))
+        for _, label in self.legend.items:  # the new size shows once the text is set again
+            label.setText(label.text)
         legend_back = QColor(style.background)
         legend_back.setAlpha(215)
         self.legend.setBrush(legend_back)
@@ -285,14 +288,17 @@ class _Plot:
     def set_figure(self, figure: Figure, style: Style, unit: str = "") -> None:
         self._figure = figure
         self._unit = unit
-        labels = {"color": style.foreground.name(), "font-size": style.size(LABEL_POINTS)}
-        self.item.setTitle(figure.title, color=style.foreground.name(),
-                           size=style.size(TITLE_POINTS), bold=True)
-        title_height = int(TITLE_POINTS * style.text_scale * 2.2)
-        self.item.titleLabel.setMaximumHeight(title_height)
-        self.item.layout.setRowFixedHeight(0, title_height)
-        self.item.setLabel("bottom", figure.x_label, **labels)
-        self.item.setLabel("left", figure.y_label, **labels)
+        texts = (figure.title, figure.x_label, figure.y_label, style)
+        if texts != self._texts:  # re-laying out HTML labels is the slow part of an update
+            self._texts = texts
+            labels = {"color": style.foreground.name(), "font-size": style.size(LABEL_POINTS)}
+            self.item.setTitle(figure.title, color=style.foreground.name(),
+                               size=style.size(TITLE_POINTS), bold=True)
+            title_height = int(TITLE_POINTS * style.text_scale * 2.2)
+            self.item.titleLabel.setMaximumHeight(title_height)
+            self.item.layout.setRowFixedHeight(0, title_height)
+            self.item.setLabel("bottom", figure.x_label, **labels)
+            self.item.setLabel("left", figure.y_label, **labels)
         empty = bool(figure.reason)
         self.item.setLogMode(x=figure.x_log and not empty, y=figure.y_log and not empty)
         self.curve.setData(figure.curve.x, figure.curve.y)
@@ -339,13 +345,15 @@ class _Plot:
         for item in (self.point_text, self.guide, self.message, self.legend, *self.mark_texts):
             item.hide()
         self.item.setTitle(None)
+        self._texts = None
 
     def _set_legend(self, figure: Figure) -> None:
         texts = [figure.curve.label, figure.neighbour.label]
         if figure.name == "runtime":
             texts.append(_point_text(figure, self._unit))
         for (_, label), text in zip(self.legend.items, texts, strict=True):
-            label.setText(text)
+            if label.text != text:
+                label.setText(text)
         self.legend.setVisible(not figure.reason and bool(figure.curve.label))
         self.legend.updateSize()
         finite = figure.curve.y[np.isfinite(figure.curve.y)]
@@ -620,7 +628,7 @@ class PlotPanel(QWidget):
         if data is None:
             return
         low, high = data.effect_span
-        effect = float(np.float64(low + (high - low) * position / SLIDER_STEPS).round(12))
+        effect = low + (high - low) * position / SLIDER_STEPS
         self.slider_value.setText(self._effect_text(effect, data))
         self._queue(effect)
         if not self.slider.isSliderDown():
@@ -636,6 +644,10 @@ class PlotPanel(QWidget):
         self._flush()
 
     def _queue(self, effect: float) -> None:
+        data = self.grid.shown
+        if data is not None:  # a pixel's worth of precision: 0.072, not 0.07200000000000001
+            low, high = data.effect_span
+            effect = round(effect, max(0, math.ceil(-math.log10((high - low) / 1000.0))))
         self._queued = effect
         if not self._drag_timer.isActive():
             self._drag_timer.start()
