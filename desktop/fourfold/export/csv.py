@@ -8,7 +8,12 @@ spreadsheets detect the encoding):
     and every computed result.
 ``checkout-settings.csv``
     Three columns ``key,value,unit``: the plan's settings, then the plan-level results
-    (duration, total units, binding metric, notes).
+    (duration, total units, binding metric, notes) and, with interim looks, the looks of the
+    binding row (else the first row with looks): ``looks_row`` and per look k ``look_k_day``,
+    ``look_k_units`` (total units), ``look_k_efficacy_z``, ``look_k_nominal_p``,
+    ``look_k_futility_z`` (empty without a futility bound), ``look_k_alpha_spent_frac``,
+    ``look_k_stop_h0_frac`` and ``look_k_stop_h1_frac`` (the chance of stopping there with no
+    effect and with the planned effect). z is oriented in the direction of the effect.
 
 Column names
 ------------
@@ -225,7 +230,34 @@ def settings_rows(plan, result) -> list[list[str]]:
     lines = [["key", "value", "unit"]]
     lines += [[key, cell(get(plan.settings, result)), unit] for key, unit, get in SETTINGS]
     lines += [[f"note_{i}", cell(note), "text"] for i, note in enumerate(result.notes, 1)]
+    lines += _look_rows(plan, result)
     lines.append(["fourfold_version", cell(__version__), "text"])
+    return lines
+
+
+_LOOK_CELLS = (
+    ("day", "days", lambda look: look.day),
+    ("units", "units", lambda look: look.units),
+    ("efficacy_z", "z", lambda look: look.z_efficacy),
+    ("nominal_p", "p-value", lambda look: look.p_efficacy),
+    ("futility_z", "z", lambda look: look.z_futility),
+    ("alpha_spent_frac", "fraction", lambda look: look.alpha_spent),
+    ("stop_h0_frac", "fraction", lambda look: look.stop_h0),
+    ("stop_h1_frac", "fraction", lambda look: look.stop_h1),
+)
+
+
+def _look_rows(plan, result) -> list[list[str]]:
+    """The interim looks of the reported row as settings-file rows (none for a fixed design)."""
+    from fourfold.plan.sequential import looks_row, row_looks
+
+    index = looks_row(plan, result)
+    if index is None:
+        return []
+    lines = [["looks_row", cell(index + 1), "row number"]]
+    for look in row_looks(plan, result, index):
+        lines += [[f"look_{look.look}_{name}", cell(get(look)), unit]
+                  for name, unit, get in _LOOK_CELLS]
     return lines
 
 

@@ -37,6 +37,7 @@ import math
 from dataclasses import dataclass, field
 
 from fourfold.plan import CHOICES
+from fourfold.plan.sequential import looks_row, row_looks
 
 DASH = "—"
 ROLE_ORDER = ("primary", "secondary", "guardrail")
@@ -404,6 +405,33 @@ def sequential_table(plan, result) -> Table | None:
     )
 
 
+def looks_table(plan, result) -> tuple[str, Table] | None:
+    """The interim looks of the binding row (else the first row with looks) and its name.
+
+    Per look: its day, share of the maximum and total units, the efficacy (and futility) z
+    boundary, the nominal p-value that stops the test, the α spent so far and the chance of
+    stopping there with no effect and with the planned effect. ``None`` for a fixed design.
+    """
+    index = looks_row(plan, result)
+    if index is None:
+        return None
+    futility = plan.settings.futility
+    rows = []
+    for look in row_looks(plan, result, index):
+        cells = [str(look.look), days(look.day), percent(look.fraction), units(look.units),
+                 f"{look.z_efficacy:.3f}", number(look.p_efficacy, 2)]
+        if futility:
+            cells.append(f"{look.z_futility:.3f}")
+        cells += [number(look.alpha_spent, 2), percent(look.stop_h0, 2),
+                  percent(look.stop_h1, 2)]
+        rows.append(tuple(cells))
+    header = ("Look", "Day", "Share of maximum", "Total units", "Efficacy z", "Nominal p")
+    header += ("Futility z",) if futility else ()
+    header += ("α spent", "P(stop), no effect", "P(stop), planned effect")
+    return plan.metrics[index].name, Table(header=header, rows=tuple(rows),
+                                           align=("r",) * len(header))
+
+
 def notes(plan) -> list[tuple[str, str]]:
     """Each row's free-text notes, labelled with its number and name."""
     return [(f"{i + 1}. {m.name}", m.notes) for i, m in enumerate(plan.metrics) if m.notes.strip()]
@@ -539,6 +567,11 @@ def _plan_methods(plan, add) -> None:
             "the planned effect is real.",
             f"{SPENDING_SOURCES[s.spending]} Jennison, C. & Turnbull, B. W. (2000). Group "
             "Sequential Methods with Applications to Clinical Trials. Chapman & Hall/CRC.")
+        add("peeking", "Unadjusted repeated looks",
+            "The false-positive rate of checking the test at every look without adjusting, "
+            "quoted in the notes, is that of repeated significance tests on accumulating data.",
+            "Armitage, P., McPherson, C. K. & Rowe, B. C. (1969). Repeated significance tests "
+            "on accumulating data. Journal of the Royal Statistical Society A 132, 235–244.")
     if s.daily_units is not None:
         text = "Days = total units ÷ (eligible units per day × share of traffic in the test)"
         text += ", rounded up to whole weeks." if s.whole_weeks else "."

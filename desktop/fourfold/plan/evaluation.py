@@ -303,7 +303,7 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...]) -> PlanResult:
             f"α corrected ({settings.correction}): primary rows for {settings.arms} arm(s) × "
             f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
         )
-    notes.extend(sequential.plan_notes(settings))
+    notes.extend(sequential.plan_notes(plan, rows))
     for metric, row in zip(plan.metrics, rows, strict=True):
         if row.reason:
             notes.append(f"{metric.name}: not computed — {row.reason}.")

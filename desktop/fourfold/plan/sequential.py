@@ -146,23 +146,31 @@ def peeking_text(looks: int, alpha: float) -> str:
             f"{rate * 100:.2g} % false-positive rate, not {alpha * 100:g} %.")
 
 
-def plan_notes(settings) -> tuple[str, ...]:
-    """Notes on the interim looks for the plan's summary; empty for a fixed design."""
+def plan_notes(plan, rows) -> tuple[str, ...]:
+    """Notes on the interim looks for the plan's summary; empty for a fixed design.
+
+    The inflation quoted is that of the first computed primary row (else the first computed
+    row), at that row's α and power; the price of peeking is at the plan's α.
+    """
+    settings = plan.settings
     if settings.looks <= 1:
         return ()
-    try:
-        made = row_design(settings, settings.alpha, settings.power, "two-sided")
-    except ValueError as error:
-        return (f"Interim looks cannot be planned: {error}.",)
-    stops = made.expected_h1 / made.inflation
-    futility = " or futility" if settings.futility else ""
-    return (
-        f"{settings.looks} looks: units and days are the maximum the test may need, "
-        f"{made.inflation:.3f} × the fixed design (at the plan's α and power); if the effect "
-        f"is real it stops for efficacy{futility} after {stops * 100:.0f} % of them on "
-        "average.",
-        peeking_text(settings.looks, settings.alpha),
-    )
+    order = sorted(range(len(rows)), key=lambda i: plan.metrics[i].role != "primary")
+    notes = []
+    for index in order:
+        made = _design_for(plan, rows[index], index)
+        if made is None:
+            continue
+        futility = " or futility" if settings.futility else ""
+        notes.append(
+            f"{settings.looks} looks: units and days are the maximum the test may need "
+            f"({plan.metrics[index].name}: {made.inflation:.3f} × the fixed design); if the "
+            f"effect is real it stops for efficacy{futility} after "
+            f"{made.expected_h1 / made.inflation * 100:.0f} % of them on average."
+        )
+        break
+    notes.append(peeking_text(settings.looks, settings.alpha))
+    return tuple(notes)
 
 
 @dataclass(frozen=True)
@@ -244,8 +252,11 @@ def row_looks(plan, result, index: int) -> tuple[Look, ...]:
 
 def design_of_row(plan, result, index: int) -> SequentialDesign | None:
     """The design behind row ``index`` of an evaluated plan (``None``: fixed or not computed)."""
+    return _design_for(plan, result.rows[index], index)
+
+
+def _design_for(plan, row, index: int) -> SequentialDesign | None:
     settings = plan.settings
-    row = result.rows[index]
     if settings.looks <= 1 or row.reason or not math.isfinite(row.alpha):
         return None
     metric = plan.metrics[index]
@@ -254,3 +265,25 @@ def design_of_row(plan, result, index: int) -> SequentialDesign | None:
         return row_design(settings, row.alpha, power, metric.alternative)
     except ValueError:
         return None
+
+
+def looks_row(plan, result) -> int | None:
+    """The row whose looks a report shows: the binding row, else the first with looks.
+
+    ``None`` for a fixed design or when no row could be computed.
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan, Settings
+    >>> from fourfold.plan.evaluation import compute
+    >>> plan = Plan(Settings(looks=2), [Metric(name="Spend", role="secondary", kind="mean",
+    ...                                       baseline=10.0, sd=5.0, effect=0.5)])
+    >>> looks_row(plan, compute(plan)), looks_row(Plan(Settings(), plan.metrics), compute(plan))
+    (0, None)
+    """
+    if plan.settings.looks <= 1:
+        return None
+    if result.binding_index is not None:
+        return result.binding_index
+    return next((index for index in range(len(result.rows))
+                 if design_of_row(plan, result, index) is not None), None)

@@ -23,6 +23,7 @@ from fourfold.ui.formatting import MINUS
 Z_CAP = 6.0
 """Highest z drawn; earlier boundaries above it are drawn at the cap with their value."""
 MAX_LABELS = 10
+SCREEN_DPI = 96.0
 
 FIXED_TEXT = ("One look: a fixed design. Set looks above 1 to plan interim analyses and see "
               "their stopping boundaries here.")
@@ -68,7 +69,12 @@ def _x_values(looks: tuple[Look, ...]) -> tuple[list[float], str, list[str]]:
 
 def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
                      style: BoundaryStyle, title: str = "") -> None:
-    """Draw the boundaries of ``looks`` into ``rect``; a short text when there are none."""
+    """Draw the boundaries of ``looks`` into ``rect``; a short text when there are none.
+
+    Text is sized in points; lines, markers and gaps in screen pixels scaled to the device's
+    resolution, so the figure looks alike on the screen and on a 300 dpi PDF page.
+    """
+    px = max(1.0, painter.device().logicalDpiX() / SCREEN_DPI)
     painter.save()
     painter.setRenderHint(QPainter.RenderHint.Antialiasing)
     font = QFont(painter.font())
@@ -100,29 +106,27 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
               else p_text(look.p_efficacy) for look in looks]
     widest = max(metrics.horizontalAdvance(text) for text in labels)
     items = _legend_items(style, bool(futile))
-    stacked = sum(30 + metrics.horizontalAdvance(text) for _, text in items) > rect.width()
+    stacked = (sum(30 * px + metrics.horizontalAdvance(text) for _, text in items)
+               > rect.width())
     legend_lines = len(items) if stacked else 1
-    plot = rect.adjusted(4.0 * metrics.horizontalAdvance("0") + 6,
-                         (2.4 + 1.1 * legend_lines) * line, -widest - 8, -2.6 * line)
+    plot = rect.adjusted(4.0 * metrics.horizontalAdvance("0") + 6 * px,
+                         (2.4 + 1.1 * legend_lines) * line, -widest - 8 * px, -2.6 * line)
 
     def at(x: float, z: float) -> QPointF:
         zx = plot.left() + plot.width() * x / xs[-1]
         zy = plot.bottom() - plot.height() * (min(z, z_high) - z_low) / (z_high - z_low)
         return QPointF(zx, zy)
 
-    painter.setPen(QPen(style.grid, 1.0))
+    gutter = plot.left() - rect.left() - 6 * px
+    right = Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
     for z in range(int(z_low), int(z_high) + 1):
         y = at(0.0, z).y()
+        painter.setPen(QPen(style.grid, px))
         painter.drawLine(QPointF(plot.left(), y), QPointF(plot.right(), y))
         painter.setPen(style.muted)
-        painter.drawText(QRectF(rect.left(), y - line / 2, plot.left() - rect.left() - 6, line),
-                         Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter,
+        painter.drawText(QRectF(rect.left(), y - line / 2, gutter, line), right,
                          str(z).replace("-", MINUS))
-        painter.setPen(QPen(style.grid, 1.0))
-
-    painter.setPen(style.muted)
-    painter.drawText(QRectF(rect.left(), plot.top() - 1.3 * line, plot.left() - rect.left() - 6,
-                            line), Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter, "z")
+    painter.drawText(QRectF(rect.left(), plot.top() - 1.3 * line, gutter, line), right, "z")
     efficacy = [at(x, look.z_efficacy) for x, look in zip(xs, looks, strict=True)]
     region = QPainterPath()
     region.moveTo(QPointF(efficacy[0].x(), plot.top()))
@@ -144,40 +148,40 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
         shade = QColor(style.futility)
         shade.setAlphaF(0.14)
         painter.fillPath(region, shade)
-        _curve(painter, floor, style.futility, Qt.PenStyle.DashLine)
+        _curve(painter, floor, style.futility, Qt.PenStyle.DashLine, px)
 
-    _curve(painter, efficacy, style.efficacy, Qt.PenStyle.SolidLine)
+    _curve(painter, efficacy, style.efficacy, Qt.PenStyle.SolidLine, px)
     painter.setPen(style.foreground)
     for k in sorted(labelled):
         point = efficacy[k]
-        box = QRectF(point.x() + 5, point.y() - line - 2, widest + 4, line)
+        box = QRectF(point.x() + 5 * px, point.y() - line - 2 * px, widest + 4 * px, line)
         painter.drawText(box, Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
                          labels[k])
 
-    painter.setPen(QPen(style.foreground, 1.0))
+    painter.setPen(QPen(style.foreground, px))
     painter.drawLine(plot.bottomLeft(), plot.bottomRight())
     painter.drawLine(plot.bottomLeft(), plot.topLeft())
     painter.setPen(style.muted)
     for k in sorted(labelled):
-        px, tick = at(xs[k], z_low).x(), x_ticks[k]
-        painter.drawText(QRectF(px - 40, plot.bottom() + 2, 80, line),
+        x, tick = at(xs[k], z_low).x(), x_ticks[k]
+        painter.drawText(QRectF(x - 40 * px, plot.bottom() + 2 * px, 80 * px, line),
                          Qt.AlignmentFlag.AlignCenter, tick)
     painter.drawText(QRectF(plot.left(), plot.bottom() + 1.2 * line, plot.width(), line),
                      Qt.AlignmentFlag.AlignCenter, x_label)
     painter.setPen(style.foreground)
-    _legend(painter, QPointF(rect.left(), rect.top() + 1.7 * line), items, stacked)
+    _legend(painter, QPointF(rect.left(), rect.top() + 1.7 * line), items, stacked, px)
     painter.restore()
 
 
-def _curve(painter: QPainter, points: list[QPointF], colour: QColor, dash) -> None:
-    pen = QPen(colour, 2.0)
+def _curve(painter: QPainter, points: list[QPointF], colour: QColor, dash, px: float) -> None:
+    pen = QPen(colour, 2.0 * px)
     pen.setStyle(dash)
     painter.setPen(pen)
     painter.drawPolyline(QPolygonF(points))
-    painter.setPen(QPen(colour, 1.0))
+    painter.setPen(QPen(colour, px))
     painter.setBrush(colour)
     for point in points:
-        painter.drawEllipse(point, 3.0, 3.0)
+        painter.drawEllipse(point, 3.0 * px, 3.0 * px)
     painter.setBrush(Qt.BrushStyle.NoBrush)
 
 
@@ -189,17 +193,17 @@ def _legend_items(style: BoundaryStyle, futility: bool) -> list[tuple[QColor, st
 
 
 def _legend(painter: QPainter, origin: QPointF, items: list[tuple[QColor, str]],
-            stacked: bool) -> None:
+            stacked: bool, px: float) -> None:
     """Legend items under the title: in one line, or one per line when narrow."""
     metrics = painter.fontMetrics()
     x, middle = origin.x(), origin.y()
     for colour, text in items:
-        painter.fillRect(QRectF(x, middle - 4, 14, 8), colour)
-        painter.drawText(QPointF(x + 18, middle + metrics.ascent() / 2 - 1), text)
+        painter.fillRect(QRectF(x, middle - 4 * px, 14 * px, 8 * px), colour)
+        painter.drawText(QPointF(x + 18 * px, middle + metrics.ascent() / 2 - px), text)
         if stacked:
             middle += 1.1 * metrics.height()
         else:
-            x += 30 + metrics.horizontalAdvance(text)
+            x += 30 * px + metrics.horizontalAdvance(text)
 
 
 def screen_style(widget: QWidget) -> BoundaryStyle:

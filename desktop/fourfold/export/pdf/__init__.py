@@ -27,6 +27,7 @@ from pathlib import Path
 
 from PySide6.QtCore import QMarginsF, Qt
 from PySide6.QtGui import (
+    QColor,
     QFontMetricsF,
     QGuiApplication,
     QPageLayout,
@@ -209,6 +210,7 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
     if sequential is not None:
         flow.heading("Interim looks")
         flow.table(sequential)
+        _looks(flow, plan, result)
 
     _figures(flow, plan, result)
 
@@ -229,6 +231,30 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
         _entry(flow, [(method.name, font(8.5, bold=True), INK, 0, 1),
                       (method.text + used, font(8.5), INK, 10, 1),
                       (method.reference, font(8, italic=True), MUTED, 10, 6)])
+
+
+def _looks(flow: Flow, plan, result) -> None:
+    """The looks of the binding row: a table of boundaries and nominal p-values, and a figure."""
+    looks = report.looks_table(plan, result)
+    if looks is None:
+        return
+    from fourfold.plan.sequential import looks_row, row_looks
+    from fourfold.ui.boundaries_plot import BoundaryStyle, paint_boundaries
+
+    name, table = looks
+    flow.heading(f"Stopping boundaries: {name}", level=2)
+    flow.paragraph("At each look the test stops for efficacy when the z statistic, oriented in "
+                   "the direction of the effect (|z| for a two-sided test), reaches the "
+                   "efficacy boundary, i.e. when the p-value is below the nominal p"
+                   + (", and for futility when z falls below the futility boundary"
+                      if plan.settings.futility else "")
+                   + ". Checking at p < α at every look instead would inflate the "
+                   "false-positive rate (see the notes).", font(8), MUTED, spacing=1.25)
+    flow.table(table)
+    drawn = row_looks(plan, result, looks_row(plan, result))
+    style = BoundaryStyle(INK, MUTED, RULE, ACCENT, QColor("#b0532c"), points=8.0)
+    flow.space(6)
+    flow.figure(flow.width * 0.34, lambda p, rect: paint_boundaries(p, rect, drawn, style))
 
 
 def _entry(flow: Flow, parts) -> None:
