@@ -190,3 +190,17 @@ def test_repainting_does_not_use_up_references_to_none(qtbot, panel):
     for _ in range(20):
         panel.grid.grab()
     assert sys.getrefcount(None) - before > -20
+
+
+def test_effect_range_holds_while_dragging_and_recentres_after(qtbot, panel):
+    plan = make_plan()
+    show(qtbot, panel, plan, 0)
+    low, high = panel.tradeoffs.effect_span
+    near_top = dataclasses.replace(plan, metrics=[
+        dataclasses.replace(plan.metrics[0], effect=high), *plan.metrics[1:]])
+    panel.grid.handle.moving = True  # the user holds the marker at the end of its range
+    show(qtbot, panel, near_top, 0)
+    assert panel.tradeoffs.effect_span == (low, high)
+    panel.grid.handle.moving = False
+    show(qtbot, panel, near_top, 0)
+    assert panel.tradeoffs.effect_span == pytest.approx((0.4 * high, 2.5 * high))

@@ -228,7 +228,7 @@ def _usable_span(span: tuple[float, float] | None, effect: float) -> bool:
     if span is None:
         return False
     low, high = span
-    return math.isfinite(low) and math.isfinite(high) and low < effect < high
+    return math.isfinite(low) and math.isfinite(high) and low <= effect <= high
 
 
 def _spans_decades(values: np.ndarray) -> bool:
@@ -325,7 +325,7 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
         ``compute(plan)``, when the caller has it already.
     effect_span : tuple of float, optional
         Effect range (row units) of the effect figure to keep, e.g. while the user drags the
-        effect; ignored unless the row's effect lies strictly inside it.
+        effect; ignored unless the row's effect lies inside it.
     points : int
         Points per curve (at least 5).
 

@@ -489,6 +489,14 @@ class FigureGrid(pg.GraphicsLayoutWidget):
                 self.handle.setValue(x)
 
 
+def _near_edge(data: Tradeoffs) -> bool:
+    """Whether the effect sits in the outer 4 % of the effect figure's range."""
+    low, high = data.effect_span
+    effect = data.effect.point[0] / data.effect_scale
+    edge = 0.04 * (high - low)
+    return not low + edge <= effect <= high - edge
+
+
 class PlotPanel(QWidget):
     """The trade-off plots of the selected row, beside the plan table.
 
@@ -593,6 +601,9 @@ class PlotPanel(QWidget):
                metric.solve)
         span = self.grid.shown.effect_span if key == self._span_key and self.grid.shown else None
         data = tradeoffs(plan, index, result, effect_span=span)
+        dragging = self.grid.handle.moving or self.slider.isSliderDown()
+        if span is not None and not dragging and _near_edge(data):
+            data = tradeoffs(plan, index, result)  # re-centre once the user lets go
         self._span_key = key
         self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving)
         show_simulation(self.grid, plan, result, index)
