@@ -44,8 +44,8 @@ def test_csv_carries_the_boundaries_per_look(tmp_path):
     assert float(values["look_5_alpha_spent_frac"]) == pytest.approx(0.05, abs=1e-9)
     total = compute(_plan(looks=5)).rows[0].units_total
     assert float(values["look_5_units"]) == total
-    assert "14 % false-positive rate" in " ".join(v for k, v in values.items()
-                                                    if k.startswith("note_"))
+    assert "false-positive rate of 14 %" in " ".join(v for k, v in values.items()
+                                                       if k.startswith("note_"))
 
 
 def test_csv_of_a_fixed_design_has_no_look_rows(tmp_path):

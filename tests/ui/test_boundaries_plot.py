@@ -49,7 +49,7 @@ def test_fixed_design_shows_a_hint(qtbot):
     plan = _plan()
     view.show_row(plan, compute(plan), 0)
     assert view.looks == ()
-    assert view.toolTip() == ""
+    assert view.toolTip() == "" and view.caption == ""
     assert FIXED_TEXT.startswith("One look")
 
 
@@ -62,6 +62,9 @@ def test_three_pocock_looks_in_the_tooltip(qtbot):
     assert len(lines) == 3
     assert all("|z| ≥ 2.29" in line for line in lines)  # C_P(3, 0.05) = 2.289, J&T Table 2.1
     assert view.looks[-1].day == compute(plan).rows[0].days
+    # Armitage, McPherson & Rowe (1969): three looks at 0.05 give 0.107 — from memory.
+    assert view.caption.startswith("Checking 3 times at p < 0.05 unadjusted gives a "
+                                   "false-positive rate of 11 %")
 
 
 def test_futility_appears_in_words_and_one_sided_uses_z():

@@ -139,11 +139,11 @@ def peeking_text(looks: int, alpha: float) -> str:
     Examples
     --------
     >>> peeking_text(5, 0.05)
-    'Checking 5 times at p < 0.05 unadjusted gives a 14 % false-positive rate, not 5 %.'
+    'Checking 5 times at p < 0.05 unadjusted gives a false-positive rate of 14 %, not 5 %.'
     """
     rate = sequential.peeking_alpha(looks, alpha)
-    return (f"Checking {looks} times at p < {alpha:g} unadjusted gives a "
-            f"{rate * 100:.2g} % false-positive rate, not {alpha * 100:g} %.")
+    return (f"Checking {looks} times at p < {alpha:g} unadjusted gives a false-positive rate "
+            f"of {rate * 100:.2g} %, not {alpha * 100:g} %.")
 
 
 def plan_notes(plan, rows) -> tuple[str, ...]:

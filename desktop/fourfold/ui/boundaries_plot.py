@@ -16,7 +16,7 @@ from PySide6.QtCore import QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
 from PySide6.QtWidgets import QSizePolicy, QWidget
 
-from fourfold.plan.sequential import Look, row_looks
+from fourfold.plan.sequential import Look, peeking_text, row_looks
 from fourfold.ui import theme
 from fourfold.ui.formatting import MINUS
 
@@ -68,8 +68,10 @@ def _x_values(looks: tuple[Look, ...]) -> tuple[list[float], str, list[str]]:
 
 
 def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
-                     style: BoundaryStyle, title: str = "") -> None:
+                     style: BoundaryStyle, title: str = "", caption: str = "") -> None:
     """Draw the boundaries of ``looks`` into ``rect``; a short text when there are none.
+
+    ``caption`` is a line of muted text under the figure (the price of unadjusted peeking).
 
     Text is sized in points; lines, markers and gaps in screen pixels scaled to the device's
     resolution, so the figure looks alike on the screen and on a 300 dpi PDF page.
@@ -109,8 +111,12 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     stacked = (sum(30 * px + metrics.horizontalAdvance(text) for _, text in items)
                > rect.width())
     legend_lines = len(items) if stacked else 1
+    caption_lines = 0
+    if caption:
+        caption_lines = 1 if metrics.horizontalAdvance(caption) <= rect.width() else 2
+    bottom = 2.6 + 1.1 * caption_lines
     plot = rect.adjusted(4.0 * metrics.horizontalAdvance("0") + 6 * px,
-                         (2.4 + 1.1 * legend_lines) * line, -widest - 8 * px, -2.6 * line)
+                         (2.8 + 1.1 * legend_lines) * line, -widest - 8 * px, -bottom * line)
 
     def at(x: float, z: float) -> QPointF:
         zx = plot.left() + plot.width() * x / xs[-1]
@@ -126,7 +132,7 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
         painter.setPen(style.muted)
         painter.drawText(QRectF(rect.left(), y - line / 2, gutter, line), right,
                          str(z).replace("-", MINUS))
-    painter.drawText(QRectF(rect.left(), plot.top() - 1.3 * line, gutter, line), right, "z")
+    painter.drawText(QRectF(rect.left(), plot.top() - 1.15 * line, gutter, line), right, "z")
     efficacy = [at(x, look.z_efficacy) for x, look in zip(xs, looks, strict=True)]
     region = QPainterPath()
     region.moveTo(QPointF(efficacy[0].x(), plot.top()))
@@ -168,6 +174,11 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
                          Qt.AlignmentFlag.AlignCenter, tick)
     painter.drawText(QRectF(plot.left(), plot.bottom() + 1.2 * line, plot.width(), line),
                      Qt.AlignmentFlag.AlignCenter, x_label)
+    if caption:
+        height = 1.1 * caption_lines * line
+        painter.drawText(QRectF(rect.left(), rect.bottom() - height, rect.width(), height),
+                         Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignBottom
+                         | Qt.TextFlag.TextWordWrap, caption)
     painter.setPen(style.foreground)
     _legend(painter, QPointF(rect.left(), rect.top() + 1.7 * line), items, stacked, px)
     painter.restore()
@@ -222,6 +233,7 @@ class BoundariesView(QWidget):
         super().__init__(parent)
         self.looks: tuple[Look, ...] = ()
         self.title = ""
+        self.caption = ""
         self.two_sided = True
         self.setMinimumSize(280, 180)
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Expanding)
@@ -232,10 +244,13 @@ class BoundariesView(QWidget):
     def show_row(self, plan, result, index: int | None) -> None:
         """Show the looks of row ``index`` of an evaluated plan (nothing for ``None``)."""
         if result is None or index is None or not 0 <= index < len(result.rows):
-            self.looks, self.title = (), ""
+            self.looks, self.title, self.caption = (), "", ""
         else:
             self.looks = row_looks(plan, result, index)
             self.title = f"Stopping boundaries — {plan.metrics[index].name}"
+            settings = plan.settings
+            self.caption = (peeking_text(settings.looks, settings.alpha) if self.looks
+                            else "")
             self.two_sided = plan.metrics[index].alternative == "two-sided"
         self.setToolTip(looks_text(self.looks, self.two_sided))
         self.update()
@@ -243,7 +258,7 @@ class BoundariesView(QWidget):
     def paintEvent(self, event) -> None:  # noqa: N802 (Qt's name)
         painter = QPainter(self)
         paint_boundaries(painter, QRectF(self.rect()).adjusted(8, 6, -8, -6), self.looks,
-                         screen_style(self), self.title)
+                         screen_style(self), self.title, self.caption)
         painter.end()
 
 
