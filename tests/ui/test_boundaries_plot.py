@@ -114,10 +114,13 @@ def test_window_shows_the_figure_only_with_interim_looks(make_window):
     window.document.recompute_now()
     assert window.boundaries.isVisible()
     assert len(window.boundaries.looks) == 3
+    expected = window.document.result.rows[0].days_expected_h1
+    assert window.summary.texts()[0].endswith(f"at most, {expected:.2g} days expected")
     assert not window.table.isColumnHidden(
         next(i for i, c in enumerate(COLUMNS) if c.key == "look_days"))
     window.document.undo()
     window.document.recompute_now()
     assert not window.boundaries.isVisible()
+    assert "at most" not in window.summary.texts()[0]
     assert window.table.isColumnHidden(
         next(i for i, c in enumerate(COLUMNS) if c.key == "look_days"))

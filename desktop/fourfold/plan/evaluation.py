@@ -291,10 +291,10 @@ def compute(plan: Plan) -> PlanResult:
     """
     designs: dict = {}
     rows = tuple(_evaluate_row(plan, metric, designs) for metric in plan.metrics)
-    return _summarise(plan, rows)
+    return _summarise(plan, rows, designs)
 
 
-def _summarise(plan: Plan, rows: tuple[RowResult, ...]) -> PlanResult:
+def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = None) -> PlanResult:
     settings = plan.settings
     notes = []
     if settings.correction != "none":
@@ -303,7 +303,7 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...]) -> PlanResult:
             f"α corrected ({settings.correction}): primary rows for {settings.arms} arm(s) × "
             f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
         )
-    notes.extend(sequential.plan_notes(plan, rows))
+    notes.extend(sequential.plan_notes(plan, rows, designs))
     for metric, row in zip(plan.metrics, rows, strict=True):
         if row.reason:
             notes.append(f"{metric.name}: not computed — {row.reason}.")

@@ -146,11 +146,12 @@ def peeking_text(looks: int, alpha: float) -> str:
             f"of {rate * 100:.2g} %, not {alpha * 100:g} %.")
 
 
-def plan_notes(plan, rows) -> tuple[str, ...]:
+def plan_notes(plan, rows, designs: dict | None = None) -> tuple[str, ...]:
     """Notes on the interim looks for the plan's summary; empty for a fixed design.
 
     The inflation quoted is that of the first computed primary row (else the first computed
-    row), at that row's α and power; the price of peeking is at the plan's α.
+    row), at that row's α and power; the price of peeking is at the plan's α. ``designs`` is
+    the evaluation's dict of designs (see :func:`row_design`).
     """
     settings = plan.settings
     if settings.looks <= 1:
@@ -158,7 +159,7 @@ def plan_notes(plan, rows) -> tuple[str, ...]:
     order = sorted(range(len(rows)), key=lambda i: plan.metrics[i].role != "primary")
     notes = []
     for index in order:
-        made = _design_for(plan, rows[index], index)
+        made = _design_for(plan, rows[index], index, designs)
         if made is None:
             continue
         futility = " or futility" if settings.futility else ""
@@ -255,14 +256,14 @@ def design_of_row(plan, result, index: int) -> SequentialDesign | None:
     return _design_for(plan, result.rows[index], index)
 
 
-def _design_for(plan, row, index: int) -> SequentialDesign | None:
+def _design_for(plan, row, index: int, designs: dict | None = None) -> SequentialDesign | None:
     settings = plan.settings
     if settings.looks <= 1 or row.reason or not math.isfinite(row.alpha):
         return None
     metric = plan.metrics[index]
     power = settings.power if metric.power is None else metric.power
     try:
-        return row_design(settings, row.alpha, power, metric.alternative)
+        return row_design(settings, row.alpha, power, metric.alternative, designs)
     except ValueError:
         return None
 

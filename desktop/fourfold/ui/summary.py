@@ -71,7 +71,12 @@ class SummaryBar(QFrame):
         duration = duration_text(result.duration_days)
         if result.duration_days is None and settings.daily_units is None:
             duration = "— (set daily units)"
-        self.duration.setText(f"Duration <b>{duration}</b>")
+        text = f"Duration <b>{duration}</b>"
+        if settings.looks > 1 and result.binding_index is not None:
+            expected = result.rows[result.binding_index].days_expected_h1
+            if math.isfinite(expected):
+                text += f" at most, {format_number(expected, sig=2)} days expected"
+        self.duration.setText(text)
         total = format_count(result.total_units) if result.total_units is not None else "—"
         self.units.setText(f"Total units <b>{total}</b>")
         if result.binding_name:
