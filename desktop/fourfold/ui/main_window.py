@@ -53,7 +53,8 @@ QLineEdit#planTitle {{ font-size: {title}pt; font-weight: 600; border: none;
 QLineEdit#planDescription {{ color: {muted}; border: none; background: transparent; }}
 QFrame#summaryBar {{ background: {summary}; border-radius: 6px; }}
 QLabel#summaryItem {{ font-size: {summary_pt}pt; }}
-QTableView {{ gridline-color: {mid}; }}
+"""
+HEADER_STYLE = """
 QHeaderView::section {{ padding: 2px 6px; border: none; border-right: 1px solid {mid};
     border-bottom: 1px solid {mid}; background: {button}; font-weight: 600; }}
 """
@@ -298,17 +299,27 @@ class MainWindow(QMainWindow):
         self.apply_style()
 
     def apply_style(self) -> None:
-        """Style sheet details on top of the palette (group frames, title, summary bar)."""
+        """Style sheet details on top of the palette (group frames, title, summary, headers).
+
+        The table's cells are left to the plain Fusion style: a style sheet on the table
+        itself would slow down every repaint of its cells.
+        """
         palette = self.palette()
         tints = theme.tints(self.dark)
         base_pt = max(QApplication.font().pointSizeF(), 9.0)
-        self.setStyleSheet(STYLE.format(
+        sheet = STYLE.format(
             mid=palette.mid().color().name(), base=palette.base().color().name(),
             button=palette.button().color().name(), accent=tints.accent.name(),
             muted=tints.muted.name(), summary=tints.computed.name(),
             small=round(base_pt * 0.8, 1), title=round(base_pt * 1.45, 1),
             summary_pt=round(base_pt * 1.1, 1),
-        ))
+        )
+        self.settings_panel.setStyleSheet(sheet)
+        self.summary.setStyleSheet(sheet)
+        header = HEADER_STYLE.format(mid=palette.mid().color().name(),
+                                     button=palette.button().color().name())
+        self.table.horizontalHeader().setStyleSheet(header)
+        self.table.verticalHeader().setStyleSheet(header)
 
     # -- text size ----------------------------------------------------------------------
 

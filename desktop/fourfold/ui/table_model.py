@@ -28,6 +28,23 @@ CHOICES_ROLE = Qt.ItemDataRole.UserRole + 2
 """Role returning a choice cell's allowed values as ``[(label, value), ...]``."""
 
 ROLE = Qt.ItemDataRole
+_CACHED_ROLES = frozenset(int(role) for role in (
+    ROLE.DisplayRole, ROLE.TextAlignmentRole, ROLE.BackgroundRole, ROLE.ForegroundRole,
+    ROLE.FontRole, ROLE.CheckStateRole))
+_ANSWERED_ROLES = _CACHED_ROLES | {int(ROLE.EditRole), int(ROLE.ToolTipRole), SORT_ROLE,
+                                   CHOICES_ROLE}
+
+
+def _column_flags(column) -> Qt.ItemFlag:
+    base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
+    if column.computed:
+        return base
+    if column.editor == CHECK:
+        return base | Qt.ItemFlag.ItemIsUserCheckable
+    return base | Qt.ItemFlag.ItemIsEditable
+
+
+_FLAGS = tuple(_column_flags(column) for column in COLUMNS)
 
 
 def _marker_icon(colour: QColor) -> QIcon:
@@ -63,7 +80,7 @@ class PlanTableModel(QAbstractTableModel):
         self._italic.setItalic(True)
         self._bold = QFont()
         self._bold.setBold(True)
-        self.data_changed_count = 0
+        self._cache: dict[tuple[int, int, int], object] = {}
         document.changed.connect(self._on_change)
         document.computed.connect(self._on_computed)
 
@@ -90,9 +107,11 @@ class PlanTableModel(QAbstractTableModel):
         self._rows = list(self.document.plan.metrics)
         self._results = self._result_rows()
         self._binding = self._binding_index()
+        self._cache.clear()
         self.endResetModel()
 
     def _on_change(self, change) -> None:
+        self._cache.clear()
         kind = change.kind
         metrics = self.document.plan.metrics
         if kind == "rows_inserted":
@@ -100,12 +119,14 @@ class PlanTableModel(QAbstractTableModel):
                 self.beginInsertRows(QModelIndex(), first, last)
                 self._rows[first:first] = metrics[first:last + 1]
                 self._results[first:first] = [None] * (last - first + 1)
+                self._cache.clear()
                 self.endInsertRows()
         elif kind == "rows_removed":
             for first, last in reversed(change.blocks()):
                 self.beginRemoveRows(QModelIndex(), first, last)
                 del self._rows[first:last + 1]
                 del self._results[first:last + 1]
+                self._cache.clear()
                 self.endRemoveRows()
         elif kind == "rows_moved":
             source, target = change.rows
@@ -114,6 +135,7 @@ class PlanTableModel(QAbstractTableModel):
                 self.beginMoveRows(QModelIndex(), source, source, QModelIndex(), after)
                 self._rows.insert(target, self._rows.pop(source))
                 self._results.insert(target, self._results.pop(source))
+                self._cache.clear()
                 self.endMoveRows()
         elif kind == "reset" or len(metrics) != len(self._rows):
             self._reset_rows()
@@ -124,11 +146,11 @@ class PlanTableModel(QAbstractTableModel):
         if len(self._rows) != len(self.document.plan.metrics):
             self._reset_rows()
             return
+        self._cache.clear()
         self._rows = list(self.document.plan.metrics)
         self._results = self._result_rows()
         binding = self._binding_index()
         if self._rows:
-            self.data_changed_count += 1
             self.dataChanged.emit(self.index(0, 0), self.index(len(self._rows) - 1,
                                                                len(COLUMNS) - 1))
             if binding != self._binding:
@@ -139,6 +161,7 @@ class PlanTableModel(QAbstractTableModel):
         """Follow a change of the colour scheme."""
         self._tints = theme.tints(dark)
         self._marker = _marker_icon(self._tints.binding)
+        self._cache.clear()
         if self._rows:
             self.dataChanged.emit(self.index(0, 0), self.index(len(self._rows) - 1,
                                                                len(COLUMNS) - 1))
@@ -254,9 +277,21 @@ class PlanTableModel(QAbstractTableModel):
         return None
 
     def data(self, index, role=ROLE.DisplayRole):
-        if not index.isValid():
+        role = int(role)
+        if role not in _ANSWERED_ROLES or not index.isValid():
             return None
         row, column = index.row(), index.column()
+        if role not in _CACHED_ROLES:
+            return self._value(row, column, role)
+        key = (row, column, role)
+        try:
+            return self._cache[key]
+        except KeyError:
+            value = self._cache[key] = self._value(row, column, role)
+            return value
+
+    def _value(self, row: int, column: int, role: int):
+        """One role of one cell (the uncached work behind :meth:`data`)."""
         col = COLUMNS[column]
         if role == ROLE.DisplayRole:
             return self.display_text(row, column)
@@ -341,13 +376,7 @@ class PlanTableModel(QAbstractTableModel):
     def flags(self, index):
         if not index.isValid():
             return Qt.ItemFlag.NoItemFlags
-        base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
-        col = COLUMNS[index.column()]
-        if col.computed:
-            return base
-        if col.editor == CHECK:
-            return base | Qt.ItemFlag.ItemIsUserCheckable
-        return base | Qt.ItemFlag.ItemIsEditable
+        return _FLAGS[index.column()]
 
     # -- editing ------------------------------------------------------------------------
 
