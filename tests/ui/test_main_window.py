@@ -274,3 +274,10 @@ def _contrast(first, second) -> float:
 
     light, dark = sorted((luminance(first), luminance(second)), reverse=True)
     return (light + 0.05) / (dark + 0.05)
+
+
+def test_summary_notes_list_the_plans_remarks(make_window):
+    window = make_window()
+    notes = window.document.result.notes
+    assert notes and window.summary.notes.text().startswith(f"{len(notes)} note")
+    assert all(note in window.summary.notes.toolTip() for note in notes)

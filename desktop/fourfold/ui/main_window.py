@@ -53,6 +53,7 @@ QLineEdit#planTitle {{ font-size: {title}pt; font-weight: 600; border: none;
 QLineEdit#planDescription {{ color: {muted}; border: none; background: transparent; }}
 QFrame#summaryBar {{ background: {summary}; border-radius: 6px; }}
 QLabel#summaryItem {{ font-size: {summary_pt}pt; }}
+QLabel#summaryNotes {{ color: {muted}; }}
 """
 HEADER_STYLE = """
 QHeaderView::section {{ padding: 2px 6px; border: none; border-right: 1px solid {mid};
@@ -223,6 +224,11 @@ class MainWindow(QMainWindow):
         self.plan_menu.addActions([self.add_action, self.duplicate_action, self.delete_action])
         self.plan_menu.addSeparator()
         self.plan_menu.addActions([self.up_action, self.down_action])
+        self.table.setContextMenuPolicy(Qt.ContextMenuPolicy.ActionsContextMenu)
+        separator = QAction(self.table)
+        separator.setSeparator(True)
+        self.table.addActions([separator, self.add_action, self.duplicate_action,
+                               self.delete_action, self.up_action, self.down_action])
         self.plan_menu.addSeparator()
         self.history_action = self._action(
             "Import &history…", self.import_history, "Ctrl+Shift+H",

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import html
 import math
 
 from PySide6.QtCore import Qt
@@ -51,6 +52,9 @@ class SummaryBar(QFrame):
             label.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Preferred)
             layout.addWidget(label)
         layout.addStretch(1)
+        self.notes = QLabel()
+        self.notes.setObjectName("summaryNotes")
+        layout.addWidget(self.notes)
         document.computed.connect(self.refresh)
         self.refresh()
 
@@ -66,6 +70,7 @@ class SummaryBar(QFrame):
             self.duration.setText(f"Cannot compute the plan: {self.document.compute_error}")
             self.units.setText("")
             self.binding.setText("")
+            self.notes.setText("")
             return
         settings = self.document.plan.settings
         duration = duration_text(result.duration_days)
@@ -86,4 +91,8 @@ class SummaryBar(QFrame):
             self.binding.setText("Fixed runtime: rows report what it allows")
         else:
             self.binding.setText("No binding metric (no primary or guardrail row sized)")
+        count = len(result.notes)
+        self.notes.setText(f"{count} note{'s' if count != 1 else ''} (hover)" if count else "")
+        items = "".join(f"<li>{html.escape(note)}</li>" for note in result.notes)
+        self.notes.setToolTip(f"<ul>{items}</ul>" if count else "")
         self.setToolTip("\n".join(result.notes))
