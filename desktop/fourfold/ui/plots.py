@@ -113,11 +113,11 @@ class Style:
 
     ``pen_scale`` multiplies line widths, for painting onto devices with more dots per inch
     than a screen (lines are drawn in device pixels; markers are scaled by the export mode of
-    :func:`paint_tradeoffs`). ``pixel_dpi``, when set,
-    gives fonts a pixel size for that many pixels per inch instead of a point size: the axes
-    cache their drawing as a ``QPicture``, whose point-sized text grows with the resolution of
-    the device it is replayed on (a 1200 dpi PDF page), while pixel-sized text follows the
-    painter's transform like everything else.
+    :func:`paint_tradeoffs`). ``pixel_dpi``, when set, gives fonts a pixel size for that many
+    pixels per inch instead of a point size: text that the axes draw straight onto a page's
+    painter would otherwise be sized for the page's resolution (1200 dpi for a PDF) and then
+    scaled once more by the painter's transform, while pixel-sized text follows the transform
+    like every other part of the figure.
     """
 
     background: QColor
@@ -734,23 +734,27 @@ def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *
         grid.set_tradeoffs(tradeoffs(plan, index, result))
         show_simulation(grid, plan, result, index)
         grid.handle.hide()
+        # Posted events only (layout requests): no timers or input run in the middle of an
+        # export.
+        QApplication.sendPostedEvents()
         grid.settle()
-        QApplication.processEvents()
         for plot in grid.plots.values():
             plot.legend.updateSize()
         for item in grid.scene().items():
             if isinstance(item, pg.ScatterPlotItem):  # markers are sized in device pixels
                 item.setExportMode(True, {"antialias": True, "resolutionScale": scale})
-        QApplication.processEvents()
+        QApplication.sendPostedEvents()
         painter.save()
-        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-        painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
-        grid.scene().render(painter, rect, QRectF(0, 0, width, height))
-        painter.restore()
+        try:
+            painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+            painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+            grid.scene().render(painter, rect, QRectF(0, 0, width, height))
+        finally:
+            painter.restore()
     finally:
         grid.close()
         grid.deleteLater()
-        QApplication.processEvents()
+        QApplication.sendPostedEvents(grid, QEvent.Type.DeferredDelete)
 
 
 def _paper() -> QPalette:
