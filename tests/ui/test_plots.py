@@ -204,3 +204,33 @@ def test_effect_range_holds_while_dragging_and_recentres_after(qtbot, panel):
     panel.grid.handle.moving = False
     show(qtbot, panel, near_top, 0)
     assert panel.tradeoffs.effect_span == pytest.approx((0.4 * high, 2.5 * high))
+
+
+def test_pdf_figures_are_vector_text_in_points(qapp, tmp_path):
+    # QPdfWriter at 1200 dpi: logical and device resolution differ from the screen's, the trap
+    # where point-sized text comes out 12.5 times too large. Read back with pypdf (test-only).
+    import math
+    import unicodedata
+
+    import pypdf
+    from PySide6.QtGui import QPageSize, QPdfWriter
+
+    path = tmp_path / "figures.pdf"
+    writer = QPdfWriter(str(path))
+    writer.setPageSize(QPageSize(QPageSize.PageSizeId.A4))
+    writer.setResolution(1200)
+    painter = QPainter(writer)
+    paint_tradeoffs(painter, QRectF(0, 0, 7 * 1200, 5 * 1200), make_plan(), None, 0)
+    painter.end()
+    sizes = {}
+
+    def visit(text, cm, tm, font, size):
+        if text.strip():
+            scale = math.hypot(tm[0], tm[1]) * math.hypot(cm[0], cm[1])
+            words = " ".join(unicodedata.normalize("NFKC", text).split())  # "ﬀ" → "ff"
+            sizes.setdefault(words, size * scale)
+
+    pypdf.PdfReader(str(path)).pages[0].extract_text(visitor_text=visit)
+    assert sizes["Sample size against effect"] == pytest.approx(10.5, abs=0.5)
+    assert sizes["What each week can detect"] == pytest.approx(10.5, abs=0.5)
+    assert sizes["80"] == pytest.approx(9.0, abs=0.5)  # a tick of the power axis
