@@ -33,7 +33,7 @@ LABEL_POINTS = 9.5
 TITLE_POINTS = 10.5
 MAX_MARK_LABELS = 12
 DRAG_INTERVAL_MS = 40
-SLIDER_STEPS = 400
+SLIDER_STEPS = 200
 SCREEN_DPI = 96.0
 WIDEST_TICK = "−00.0k"
 
@@ -489,6 +489,20 @@ class FigureGrid(pg.GraphicsLayoutWidget):
                 self.handle.setValue(x)
 
 
+def slider_step(low: float, high: float) -> float:
+    """A round effect step (1, 2 or 5 × 10ᵏ) that cuts ``[low, high]`` into about 200 steps,
+    so that the keyboard moves the effect through round values.
+
+    Examples
+    --------
+    >>> slider_step(0.02, 0.125), slider_step(-0.03, 0.012)
+    (0.001, 0.0005)
+    """
+    raw = (high - low) / SLIDER_STEPS
+    power = 10.0 ** math.floor(math.log10(raw))
+    return next(m * power for m in (1, 2, 5, 10) if m * power >= raw * (1 - 1e-9))
+
+
 def _near_edge(data: Tradeoffs) -> bool:
     """Whether the effect sits in the outer 4 % of the effect figure's range."""
     low, high = data.effect_span
@@ -514,9 +528,9 @@ class PlotPanel(QWidget):
         self._text_scale = 1.0
         self.grid = FigureGrid(self)
         self.slider = QSlider(Qt.Orientation.Horizontal, self)
-        self.slider.setRange(0, SLIDER_STEPS)
         self.slider.setSingleStep(1)
-        self.slider.setPageStep(SLIDER_STEPS // 20)
+        self.slider.setPageStep(10)
+        self._step = 1.0
         self.slider.setAccessibleName("Effect of the selected row")
         self.slider_label = QLabel("Effect", self)
         self.slider_label.setBuddy(self.slider)
@@ -623,9 +637,10 @@ class PlotPanel(QWidget):
             return
         effect = data.effect.point[0] / data.effect_scale
         low, high = data.effect_span
-        position = round((effect - low) / (high - low) * SLIDER_STEPS)
+        self._step = step = slider_step(low, high)
         self.slider.blockSignals(True)
-        self.slider.setValue(min(max(position, 0), SLIDER_STEPS))
+        self.slider.setRange(math.ceil(low / step - 1e-9), math.floor(high / step + 1e-9))
+        self.slider.setValue(round(effect / step))
         self.slider.blockSignals(False)
         self.slider_value.setText(self._effect_text(effect, data))
 
@@ -638,8 +653,7 @@ class PlotPanel(QWidget):
         data = self.grid.shown
         if data is None:
             return
-        low, high = data.effect_span
-        effect = low + (high - low) * position / SLIDER_STEPS
+        effect = round(position * self._step, 12)
         self.slider_value.setText(self._effect_text(effect, data))
         self._queue(effect)
         if not self.slider.isSliderDown():
