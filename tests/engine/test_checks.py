@@ -152,19 +152,29 @@ def test_results_are_float_arrays_zero_d_for_scalars():
     assert engine.power("rate", 0.5, 0.05, [100.0, 1000.0]).shape == (2,)
 
 
-def test_no_exception_escapes_for_any_finite_input_on_the_array_path():
+EXTREMES = np.array([0.0, 1e-300, -1e-300, 1e-12, 1e-8, 0.01, 0.05, 0.5, 0.8, 0.999999, 1.0,
+                     2.0, 1e6, 1e300, -1e300, -1.0, -0.5])
+
+
+@pytest.mark.filterwarnings("error")
+def test_no_exception_or_warning_escapes_for_any_finite_input_on_the_array_path():
     rng = np.random.default_rng(7)
     size = 400
-    kw = dict(alpha=rng.uniform(-0.2, 1.2, size), power=rng.uniform(-0.2, 1.2, size),
-              ratio=rng.uniform(-0.5, 4.0, size), margin=rng.normal(0, 0.05, size))
-    baseline = rng.uniform(-0.5, 1.5, size)
-    effect = rng.normal(0, 0.3, size)
-    n = 10 ** rng.uniform(-1, 7, size)
+
+    def draw(low, high):
+        plain = rng.uniform(low, high, size)
+        return np.where(rng.random(size) < 0.3, rng.choice(EXTREMES, size), plain)
+
+    kw = dict(alpha=draw(-0.2, 1.2), power=draw(-0.2, 1.2), ratio=draw(-0.5, 4.0),
+              margin=draw(-0.1, 0.1), relative=rng.random(size) < 0.3)
+    baseline = draw(-0.5, 1.5)
+    effect = draw(-0.5, 0.5)
+    n = np.where(rng.random(size) < 0.3, rng.choice(EXTREMES, size),
+                 10 ** rng.uniform(-1, 7, size))
     for kind in engine.KINDS:
         for method in engine.METHODS[kind]:
             for alternative in engine.ALTERNATIVES:
-                common = dict(kw, sd=rng.uniform(-1, 5, size), method=method,
-                              alternative=alternative)
+                common = dict(kw, sd=draw(-1, 5), method=method, alternative=alternative)
                 out = [
                     engine.sample_size(kind, baseline, effect, **common),
                     engine.power(kind, baseline, effect, n, **{k: v for k, v in common.items()

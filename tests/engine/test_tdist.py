@@ -18,18 +18,19 @@ MPMATH_VERSION = mp.__version__
 def _nct_sf_mpmath(df, nc, t):
     with mp.workdps(30):
         df, nc, t = mp.mpf(df), mp.mpf(nc), mp.mpf(t)
-        s = mp.sqrt(2 * df)
         log_norm = -(df / 2) * mp.log(2) - mp.loggamma(df / 2)
 
-        def integrand(w):
-            v = df + s * w
+        def integrand(v):
             if v <= 0:
                 return mp.mpf(0)
-            density = mp.exp(log_norm + (df / 2 - 1) * mp.log(v) - v / 2) * s
+            density = mp.exp(log_norm + (df / 2 - 1) * mp.log(v) - v / 2)
             return density * mp.ncdf(nc - t * mp.sqrt(v / df))
 
-        lo = -df / s
-        points = [lo, *(w for w in (-40, -20, -10, -5, 0, 5, 10, 20, 40) if w > lo), mp.inf]
+        # break points: the bulk of χ²(ν) and the step of Φ(δ − t·√(v/ν)) in v
+        spread = mp.sqrt(2 * df)
+        bulk = [df + spread * w for w in (-40, -20, -10, -5, 0, 5, 10, 20, 40)]
+        step = [df * ((nc - k) / t) ** 2 for k in range(-12, 13) if t != 0 and (nc - k) / t > 0]
+        points = sorted({mp.mpf(0), *(v for v in bulk + step if v > 0)}) + [mp.inf]
         return float(mp.quad(integrand, points))
 
 
@@ -44,6 +45,10 @@ def _nct_sf_mpmath(df, nc, t):
     (100_000.0, 2.8, 1.96),
     (1198.0, -6.53, 5.4),   # df 1198, tiny tail of a strict α
     (30.0, 2.0, 1.7),
+    (30.0, 2000.0, 1900.0),  # huge noncentrality: nctdtr is slow or nan from about 1e6
+    (3.0, 5000.0, 3000.0),
+    (100.0, -1500.0, -1400.0),
+    (2.0, 1e8, 1e8),        # nctdtr does not return here
 ])
 def test_nct_tail_matches_high_precision_quadrature(df, nc, t):
     ref = _nct_sf_mpmath(df, nc, t)

@@ -47,12 +47,6 @@ def critical(alpha, alternative, exact_t, df):
     return _normal.upper_quantile(p)
 
 
-def alpha_from_critical(u, alternative, exact_t, df):
-    """Inverse of :func:`critical`: the α whose critical value is u."""
-    tail = tdist.t_sf(df, u) if exact_t else _normal.sf(u)
-    return 2.0 * tail if alternative == "two-sided" else tail
-
-
 def power_of(distance, s0, s1, cc, n, u, alternative, exact_t, ratio):
     """Power at control-arm size ``n`` for critical value ``u``; see the module docstring."""
     x = np.sqrt(n)

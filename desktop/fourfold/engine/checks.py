@@ -130,8 +130,10 @@ def prepare(
 
     with np.errstate(all="ignore"):
         reasons = _check(solve, kind, method, alternative, needs, flat, rel, sd is not None)
-    b = flat["baseline"]
-    scale = np.where(rel, b, 1.0)
+        b = flat["baseline"]
+        scale = np.where(rel, b, 1.0)
+        effect_abs = flat["effect"] * scale
+        margin_abs = flat["margin"] * scale
     return Prepared(
         solve=solve,
         kind=kind,
@@ -140,13 +142,13 @@ def prepare(
         shape=shape,
         scalar=scalar,
         baseline=b,
-        effect=flat["effect"] * scale,
+        effect=effect_abs,
         n=flat["n"],
         sd=flat.get("sd"),
         alpha=flat["alpha"],
         power=flat["power"],
         ratio=flat["ratio"],
-        margin=flat["margin"] * scale,
+        margin=margin_abs,
         relative=rel,
         reasons=reasons,
     )
@@ -176,6 +178,9 @@ def _check(solve, kind, method, alternative, needs, flat, rel, has_sd):
     scale = np.where(rel, b, 1.0)
     eff = flat["effect"] * scale
     mar = flat["margin"] * scale
+    if "effect" in needs:
+        checks.append((~np.isfinite(eff), "effect × baseline must be a finite number"))
+    checks.append((~np.isfinite(mar), "margin × baseline must be a finite number"))
     sdv = flat.get("sd")
     checks.extend(
         KIND_MODULES[kind].domain(b, eff if "effect" in needs else None, mar, sdv)

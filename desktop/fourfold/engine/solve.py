@@ -37,7 +37,6 @@ import numpy as np
 
 from . import _normal, roots
 from ._power import (
-    alpha_from_critical,
     critical,
     degrees_of_freedom,
     limit_power_and_slope,
@@ -69,7 +68,17 @@ _REASONS = {
         roots.FAILED: "no alpha could be found for these inputs",
     },
 }
+_NO_FINITE = "no finite result for these inputs"
 _T_TOO_SMALL = "the effect is so large that the t method would need fewer than 3 units in all"
+
+
+def _run(solver, p):
+    with np.errstate(all="ignore"):
+        values, reasons = solver(p)
+    lost = ~np.isfinite(values) & (reasons == "")
+    reasons[lost] = _NO_FINITE
+    values[lost] = np.nan
+    return values, reasons
 
 
 def _finish(p, values, reasons):
@@ -113,8 +122,7 @@ def _sample_size(p):
     main = np.abs(d) if p.alternative == "two-sided" else _TAIL_SIGN[p.alternative] * d
     u = critical(alpha, p.alternative, False, None)
     k = u * s0 + _normal.quantile(target) * s1
-    with np.errstate(invalid="ignore", divide="ignore"):
-        x0 = (k + np.sqrt(k * k + 4.0 * main * cc)) / (2.0 * main)
+    x0 = (k + np.sqrt(k * k + 4.0 * main * cc)) / (2.0 * main)
     n0 = np.where(x0 > 0, x0 * x0, 1.0)
     if exact_t:
         n0 = n0 + u * u / (2.0 * (1.0 + ratio))
@@ -128,8 +136,7 @@ def _sample_size(p):
         level, slope = limit_power_and_slope(
             d, s0, s1, cc, np.exp(y), u, p.alternative, exact_t, ratio
         )
-        with np.errstate(invalid="ignore", divide="ignore"):
-            y_new = y - (level - target) / slope
+        y_new = y - (level - target) / slope
         y = np.where(np.isfinite(y_new), np.clip(y_new, np.log(n_min), np.log(_N_MAX)), y)
 
     def f(y, j):
@@ -194,7 +201,6 @@ def _significance_level(p):
     if i.size == 0:
         return values, reasons
     two = p.alternative == "two-sided"
-    exact_t = p.method == "t"
     d, s0, s1, cc = _moments(p, i, p.effect[i])
     main = np.abs(d) if two else _TAIL_SIGN[p.alternative] * d
     x = np.sqrt(p.n[i])
@@ -203,7 +209,6 @@ def _significance_level(p):
     y_min = np.full(i.size, np.log(_ALPHA_MIN))
     y0 = np.clip(np.log(np.maximum(_normal.sf(u0), _ALPHA_MIN)), y_min, y_max)
     target = p.power[i]
-    df_all = degrees_of_freedom(p.n[i], p.ratio[i]) if exact_t else None
 
     def alpha_of(y, j):
         tail = np.exp(y)
@@ -215,10 +220,6 @@ def _significance_level(p):
 
     y, status = roots.find_root(f, y0, 1e-3, y_min, y_max)
     values[i] = alpha_of(y, None)
-    if exact_t:
-        values[i] = alpha_from_critical(
-            critical(values[i], p.alternative, True, df_all), p.alternative, True, df_all
-        )
     _record(p, reasons, i, status, "significance_level")
     return values, reasons
 
@@ -274,7 +275,7 @@ def sample_size(kind, baseline, effect, *, sd=None, alpha=0.05, power=0.8,
     p = prepare("sample_size", kind, baseline, effect=effect, sd=sd, alpha=alpha, power=power,
                 alternative=alternative, ratio=ratio, relative=relative, margin=margin,
                 method=method)
-    return _finish(p, *_sample_size(p))
+    return _finish(p, *_run(_sample_size, p))
 
 
 def power(kind, baseline, effect, n, *, sd=None, alpha=0.05, alternative="two-sided",
@@ -301,7 +302,7 @@ def power(kind, baseline, effect, n, *, sd=None, alpha=0.05, alternative="two-si
     p = prepare("power", kind, baseline, effect=effect, n=n, sd=sd, alpha=alpha,
                 alternative=alternative, ratio=ratio, relative=relative, margin=margin,
                 method=method)
-    return _finish(p, *_power(p))
+    return _finish(p, *_run(_power, p))
 
 
 def detectable_effect(kind, baseline, n, *, sd=None, alpha=0.05, power=0.8,
@@ -329,7 +330,7 @@ def detectable_effect(kind, baseline, n, *, sd=None, alpha=0.05, power=0.8,
     p = prepare("detectable_effect", kind, baseline, n=n, sd=sd, alpha=alpha, power=power,
                 alternative=alternative, ratio=ratio, relative=relative, margin=margin,
                 method=method)
-    return _finish(p, *_detectable_effect(p))
+    return _finish(p, *_run(_detectable_effect, p))
 
 
 def significance_level(kind, baseline, effect, n, *, sd=None, power=0.8,
@@ -356,7 +357,7 @@ def significance_level(kind, baseline, effect, n, *, sd=None, power=0.8,
     p = prepare("significance_level", kind, baseline, effect=effect, n=n, sd=sd, power=power,
                 alternative=alternative, ratio=ratio, relative=relative, margin=margin,
                 method=method)
-    return _finish(p, *_significance_level(p))
+    return _finish(p, *_run(_significance_level, p))
 
 
 _SOLVERS = {
@@ -399,6 +400,5 @@ def problems(solve, kind, baseline, *, effect=None, n=None, sd=None, alpha=0.05,
         shapes = [np.shape(v) for v in (baseline, effect, n, sd, alpha, power, ratio, margin)
                   if v is not None]
         return np.full(np.broadcast_shapes(*shapes), str(error), dtype=object)
-    with np.errstate(all="ignore"):
-        _, reasons = _SOLVERS[solve](p)
+    _, reasons = _run(_SOLVERS[solve], p)
     return reasons.reshape(p.shape)

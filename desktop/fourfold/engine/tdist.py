@@ -2,15 +2,19 @@
 
 ``scipy.special.nctdtr`` silently returns nan for some large-df, large-noncentrality
 inputs (for instance df ≈ 2·10⁶, noncentrality 6.4, t = −2.9, the far tail of a two-sided
-test), and loses digits at large df.  The tail here is computed in three layers:
+test), and loses digits at large df.  The tail here is computed in four layers:
 
-1. df ≥ ``NORMAL_LIMIT_DF`` (10⁴): the normal limit of T = (Z + δ)/S, S = √(χ²_ν/ν), with
-   the exact mean and variance of S and the Edgeworth term for its skewness:
+1. df ≥ ``NORMAL_LIMIT_DF`` (10⁴) and |t| ≤ 0.1·√df: the normal limit of T = (Z + δ)/S,
+   S = √(χ²_ν/ν), with the exact mean and variance of S and the Edgeworth term for its
+   skewness:
    P(T > t) = Φ(−w) + γ/6·(w² − 1)·φ(w), w = (t·E[S] − δ)/√(1 + t²·Var S),
    γ = −t³κ₃(S)/(1 + t²·Var S)^{3/2}.  Its error falls as 1/ν³: below 10⁻¹³ at ν = 10⁴
    for |t| ≤ 5.5, |δ| ≤ 8 (checked against 30-digit quadrature in the tests);
-2. otherwise ``nctdtr`` on the side that keeps small tails precise, then its complement;
-3. where both are non-finite, Gauss–Legendre quadrature of E[Φ(δ − t·S)] over the
+2. |δ| > ``LARGE_NONCENTRALITY`` (10³), where ``nctdtr`` turns slow, returns nan or never
+   returns (δ ≈ 10⁸): 64-point Gauss–Hermite over Z of the χ² tail,
+   P(T > t) = E_Z[P(t·S < Z + δ)], smooth in Z there;
+3. otherwise ``nctdtr`` on the side that keeps small tails precise, then its complement;
+4. where both are non-finite, Gauss–Legendre quadrature of E[Φ(δ − t·S)] over the
    quantiles of χ²_ν (absolute error below 10⁻⁴, only reached at tiny ν and far tails).
 
 Central t quantiles use the Cornish–Fisher expansion (Abramowitz & Stegun 26.7.5, four
@@ -38,6 +42,10 @@ NORMAL_LIMIT_DF = 1.0e4
 _CORNISH_FISHER_Z = 7.0
 _INV_SQRT_2PI = 1.0 / np.sqrt(2.0 * np.pi)
 
+LARGE_NONCENTRALITY = 1.0e3
+
+_HERMITE_NODES, _HERMITE_WEIGHTS = np.polynomial.hermite_e.hermegauss(64)
+_HERMITE_WEIGHTS = _HERMITE_WEIGHTS / _HERMITE_WEIGHTS.sum()
 _NODES, _WEIGHTS = np.polynomial.legendre.leggauss(96)
 _NODES = 0.5 * (_NODES + 1.0)
 _WEIGHTS = 0.5 * _WEIGHTS
@@ -60,6 +68,16 @@ def _quadrature_sf(df, nc, t):
     v = special.chdtri(df[:, None], _NODES[None, :])
     s = np.sqrt(v / df[:, None])
     return (special.ndtr(nc[:, None] - t[:, None] * s) * _WEIGHTS).sum(axis=1)
+
+
+def _large_nc_sf(df, nc, t):
+    m = nc[:, None] + _HERMITE_NODES[None, :]
+    ratio = m / np.where(t == 0, 1.0, t)[:, None]
+    q = df[:, None] * ratio * ratio
+    above = np.where(m > 0, special.chdtr(df[:, None], q), 0.0)
+    below = np.where(m >= 0, 1.0, special.chdtrc(df[:, None], q))
+    value = np.where(t[:, None] > 0, above, np.where(t[:, None] < 0, below, 1.0 * (m > 0)))
+    return (value * _HERMITE_WEIGHTS).sum(axis=1)
 
 
 def nct_sf(df, nc, t):
@@ -92,11 +110,14 @@ def nct_sf(df, nc, t):
     shape = df.shape
     df, nc, t = df.ravel(), nc.ravel(), t.ravel()
     out = np.empty(df.shape)
-    big = df >= NORMAL_LIMIT_DF
-    out[big] = _limit_sf(df[big], nc[big], t[big])
-    small = ~big
-    if small.any():
-        d, c, x = df[small], nc[small], t[small]
+    limit = (df >= NORMAL_LIMIT_DF) & (np.abs(t) <= 0.1 * np.sqrt(df))
+    out[limit] = _limit_sf(df[limit], nc[limit], t[limit])
+    huge = ~limit & (np.abs(nc) > LARGE_NONCENTRALITY)
+    if huge.any():
+        out[huge] = _large_nc_sf(df[huge], nc[huge], t[huge])
+    rest = ~limit & ~huge
+    if rest.any():
+        d, c, x = df[rest], nc[rest], t[rest]
         r = special.nctdtr(d, -c, -x)
         bad = ~np.isfinite(r)
         if bad.any():
@@ -105,7 +126,7 @@ def nct_sf(df, nc, t):
             usable = bad & np.isfinite(d) & np.isfinite(c) & np.isfinite(x) & (d > 0)
             if usable.any():
                 r[usable] = _quadrature_sf(d[usable], c[usable], x[usable])
-        out[small] = r
+        out[rest] = r
     return np.clip(out, 0.0, 1.0).reshape(shape)
 
 
