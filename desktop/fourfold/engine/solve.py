@@ -105,7 +105,7 @@ def _power_at(p, i, effect, n, alpha):
     return power_of(d, s0, s1, cc, n, u, p.alternative, exact_t, p.ratio[i])
 
 
-def _record(p, reasons, i, status, solve):
+def _record(reasons, i, status, solve):
     for code, text in _REASONS[solve].items():
         reasons[i[status == code]] = text
 
@@ -148,7 +148,7 @@ def _sample_size(p):
         ftol=_FTOL_T if exact_t else _FTOL_Z,
     )
     values[i] = np.exp(y)
-    _record(p, reasons, i, status, "sample_size")
+    _record(reasons, i, status, "sample_size")
     if exact_t:
         reasons[i[status == roots.BELOW]] = _T_TOO_SMALL
     return values, reasons
@@ -190,7 +190,7 @@ def _detectable_effect(p):
     effect = margin + sign * np.exp(y)
     scale = np.where(p.relative[i], p.baseline[i], 1.0)
     values[i] = effect / scale
-    _record(p, reasons, i, status, "detectable_effect")
+    _record(reasons, i, status, "detectable_effect")
     return values, reasons
 
 
@@ -210,17 +210,17 @@ def _significance_level(p):
     y0 = np.clip(np.log(np.maximum(_normal.sf(u0), _ALPHA_MIN)), y_min, y_max)
     target = p.power[i]
 
-    def alpha_of(y, j):
+    def alpha_of(y):
         tail = np.exp(y)
         return 2.0 * tail if two else tail
 
     def f(y, j):
         sub = i[j]
-        return _power_at(p, sub, p.effect[sub], p.n[sub], alpha_of(y, j)) - target[j]
+        return _power_at(p, sub, p.effect[sub], p.n[sub], alpha_of(y)) - target[j]
 
     y, status = roots.find_root(f, y0, 1e-3, y_min, y_max)
-    values[i] = alpha_of(y, None)
-    _record(p, reasons, i, status, "significance_level")
+    values[i] = alpha_of(y)
+    _record(reasons, i, status, "significance_level")
     return values, reasons
 
 
@@ -238,7 +238,8 @@ def sample_size(kind, baseline, effect, *, sd=None, alpha=0.05, power=0.8,
         ``relative``).
     sd : array_like, optional
         Per-unit standard deviation: required for a mean; for a rate it overrides the
-        Poisson variance (over-dispersion); ignored for a proportion.
+        Poisson variance (over-dispersion: sd² in control, sd²·(baseline + effect)/baseline
+        in treatment); ignored for a proportion.
     alpha, power : array_like
         Significance level and power, both in (0, 1), power > alpha.
     alternative : {"two-sided", "greater", "less"}
