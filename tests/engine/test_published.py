@@ -104,3 +104,26 @@ def test_quillmoss_checkout_conversion_is_in_the_right_range():
     n = engine.sample_size("proportion", 0.031, 0.05, relative=True)
     rule = 16 * 0.031 * 0.969 / (0.031 * 0.05) ** 2
     assert n == pytest.approx(rule, rel=0.05)
+
+
+def test_non_inferiority_proportion_follows_farrington_manning_sample_size():
+    # Farrington & Manning (1990), sample size for H0: p_t − p_c = margin (one-sided):
+    # n = (z_α·s₀ + z_β·s₁)²/(Δ − margin)², s₀ at the restricted maximum-likelihood pair.
+    # The restricted pair is found here by scipy's bounded search, not the closed form.
+    from scipy.optimize import minimize_scalar
+
+    pc, pt, margin, r, alpha, power = 0.114, 0.114, -0.01, 1.0, 0.025, 0.9
+
+    def nll(q):
+        qt = q + margin
+        return -(pc * np.log(q) + (1 - pc) * np.log1p(-q)
+                 + r * (pt * np.log(qt) + (1 - pt) * np.log1p(-qt)))
+
+    q = minimize_scalar(nll, bounds=(-margin + 1e-9, 1 - 1e-9), method="bounded",
+                        options={"xatol": 1e-13}).x
+    s0 = np.sqrt(q * (1 - q) + (q + margin) * (1 - q - margin) / r)
+    s1 = np.sqrt(pc * (1 - pc) + pt * (1 - pt) / r)
+    expected = (stats.norm.isf(alpha) * s0 + stats.norm.ppf(power) * s1) ** 2 / margin**2
+    got = engine.sample_size("proportion", pc, pt - pc, alpha=alpha, power=power, ratio=r,
+                             margin=margin, alternative="greater", method="pooled")
+    assert got == pytest.approx(expected, rel=1e-7)

@@ -41,7 +41,7 @@ def _mean_grid(effects, ratios, alphas, powers):
 
 Z_GRID = _mean_grid((0.01, 0.05, 0.2, 0.5, 1.2), (0.5, 1.0, 2.5), (0.01, 0.05, 0.1),
                     (0.6, 0.8, 0.95))
-T_GRID = _mean_grid((0.05, 0.2, 0.5, 1.2), (0.5, 1.0, 2.5), (0.01, 0.05), (0.8, 0.95))
+T_GRID = _mean_grid((0.01, 0.05, 0.2, 0.5, 1.2), (0.5, 1.0, 2.5), (0.01, 0.05), (0.8, 0.95))
 
 
 @pytest.mark.parametrize("method,reference,grid", [
