@@ -67,11 +67,11 @@ def _as_float(name, value):
 
 
 def _first_reasons(size, checks):
-    reasons = np.full(size, "", dtype=object)
-    for bad, message in checks:
-        bad = np.broadcast_to(bad, (size,)) & (reasons == "")
-        reasons[bad] = message
-    return reasons
+    code = np.zeros(size, dtype=np.intp)
+    for number, (bad, _) in enumerate(checks, start=1):
+        code[np.broadcast_to(bad, (size,)) & (code == 0)] = number
+    messages = np.array(["", *(message for _, message in checks)], dtype=object)
+    return messages[code]
 
 
 def prepare(

@@ -56,7 +56,20 @@ def _bracket(func, y0, f0, y1, y_min, y_max, grow, max_steps):
     return lo, hi, flo, fhi
 
 
-def find_root(func, y0, step, y_min, y_max, *, slope=None, grow=4.0, max_steps=60,
+def _model_step(model, y0, f0, toward, fallback):
+    with np.errstate(all="ignore"):
+        value, _ = model(y0)
+        offset = f0 - value
+        y = y0.copy()
+        for _ in range(3):
+            value, slope = model(y)
+            y = y - (value + offset) / slope
+        y = y + 1e-3 * (y - y0) + toward * 1e-13 * (1.0 + np.abs(y0))
+    usable = np.isfinite(y) & (y != y0)
+    return np.where(usable, y, fallback)
+
+
+def find_root(func, y0, step, y_min, y_max, *, model=None, grow=4.0, max_steps=60,
               maxiter=100, ftol=1e-12, ytol=1e-14, verify=1e-9):
     """Root of an increasing ``func(y, idx)`` near ``y0`` within ``[y_min, y_max]``.
 
@@ -70,9 +83,11 @@ def find_root(func, y0, step, y_min, y_max, *, slope=None, grow=4.0, max_steps=6
         Half-width of the first bracket around ``y0``; it grows by ``grow`` per step.
     y_min, y_max : numpy.ndarray
         Finite limits of the search.
-    slope : numpy.ndarray, optional
-        Estimate of f'(y0); the second point is then a slightly lengthened Newton step, so
-        that the first two evaluations usually bracket the root tightly.
+    model : callable, optional
+        ``model(y)`` returns a cheap approximation of f and its derivative for all elements.
+        The second point is then the root of the model shifted by its error at ``y0``,
+        lengthened by 0.1 %, so that the first two evaluations usually bracket the root
+        tightly (and often hit it within ``ftol``).
 
     Returns
     -------
@@ -95,11 +110,8 @@ def find_root(func, y0, step, y_min, y_max, *, slope=None, grow=4.0, max_steps=6
     f0 = func(y0, idx_all)
     toward = np.where(f0 > 0, -1.0, 1.0)
     y1 = y0 + toward * step
-    if slope is not None:
-        with np.errstate(divide="ignore", invalid="ignore"):
-            newton = y0 - 1.001 * f0 / slope
-        usable = np.isfinite(newton) & (np.abs(newton - y0) > 0) & (slope > 0)
-        y1 = np.where(usable, newton + toward * 1e-13 * (1.0 + np.abs(y0)), y1)
+    if model is not None:
+        y1 = _model_step(model, y0, f0, toward, y1)
     y1 = np.clip(y1, y_min, y_max)
     y1 = np.where(y1 == y0, np.where(y0 > y_min, y_min, y_max), y1)
     lo, hi, flo, fhi = _bracket(func, y0, f0, y1, y_min, y_max, grow, max_steps)

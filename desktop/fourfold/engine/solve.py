@@ -35,7 +35,7 @@ Examples
 
 import numpy as np
 
-from . import _normal, roots
+from . import _normal, roots, tdist
 from ._power import (
     critical,
     degrees_of_freedom,
@@ -130,21 +130,29 @@ def _sample_size(p):
     else:
         n_min = np.full(i.size, _N_MIN_Z)
     y = np.log(np.clip(n0, n_min, _N_MAX))
-    if exact_t:
-        u = critical(alpha, p.alternative, True, degrees_of_freedom(n0, ratio))
+
+    def limit(y):
+        n = np.exp(y)
+        crit = tdist.cornish_fisher(degrees_of_freedom(n, ratio), u) if exact_t else u
+        return limit_power_and_slope(d, s0, s1, cc, n, crit, p.alternative, exact_t, ratio)
+
     for _ in range(3):
-        level, slope = limit_power_and_slope(
-            d, s0, s1, cc, np.exp(y), u, p.alternative, exact_t, ratio
-        )
+        level, slope = limit(y)
         y_new = y - (level - target) / slope
         y = np.where(np.isfinite(y_new), np.clip(y_new, np.log(n_min), np.log(_N_MAX)), y)
+    if exact_t:
+        h = 1e-6
+        slope = (limit(y + h)[0] - limit(y - h)[0]) / (2.0 * h)
+
+    def model(y):
+        return limit(y)[0] - target, slope
 
     def f(y, j):
         sub = i[j]
         return _power_at(p, sub, p.effect[sub], np.exp(y), p.alpha[sub]) - target[j]
 
     y, status = roots.find_root(
-        f, y, 1e-6, np.log(n_min), np.full(i.size, np.log(_N_MAX)), slope=slope,
+        f, y, 1e-6, np.log(n_min), np.full(i.size, np.log(_N_MAX)), model=model,
         ftol=_FTOL_T if exact_t else _FTOL_Z,
     )
     values[i] = np.exp(y)

@@ -135,24 +135,39 @@ def t_sf(df, t):
     return special.stdtr(df, np.negative(t))
 
 
-def t_upper_quantile(df, p):
-    """t with P(T > t) = p for the central t; precise for small p.
+def cornish_fisher(df, z):
+    """Upper t quantile from the normal one, z, by the Cornish–Fisher series.
+
+    Abramowitz & Stegun (1964) 26.7.5, four terms: accurate to 3·10⁻¹⁵ for ν ≥ 10⁴ and
+    |z| ≤ 7; a smooth approximation elsewhere.
 
     Examples
     --------
-    >>> round(float(t_upper_quantile(1.0e5, 0.025)), 6)
+    >>> round(float(cornish_fisher(1.0e5, 1.959964)), 6)
     1.959988
     """
-    df, p = np.broadcast_arrays(np.asarray(df, dtype=float), np.asarray(p, dtype=float))
-    x = -special.ndtri(p)
-    inv = 1.0 / df
+    inv = 1.0 / np.asarray(df, dtype=float)
+    x = np.asarray(z, dtype=float)
     x2 = x * x
     g1 = x * (x2 + 1.0) / 4.0
     g2 = x * (3.0 + x2 * (16.0 + 5.0 * x2)) / 96.0
     g3 = x * (-15.0 + x2 * (17.0 + x2 * (19.0 + 3.0 * x2))) / 384.0
     g4 = x * (-945.0 + x2 * (-1920.0 + x2 * (1482.0 + x2 * (776.0 + 79.0 * x2)))) / 92160.0
-    series = x + inv * (g1 + inv * (g2 + inv * (g3 + inv * g4)))
-    use = (df >= NORMAL_LIMIT_DF) & (np.abs(x) <= _CORNISH_FISHER_Z)
+    return x + inv * (g1 + inv * (g2 + inv * (g3 + inv * g4)))
+
+
+def t_upper_quantile(df, p):
+    """t with P(T > t) = p for the central t; precise for small p.
+
+    Examples
+    --------
+    >>> round(float(t_upper_quantile(10.0, 0.025)), 6)
+    2.228139
+    """
+    df, p = np.broadcast_arrays(np.asarray(df, dtype=float), np.asarray(p, dtype=float))
+    z = -special.ndtri(p)
+    series = cornish_fisher(df, z)
+    use = (df >= NORMAL_LIMIT_DF) & (np.abs(z) <= _CORNISH_FISHER_Z)
     if use.all():
         return series
     out = np.where(use, series, 0.0)
