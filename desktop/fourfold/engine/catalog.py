@@ -20,7 +20,7 @@ ALTERNATIVES = ("two-sided", "greater", "less")
 SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")
 
 
-def _choices(values):
+def quoted(values):
     return ", ".join(f"'{v}'" for v in values)
 
 
@@ -33,16 +33,16 @@ def resolve(kind, method, alternative):
         If ``kind``, ``method`` or ``alternative`` is not one of the allowed names.
     """
     if kind not in KINDS:
-        raise ValueError(f"kind must be one of {_choices(KINDS)}, not {kind!r}")
+        raise ValueError(f"kind must be one of {quoted(KINDS)}, not {kind!r}")
     allowed = METHODS[kind]
     if method is None:
         method = allowed[0]
     elif method not in allowed:
         raise ValueError(
-            f"method must be one of {_choices(allowed)} for a {kind}, not {method!r}"
+            f"method must be one of {quoted(allowed)} for a {kind}, not {method!r}"
         )
     if alternative not in ALTERNATIVES:
         raise ValueError(
-            f"alternative must be one of {_choices(ALTERNATIVES)}, not {alternative!r}"
+            f"alternative must be one of {quoted(ALTERNATIVES)}, not {alternative!r}"
         )
     return method, alternative

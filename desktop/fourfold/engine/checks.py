@@ -99,7 +99,7 @@ def prepare(
         solve needs that is missing; these are never per-element.
     """
     if solve not in catalog.SOLVES:
-        raise ValueError(f"solve must be one of {catalog._choices(catalog.SOLVES)}, not {solve!r}")
+        raise ValueError(f"solve must be one of {catalog.quoted(catalog.SOLVES)}, not {solve!r}")
     method, alternative = catalog.resolve(kind, method, alternative)
     given = {"effect": effect, "n": n, "alpha": alpha, "power": power}
     for name in _NEEDS[solve]:

@@ -138,6 +138,9 @@ def total_units(n_control, ratio, arms):
 def duration_days(total_units, daily_units, share=1.0, whole_weeks=False):
     """Days of traffic: ceil(total / (daily·share)), rounded up to whole weeks if asked.
 
+    A quotient within 10⁻¹² (relative) above a whole number counts as that number, so
+    floating-point dust never adds a day.
+
     Parameters
     ----------
     total_units : array_like
