@@ -21,6 +21,7 @@ SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")
 
 
 def quoted(values):
+    """The names as a quoted, comma-separated list for messages: 'a', 'b'."""
     return ", ".join(f"'{v}'" for v in values)
 
 
