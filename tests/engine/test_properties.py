@@ -137,3 +137,28 @@ def test_vectorised_call_equals_element_by_element():
     one_by_one = [float(engine.sample_size("proportion", b, e, ratio=r))
                   for b, e, r in zip(baseline, effect, ratio, strict=True)]
     np.testing.assert_allclose(together, one_by_one, rtol=1e-12)
+
+
+FINITE = st.floats(allow_nan=False, allow_infinity=False, width=64)
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.sampled_from(PAIRS), st.sampled_from(engine.ALTERNATIVES),
+       st.lists(st.tuples(*[FINITE] * 9, st.booleans()), min_size=2, max_size=6))
+def test_any_finite_array_input_gives_numbers_or_reasons_never_an_exception(pair, alternative,
+                                                                          rows):
+    kind, method = pair
+    b, e, n, sd, a, pw, r, m, _, rel = (np.array(c) for c in zip(*rows, strict=True))
+    kw = dict(sd=sd, alternative=alternative, ratio=r, margin=m, relative=rel, method=method)
+    calls = {
+        "sample_size": lambda: engine.sample_size(kind, b, e, alpha=a, power=pw, **kw),
+        "power": lambda: engine.power(kind, b, e, n, alpha=a, **kw),
+        "detectable_effect": lambda: engine.detectable_effect(kind, b, n, alpha=a, power=pw,
+                                                              **kw),
+        "significance_level": lambda: engine.significance_level(kind, b, e, n, power=pw, **kw),
+    }
+    for solve, call in calls.items():
+        values = call()
+        reasons = engine.problems(solve, kind, b, effect=e, n=n, alpha=a, power=pw, **kw)
+        assert np.array_equal(np.isnan(values), reasons != "")
+        assert np.all(np.isfinite(values) | np.isnan(values))
