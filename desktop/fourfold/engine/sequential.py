@@ -131,14 +131,12 @@ class SequentialDesign:
     drift: float
 
 
-def _illinois(
-    f: Callable[[float], float], a: float, b: float, fa: float, fb: float, xtol: float = 1e-12
-) -> float:
+def _illinois(f: Callable[[float], float], a: float, b: float, fa: float, fb: float) -> float:
     """Root of ``f`` in the bracket [a, b] (fa, fb of opposite signs) by the Illinois method."""
     if fa == 0.0:
         return a
     for _ in range(200):
-        if fb == 0.0 or abs(b - a) <= xtol * max(1.0, abs(b)):
+        if fb == 0.0 or abs(b - a) <= 1e-12 * max(1.0, abs(b)):
             return b
         c = b - fb * (b - a) / (fb - fa)
         fc = f(c)
