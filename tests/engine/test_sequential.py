@@ -195,6 +195,16 @@ def test_two_look_futility_against_bivariate_normal():
     assert power == pytest.approx(0.8, abs=1e-7)
 
 
+def test_close_looks_against_trivariate_normal():
+    # Three looks 0.01 apart near the end (the closest allowed): scipy's multivariate normal.
+    t = np.array([0.97, 0.98, 1.0])
+    d = design(3, spending="hsd", gamma=1.0, timing=t)
+    cov = np.sqrt(np.minimum.outer(t, t) / np.maximum.outer(t, t))
+    mvn = multivariate_normal(np.zeros(3), cov, maxpts=2_000_000, abseps=1e-10, releps=1e-10)
+    inside = mvn.cdf(d.upper, lower_limit=-d.upper)
+    assert 1 - inside == pytest.approx(0.05, abs=1e-6)
+
+
 @settings(max_examples=15, deadline=None)
 @given(
     st.lists(st.floats(0.05, 0.95), min_size=1, max_size=5, unique=True),
@@ -237,6 +247,7 @@ def test_results_are_read_only():
         ({"looks": 3, "timing": [0.0, 0.5, 1.0]}, "timing"),
         ({"looks": 3, "timing": [0.3, 0.6, 0.9]}, "timing"),
         ({"looks": 3, "timing": "soon"}, "timing"),
+        ({"looks": 3, "timing": [0.5, 0.505, 1.0]}, "timing"),
         ({"looks": 3, "gamma": 1.0}, "gamma"),
         ({"looks": 3, "spending": "hsd", "gamma": 41.0}, "gamma"),
         ({"looks": 3, "spending": "hsd", "gamma": "steep"}, "gamma"),

@@ -73,6 +73,8 @@ ALTERNATIVES = ("two-sided", "greater", "less")
 MAX_LOOKS = 20
 MAX_PEEKS = 100
 GAMMA_RANGE = (-40.0, 40.0)
+MIN_GAP = 0.01
+"""Smallest step between information fractions: closer looks are beyond the grid's accuracy."""
 DEFAULT_GAMMA = -4.0
 """γ of the Hwang–Shih–DeCani family when none is given (an O'Brien–Fleming-like shape)."""
 
@@ -326,6 +328,9 @@ def _fractions(timing: Sequence[float] | None, looks: int) -> np.ndarray:
         raise ValueError(f"timing must have one fraction per look ({looks}), got {t.size}")
     if not np.all(np.isfinite(t)) or t[0] <= 0.0 or np.any(np.diff(t) <= 0.0):
         raise ValueError("timing must increase strictly, with every fraction in (0, 1]")
+    if np.any(np.diff(t) < MIN_GAP - 1e-12):
+        raise ValueError(f"timing: successive looks must be at least {MIN_GAP:g} apart "
+                         "(a share of the maximum size)")
     if abs(t[-1] - 1.0) > 1e-9:
         raise ValueError(f"timing must end at 1 (the maximum size), got {t[-1]!r}")
     t[-1] = 1.0
@@ -377,8 +382,8 @@ def design(
         1983), ``"hsd"`` (Hwang, Shih & DeCani 1990, with ``gamma``), or the classic constant
         shapes ``"obrien-fleming"`` (C/√t_k) and ``"pocock"`` (C).
     timing : sequence of float, optional
-        Information fractions of the looks, strictly increasing in (0, 1] and ending at 1;
-        equally spaced by default.
+        Information fractions of the looks, strictly increasing in (0, 1], at least
+        :data:`MIN_GAP` apart and ending at 1; equally spaced by default.
     gamma : float, optional
         γ of the Hwang–Shih–DeCani family, from −40 to 40 (default −4); only with ``"hsd"``.
     futility : str, optional
