@@ -281,3 +281,16 @@ def test_summary_notes_list_the_plans_remarks(make_window):
     notes = window.document.result.notes
     assert notes and window.summary.notes.text().startswith(f"{len(notes)} note")
     assert all(note in window.summary.notes.toolTip() for note in notes)
+
+
+def test_removing_every_row_and_undoing_shows_a_row_again(make_window):
+    window = make_window()
+    window.table.selectAll()
+    window.delete_action.trigger()
+    window.document.recompute_now()
+    assert window.model.rowCount() == 0
+    assert "Binding" not in window.summary.texts()[2]
+    window.undo_action.trigger()
+    window.document.recompute_now()
+    assert window.model.rowCount() == 6
+    assert window.current_row() == 0

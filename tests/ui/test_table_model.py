@@ -224,3 +224,19 @@ def test_every_column_header_explains_itself(model):
     for column in range(model.columnCount()):
         tip = model.headerData(column, Qt.Orientation.Horizontal, Qt.ItemDataRole.ToolTipRole)
         assert len(tip) > 30
+
+
+def test_a_fixed_runtime_moves_the_highlight_to_the_detectable_effect(qtbot, model):
+    from fourfold.plan.commands import SetSetting
+
+    document = model.document
+    document.apply(SetSetting("runtime_days", 28.0))
+    document.recompute_now()
+    row = document.result.rows[0]
+    assert row.solved == "detectable_effect"
+    assert model.is_solved(0, column_index("detectable"))
+    assert not model.is_solved(0, column_index("units_control"))
+    shown = model.data(model.index(0, column_index("detectable")))
+    assert shown == f"+{row.effect_rel * 100:.2f} %"
+    assert "runtime" in model.data(model.index(0, column_index("solve")),
+                                   Qt.ItemDataRole.ToolTipRole)

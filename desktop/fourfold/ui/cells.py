@@ -71,7 +71,7 @@ def show_value(metric: Metric, key: str, value: float | None) -> str:
     --------
     >>> show_value(Metric(kind="proportion", relative=True), "effect", 0.05)
     '+5.0 %'
-    >>> show_value(Metric(kind="mean"), "baseline", 1234.5)
+    >>> show_value(Metric(kind="mean"), "baseline", 1234.6)
     '1,235'
     """
     if value is None or (isinstance(value, float) and math.isnan(value)):

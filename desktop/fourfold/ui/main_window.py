@@ -281,7 +281,12 @@ class MainWindow(QMainWindow):
         return index.row()
 
     def _show_row(self, *_args) -> None:
+        if self.model.rowCount() != len(self.document.plan.metrics):
+            return  # mid row insertion/removal: the recompute that follows shows the row
         row = self.current_row()
+        if row is None and self.model.rowCount():
+            self.table.setCurrentIndex(self.model.index(0, 0))  # calls back with row 0
+            return
         self.plots.show_row(self.document.plan, self.document.result, row)
         self.boundaries.setVisible(self.document.plan.settings.looks > 1)
         self.boundaries.show_row(self.document.plan, self.document.result, row)

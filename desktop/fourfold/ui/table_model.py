@@ -178,9 +178,7 @@ class PlanTableModel(QAbstractTableModel):
 
     def is_solved(self, row: int, column: int) -> bool:
         """Whether the cell shows the quantity its row solves for."""
-        result = self._results[row]
-        solved = result.solved if result is not None else self._rows[row].solve
-        return COLUMNS[column].key in SOLVED_COLUMN.get(solved, ())
+        return COLUMNS[column].key in SOLVED_COLUMN.get(self._solved(row), ())
 
     def _reason(self, row: int) -> str:
         result = self._results[row]
@@ -188,12 +186,18 @@ class PlanTableModel(QAbstractTableModel):
             return self.document.compute_error or "not computed yet"
         return result.reason
 
-    def _is_unused(self, metric, key: str) -> bool:
-        settings = self.document.plan.settings
+    def _solved(self, row: int) -> str:
+        """What the row computes (a fixed runtime turns sample-size rows into effect rows)."""
+        result = self._results[row]
+        return result.solved if result is not None else self._rows[row].solve
+
+    def _is_unused(self, row: int, key: str) -> bool:
+        metric = self._rows[row]
         if key == "effect":
-            return metric.solve == "detectable_effect"
+            return self._solved(row) == "detectable_effect"
         if key == "n":
-            return metric.solve == "sample_size" or settings.runtime_days is not None
+            return (metric.solve == "sample_size"
+                    or self.document.plan.settings.runtime_days is not None)
         return key == "sd" and metric.kind == "proportion"
 
     def _default_text(self, key: str) -> str:
@@ -264,6 +268,11 @@ class PlanTableModel(QAbstractTableModel):
         if col.computed and reason:
             return f"Cannot compute this row: {reason}"
         metric = self._rows[row]
+        if col.key == "solve" and self._solved(row) != metric.solve:
+            return (f"The plan has a fixed runtime, so this row reports the "
+                    f"{cells.label(self._solved(row))} those days allow")
+        if col.key == "effect" and self._is_unused(row, "effect"):
+            return "Not used: this row computes the effect it can detect"
         if col.key in ("alpha", "power") and getattr(metric, col.key) is None:
             return "Plan default (type a value to override it for this row)"
         if col.key == "notes" and metric.notes:
@@ -345,7 +354,7 @@ class PlanTableModel(QAbstractTableModel):
             return self._tints.muted
         if col.key == "sd" and metric.sd is None:
             return self._tints.muted
-        if self._is_unused(metric, col.key):
+        if self._is_unused(row, col.key):
             return self._tints.muted
         return None
 
