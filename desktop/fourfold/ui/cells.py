@@ -30,13 +30,6 @@ LABELS = {
 }
 
 EFFECT_KEYS = ("effect", "margin", "detectable")
-NEEDED = {
-    "sample_size": ("effect",),
-    "detectable_effect": (),
-    "power": ("effect",),
-    "significance_level": ("effect",),
-}
-
 
 def label(value: str) -> str:
     """A choice as the table shows it (``"sample_size"`` → ``"sample size"``)."""
