@@ -12,7 +12,14 @@ Examples
 
 from .catalog import ALTERNATIVES, KINDS, METHODS
 from .design import adjusted_alpha, duration_days, total_units, variance_factor
-from .solve import detectable_effect, power, problems, sample_size, significance_level
+from .solve import (
+    detectable_effect,
+    power,
+    problems,
+    sample_size,
+    significance_level,
+    values_and_reasons,
+)
 
 __all__ = [
     "ALTERNATIVES",
@@ -26,5 +33,6 @@ __all__ = [
     "sample_size",
     "significance_level",
     "total_units",
+    "values_and_reasons",
     "variance_factor",
 ]

@@ -377,6 +377,57 @@ _SOLVERS = {
 }
 
 
+def values_and_reasons(solve, kind, baseline, *, effect=None, n=None, sd=None, alpha=0.05,
+                       power=0.8, alternative="two-sided", ratio=1.0, relative=False, margin=0.0,
+                       method=None):
+    """Solve once and return both the results and why each element has none.
+
+    The array form of the four solvers for callers that need both (a plan table): the values
+    are those of the solver named by ``solve`` (nan where impossible) and the reasons those of
+    :func:`problems`, from one solve instead of two. Scalar input never raises for an
+    impossible element; like :func:`problems`, a name that is not allowed (kind, method,
+    alternative) or a missing input gives its message for every element.
+
+    Parameters
+    ----------
+    solve : {"sample_size", "power", "detectable_effect", "significance_level"}
+    kind, baseline, effect, n, sd, alpha, power, alternative, ratio, relative, margin, method
+        As for the solver; inputs the solve does not use are ignored.
+
+    Returns
+    -------
+    values : numpy.ndarray
+        Float array of the broadcast shape.
+    reasons : numpy.ndarray
+        Object array of the broadcast shape, ``""`` where the value is computed.
+
+    Raises
+    ------
+    ValueError
+        For a ``solve`` that is not one of the four.
+
+    Examples
+    --------
+    >>> values, reasons = values_and_reasons("sample_size", "proportion", [0.1, 1.2],
+    ...                                      effect=0.02)
+    >>> values.round(1).tolist(), reasons.tolist()
+    ([3840.8, nan], ['', 'baseline must be between 0 and 1 (exclusive) for a proportion'])
+    """
+    kwargs = dict(effect=effect, n=n, sd=sd, alpha=alpha, power=power, alternative=alternative,
+                  ratio=ratio, relative=relative, margin=margin, method=method)
+    try:
+        p = prepare(solve, kind, baseline, **kwargs)
+    except ValueError as error:
+        if solve not in _SOLVERS:
+            raise
+        shapes = [np.shape(v) for v in (baseline, effect, n, sd, alpha, power, ratio, margin)
+                  if v is not None]
+        shape = np.broadcast_shapes(*shapes)
+        return np.full(shape, np.nan), np.full(shape, str(error), dtype=object)
+    values, reasons = _run(_SOLVERS[solve], p)
+    return values.reshape(p.shape), reasons.reshape(p.shape)
+
+
 def problems(solve, kind, baseline, *, effect=None, n=None, sd=None, alpha=0.05, power=0.8,
              alternative="two-sided", ratio=1.0, relative=False, margin=0.0, method=None):
     """Why each element of a call to ``solve`` cannot be computed ("" where it can).
@@ -399,15 +450,6 @@ def problems(solve, kind, baseline, *, effect=None, n=None, sd=None, alpha=0.05,
     >>> problems("power", "mean", 1.0, effect=0.1, n=100, sd=1.0, method="w").tolist()
     "method must be one of 'z', 't' for a mean, not 'w'"
     """
-    kwargs = dict(effect=effect, n=n, sd=sd, alpha=alpha, power=power, alternative=alternative,
-                  ratio=ratio, relative=relative, margin=margin, method=method)
-    try:
-        p = prepare(solve, kind, baseline, **kwargs)
-    except ValueError as error:
-        if solve not in _SOLVERS:
-            raise
-        shapes = [np.shape(v) for v in (baseline, effect, n, sd, alpha, power, ratio, margin)
-                  if v is not None]
-        return np.full(np.broadcast_shapes(*shapes), str(error), dtype=object)
-    _, reasons = _run(_SOLVERS[solve], p)
-    return reasons.reshape(p.shape)
+    return values_and_reasons(solve, kind, baseline, effect=effect, n=n, sd=sd, alpha=alpha,
+                              power=power, alternative=alternative, ratio=ratio,
+                              relative=relative, margin=margin, method=method)[1]

@@ -145,14 +145,19 @@ def _ceil(value: float) -> float:
     return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
 
 
-def _row_alpha(plan: Plan, metric: Metric) -> float:
+def _row_alphas(plan: Plan) -> list[float]:
+    """Each row's α after the plan's correction (one engine call for all rows)."""
     settings = plan.settings
-    alpha = settings.alpha if metric.alpha is None else metric.alpha
-    if settings.correction == "none":
-        return alpha
+    alphas = [settings.alpha if metric.alpha is None else metric.alpha
+              for metric in plan.metrics]
+    if settings.correction == "none" or not alphas:
+        return alphas
     primaries = sum(1 for row in plan.metrics if row.role == "primary")
-    comparisons = settings.arms * (primaries if metric.role == "primary" else 1)
-    return float(engine.adjusted_alpha(alpha, comparisons, settings.correction))
+    comparisons = [settings.arms * (primaries if metric.role == "primary" else 1)
+                   for metric in plan.metrics]
+    adjusted = engine.adjusted_alpha(np.array(alphas, dtype=float),
+                                     np.array(comparisons, dtype=float), settings.correction)
+    return [float(value) for value in adjusted]
 
 
 def runtime_units(settings: Settings) -> float | None:
@@ -175,18 +180,26 @@ def _failed(solved: str, factor: float, alpha: float, power: float, reason: str)
                      nan, nan, nan, None)
 
 
-def _scalar(value: Any) -> float:
-    return float(np.asarray(value, dtype=float))
+@dataclass(frozen=True)
+class _Pending:
+    """A row that passed the plan-level checks and waits for its group's engine call."""
+
+    solved: str
+    alpha: float
+    power: float
+    factor: float
+    staged: Any
+    n_control: float | None
+    n_effective: float | None
 
 
-def _evaluate_row(plan: Plan, metric: Metric, designs: dict | None = None) -> RowResult:
+def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float,
+                 designs: dict) -> RowResult | _Pending:
+    """The plan-level checks of a row: a failed :class:`RowResult` or what the engine needs."""
     settings = plan.settings
     runtime = settings.runtime_days is not None
     solved = "detectable_effect" if runtime and metric.solve == "sample_size" else metric.solve
-    alpha = _row_alpha(plan, metric)
     power = settings.power if metric.power is None else metric.power
-    factor = float(engine.variance_factor(metric.rho, metric.cluster_size, metric.icc,
-                                          metric.cluster_cv))
     shown_alpha = math.nan if solved == "significance_level" else alpha
     shown_power = math.nan if solved == "power" else power
 
@@ -204,47 +217,131 @@ def _evaluate_row(plan: Plan, metric: Metric, designs: dict | None = None) -> Ro
         return _failed(solved, factor, shown_alpha, shown_power, str(error))
     if staged is not None and solved == "significance_level":
         return _failed(solved, factor, shown_alpha, shown_power, sequential.NO_ALPHA_SOLVE)
-    inflation = sequential.inflation(staged)
-    n_effective = None if n_control is None else n_control / factor
-
-    common = dict(sd=metric.sd, alternative=metric.alternative, ratio=settings.ratio,
-                  relative=metric.relative, margin=metric.margin, method=metric.method)
-    needs_effect = solved != "detectable_effect"
-    if needs_effect and metric.effect is None:
+    if solved != "detectable_effect" and metric.effect is None:
         return _failed(solved, factor, shown_alpha, shown_power,
                        "needs an effect to solve for " + solved.replace("_", " "))
-    reason = str(np.asarray(engine.problems(
-        solved, metric.kind, metric.baseline,
-        effect=metric.effect if needs_effect else None, n=n_effective,
-        alpha=alpha, power=power, **common,
-    )).item())
+    n_effective = None if n_control is None else n_control / factor
+    return _Pending(solved, alpha, power, factor, staged, n_control, n_effective)
+
+
+def _column(values: list, dtype: type = float) -> np.ndarray:
+    return np.array(values, dtype=dtype)
+
+
+def _solve_group(plan: Plan, key: tuple, members: list[int],
+                 pending: dict[int, _Pending]) -> tuple[np.ndarray, np.ndarray]:
+    """One engine call for rows sharing kind, method, alternative, solve and sd-or-not.
+
+    Returns the solved values and the reasons, in the order of ``members``; the reasons are
+    those :func:`fourfold.engine.problems` gives for each row's own inputs.
+    """
+    kind, method, alternative, solved, has_sd = key
+    metrics = [plan.metrics[index] for index in members]
+    rows = [pending[index] for index in members]
+    baseline = _column([metric.baseline for metric in metrics])
+    alpha = _column([row.alpha for row in rows])
+    power = _column([row.power for row in rows])
+    common = dict(
+        sd=_column([metric.sd for metric in metrics]) if has_sd else None,
+        alternative=alternative, ratio=plan.settings.ratio, method=method,
+        relative=_column([metric.relative for metric in metrics], bool),
+        margin=_column([metric.margin for metric in metrics]),
+    )
+    if solved == "detectable_effect":
+        n_effective = _column([row.n_effective for row in rows])
+        inflation = _column([sequential.inflation(row.staged) for row in rows])
+        values, reasons = engine.values_and_reasons(solved, kind, baseline,
+                                                    n=n_effective / inflation, alpha=alpha,
+                                                    power=power, **common)
+        if np.any(inflation != 1.0):
+            first = engine.problems(solved, kind, baseline, n=n_effective, alpha=alpha,
+                                    power=power, **common)
+            reasons = np.where(first != "", first, reasons)
+        return values, reasons
+    effect = _column([metric.effect for metric in metrics])
+    n_effective = None if solved == "sample_size" else _column([row.n_effective for row in rows])
+    return engine.values_and_reasons(solved, kind, baseline, effect=effect, n=n_effective,
+                                     alpha=alpha, power=power, **common)
+
+
+def _evaluate_rows(plan: Plan, designs: dict) -> tuple[RowResult, ...]:
+    """Every row of the plan, with one engine call per group of rows that share a solve."""
+    settings = plan.settings
+    metrics = plan.metrics
+    if not metrics:
+        return ()
+    alphas = _row_alphas(plan)
+    factors = engine.variance_factor(
+        _column([metric.rho for metric in metrics]),
+        _column([metric.cluster_size for metric in metrics]),
+        _column([metric.icc for metric in metrics]),
+        _column([metric.cluster_cv for metric in metrics]),
+    )
+    results: list[RowResult | None] = [None] * len(metrics)
+    pending: dict[int, _Pending] = {}
+    groups: dict[tuple, list[int]] = {}
+    for index, metric in enumerate(metrics):
+        prepared = _prepare_row(plan, metric, alphas[index], float(factors[index]), designs)
+        if isinstance(prepared, RowResult):
+            results[index] = prepared
+            continue
+        pending[index] = prepared
+        key = (metric.kind, metric.method, metric.alternative, prepared.solved,
+               metric.sd is not None)
+        groups.setdefault(key, []).append(index)
+
+    solved_rows = []
+    for key, members in groups.items():
+        values, reasons = _solve_group(plan, key, members, pending)
+        for index, value, reason in zip(members, values.tolist(), reasons.tolist(),
+                                        strict=True):
+            row = pending[index]
+            outcome = _solved_row(plan.metrics[index], row, value, str(reason), settings)
+            if isinstance(outcome, RowResult):
+                results[index] = outcome
+            else:
+                solved_rows.append((index, outcome))
+
+    if not solved_rows:
+        return tuple(results)
+    totals = _column([outcome[2] for _, outcome in solved_rows])
+    if settings.runtime_days is not None:
+        days = [float(settings.runtime_days)] * len(solved_rows)
+    elif settings.daily_units is None:
+        days = [math.nan] * len(solved_rows)
+    else:
+        days = engine.duration_days(totals, settings.daily_units, settings.share,
+                                    settings.whole_weeks).tolist()
+    for (index, outcome), day in zip(solved_rows, days, strict=True):
+        row = pending[index]
+        units_total = outcome[2]
+        results[index] = RowResult(*outcome[:3], day, *outcome[3:], "", row.solved, row.factor,
+                                   *sequential.row_fields(row.staged, units_total, day))
+    return tuple(results)
+
+
+def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
+                settings: Settings) -> RowResult | tuple:
+    """A failed :class:`RowResult`, or the row's units, effect, power and α (days to come)."""
+    solved, factor = row.solved, row.factor
+    shown_alpha = math.nan if solved == "significance_level" else row.alpha
+    shown_power = math.nan if solved == "power" else row.power
     if reason:
         return _failed(solved, factor, shown_alpha, shown_power, reason)
-
-    effect = metric.effect
-    try:
-        if solved == "sample_size":
-            n_control = _scalar(engine.sample_size(metric.kind, metric.baseline, effect,
-                                                   alpha=alpha, power=power, **common))
-            n_control *= factor * inflation
-        elif solved == "detectable_effect":
-            effect = _scalar(engine.detectable_effect(metric.kind, metric.baseline,
-                                                      n_effective / inflation, alpha=alpha,
-                                                      power=power, **common))
-        elif solved == "power":
-            power = _scalar(engine.power(metric.kind, metric.baseline, effect, n_effective,
-                                         alpha=alpha, **common))
-            if staged is not None:
-                power = sequential.power_of(staged, power)
-        else:
-            alpha = _scalar(engine.significance_level(metric.kind, metric.baseline, effect,
-                                                      n_effective, power=power, **common))
-    except ValueError as error:
-        return _failed(solved, factor, shown_alpha, shown_power, str(error))
-    if not all(math.isfinite(value) for value in (n_control, effect, power, alpha)):
+    n_control, effect, power, alpha = row.n_control, metric.effect, row.power, row.alpha
+    if solved == "sample_size":
+        n_control = value * (factor * sequential.inflation(row.staged))
+    elif solved == "detectable_effect":
+        effect = value
+    elif solved == "power":
+        power = value
+        if row.staged is not None:
+            power = sequential.power_of(row.staged, power)
+    else:
+        alpha = value
+    if not all(math.isfinite(number) for number in (n_control, effect, power, alpha)):
         return _failed(solved, factor, shown_alpha, shown_power,
                        f"the engine found no finite {solved.replace('_', ' ')} for this row")
-
     if metric.relative:
         effect_abs, effect_rel = effect * metric.baseline, effect
     else:
@@ -253,16 +350,8 @@ def _evaluate_row(plan: Plan, metric: Metric, designs: dict | None = None) -> Ro
     units_control = _ceil(n_control)
     units_treatment = _ceil(settings.ratio * units_control)
     units_total = units_control + settings.arms * units_treatment
-    if runtime:
-        days = float(settings.runtime_days)
-    elif settings.daily_units is None:
-        days = math.nan
-    else:
-        days = float(engine.duration_days(units_total, settings.daily_units, settings.share,
-                                          settings.whole_weeks))
-    return RowResult(units_control, units_treatment, units_total, days, float(effect_abs),
-                     float(effect_rel), power, alpha, "", solved, factor,
-                     *sequential.row_fields(staged, units_total, days))
+    return (units_control, units_treatment, units_total, float(effect_abs), float(effect_rel),
+            power, alpha)
 
 
 def compute(plan: Plan) -> PlanResult:
@@ -290,8 +379,7 @@ def compute(plan: Plan) -> PlanResult:
     (1570.0, 'Spend')
     """
     designs: dict = {}
-    rows = tuple(_evaluate_row(plan, metric, designs) for metric in plan.metrics)
-    return _summarise(plan, rows, designs)
+    return _summarise(plan, _evaluate_rows(plan, designs), designs)
 
 
 def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = None) -> PlanResult:

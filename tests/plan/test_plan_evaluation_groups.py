@@ -1,0 +1,105 @@
+"""compute() solves rows in groups: one engine call per group, results as if row by row.
+
+The reference is the engine's own scalar solvers (one call per row, as a user would make them)
+and one-row plans; no outside source is involved in these consistency checks.
+"""
+
+import dataclasses
+import math
+
+import pytest
+
+from fourfold import engine
+from fourfold.plan import Plan, load, sample_path
+from fourfold.plan.evaluation import compute
+
+SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")
+
+
+def _mixed_plan(rows: int, **settings) -> Plan:
+    sample = load(sample_path())
+    metrics = []
+    for i in range(rows):
+        metric = sample.metrics[i % len(sample.metrics)]
+        solve = SOLVES[(i // len(sample.metrics)) % len(SOLVES)]
+        metrics.append(dataclasses.replace(
+            metric, name=f"Metric {i}", solve=solve, n=20_000.0 + 37.0 * i,
+            baseline=metric.baseline * (1.0 + 0.001 * i),
+        ))
+    return Plan(dataclasses.replace(sample.settings, **settings), metrics)
+
+
+def _same(a, b) -> bool:
+    both_nan = isinstance(a, float) and isinstance(b, float) and math.isnan(a) and math.isnan(b)
+    return a == b or both_nan
+
+
+def _count_engine_calls(monkeypatch) -> dict:
+    counts: dict = {}
+    for name in ("values_and_reasons", "problems", "sample_size", "power",
+                 "detectable_effect", "significance_level", "variance_factor",
+                 "duration_days", "adjusted_alpha"):
+        original = getattr(engine, name)
+
+        def counted(*args, _name=name, _original=original, **kwargs):
+            counts[_name] = counts.get(_name, 0) + 1
+            return _original(*args, **kwargs)
+
+        monkeypatch.setattr(engine, name, counted)
+    return counts
+
+
+@pytest.mark.parametrize("looks", [1, 3])
+def test_engine_calls_do_not_grow_with_the_number_of_rows(monkeypatch, looks):
+    counts = _count_engine_calls(monkeypatch)
+    compute(_mixed_plan(24, looks=looks))
+    small = dict(counts)
+    counts.clear()
+    result = compute(_mixed_plan(500, looks=looks))
+    assert counts == small
+    assert sum(counts.values()) <= 30
+    assert not any(counts.get(name) for name in SOLVES)
+    assert sum(1 for row in result.rows if not row.reason) > 300
+
+
+def test_rows_in_a_plan_equal_one_row_plans():
+    plan = _mixed_plan(48, correction="none", looks=1)
+    together = compute(plan).rows
+    for metric, row in zip(plan.metrics, together, strict=True):
+        alone = compute(Plan(plan.settings, [metric])).rows[0]
+        for field in dataclasses.fields(row):
+            assert _same(getattr(row, field.name), getattr(alone, field.name)), field.name
+
+
+def test_grouped_rows_equal_direct_scalar_engine_calls():
+    plan = _mixed_plan(48, correction="none", looks=1, runtime_days=None)
+    settings = plan.settings
+    for metric, row in zip(plan.metrics, compute(plan).rows, strict=True):
+        factor = float(engine.variance_factor(metric.rho, metric.cluster_size, metric.icc,
+                                              metric.cluster_cv))
+        common = dict(sd=metric.sd, alpha=settings.alpha, alternative=metric.alternative,
+                      ratio=settings.ratio, relative=metric.relative, margin=metric.margin,
+                      method=metric.method)
+        if row.reason:
+            reason = engine.problems(metric.solve, metric.kind, metric.baseline,
+                                     effect=metric.effect, n=metric.n / factor,
+                                     power=settings.power, **common)
+            assert row.reason == str(reason.item())
+            continue
+        if metric.solve == "sample_size":
+            n = float(engine.sample_size(metric.kind, metric.baseline, metric.effect,
+                                         power=settings.power, **common))
+            assert row.units_control == math.ceil(n * factor - 1e-9 * n * factor)
+        elif metric.solve == "power":
+            assert row.power == float(engine.power(metric.kind, metric.baseline, metric.effect,
+                                                   metric.n / factor, **common))
+        elif metric.solve == "detectable_effect":
+            effect = float(engine.detectable_effect(metric.kind, metric.baseline,
+                                                    metric.n / factor, power=settings.power,
+                                                    **common))
+            assert (row.effect_rel if metric.relative else row.effect_abs) == effect
+        else:
+            del common["alpha"]
+            assert row.alpha == float(engine.significance_level(
+                metric.kind, metric.baseline, metric.effect, metric.n / factor,
+                power=settings.power, **common))
