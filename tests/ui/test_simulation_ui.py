@@ -117,3 +117,4 @@ def test_plan_menu_has_both_checks(make_window):
     texts = [action.text() for action in window.plan_menu.actions()]
     assert "Check by &simulation…" in texts
     assert "Check whole plan by si&mulation…" in texts
+    assert window.simulate_action in window.table.actions()  # the table's context menu

@@ -30,6 +30,7 @@ class SimulationMark:
         self.dot = pg.ScatterPlotItem(symbol="d", useCache=False)  # vector on a PDF page
         self.label = pg.TextItem(anchor=(0.5, 1.25))
         for part in (self.bar, self.dot, self.label):
+            part.setZValue(20)  # above the design point it is compared with
             item.addItem(part, ignoreBounds=True)
         self.hide()
 
