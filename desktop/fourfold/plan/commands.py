@@ -281,7 +281,8 @@ class CommandStack:
     Notes
     -----
     ``subscribe(callback)`` registers a function called with a :class:`Change` after every
-    do, undo, redo and :meth:`reset`; with ``before=True`` it is called just before the plan
+    do, undo, redo and :meth:`reset`, once ``undo_text``, ``redo_text`` and ``clean`` describe
+    the new state; with ``before=True`` it is called just before the plan
     changes instead (what a Qt model needs for ``beginRemoveRows`` and friends). Both return a
     function that unsubscribes.
     """
@@ -304,10 +305,17 @@ class CommandStack:
         for callback in list(listeners):
             callback(change)
 
-    def _run(self, step: Callable[[Plan], Change], preview: Change | None) -> Change:
+    def _run(self, step: Callable[[Plan], Change], preview: Change | None,
+             record: Callable[[], None]) -> Change:
+        """Apply ``step``, update the history with ``record``, then tell the subscribers.
+
+        The ``after`` subscribers run once the undo/redo texts and the clean flag describe the
+        new state, so they can read them.
+        """
         if preview is not None and self._before:
             self._notify(self._before, preview)
         change = step(self.plan)
+        record()
         self._notify(self._after, change)
         return change
 
@@ -327,34 +335,36 @@ class CommandStack:
         With ``merge=True`` and a :class:`SetField` of the same cell on top of the stack
         (a value being dragged), the two become one undo step.
         """
-        self._run(command.apply, self._preview(command, undo=False))
-        if self._clean_depth is not None and self._clean_depth > len(self._done):
-            self._clean_depth = None
-        self._undone.clear()
-        top = self._done[-1] if self._done else None
-        if (merge and type(command) is SetField and type(top) is SetField
-                and (top.row, top.field) == (command.row, command.field)
-                and self._clean_depth != len(self._done)):
-            command._old = {**command._old, **top._old}
-            self._done[-1] = command
-        else:
-            self._done.append(command)
+        def record() -> None:
+            if self._clean_depth is not None and self._clean_depth > len(self._done):
+                self._clean_depth = None
+            self._undone.clear()
+            top = self._done[-1] if self._done else None
+            if (merge and type(command) is SetField and type(top) is SetField
+                    and (top.row, top.field) == (command.row, command.field)
+                    and self._clean_depth != len(self._done)):
+                command._old = {**command._old, **top._old}
+                self._done[-1] = command
+            else:
+                self._done.append(command)
+
+        self._run(command.apply, self._preview(command, undo=False), record)
 
     def undo(self) -> None:
         """Revert the last command (nothing happens when there is none)."""
         if not self._done:
             return
         command = self._done[-1]
-        self._run(command.revert, self._preview(command, undo=True))
-        self._undone.append(self._done.pop())
+        self._run(command.revert, self._preview(command, undo=True),
+                  lambda: self._undone.append(self._done.pop()))
 
     def redo(self) -> None:
         """Re-apply the last undone command (nothing happens when there is none)."""
         if not self._undone:
             return
         command = self._undone[-1]
-        self._run(command.apply, self._preview(command, undo=False))
-        self._done.append(self._undone.pop())
+        self._run(command.apply, self._preview(command, undo=False),
+                  lambda: self._done.append(self._undone.pop()))
 
     def reset(self, plan: Plan) -> None:
         """Replace the document (File → New/Open): history cleared, clean, ``"reset"`` sent."""

@@ -32,8 +32,8 @@ class PlanDocument(QObject):
     message(str)
         A problem to show in the status line (a refused edit).
     history()
-        Emitted after every do, undo, redo, save or load, once the stack's undo/redo texts and
-        clean flag are up to date (the stack's own callbacks run before it updates them).
+        Emitted after every do, undo, redo, save or load, with the stack's undo/redo texts and
+        clean flag up to date.
     """
 
     changed = Signal(object)
@@ -82,7 +82,6 @@ class PlanDocument(QObject):
         self.stack.reset(plan)
         self.recompute_now()
         self.replaced.emit()
-        self.history.emit()
 
     def mark_saved(self, path: str | pathlib.Path) -> None:
         """Record that the plan now lives, unchanged, in ``path``."""
@@ -102,23 +101,21 @@ class PlanDocument(QObject):
         except FourfoldError as error:
             self.message.emit(str(error))
             return False
-        self.history.emit()
         return True
 
     def undo(self) -> None:
         """Undo the last command, if any."""
         if self.stack.can_undo:
             self.stack.undo()
-            self.history.emit()
 
     def redo(self) -> None:
         """Redo the last undone command, if any."""
         if self.stack.can_redo:
             self.stack.redo()
-            self.history.emit()
 
     def _on_change(self, change) -> None:
         self.changed.emit(change)
+        self.history.emit()
         if not self._timer.isActive():
             self._timer.start()
 
