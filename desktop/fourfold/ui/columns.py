@@ -101,6 +101,11 @@ COLUMNS: tuple[Column, ...] = (
            "units, α and power (in the row's own unit, like 'Effect').", group=OUTPUT, width=8),
     Column("power_out", "Power\nreached", "The power this row reaches with its units and "
            "effect.", group=OUTPUT, width=6),
+    Column("simulated", "Simulated\npower", "Power found by simulating the experiment and "
+           "running its test (Plan → Check by simulation): ✓ agrees with the closed form, ? "
+           "just outside its 95 % interval (could be chance), ⚠ disagrees. Empty until the row "
+           "is checked; a check made before the row changed is marked stale.", group=OUTPUT,
+           width=8),
     Column("alpha_out", "α\nused", "The significance level the row is tested at, after the "
            "plan's correction for several comparisons.", group=OUTPUT, width=6),
     Column("units_expected_h1", "Expected\nunits", "With interim looks: the total units the "

@@ -241,6 +241,7 @@ class MainWindow(QMainWindow):
             "Check whole plan by si&mulation…", self.check_plan_by_simulation, "Ctrl+Alt+K",
             "Simulate every row's test and compare with the closed-form power")
         self.plan_menu.addActions([self.simulate_action, self.simulate_plan_action])
+        self.table.addAction(self.simulate_action)
         self.view_menu = bar.addMenu("&View")
         self.view_menu.addActions([self.bigger_action, self.smaller_action,
                                    self.reset_text_action])

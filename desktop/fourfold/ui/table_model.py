@@ -17,7 +17,7 @@ from PySide6.QtGui import QColor, QFont, QIcon, QPainter, QPixmap, QPolygonF
 from fourfold.errors import FourfoldError
 from fourfold.plan import CHOICES
 from fourfold.plan.commands import SetField
-from fourfold.ui import cells, theme
+from fourfold.ui import cells, simulation_cells, theme
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, SOLVED_COLUMN, TEXT
 from fourfold.ui.document import PlanDocument
 
@@ -209,6 +209,8 @@ class PlanTableModel(QAbstractTableModel):
         metric = self._rows[row]
         col = COLUMNS[column]
         key = col.key
+        if key == simulation_cells.KEY:
+            return simulation_cells.text(metric, self.document.plan.settings, self._results[row])
         if col.computed:
             if self._reason(row):
                 return cells.DASH
@@ -244,6 +246,8 @@ class PlanTableModel(QAbstractTableModel):
         """The raw value of a cell: numbers as floats (nan when missing), text as text."""
         metric = self._rows[row]
         col = COLUMNS[column]
+        if col.key == simulation_cells.KEY:
+            return simulation_cells.number(metric)
         if col.computed:
             return cells.output_number(metric, self._results[row], col.key)
         value = getattr(metric, col.key)
@@ -264,6 +268,9 @@ class PlanTableModel(QAbstractTableModel):
 
     def _tooltip(self, row: int, column: int) -> str | None:
         col = COLUMNS[column]
+        if col.key == simulation_cells.KEY:
+            return simulation_cells.tooltip(self._rows[row], self.document.plan.settings,
+                                            self._results[row])
         reason = self._reason(row)
         if col.computed and reason:
             return f"Cannot compute this row: {reason}"
@@ -342,6 +349,9 @@ class PlanTableModel(QAbstractTableModel):
     def _foreground(self, row: int, column: int):
         col = COLUMNS[column]
         metric = self._rows[row]
+        if col.key == simulation_cells.KEY:
+            return simulation_cells.colour(self._tints, metric, self.document.plan.settings,
+                                           self._results[row])
         if col.computed and self._reason(row):
             return self._tints.problem
         if self.is_solved(row, column):

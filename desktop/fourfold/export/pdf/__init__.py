@@ -212,6 +212,7 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
         flow.table(sequential)
         _looks(flow, plan, result)
 
+    _simulation(flow, plan, result)
     _figures(flow, plan, result)
 
     row_notes = report.notes(plan)
@@ -231,6 +232,25 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
         _entry(flow, [(method.name, font(8.5, bold=True), INK, 0, 1),
                       (method.text + used, font(8.5), INK, 10, 1),
                       (method.reference, font(8, italic=True), MUTED, 10, 6)])
+
+
+def _simulation(flow: Flow, plan, result) -> None:
+    """Rows checked by simulation (stored in the plan): power beside the closed form."""
+    from fourfold.simulation import summary
+
+    rows = summary.report_rows(plan, result)
+    if not rows:
+        return
+    flow.heading("Checked by simulation")
+    flow.paragraph("Each checked row's experiment was simulated with the replicates and seed "
+                   "shown (they reproduce the check) and its final test run on every replicate; "
+                   "the simulated power, with its 95 % Wilson interval, is set beside the closed "
+                   "form, and the false-positive rate under H0 beside α.",
+                   font(8), MUTED, spacing=1.25)
+    flow.table(report.Table(header=summary.HEADER, rows=tuple(rows), align=summary.ALIGN))
+    flow.space(6)
+    for label, text in summary.report_messages(plan, result):
+        _entry(flow, [(label, font(8.5, bold=True), INK, 0, 1), (text, font(8.5), INK, 10, 5)])
 
 
 def _looks(flow: Flow, plan, result) -> None:
