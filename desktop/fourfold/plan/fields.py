@@ -17,20 +17,14 @@ import numbers
 from collections.abc import Callable
 from typing import Any
 
+from fourfold.engine import ALTERNATIVES, KINDS, METHODS
+from fourfold.engine.sequential import SPENDING
 from fourfold.errors import FourfoldError
 from fourfold.plan.model import Metric, Settings
 
 ROLES = ("primary", "secondary", "guardrail")
-KINDS = ("mean", "proportion", "rate")
-METHODS = {
-    "mean": ("z", "t"),
-    "proportion": ("pooled", "unpooled", "arcsine", "pooled-cc"),
-    "rate": ("z",),
-}
-ALTERNATIVES = ("two-sided", "greater", "less")
 SOLVES = ("sample_size", "detectable_effect", "power", "significance_level")
 CORRECTIONS = ("none", "bonferroni", "sidak")
-SPENDING = ("ld-obrien-fleming", "ld-pocock", "hsd", "obrien-fleming", "pocock")
 
 CHOICES: dict[str, Any] = {
     "role": ROLES,
