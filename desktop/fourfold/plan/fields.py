@@ -18,13 +18,13 @@ from collections.abc import Callable
 from typing import Any
 
 from fourfold.engine import ALTERNATIVES, KINDS, METHODS
+from fourfold.engine.design import CORRECTIONS
 from fourfold.engine.sequential import SPENDING
 from fourfold.errors import FourfoldError
 from fourfold.plan.model import Metric, Settings
 
 ROLES = ("primary", "secondary", "guardrail")
 SOLVES = ("sample_size", "detectable_effect", "power", "significance_level")
-CORRECTIONS = ("none", "bonferroni", "sidak")
 
 CHOICES: dict[str, Any] = {
     "role": ROLES,
