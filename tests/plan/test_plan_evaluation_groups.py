@@ -11,7 +11,7 @@ import pytest
 
 from fourfold import engine
 from fourfold.plan import Plan, load, sample_path
-from fourfold.plan.evaluation import compute
+from fourfold.plan.evaluation import RowCache, compute
 
 SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")
 
@@ -103,3 +103,39 @@ def test_grouped_rows_equal_direct_scalar_engine_calls():
             assert row.alpha == float(engine.significance_level(
                 metric.kind, metric.baseline, metric.effect, metric.n / factor,
                 power=settings.power, **common))
+
+
+def _assert_same_result(a, b):
+    assert len(a.rows) == len(b.rows)
+    for x, y in zip(a.rows, b.rows, strict=True):
+        for name in (f.name for f in dataclasses.fields(x)):
+            assert _same(getattr(x, name), getattr(y, name)), name
+    for name in ("duration_days", "total_units", "binding_index", "binding_name", "notes"):
+        assert _same(getattr(a, name), getattr(b, name)), name
+
+
+@pytest.mark.parametrize("looks", [1, 3])
+def test_a_cache_solves_only_changed_rows_and_changes_no_result(monkeypatch, looks):
+    plan = _mixed_plan(60, looks=looks)
+    cache = RowCache()
+    compute(plan, cache=cache)
+    counts = _count_engine_calls(monkeypatch)
+    plan.metrics[7] = dataclasses.replace(plan.metrics[7], baseline=plan.metrics[7].baseline * 1.1)
+    cached = compute(plan, cache=cache)
+    assert counts.get("values_and_reasons", 0) == 1
+    _assert_same_result(cached, compute(plan))
+    assert len(cache.rows) == len(plan.metrics)
+
+
+def test_a_cache_follows_the_correction_and_the_settings():
+    plan = _mixed_plan(30, correction="bonferroni")
+    cache = RowCache()
+    compute(plan, cache=cache)
+    # one more primary row changes the α of every primary row (Bonferroni: α / k)
+    index = next(i for i, m in enumerate(plan.metrics) if m.role != "primary")
+    plan.metrics[index] = dataclasses.replace(plan.metrics[index], role="primary")
+    _assert_same_result(compute(plan, cache=cache), compute(plan))
+    for change in (dict(power=0.9), dict(arms=1), dict(daily_units=None),
+                   dict(runtime_days=21.0), dict(looks=2)):
+        plan.settings = dataclasses.replace(plan.settings, **change)
+        _assert_same_result(compute(plan, cache=cache), compute(plan))

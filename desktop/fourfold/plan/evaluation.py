@@ -49,7 +49,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -63,6 +63,12 @@ if TYPE_CHECKING:
     import pandas
 
 DECIDING_ROLES = ("primary", "guardrail")
+
+_ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative", "margin",
+               "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n")
+"""The metric fields a row's result depends on (with its corrected α and the settings)."""
+
+_SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
 
 
 @dataclass(frozen=True)
@@ -136,6 +142,29 @@ class PlanResult:
     binding_index: int | None
     binding_name: str | None
     notes: tuple[str, ...]
+
+
+@dataclass
+class RowCache:
+    """Row results of earlier evaluations, so that :func:`compute` solves only changed rows.
+
+    One cache belongs to one open document (the window's); pass it to every :func:`compute`
+    of that document. A row is reused when its inputs, its corrected α and the plan's settings
+    are those it was computed with, so the result is the same as without the cache. Only the
+    rows of the latest evaluation are kept.
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Plan
+    >>> plan, cache = Plan.empty(), RowCache()
+    >>> first = compute(plan, cache=cache)
+    >>> compute(plan, cache=cache).rows[0] is first.rows[0], len(cache.rows)
+    (True, 1)
+    """
+
+    settings: tuple | None = None
+    rows: dict = field(default_factory=dict)
+    designs: dict = field(default_factory=dict)
 
 
 def _ceil(value: float) -> float:
@@ -264,13 +293,21 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
                                      alpha=alpha, power=power, **common)
 
 
-def _evaluate_rows(plan: Plan, designs: dict) -> tuple[RowResult, ...]:
-    """Every row of the plan, with one engine call per group of rows that share a solve."""
+def _evaluate_rows(plan: Plan, designs: dict,
+                   cache: RowCache | None = None) -> tuple[RowResult, ...]:
+    """Every row of the plan, with one engine call per group of rows that share a solve.
+
+    Rows found in ``cache`` are reused; the cache is left holding this plan's rows.
+    """
     settings = plan.settings
     metrics = plan.metrics
     if not metrics:
         return ()
     alphas = _row_alphas(plan)
+    keys = None
+    if cache is not None:
+        keys = [(alphas[index], tuple(getattr(metric, name) for name in _ROW_INPUTS))
+                for index, metric in enumerate(metrics)]
     factors = engine.variance_factor(
         _column([metric.rho for metric in metrics]),
         _column([metric.cluster_size for metric in metrics]),
@@ -281,6 +318,9 @@ def _evaluate_rows(plan: Plan, designs: dict) -> tuple[RowResult, ...]:
     pending: dict[int, _Pending] = {}
     groups: dict[tuple, list[int]] = {}
     for index, metric in enumerate(metrics):
+        if keys is not None and keys[index] in cache.rows:
+            results[index] = cache.rows[keys[index]]
+            continue
         prepared = _prepare_row(plan, metric, alphas[index], float(factors[index]), designs)
         if isinstance(prepared, RowResult):
             results[index] = prepared
@@ -302,8 +342,16 @@ def _evaluate_rows(plan: Plan, designs: dict) -> tuple[RowResult, ...]:
             else:
                 solved_rows.append((index, outcome))
 
-    if not solved_rows:
-        return tuple(results)
+    if solved_rows:
+        _finish_rows(settings, solved_rows, pending, results)
+    if keys is not None:
+        cache.rows = dict(zip(keys, results, strict=True))
+    return tuple(results)
+
+
+def _finish_rows(settings: Settings, solved_rows: list, pending: dict[int, _Pending],
+                 results: list) -> None:
+    """Days (one engine call for all rows) and the sequential fields of the solved rows."""
     totals = _column([outcome[2] for _, outcome in solved_rows])
     if settings.runtime_days is not None:
         days = [float(settings.runtime_days)] * len(solved_rows)
@@ -317,7 +365,6 @@ def _evaluate_rows(plan: Plan, designs: dict) -> tuple[RowResult, ...]:
         units_total = outcome[2]
         results[index] = RowResult(*outcome[:3], day, *outcome[3:], "", row.solved, row.factor,
                                    *sequential.row_fields(row.staged, units_total, day))
-    return tuple(results)
 
 
 def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
@@ -354,13 +401,16 @@ def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
             power, alpha)
 
 
-def compute(plan: Plan) -> PlanResult:
+def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
     """Evaluate every metric row of a plan and the plan's duration.
 
     Parameters
     ----------
     plan : Plan
         A plan whose fields are valid (as loaded or edited through the command stack).
+    cache : RowCache, optional
+        The document's cache: rows whose inputs did not change since the last call are not
+        solved again (the result is the same).
 
     Returns
     -------
@@ -378,8 +428,14 @@ def compute(plan: Plan) -> PlanResult:
     >>> result.rows[0].units_control, result.binding_name
     (1570.0, 'Spend')
     """
-    designs: dict = {}
-    return _summarise(plan, _evaluate_rows(plan, designs), designs)
+    if cache is None:
+        designs: dict = {}
+    else:
+        settings = tuple(getattr(plan.settings, name) for name in _SETTINGS_INPUTS)
+        if settings != cache.settings:
+            cache.settings, cache.rows, cache.designs = settings, {}, {}
+        designs = cache.designs
+    return _summarise(plan, _evaluate_rows(plan, designs, cache), designs)
 
 
 def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = None) -> PlanResult:

@@ -15,7 +15,7 @@ from PySide6.QtCore import QObject, QTimer, Signal
 from fourfold.errors import FourfoldError
 from fourfold.plan import Plan
 from fourfold.plan.commands import CommandStack
-from fourfold.plan.evaluation import compute
+from fourfold.plan.evaluation import RowCache, compute
 
 
 class PlanDocument(QObject):
@@ -51,6 +51,7 @@ class PlanDocument(QObject):
         self._timer.timeout.connect(self.recompute_now)
         self.compute_error = ""
         self._unsaved = False
+        self._rows = RowCache()
         self.stack = CommandStack(plan)
         self.stack.subscribe(self._on_change)
         self.path = pathlib.Path(path) if path is not None else None
@@ -121,7 +122,7 @@ class PlanDocument(QObject):
 
     def _compute(self):
         try:
-            result = compute(self.stack.plan)
+            result = compute(self.stack.plan, cache=self._rows)
         except FourfoldError as error:
             self.compute_error = str(error)
             return None
