@@ -150,8 +150,9 @@ class RowCache:
 
     One cache belongs to one open document (the window's); pass it to every :func:`compute`
     of that document. A row is reused when its inputs, its corrected α and the plan's settings
-    are those it was computed with, so the result is the same as without the cache. Only the
-    rows of the latest evaluation are kept.
+    are those it was computed with, so the result is the same as without the cache; rows with
+    the same inputs share one :class:`RowResult`. Only the rows of the latest evaluation are
+    kept.
 
     Examples
     --------
@@ -344,8 +345,9 @@ def _evaluate_rows(plan: Plan, designs: dict,
 
     if solved_rows:
         _finish_rows(settings, solved_rows, pending, results)
-    if keys is not None:
-        cache.rows = dict(zip(keys, results, strict=True))
+    if keys is not None:  # rows with the same inputs share one result, now and next time
+        cache.rows = {}
+        results = [cache.rows.setdefault(key, row) for key, row in zip(keys, results, strict=True)]
     return tuple(results)
 
 

@@ -549,6 +549,7 @@ class PlotPanel(QWidget):
 
         self._pending: tuple | None = None
         self._span_key: tuple | None = None
+        self._drawn: tuple | None = None
         self._queued: float | None = None
         self._sent: float | None = None
         self._redraw_timer = QTimer(self)
@@ -605,17 +606,24 @@ class PlotPanel(QWidget):
         plan, result, index = self._pending
         self._pending = None
         if index is None or not 0 <= index < len(plan.metrics):
+            self._drawn = None
             self.grid.blank()
             show_simulation(self.grid, plan, result, None)
             self._set_controls_enabled(False)
             return
         result = compute(plan) if result is None else result
         metric = plan.metrics[index]
+        dragging = self.grid.handle.moving or self.slider.isSliderDown()
+        # an edit of another row leaves this row's inputs, result and settings as drawn
+        drawn = (index, repr(plan.settings), repr(metric), repr(result.rows[index]),
+                 result.duration_days)
+        if drawn == self._drawn and not dragging:
+            return
+        self._drawn = None if dragging else drawn
         key = (index, metric.kind, metric.relative, metric.alternative, metric.margin,
                metric.solve)
         span = self.grid.shown.effect_span if key == self._span_key and self.grid.shown else None
         data = tradeoffs(plan, index, result, effect_span=span)
-        dragging = self.grid.handle.moving or self.slider.isSliderDown()
         if span is not None and not dragging and _near_edge(data):
             data = tradeoffs(plan, index, result)  # re-centre once the user lets go
         self._span_key = key

@@ -81,6 +81,7 @@ class PlanTableModel(QAbstractTableModel):
         self._bold = QFont()
         self._bold.setBold(True)
         self._cache: dict[tuple[int, int, int], object] = {}
+        self._touched: set[int] | None = set()
         document.changed.connect(self._on_change)
         document.computed.connect(self._on_computed)
 
@@ -111,8 +112,13 @@ class PlanTableModel(QAbstractTableModel):
         self.endResetModel()
 
     def _on_change(self, change) -> None:
-        self._cache.clear()
         kind = change.kind
+        if kind == "cells" and self._touched is not None:
+            self._touched.update(change.rows)
+            self._forget(set(change.rows))
+        else:
+            self._touched = None
+            self._cache.clear()
         metrics = self.document.plan.metrics
         if kind == "rows_inserted":
             for first, last in change.blocks():
@@ -142,19 +148,38 @@ class PlanTableModel(QAbstractTableModel):
             return
         self._rows = list(metrics)
 
+    def _forget(self, rows: set[int]) -> None:
+        """Drop the cached roles of ``rows``."""
+        self._cache = {key: value for key, value in self._cache.items() if key[0] not in rows}
+
     def _on_computed(self) -> None:
+        touched, self._touched = self._touched, set()
         if len(self._rows) != len(self.document.plan.metrics):
             self._reset_rows()
             return
-        self._cache.clear()
+        old = self._results
         self._rows = list(self.document.plan.metrics)
         self._results = self._result_rows()
         binding = self._binding_index()
-        if self._rows:
-            self.dataChanged.emit(self.index(0, 0), self.index(len(self._rows) - 1,
-                                                               len(COLUMNS) - 1))
-            if binding != self._binding:
-                self.headerDataChanged.emit(Qt.Orientation.Vertical, 0, len(self._rows) - 1)
+        if not self._rows:
+            self._cache.clear()
+            self._binding = binding
+            return
+        last = len(self._rows) - 1
+        if touched is None or binding != self._binding or self.document.result is None:
+            first = 0
+            self._cache.clear()
+        else:
+            # the document's row cache hands back the same RowResult for an unchanged row
+            touched.update(i for i, (a, b) in enumerate(zip(old, self._results, strict=True))
+                           if a is not b)
+            if not touched:
+                return
+            first, last = min(touched), max(touched)
+            self._forget(set(range(first, last + 1)))
+        self.dataChanged.emit(self.index(first, 0), self.index(last, len(COLUMNS) - 1))
+        if binding != self._binding:
+            self.headerDataChanged.emit(Qt.Orientation.Vertical, 0, len(self._rows) - 1)
         self._binding = binding
 
     def set_dark(self, dark: bool) -> None:

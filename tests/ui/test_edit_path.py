@@ -1,0 +1,91 @@
+"""The edit path of a large plan: only the edited row is announced and the plots skip redraws
+that would draw the same thing. Expected values come from a freshly built model on the same plan
+(the table must show what a full recompute shows); no outside source is involved.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+from fourfold.plan import Plan, load, sample_path
+from fourfold.plan.commands import SetField, SetSetting
+from fourfold.plan.evaluation import compute
+from fourfold.ui.columns import COLUMNS, column_index
+from fourfold.ui.document import PlanDocument
+from fourfold.ui.plots import PlotPanel
+from fourfold.ui.table_model import PlanTableModel
+
+
+def _big_plan(rows: int = 60) -> Plan:
+    sample = load(sample_path())
+    metrics = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
+               for i in range(rows)]
+    return Plan(sample.settings, metrics)
+
+
+def _texts(model):
+    return [[model.data(model.index(row, column)) for column in range(len(COLUMNS))]
+            for row in range(model.rowCount())]
+
+
+def _recorded(model):
+    ranges = []
+    model.dataChanged.connect(lambda a, b, _roles=(): ranges.append(
+        (a.row(), a.column(), b.row(), b.column())))
+    return ranges
+
+
+def test_an_edit_announces_only_its_row_and_the_table_matches_a_full_recompute(qtbot):
+    document = PlanDocument(_big_plan())
+    model = PlanTableModel(document)
+    _texts(model)  # fill the model's cache of cell roles
+    ranges = _recorded(model)
+    sd = document.plan.metrics[7].sd
+    assert document.apply(SetField(7, "sd", sd * 1.5))
+    qtbot.waitUntil(lambda: not document.pending())
+    assert ranges == [(7, 0, 7, len(COLUMNS) - 1)]
+    fresh = PlanTableModel(PlanDocument(document.plan))
+    assert _texts(model) == _texts(fresh)
+    assert model.data(model.index(7, column_index("sd"))) != _texts(PlanTableModel(
+        PlanDocument(_big_plan())))[7][column_index("sd")]
+
+
+def test_a_setting_announces_every_row(qtbot):
+    document = PlanDocument(_big_plan())
+    model = PlanTableModel(document)
+    ranges = _recorded(model)
+    assert document.apply(SetSetting("power", 0.9))
+    qtbot.waitUntil(lambda: not document.pending())
+    assert ranges == [(0, 0, 59, len(COLUMNS) - 1)]
+    assert _texts(model) == _texts(PlanTableModel(PlanDocument(document.plan)))
+
+
+def test_the_plots_skip_an_edit_of_another_row_and_follow_their_own(qtbot, monkeypatch):
+    import fourfold.ui.plots as plots_module
+
+    calls = []
+    real = plots_module.tradeoffs
+    monkeypatch.setattr(plots_module, "tradeoffs",
+                        lambda *args, **kwargs: calls.append(args[1]) or real(*args, **kwargs))
+    panel = PlotPanel()
+    qtbot.addWidget(panel)
+    panel.resize(720, 640)
+    panel.show()
+    document = PlanDocument(_big_plan(12))
+
+    def show():
+        panel.show_row(document.plan, document.result, 1)
+        qtbot.waitUntil(lambda: not panel._redraw_timer.isActive(), timeout=2000)
+
+    show()
+    assert calls == [1]
+    document.apply(SetField(3, "sd", document.plan.metrics[3].sd * 2.0))
+    document.recompute_now()
+    show()
+    assert calls == [1]
+    document.apply(SetField(1, "sd", document.plan.metrics[1].sd * 2.0))
+    document.recompute_now()
+    show()
+    assert calls == [1, 1]
+    _, units = panel.grid.plots["effect"].point.getOriginalDataset()
+    assert units[0] == compute(document.plan).rows[1].units_control
