@@ -80,7 +80,7 @@ class PlanTableModel(QAbstractTableModel):
         self._italic.setItalic(True)
         self._bold = QFont()
         self._bold.setBold(True)
-        self._cache: dict[tuple[int, int, int], object] = {}
+        self._cache: dict[int, dict[tuple[int, int], object]] = {}  # row → (column, role)
         self._touched: set[int] | None = set()
         document.changed.connect(self._on_change)
         document.computed.connect(self._on_computed)
@@ -115,7 +115,7 @@ class PlanTableModel(QAbstractTableModel):
         kind = change.kind
         if kind == "cells" and self._touched is not None:
             self._touched.update(change.rows)
-            self._forget(set(change.rows))
+            self._forget(change.rows)
         else:
             self._touched = None
             self._cache.clear()
@@ -148,9 +148,10 @@ class PlanTableModel(QAbstractTableModel):
             return
         self._rows = list(metrics)
 
-    def _forget(self, rows: set[int]) -> None:
+    def _forget(self, rows) -> None:
         """Drop the cached roles of ``rows``."""
-        self._cache = {key: value for key, value in self._cache.items() if key[0] not in rows}
+        for row in rows:
+            self._cache.pop(row, None)
 
     def _on_computed(self) -> None:
         touched, self._touched = self._touched, set()
@@ -176,7 +177,7 @@ class PlanTableModel(QAbstractTableModel):
             if not touched:
                 return
             first, last = min(touched), max(touched)
-            self._forget(set(range(first, last + 1)))
+            self._forget(range(first, last + 1))
         self.dataChanged.emit(self.index(first, 0), self.index(last, len(COLUMNS) - 1))
         if binding != self._binding:
             self.headerDataChanged.emit(Qt.Orientation.Vertical, 0, len(self._rows) - 1)
@@ -324,11 +325,14 @@ class PlanTableModel(QAbstractTableModel):
         row, column = index.row(), index.column()
         if role not in _CACHED_ROLES:
             return self._value(row, column, role)
-        key = (row, column, role)
+        cells = self._cache.get(row)
+        if cells is None:
+            cells = self._cache[row] = {}
+        key = (column, role)
         try:
-            return self._cache[key]
+            return cells[key]
         except KeyError:
-            value = self._cache[key] = self._value(row, column, role)
+            value = cells[key] = self._value(row, column, role)
             return value
 
     def _value(self, row: int, column: int, role: int):
