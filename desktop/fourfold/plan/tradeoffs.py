@@ -289,25 +289,38 @@ class _Row:
             return np.interp(np.log(grid), np.log(nodes), values)
         return np.interp(grid, nodes, values)
 
-    def units(self, effect, alpha, power, *, design: float | None = None,
-              log: bool = False) -> np.ndarray:
+    def units(self, *curves: tuple, design: float | None = None,
+              log: bool = False) -> list[np.ndarray]:
         """Control-arm units (design factor and interim looks included), as the evaluation
-        computes them."""
+        computes them, for each ``(effect, alpha, power)`` of ``curves`` (one engine call)."""
         metric = self.metric
         with np.errstate(all="ignore"):
-            n = engine.sample_size(metric.kind, metric.baseline, effect, alpha=alpha,
-                                   power=power, **self.common)
-        grow = self.inflation(alpha, power, design, log)
-        return np.asarray(n, dtype=float) * self.row.design_factor * grow
+            n = _split(lambda e, a, p: engine.sample_size(metric.kind, metric.baseline, e,
+                                                          alpha=a, power=p, **self.common),
+                       curves)
+        return [values * self.row.design_factor * self.inflation(alpha, power, design, log)
+                for values, (_, alpha, power) in zip(n, curves, strict=True)]
 
-    def detectable(self, n_control, alpha, power) -> np.ndarray:
-        """Detectable effect (row units) for control-arm units (the maximum with looks)."""
+    def detectable(self, *curves: tuple) -> list[np.ndarray]:
+        """Detectable effect (row units) for each ``(n_control, alpha, power)`` of ``curves``
+        (control-arm units, the maximum with looks; one engine call)."""
         metric = self.metric
-        n = np.asarray(n_control) / (self.row.design_factor * self.inflation(alpha, power))
+        scaled = [(np.asarray(n) / (self.row.design_factor * self.inflation(alpha, power)),
+                   alpha, power) for n, alpha, power in curves]
         with np.errstate(all="ignore"):
-            effect = engine.detectable_effect(metric.kind, metric.baseline, n, alpha=alpha,
-                                              power=power, **self.common)
-        return np.asarray(effect, dtype=float)
+            return _split(lambda n, a, p: engine.detectable_effect(
+                metric.kind, metric.baseline, n, alpha=a, power=p, **self.common), scaled)
+
+
+def _split(solve, curves) -> list[np.ndarray]:
+    """``solve(x, alpha, power)`` once on all ``curves`` laid end to end, then cut back."""
+    parts = [np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in curve))
+             for curve in curves]
+    flat = [np.concatenate([part[k].ravel() for part in parts]) for k in range(3)]
+    values = np.asarray(solve(*flat), dtype=float)
+    cuts = np.cumsum([part[0].size for part in parts])[:-1]
+    return [piece.reshape(part[0].shape)
+            for piece, part in zip(np.split(values, cuts), parts, strict=True)]
 
 
 def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
@@ -383,10 +396,10 @@ def _effect_figure(r: _Row, effect: float, span: tuple[float, float], scale: flo
     row = r.row
     grid = np.linspace(span[0], span[1], points)
     other = neighbour_power(row.power)
-    y = r.units(grid, row.alpha, row.power)
+    y, y_other = r.units((grid, row.alpha, row.power), (grid, row.alpha, other))
     return Figure("effect", *labels, False, _spans_decades(y),
                   Curve(grid * scale, y, _power_label(row.power)),
-                  Curve(grid * scale, r.units(grid, row.alpha, other), _power_label(other)),
+                  Curve(grid * scale, y_other, _power_label(other)),
                   (effect * scale, row.units_control), Curve(_EMPTY, _EMPTY, ""),
                   math.nan, "", "")
 
@@ -398,11 +411,10 @@ def _power_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, 
     high = min(0.999, max(POWER_RANGE[1], row.power + 0.005))
     grid = np.linspace(low, high, points)
     other = neighbour_alpha(row.alpha)
-    y = r.units(effect, row.alpha, grid, design=row.power)
+    y, y_other = r.units((effect, row.alpha, grid), (effect, other, grid), design=row.power)
     return Figure("power", *labels, False, _spans_decades(y),
                   Curve(grid * 100.0, y, _alpha_label(row.alpha)),
-                  Curve(grid * 100.0, r.units(effect, other, grid, design=row.power),
-                        _alpha_label(other)),
+                  Curve(grid * 100.0, y_other, _alpha_label(other)),
                   (row.power * 100.0, row.units_control), Curve(_EMPTY, _EMPTY, ""),
                   math.nan, "", "")
 
@@ -414,11 +426,11 @@ def _alpha_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, 
     high = max(ALPHA_RANGE[1], min(0.5, row.alpha * 1.5))
     grid = np.geomspace(low, high, points)
     other = neighbour_power(row.power)
-    y = r.units(effect, grid, row.power, design=row.alpha, log=True)
+    y, y_other = r.units((effect, grid, row.power), (effect, grid, other), design=row.alpha,
+                         log=True)
     return Figure("alpha", *labels, True, _spans_decades(y),
                   Curve(grid, y, _power_label(row.power)),
-                  Curve(grid, r.units(effect, grid, other, design=row.alpha, log=True),
-                        _power_label(other)),
+                  Curve(grid, y_other, _power_label(other)),
                   (row.alpha, row.units_control), Curve(_EMPTY, _EMPTY, ""),
                   math.nan, "", "")
 
@@ -438,16 +450,19 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
     week_days = 7.0 * np.arange(1, weeks + 1)
     other = neighbour_power(row.power)
 
-    def effect_at(day_values, power):
-        units = runtime_units(dataclasses.replace(settings, runtime_days=day_values))
-        return r.detectable(units, row.alpha, power) * scale
+    def units_after(day_values):
+        return runtime_units(dataclasses.replace(settings, runtime_days=day_values))
 
+    at_days, at_days_other, at_weeks = (
+        values * scale for values in r.detectable((units_after(days), row.alpha, row.power),
+                                                  (units_after(days), row.alpha, other),
+                                                  (units_after(week_days), row.alpha, row.power)))
     duration = result.duration_days
     guide = float(duration) if duration is not None and math.isfinite(duration) else math.nan
     guide_label = f"test runs {guide:g} d" if math.isfinite(guide) else ""
     return Figure("runtime", *labels, False, False,
-                  Curve(days, effect_at(days, row.power), _power_label(row.power)),
-                  Curve(days, effect_at(days, other), _power_label(other)),
+                  Curve(days, at_days, _power_label(row.power)),
+                  Curve(days, at_days_other, _power_label(other)),
                   (needed, effect * scale),
-                  Curve(week_days, effect_at(week_days, row.power), "whole weeks"),
+                  Curve(week_days, at_weeks, "whole weeks"),
                   guide, guide_label, "")
