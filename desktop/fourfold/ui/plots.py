@@ -450,11 +450,17 @@ class FigureGrid(pg.GraphicsLayoutWidget):
         self.handle.label.setFont(style.font(TICK_POINTS))
 
     def settle(self) -> None:
-        """Apply pending layout changes now (new axis labels), so the next frame is final."""
+        """Apply pending layout changes now (new axis labels), so the next frame is final.
+
+        The view ranges that follow the data are settled here too: left to the paint, a range
+        change there asks for a second paint of every figure.
+        """
         for plot in self.plots.values():
             plot.item.layout.activate()
         self.ci.layout.activate()
         self.plots["runtime"].fit()
+        for plot in self.plots.values():
+            plot.item.vb.prepareForPaint()
 
     def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
         super().resizeEvent(event)
