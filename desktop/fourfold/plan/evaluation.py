@@ -49,6 +49,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import operator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
@@ -67,6 +68,8 @@ DECIDING_ROLES = ("primary", "guardrail")
 _ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative", "margin",
                "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n")
 """The metric fields a row's result depends on (with its corrected α and the settings)."""
+
+_ROW_KEY = operator.attrgetter(*_ROW_INPUTS)
 
 _SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
 
@@ -305,24 +308,30 @@ def _evaluate_rows(plan: Plan, designs: dict,
     if not metrics:
         return ()
     alphas = _row_alphas(plan)
-    keys = None
-    if cache is not None:
-        keys = [(alphas[index], tuple(getattr(metric, name) for name in _ROW_INPUTS))
-                for index, metric in enumerate(metrics)]
-    factors = engine.variance_factor(
-        _column([metric.rho for metric in metrics]),
-        _column([metric.cluster_size for metric in metrics]),
-        _column([metric.icc for metric in metrics]),
-        _column([metric.cluster_cv for metric in metrics]),
-    )
     results: list[RowResult | None] = [None] * len(metrics)
+    keys = None
+    missing = range(len(metrics))
+    if cache is not None:
+        keys = list(zip(alphas, map(_ROW_KEY, metrics), strict=True))
+        missing = []
+        for index, key in enumerate(keys):
+            results[index] = cache.rows.get(key)
+            if results[index] is None:
+                missing.append(index)
+    if not missing:
+        cache.rows = dict(zip(keys, results, strict=True))
+        return tuple(results)
+    todo = [metrics[index] for index in missing]
+    factors = engine.variance_factor(
+        _column([metric.rho for metric in todo]),
+        _column([metric.cluster_size for metric in todo]),
+        _column([metric.icc for metric in todo]),
+        _column([metric.cluster_cv for metric in todo]),
+    )
     pending: dict[int, _Pending] = {}
     groups: dict[tuple, list[int]] = {}
-    for index, metric in enumerate(metrics):
-        if keys is not None and keys[index] in cache.rows:
-            results[index] = cache.rows[keys[index]]
-            continue
-        prepared = _prepare_row(plan, metric, alphas[index], float(factors[index]), designs)
+    for index, metric, factor in zip(missing, todo, factors.tolist(), strict=True):
+        prepared = _prepare_row(plan, metric, alphas[index], factor, designs)
         if isinstance(prepared, RowResult):
             results[index] = prepared
             continue
