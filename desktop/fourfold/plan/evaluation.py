@@ -38,6 +38,12 @@ Problems
     A row that cannot be computed gets ``nan`` results and the engine's reason
     (:func:`fourfold.engine.problems`) in ``reason``; :func:`compute` does not raise for a plan
     whose fields are valid.
+Engine calls
+    Rows that share kind, method, direction, the quantity solved and whether they give an sd
+    are solved together in one vectorised engine call
+    (:func:`fourfold.engine.values_and_reasons`: values and reasons from one solve), so the
+    number of calls does not grow with the rows; a :class:`RowCache` skips rows whose inputs
+    did not change since the document's last evaluation.
 
 References
 ----------
