@@ -36,6 +36,7 @@ DRAG_INTERVAL_MS = 40
 SLIDER_STEPS = 200
 SCREEN_DPI = 96.0
 WIDEST_TICK = "−00.0k"
+PADDING = 0.03
 
 _GRID = ((0, 0), (0, 1), (1, 0), (1, 1))
 LEGEND_LEFT = (8, 8)
@@ -208,7 +209,8 @@ class _Plot:
         self.item.hideButtons()
         self.item.setMouseEnabled(x=False, y=False)
         self.item.showGrid(x=True, y=True, alpha=0.3)
-        self.item.vb.setDefaultPadding(0.03)
+        self.item.vb.setDefaultPadding(PADDING)
+        self.item.vb.disableAutoRange()
         self.neighbour = self.item.plot([], [], connect="finite")
         self.curve = self.item.plot([], [], connect="finite")
         self.marks = self.item.plot([], [], pen=None, symbol="o")
@@ -234,6 +236,8 @@ class _Plot:
         self._figure: Figure | None = None
         self._unit = ""
         self._texts: tuple | None = None
+        self._range: tuple[tuple[float, float], tuple[float, float]] | None = None
+        self._log = (False, False)
 
     def apply_style(self, style: Style) -> None:
         width = 2.6 * style.pen_scale
@@ -285,7 +289,9 @@ class _Plot:
         if self._figure is not None:
             self.set_figure(self._figure, style, self._unit)
 
-    def set_figure(self, figure: Figure, style: Style, unit: str = "") -> None:
+    def set_figure(self, figure: Figure, style: Style, unit: str = "", *,
+                   sticky: bool = False) -> None:
+        """Show ``figure``; with ``sticky`` the view range stays while the data fit it."""
         self._figure = figure
         self._unit = unit
         texts = (figure.title, figure.x_label, figure.y_label, style)
@@ -300,9 +306,13 @@ class _Plot:
             self.item.setLabel("bottom", figure.x_label, **labels)
             self.item.setLabel("left", figure.y_label, **labels)
         empty = bool(figure.reason)
-        self.item.setLogMode(x=figure.x_log and not empty, y=figure.y_log and not empty)
-        self.curve.setData(figure.curve.x, figure.curve.y)
-        self.neighbour.setData(figure.neighbour.x, figure.neighbour.y)
+        log = (figure.x_log and not empty, figure.y_log and not empty)
+        if log != self._log:
+            self._log = log
+            self._range = None
+        self.item.setLogMode(x=log[0], y=log[1])
+        self.curve.setData(figure.curve.x, figure.curve.y, skipFiniteCheck=True)
+        self.neighbour.setData(figure.neighbour.x, figure.neighbour.y, skipFiniteCheck=True)
         self.marks.setData(figure.marks.x, figure.marks.y)
         x, y = figure.point
         finite = math.isfinite(x) and math.isfinite(y)
@@ -315,27 +325,43 @@ class _Plot:
             self.message.setText(figure.reason)
             self.message.setPos(0.5, 0.5)
             self.message.show()
-            self.item.setRange(xRange=(0, 1), yRange=(0, 1), padding=0)
+            self._set_range(((0.0, 1.0), (0.0, 1.0)))
+            self._range = None
         else:
             self.message.hide()
-            self.item.enableAutoRange()
-            if len(figure.marks.y) and math.isfinite(figure.marks.y[0]):
-                self._clip_top(figure)
+            self._follow(figure, sticky)
 
-    def _clip_top(self, figure: Figure) -> None:
-        """Runtime figure: keep the steep first days from squashing the weeks that matter.
+    def _follow(self, figure: Figure, sticky: bool) -> None:
+        """Range the view on the data, or keep the current range while the data fit it.
 
-        Only when the detectable effect shrinks towards zero with the days (a superiority
-        test); a non-inferiority curve is shown whole.
+        A sticky range changes only when the data leave it or fill less than half of it, so
+        that small edits leave the axes (and their cached tick pictures) as they are.
         """
-        y = figure.curve.y[np.isfinite(figure.curve.y)]
-        if y.size < 2 or not abs(y[0]) > abs(y[-1]) or not np.all(np.sign(y) == np.sign(y[-1])):
+        xs = [_view(c.x, self._log[0]) for c in (figure.curve, figure.neighbour, figure.marks)]
+        ys = [_view(c.y, self._log[1]) for c in (figure.curve, figure.neighbour, figure.marks)]
+        xs.append(_view([figure.point[0]], self._log[0]))
+        ys.append(_view([figure.point[1]], self._log[1]))
+        finite = [(x[m], y[m]) for x, y in zip(xs, ys, strict=True)
+                  if (m := np.isfinite(x) & np.isfinite(y)).any()]
+        if not finite:
             return
-        reach = max(abs(figure.marks.y[0]) * 1.5, abs(figure.point[1]) * 1.8)
-        if math.isfinite(reach) and reach > 0:
-            self.item.enableAutoRange(axis="x")
-            low, high = (0.0, reach) if y[-1] > 0 else (-reach, 0.0)
-            self.item.setYRange(low, high, padding=0.02)
+        x = np.concatenate([f[0] for f in finite])
+        y = np.concatenate([f[1] for f in finite])
+        data = [(float(x.min()), float(x.max()), PADDING), (float(y.min()), float(y.max()),
+                                                             PADDING)]
+        if len(figure.marks.y) and math.isfinite(figure.marks.y[0]):
+            top = _clip_top(figure)
+            if top is not None:
+                data[1] = (*top, 0.02)
+        old = self._range if sticky else None
+        target = tuple(_settled(low, high, pad, None if old is None else old[axis])
+                       for axis, (low, high, pad) in enumerate(data))
+        if target != self._range:
+            self._set_range(target)
+
+    def _set_range(self, target: tuple[tuple[float, float], tuple[float, float]]) -> None:
+        self._range = target
+        self.item.setRange(xRange=target[0], yRange=target[1], padding=0)
 
     def clear(self) -> None:
         """Show nothing (no row selected)."""
@@ -346,6 +372,7 @@ class _Plot:
             item.hide()
         self.item.setTitle(None)
         self._texts = None
+        self._range = None
 
     def _set_legend(self, figure: Figure) -> None:
         texts = [figure.curve.label, figure.neighbour.label]
@@ -410,6 +437,43 @@ class _Plot:
         self.guide.setVisible(shown)
 
 
+def _clip_top(figure: Figure) -> tuple[float, float] | None:
+    """Runtime figure: keep the steep first days from squashing the weeks that matter.
+
+    The y range to show, or ``None`` to show the curve whole: only when the detectable effect
+    shrinks towards zero with the days (a superiority test); a non-inferiority curve is shown
+    whole.
+    """
+    y = figure.curve.y[np.isfinite(figure.curve.y)]
+    if y.size < 2 or not abs(y[0]) > abs(y[-1]) or not np.all(np.sign(y) == np.sign(y[-1])):
+        return None
+    reach = max(abs(figure.marks.y[0]) * 1.5, abs(figure.point[1]) * 1.8)
+    if not (math.isfinite(reach) and reach > 0):
+        return None
+    return (0.0, reach) if y[-1] > 0 else (-reach, 0.0)
+
+
+def _settled(low: float, high: float, padding: float,
+             current: tuple[float, float] | None) -> tuple[float, float]:
+    """The view range of one axis for data from ``low`` to ``high``.
+
+    ``current`` stays while it holds the data and the data fill at least half of it;
+    otherwise the data's range widened by ``padding`` of its span on each side.
+
+    Examples
+    --------
+    >>> _settled(1.0, 3.0, 0.05, None)
+    (0.9, 3.1)
+    >>> _settled(1.0, 3.0, 0.05, (0.5, 3.5)), _settled(1.0, 3.0, 0.05, (0.0, 9.0))
+    ((0.5, 3.5), (0.9, 3.1))
+    """
+    if current is not None and current[0] <= low and high <= current[1] \
+            and high - low >= 0.5 * (current[1] - current[0]):
+        return current
+    span = high - low or abs(low) or 1.0
+    return (low - padding * span, high + padding * span)
+
+
 class FigureGrid(pg.GraphicsLayoutWidget):
     """The four figures of one row in a 2 × 2 grid, plus the draggable effect marker.
 
@@ -452,15 +516,13 @@ class FigureGrid(pg.GraphicsLayoutWidget):
     def settle(self) -> None:
         """Apply pending layout changes now (new axis labels), so the next frame is final.
 
-        The view ranges that follow the data are settled here too: left to the paint, a range
-        change there asks for a second paint of every figure.
+        The view ranges are set by the figures themselves (no auto-range left to the paint,
+        which would ask for a second paint of every figure).
         """
         for plot in self.plots.values():
             plot.item.layout.activate()
         self.ci.layout.activate()
         self.plots["runtime"].fit()
-        for plot in self.plots.values():
-            plot.item.vb.prepareForPaint()
 
     def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
         super().resizeEvent(event)
@@ -477,12 +539,17 @@ class FigureGrid(pg.GraphicsLayoutWidget):
             plot.clear()
         self.handle.hide()
 
-    def set_tradeoffs(self, data: Tradeoffs, *, keep_handle: bool = False) -> None:
+    def set_tradeoffs(self, data: Tradeoffs, *, keep_handle: bool = False,
+                      sticky: bool = False) -> None:
         """Show a row's figures; ``keep_handle`` leaves the effect marker where the user holds it.
+
+        ``sticky`` keeps each figure's view range while the new data fit it (an edit of the row
+        on show); otherwise every figure is ranged on its data.
         """
         self.shown = data
         for figure in data.figures:
-            self.plots[figure.name].set_figure(figure, self.style, data.effect_unit)
+            self.plots[figure.name].set_figure(figure, self.style, data.effect_unit,
+                                               sticky=sticky)
         x = data.effect.point[0]
         visible = data.effect_editable and not data.effect.reason and math.isfinite(x)
         self.handle.setVisible(visible)
@@ -632,8 +699,9 @@ class PlotPanel(QWidget):
         data = tradeoffs(plan, index, result, effect_span=span)
         if span is not None and not dragging and _near_edge(data):
             data = tradeoffs(plan, index, result)  # re-centre once the user lets go
+        sticky = key == self._span_key
         self._span_key = key
-        self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving)
+        self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving, sticky=sticky)
         show_simulation(self.grid, plan, result, index)
         self.grid.settle()
         self._sync_slider(data)
