@@ -156,3 +156,21 @@ def test_verdict_levels(power, expected):
                  alpha=0.05)
     assert verdict(check) == expected
     assert message(check)
+
+
+def test_false_positive_rate_outside_its_interval_is_explained_by_its_side():
+    # Wording rule (common practice, no source): a test rejecting more often than α under H0
+    # breaks its level; one rejecting less often is conservative.
+    from fourfold.simulation.check import message
+
+    base = {"power": 0.8, "low": 0.78, "high": 0.82, "reps": 2000, "seed": 0,
+            "analytic_power": 0.8, "alpha": 0.05}
+    high = message({**base, "false_positive": 0.09, "false_positive_low": 0.078,
+                    "false_positive_high": 0.103})
+    low = message({**base, "false_positive": 0.02, "false_positive_low": 0.015,
+                   "false_positive_high": 0.027})
+    fine = message({**base, "false_positive": 0.05, "false_positive_low": 0.041,
+                    "false_positive_high": 0.06})
+    assert "may not hold" in high and "conservative" not in high
+    assert "conservative" in low and "may not hold" not in low
+    assert "Under H0" not in fine
