@@ -14,10 +14,16 @@ from __future__ import annotations
 
 from PySide6.QtCore import QItemSelection, QItemSelectionModel, Qt, Signal
 from PySide6.QtGui import QFont, QFontMetrics, QGuiApplication, QKeySequence
-from PySide6.QtWidgets import QAbstractItemDelegate, QAbstractItemView, QHeaderView, QTableView
+from PySide6.QtWidgets import (
+    QAbstractItemDelegate,
+    QAbstractItemView,
+    QHeaderView,
+    QStyle,
+    QTableView,
+)
 
 from fourfold.plan.commands import SetFields
-from fourfold.ui.columns import COLUMNS
+from fourfold.ui.columns import COLUMNS, NUMBER
 from fourfold.ui.delegates import PlanDelegate
 from fourfold.ui.table_model import PlanTableModel
 
@@ -73,6 +79,9 @@ class PlanTableView(QTableView):
         vertical = self.verticalHeader()
         vertical.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
         vertical.setDefaultAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        # rows brought into view by scrolling or a taller table are measured as they appear
+        self.verticalScrollBar().valueChanged.connect(self._widen_shown)
+        self.verticalScrollBar().rangeChanged.connect(self._widen_shown)
 
     def plan_model(self) -> PlanTableModel:
         """The model, typed."""
@@ -81,7 +90,14 @@ class PlanTableView(QTableView):
     def setModel(self, model) -> None:  # noqa: N802 (Qt's name)
         super().setModel(model)
         model.document.computed.connect(self.follow_looks)
+        model.dataChanged.connect(self.widen_columns)
         self.follow_looks()
+
+    def _widen_shown(self, *_args) -> None:
+        model = self.model()
+        if model is not None and model.rowCount():
+            self.widen_columns(model.index(0, 0),
+                               model.index(model.rowCount() - 1, model.columnCount() - 1))
 
     def follow_looks(self) -> None:
         """Show the interim-look columns only while the plan has more than one look."""
@@ -105,6 +121,48 @@ class PlanTableView(QTableView):
             content = self.sizeHintForColumn(position) + 6
             wanted = max(title, min(content, MAX_COLUMN_CHARS * char), column.width * char)
             self.setColumnWidth(position, wanted)
+
+    def widen_columns(self, top_left, bottom_right, roles=()) -> None:
+        """Widen the number and result columns whose changed cells no longer fit.
+
+        Connected to the model's ``dataChanged``: only the announced cells in rows on screen
+        are measured (scrolling measures the rows it brings into view), and a column only ever
+        grows here (:meth:`fit_columns` sizes it afresh after a load).
+        """
+        if roles and Qt.ItemDataRole.DisplayRole not in roles:
+            return
+        model = self.model()
+        top = self.rowAt(0)
+        if top < 0:
+            return
+        bottom = self.rowAt(self.viewport().height() - 1)
+        bottom = model.rowCount() - 1 if bottom < 0 else bottom
+        rows = range(max(top, top_left.row()), min(bottom, bottom_right.row()) + 1)
+        if not rows:
+            return
+        margin = 2 * (self.style().pixelMetric(QStyle.PixelMetric.PM_FocusFrameHMargin, None,
+                                               self) + 1) + 6
+        base = self.font()
+        measures: dict[tuple[bool, bool], QFontMetrics] = {}
+        for position in range(top_left.column(), bottom_right.column() + 1):
+            column = COLUMNS[position]
+            if not (column.computed or column.editor == NUMBER) or self.isColumnHidden(position):
+                continue
+            widest = 0
+            for row in rows:
+                index = model.index(row, position)
+                text = model.data(index, Qt.ItemDataRole.DisplayRole)
+                if not text:
+                    continue
+                font = model.data(index, Qt.ItemDataRole.FontRole)
+                key = (False, False) if font is None else (font.bold(), font.italic())
+                measure = measures.get(key)
+                if measure is None:
+                    measure = measures[key] = QFontMetrics(
+                        base if font is None else font.resolve(base))
+                widest = max(widest, measure.horizontalAdvance(text))
+            if widest + margin > self.columnWidth(position):
+                self.setColumnWidth(position, widest + margin)
 
     def wanted_height(self, rows: int) -> int:
         """Height showing the header and ``rows`` rows without scrolling."""
