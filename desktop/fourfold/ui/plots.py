@@ -238,6 +238,7 @@ class _Plot:
         self._texts: tuple | None = None
         self._range: tuple[tuple[float, float], tuple[float, float]] | None = None
         self._log = (False, False)
+        self._corner: tuple[int, int] | None = None
 
     def apply_style(self, style: Style) -> None:
         width = 2.6 * style.pen_scale
@@ -282,6 +283,7 @@ class _Plot:
         self.legend.setLabelTextSize(style.size(TICK_POINTS))
         for _, label in self.legend.items:  # the new size shows once the text is set again
             label.setText(label.text)
+        self.legend.updateSize()
         legend_back = QColor(style.background)
         legend_back.setAlpha(215)
         self.legend.setBrush(legend_back)
@@ -378,18 +380,23 @@ class _Plot:
         texts = [figure.curve.label, figure.neighbour.label]
         if figure.name == "runtime":
             texts.append(_point_text(figure, self._unit))
+        changed = False
         for (_, label), text in zip(self.legend.items, texts, strict=True):
             if label.text != text:
                 label.setText(text)
+                changed = True
         self.legend.setVisible(not figure.reason and bool(figure.curve.label))
-        self.legend.updateSize()
+        if changed:  # re-measuring the legend moves every label: only for new texts
+            self.legend.updateSize()
         finite = figure.curve.y[np.isfinite(figure.curve.y)]
         rising = finite.size > 1 and finite[-1] > finite[0]
         if figure.name == "runtime":  # week labels sit below the curve, left of each point
             corner = LEGEND_LOW_RIGHT if rising else LEGEND_RIGHT
         else:
             corner = LEGEND_LEFT if rising else LEGEND_RIGHT
-        self.legend.setOffset(corner)
+        if corner != self._corner:
+            self._corner = corner
+            self.legend.setOffset(corner)
 
     def _set_texts(self, figure: Figure, show_point: bool) -> None:
         x, y = figure.point
@@ -402,7 +409,9 @@ class _Plot:
         ys = _view(figure.marks.y, figure.y_log)
         for i, text in enumerate(self.mark_texts):
             if i < len(xs) and math.isfinite(xs[i]) and math.isfinite(ys[i]):
-                text.setText(format_number(float(figure.marks.y[i])))
+                label = format_number(float(figure.marks.y[i]))
+                if text.toPlainText() != label:
+                    text.setText(label)
                 text.setPos(float(xs[i]), float(ys[i]))
 
     def fit(self) -> None:
