@@ -289,17 +289,17 @@ class _Row:
             return np.interp(np.log(grid), np.log(nodes), values)
         return np.interp(grid, nodes, values)
 
-    def units(self, *curves: tuple) -> list[np.ndarray]:
+    def units(self, *curves: tuple, design: float | None = None,
+              log: bool = False) -> list[np.ndarray]:
         """Control-arm units (design factor and interim looks included), as the evaluation
-        computes them, for each ``(effect, alpha, power[, design[, log]])`` of ``curves``
-        (one engine call); ``design`` and ``log`` are passed to :meth:`inflation`."""
+        computes them, for each ``(effect, alpha, power)`` of ``curves`` (one engine call)."""
         metric = self.metric
         with np.errstate(all="ignore"):
             n = _split(lambda e, a, p: engine.sample_size(metric.kind, metric.baseline, e,
                                                           alpha=a, power=p, **self.common),
-                       [curve[:3] for curve in curves])
-        return [values * self.row.design_factor * self.inflation(*curve[1:])
-                for values, curve in zip(n, curves, strict=True)]
+                       curves)
+        return [values * self.row.design_factor * self.inflation(alpha, power, design, log)
+                for values, (_, alpha, power) in zip(n, curves, strict=True)]
 
     def detectable(self, *curves: tuple) -> list[np.ndarray]:
         """Detectable effect (row units) for each ``(n_control, alpha, power)`` of ``curves``
@@ -381,61 +381,55 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
 
     engine_row = _Row(plan, metric, row)
     span = effect_span if _usable_span(effect_span, effect) else _default_span(metric, effect)
-    grids = (np.linspace(span[0], span[1], points), _power_grid(row, points),
-             _alpha_grid(row, points))
-    powers = (row.power, neighbour_power(row.power))
-    alphas = (row.alpha, neighbour_alpha(row.alpha))
-    units = engine_row.units(  # the three sample-size figures in one engine call
-        *((grids[0], row.alpha, p) for p in powers),
-        *((effect, a, grids[1], row.power) for a in alphas),
-        *((effect, grids[2], p, row.alpha, True) for p in powers))
     figures = (
-        _effect_figure(row, effect, grids[0], units[0:2], powers, scale, labels["effect"]),
-        _power_figure(row, grids[1], units[2:4], alphas, labels["power"]),
-        _alpha_figure(row, grids[2], units[4:6], powers, labels["alpha"]),
+        _effect_figure(engine_row, effect, span, scale, labels["effect"], points),
+        _power_figure(engine_row, effect, scale, labels["power"], points),
+        _alpha_figure(engine_row, effect, scale, labels["alpha"], points),
         _runtime_figure(engine_row, result, effect, scale, labels["runtime"], points),
     )
     return Tradeoffs(index, metric.name, scale, unit, (float(span[0]), float(span[1])),
                      editable, *figures, "")
 
 
-def _power_grid(row: RowResult, points: int) -> np.ndarray:
-    low = max(0.05, min(POWER_RANGE[0], row.power - 0.05))
-    high = min(0.999, max(POWER_RANGE[1], row.power + 0.005))
-    return np.linspace(low, high, points)
-
-
-def _alpha_grid(row: RowResult, points: int) -> np.ndarray:
-    low = min(ALPHA_RANGE[0], row.alpha / 2.0)
-    high = max(ALPHA_RANGE[1], min(0.5, row.alpha * 1.5))
-    return np.geomspace(low, high, points)
-
-
-def _effect_figure(row: RowResult, effect: float, grid: np.ndarray, units, powers, scale: float,
-                   labels: tuple[str, str, str]) -> Figure:
-    (y, y_other), (power, other) = units, powers
+def _effect_figure(r: _Row, effect: float, span: tuple[float, float], scale: float,
+                   labels: tuple[str, str, str], points: int) -> Figure:
+    row = r.row
+    grid = np.linspace(span[0], span[1], points)
+    other = neighbour_power(row.power)
+    y, y_other = r.units((grid, row.alpha, row.power), (grid, row.alpha, other))
     return Figure("effect", *labels, False, _spans_decades(y),
-                  Curve(grid * scale, y, _power_label(power)),
+                  Curve(grid * scale, y, _power_label(row.power)),
                   Curve(grid * scale, y_other, _power_label(other)),
                   (effect * scale, row.units_control), Curve(_EMPTY, _EMPTY, ""),
                   math.nan, "", "")
 
 
-def _power_figure(row: RowResult, grid: np.ndarray, units, alphas,
-                  labels: tuple[str, str, str]) -> Figure:
-    (y, y_other), (alpha, other) = units, alphas
+def _power_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, str],
+                  points: int) -> Figure:
+    row = r.row
+    low = max(0.05, min(POWER_RANGE[0], row.power - 0.05))
+    high = min(0.999, max(POWER_RANGE[1], row.power + 0.005))
+    grid = np.linspace(low, high, points)
+    other = neighbour_alpha(row.alpha)
+    y, y_other = r.units((effect, row.alpha, grid), (effect, other, grid), design=row.power)
     return Figure("power", *labels, False, _spans_decades(y),
-                  Curve(grid * 100.0, y, _alpha_label(alpha)),
+                  Curve(grid * 100.0, y, _alpha_label(row.alpha)),
                   Curve(grid * 100.0, y_other, _alpha_label(other)),
                   (row.power * 100.0, row.units_control), Curve(_EMPTY, _EMPTY, ""),
                   math.nan, "", "")
 
 
-def _alpha_figure(row: RowResult, grid: np.ndarray, units, powers,
-                  labels: tuple[str, str, str]) -> Figure:
-    (y, y_other), (power, other) = units, powers
+def _alpha_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, str],
+                  points: int) -> Figure:
+    row = r.row
+    low = min(ALPHA_RANGE[0], row.alpha / 2.0)
+    high = max(ALPHA_RANGE[1], min(0.5, row.alpha * 1.5))
+    grid = np.geomspace(low, high, points)
+    other = neighbour_power(row.power)
+    y, y_other = r.units((effect, grid, row.power), (effect, grid, other), design=row.alpha,
+                         log=True)
     return Figure("alpha", *labels, True, _spans_decades(y),
-                  Curve(grid, y, _power_label(power)),
+                  Curve(grid, y, _power_label(row.power)),
                   Curve(grid, y_other, _power_label(other)),
                   (row.alpha, row.units_control), Curve(_EMPTY, _EMPTY, ""),
                   math.nan, "", "")
