@@ -37,3 +37,15 @@ def make_window(qtbot, qsettings, tmp_path):
     yield build
     for window in windows:
         window.document.stack.mark_clean()
+
+
+@pytest.fixture
+def panel(qtbot):
+    """A shown plot panel of a fixed size."""
+    from fourfold.ui.plots import PlotPanel
+
+    widget = PlotPanel()
+    qtbot.addWidget(widget)
+    widget.resize(720, 640)
+    widget.show()
+    return widget

@@ -29,15 +29,6 @@ def _plan(sd: float) -> Plan:
                         relative=True)])
 
 
-@pytest.fixture
-def panel(qtbot):
-    widget = PlotPanel()
-    qtbot.addWidget(widget)
-    widget.resize(720, 640)
-    widget.show()
-    return widget
-
-
 def _show(qtbot, panel, plan, index):
     before = panel.tradeoffs
     panel.show_row(plan, compute(plan), index)

@@ -18,7 +18,7 @@ from fourfold import engine
 from fourfold.plan.evaluation import compute
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.ui import theme
-from fourfold.ui.plots import PlotPanel, compact, paint_tradeoffs
+from fourfold.ui.plots import compact, paint_tradeoffs
 
 pytestmark = pytest.mark.qt
 
@@ -34,15 +34,6 @@ def make_plan(effect: float = 0.05) -> Plan:
             Metric(name="Broken", role="secondary", kind="proportion", baseline=1.5),
         ],
     )
-
-
-@pytest.fixture
-def panel(qtbot):
-    widget = PlotPanel()
-    qtbot.addWidget(widget)
-    widget.resize(720, 640)
-    widget.show()
-    return widget
 
 
 def show(qtbot, panel, plan, index):
