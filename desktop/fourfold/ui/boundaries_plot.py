@@ -134,26 +134,10 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
                          str(z).replace("-", MINUS))
     painter.drawText(QRectF(rect.left(), plot.top() - 1.15 * line, gutter, line), right, "z")
     efficacy = [at(x, look.z_efficacy) for x, look in zip(xs, looks, strict=True)]
-    region = QPainterPath()
-    region.moveTo(QPointF(efficacy[0].x(), plot.top()))
-    for point in efficacy:
-        region.lineTo(point)
-    region.lineTo(QPointF(plot.right(), plot.top()))
-    region.closeSubpath()
-    shade = QColor(style.efficacy)
-    shade.setAlphaF(0.12)
-    painter.fillPath(region, shade)
+    _shade(painter, efficacy, plot.top(), plot.right(), style.efficacy, 0.12)
     if futile:
         floor = [at(x, look.z_futility) for x, look in zip(xs, looks, strict=True)]
-        region = QPainterPath()
-        region.moveTo(QPointF(floor[0].x(), plot.bottom()))
-        for point in floor:
-            region.lineTo(point)
-        region.lineTo(QPointF(plot.right(), plot.bottom()))
-        region.closeSubpath()
-        shade = QColor(style.futility)
-        shade.setAlphaF(0.14)
-        painter.fillPath(region, shade)
+        _shade(painter, floor, plot.bottom(), plot.right(), style.futility, 0.14)
         _curve(painter, floor, style.futility, Qt.PenStyle.DashLine, px)
 
     _curve(painter, efficacy, style.efficacy, Qt.PenStyle.SolidLine, px)
@@ -182,6 +166,19 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     painter.setPen(style.foreground)
     _legend(painter, QPointF(rect.left(), rect.top() + 1.7 * line), items, stacked, px)
     painter.restore()
+
+
+def _shade(painter, points, edge, right, colour, alpha):
+    """Fill the region between a boundary and the plot's top or bottom edge (``edge``)."""
+    region = QPainterPath()
+    region.moveTo(QPointF(points[0].x(), edge))
+    for point in points:
+        region.lineTo(point)
+    region.lineTo(QPointF(right, edge))
+    region.closeSubpath()
+    shade = QColor(colour)
+    shade.setAlphaF(alpha)
+    painter.fillPath(region, shade)
 
 
 def _curve(painter: QPainter, points: list[QPointF], colour: QColor, dash, px: float) -> None:

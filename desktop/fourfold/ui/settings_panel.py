@@ -125,13 +125,8 @@ class SettingsPanel(QWidget):
         layout.addWidget(frame, 2)
 
         frame, grid = _group("Arms")
-        arms = QSpinBox()
-        arms.setRange(1, MAX_ARMS)
-        arms.setToolTip("Treatment arms, each compared with the one control arm.")
-        arms.valueChanged.connect(lambda value: self._commit("arms", value))
-        self.fields["arms"] = arms
-        grid.addWidget(self._label("Treatment arms", arms), 0, 0)
-        grid.addWidget(arms, 0, 1)
+        self._spin(grid, 0, "arms", "Treatment arms", MAX_ARMS,
+                   "Treatment arms, each compared with the one control arm.")
         self._number(grid, 1, 0, "ratio")
         layout.addWidget(frame, 1)
 
@@ -147,13 +142,8 @@ class SettingsPanel(QWidget):
         layout.addWidget(frame, 2)
 
         frame, grid = _group("Interim looks")
-        looks = QSpinBox()
-        looks.setRange(1, MAX_LOOKS)
-        looks.setToolTip("Analyses during the test, the last one included (1: a fixed design).")
-        looks.valueChanged.connect(lambda value: self._commit("looks", value))
-        self.fields["looks"] = looks
-        grid.addWidget(self._label("Looks", looks), 0, 0)
-        grid.addWidget(looks, 0, 1)
+        self._spin(grid, 0, "looks", "Looks", MAX_LOOKS,
+                   "Analyses during the test, the last one included (1: a fixed design).")
         futility = QCheckBox("Futility bound")
         futility.setToolTip("Also stop early when the effect looks absent.")
         futility.toggled.connect(lambda value: self._commit("futility", value))
@@ -188,6 +178,16 @@ class SettingsPanel(QWidget):
         self.fields[field] = edit
         grid.addWidget(self._label(text, edit), row, column)
         grid.addWidget(edit, row, column + 1)
+
+    def _spin(self, grid: QGridLayout, row: int, field: str, text: str, most: int,
+              tooltip: str) -> None:
+        spin = QSpinBox()
+        spin.setRange(1, most)
+        spin.setToolTip(tooltip)
+        spin.valueChanged.connect(lambda value: self._commit(field, value))
+        self.fields[field] = spin
+        grid.addWidget(self._label(text, spin), row, 0)
+        grid.addWidget(spin, row, 1)
 
     def _choice(self, grid: QGridLayout, row: int, column: int, field: str, text: str,
                 tooltip: str, labels: dict[str, str], span: int = 1) -> None:
