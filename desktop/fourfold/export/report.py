@@ -37,6 +37,7 @@ import math
 from dataclasses import dataclass, field
 
 from fourfold.plan import CHOICES
+from fourfold.plan.fields import CORRECTION_LABELS
 from fourfold.plan.sequential import looks_row, row_looks
 
 DASH = "—"
@@ -47,7 +48,6 @@ SOLVE_LABELS = {
     "power": "power",
     "significance_level": "α",
 }
-CORRECTION_LABELS = {"none": "none", "bonferroni": "Bonferroni", "sidak": "Šidák"}
 SPENDING_LABELS = {
     "ld-obrien-fleming": "Lan–DeMets, O'Brien–Fleming type",
     "ld-pocock": "Lan–DeMets, Pocock type",

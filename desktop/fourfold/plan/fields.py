@@ -25,6 +25,7 @@ from fourfold.plan.model import Metric, Settings
 
 ROLES = ("primary", "secondary", "guardrail")
 SOLVES = ("sample_size", "detectable_effect", "power", "significance_level")
+CORRECTION_LABELS = {"none": "none", "bonferroni": "Bonferroni", "sidak": "Šidák"}
 
 CHOICES: dict[str, Any] = {
     "role": ROLES,
