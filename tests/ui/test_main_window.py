@@ -263,6 +263,19 @@ def test_the_dark_palette_follows_the_scheme(make_window):
         assert _contrast(theme.tints(scheme).solved_text, theme.tints(scheme).solved) >= 7.0
 
 
+def test_a_live_scheme_change_restyles_the_headers_and_panels(make_window, monkeypatch):
+    from fourfold.ui import theme
+
+    window = make_window()
+    for dark in (True, False):
+        monkeypatch.setattr(theme, "system_is_dark", lambda dark=dark: dark)
+        window._follow_scheme()
+        button = theme.palette(dark).button().color().name()
+        assert window.dark is dark
+        assert button in window.table.horizontalHeader().styleSheet()
+        assert theme.palette(dark).base().color().name() in window.settings_panel.styleSheet()
+
+
 def _contrast(first, second) -> float:
     """Contrast ratio of two colours: W3C (2018) WCAG 2.1, relative luminance definition."""
     def luminance(colour):

@@ -314,9 +314,11 @@ class MainWindow(QMainWindow):
         """Style sheet details on top of the palette (group frames, title, summary, headers).
 
         The table's cells are left to the plain Fusion style: a style sheet on the table
-        itself would slow down every repaint of its cells.
+        itself would slow down every repaint of its cells. The colours come from the scheme's
+        palette, not ``self.palette()``: right after a live scheme change the window may still
+        hold the old one.
         """
-        palette = self.palette()
+        palette = theme.palette(self.dark)
         tints = theme.tints(self.dark)
         base_pt = max(QApplication.font().pointSizeF(), 9.0)
         sheet = STYLE.format(
