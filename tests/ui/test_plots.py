@@ -162,6 +162,28 @@ def test_painting_onto_an_image_draws_the_figures(qapp):
         assert inked[top:top + 350, left:left + 450].mean() > 0.01
 
 
+def test_a_panel_that_changed_rows_paints_like_a_fresh_one(qtbot, panel):
+    # The window keeps axes, titles and legends as pixmaps: a stale pixmap would keep the old
+    # row's ticks, and an axis label left where the old, shorter text was centred would sit
+    # off-centre. The panel that switched rows must paint exactly what a fresh panel paints.
+    from PySide6.QtWidgets import QGraphicsItem
+
+    from fourfold.ui.plots import PlotPanel
+
+    axis = panel.grid.plots["effect"].axes["left"]
+    assert axis.cacheMode() == QGraphicsItem.CacheMode.DeviceCoordinateCache
+    plan = make_plan()
+    show(qtbot, panel, plan, 0)
+    panel.grab()
+    show(qtbot, panel, plan, 1)
+    fresh = PlotPanel()
+    qtbot.addWidget(fresh)
+    fresh.resize(panel.size())
+    fresh.show()
+    show(qtbot, fresh, plan, 1)
+    assert panel.grab().toImage() == fresh.grab().toImage()
+
+
 def test_compact_tick_labels():
     assert [compact(v) for v in (950.0, 12_500.0, 3e6, -0.5)] == ["950", "12.5k", "3M", "−0.5"]
 
