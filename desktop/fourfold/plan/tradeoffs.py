@@ -14,7 +14,8 @@ For one row of a plan, four figures answer the questions a planning meeting asks
     week marked ("what each extra week buys"); beside it the neighbouring power. Needs the
     plan's daily units.
 
-Every curve is one vectorised engine call with the row's own design, exactly as
+The six curves of the first three figures are one vectorised engine call, the runtime
+figure's three curves another. Every curve uses the row's own design, exactly as
 :func:`fourfold.plan.evaluation.compute` evaluates the row: its α (overridden and corrected for
 multiple comparisons) and power come from the row's result, units are multiplied by the row's
 design factor and, with interim looks, by the inflation of the group sequential design the
@@ -289,17 +290,18 @@ class _Row:
             return np.interp(np.log(grid), np.log(nodes), values)
         return np.interp(grid, nodes, values)
 
-    def units(self, *curves: tuple, design: float | None = None,
-              log: bool = False) -> list[np.ndarray]:
+    def units(self, *curves: tuple) -> list[np.ndarray]:
         """Control-arm units (design factor and interim looks included), as the evaluation
-        computes them, for each ``(effect, alpha, power)`` of ``curves`` (one engine call)."""
+        computes them, for each ``(effect, alpha, power, design, log)`` of ``curves`` (one
+        engine call); ``design`` and ``log`` tell :meth:`inflation` where the row's own value
+        lies on the curve's grid and how to interpolate along it."""
         metric = self.metric
         with np.errstate(all="ignore"):
             n = _split(lambda e, a, p: engine.sample_size(metric.kind, metric.baseline, e,
                                                           alpha=a, power=p, **self.common),
-                       curves)
+                       [curve[:3] for curve in curves])
         return [values * self.row.design_factor * self.inflation(alpha, power, design, log)
-                for values, (_, alpha, power) in zip(n, curves, strict=True)]
+                for values, (_, alpha, power, design, log) in zip(n, curves, strict=True)]
 
     def detectable(self, *curves: tuple) -> list[np.ndarray]:
         """Detectable effect (row units) for each ``(n_control, alpha, power)`` of ``curves``
@@ -382,57 +384,49 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
     engine_row = _Row(plan, metric, row)
     span = effect_span if _usable_span(effect_span, effect) else _default_span(metric, effect)
     figures = (
-        _effect_figure(engine_row, effect, span, scale, labels["effect"], points),
-        _power_figure(engine_row, effect, scale, labels["power"], points),
-        _alpha_figure(engine_row, effect, scale, labels["alpha"], points),
+        *_units_figures(engine_row, effect, span, scale, labels, points),
         _runtime_figure(engine_row, result, effect, scale, labels["runtime"], points),
     )
     return Tradeoffs(index, metric.name, scale, unit, (float(span[0]), float(span[1])),
                      editable, *figures, "")
 
 
-def _effect_figure(r: _Row, effect: float, span: tuple[float, float], scale: float,
-                   labels: tuple[str, str, str], points: int) -> Figure:
+def _units_figures(r: _Row, effect: float, span: tuple[float, float], scale: float,
+                   labels: dict, points: int) -> tuple[Figure, Figure, Figure]:
+    """The effect, power and α figures: six curves of units from one engine call."""
     row = r.row
-    grid = np.linspace(span[0], span[1], points)
-    other = neighbour_power(row.power)
-    y, y_other = r.units((grid, row.alpha, row.power), (grid, row.alpha, other))
-    return Figure("effect", *labels, False, _spans_decades(y),
-                  Curve(grid * scale, y, _power_label(row.power)),
-                  Curve(grid * scale, y_other, _power_label(other)),
-                  (effect * scale, row.units_control), Curve(_EMPTY, _EMPTY, ""),
-                  math.nan, "", "")
-
-
-def _power_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, str],
-                  points: int) -> Figure:
-    row = r.row
+    effects = np.linspace(span[0], span[1], points)
     low = max(0.05, min(POWER_RANGE[0], row.power - 0.05))
     high = min(0.999, max(POWER_RANGE[1], row.power + 0.005))
-    grid = np.linspace(low, high, points)
-    other = neighbour_alpha(row.alpha)
-    y, y_other = r.units((effect, row.alpha, grid), (effect, other, grid), design=row.power)
-    return Figure("power", *labels, False, _spans_decades(y),
-                  Curve(grid * 100.0, y, _alpha_label(row.alpha)),
-                  Curve(grid * 100.0, y_other, _alpha_label(other)),
-                  (row.power * 100.0, row.units_control), Curve(_EMPTY, _EMPTY, ""),
-                  math.nan, "", "")
-
-
-def _alpha_figure(r: _Row, effect: float, scale: float, labels: tuple[str, str, str],
-                  points: int) -> Figure:
-    row = r.row
+    powers = np.linspace(low, high, points)
     low = min(ALPHA_RANGE[0], row.alpha / 2.0)
     high = max(ALPHA_RANGE[1], min(0.5, row.alpha * 1.5))
-    grid = np.geomspace(low, high, points)
-    other = neighbour_power(row.power)
-    y, y_other = r.units((effect, grid, row.power), (effect, grid, other), design=row.alpha,
-                         log=True)
-    return Figure("alpha", *labels, True, _spans_decades(y),
-                  Curve(grid, y, _power_label(row.power)),
-                  Curve(grid, y_other, _power_label(other)),
-                  (row.alpha, row.units_control), Curve(_EMPTY, _EMPTY, ""),
-                  math.nan, "", "")
+    alphas = np.geomspace(low, high, points)
+    other_power, other_alpha = neighbour_power(row.power), neighbour_alpha(row.alpha)
+    by_effect, by_effect_other, by_power, by_power_other, by_alpha, by_alpha_other = r.units(
+        (effects, row.alpha, row.power, None, False),
+        (effects, row.alpha, other_power, None, False),
+        (effect, row.alpha, powers, row.power, False),
+        (effect, other_alpha, powers, row.power, False),
+        (effect, alphas, row.power, row.alpha, True),
+        (effect, alphas, other_power, row.alpha, True),
+    )
+    point = row.units_control
+    nothing = Curve(_EMPTY, _EMPTY, "")
+    return (
+        Figure("effect", *labels["effect"], False, _spans_decades(by_effect),
+               Curve(effects * scale, by_effect, _power_label(row.power)),
+               Curve(effects * scale, by_effect_other, _power_label(other_power)),
+               (effect * scale, point), nothing, math.nan, "", ""),
+        Figure("power", *labels["power"], False, _spans_decades(by_power),
+               Curve(powers * 100.0, by_power, _alpha_label(row.alpha)),
+               Curve(powers * 100.0, by_power_other, _alpha_label(other_alpha)),
+               (row.power * 100.0, point), nothing, math.nan, "", ""),
+        Figure("alpha", *labels["alpha"], True, _spans_decades(by_alpha),
+               Curve(alphas, by_alpha, _power_label(row.power)),
+               Curve(alphas, by_alpha_other, _power_label(other_power)),
+               (row.alpha, point), nothing, math.nan, "", ""),
+    )
 
 
 def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
