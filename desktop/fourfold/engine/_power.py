@@ -47,17 +47,28 @@ def critical(alpha, alternative, exact_t, df):
     return _normal.upper_quantile(p)
 
 
+def _no_correction(cc):
+    """True when the continuity term is the plain number 0 (its terms then drop out exactly)."""
+    return isinstance(cc, float) and cc == 0.0
+
+
 def power_of(distance, s0, s1, cc, n, u, alternative, exact_t, ratio):
     """Power at control-arm size ``n`` for critical value ``u``; see the module docstring."""
     x = np.sqrt(n)
-    total = np.zeros(np.broadcast(distance, n, u).shape)
+    dx = distance * x
+    total = None
     if exact_t:
         df = degrees_of_freedom(n, ratio)
         for sign in _SIGNS[alternative]:
-            total = total + tdist.nct_sf(df, sign * distance * x / s0, u)
+            term = tdist.nct_sf(df, (dx if sign > 0 else -dx) / s0, u)
+            total = term if total is None else total + term
     else:
+        plain = _no_correction(cc)
+        cx, us = (None if plain else cc / x), u * s0
         for sign in _SIGNS[alternative]:
-            total = total + _normal.cdf((sign * distance * x - cc / x - u * s0) / s1)
+            signed = dx if sign > 0 else -dx
+            term = _normal.cdf(((signed if plain else signed - cx) - us) / s1)
+            total = term if total is None else total + term
     return np.minimum(total, 1.0)
 
 
@@ -68,19 +79,24 @@ def limit_power_and_slope(distance, s0, s1, cc, n, u, alternative, exact_t, rati
     (see :mod:`fourfold.engine.tdist`), used for starting points and Newton slopes only.
     """
     x = np.sqrt(n)
-    total = np.zeros(np.broadcast(distance, n, u).shape)
-    slope = np.zeros_like(total)
+    dx = distance * x
+    total = slope = None
     if exact_t:
         df = degrees_of_freedom(n, ratio)
         scale = np.sqrt(1.0 + u * u / (2.0 * df))
+        shift = u * (1.0 - 0.25 / df)
         for sign in _SIGNS[alternative]:
-            nc = sign * distance * x / s0
-            a = (nc - u * (1.0 - 0.25 / df)) / scale
-            total = total + _normal.cdf(a)
-            slope = slope + _normal.pdf(a) * 0.5 * nc / scale
+            nc = (dx if sign > 0 else -dx) / s0
+            a = (nc - shift) / scale
+            level, rise = _normal.cdf(a), _normal.pdf(a) * 0.5 * nc / scale
+            total, slope = (level, rise) if total is None else (total + level, slope + rise)
     else:
+        plain = _no_correction(cc)
+        cx, us = (None if plain else cc / x), u * s0
         for sign in _SIGNS[alternative]:
-            a = (sign * distance * x - cc / x - u * s0) / s1
-            total = total + _normal.cdf(a)
-            slope = slope + _normal.pdf(a) * (sign * distance * x + cc / x) / (2.0 * s1)
+            signed = dx if sign > 0 else -dx
+            a = ((signed if plain else signed - cx) - us) / s1
+            lever = signed if plain else signed + cx
+            level, rise = _normal.cdf(a), _normal.pdf(a) * lever / (2.0 * s1)
+            total, slope = (level, rise) if total is None else (total + level, slope + rise)
     return total, slope

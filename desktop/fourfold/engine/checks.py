@@ -12,6 +12,7 @@ Examples
 'baseline must be between 0 and 1 (exclusive) for a proportion'
 """
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -33,7 +34,8 @@ class Prepared:
     """Flattened, broadcast inputs of one call and the reason per element.
 
     ``effect`` and ``margin`` are absolute (already multiplied by the baseline when the
-    call was relative); arrays not needed by the solve hold nan.
+    call was relative); arrays not needed by the solve hold nan.  ``ok`` marks the elements
+    that can be computed (those whose reason is ``""``).
     """
 
     solve: str
@@ -52,11 +54,13 @@ class Prepared:
     margin: np.ndarray
     relative: np.ndarray
     reasons: np.ndarray
+    ok: np.ndarray
 
-    @property
-    def ok(self):
-        """Boolean mask of the elements that can be computed."""
-        return self.reasons == ""
+
+_ORDER = ("baseline", "effect", "n", "alpha", "power", "ratio", "margin", "sd")
+"""The order in which the inputs are converted (the first one that is not a number raises)."""
+
+_FINITE = {name: f"{name} must be a finite number" for name in _ORDER}
 
 
 def _as_float(name, value):
@@ -66,12 +70,16 @@ def _as_float(name, value):
         raise ValueError(f"{name} must be a number or an array of numbers") from None
 
 
-def _first_reasons(size, checks):
-    code = np.zeros(size, dtype=np.intp)
-    for number, (bad, _) in enumerate(checks, start=1):
-        code[np.broadcast_to(bad, (size,)) & (code == 0)] = number
-    messages = np.array(["", *(message for _, message in checks)], dtype=object)
-    return messages[code]
+def _first_reasons(size, flags, messages):
+    """The message of the first true flag per element (``""`` where none is) and the ok mask.
+
+    ``flags`` is a boolean array with one row per check, in the order of ``messages``.
+    """
+    hit = flags.any(axis=0)
+    if not hit.any():
+        return np.full(size, "", dtype=object), ~hit
+    code = np.where(hit, flags.argmax(axis=0) + 1, 0)
+    return np.array(["", *messages], dtype=object)[code], ~hit
 
 
 def prepare(
@@ -101,39 +109,41 @@ def prepare(
     if solve not in catalog.SOLVES:
         raise ValueError(f"solve must be one of {catalog.quoted(catalog.SOLVES)}, not {solve!r}")
     method, alternative = catalog.resolve(kind, method, alternative)
+    needs = _NEEDS[solve]
     given = {"effect": effect, "n": n, "alpha": alpha, "power": power}
-    for name in _NEEDS[solve]:
+    for name in needs:
         if given[name] is None:
             raise ValueError(f"{name} is required to solve for {solve.replace('_', ' ')}")
     if kind == "mean" and sd is None:
         raise ValueError("sd is required for a mean (the per-unit standard deviation)")
-    if kind == "proportion":
-        sd = None
-    needs = _NEEDS[solve]
-    raw = {
-        "baseline": baseline,
-        "effect": effect if "effect" in needs else np.nan,
-        "n": n if "n" in needs else np.nan,
-        "alpha": alpha if "alpha" in needs else np.nan,
-        "power": power if "power" in needs else np.nan,
-        "ratio": ratio,
-        "margin": margin,
-    }
-    if sd is not None:
-        raw["sd"] = sd
-    arrays = {name: _as_float(name, value) for name, value in raw.items()}
+    has_sd = sd is not None and kind != "proportion"
+    raw = dict(given, baseline=baseline, ratio=ratio, margin=margin, sd=sd)
+    converted = {name: _as_float(name, raw[name]) for name in _ORDER
+                 if name in needs or name in ("baseline", "ratio", "margin")
+                 or (name == "sd" and has_sd)}
+    # The checked inputs in the order of their "must be a finite number" checks.
+    used = ("baseline", "ratio", "margin", *needs, *(("sd",) if has_sd else ()))
     rel = np.asarray(relative, dtype=bool)
-    scalar = all(a.ndim == 0 for a in arrays.values()) and rel.ndim == 0
-    shape = np.broadcast_shapes(*(a.shape for a in arrays.values()), rel.shape)
-    flat = {k: np.broadcast_to(a, shape).ravel().astype(float) for k, a in arrays.items()}
-    rel = np.broadcast_to(rel, shape).ravel()
+    scalar = rel.ndim == 0 and all(a.ndim == 0 for a in converted.values())
+    shape = () if scalar else np.broadcast_shapes(rel.shape,
+                                                  *(a.shape for a in converted.values()))
+    size = math.prod(shape)
+    block = np.empty((len(used), size))
+    rows = block.reshape((len(used), *shape))
+    for row, name in enumerate(used):
+        rows[row] = converted[name]
+    flat = dict(zip(used, block, strict=True))
+    rel = np.full(size, bool(rel)) if rel.ndim == 0 else np.broadcast_to(rel, shape).ravel()
+    nothing = np.full(size, np.nan)
 
     with np.errstate(all="ignore"):
-        reasons = _check(solve, kind, method, alternative, needs, flat, rel, sd is not None)
         b = flat["baseline"]
         scale = np.where(rel, b, 1.0)
-        effect_abs = flat["effect"] * scale
+        effect_abs = flat["effect"] * scale if "effect" in needs else nothing
         margin_abs = flat["margin"] * scale
+        flags, messages = _checks(solve, kind, method, alternative, needs, flat, rel,
+                                  effect_abs, margin_abs, ~np.isfinite(block), used)
+        reasons, ok = _first_reasons(size, flags, messages)
     return Prepared(
         solve=solve,
         kind=kind,
@@ -143,22 +153,21 @@ def prepare(
         scalar=scalar,
         baseline=b,
         effect=effect_abs,
-        n=flat["n"],
+        n=flat.get("n", nothing),
         sd=flat.get("sd"),
-        alpha=flat["alpha"],
-        power=flat["power"],
+        alpha=flat.get("alpha", nothing),
+        power=flat.get("power", nothing),
         ratio=flat["ratio"],
         margin=margin_abs,
         relative=rel,
         reasons=reasons,
+        ok=ok,
     )
 
 
-def _check(solve, kind, method, alternative, needs, flat, rel, has_sd):
+def _checks(solve, kind, method, alternative, needs, flat, rel, eff, mar, not_finite, used):
+    """Every check in order: a boolean array (one row per check) and the messages."""
     checks = []
-    used = ["baseline", "ratio", "margin", *needs] + (["sd"] if has_sd else [])
-    for name in used:
-        checks.append((~np.isfinite(flat[name]), f"{name} must be a finite number"))
     if "alpha" in needs:
         a = flat["alpha"]
         checks.append((~((a > 0) & (a < 1)), "alpha must be between 0 and 1 (exclusive)"))
@@ -175,15 +184,11 @@ def _check(solve, kind, method, alternative, needs, flat, rel, has_sd):
             checks.append((~many, message))
     b = flat["baseline"]
     checks.append((rel & (b == 0), "baseline must not be 0 for a relative effect or margin"))
-    scale = np.where(rel, b, 1.0)
-    eff = flat["effect"] * scale
-    mar = flat["margin"] * scale
     if "effect" in needs:
         checks.append((~np.isfinite(eff), "effect × baseline must be a finite number"))
     checks.append((~np.isfinite(mar), "margin × baseline must be a finite number"))
-    sdv = flat.get("sd")
     checks.extend(
-        KIND_MODULES[kind].domain(b, eff if "effect" in needs else None, mar, sdv)
+        KIND_MODULES[kind].domain(b, eff if "effect" in needs else None, mar, flat.get("sd"))
     )
     if solve in ("sample_size", "significance_level"):
         if alternative == "greater":
@@ -195,5 +200,7 @@ def _check(solve, kind, method, alternative, needs, flat, rel, has_sd):
             checks.append((eff == mar, "effect must differ from the margin for a two-sided test"))
     if solve in ("sample_size", "detectable_effect"):
         checks.append((~(flat["power"] > flat["alpha"]), "power must be greater than alpha"))
-
-    return _first_reasons(flat["baseline"].size, checks)
+    shape = (b.size,)
+    flags = np.concatenate((not_finite, np.array(
+        [bad if bad.shape == shape else np.broadcast_to(bad, shape) for bad, _ in checks])))
+    return flags, [_FINITE[name] for name in used] + [message for _, message in checks]

@@ -24,12 +24,12 @@ def moments(method, baseline, effect, margin, sd, ratio):
 
     Returns
     -------
-    tuple of numpy.ndarray
-        ``(distance, sd_h0, sd_h1, correction)``: the sd of d̂ is ``sd_h*/√n_c``;
-        ``correction`` is 0 (no continuity correction for means).
+    tuple
+        ``(distance, sd_h0, sd_h1, correction)``: arrays, the sd of d̂ is ``sd_h*/√n_c``;
+        ``correction`` is the float 0.0 (no continuity correction for means).
     """
     s = sd * np.sqrt(1.0 + 1.0 / ratio)
-    return effect - margin, s, s, np.zeros_like(s)
+    return effect - margin, s, s, 0.0
 
 
 def domain(baseline, effect, margin, sd):

@@ -39,13 +39,30 @@ def restricted(p_c, p_t, margin, ratio):
     """Maximum-likelihood proportions (control, treatment) under H0: p_t − p_c = margin.
 
     The closed form of Farrington & Manning (1990), evaluated at the expected proportions;
-    with margin 0 it is the pooled proportion in both arms.
+    with margin 0 it is the pooled proportion in both arms (the cubic is then solved only for
+    the elements whose margin is not 0).
 
     Examples
     --------
     >>> [round(float(p), 4) for p in restricted(0.1, 0.2, 0.0, 1.0)]
     [0.15, 0.15]
     """
+    pooled = np.asarray((p_c + ratio * p_t) / (1.0 + ratio))
+    zero = np.equal(margin, 0)
+    if zero.all():
+        return pooled, pooled
+    p_c, p_t, margin, ratio, pooled, zero = np.broadcast_arrays(p_c, p_t, margin, ratio,
+                                                                pooled, zero)
+    other = ~zero
+    p_c0, p_t0 = pooled.copy(), pooled.copy()
+    t_fm = _farrington_manning(p_c[other], p_t[other], margin[other], ratio[other])
+    p_t0[other] = t_fm
+    p_c0[other] = t_fm - margin[other]
+    return p_c0, p_t0
+
+
+def _farrington_manning(p_c, p_t, margin, ratio):
+    """The restricted treatment proportion: the root of the likelihood's cubic in [0, 1]."""
     p1, p2, delta = p_t, p_c, margin
     theta = 1.0 / ratio
     a = 1.0 + theta
@@ -57,12 +74,7 @@ def restricted(p_c, p_t, margin, ratio):
     u = np.where(v < 0, -1.0, 1.0) * radius
     with np.errstate(divide="ignore", invalid="ignore"):
         w = (np.pi + np.arccos(np.clip(v / u**3, -1.0, 1.0))) / 3.0
-    t_fm = 2.0 * u * np.cos(w) - b / (3.0 * a)
-    pooled = (p_c + ratio * p_t) / (1.0 + ratio)
-    zero = margin == 0
-    p_t0 = np.where(zero, pooled, t_fm)
-    p_c0 = np.where(zero, pooled, t_fm - delta)
-    return p_c0, p_t0
+    return 2.0 * u * np.cos(w) - b / (3.0 * a)
 
 
 def moments(method, baseline, effect, margin, sd, ratio):
@@ -70,24 +82,25 @@ def moments(method, baseline, effect, margin, sd, ratio):
 
     Returns
     -------
-    tuple of numpy.ndarray
+    tuple
         ``(distance, sd_h0, sd_h1, correction)``; the correction c enters the statistic as
-        c/n_c (c = (1 + 1/r)/2 for ``pooled-cc``, else 0).
+        c/n_c: an array c = (1 + 1/r)/2 for ``pooled-cc``, else the float 0.0.
     """
     p_c = baseline
     p_t = baseline + effect
     if method == "arcsine":
         distance = 2.0 * (np.arcsin(np.sqrt(p_t)) - np.arcsin(np.sqrt(p_c + margin)))
         s = np.sqrt(1.0 + 1.0 / ratio) + 0.0 * distance
-        return distance, s, s, np.zeros_like(s)
+        return distance, s, s, 0.0
     s1 = np.sqrt(p_c * (1.0 - p_c) + p_t * (1.0 - p_t) / ratio)
     if method == "unpooled":
         s0 = s1
     else:
         c0, t0 = restricted(p_c, p_t, margin, ratio)
         s0 = np.sqrt(c0 * (1.0 - c0) + t0 * (1.0 - t0) / ratio)
-    cc = 0.5 * (1.0 + 1.0 / ratio) if method == "pooled-cc" else 0.0
-    return effect - margin, s0, s1, cc + np.zeros_like(s1)
+    if method != "pooled-cc":
+        return effect - margin, s0, s1, 0.0
+    return effect - margin, s0, s1, 0.5 * (1.0 + 1.0 / ratio) + np.zeros_like(s1)
 
 
 def domain(baseline, effect, margin, sd):

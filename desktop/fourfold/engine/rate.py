@@ -28,10 +28,13 @@ def _variances(baseline, treatment, sd):
 
 
 def moments(method, baseline, effect, margin, sd, ratio):
-    """Distance from H0 and per-unit sds of the estimate under H0 and H1 (equal here)."""
+    """Distance from H0 and per-unit sds of the estimate under H0 and H1 (equal here).
+
+    The fourth item, the continuity correction, is the float 0.0.
+    """
     v_c, v_t = _variances(baseline, baseline + effect, sd)
     s = np.sqrt(v_c + v_t / ratio)
-    return effect - margin, s, s, np.zeros_like(s)
+    return effect - margin, s, s, 0.0
 
 
 def domain(baseline, effect, margin, sd):
