@@ -1,8 +1,8 @@
 """A Qt-free undo stack for plan edits.
 
-Every change to a plan — a cell, a setting, rows inserted, removed or moved, a paste — is a
-command done through a :class:`CommandStack`. The stack validates the command before touching
-the plan (an invalid value raises :class:`~fourfold.plan.fields.PlanError` and changes
+Every change to a plan — a cell, a setting, rows inserted, removed, moved or sorted, a paste —
+is a command done through a :class:`CommandStack`. The stack validates the command before
+touching the plan (an invalid value raises :class:`~fourfold.plan.fields.PlanError` and changes
 nothing), applies it, and tells every subscriber exactly what changed with a :class:`Change`,
 so that a Qt model can emit one ranged signal. The window's Edit menu and undo view mirror the
 stack (``undo_text``, ``redo_text``, ``clean``).
@@ -37,7 +37,8 @@ from fourfold.plan.fields import (
 )
 from fourfold.plan.model import Metric, Plan
 
-CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "settings", "reset")
+CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "rows_reordered",
+                "settings", "reset")
 
 
 @dataclass(frozen=True)
@@ -48,12 +49,14 @@ class Change:
     ----------
     kind : str
         ``"cells"`` (metric fields of existing rows), ``"rows_inserted"``, ``"rows_removed"``,
-        ``"rows_moved"``, ``"settings"`` or ``"reset"`` (a new document).
+        ``"rows_moved"``, ``"rows_reordered"``, ``"settings"`` or ``"reset"`` (a new document).
     rows : tuple of int
         ``"cells"``: the rows touched, ascending. ``"rows_inserted"``: the new rows' indices
         after the insertion, ascending. ``"rows_removed"``: the removed rows' indices before
         the removal, ascending. ``"rows_moved"``: ``(source, destination)``, the moved row's
-        index before and after. Empty for ``"settings"`` and ``"reset"``. Apply
+        index before and after. ``"rows_reordered"``: the permutation, one entry per row: row
+        ``i`` after the change was row ``rows[i]`` before. Empty for ``"settings"`` and
+        ``"reset"``. Apply
         :meth:`blocks` of an insertion in ascending order and of a removal in descending
         order to replay the change block by block.
     fields : tuple of str
@@ -265,6 +268,48 @@ class MoveMetric(Command):
     def revert(self, plan: Plan) -> Change:
         plan.metrics.insert(self.src, plan.metrics.pop(self.dst))
         return Change("rows_moved", (self.dst, self.src))
+
+
+class ReorderMetrics(Command):
+    """Put the rows in a new order given as a permutation (a sort of the table).
+
+    Parameters
+    ----------
+    order : sequence of int
+        Row ``i`` after the command is row ``order[i]`` before it; every row exactly once.
+    text : str, optional
+        Edit-menu text (default: "Reorder metrics").
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan
+    >>> stack = CommandStack(Plan(metrics=[Metric(name="A"), Metric(name="B")]))
+    >>> stack.do(ReorderMetrics([1, 0], text="Sort rows by Metric, descending"))
+    >>> [metric.name for metric in stack.plan.metrics], stack.undo_text
+    (['B', 'A'], 'Sort rows by Metric, descending')
+    """
+
+    def __init__(self, order: Iterable[int], text: str | None = None) -> None:
+        self.order = tuple(order)
+        self.text = text or "Reorder metrics"
+
+    def apply(self, plan: Plan) -> Change:
+        count = len(plan.metrics)
+        if any(isinstance(row, bool) or not isinstance(row, int) for row in self.order) or \
+                sorted(self.order) != list(range(count)):
+            raise PlanError(f"order must name each of the rows 0 to {count - 1} exactly once; "
+                            f"got {list(self.order)!r}", "order")
+        if list(self.order) == list(range(count)):
+            raise PlanError("the rows are already in that order", "order")
+        plan.metrics[:] = [plan.metrics[row] for row in self.order]
+        return Change("rows_reordered", self.order)
+
+    def revert(self, plan: Plan) -> Change:
+        inverse = [0] * len(self.order)
+        for position, row in enumerate(self.order):
+            inverse[row] = position
+        plan.metrics[:] = [plan.metrics[position] for position in inverse]
+        return Change("rows_reordered", tuple(inverse))
 
 
 Subscriber = Callable[[Change], None]

@@ -196,6 +196,9 @@ class MainWindow(QMainWindow):
                                       "Move the current row up")
         self.down_action = self._action("Move do&wn", lambda: self.move_metric(1), "Alt+Down",
                                         "Move the current row down")
+        self.sort_action = self._action(
+            "S&ort rows by this column", lambda: self.table.sort_column(), "Ctrl+Shift+O",
+            "Sort the rows by the current cell's column (again: descending); one undo step")
         self.bigger_action = self._action("&Larger text", lambda: self.step_text(1),
                                           [key.ZoomIn, "Ctrl+="])
         self.smaller_action = self._action("&Smaller text", lambda: self.step_text(-1),
@@ -223,7 +226,7 @@ class MainWindow(QMainWindow):
         self.plan_menu = bar.addMenu("&Plan")
         self.plan_menu.addActions([self.add_action, self.duplicate_action, self.delete_action])
         self.plan_menu.addSeparator()
-        self.plan_menu.addActions([self.up_action, self.down_action])
+        self.plan_menu.addActions([self.up_action, self.down_action, self.sort_action])
         self.table.setContextMenuPolicy(Qt.ContextMenuPolicy.ActionsContextMenu)
         separator = QAction(self.table)
         separator.setSeparator(True)

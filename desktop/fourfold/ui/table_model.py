@@ -1,10 +1,11 @@
 """The plan table's model: a thin adapter over the open plan and its command stack.
 
 Edits become :class:`fourfold.plan.commands.SetField` commands (refused values are reported on
-the document's status message and change nothing). The model keeps its own snapshot of the row
-list so that Qt's row-insert/remove/move notifications always describe the change as it happens,
-and it emits one ranged ``dataChanged`` per recompute — never one per cell, never a reset for an
-edit.
+the document's status message and change nothing); :meth:`PlanTableModel.sort` reorders the
+plan's rows with one :class:`fourfold.plan.commands.ReorderMetrics` command. The model keeps
+its own snapshot of the row list so that Qt's row-insert/remove/move notifications always
+describe the change as it happens, and it emits one ranged ``dataChanged`` per recompute —
+never one per cell, never a reset for an edit.
 """
 
 from __future__ import annotations
@@ -16,7 +17,7 @@ from PySide6.QtGui import QColor, QFont, QIcon, QPainter, QPixmap, QPolygonF
 
 from fourfold.errors import FourfoldError
 from fourfold.plan import CHOICES
-from fourfold.plan.commands import SetField
+from fourfold.plan.commands import ReorderMetrics, SetField
 from fourfold.ui import cells, simulation_cells, theme
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, SOLVED_COLUMN, TEXT
 from fourfold.ui.document import PlanDocument
@@ -143,10 +144,26 @@ class PlanTableModel(QAbstractTableModel):
                 self._results.insert(target, self._results.pop(source))
                 self._cache.clear()
                 self.endMoveRows()
+        elif kind == "rows_reordered":
+            self._reorder(change.rows)
         elif kind == "reset" or len(metrics) != len(self._rows):
             self._reset_rows()
             return
         self._rows = list(metrics)
+
+    def _reorder(self, order) -> None:
+        """Follow a permutation of the rows; persistent indexes (selection, current) follow."""
+        self.layoutAboutToBeChanged.emit()
+        position = {row: new for new, row in enumerate(order)}
+        old = self.persistentIndexList()
+        new = [self.index(position[index.row()], index.column()) for index in old]
+        self._rows = [self._rows[row] for row in order]
+        self._results = [self._results[row] for row in order]
+        if self._binding is not None:
+            self._binding = position[self._binding]
+        self._cache.clear()
+        self.changePersistentIndexList(old, new)
+        self.layoutChanged.emit()
 
     def _forget(self, rows) -> None:
         """Drop the cached roles of ``rows``."""
@@ -277,11 +294,60 @@ class PlanTableModel(QAbstractTableModel):
         if col.computed:
             return cells.output_number(metric, self._results[row], col.key)
         value = getattr(metric, col.key)
+        if value is None and col.key in ("alpha", "power"):
+            value = getattr(self.document.plan.settings, col.key)  # the default it shows
         if col.editor == NUMBER:
             return math.nan if value is None else float(value)
         if col.editor == CHECK:
             return bool(value)
         return "" if value is None else value
+
+    def sort_key(self, row: int, column: int):
+        """What a sort by ``column`` compares for ``row``; None for a blank or "—" cell.
+
+        Numbers compare as raw values (:meth:`sort_value`), choices by the label shown, text
+        without regard to case, ticks as unticked before ticked.
+        """
+        col = COLUMNS[column]
+        if col.editor == CHECK and not col.computed:
+            return bool(getattr(self._rows[row], col.key))
+        shown = self.display_text(row, column)
+        if not shown.strip() or shown == cells.DASH:
+            return None
+        if col.editor in (TEXT, CHOICE) and not col.computed:
+            return shown.casefold()
+        value = self.sort_value(row, column)
+        return None if math.isnan(value) else value
+
+    def sort_order(self, column: int, descending: bool = False) -> list[int]:
+        """The rows sorted by ``column``: a stable sort, blank and "—" cells last either way.
+
+        Returns the permutation: entry ``i`` is the row that goes to position ``i``.
+        """
+        keys = [self.sort_key(row, column) for row in range(len(self._rows))]
+        filled = [row for row, key in enumerate(keys) if key is not None]
+        filled.sort(key=keys.__getitem__, reverse=descending)
+        return filled + [row for row, key in enumerate(keys) if key is None]
+
+    def sort(self, column: int, order=Qt.SortOrder.AscendingOrder) -> None:
+        """Reorder the plan's rows by ``column`` as one undoable command (Qt's sort hook).
+
+        A column of -1 (Qt clearing its sort indicator) does nothing; so does a sort that would
+        leave every row where it is.
+        """
+        if not 0 <= column < len(COLUMNS) or not self._rows:
+            return
+        if self.document.pending():
+            self.document.recompute_now()  # sort on the results of the latest edit
+        descending = Qt.SortOrder(order) == Qt.SortOrder.DescendingOrder
+        permutation = self.sort_order(column, descending)
+        direction = ", descending" if descending else ""
+        if permutation == list(range(len(self._rows))):
+            self.document.message.emit(
+                f"The rows are already sorted by {COLUMNS[column].label}{direction}")
+            return
+        self.document.apply(ReorderMetrics(
+            permutation, text=f"Sort rows by {COLUMNS[column].label}{direction}"))
 
     def choices(self, row: int, column: int) -> list[tuple[str, object]]:
         """Allowed values of a choice cell as ``(label, value)`` pairs."""

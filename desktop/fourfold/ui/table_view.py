@@ -8,6 +8,10 @@ the block cannot be read or is refused by the plan's rules, nothing changes and 
 says which cells are at fault. Cells that fall on computed columns or below the last row are
 skipped (and counted in the status line). A single copied value pasted onto a larger selection
 fills the selection.
+
+A click on a column header sorts the rows by that column (ascending, a second click
+descending) as one undo step; the header shows the sort only while the rows still hold that
+order and that column's values are the ones sorted.
 """
 
 from __future__ import annotations
@@ -76,6 +80,12 @@ class PlanTableView(QTableView):
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setDefaultAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
         header.setTextElideMode(Qt.TextElideMode.ElideNone)
+        # Qt's sort hook: a header click flips the indicator and asks the model to sort; no
+        # indicator (section -1) until the user sorts, so enabling it sorts nothing
+        header.setSortIndicator(-1, Qt.SortOrder.AscendingOrder)
+        self.setSortingEnabled(True)
+        header.sortIndicatorChanged.connect(self._sorted)
+        self._sort_state: tuple | None = None
         vertical = self.verticalHeader()
         vertical.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
         vertical.setDefaultAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
@@ -90,6 +100,7 @@ class PlanTableView(QTableView):
     def setModel(self, model) -> None:  # noqa: N802 (Qt's name)
         super().setModel(model)
         model.document.computed.connect(self.follow_looks)
+        model.document.computed.connect(self._check_sort)
         model.dataChanged.connect(self.widen_columns)
         self.follow_looks()
 
@@ -105,6 +116,47 @@ class PlanTableView(QTableView):
         for position, column in enumerate(COLUMNS):
             if column.sequential:
                 self.setColumnHidden(position, hidden)
+
+    # -- sorting ------------------------------------------------------------------------
+
+    def sort_column(self, column: int | None = None) -> None:
+        """Sort by ``column`` (the current cell's by default), as a header click would.
+
+        Ascending first; descending when the header already shows an ascending sort of it.
+        """
+        if column is None:
+            column = self.currentIndex().column()
+        if column < 0:
+            return
+        header = self.horizontalHeader()
+        ascending = Qt.SortOrder.AscendingOrder
+        again = (self._sort_state is not None and header.sortIndicatorSection() == column
+                 and header.sortIndicatorOrder() == ascending)
+        header.setSortIndicator(column, Qt.SortOrder.DescendingOrder if again else ascending)
+
+    def _sort_snapshot(self, column: int) -> tuple:
+        """The row objects in order and the column's sort keys: what the indicator claims."""
+        model = self.plan_model()
+        rows = range(model.rowCount())
+        return (tuple(id(model.metric(row)) for row in rows),
+                tuple(model.sort_key(row, column) for row in rows))
+
+    def _sorted(self, column: int, _order) -> None:
+        """After the model sorted (or the indicator was cleared): remember what was sorted."""
+        if column < 0 or self.model() is None:
+            self._sort_state = None
+            return
+        self._sort_state = (column, self._sort_snapshot(column))
+        if self.currentIndex().isValid():
+            self.scrollTo(self.currentIndex())
+
+    def _check_sort(self) -> None:
+        """Clear the indicator once the rows or the sorted column's values have changed."""
+        if self._sort_state is None:
+            return
+        column, snapshot = self._sort_state
+        if self._sort_snapshot(column) != snapshot:
+            self.horizontalHeader().setSortIndicator(-1, Qt.SortOrder.AscendingOrder)
 
     def fit_columns(self) -> None:
         """Size rows and columns to the current font and contents (after load or rescale)."""
