@@ -184,6 +184,20 @@ def test_a_panel_that_changed_rows_paints_like_a_fresh_one(qtbot, panel):
     assert panel.grab().toImage() == fresh.grab().toImage()
 
 
+def test_the_runtime_legend_is_one_line_when_it_fits(qtbot, panel):
+    plan = make_plan()
+    plot = panel.grid.plots["runtime"]
+    for width, columns in ((1400, 3), (520, 1)):
+        panel.resize(width, 640)
+        qtbot.waitUntil(lambda w=width: panel.width() == w, timeout=2000)
+        show(qtbot, panel, plan, 0)
+        panel.grid.settle()
+        plot.legend.updateSize()
+        assert plot.legend.columnCount == columns
+        assert plot.legend.width() <= plot.item.vb.width()
+        show(qtbot, panel, make_plan(effect=0.08), 0)  # a new design-point text
+
+
 def test_compact_tick_labels():
     assert [compact(v) for v in (950.0, 12_500.0, 3e6, -0.5)] == ["950", "12.5k", "3M", "−0.5"]
 

@@ -45,6 +45,7 @@ SLIDER_STEPS = 200
 SCREEN_DPI = 96.0
 WIDEST_TICK = "−00.0k"
 PADDING = 0.03
+LEGEND_GAP = 3.0  # pyqtgraph's LegendItem adds 3 px after each sample and label
 
 _GRID = ((0, 0), (0, 1), (1, 0), (1, 1))
 LEGEND_LEFT = (8, 8)
@@ -440,11 +441,12 @@ class _Plot:
         """Fit the texts to the plot's size: week labels and the runtime legend's shape."""
         self.thin_marks()
         if self.name == "runtime":  # one line along the top when it fits, clear of the weeks
-            self.legend.setColumnCount(3)
-            self.legend.updateSize()
-            if self.legend.width() > self.item.vb.width() - 16:
-                self.legend.setColumnCount(1)
-                self.legend.updateSize()
+            # measured from the labels' text, without laying the legend out twice per frame
+            one_line = sum(sample.width() + label.minimumWidth() + 2 * LEGEND_GAP
+                           for sample, label in self.legend.items)
+            columns = 3 if one_line <= self.item.vb.width() - 16 else 1
+            if columns != self.legend.columnCount:
+                self.legend.setColumnCount(columns)
 
     def thin_marks(self) -> None:
         """Label every week, or every second or third one when the plot is too narrow."""
