@@ -61,6 +61,9 @@ class Change:
         order to replay the change block by block.
     fields : tuple of str
         ``"cells"``: the metric fields touched; ``"settings"``: the settings fields touched.
+        A :class:`SetFields` that also appends rows (a paste running past the last row)
+        reports ``"rows_inserted"`` (undone: ``"rows_removed"``) for the new rows, with the
+        fields it set in ``fields``; cells of the rows above may have changed too.
     """
 
     kind: str
@@ -84,8 +87,8 @@ class Change:
         return tuple(ranges)
 
 
-def _check_row(plan: Plan, row: int, *, end: bool = False) -> int:
-    limit = len(plan.metrics) + (1 if end else 0)
+def _check_row(plan: Plan, row: int, *, end: bool = False, count: int | None = None) -> int:
+    limit = (len(plan.metrics) if count is None else count) + (1 if end else 0)
     if isinstance(row, bool) or not isinstance(row, int) or not 0 <= row < limit:
         raise PlanError(f"row must be from 0 to {limit - 1}; got {row!r}", "row")
     return row
@@ -120,47 +123,82 @@ class SetFields(Command):
         Applied in order; a later edit of the same cell wins.
     text : str, optional
         Edit-menu text (default: "Edit N cells").
+    append : sequence of Metric, optional
+        Rows added below the last row in the same step (a paste running past the table's end);
+        ``edits`` may fill them. Nothing is added when any row or edit is refused.
+
+    Notes
+    -----
+    A refused value raises PlanError naming its row ("row 8: alpha must …"): a block of
+    cells is not where the user is looking for one cell.
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan
+    >>> stack = CommandStack(Plan.empty())
+    >>> stack.do(SetFields([(0, "baseline", 0.2), (1, "name", "Refunds")], append=[Metric()]))
+    >>> [(m.name, m.baseline) for m in stack.plan.metrics]
+    [('Primary metric', 0.2), ('Refunds', 0.1)]
+    >>> stack.undo(); len(stack.plan.metrics)
+    1
     """
 
-    def __init__(self, edits: Iterable[tuple[int, str, Any]], text: str | None = None) -> None:
+    def __init__(self, edits: Iterable[tuple[int, str, Any]], text: str | None = None, *,
+                 append: Sequence[Metric] = ()) -> None:
         self.edits = tuple(edits)
+        self.append = tuple(append)
         self.text = text or f"Edit {len(self.edits)} cells"
         self._old: dict[tuple[int, str], Any] = {}
+        self._count = 0
 
-    def _planned(self, plan: Plan) -> dict[tuple[int, str], Any]:
+    name_rows = True
+
+    def _planned(self, plan: Plan, metrics: list[Metric]) -> dict[tuple[int, str], Any]:
         """The validated new values by (row, field); a kind change clears a foreign method."""
         new: dict[tuple[int, str], Any] = {}
         for row, field, value in self.edits:
-            metric = plan.metrics[_check_row(plan, row)]
+            metric = metrics[_check_row(plan, row, count=len(metrics))]
             field = _metric_field(field)
             kind = new.get((row, "kind"), metric.kind)
-            if field == "kind":
-                kind = validate_field("kind", value)
-                method = new.get((row, "method"), metric.method)
-                new[(row, "kind")] = kind
-                if method is not None and method not in METHODS[kind]:
-                    new[(row, "method")] = None
-            else:
-                new[(row, field)] = validate_field(field, value, kind=kind)
+            try:
+                if field == "kind":
+                    kind = validate_field("kind", value)
+                    method = new.get((row, "method"), metric.method)
+                    new[(row, "kind")] = kind
+                    if method is not None and method not in METHODS[kind]:
+                        new[(row, "method")] = None
+                else:
+                    new[(row, field)] = validate_field(field, value, kind=kind)
+            except PlanError as error:
+                if not self.name_rows:
+                    raise
+                raise PlanError(f"row {row + 1}: {error}", error.field) from None
         return new
 
     def apply(self, plan: Plan) -> Change:
-        new = self._planned(plan)
-        self._old = {key: getattr(plan.metrics[key[0]], key[1]) for key in new}
+        count = len(plan.metrics)
+        added = [validate_metric(metric) for metric in self.append]  # fresh copies each time
+        new = self._planned(plan, plan.metrics + added)
+        self._count = count
+        self._old = {key: getattr(plan.metrics[key[0]], key[1]) for key in new
+                     if key[0] < count}
+        plan.metrics.extend(added)
         for (row, name), value in new.items():
             setattr(plan.metrics[row], name, value)
-        return self._change(new)
+        return self._change(new, "rows_inserted")
 
     def revert(self, plan: Plan) -> Change:
         for (row, name), value in self._old.items():
             setattr(plan.metrics[row], name, value)
-        return self._change(self._old)
+        del plan.metrics[self._count:self._count + len(self.append)]
+        return self._change(self._old, "rows_removed")
 
-    @staticmethod
-    def _change(values: dict[tuple[int, str], Any]) -> Change:
-        rows = tuple(sorted({row for row, _ in values}))
+    def _change(self, values: dict[tuple[int, str], Any], rows_kind: str) -> Change:
         fields = tuple(dict.fromkeys(name for _, name in values))
-        return Change("cells", rows, fields)
+        if self.append:
+            return Change(rows_kind, tuple(range(self._count, self._count + len(self.append))),
+                          fields)
+        return Change("cells", tuple(sorted({row for row, _ in values})), fields)
 
 
 class SetField(SetFields):
@@ -169,6 +207,8 @@ class SetField(SetFields):
     Changing ``kind`` also clears a ``method`` that does not belong to the new kind (in the
     same undo step).
     """
+
+    name_rows = False  # one cell: the user is looking at it
 
     def __init__(self, row: int, field: str, value: Any) -> None:
         super().__init__([(row, field, value)], text="")

@@ -10,13 +10,14 @@ never one per cell, never a reset for an edit.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPointF, Qt
 from PySide6.QtGui import QColor, QFont, QIcon, QPainter, QPixmap, QPolygonF
 
 from fourfold.errors import FourfoldError
-from fourfold.plan import CHOICES
+from fourfold.plan import CHOICES, Metric
 from fourfold.plan.commands import ReorderMetrics, SetField
 from fourfold.ui import cells, simulation_cells, theme
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, SOLVED_COLUMN, TEXT
@@ -58,6 +59,31 @@ def _marker_icon(colour: QColor) -> QIcon:
     painter.drawPolygon(QPolygonF([QPointF(3, 2), QPointF(13, 8), QPointF(3, 14)]))
     painter.end()
     return QIcon(pixmap)
+
+
+@dataclasses.dataclass(frozen=True)
+class PasteEdits:
+    """A pasted block read by :meth:`PlanTableModel.paste_edits`.
+
+    Attributes
+    ----------
+    edits : list of (row, field, value)
+        One per writable cell, rows below the table included.
+    new_rows : int
+        Rows to add below the last one so that every pasted line has a row.
+    computed : int
+        Cells that fell on computed columns (ignored).
+    dropped : int
+        Cells right of the last column (dropped).
+    errors : list of str
+        One message per cell whose text could not be read.
+    """
+
+    edits: list
+    new_rows: int
+    computed: int
+    dropped: int
+    errors: list
 
 
 class PlanTableModel(QAbstractTableModel):
@@ -349,11 +375,12 @@ class PlanTableModel(QAbstractTableModel):
         self.document.apply(ReorderMetrics(
             permutation, text=f"Sort rows by {COLUMNS[column].label}{direction}"))
 
-    def choices(self, row: int, column: int) -> list[tuple[str, object]]:
-        """Allowed values of a choice cell as ``(label, value)`` pairs."""
-        metric = self._rows[row]
+    def choices(self, row: int, column: int,
+                metric: Metric | None = None) -> list[tuple[str, object]]:
+        """Allowed values of a choice cell as ``(label, value)`` pairs (of ``metric``'s row)."""
         key = COLUMNS[column].key
         if key == "method":
+            metric = self._rows[row] if metric is None else metric
             methods = CHOICES["method"][metric.kind]
             return [(f"{methods[0]} (default)", None)] + [(name, name) for name in methods]
         return [(cells.label(value), value) for value in CHOICES[key]]
@@ -494,9 +521,13 @@ class PlanTableModel(QAbstractTableModel):
 
     # -- editing ------------------------------------------------------------------------
 
-    def parse(self, row: int, column: int, value):
-        """Turn an editor's value into a field value; raises FourfoldError for bad text."""
-        metric = self._rows[row]
+    def parse(self, row: int, column: int, value, metric: Metric | None = None):
+        """Turn an editor's value into a field value; raises FourfoldError for bad text.
+
+        ``metric`` is the row the value is read for (default: the one shown in ``row``; a
+        paste passes the row as its earlier cells make it, or a new row).
+        """
+        metric = self._rows[row] if metric is None else metric
         col = COLUMNS[column]
         if col.computed:
             raise FourfoldError(f"{col.label} is computed and cannot be edited")
@@ -515,10 +546,11 @@ class PlanTableModel(QAbstractTableModel):
             text = value.strip()
             if col.key == "method":
                 return self._parse_method(metric, text)
-            for shown, choice in self.choices(row, column):
+            options = self.choices(row, column, metric)
+            for shown, choice in options:
                 if text in (shown, choice) or (choice is not None and text == cells.label(choice)):
                     return choice
-            allowed = ", ".join(shown for shown, _ in self.choices(row, column))
+            allowed = ", ".join(shown for shown, _ in options)
             raise FourfoldError(f"{col.label}: choose one of {allowed}; got {text!r}")
         if col.editor == TEXT:
             return str(value)
@@ -554,32 +586,36 @@ class PlanTableModel(QAbstractTableModel):
             return "" if value is None else value
         return self.edit_text(row, column)
 
-    def paste_edits(self, top: int, left: int, grid: list[list[str]]):
+    def paste_edits(self, top: int, left: int, grid: list[list[str]]) -> PasteEdits:
         """Read a block of pasted text at ``(top, left)`` into field edits.
 
-        Returns
-        -------
-        edits : list of (row, field, value)
-            One per writable cell inside the table.
-        skipped : int
-            Cells that fell on computed columns or outside the table (ignored).
-        errors : list of str
-            One message per cell whose text could not be read.
+        Lines below the last row become new rows (as Plan → Add metric makes them), to be
+        appended in the same step. Each line's kind and "Relative" cells are read first, so
+        that its other cells are read in the units that row will have.
         """
-        edits, errors, skipped = [], [], 0
+        edits, errors, computed, dropped = [], [], 0, 0
+        order = {key: rank for rank, key in enumerate(("kind", "relative"))}
         for r, line in enumerate(grid):
-            for c, text in enumerate(line):
-                row, column = top + r, left + c
-                if row >= len(self._rows) or column >= len(COLUMNS) or COLUMNS[column].computed:
-                    skipped += 1
+            row = top + r
+            metric = dataclasses.replace(self._rows[row]) if row < len(self._rows) else Metric()
+            inside = [(left + c, text) for c, text in enumerate(line) if left + c < len(COLUMNS)]
+            dropped += len(line) - len(inside)
+            inside.sort(key=lambda cell: order.get(COLUMNS[cell[0]].key, len(order)))
+            for column, text in inside:
+                col = COLUMNS[column]
+                if col.computed:
+                    computed += 1
                     continue
                 try:
-                    value = self.parse(row, column, text)
+                    value = self.parse(row, column, text, metric)
                 except FourfoldError as error:
                     errors.append(f"row {row + 1}: {error}")
                     continue
-                edits.append((row, COLUMNS[column].key, value))
-        return edits, skipped, errors
+                if col.key in order:
+                    setattr(metric, col.key, value)
+                edits.append((row, col.key, value))
+        new_rows = max(top + len(grid) - len(self._rows), 0)
+        return PasteEdits(edits, new_rows, computed, dropped, errors)
 
     def setData(self, index, value, role=ROLE.EditRole) -> bool:
         if not index.isValid():

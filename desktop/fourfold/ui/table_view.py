@@ -5,8 +5,9 @@ the selected optional cells (back to "not set" or the plan default). Copy puts t
 selected rectangle on the clipboard as tab-separated text (what spreadsheets exchange). Paste
 reads tab-separated text at the current cell as one undo step, all or nothing: if any cell of
 the block cannot be read or is refused by the plan's rules, nothing changes and the status line
-says which cells are at fault. Cells that fall on computed columns or below the last row are
-skipped (and counted in the status line). A single copied value pasted onto a larger selection
+says which cells are at fault. Lines that run past the last row become new metric rows (in the
+same undo step); cells on computed columns are skipped and cells right of the last column are
+dropped (both counted in the status line). A single copied value pasted onto a larger selection
 fills the selection.
 
 A click on a column header sorts the rows by that column (ascending, a second click
@@ -26,6 +27,7 @@ from PySide6.QtWidgets import (
     QTableView,
 )
 
+from fourfold.plan import Metric
 from fourfold.plan.commands import SetFields
 from fourfold.ui.columns import COLUMNS, NUMBER
 from fourfold.ui.delegates import PlanDelegate
@@ -316,7 +318,8 @@ class PlanTableView(QTableView):
         if len(grid) == 1 and len(grid[0]) == 1 and (bottom > top or right > left):
             grid = [[grid[0][0]] * (right - left + 1) for _ in range(bottom - top + 1)]
         model = self.plan_model()
-        edits, skipped, errors = model.paste_edits(top, left, grid)
+        block = model.paste_edits(top, left, grid)
+        errors = block.errors
         if errors:
             shown = "; ".join(errors[:MAX_ERRORS_SHOWN])
             extra = len(errors) - MAX_ERRORS_SHOWN
@@ -324,10 +327,14 @@ class PlanTableView(QTableView):
             self.message.emit(f"Nothing pasted — {len(errors)} cell(s) cannot be read: "
                               f"{shown}{more}")
             return False
+        edits = block.edits
         if not edits:
             self.message.emit("Nothing pasted: the block falls on computed columns only")
             return False
-        applied = model.document.apply(SetFields(edits, text=f"Paste {len(edits)} cells"))
+        added = f" ({block.new_rows} new row{'s' if block.new_rows != 1 else ''})" \
+            if block.new_rows else ""
+        applied = model.document.apply(SetFields(edits, text=f"Paste {len(edits)} cells{added}",
+                                                 append=[Metric() for _ in range(block.new_rows)]))
         if applied:
             rows = max(row for row, _, _ in edits)
             last = max(left + len(line) for line in grid) - 1
@@ -336,9 +343,11 @@ class PlanTableView(QTableView):
                 self._range(top, left, rows, min(last, len(COLUMNS) - 1)),
                 QItemSelectionModel.SelectionFlag.ClearAndSelect,
             )
-            note = f"; {skipped} cell(s) on computed columns or below the table skipped" \
-                if skipped else ""
-            self.message.emit(f"Pasted {len(edits)} cells{note}")
+            notes = [f"{count} cell(s) {where}" for count, where in (
+                (block.computed, "on computed columns skipped"),
+                (block.dropped, "past the last column dropped")) if count]
+            self.message.emit(f"Pasted {len(edits)} cells{added}"
+                              + "".join(f"; {note}" for note in notes))
         return applied
 
     def _range(self, top: int, left: int, bottom: int, right: int):
