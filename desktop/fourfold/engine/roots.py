@@ -27,13 +27,17 @@ ABOVE = 2
 FAILED = 3
 
 
+def _full(value, shape):
+    value = np.asarray(value, dtype=float)
+    return value if value.shape == shape else np.broadcast_to(value, shape).astype(float)
+
+
 def _bracket(func, y0, f0, y1, y_min, y_max, grow, max_steps):
     """Grow a bracket outwards from the evaluated points ``y0`` and ``y1``."""
     first_low = y0 <= y1
     lo = np.where(first_low, y0, y1)
     hi = np.where(first_low, y1, y0)
-    idx_all = np.arange(y0.size)
-    f1 = func(y1, idx_all)
+    f1 = func(y1, np.arange(y0.size))
     flo = np.where(first_low, f0, f1)
     fhi = np.where(first_low, f1, f0)
     width = np.maximum(hi - lo, 1e-12 * (1.0 + np.abs(lo)))
@@ -57,12 +61,13 @@ def _bracket(func, y0, f0, y1, y_min, y_max, grow, max_steps):
 
 
 def _model_step(model, y0, f0, toward, fallback):
+    idx = np.arange(y0.size)
     with np.errstate(all="ignore"):
-        value, _ = model(y0)
+        value, _ = model(y0, idx)
         offset = f0 - value
         y = y0.copy()
         for _ in range(3):
-            value, slope = model(y)
+            value, slope = model(y, idx)
             y = y - (value + offset) / slope
         y = y + 1e-3 * (y - y0) + toward * 1e-13 * (1.0 + np.abs(y0))
     usable = np.isfinite(y) & (y != y0)
@@ -84,10 +89,10 @@ def find_root(func, y0, step, y_min, y_max, *, model=None, grow=4.0, max_steps=6
     y_min, y_max : numpy.ndarray
         Finite limits of the search.
     model : callable, optional
-        ``model(y)`` returns a cheap approximation of f and its derivative for all elements.
-        The second point is then the root of the model shifted by its error at ``y0``,
-        lengthened by 0.1 %, so that the first two evaluations usually bracket the root
-        tightly (and often hit it within ``ftol``).
+        ``model(y, idx)`` returns a cheap approximation of f and its derivative for the
+        elements ``idx``.  The second point is then the root of the model shifted by its
+        error at ``y0``, lengthened by 0.1 %, so that the first two evaluations usually
+        bracket the root tightly (and often hit it within ``ftol``).
 
     Returns
     -------
@@ -96,23 +101,51 @@ def find_root(func, y0, step, y_min, y_max, *, model=None, grow=4.0, max_steps=6
     status : numpy.ndarray
         ``OK``; ``BELOW`` (f > 0 already at ``y_min``); ``ABOVE`` (f < 0 still at
         ``y_max``); ``FAILED`` (no finite bracket, no convergence, or failed verification).
+
+    Notes
+    -----
+    A start strictly inside the limits where the evaluated |f| is already within ``ftol``
+    is the root: that element is not searched further.  The others are searched as a
+    subset, each exactly as it would be alone.
     """
     y0 = np.asarray(y0, dtype=float)
-    step = np.broadcast_to(np.asarray(step, dtype=float), y0.shape).copy()
-    y_min = np.broadcast_to(y_min, y0.shape).astype(float)
-    y_max = np.broadcast_to(y_max, y0.shape).astype(float)
+    y_min = _full(y_min, y0.shape)
+    y_max = _full(y_max, y0.shape)
+    start_ok = np.isfinite(y0) & np.isfinite(y_min) & np.isfinite(y_max) & (y_min < y_max)
+    if not start_ok.all():
+        y0 = np.where(start_ok, y0, 0.5 * (np.nan_to_num(y_min) + np.nan_to_num(y_max)))
+    y0 = np.minimum(np.maximum(y0, y_min), y_max)
+    f0 = func(y0, np.arange(y0.size))
+    hit = start_ok & (np.abs(f0) <= ftol) & (y0 > y_min) & (y0 < y_max)
+    if not hit.any():
+        return _search(func, y0, f0, step, y_min, y_max, start_ok, model, grow, max_steps,
+                       maxiter, ftol, ytol, verify)
+    y = np.full(y0.size, np.nan)
+    status = np.full(y0.size, FAILED)
+    good = hit & (np.abs(f0) <= verify)
+    y[good] = y0[good]
+    status[good] = OK
+    rest = np.flatnonzero(~hit)
+    if rest.size:
+        step = np.broadcast_to(np.asarray(step, dtype=float), y0.shape)[rest]
+        sub_model = None if model is None else (lambda y, idx: model(y, rest[idx]))
+        y[rest], status[rest] = _search(
+            lambda y, idx: func(y, rest[idx]), y0[rest], f0[rest], step, y_min[rest],
+            y_max[rest], start_ok[rest], sub_model, grow, max_steps, maxiter, ftol, ytol,
+            verify)
+    return y, status
+
+
+def _search(func, y0, f0, step, y_min, y_max, start_ok, model, grow, max_steps, maxiter, ftol,
+            ytol, verify):
+    """Bracket from the evaluated start, then Illinois steps; see :func:`find_root`."""
     status = np.full(y0.size, FAILED)
     y = np.full(y0.size, np.nan)
-    start_ok = np.isfinite(y0) & np.isfinite(y_min) & np.isfinite(y_max) & (y_min < y_max)
-    y0 = np.where(start_ok, y0, 0.5 * (np.nan_to_num(y_min) + np.nan_to_num(y_max)))
-    idx_all = np.arange(y0.size)
-    y0 = np.clip(y0, y_min, y_max)
-    f0 = func(y0, idx_all)
     toward = np.where(f0 > 0, -1.0, 1.0)
     y1 = y0 + toward * step
     if model is not None:
         y1 = _model_step(model, y0, f0, toward, y1)
-    y1 = np.clip(y1, y_min, y_max)
+    y1 = np.minimum(np.maximum(y1, y_min), y_max)
     y1 = np.where(y1 == y0, np.where(y0 > y_min, y_min, y_max), y1)
     lo, hi, flo, fhi = _bracket(func, y0, f0, y1, y_min, y_max, grow, max_steps)
     finite = start_ok & np.isfinite(flo) & np.isfinite(fhi)

@@ -47,6 +47,7 @@ from .checks import KIND_MODULES, prepare
 _TAIL_SIGN = {"greater": 1.0, "less": -1.0, "two-sided": 1.0}
 _N_MIN_Z = 1e-9
 _N_MAX = 1e18
+_LOG_N_MAX = float(np.log(_N_MAX))
 _ALPHA_MIN = 1e-300
 _FTOL_Z = 1e-13
 _FTOL_T = 1e-10
@@ -75,9 +76,11 @@ _T_TOO_SMALL = "the effect is so large that the t method would need fewer than 3
 def _run(solver, p):
     with np.errstate(all="ignore"):
         values, reasons = solver(p)
-    lost = ~np.isfinite(values) & (reasons == "")
-    reasons[lost] = _NO_FINITE
-    values[lost] = np.nan
+    lost = ~np.isfinite(values)
+    if lost.any():
+        lost &= reasons == ""
+        reasons[lost] = _NO_FINITE
+        values[lost] = np.nan
     return values, reasons
 
 
@@ -97,17 +100,34 @@ def _moments(p, i, effect):
     )
 
 
-def _power_at(p, i, effect, n, alpha):
+def _power_from(p, moments, ratio, n, alpha):
+    """Power at ``n`` and ``alpha`` from the moments of the estimate (see :func:`_moments`)."""
     exact_t = p.method == "t"
-    d, s0, s1, cc = _moments(p, i, effect)
-    df = degrees_of_freedom(n, p.ratio[i]) if exact_t else None
+    df = degrees_of_freedom(n, ratio) if exact_t else None
     u = critical(alpha, p.alternative, exact_t, df)
-    return power_of(d, s0, s1, cc, n, u, p.alternative, exact_t, p.ratio[i])
+    return power_of(*moments, n, u, p.alternative, exact_t, ratio)
+
+
+def _power_at(p, i, effect, n, alpha):
+    return _power_from(p, _moments(p, i, effect), p.ratio[i], n, alpha)
+
+
+def _subset(j, size, *arrays):
+    """The elements ``j`` of each array (the arrays themselves when ``j`` is all of them).
+
+    A continuity term that is the plain float 0.0 stays as it is.
+    """
+    if j.size == size:
+        return arrays
+    return tuple(a if isinstance(a, float) else a[j] for a in arrays)
 
 
 def _record(reasons, i, status, solve):
-    for code, text in _REASONS[solve].items():
-        reasons[i[status == code]] = text
+    failed = status != roots.OK
+    if failed.any():
+        for code, text in _REASONS[solve].items():
+            reasons[i[status == code]] = text
+    return failed
 
 
 def _sample_size(p):
@@ -118,7 +138,7 @@ def _sample_size(p):
         return values, reasons
     exact_t = p.method == "t"
     ratio, target, alpha = p.ratio[i], p.power[i], p.alpha[i]
-    d, s0, s1, cc = _moments(p, i, p.effect[i])
+    d, s0, s1, cc = moments = _moments(p, i, p.effect[i])
     main = np.abs(d) if p.alternative == "two-sided" else _TAIL_SIGN[p.alternative] * d
     u = critical(alpha, p.alternative, False, None)
     k = u * s0 + _normal.quantile(target) * s1
@@ -129,35 +149,41 @@ def _sample_size(p):
         n_min = np.maximum(np.maximum(1.0, 1.0 / ratio), 3.0 / (1.0 + ratio)) * (1.0 + 1e-12)
     else:
         n_min = np.full(i.size, _N_MIN_Z)
-    y = np.log(np.clip(n0, n_min, _N_MAX))
+    y_min = np.log(n_min)
+    y = np.log(np.minimum(np.maximum(n0, n_min), _N_MAX))
 
-    def limit(y):
+    series = tdist.cornish_fisher_terms(u) if exact_t else None
+
+    def limit(y, j):
         n = np.exp(y)
-        crit = tdist.cornish_fisher(degrees_of_freedom(n, ratio), u) if exact_t else u
-        return limit_power_and_slope(d, s0, s1, cc, n, crit, p.alternative, exact_t, ratio)
+        dj, s0j, s1j, ccj, uj, rj = _subset(j, i.size, d, s0, s1, cc, u, ratio)
+        if exact_t:
+            terms = _subset(j, i.size, *series)
+            uj = tdist.cornish_fisher_sum(degrees_of_freedom(n, rj), terms)
+        return limit_power_and_slope(dj, s0j, s1j, ccj, n, uj, p.alternative, exact_t, rj)
 
+    every = np.arange(i.size)
     for _ in range(3):
-        level, slope = limit(y)
+        level, slope = limit(y, every)
         y_new = y - (level - target) / slope
-        y = np.where(np.isfinite(y_new), np.clip(y_new, np.log(n_min), np.log(_N_MAX)), y)
+        y = np.where(np.isfinite(y_new), np.minimum(np.maximum(y_new, y_min), _LOG_N_MAX), y)
     if exact_t:
         h = 1e-6
-        slope = (limit(y + h)[0] - limit(y - h)[0]) / (2.0 * h)
+        slope = (limit(y + h, every)[0] - limit(y - h, every)[0]) / (2.0 * h)
 
-    def model(y):
-        return limit(y)[0] - target, slope
+    def model(y, j):
+        return limit(y, j)[0] - target[j], slope[j]
 
     def f(y, j):
-        sub = i[j]
-        return _power_at(p, sub, p.effect[sub], np.exp(y), p.alpha[sub]) - target[j]
+        sub = _subset(j, i.size, *moments, ratio, alpha)
+        return _power_from(p, sub[:4], sub[4], np.exp(y), sub[5]) - target[j]
 
     y, status = roots.find_root(
-        f, y, 1e-6, np.log(n_min), np.full(i.size, np.log(_N_MAX)), model=model,
+        f, y, 1e-6, y_min, np.full(i.size, _LOG_N_MAX), model=model,
         ftol=_FTOL_T if exact_t else _FTOL_Z,
     )
     values[i] = np.exp(y)
-    _record(reasons, i, status, "sample_size")
-    if exact_t:
+    if _record(reasons, i, status, "sample_size").any() and exact_t:
         reasons[i[status == roots.BELOW]] = _T_TOO_SMALL
     return values, reasons
 
@@ -183,9 +209,10 @@ def _detectable_effect(p):
     _, s0, s1, _ = _moments(p, i, margin)
     u = critical(p.alpha[i], p.alternative, False, None)
     guess = (u * s0 + _normal.quantile(p.power[i]) * s1) / np.sqrt(p.n[i])
-    guess = np.where(np.isfinite(room), np.minimum(guess, 0.5 * room), guess)
+    bounded = np.isfinite(room)
+    guess = np.where(bounded, np.minimum(guess, 0.5 * room), guess)
     y0 = np.log(np.maximum(guess, 1e-300))
-    y_max = np.where(np.isfinite(room), np.log(room) + np.log1p(-1e-12), y0 + 60.0)
+    y_max = np.where(bounded, np.log(room) + np.log1p(-1e-12), y0 + 60.0)
     y_min = np.minimum(y0, y_max) - 60.0
     target = p.power[i]
 
@@ -209,7 +236,7 @@ def _significance_level(p):
     if i.size == 0:
         return values, reasons
     two = p.alternative == "two-sided"
-    d, s0, s1, cc = _moments(p, i, p.effect[i])
+    d, s0, s1, cc = moments = _moments(p, i, p.effect[i])
     main = np.abs(d) if two else _TAIL_SIGN[p.alternative] * d
     x = np.sqrt(p.n[i])
     u0 = (main * x - cc / x - _normal.quantile(p.power[i]) * s1) / s0
@@ -217,14 +244,15 @@ def _significance_level(p):
     y_min = np.full(i.size, np.log(_ALPHA_MIN))
     y0 = np.clip(np.log(np.maximum(_normal.sf(u0), _ALPHA_MIN)), y_min, y_max)
     target = p.power[i]
+    ratio, n = p.ratio[i], p.n[i]
 
     def alpha_of(y):
         tail = np.exp(y)
         return 2.0 * tail if two else tail
 
     def f(y, j):
-        sub = i[j]
-        return _power_at(p, sub, p.effect[sub], p.n[sub], alpha_of(y)) - target[j]
+        sub = _subset(j, i.size, *moments, ratio, n)
+        return _power_from(p, sub[:4], sub[4], sub[5], alpha_of(y)) - target[j]
 
     y, status = roots.find_root(f, y0, 1e-3, y_min, y_max)
     values[i] = alpha_of(y)

@@ -146,13 +146,27 @@ def cornish_fisher(df, z):
     >>> round(float(cornish_fisher(1.0e5, 1.959964)), 6)
     1.959988
     """
-    inv = 1.0 / np.asarray(df, dtype=float)
+    return cornish_fisher_sum(df, cornish_fisher_terms(z))
+
+
+def cornish_fisher_terms(z):
+    """The terms of :func:`cornish_fisher` that depend on z only: ``(z, g1, g2, g3, g4)``.
+
+    For a solve that takes the quantile of one z at many ν (see :func:`cornish_fisher_sum`).
+    """
     x = np.asarray(z, dtype=float)
     x2 = x * x
     g1 = x * (x2 + 1.0) / 4.0
     g2 = x * (3.0 + x2 * (16.0 + 5.0 * x2)) / 96.0
     g3 = x * (-15.0 + x2 * (17.0 + x2 * (19.0 + 3.0 * x2))) / 384.0
     g4 = x * (-945.0 + x2 * (-1920.0 + x2 * (1482.0 + x2 * (776.0 + 79.0 * x2)))) / 92160.0
+    return x, g1, g2, g3, g4
+
+
+def cornish_fisher_sum(df, terms):
+    """The Cornish–Fisher quantile at ``df`` from :func:`cornish_fisher_terms`."""
+    x, g1, g2, g3, g4 = terms
+    inv = 1.0 / np.asarray(df, dtype=float)
     return x + inv * (g1 + inv * (g2 + inv * (g3 + inv * g4)))
 
 

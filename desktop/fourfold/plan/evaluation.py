@@ -175,6 +175,12 @@ class RowCache:
     settings: tuple | None = None
     rows: dict = field(default_factory=dict)
     designs: dict = field(default_factory=dict)
+    keys: list = field(default_factory=list)
+    """The latest evaluation's row keys, in the plan's order."""
+    results: tuple = ()
+    """The latest evaluation's row results, in the plan's order."""
+    uses: dict = field(default_factory=dict)
+    """How many rows of the latest evaluation have each key of ``rows``."""
 
 
 def _ceil(value: float) -> float:
@@ -191,12 +197,11 @@ def _row_alphas(plan: Plan) -> list[float]:
               for metric in plan.metrics]
     if settings.correction == "none" or not alphas:
         return alphas
-    primaries = sum(1 for row in plan.metrics if row.role == "primary")
-    comparisons = [settings.arms * (primaries if metric.role == "primary" else 1)
-                   for metric in plan.metrics]
-    adjusted = engine.adjusted_alpha(np.array(alphas, dtype=float),
-                                     np.array(comparisons, dtype=float), settings.correction)
-    return [float(value) for value in adjusted]
+    primary = [metric.role == "primary" for metric in plan.metrics]
+    comparisons = settings.arms * np.where(primary, float(sum(primary)), 1.0)
+    adjusted = engine.adjusted_alpha(np.array(alphas, dtype=float), comparisons,
+                                     settings.correction)
+    return adjusted.tolist()
 
 
 def runtime_units(settings: Settings) -> float | None:
@@ -309,24 +314,61 @@ def _evaluate_rows(plan: Plan, designs: dict,
 
     Rows found in ``cache`` are reused; the cache is left holding this plan's rows.
     """
-    settings = plan.settings
     metrics = plan.metrics
     if not metrics:
         return ()
     alphas = _row_alphas(plan)
     results: list[RowResult | None] = [None] * len(metrics)
-    keys = None
+    keys = changed = None
     missing = range(len(metrics))
     if cache is not None:
         keys = list(zip(alphas, map(_ROW_KEY, metrics), strict=True))
+        if len(keys) == len(cache.keys):  # an edit in place: look up only the rows that differ
+            changed = [index for index, (key, before)
+                       in enumerate(zip(keys, cache.keys, strict=True)) if key != before]
+            results = list(cache.results)
+        else:
+            changed = range(len(keys))
         missing = []
-        for index, key in enumerate(keys):
-            results[index] = cache.rows.get(key)
+        for index in changed:
+            results[index] = cache.rows.get(keys[index])
             if results[index] is None:
                 missing.append(index)
-    if not missing:
-        cache.rows = dict(zip(keys, results, strict=True))
-        return tuple(results)
+    if missing:
+        _solve_rows(plan, designs, alphas, missing, results)
+    if keys is not None:
+        _remember(cache, keys, changed, results)
+    return tuple(results)
+
+
+def _remember(cache: RowCache, keys: list, changed, results: list) -> None:
+    """Leave ``cache`` holding exactly the rows of this evaluation.
+
+    Rows with the same inputs share one result, now and next time; only the rows in
+    ``changed`` (all of them when the number of rows changed) are looked at.
+    """
+    if len(changed) == len(keys):
+        cache.rows, cache.uses = {}, {}
+    else:
+        for index in changed:
+            before = cache.keys[index]
+            left = cache.uses[before] - 1
+            if left:
+                cache.uses[before] = left
+            else:
+                del cache.uses[before], cache.rows[before]
+    for index in changed:
+        key = keys[index]
+        results[index] = cache.rows.setdefault(key, results[index])
+        cache.uses[key] = cache.uses.get(key, 0) + 1
+    cache.keys, cache.results = keys, tuple(results)
+
+
+def _solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int],
+                results: list) -> None:
+    """Fill ``results`` at the ``missing`` rows: one engine call per group of rows."""
+    settings = plan.settings
+    metrics = plan.metrics
     todo = [metrics[index] for index in missing]
     factors = engine.variance_factor(
         _column([metric.rho for metric in todo]),
@@ -360,10 +402,6 @@ def _evaluate_rows(plan: Plan, designs: dict,
 
     if solved_rows:
         _finish_rows(settings, solved_rows, pending, results)
-    if keys is not None:  # rows with the same inputs share one result, now and next time
-        cache.rows = {}
-        results = [cache.rows.setdefault(key, row) for key, row in zip(keys, results, strict=True)]
-    return tuple(results)
 
 
 def _finish_rows(settings: Settings, solved_rows: list, pending: dict[int, _Pending],
@@ -451,6 +489,7 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
         settings = tuple(getattr(plan.settings, name) for name in _SETTINGS_INPUTS)
         if settings != cache.settings:
             cache.settings, cache.rows, cache.designs = settings, {}, {}
+            cache.keys, cache.results, cache.uses = [], (), {}
         designs = cache.designs
     return _summarise(plan, _evaluate_rows(plan, designs, cache), designs)
 
@@ -465,9 +504,15 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
             f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
         )
     notes.extend(sequential.plan_notes(plan, rows, designs))
-    for metric, row in zip(plan.metrics, rows, strict=True):
+    deciding, secondary = [], []  # computed rows that solve for sample size, by role
+    for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True)):
         if row.reason:
             notes.append(f"{metric.name}: not computed — {row.reason}.")
+        elif row.solved == "sample_size":
+            if metric.role in DECIDING_ROLES:
+                deciding.append(index)
+            elif metric.role == "secondary":
+                secondary.append(index)
 
     if settings.runtime_days is not None:
         units = runtime_units(settings)
@@ -477,10 +522,6 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
         total = None if units is None else units * (1.0 + settings.arms * settings.ratio)
         return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
 
-    deciding = [
-        index for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True))
-        if metric.role in DECIDING_ROLES and row.solved == "sample_size" and not row.reason
-    ]
     if not deciding:
         notes.append("No primary or guardrail row solves for sample size: nothing sets the "
                      "duration.")
@@ -496,9 +537,9 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
                  "the duration; secondary rows are informational.")
     duration = rows[binding].days
     total = rows[binding].units_total
-    for metric, row in zip(plan.metrics, rows, strict=True):
-        if (metric.role == "secondary" and row.solved == "sample_size" and not row.reason
-                and row.units_total > total):
+    for index in secondary:
+        metric, row = plan.metrics[index], rows[index]
+        if row.units_total > total:
             if math.isfinite(duration):
                 gap = f"{row.days:g} days for its power; the test runs {duration:g}"
             else:
