@@ -50,7 +50,7 @@ QLabel#groupHeading {{ color: {accent}; font-weight: 600; font-size: {small}pt;
 QLabel#fieldLabel {{ color: {muted}; }}
 QLineEdit#planTitle {{ font-size: {title}pt; font-weight: 600; border: none;
     border-bottom: 2px solid {accent}; background: transparent; padding: 2px 0; }}
-QLineEdit#planDescription {{ color: {muted}; border: none; background: transparent; }}
+QPlainTextEdit#planDescription {{ color: {muted}; border: none; background: transparent; }}
 QFrame#summaryBar {{ background: {summary}; border-radius: 6px; }}
 QLabel#summaryItem {{ font-size: {summary_pt}pt; }}
 QLabel#summaryNotes {{ color: {muted}; }}
@@ -433,6 +433,7 @@ class MainWindow(QMainWindow):
 
     def may_discard(self) -> bool:
         """Whether the current plan may be replaced (saved, discarded or unchanged)."""
+        self.settings_panel.commit_pending()
         if not self.document.dirty:
             return True
         answer = self.ask_to_save()
@@ -486,6 +487,7 @@ class MainWindow(QMainWindow):
 
     def save_to(self, path) -> bool:
         """Write the plan to ``path`` (atomically); on failure the old file stays intact."""
+        self.settings_panel.commit_pending()
         try:
             save(self.document.plan, path)
         except (FourfoldError, OSError) as error:

@@ -3,13 +3,16 @@
 Each field becomes a :class:`fourfold.plan.commands.SetSetting` command when the user finishes
 editing it (Enter, Tab or leaving the field); a refused value is reported on the status line and
 the field shows the plan's value again. The panel redraws itself from the plan after every
-change, so undo and redo show up here too.
+change, so undo and redo show up here too. The description is a small word-wrapped editor, one
+to three lines tall (it scrolls beyond), committed when the user leaves it or presses Enter
+(Shift+Enter starts a new line; Escape brings back the plan's text).
 """
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import QRect, Qt, Signal
 from PySide6.QtWidgets import (
+    QApplication,
     QCheckBox,
     QComboBox,
     QFrame,
@@ -17,6 +20,8 @@ from PySide6.QtWidgets import (
     QHBoxLayout,
     QLabel,
     QLineEdit,
+    QPlainTextEdit,
+    QSizePolicy,
     QSpinBox,
     QVBoxLayout,
     QWidget,
@@ -56,6 +61,85 @@ NUMBER_FIELDS = {
                      "the effect or power those days allow. Empty: rows solve for units.",
                      False, True),
 }
+
+
+class DescriptionEdit(QPlainTextEdit):
+    """The plan's description: word-wrapped, as tall as its text up to three lines, then scrolls.
+
+    Signals
+    -------
+    committed(str)
+        The text, when the user is done with it (focus leaves, or Enter without Shift).
+    """
+
+    committed = Signal(str)
+    MAX_LINES = 3
+
+    def __init__(self, parent=None) -> None:
+        super().__init__(parent)
+        self.setObjectName("planDescription")
+        self.setTabChangesFocus(True)
+        self.setLineWrapMode(QPlainTextEdit.LineWrapMode.WidgetWidth)
+        self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
+        self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
+        self._shown = ""
+        self.textChanged.connect(self._fit_height)
+        self._fit_height()
+
+    def text(self) -> str:
+        """The text being edited."""
+        return self.toPlainText()
+
+    def show_text(self, text: str) -> None:
+        """Show the plan's ``text`` (without committing it), scrolled to its start."""
+        self._shown = text
+        if self.toPlainText() != text:
+            self.setPlainText(text)
+        self.moveCursor(self.textCursor().MoveOperation.Start)
+
+    def lines(self) -> int:
+        """Lines the text takes at the current width (at least one)."""
+        width = self.viewport().width() - 2 * int(self.document().documentMargin())
+        text = self.toPlainText() or self.placeholderText() or " "
+        box = self.fontMetrics().boundingRect(QRect(0, 0, max(width, 1), 1 << 20),
+                                              int(Qt.TextFlag.TextWordWrap), text)
+        return max(1, -(-box.height() // self.fontMetrics().lineSpacing()))
+
+    def _fit_height(self) -> None:
+        shown = min(self.lines(), self.MAX_LINES)
+        margins = self.contentsMargins()
+        # the editor scrolls unless its viewport holds the lines, a margin each side and a pixel
+        height = (shown * self.fontMetrics().lineSpacing()
+                  + 2 * int(self.document().documentMargin()) + 2
+                  + margins.top() + margins.bottom())
+        if height != self.height():
+            self.setFixedHeight(height)
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        super().resizeEvent(event)
+        if event.size().width() != event.oldSize().width():
+            self._fit_height()
+
+    def keyPressEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        key = event.key()
+        if key in (Qt.Key.Key_Return, Qt.Key.Key_Enter) and not (
+                event.modifiers() & Qt.KeyboardModifier.ShiftModifier):
+            self.committed.emit(self.toPlainText())
+            return
+        if key == Qt.Key.Key_Escape:
+            self.show_text(self._shown)
+            return
+        super().keyPressEvent(event)
+
+    def commit(self) -> None:
+        """Send ``committed`` if the text differs from the plan's."""
+        if self.toPlainText() != self._shown:
+            self.committed.emit(self.toPlainText())
+
+    def focusOutEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        super().focusOutEvent(event)
+        self.commit()
 
 
 def _group(title: str) -> tuple[QFrame, QGridLayout]:
@@ -105,14 +189,13 @@ class SettingsPanel(QWidget):
         self.title.setToolTip("The plan's title, shown in the exports.")
         self.title.editingFinished.connect(lambda: self._commit("title", self.title.text()))
         self.fields["title"] = self.title
-        self.description = QLineEdit()
-        self.description.setObjectName("planDescription")
+        self.description = DescriptionEdit()
         self.description.setPlaceholderText("What is being tested, and why")
-        self.description.setToolTip("A line on the test, shown in the exports.")
-        self.description.editingFinished.connect(
-            lambda: self._commit("description", self.description.text()))
+        self.description.setToolTip("A few lines on the test, shown in the exports. Enter "
+                                    "keeps the text; Shift+Enter starts a new line.")
+        self.description.committed.connect(lambda text: self._commit("description", text))
         self.fields["description"] = self.description
-        names.addWidget(self.title, 2)
+        names.addWidget(self.title, 2, Qt.AlignmentFlag.AlignTop)
         names.addWidget(self.description, 3)
 
         frame, grid = _group("Test")
@@ -201,6 +284,14 @@ class SettingsPanel(QWidget):
         grid.addWidget(self._label(text, combo), row, column)
         grid.addWidget(combo, row, column + 1, 1, span)
 
+    def commit_pending(self) -> None:
+        """Commit a field the user is still typing in (before a save, so the file has it)."""
+        focused = QApplication.focusWidget()
+        if focused is self.description:
+            self.description.commit()
+        elif isinstance(focused, QLineEdit) and focused in self.fields.values():
+            focused.editingFinished.emit()
+
     def _commit_number(self, field: str, edit: QLineEdit) -> None:
         text, _, percent, optional = NUMBER_FIELDS[field]
         raw = edit.text().strip()
@@ -246,6 +337,8 @@ class SettingsPanel(QWidget):
                 widget.setValue(int(value))
             elif isinstance(widget, QComboBox):
                 widget.setCurrentIndex(max(widget.findData(value), 0))
+            elif isinstance(widget, DescriptionEdit):
+                widget.show_text(value)
             elif field in NUMBER_FIELDS:
                 widget.setText(self.show_setting(field, value))
             else:
