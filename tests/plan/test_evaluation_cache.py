@@ -1,0 +1,87 @@
+"""The row cache under every kind of edit: results equal an evaluation without the cache.
+
+The reference is :func:`fourfold.plan.evaluation.compute` without a cache on the same plan
+(a consistency check; no outside source is involved). Edits are drawn by hypothesis: a cell
+changed in place, two rows swapped, a row's inputs copied onto another (equal inputs share
+one result), rows inserted and removed, a row override of α, the plan's correction.
+"""
+
+import dataclasses
+import math
+
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from fourfold.plan import Plan, load, sample_path
+from fourfold.plan.evaluation import RowCache, compute
+
+INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative",
+          "margin", "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n")
+
+
+def _plan(rows: int) -> Plan:
+    sample = load(sample_path())
+    metrics = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}",
+                                   n=30_000.0 + i)
+               for i in range(rows)]
+    return Plan(dataclasses.replace(sample.settings, correction="none"), metrics)
+
+
+def _same(a, b) -> bool:
+    both_nan = isinstance(a, float) and isinstance(b, float) and math.isnan(a) and math.isnan(b)
+    return a == b or both_nan
+
+
+def _apply(plan: Plan, edit: tuple) -> None:
+    what, first, second, scale = edit
+    metrics = plan.metrics
+    first, second = first % len(metrics), second % len(metrics)
+    if what == "cell":
+        metrics[first] = dataclasses.replace(metrics[first],
+                                             baseline=metrics[first].baseline * scale)
+    elif what == "swap":
+        metrics[first], metrics[second] = metrics[second], metrics[first]
+    elif what == "copy":
+        metrics[first] = dataclasses.replace(metrics[second], name=metrics[first].name)
+    elif what == "insert":
+        metrics.insert(first, dataclasses.replace(metrics[second], name="Inserted"))
+    elif what == "remove" and len(metrics) > 2:
+        del metrics[first]
+    elif what == "alpha":
+        metrics[first] = dataclasses.replace(metrics[first], alpha=0.05 * scale)
+    elif what == "solve":
+        metrics[first] = dataclasses.replace(metrics[first], solve="power")
+    elif what == "correction":
+        plan.settings = dataclasses.replace(plan.settings, correction="bonferroni")
+
+
+EDITS = st.tuples(
+    st.sampled_from(["cell", "swap", "copy", "insert", "remove", "alpha", "solve",
+                     "correction"]),
+    st.integers(0, 40), st.integers(0, 40), st.sampled_from([0.5, 0.9, 1.1, 1.5]),
+)
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(EDITS, min_size=1, max_size=6))
+def test_cached_results_equal_uncached_ones_after_any_edits(edits):
+    plan = _plan(18)
+    cache = RowCache()
+    compute(plan, cache=cache)
+    for edit in edits:
+        _apply(plan, edit)
+        cached = compute(plan, cache=cache)
+        fresh = compute(plan)
+        assert len(cached.rows) == len(fresh.rows) == len(plan.metrics)
+        for x, y in zip(cached.rows, fresh.rows, strict=True):
+            for name in (f.name for f in dataclasses.fields(x)):
+                assert _same(getattr(x, name), getattr(y, name)), (edit, name)
+        for name in ("duration_days", "total_units", "binding_index", "binding_name", "notes"):
+            assert _same(getattr(cached, name), getattr(fresh, name)), (edit, name)
+        # a row's key: the α it is tested at (after the correction) and its inputs
+        keys = [(row.alpha, *(getattr(metric, name) for name in INPUTS))
+                for row, metric in zip(fresh.rows, plan.metrics, strict=True)]
+        assert len(cache.rows) == len(set(keys))
+        for i, key in enumerate(keys):  # equal inputs share one result
+            j = keys.index(key)
+            assert cached.rows[i] is cached.rows[j]
