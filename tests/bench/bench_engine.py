@@ -14,12 +14,19 @@ of ``import fourfold.engine`` in a fresh interpreter next to that of its own imp
 Targets: ≥ 1,000× for "z" methods, ≥ 200× for the exact "t"; 10,000 exact-t rows in
 ≤ 50 ms; ``import fourfold.engine`` < 0.5 s.
 
+First it prints the per-call cost of the small calls the window makes on every edit (a
+scalar row, the 80–500-element curves of the plots), median of 200 calls, next to a bare
+``scipy.special.ndtri`` call of the same size measured in the same run (the floor of any
+vectorised call). Targets: scalar z sample size ≤ 0.3 ms; 162-element proportion sample size
+≤ 0.6 ms; 162-element proportion detectable effect ≤ 1.2 ms.  ``--calls`` prints only these.
+
 Rows (invented, A/B scale): relative MDE log-uniform in [0.5 %, 10 %] for means (CV
 log-uniform in [0.5, 10]) and [1 %, 20 %] for proportions (baseline log-uniform in
 [0.5 %, 50 %]) and rates (baseline log-uniform in [0.005, 3]); α from {0.01, 0.05, 0.1},
 power from {0.8, 0.9}, ratio from {0.5, 1, 2}, all three alternatives.
 """
 
+import statistics
 import subprocess
 import sys
 import time
@@ -28,7 +35,7 @@ import warnings
 import numpy as np
 import scipy
 import statsmodels
-from scipy import optimize, stats
+from scipy import optimize, special, stats
 from statsmodels.stats.power import NormalIndPower, TTestIndPower
 from statsmodels.stats.proportion import power_proportions_2indep, proportion_effectsize
 
@@ -126,9 +133,56 @@ def _import_time(statement):
     return min(times)
 
 
+def _median_ms(fn, repeat=200):
+    fn()
+    times = []
+    for _ in range(repeat):
+        start = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - start)
+    return statistics.median(times) * 1e3
+
+
+def per_call():
+    """Per-call cost of the window's small engine calls against a bare ndtri of that size."""
+    effects = np.linspace(0.01, 0.1, 162)
+    units = np.geomspace(1e4, 1e7, 162)
+    plots = np.linspace(0.005, 0.2, 500)
+    calls = [
+        ("sample size, mean z, scalar", 1, 0.3, lambda: engine.sample_size(
+            "mean", 2.35, 0.05, sd=14.8, alpha=0.025, power=0.8, relative=True, method="z")),
+        ("sample size, mean t, scalar", 1, None, lambda: engine.sample_size(
+            "mean", 2.35, 0.05, sd=14.8, alpha=0.025, power=0.8, relative=True, method="t")),
+        ("sample size, proportion, 162", 162, 0.6, lambda: engine.sample_size(
+            "proportion", 0.031, effects, alpha=0.025, relative=True)),
+        ("sample size, mean t, 162", 162, None, lambda: engine.sample_size(
+            "mean", 2.35, effects, sd=14.8, alpha=0.025, relative=True, method="t")),
+        ("sample size, proportion, 500", 500, None, lambda: engine.sample_size(
+            "proportion", 0.031, plots, alpha=0.025, relative=True)),
+        ("detectable effect, proportion, 162", 162, 1.2, lambda: engine.detectable_effect(
+            "proportion", 0.031, units, alpha=0.025, relative=True)),
+        ("detectable effect, mean t, 162", 162, None, lambda: engine.detectable_effect(
+            "mean", 2.35, units, sd=14.8, alpha=0.025, relative=True, method="t")),
+        ("power, proportion, 162", 162, None, lambda: engine.power(
+            "proportion", 0.031, effects, 1e5, alpha=0.025, relative=True)),
+    ]
+    floors = {size: _median_ms(lambda size=size: special.ndtri(np.full(size, 0.3)))
+              for size in {size for _, size, _, _ in calls}}
+    print(f"{'call (median of 200)':<38}{'ms':>8}{'target':>8}{'× ndtri':>9}")
+    for name, size, target, fn in calls:
+        ms = _median_ms(fn)
+        goal = "" if target is None else f"≤ {target:g}"
+        print(f"{name:<38}{ms:>8.3f}{goal:>8}{ms / floors[size]:>8.0f}×")
+    print("ndtri of the same size: " + ", ".join(f"{size}: {floors[size] * 1e3:.1f} µs"
+                                                for size in sorted(floors)))
+
+
 def main():
     print(f"numpy {np.__version__}, scipy {scipy.__version__}, "
           f"statsmodels {statsmodels.__version__}")
+    per_call()
+    if "--calls" in sys.argv[1:]:
+        return
     rng = np.random.default_rng(20261201)
     print(f"{'kind/method':<22}{'engine ms':>10}{'µs/row':>9}{'ref µs/row':>12}"
           f"{'ratio':>9}{'max rel diff':>14}{'ref nan':>8}")

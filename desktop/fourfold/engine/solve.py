@@ -215,11 +215,16 @@ def _detectable_effect(p):
     y_max = np.where(bounded, np.log(room) + np.log1p(-1e-12), y0 + 60.0)
     y_min = np.minimum(y0, y_max) - 60.0
     target = p.power[i]
+    exact_t = p.method == "t"
+    n, ratio = p.n[i], p.ratio[i]
+    crit = critical(p.alpha[i], p.alternative, True, degrees_of_freedom(n, ratio)) if exact_t else u
 
     def f(y, j):
         sub = i[j]
         effect = p.margin[sub] + sign * np.exp(y)
-        return _power_at(p, sub, effect, p.n[sub], p.alpha[sub]) - target[j]
+        nj, rj, uj = _subset(j, i.size, n, ratio, crit)
+        return power_of(*_moments(p, sub, effect), nj, uj, p.alternative, exact_t,
+                        rj) - target[j]
 
     y, status = roots.find_root(f, np.minimum(y0, y_max), 1e-3, y_min, y_max)
     effect = margin + sign * np.exp(y)
