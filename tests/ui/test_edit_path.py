@@ -87,5 +87,6 @@ def test_the_plots_skip_an_edit_of_another_row_and_follow_their_own(qtbot, monke
     document.recompute_now()
     show()
     assert calls == [1, 1]
-    _, units = panel.grid.plots["effect"].point.getOriginalDataset()
+    effect = panel.grid.plots["effect"]
+    _, units = effect.points(effect.point)
     assert units[0] == compute(document.plan).rows[1].units_control

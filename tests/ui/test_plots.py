@@ -43,8 +43,8 @@ def show(qtbot, panel, plan, index):
 
 
 def curve_data(panel, name):
-    x, y = panel.grid.plots[name].curve.getOriginalDataset()
-    return np.asarray(x if x is not None else []), np.asarray(y if y is not None else [])
+    plot = panel.grid.plots[name]
+    return plot.points(plot.curve)
 
 
 def test_show_row_reuses_plot_items_and_follows_edits(qtbot, panel):
@@ -62,7 +62,7 @@ def test_show_row_reuses_plot_items_and_follows_edits(qtbot, panel):
     direct = engine.sample_size("proportion", 0.031, x / 100.0, alpha=0.05, power=0.8,
                                 relative=True)
     np.testing.assert_allclose(y, direct, rtol=1e-9)
-    px, py = plots["effect"].point.getOriginalDataset()
+    px, py = plots["effect"].points(plots["effect"].point)
     assert px[0] == pytest.approx(8.0)
     assert py[0] == compute(edited).rows[0].units_control
 

@@ -220,10 +220,14 @@ class _Plot:
         self.item.showGrid(x=True, y=True, alpha=0.3)
         self.item.vb.setDefaultPadding(PADDING)
         self.item.vb.disableAutoRange()
-        self.neighbour = self.item.plot([], [], connect="finite")
-        self.curve = self.item.plot([], [], connect="finite")
-        self.marks = self.item.plot([], [], pen=None, symbol="o")
-        self.point = self.item.plot([], [], pen=None, symbol="o")
+        # Bare curve and scatter items, fed view coordinates (log10 on log axes) by set_figure:
+        # a PlotDataItem wrapper would cost five times as much per update.
+        self.neighbour = pg.PlotCurveItem(connect="finite")
+        self.curve = pg.PlotCurveItem(connect="finite")
+        self.marks = pg.ScatterPlotItem(symbol="o")
+        self.point = pg.ScatterPlotItem(symbol="o")
+        for data_item in (self.neighbour, self.curve, self.marks, self.point):
+            self.item.addItem(data_item)
         self.guide = pg.InfiniteLine(angle=90, movable=False, label="",
                                      labelOpts={"position": 0.45, "anchors": [(0, 0.5), (0, 0.5)]})
         self.item.addItem(self.guide, ignoreBounds=True)
@@ -248,6 +252,7 @@ class _Plot:
         self._range: tuple[tuple[float, float], tuple[float, float]] | None = None
         self._log = (False, False)
         self._corner: tuple[int, int] | None = None
+        self._points: dict = {}
 
     def cache_static_items(self) -> None:
         """Keep the axes (with their grid lines), the title and the legend as screen pixmaps.
@@ -266,12 +271,12 @@ class _Plot:
         self.curve.setPen(pg.mkPen(style.curve, width=width))
         self.neighbour.setPen(pg.mkPen(style.neighbour, width=width * 0.8,
                                        style=Qt.PenStyle.DashLine))
-        self.point.setSymbolBrush(style.point)
-        self.point.setSymbolPen(pg.mkPen(style.background, width=1.5))
-        self.point.setSymbolSize(13 * style.text_scale ** 0.5)
-        self.marks.setSymbolBrush(style.marks)
-        self.marks.setSymbolPen(pg.mkPen(style.background, width=1.0))
-        self.marks.setSymbolSize(8 * style.text_scale ** 0.5)
+        self.point.setBrush(pg.mkBrush(style.point))
+        self.point.setPen(pg.mkPen(style.background, width=1.5))
+        self.point.setSize(13 * style.text_scale ** 0.5)
+        self.marks.setBrush(pg.mkBrush(style.marks))
+        self.marks.setPen(pg.mkPen(style.background, width=1.0))
+        self.marks.setSize(8 * style.text_scale ** 0.5)
         self.guide.setPen(pg.mkPen(style.muted, width=1.2 * style.pen_scale,
                                    style=Qt.PenStyle.DotLine))
         self.guide.label.setColor(style.muted)
@@ -336,12 +341,17 @@ class _Plot:
             self._log = log
             self._range = None
         self.item.setLogMode(x=log[0], y=log[1])
-        self.curve.setData(figure.curve.x, figure.curve.y, skipFiniteCheck=True)
-        self.neighbour.setData(figure.neighbour.x, figure.neighbour.y, skipFiniteCheck=True)
-        self.marks.setData(figure.marks.x, figure.marks.y)
+        for item, line in ((self.curve, figure.curve), (self.neighbour, figure.neighbour)):
+            self._points[item] = (line.x, line.y)
+            item.setData(_view(line.x, log[0]), _view(line.y, log[1]), skipFiniteCheck=True)
+        for item, xy in ((self.marks, (figure.marks.x, figure.marks.y)),
+                         (self.point, ([figure.point[0]], [figure.point[1]]))):
+            xs, ys = (np.asarray(v, dtype=float) for v in xy)
+            finite = np.isfinite(_view(xs, log[0])) & np.isfinite(_view(ys, log[1]))
+            self._points[item] = (xs[finite], ys[finite])
+            item.setData(_view(xs[finite], log[0]), _view(ys[finite], log[1]))
         x, y = figure.point
         finite = math.isfinite(x) and math.isfinite(y)
-        self.point.setData([x] if finite else [], [y] if finite else [])
         self._set_legend(figure)
         self._set_texts(figure, finite and not empty)
         self._set_guide(figure)
@@ -388,11 +398,17 @@ class _Plot:
         self._range = target
         self.item.setRange(xRange=target[0], yRange=target[1], padding=0)
 
+    def points(self, item) -> tuple[np.ndarray, np.ndarray]:
+        """The points on show in ``item`` (one of this figure's curve or scatter items), in
+        data units as the figure gave them (the items hold view coordinates)."""
+        return self._points.get(item, (np.empty(0), np.empty(0)))
+
     def clear(self) -> None:
         """Show nothing (no row selected)."""
         self._figure = None
         for item in (self.curve, self.neighbour, self.marks, self.point):
             item.setData([], [])
+        self._points.clear()
         for item in (self.point_text, self.guide, self.message, self.legend, *self.mark_texts):
             item.hide()
         self.item.setTitle(None)
