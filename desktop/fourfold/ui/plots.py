@@ -105,9 +105,12 @@ class _CompactAxis(pg.AxisItem):
 
     def logTickValues(self, minVal, maxVal, size, stdTicks):  # noqa: N802, N803
         decades = maxVal - minVal
-        mantissas = (1, 2, 5) if decades <= 2.5 else (1,)
-        if decades < 0.8:
-            mantissas = (1, 1.5, 2, 3, 4, 5, 6, 8)
+        font = self.style["tickFont"] or QFont()
+        metrics = QFontMetricsF(font)
+        # room a label needs along the axis: its width across, its height up
+        need = (metrics.horizontalAdvance("0.005") * 1.3 if self.orientation in ("top", "bottom")
+                else metrics.height() * 1.2)
+        mantissas = _log_mantissas(decades, size / decades if decades > 0 else math.inf, need)
         values = [
             e + math.log10(m)
             for e in range(math.floor(minVal), math.ceil(maxVal) + 1)
@@ -115,6 +118,31 @@ class _CompactAxis(pg.AxisItem):
             if minVal <= e + math.log10(m) <= maxVal
         ]
         return [(None, values)]
+
+
+_MANTISSAS = (  # ticks per decade, with the narrowest gap between two of them, in decades
+    ((1, 1.5, 2, 3, 4, 5, 6, 8), math.log10(6 / 5), 0.8),
+    ((1, 2, 5), math.log10(2), 2.5),
+    ((1, 3), math.log10(10 / 3), math.inf),
+)
+
+
+def _log_mantissas(decades: float, per_decade: float, need: float) -> tuple:
+    """Tick mantissas for a log axis spanning ``decades`` at ``per_decade`` pixels each, with
+    labels that need ``need`` pixels along the axis: the densest set whose labels keep clear
+    of each other (1, 1.5, 2 … 8 only within one decade; 1, 2, 5 up to 2.5 decades).
+
+    Examples
+    --------
+    >>> _log_mantissas(2.3, 260.0, 45.0), _log_mantissas(2.3, 100.0, 45.0)
+    ((1, 2, 5), (1, 3))
+    >>> _log_mantissas(0.5, 800.0, 20.0), _log_mantissas(4.0, 40.0, 45.0)
+    ((1, 1.5, 2, 3, 4, 5, 6, 8), (1,))
+    """
+    for mantissas, gap, widest in _MANTISSAS:
+        if decades <= widest and gap * per_decade >= need:
+            return mantissas
+    return (1,)
 
 
 @dataclass(frozen=True)
