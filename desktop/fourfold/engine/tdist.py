@@ -109,8 +109,10 @@ def nct_sf(df, nc, t):
     df, nc, t = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (df, nc, t)))
     shape = df.shape
     df, nc, t = df.ravel(), nc.ravel(), t.ravel()
-    out = np.empty(df.shape)
     limit = (df >= NORMAL_LIMIT_DF) & (np.abs(t) <= 0.1 * np.sqrt(df))
+    if limit.all():
+        return np.clip(_limit_sf(df, nc, t), 0.0, 1.0).reshape(shape)
+    out = np.empty(df.shape)
     out[limit] = _limit_sf(df[limit], nc[limit], t[limit])
     huge = ~limit & (np.abs(nc) > LARGE_NONCENTRALITY)
     if huge.any():
