@@ -161,18 +161,18 @@ def _search(func, y0, f0, step, y_min, y_max, start_ok, model, grow, max_steps, 
         i = np.flatnonzero(active)
         if i.size == 0:
             break
-        denom = fb[i] - fa[i]
+        ai, bi, fai, fbi = a[i], b[i], fa[i], fb[i]
         with np.errstate(divide="ignore", invalid="ignore"):
-            c = b[i] - fb[i] * (b[i] - a[i]) / denom
-        low, high = np.minimum(a[i], b[i]), np.maximum(a[i], b[i])
-        outside = ~((c > low) & (c < high))
-        c[outside] = 0.5 * (a[i][outside] + b[i][outside])
+            c = bi - fbi * (bi - ai) / (fbi - fai)
+        inside = (c > np.minimum(ai, bi)) & (c < np.maximum(ai, bi))
+        if not inside.all():
+            c = np.where(inside, c, 0.5 * (ai + bi))
         fc = func(c, i)
-        opposite = np.sign(fc) != np.sign(fb[i])
-        a_new = np.where(opposite, b[i], a[i])
-        fa_new = np.where(opposite, fb[i], 0.5 * fa[i])
-        a[i], fa[i], b[i], fb[i] = a_new, fa_new, c, fc
-        done = (np.abs(fc) <= ftol) | (np.abs(b[i] - a[i]) <= ytol * (1.0 + np.abs(c)))
+        opposite = np.sign(fc) != np.sign(fbi)
+        a_new = np.where(opposite, bi, ai)
+        a[i], fa[i] = a_new, np.where(opposite, fbi, 0.5 * fai)
+        b[i], fb[i] = c, fc
+        done = (np.abs(fc) <= ftol) | (np.abs(c - a_new) <= ytol * (1.0 + np.abs(c)))
         done |= ~np.isfinite(fc)
         active[i[done]] = False
     good = bracketed & np.isfinite(fb) & (np.abs(fb) <= verify)
