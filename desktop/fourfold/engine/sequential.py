@@ -47,6 +47,7 @@ Trials*. Chapman & Hall/CRC, ch. 2, 7 and 19.
 
 from __future__ import annotations
 
+import functools
 import math
 import operator
 from collections.abc import Callable, Sequence
@@ -201,8 +202,18 @@ def _upper_for(before: grid.Density | None, t: float, drift: float, target: floa
     gap = _log_gap(lambda c: grid.exceed(before, t, drift, c), target)
     hi = drift * math.sqrt(t) - float(ndtri(target))
     g_hi = gap(hi)
-    if g_hi >= 0.0:
+    if g_hi == 0.0:
         return hi
+    if g_hi > 0.0:
+        # The unconditional boundary; earlier looks only remove paths, so this happens when
+        # they removed next to nothing and the grid's tail overshoots the exact one slightly.
+        step, lo, g_lo = 1e-6, hi, g_hi
+        while g_hi > 0.0:
+            lo, g_lo = hi, g_hi
+            hi += step
+            step *= 4.0
+            g_hi = gap(hi)
+        return _illinois(gap, lo, hi, g_lo, g_hi)
     step, lo = 1.0, hi - 1.0
     g_lo = gap(lo)
     while g_lo < 0.0:
@@ -259,6 +270,16 @@ def _efficacy(t: np.ndarray, side_alpha: float, two_sided: bool, spending: str, 
         if k + 1 < t.size:
             state = grid.advance(state, t_k, 0.0, -upper[k] if two_sided else -np.inf, upper[k])
     return upper, up
+
+
+@functools.lru_cache(maxsize=64)
+def _boundaries(fractions: tuple[float, ...], side_alpha: float, two_sided: bool, spending: str,
+                gamma: float | None) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_efficacy`, remembered (read-only arrays): the boundaries depend on α and the
+    looks, not on the power, and are most of a design's cost, so that designs along a power
+    curve — or at two powers for one α — compute them once."""
+    upper, up = _efficacy(np.array(fractions), side_alpha, two_sided, spending, gamma)
+    return _frozen(upper), _frozen(up)
 
 
 def _with_futility(
@@ -429,7 +450,8 @@ def design(
     if power <= side_alpha:
         raise ValueError(f"power must exceed the one-sided α ({side_alpha:g}), got {power!r}")
 
-    upper, up_h0 = _efficacy(t, side_alpha, two_sided, spending, gamma)
+    upper, up_h0 = _boundaries(tuple(float(x) for x in t), side_alpha, two_sided, spending,
+                               gamma)
     floor = -upper if two_sided else np.full(looks, -np.inf)
     fixed = float(ndtri(1.0 - side_alpha) + ndtri(power))
     beta_steps = (None if futility is None
