@@ -220,3 +220,28 @@ def test_interim_looks_inflate_the_curves_like_the_evaluation():
         if figure.x_log:
             xs, x = np.log(xs), math.log(x)
         assert np.interp(x, xs, figure.curve.y) == pytest.approx(figure.point[1], rel=1e-3)
+
+
+@pytest.mark.parametrize("looks, spending, futility", [(10, "ld-obrien-fleming", False),
+                                                      (4, "ld-pocock", True)])
+def test_interpolated_inflation_stays_near_the_exact_designs(looks, spending, futility):
+    # Along the power and α figures the inflation is interpolated between a few designs; the
+    # curves must stay within 0.5 % of the exact design at every point (about a pixel on a
+    # figure a few hundred pixels tall). Reference: the engine's designs at each point.
+    from fourfold.plan import sequential
+
+    plan = mean_plan(daily=2_000)
+    settings = dataclasses.replace(plan.settings, looks=looks, spending=spending,
+                                   futility=futility)
+    plan = dataclasses.replace(plan, settings=settings)
+    data = tradeoffs(plan, 0, compute(plan))
+    effect = 0.5
+    for figure in (data.power, data.alpha):
+        for i in range(3, figure.curve.x.size, 7):
+            if figure.name == "power":
+                alpha, power = 0.05, figure.curve.x[i] / 100.0
+            else:
+                alpha, power = figure.curve.x[i], 0.8
+            exact = closed_form(4.0, effect, alpha, power) * sequential.row_design(
+                settings, alpha, power, "two-sided").inflation
+            assert figure.curve.y[i] == pytest.approx(exact, rel=5e-3), (figure.name, i)

@@ -54,6 +54,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from scipy.special import ndtri
 
 from fourfold import engine
 from fourfold.plan import sequential
@@ -67,7 +68,7 @@ MAX_WEEKS = 52
 SPAN = (0.4, 2.5)
 POWER_RANGE = (0.5, 0.99)
 ALPHA_RANGE = (0.001, 0.2)
-INFLATION_NODES = 8
+INFLATION_NODES = 5
 
 _EMPTY = np.empty(0)
 
@@ -264,12 +265,15 @@ class _Row:
         self.common = dict(sd=metric.sd, alternative=metric.alternative, ratio=settings.ratio,
                            relative=metric.relative, margin=metric.margin, method=metric.method)
 
-    def inflation(self, alpha, power, design: float | None = None, log: bool = False):
+    def inflation(self, alpha, power, design: float | None = None):
         """Interim-look inflation at α and power (1 for a fixed design).
 
-        Along a grid of α or power the inflation, smooth in both, is computed at a few nodes
-        (and at ``design``, the row's own value, so that the design point stays exact) and
-        interpolated; each group sequential design costs milliseconds.
+        Along a grid of α or power the inflation is computed at a few nodes (and at
+        ``design``, the row's own value, so that the design point stays exact) and
+        interpolated on the normal-quantile scale of α or power, where it is close to a
+        straight line (within 0.2 % of the exact designs with five nodes, where linear
+        interpolation in power missed by 1 % near power 0.99); each group sequential design
+        costs milliseconds.
         """
         settings = self.plan.settings
         if settings.looks <= 1:
@@ -286,22 +290,19 @@ class _Row:
         nodes = np.unique(np.concatenate([grid[:: max(1, grid.size // INFLATION_NODES)],
                                           grid[-1:], [] if design is None else [design]]))
         values = [at(x, fixed) if along_alpha else at(fixed, x) for x in nodes]
-        if log:
-            return np.interp(np.log(grid), np.log(nodes), values)
-        return np.interp(grid, nodes, values)
+        return np.interp(ndtri(grid), ndtri(nodes), values)
 
     def units(self, *curves: tuple) -> list[np.ndarray]:
         """Control-arm units (design factor and interim looks included), as the evaluation
-        computes them, for each ``(effect, alpha, power, design, log)`` of ``curves`` (one
-        engine call); ``design`` and ``log`` tell :meth:`inflation` where the row's own value
-        lies on the curve's grid and how to interpolate along it."""
+        computes them, for each ``(effect, alpha, power, design)`` of ``curves`` (one engine
+        call); ``design`` tells :meth:`inflation` the row's own value on the curve's grid."""
         metric = self.metric
         with np.errstate(all="ignore"):
             n = _split(lambda e, a, p: engine.sample_size(metric.kind, metric.baseline, e,
                                                           alpha=a, power=p, **self.common),
                        [curve[:3] for curve in curves])
-        return [values * self.row.design_factor * self.inflation(alpha, power, design, log)
-                for values, (_, alpha, power, design, log) in zip(n, curves, strict=True)]
+        return [values * self.row.design_factor * self.inflation(alpha, power, design)
+                for values, (_, alpha, power, design) in zip(n, curves, strict=True)]
 
     def detectable(self, *curves: tuple) -> list[np.ndarray]:
         """Detectable effect (row units) for each ``(n_control, alpha, power)`` of ``curves``
@@ -404,12 +405,12 @@ def _units_figures(r: _Row, effect: float, span: tuple[float, float], scale: flo
     alphas = np.geomspace(low, high, points)
     other_power, other_alpha = neighbour_power(row.power), neighbour_alpha(row.alpha)
     by_effect, by_effect_other, by_power, by_power_other, by_alpha, by_alpha_other = r.units(
-        (effects, row.alpha, row.power, None, False),
-        (effects, row.alpha, other_power, None, False),
-        (effect, row.alpha, powers, row.power, False),
-        (effect, other_alpha, powers, row.power, False),
-        (effect, alphas, row.power, row.alpha, True),
-        (effect, alphas, other_power, row.alpha, True),
+        (effects, row.alpha, row.power, None),
+        (effects, row.alpha, other_power, None),
+        (effect, row.alpha, powers, row.power),
+        (effect, other_alpha, powers, row.power),
+        (effect, alphas, row.power, row.alpha),
+        (effect, alphas, other_power, row.alpha),
     )
     point = row.units_control
     nothing = Curve(_EMPTY, _EMPTY, "")
