@@ -369,19 +369,24 @@ class _Plot:
             self._log = log
             self._range = None
         self.item.setLogMode(x=log[0], y=log[1])
-        for item, line in ((self.curve, figure.curve), (self.neighbour, figure.neighbour)):
-            self._points[item] = (line.x, line.y)
-            item.setData(_view(line.x, log[0]), _view(line.y, log[1]), skipFiniteCheck=True)
-        for item, xy in ((self.marks, (figure.marks.x, figure.marks.y)),
-                         (self.point, ([figure.point[0]], [figure.point[1]]))):
-            xs, ys = (np.asarray(v, dtype=float) for v in xy)
-            finite = np.isfinite(_view(xs, log[0])) & np.isfinite(_view(ys, log[1]))
-            self._points[item] = (xs[finite], ys[finite])
-            item.setData(_view(xs[finite], log[0]), _view(ys[finite], log[1]))
         x, y = figure.point
-        finite = math.isfinite(x) and math.isfinite(y)
+        data = {self.curve: (figure.curve.x, figure.curve.y),
+                self.neighbour: (figure.neighbour.x, figure.neighbour.y),
+                self.marks: (figure.marks.x, figure.marks.y), self.point: ([x], [y])}
+        views = {}  # view coordinates of the finite points, once per update
+        for item, (xs, ys) in data.items():
+            xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
+            vx, vy = _view(xs, log[0]), _view(ys, log[1])
+            if isinstance(item, pg.ScatterPlotItem):
+                finite = np.isfinite(vx) & np.isfinite(vy)
+                xs, ys, vx, vy = xs[finite], ys[finite], vx[finite], vy[finite]
+                item.setData(vx, vy)
+            else:
+                item.setData(vx, vy, skipFiniteCheck=True)
+            self._points[item] = (xs, ys)
+            views[item] = (vx, vy)
         self._set_legend(figure)
-        self._set_texts(figure, finite and not empty)
+        self._set_texts(figure, views, not empty)
         self._set_guide(figure)
         self.fit()
         if empty:
@@ -392,19 +397,16 @@ class _Plot:
             self._range = None
         else:
             self.message.hide()
-            self._follow(figure, sticky)
+            self._follow(figure, views, sticky)
 
-    def _follow(self, figure: Figure, sticky: bool) -> None:
-        """Range the view on the data, or keep the current range while the data fit it.
+    def _follow(self, figure: Figure, views: dict, sticky: bool) -> None:
+        """Range the view on the data (``views``: each item's points in view coordinates), or
+        keep the current range while the data fit it.
 
         A sticky range changes only when the data leave it or fill less than half of it, so
         that small edits leave the axes (and their cached tick pictures) as they are.
         """
-        xs = [_view(c.x, self._log[0]) for c in (figure.curve, figure.neighbour, figure.marks)]
-        ys = [_view(c.y, self._log[1]) for c in (figure.curve, figure.neighbour, figure.marks)]
-        xs.append(_view([figure.point[0]], self._log[0]))
-        ys.append(_view([figure.point[1]], self._log[1]))
-        finite = [(x[m], y[m]) for x, y in zip(xs, ys, strict=True)
+        finite = [(x[m], y[m]) for x, y in views.values()
                   if (m := np.isfinite(x) & np.isfinite(y)).any()]
         if not finite:
             return
@@ -465,15 +467,15 @@ class _Plot:
             self._corner = corner
             self.legend.setOffset(corner)
 
-    def _set_texts(self, figure: Figure, show_point: bool) -> None:
-        x, y = figure.point
-        show_point = show_point and figure.name != "runtime"
+    def _set_texts(self, figure: Figure, views: dict, drawn: bool) -> None:
+        point_x, point_y = views[self.point]
+        show_point = drawn and point_x.size > 0 and figure.name != "runtime"
         if show_point:
             self.point_text.setText(_point_text(figure, self._unit))
-            self.point_text.setPos(float(_view(x, figure.x_log)), float(_view(y, figure.y_log)))
+            self.point_text.setPos(float(point_x[0]), float(point_y[0]))
         self.point_text.setVisible(show_point)
-        xs = _view(figure.marks.x, figure.x_log)
-        ys = _view(figure.marks.y, figure.y_log)
+        xs = _view(figure.marks.x, self._log[0])  # by index: thin_marks shows every n-th
+        ys = _view(figure.marks.y, self._log[1])
         for i, text in enumerate(self.mark_texts):
             if i < len(xs) and math.isfinite(xs[i]) and math.isfinite(ys[i]):
                 label = format_number(float(figure.marks.y[i]))
