@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import os
+import shutil
 
 import pytest
 from PySide6.QtCore import Qt
@@ -19,6 +20,7 @@ from fourfold.plan.commands import SetField
 from fourfold.plan.evaluation import compute
 from fourfold.ui.app import run_shot, run_window
 from fourfold.ui.columns import column_index
+from fourfold.ui.recovery import Recovery
 from fourfold.ui.table_model import SORT_ROLE
 
 
@@ -84,14 +86,19 @@ def test_autosave_is_offered_back_after_a_crash(make_window, tmp_path):
     window.autosave()
     assert window.recovery.path.exists()
     edited = dumps(window.document.plan)
-    window.document.stack.mark_clean()  # the "crash": nothing cleans up the recovery file
+    window.document.stack.mark_clean()
+    # what a crashed window leaves: its copy without a live lock (this window still holds
+    # its own, so only the crashed one may be offered)
+    crashed = shutil.copy2(window.recovery.path, data / "recovery-crashed.json")
 
     reopened = make_window(data_dir=data)
     offered = []
     assert reopened.offer_recovery(ask=lambda found: offered.append(found) or True)
-    assert offered and offered[0].source is None
+    assert [found.path.name for found in offered] == ["recovery-crashed.json"]
+    assert offered[0].source is None
     assert dumps(reopened.document.plan) == edited
     assert reopened.isWindowModified()  # restored work is not saved yet
+    assert not os.path.exists(crashed) and reopened.recovery.path.exists()  # now its own copy
     assert reopened.save_to(tmp_path / "kept.json")
     assert not reopened.recovery.path.exists()
 
@@ -102,9 +109,11 @@ def test_recovery_older_than_the_saved_file_is_not_offered(make_window, tmp_path
     window.save_to(path)
     window.model.setData(window.model.index(0, column_index("baseline")), "3.4")
     window.autosave()
+    crashed = shutil.copy2(window.recovery.path, tmp_path / "recovery" / "recovery-old.json")
     stamp = window.recovery.path.stat().st_mtime
     os.utime(path, (stamp + 10, stamp + 10))  # the file was saved again later
-    assert window.recovery.find() is None
+    assert Recovery(tmp_path / "recovery").leftovers() == []
+    assert not os.path.exists(crashed)  # nothing to offer: the copy is deleted
 
 
 def test_autosave_writes_nothing_without_changes(make_window, tmp_path):

@@ -10,7 +10,7 @@ from __future__ import annotations
 import dataclasses
 import pathlib
 
-from PySide6.QtCore import QLocale, QSettings, QStandardPaths, Qt, QTimer
+from PySide6.QtCore import QDateTime, QLocale, QSettings, QStandardPaths, Qt, QTimer
 from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import (
     QApplication,
@@ -62,7 +62,7 @@ QHeaderView::section {{ padding: 2px 6px; border: none; border-right: 1px solid 
 
 
 def data_directory() -> pathlib.Path:
-    """The folder for the recovery file (the platform's application data location)."""
+    """The folder of the windows' recovery copies (the platform's application data location)."""
     location = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation)
     return pathlib.Path(location)
 
@@ -79,7 +79,7 @@ class MainWindow(QMainWindow):
     settings : QSettings, optional
         Where recent files and the text size are kept (tests pass a temporary ini file).
     data_dir : path-like, optional
-        Folder of the recovery file (default: :func:`data_directory`).
+        Folder of the recovery copies (default: :func:`data_directory`).
     """
 
     def __init__(self, plan: Plan, path=None, settings: QSettings | None = None,
@@ -539,26 +539,55 @@ class MainWindow(QMainWindow):
                 self.show_message(f"Autosave failed: {error}")
 
     def offer_recovery(self, ask=None) -> bool:
-        """Offer a plan left by a crash; ``ask(recovered)`` decides (default: a dialog)."""
-        found = self.recovery.find()
-        if found is None:
-            return False
-        ask = ask or self._ask_recover
-        if not ask(found):
-            self.recovery.discard()
-            return False
-        self.document.replace(found.plan, found.source, unsaved=True)
-        self.show_message("Restored the unsaved plan from the last session")
-        return True
+        """Offer the plans that windows left unsaved when they ended, newest first.
 
-    def _ask_recover(self, found) -> bool:
+        ``ask(recovered)`` decides for each (default: a dialog): True restores it here (then
+        no more are offered: the rest wait for another window), False deletes it, None keeps
+        it for later. Copies of windows still running are never offered. Returns whether a
+        plan was restored.
+        """
+        leftovers = self.recovery.leftovers()
+        for number, found in enumerate(leftovers, start=1):
+            answer = ask(found) if ask is not None else self._ask_recover(
+                found, number, len(leftovers))
+            if answer is None:
+                self.recovery.keep(found)
+                continue
+            if not answer:
+                self.recovery.drop(found)
+                continue
+            self.document.replace(found.plan, found.source, unsaved=True)
+            try:
+                self.recovery.write(found.plan, found.source)  # this window's copy takes over
+            except OSError:
+                self.recovery.keep(found)
+            else:
+                self.recovery.drop(found)
+            for rest in leftovers[number:]:
+                self.recovery.keep(rest)
+            waiting = len(leftovers) - number
+            more = (f"; {waiting} more kept for the next Fourfold window" if waiting else "")
+            self.show_message(f"Restored the unsaved plan from the last session{more}")
+            return True
+        return False
+
+    def _ask_recover(self, found, number: int = 1, total: int = 1) -> bool | None:
         source = found.source.name if found.source else "an unsaved plan"
-        answer = QMessageBox.question(
-            self, "Restore unsaved changes?",
-            f"Fourfold closed without saving changes to {source}. Restore them?",
-            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
-            QMessageBox.StandardButton.Yes)
-        return answer == QMessageBox.StandardButton.Yes
+        when = QLocale().toString(QDateTime.fromSecsSinceEpoch(int(found.saved_at)),
+                                  QLocale.FormatType.ShortFormat)
+        count = f" ({number} of {total})" if total > 1 else ""
+        box = QMessageBox(QMessageBox.Icon.Question, f"Restore unsaved changes?{count}",
+                          f"A Fourfold window closed without saving changes to {source} "
+                          f"(last copy {when}). Restore them here?", parent=self)
+        restore = box.addButton("Restore", QMessageBox.ButtonRole.AcceptRole)
+        discard = box.addButton("Discard", QMessageBox.ButtonRole.DestructiveRole)
+        box.addButton("Keep for later", QMessageBox.ButtonRole.RejectRole)
+        box.setDefaultButton(restore)
+        box.exec()
+        clicked = box.clickedButton()
+        if clicked is restore:
+            return True
+        return False if clicked is discard else None
 
     def showEvent(self, event) -> None:
         super().showEvent(event)
