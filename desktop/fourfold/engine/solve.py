@@ -216,15 +216,17 @@ def _detectable_effect(p):
     y_min = np.minimum(y0, y_max) - 60.0
     target = p.power[i]
     exact_t = p.method == "t"
-    n, ratio = p.n[i], p.ratio[i]
+    n, ratio, baseline = p.n[i], p.ratio[i], p.baseline[i]
+    sd = None if p.sd is None else p.sd[i]
     crit = critical(p.alpha[i], p.alternative, True, degrees_of_freedom(n, ratio)) if exact_t else u
+    moments = KIND_MODULES[p.kind].moments
 
     def f(y, j):
-        sub = i[j]
-        effect = p.margin[sub] + sign * np.exp(y)
-        nj, rj, uj = _subset(j, i.size, n, ratio, crit)
-        return power_of(*_moments(p, sub, effect), nj, uj, p.alternative, exact_t,
-                        rj) - target[j]
+        mj, nj, rj, uj, bj = _subset(j, i.size, margin, n, ratio, crit, baseline)
+        sdj = None if sd is None else _subset(j, i.size, sd)[0]
+        effect = mj + sign * np.exp(y)
+        return power_of(*moments(p.method, bj, effect, mj, sdj, rj), nj, uj, p.alternative,
+                        exact_t, rj) - target[j]
 
     y, status = roots.find_root(f, np.minimum(y0, y_max), 1e-3, y_min, y_max)
     effect = margin + sign * np.exp(y)
