@@ -167,12 +167,15 @@ def _sample_size(p):
         level, slope = limit(y, every)
         y_new = y - (level - target) / slope
         y = np.where(np.isfinite(y_new), np.minimum(np.maximum(y_new, y_min), _LOG_N_MAX), y)
-    if exact_t:
-        h = 1e-6
-        slope = (limit(y + h, every)[0] - limit(y - h, every)[0]) / (2.0 * h)
+    # The model's fixed slope: the last Newton step's for z; for the exact t a central
+    # difference at the start, computed once, only if some element is searched.
+    start, slopes = y, [] if exact_t else [slope]
 
     def model(y, j):
-        return limit(y, j)[0] - target[j], slope[j]
+        if not slopes:
+            h = 1e-6
+            slopes.append((limit(start + h, every)[0] - limit(start - h, every)[0]) / (2.0 * h))
+        return limit(y, j)[0] - target[j], slopes[0][j]
 
     def f(y, j):
         sub = _subset(j, i.size, *moments, ratio, alpha)
