@@ -9,7 +9,8 @@ the boundaries of the row's design (:func:`fourfold.plan.sequential.design_of_ro
 
 The stored dict holds the :class:`~fourfold.simulation.SimulationResult` fields, the
 closed-form power it is compared with, the inputs it was run on (to tell when it has gone
-stale), a verdict (:func:`verdict`) and a message in words (:func:`message`).
+stale; among them the row's method, whose own test the simulation runs), a verdict
+(:func:`verdict`) and a message in words (:func:`message`).
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from fourfold.engine.catalog import METHODS
 from fourfold.errors import FourfoldError
 from fourfold.plan.evaluation import compute
 from fourfold.plan.sequential import design_of_row
@@ -27,7 +29,7 @@ from fourfold.simulation.streams import SimulationCancelled
 WIDE_LEVEL = 0.999
 """Coverage of the interval beyond which a disagreement is called firm rather than borderline."""
 
-INPUT_FIELDS = ("kind", "baseline", "sd", "effect", "alpha", "alternative", "margin",
+INPUT_FIELDS = ("kind", "method", "baseline", "sd", "effect", "alpha", "alternative", "margin",
                 "n_control", "ratio", "looks")
 
 
@@ -120,9 +122,38 @@ def message(check):
     return text
 
 
+def _row_method(metric):
+    return METHODS[metric.kind][0] if metric.method is None else metric.method
+
+
+def stored_method(inputs):
+    """The method a stored check was simulated with.
+
+    A check stored before the method was recorded ran, for a proportion, the pooled z at
+    margin 0 and the unpooled (Wald) z at any other margin; for a mean Welch's t and for a
+    rate the rate z, which the kind's default method stands for. So such a check stays
+    fresh for a row whose method gives that same test, and is stale otherwise (a
+    ``"pooled"`` row with a margin now runs the Farrington–Manning test).
+
+    Examples
+    --------
+    >>> stored_method({"kind": "proportion", "margin": -0.01})
+    'unpooled'
+    >>> stored_method({"kind": "proportion", "method": "arcsine", "margin": 0.0})
+    'arcsine'
+    """
+    if "method" in inputs:
+        return inputs["method"]
+    kind = inputs.get("kind")
+    if kind == "proportion" and inputs.get("margin", 0.0) != 0.0:
+        return "unpooled"
+    return METHODS[kind][0] if kind in METHODS else None
+
+
 def _inputs(metric, settings, row, n_control, looks):
     return {
         "kind": metric.kind,
+        "method": _row_method(metric),
         "baseline": metric.baseline,
         "sd": metric.sd,
         "effect": row.effect_abs,
@@ -201,7 +232,7 @@ def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect
         outcome = simulate_power(
             metric.kind, metric.baseline, row.effect_abs, n_control, sd=metric.sd,
             alpha=row.alpha, alternative=metric.alternative, ratio=plan.settings.ratio,
-            margin=margin, reps=reps, seed=seed, history=history,
+            margin=margin, method=metric.method, reps=reps, seed=seed, history=history,
             history_effect=history_effect, looks=looks, progress=progress,
             cancelled=cancelled, workers=workers,
         )
@@ -246,7 +277,7 @@ def row_is_stale(metric, settings, row):
     if row.reason or row.design_factor == 0 or not math.isfinite(row.units_control):
         return True
     now = _inputs(metric, settings, row, row.units_control / row.design_factor, settings.looks)
-    before = stored["inputs"]
+    before = {**stored["inputs"], "method": stored_method(stored["inputs"])}
     for name in INPUT_FIELDS:
         a, b = now.get(name), before.get(name)
         if isinstance(a, float) and isinstance(b, (int, float)):

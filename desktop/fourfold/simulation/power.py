@@ -8,6 +8,7 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
+from fourfold.engine.catalog import METHODS, quoted
 from fourfold.simulation.decide import fixed_rejections, sequential_rejections
 from fourfold.simulation.intervals import wilson_interval
 from fourfold.simulation.models import BinomialArm, CountArm, NormalArm
@@ -25,11 +26,45 @@ ALTERNATIVES = ("two-sided", "greater", "less")
 HISTORY_EFFECTS = ("shift", "lift")
 MAX_REPS = 1_000_000
 
-TESTS = {
-    "mean": "Welch t",
-    "proportion": "two-proportion z (pooled)",
-    "rate": "two-rate z (pooled)",
+PROPORTION_TESTS = {
+    "pooled": "two-proportion z (pooled)",
+    "unpooled": "two-proportion z (unpooled)",
+    "arcsine": "Cohen's h (arcsine)",
+    "pooled-cc": "two-proportion z (pooled, continuity-corrected)",
 }
+"""The proportion test run for each method at margin 0; with a margin, "pooled" reads
+"Farrington–Manning" (the restricted estimates under H0)."""
+
+
+def _method(kind, method):
+    """The row's method, the kind's default for None; ValueError naming the allowed ones."""
+    allowed = METHODS[kind]
+    if method is None:
+        return allowed[0]
+    if method not in allowed:
+        raise ValueError(f"method must be one of {quoted(allowed)} for a {kind} metric, "
+                         f"got {method!r}")
+    return method
+
+
+def describe_test(kind, method, margin, history=False):
+    """The words for the test a replicate runs: kind, method, margin and bootstrapping.
+
+    Examples
+    --------
+    >>> describe_test("proportion", "pooled-cc", -0.01)
+    'two-proportion z (Farrington–Manning, continuity-corrected)'
+    >>> describe_test("mean", "z", 0.0)
+    'Welch t'
+    """
+    if history or kind == "mean":
+        return "Welch t"
+    if kind == "rate":
+        return "two-rate z (pooled)" if margin == 0.0 else "two-rate z (unpooled)"
+    name = PROPORTION_TESTS[method]
+    if margin != 0.0:
+        name = name.replace("(pooled", "(Farrington–Manning")
+    return name
 
 
 @dataclass(frozen=True)
@@ -188,14 +223,14 @@ def _arms(kind, baseline, sd, history, history_effect, n_largest):
                 return EmpiricalArm(values, bins, shift=diff)
 
         model = "bootstrap" if n_largest <= DIRECT_MAX else "bootstrap (binned)"
-        return control, treatment, model, "Welch t"
+        return control, treatment, model
     if kind == "mean":
         if sd is None:
             raise ValueError("sd is required for a mean metric (per-unit standard deviation)")
         sd = _finite("sd", sd)
         if sd <= 0:
             raise ValueError(f"sd must be positive, got {sd!r}")
-        return NormalArm(baseline, sd), lambda diff: NormalArm(baseline + diff, sd), "normal", None
+        return NormalArm(baseline, sd), lambda diff: NormalArm(baseline + diff, sd), "normal"
     if kind == "proportion":
         if not 0.0 < baseline < 1.0:
             raise ValueError(f"baseline must be a proportion between 0 and 1, got {baseline!r}")
@@ -209,7 +244,7 @@ def _arms(kind, baseline, sd, history, history_effect, n_largest):
                 )
             return BinomialArm(p)
 
-        return BinomialArm(baseline), treatment, "binomial", None
+        return BinomialArm(baseline), treatment, "binomial"
     if baseline <= 0:
         raise ValueError(f"baseline must be a positive mean count per unit, got {baseline!r}")
     phi = 1.0
@@ -228,7 +263,7 @@ def _arms(kind, baseline, sd, history, history_effect, n_largest):
         return CountArm(lam, phi)
 
     model = "poisson" if phi == 1.0 else ("negative binomial" if phi > 1 else "normal counts")
-    return CountArm(baseline, phi), treatment, model, None
+    return CountArm(baseline, phi), treatment, model
 
 
 def simulate_power(
@@ -243,6 +278,7 @@ def simulate_power(
     ratio=1.0,
     relative=False,
     margin=0.0,
+    method=None,
     reps=2000,
     seed=0,
     history=None,
@@ -261,9 +297,12 @@ def simulate_power(
     Models and tests, by ``kind``:
 
     - ``"mean"``: normal values (mean ``baseline``, sd ``sd``), drawn as sufficient
-      statistics; Welch's t-test.
-    - ``"proportion"``: binomial counts; the two-proportion z-test, pooled (with a nonzero
-      margin the unpooled Wald z, since the arms differ under H0).
+      statistics; Welch's t-test (for either method, "z" or "t").
+    - ``"proportion"``: binomial counts; the row's own test, by ``method`` (see
+      :func:`fourfold.simulation.teststats.proportion_z`): ``"pooled"`` z (pooled
+      proportion, or the Farrington–Manning restricted estimates with a nonzero margin),
+      ``"unpooled"`` Wald z, ``"arcsine"`` Cohen's h, ``"pooled-cc"`` the pooled z with the
+      continuity correction.
     - ``"rate"``: Poisson counts per unit (mean ``baseline``); with ``sd`` the dispersion
       ``phi = sd**2 / baseline`` is kept in both arms (negative binomial counts above 1).
       The z-test for two rates with the pooled rate (unpooled with a margin), variance
@@ -297,6 +336,8 @@ def simulate_power(
         ``effect`` and ``margin`` are fractions of ``baseline``.
     margin : float
         Difference under H0 (e.g. negative with ``"greater"`` for non-inferiority).
+    method : str, optional
+        The row's method, one of ``fourfold.engine.METHODS[kind]``; None: the kind's default.
     reps : int
         Replicates per scenario, 10 to 1,000,000.
     seed : int
@@ -336,6 +377,7 @@ def simulate_power(
     Welch, B. L. (1947) *Biometrika* 34:28-35.
     Fleiss, J. L., Levin, B. & Paik, M. C. (2003) *Statistical Methods for Rates and
     Proportions*, 3rd ed., Wiley.
+    Farrington, C. P. & Manning, G. (1990) *Statistics in Medicine* 9:1447-1454.
     Jennison, C. & Turnbull, B. W. (2000) *Group Sequential Methods with Applications to
     Clinical Trials*, Chapman & Hall/CRC.
 
@@ -344,6 +386,8 @@ def simulate_power(
     >>> result = simulate_power("mean", 10.0, 0.5, 63, sd=1.0, reps=400, seed=1)
     >>> 0.7 < result.power < 0.9, result.n_control, result.test
     (True, 63, 'Welch t')
+    >>> simulate_power("proportion", 0.3, 0.1, 400, method="arcsine", reps=100).test
+    "Cohen's h (arcsine)"
     """
     if kind not in KINDS:
         raise ValueError(f"kind must be one of {', '.join(KINDS)}; got {kind!r}")
@@ -355,6 +399,7 @@ def simulate_power(
         raise ValueError(
             f"history_effect must be one of {', '.join(HISTORY_EFFECTS)}; got {history_effect!r}"
         )
+    method = _method(kind, method)
     baseline = _finite("baseline", baseline)
     effect = _finite("effect", effect)
     margin = _finite("margin", margin)
@@ -378,12 +423,10 @@ def simulate_power(
     fractions = np.ones(1) if design is None else design[0]
     sizes_c = _look_sizes(n_c, fractions)
     sizes_t = _look_sizes(n_t, fractions)
-    control, treatment_for, model, history_test = _arms(
+    control, treatment_for, model = _arms(
         kind, baseline, sd, history, history_effect, max(n_c, n_t)
     )
-    test = history_test or TESTS[kind]
-    if kind != "mean" and history is None and margin_abs != 0.0:
-        test = test.replace("(pooled)", "(unpooled)")
+    test = describe_test(kind, method, margin_abs, history is not None)
     scenarios = (treatment_for(effect_abs), treatment_for(margin_abs))
     phi = getattr(control, "phi", 1.0)
     direction = -1.0 if effect_abs < margin_abs else 1.0
@@ -392,7 +435,7 @@ def simulate_power(
         if history is not None or kind == "mean":
             return welch_z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t, margin_abs)
         if kind == "proportion":
-            return proportion_z(sizes_c, mean_c, sizes_t, mean_t, margin_abs)
+            return proportion_z(sizes_c, mean_c, sizes_t, mean_t, margin_abs, method)
         return rate_z(sizes_c, mean_c, sizes_t, mean_t, margin_abs, phi)
 
     def block_job(rng, size, arm_t):
