@@ -108,8 +108,10 @@ class MainWindow(QMainWindow):
         self.figures.setChildrenCollapsible(False)
         self.figures.setSizes([2500, 1000])
         self.splitter.addWidget(self.figures)
-        self.splitter.setStretchFactor(0, 2)
-        self.splitter.setStretchFactor(1, 3)
+        # the table keeps the height fitted to its rows; the plots take what the window gains
+        # or loses (the description growing to three lines after the first layout, say)
+        self.splitter.setStretchFactor(0, 0)
+        self.splitter.setStretchFactor(1, 1)
         self.splitter.setChildrenCollapsible(False)
         central = QWidget()
         layout = QVBoxLayout(central)
