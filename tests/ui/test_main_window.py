@@ -316,3 +316,16 @@ def test_removing_every_row_and_undoing_shows_a_row_again(make_window):
     window.document.recompute_now()
     assert window.model.rowCount() == 6
     assert window.current_row() == 0
+
+
+def test_the_sample_plans_rows_all_show_without_scrolling(make_window, qtbot):
+    # The table is fitted to its rows on show and keeps that height while the header above it
+    # settles (the description wraps to three lines after the first layout).
+    window = make_window()
+    window.resize(1400, 900)
+    window.show()
+    qtbot.waitExposed(window)
+    qtbot.wait(50)
+    row_height = window.table.verticalHeader().defaultSectionSize()
+    assert window.table.verticalScrollBar().maximum() == 0
+    assert window.table.viewport().height() >= window.model.rowCount() * row_height
