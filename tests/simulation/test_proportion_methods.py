@@ -21,7 +21,7 @@ from statsmodels.stats import proportion as sm_proportion
 from fourfold import engine
 from fourfold.plan import Metric, Plan, Settings, dumps, loads
 from fourfold.plan.evaluation import compute
-from fourfold.simulation import check_metric, row_is_stale, simulate_power
+from fourfold.simulation import check_metric, message, row_is_stale, simulate_power, wilson_interval
 from fourfold.simulation.teststats import proportion_z
 
 # One invented 2x2 table: treatment 121 of 900, control 130 of 1200.
@@ -276,3 +276,19 @@ def test_older_check_without_the_method_is_read_as_the_test_it_ran(fields, metho
     plan.metrics[0].simulation = check
     plan = loads(dumps(plan))
     assert _stale_after(plan, method) is stale
+
+
+@pytest.mark.parametrize(("power", "model", "said", "not_said"), [
+    (0.70, "binomial", "few conversions per arm", "winsorise"),
+    (0.70, "normal", "winsorise", "few conversions"),
+    (0.90, "binomial", "conservative for this test", "skewed"),
+    (0.90, "normal", "skewed metric", "conservative for this test"),
+])
+def test_disagreement_advice_fits_the_model(power, model, said, not_said):
+    # Wording rule (common practice, no source): capping is advice for a skewed or
+    # heavy-tailed metric; a proportion cannot be capped, only given more units.
+    low, high = wilson_interval(round(power * 2000), 2000)
+    text = message(dict(analytic_power=0.8, power=power, low=low, high=high, reps=2000,
+                        seed=0, model=model, false_positive=0.05, false_positive_low=0.04,
+                        false_positive_high=0.06, alpha=0.05))
+    assert said in text and not_said not in text

@@ -84,6 +84,9 @@ def verdict(check):
 def message(check):
     """The check in words, with advice when simulation and closed form disagree.
 
+    The advice depends on the model: a skewed or heavy-tailed metric can be capped; a
+    proportion (``model == "binomial"``) only needs more units.
+
     Examples
     --------
     >>> print(message({"analytic_power": 0.8, "power": 0.803, "low": 0.785, "high": 0.82,
@@ -103,10 +106,17 @@ def message(check):
     elif how == "borderline":
         text = (f"{head} is just outside the closed form's {closed}; this happens by chance "
                 "in 1 check out of 20, so run it with more replicates to tell.")
+    elif how == "below" and check.get("model") == "binomial":
+        text = (f"{head} is below the closed form's {closed}: the normal approximation "
+                "overstates the power of this test at this size (few conversions per arm, or "
+                "a proportion near 0 or 1). Raise n.")
     elif how == "below":
         text = (f"{head} is below the closed form's {closed}: the normal approximation "
                 "overstates the power of this metric at this size (heavy tails or skew). "
                 "Raise n, or cap (winsorise) the metric.")
+    elif check.get("model") == "binomial":
+        text = (f"{head} is above the closed form's {closed}: the closed form is conservative "
+                "for this test at this size, so fewer units may do.")
     else:
         text = (f"{head} is above the closed form's {closed}: the closed form is conservative "
                 "here, so fewer units may do; with a skewed metric check the false-positive "
