@@ -9,7 +9,9 @@ Methods (allocation ratio r = n_t/n_c, variances per control unit, so var(d̂) =
 ``unpooled``
     The H1 variance under H0 as well (Wald test).
 ``arcsine``
-    Cohen's h = 2·asin√p_t − 2·asin√p_c, variance (1 + 1/r) (Cohen 1988, ch. 6).
+    Cohen's h = 2·asin√p_t − 2·asin√p_c, variance (1 + 1/r) (Cohen 1988, ch. 6). With a
+    margin m the control term is 2·asin√(p_c + m), whose variance by the delta method is
+    p_c(1 − p_c) / (q(1 − q)) per control unit with q = p_c + m (1 when m = 0).
 ``pooled-cc``
     ``pooled`` with the continuity correction ½(1/n_c + 1/n_t); solved for n it gives the
     formula of Fleiss, Tytun & Ury (1980).
@@ -89,8 +91,10 @@ def moments(method, baseline, effect, margin, sd, ratio):
     p_c = baseline
     p_t = baseline + effect
     if method == "arcsine":
-        distance = 2.0 * (np.arcsin(np.sqrt(p_t)) - np.arcsin(np.sqrt(p_c + margin)))
-        s = np.sqrt(1.0 + 1.0 / ratio) + 0.0 * distance
+        shifted = p_c + margin
+        distance = 2.0 * (np.arcsin(np.sqrt(p_t)) - np.arcsin(np.sqrt(shifted)))
+        control = p_c * (1.0 - p_c) / (shifted * (1.0 - shifted))
+        s = np.sqrt(control + 1.0 / ratio) + 0.0 * distance
         return distance, s, s, 0.0
     s1 = np.sqrt(p_c * (1.0 - p_c) + p_t * (1.0 - p_t) / ratio)
     if method == "unpooled":

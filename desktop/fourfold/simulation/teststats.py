@@ -63,7 +63,8 @@ def proportion_z(n_c, mean_c, n_t, mean_t, margin=0.0, method="pooled"):
       the Farrington–Manning maximum-likelihood estimates at the observed proportions
       otherwise (:func:`fourfold.engine.proportion.restricted`);
     - ``"unpooled"``: d over the Wald standard error from each arm's own proportion;
-    - ``"arcsine"``: Cohen's h, 2·asin√p̂_t − 2·asin√(p̂_c + margin), over √(1/n_c + 1/n_t)
+    - ``"arcsine"``: Cohen's h, 2·asin√p̂_t − 2·asin√(p̂_c + margin), over √(k/n_c + 1/n_t)
+      with k = p̂_c(1 − p̂_c)/(q(1 − q)), q = p̂_c + margin (the delta method; k = 1 at margin 0)
       (p̂_c + margin clipped to [0, 1]);
     - ``"pooled-cc"``: ``"pooled"`` with |d| shrunk by the continuity correction
       ½(1/n_c + 1/n_t), never past 0, its sign kept (as the engine's closed-form power puts
@@ -113,7 +114,13 @@ def proportion_z(n_c, mean_c, n_t, mean_t, margin=0.0, method="pooled"):
     if method == "arcsine":
         shifted = np.clip(mean_c + margin, 0.0, 1.0)
         h = 2.0 * (np.arcsin(np.sqrt(mean_t)) - np.arcsin(np.sqrt(shifted)))
-        return _score(h, np.sqrt(1.0 / n_c + 1.0 / n_t) + 0.0 * h)
+        if margin == 0.0:
+            control = 1.0
+        else:  # the delta method's variance of 2 asin sqrt(p_c + margin), as in the engine
+            with np.errstate(divide="ignore", invalid="ignore"):
+                control = mean_c * (1.0 - mean_c) / (shifted * (1.0 - shifted))
+            control = np.where(np.isfinite(control), control, np.inf)
+        return _score(h, np.sqrt(control / n_c + 1.0 / n_t) + 0.0 * h)
     diff = mean_t - mean_c - margin
     if method == "unpooled":
         var = mean_c * (1.0 - mean_c) / n_c + mean_t * (1.0 - mean_t) / n_t
