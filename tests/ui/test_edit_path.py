@@ -88,5 +88,5 @@ def test_the_plots_skip_an_edit_of_another_row_and_follow_their_own(qtbot, monke
     show()
     assert calls == [1, 1]
     effect = panel.grid.plots["effect"]
-    _, units = effect.points(effect.point)
+    _, units = effect.points("point")
     assert units[0] == compute(document.plan).rows[1].units_control

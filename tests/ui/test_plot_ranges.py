@@ -44,8 +44,8 @@ def _y_view(panel, name):
     """The solid and dashed curves' y values in view coordinates (log10 on log axes)."""
     plot = panel.grid.plots[name]
     values = []
-    for item in (plot.curve, plot.neighbour):
-        _, y = item.getData()
+    for name in ("curve", "neighbour"):
+        _, y = plot.view_points(name)
         values.append(np.asarray(y, dtype=float))
     y = np.concatenate(values)
     return y[np.isfinite(y)]

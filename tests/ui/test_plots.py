@@ -44,25 +44,24 @@ def show(qtbot, panel, plan, index):
 
 def curve_data(panel, name):
     plot = panel.grid.plots[name]
-    return plot.points(plot.curve)
+    return plot.points("curve")
 
 
 def test_show_row_reuses_plot_items_and_follows_edits(qtbot, panel):
     plan = make_plan()
     show(qtbot, panel, plan, 0)
     plots = panel.grid.plots
-    ids = {name: (id(p.item), id(p.curve), id(p.neighbour), id(p.point))
-           for name, p in plots.items()}
+    ids = {name: (id(p.item), id(p.layer), id(p.legend)) for name, p in plots.items()}
     edited = dataclasses.replace(plan, metrics=[
         dataclasses.replace(plan.metrics[0], effect=0.08), *plan.metrics[1:]])
     show(qtbot, panel, edited, 0)
-    assert {name: (id(p.item), id(p.curve), id(p.neighbour), id(p.point))
+    assert {name: (id(p.item), id(p.layer), id(p.legend))
             for name, p in panel.grid.plots.items()} == ids
     x, y = curve_data(panel, "effect")
     direct = engine.sample_size("proportion", 0.031, x / 100.0, alpha=0.05, power=0.8,
                                 relative=True)
     np.testing.assert_allclose(y, direct, rtol=1e-9)
-    px, py = plots["effect"].points(plots["effect"].point)
+    px, py = plots["effect"].points("point")
     assert px[0] == pytest.approx(8.0)
     assert py[0] == compute(edited).rows[0].units_control
 

@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
 
 from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import Figure, Tradeoffs, tradeoffs
+from fourfold.ui.figure_layer import SERIES, SeriesLayer, Swatch
 from fourfold.ui.formatting import MINUS, format_count, format_number
 from fourfold.ui.simulation_marks import show_simulation
 
@@ -248,14 +249,10 @@ class _Plot:
         self.item.showGrid(x=True, y=True, alpha=0.3)
         self.item.vb.setDefaultPadding(PADDING)
         self.item.vb.disableAutoRange()
-        # Bare curve and scatter items, fed view coordinates (log10 on log axes) by set_figure:
-        # a PlotDataItem wrapper would cost five times as much per update.
-        self.neighbour = pg.PlotCurveItem(connect="finite")
-        self.curve = pg.PlotCurveItem(connect="finite")
-        self.marks = pg.ScatterPlotItem(symbol="o")
-        self.point = pg.ScatterPlotItem(symbol="o")
-        for data_item in (self.neighbour, self.curve, self.marks, self.point):
-            self.item.addItem(data_item)
+        # One item draws the lines and markers, fed view coordinates (log10 on log axes) by
+        # set_figure: pyqtgraph's curve and scatter items cost far more per frame.
+        self.layer = SeriesLayer()
+        self.item.addItem(self.layer, ignoreBounds=True)
         self.guide = pg.InfiniteLine(angle=90, movable=False, label="",
                                      labelOpts={"position": 0.45, "anchors": [(0, 0.5), (0, 0.5)]})
         self.item.addItem(self.guide, ignoreBounds=True)
@@ -270,17 +267,16 @@ class _Plot:
         self.legend.setParentItem(self.item.vb)
         # Follow the painter's scale when painted onto a page (the view box does not zoom it).
         self.legend.setFlag(self.legend.GraphicsItemFlag.ItemIgnoresTransformations, False)
-        self.legend.addItem(self.curve, "")
-        self.legend.addItem(self.neighbour, "")
+        self.legend.addItem(Swatch(self.layer, "curve"), "")
+        self.legend.addItem(Swatch(self.layer, "neighbour"), "")
         if name == "runtime":  # its design point is read from the legend, not a floating label
-            self.legend.addItem(self.point, "")
+            self.legend.addItem(Swatch(self.layer, "point"), "")
         self._figure: Figure | None = None
         self._unit = ""
         self._texts: tuple | None = None
         self._range: tuple[tuple[float, float], tuple[float, float]] | None = None
         self._log = (False, False)
         self._corner: tuple[int, int] | None = None
-        self._points: dict = {}
 
     def cache_static_items(self) -> None:
         """Keep the axes (with their grid lines), the title and the legend as screen pixmaps.
@@ -297,15 +293,16 @@ class _Plot:
     def apply_style(self, style: Style) -> None:
         # Whole device pixels: the window draws without anti-aliasing (it would cost a few
         # milliseconds a frame), where a 2.6 px line comes out 2 or 3 px wide by position.
-        self.curve.setPen(pg.mkPen(style.curve, width=3.0 * style.pen_scale))
-        self.neighbour.setPen(pg.mkPen(style.neighbour, width=2.0 * style.pen_scale,
-                                       style=Qt.PenStyle.DashLine))
-        self.point.setBrush(pg.mkBrush(style.point))
-        self.point.setPen(pg.mkPen(style.background, width=1.5))
-        self.point.setSize(13 * style.text_scale ** 0.5)
-        self.marks.setBrush(pg.mkBrush(style.marks))
-        self.marks.setPen(pg.mkPen(style.background, width=1.0))
-        self.marks.setSize(8 * style.text_scale ** 0.5)
+        scale = style.pen_scale
+        self.layer.set_line_style("curve", pg.mkPen(style.curve, width=3.0 * scale))
+        self.layer.set_line_style("neighbour", pg.mkPen(style.neighbour, width=2.0 * scale,
+                                                        style=Qt.PenStyle.DashLine))
+        self.layer.set_dot_style("point", 13 * style.text_scale ** 0.5 * scale,
+                                 pg.mkPen(style.background, width=1.5 * scale),
+                                 pg.mkBrush(style.point))
+        self.layer.set_dot_style("marks", 8 * style.text_scale ** 0.5 * scale,
+                                 pg.mkPen(style.background, width=1.0 * scale),
+                                 pg.mkBrush(style.marks))
         self.guide.setPen(pg.mkPen(style.muted, width=1.2 * style.pen_scale,
                                    style=Qt.PenStyle.DotLine))
         self.guide.label.setColor(style.muted)
@@ -371,23 +368,13 @@ class _Plot:
             self._range = None
         self.item.setLogMode(x=log[0], y=log[1])
         x, y = figure.point
-        data = {self.curve: (figure.curve.x, figure.curve.y),
-                self.neighbour: (figure.neighbour.x, figure.neighbour.y),
-                self.marks: (figure.marks.x, figure.marks.y), self.point: ([x], [y])}
-        views = {}  # view coordinates of the finite points, once per update
-        for item, (xs, ys) in data.items():
-            xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
-            vx, vy = _view(xs, log[0]), _view(ys, log[1])
-            if isinstance(item, pg.ScatterPlotItem):
-                finite = np.isfinite(vx) & np.isfinite(vy)
-                xs, ys, vx, vy = xs[finite], ys[finite], vx[finite], vy[finite]
-                item.setData(vx, vy)
-            else:
-                item.setData(vx, vy, skipFiniteCheck=True)
-            self._points[item] = (xs, ys)
-            views[item] = (vx, vy)
+        data = {"curve": (figure.curve.x, figure.curve.y),
+                "neighbour": (figure.neighbour.x, figure.neighbour.y),
+                "marks": (figure.marks.x, figure.marks.y), "point": ([x], [y])}
+        for name, (xs, ys) in data.items():
+            self.layer.set_series(name, xs, ys, _view(xs, log[0]), _view(ys, log[1]))
         self._set_legend(figure)
-        self._set_texts(figure, views, not empty)
+        self._set_texts(figure, not empty)
         self._set_guide(figure)
         self.fit()
         if empty:
@@ -398,17 +385,16 @@ class _Plot:
             self._range = None
         else:
             self.message.hide()
-            self._follow(figure, views, sticky)
+            self._follow(figure, sticky)
 
-    def _follow(self, figure: Figure, views: dict, sticky: bool) -> None:
-        """Range the view on the data (``views``: each item's points in view coordinates), or
-        keep the current range while the data fit it.
+    def _follow(self, figure: Figure, sticky: bool) -> None:
+        """Range the view on the data, or keep the current range while the data fit it.
 
         A sticky range changes only when the data leave it or fill less than half of it, so
         that small edits leave the axes (and their cached tick pictures) as they are.
         """
-        finite = [(x[m], y[m]) for x, y in views.values()
-                  if (m := np.isfinite(x) & np.isfinite(y)).any()]
+        views = (self.layer.view_points(name) for name in SERIES)
+        finite = [(x[m], y[m]) for x, y in views if (m := np.isfinite(x) & np.isfinite(y)).any()]
         if not finite:
             return
         x = np.concatenate([f[0] for f in finite])
@@ -429,17 +415,19 @@ class _Plot:
         self._range = target
         self.item.setRange(xRange=target[0], yRange=target[1], padding=0)
 
-    def points(self, item) -> tuple[np.ndarray, np.ndarray]:
-        """The points on show in ``item`` (one of this figure's curve or scatter items), in
-        data units as the figure gave them (the items hold view coordinates)."""
-        return self._points.get(item, (np.empty(0), np.empty(0)))
+    def points(self, name: str) -> tuple[np.ndarray, np.ndarray]:
+        """The data on show in series ``name`` ("curve", "neighbour", "marks", "point"), as
+        the figure gave it."""
+        return self.layer.points(name)
+
+    def view_points(self, name: str) -> tuple[np.ndarray, np.ndarray]:
+        """The same in view coordinates (log10 on log axes)."""
+        return self.layer.view_points(name)
 
     def clear(self) -> None:
         """Show nothing (no row selected)."""
         self._figure = None
-        for item in (self.curve, self.neighbour, self.marks, self.point):
-            item.setData([], [])
-        self._points.clear()
+        self.layer.clear()
         for item in (self.point_text, self.guide, self.message, self.legend, *self.mark_texts):
             item.hide()
         self.item.setTitle(None)
@@ -468,8 +456,8 @@ class _Plot:
             self._corner = corner
             self.legend.setOffset(corner)
 
-    def _set_texts(self, figure: Figure, views: dict, drawn: bool) -> None:
-        point_x, point_y = views[self.point]
+    def _set_texts(self, figure: Figure, drawn: bool) -> None:
+        point_x, point_y = self.layer.view_points("point")
         show_point = drawn and point_x.size > 0 and figure.name != "runtime"
         if show_point:
             self.point_text.setText(_point_text(figure, self._unit))
