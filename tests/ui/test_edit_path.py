@@ -90,3 +90,18 @@ def test_the_plots_skip_an_edit_of_another_row_and_follow_their_own(qtbot, monke
     effect = panel.grid.plots["effect"]
     _, units = effect.points("point")
     assert units[0] == compute(document.plan).rows[1].units_control
+
+
+def test_a_recompute_redraws_the_plots_in_the_same_pass(make_window):
+    # The recompute is coalesced already; the plots follow it at once, so that the table and
+    # the plots are painted in one pass of the event loop instead of two.
+    window = make_window()
+    window.table.setCurrentIndex(window.model.index(1, column_index("sd")))
+    window.document.recompute_now()
+    before = window.plots.tradeoffs
+    window.document.apply(SetField(1, "sd", window.document.plan.metrics[1].sd * 1.5))
+    window.document.recompute_now()
+    shown = window.plots.tradeoffs
+    assert shown is not before
+    effect = window.plots.grid.plots["effect"]
+    assert effect.points("point")[1][0] == compute(window.document.plan).rows[1].units_control

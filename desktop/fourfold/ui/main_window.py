@@ -130,7 +130,7 @@ class MainWindow(QMainWindow):
             source.connect(self.show_message)
         self.document.history.connect(self._after_change)
         self.document.replaced.connect(self._after_replace)
-        self.document.computed.connect(self._show_row)
+        self.document.computed.connect(self._show_computed)
         self.table.selectionModel().currentRowChanged.connect(self._show_row)
         self.plots.effect_dragged.connect(self._effect_dragged)
         hints = QGuiApplication.styleHints()
@@ -286,14 +286,18 @@ class MainWindow(QMainWindow):
             return None
         return index.row()
 
-    def _show_row(self, *_args) -> None:
+    def _show_computed(self) -> None:
+        # a recompute is coalesced already: its plots are drawn in the table's paint pass
+        self._show_row(now=True)
+
+    def _show_row(self, *_args, now: bool = False) -> None:
         if self.model.rowCount() != len(self.document.plan.metrics):
             return  # mid row insertion/removal: the recompute that follows shows the row
         row = self.current_row()
         if row is None and self.model.rowCount():
             self.table.setCurrentIndex(self.model.index(0, 0))  # calls back with row 0
             return
-        self.plots.show_row(self.document.plan, self.document.result, row)
+        self.plots.show_row(self.document.plan, self.document.result, row, now=now)
         self.boundaries.setVisible(self.document.plan.settings.looks > 1)
         self.boundaries.show_row(self.document.plan, self.document.result, row)
         if row is None:

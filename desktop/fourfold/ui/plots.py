@@ -714,7 +714,7 @@ class PlotPanel(QWidget):
         """The curve data on show (``None`` before the first row)."""
         return self.grid.shown
 
-    def show_row(self, plan, result, index: int | None) -> None:
+    def show_row(self, plan, result, index: int | None, *, now: bool = False) -> None:
         """Show row ``index`` of ``plan`` (with its computed ``result``); ``None`` clears.
 
         Parameters
@@ -724,9 +724,16 @@ class PlotPanel(QWidget):
             The plan's computed result; ``None`` computes it.
         index : int or None
             The row, from 0.
+        now : bool
+            Redraw at once instead of on the coalescing timer: for a caller that is itself
+            coalesced (a recompute), so that table and plots are painted in the same pass.
         """
         self._pending = (plan, result, index)
-        self._redraw_timer.start()
+        if now:
+            self._redraw_timer.stop()
+            self._redraw()
+        else:
+            self._redraw_timer.start()
 
     def set_text_scale(self, factor: float) -> None:
         """Scale every text of the plots (1.0 = normal; e.g. 1.5 on a projector)."""
