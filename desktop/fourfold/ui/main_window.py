@@ -269,7 +269,8 @@ class MainWindow(QMainWindow):
 
     def _after_replace(self) -> None:
         self.setWindowTitle(f"{self.document.file_name}[*] — Fourfold")
-        self.fit_table()
+        if self.isVisible():  # a window being built is fitted when it is first shown
+            self.fit_table()
 
     def fit_table(self) -> None:
         """Fit columns to the font and give the table the height of its rows (up to 12)."""
@@ -366,7 +367,8 @@ class MainWindow(QMainWindow):
         self.table.horizontalHeader().setFont(font)
         self.table.verticalHeader().setFont(font)
         self.boundaries.setFont(font)
-        self.fit_table()
+        if self.isVisible():  # a window being built is fitted when it is first shown
+            self.fit_table()
         self.plots.set_text_scale(scale)
         if announce:
             self.show_message(f"Text size {round(scale * 100)} %")

@@ -242,12 +242,15 @@ class _Plot:
         self.axes = {"bottom": _CompactAxis("bottom"), "left": _CompactAxis("left")}
         for axis in self.axes.values():
             axis.enableAutoSIPrefix(False)
-        self.item: pg.PlotItem = layout.addPlot(row=row, col=col, axisItems=self.axes)
+        # no context menu: the view box would build one (a tenth of the window's start) for
+        # a figure whose ranges the figure itself sets
+        view = pg.ViewBox(enableMenu=False, defaultPadding=PADDING)
+        self.item: pg.PlotItem = layout.addPlot(row=row, col=col, axisItems=self.axes,
+                                                viewBox=view)
         self.item.setMenuEnabled(False)
         self.item.hideButtons()
         self.item.setMouseEnabled(x=False, y=False)
         self.item.showGrid(x=True, y=True, alpha=0.3)
-        self.item.vb.setDefaultPadding(PADDING)
         self.item.vb.disableAutoRange()
         # One item draws the lines and markers, fed view coordinates (log10 on log axes) by
         # set_figure: pyqtgraph's curve and scatter items cost far more per frame.
@@ -258,7 +261,9 @@ class _Plot:
         self.item.addItem(self.guide, ignoreBounds=True)
         self.point_text = pg.TextItem(anchor=_POINT_ANCHOR[name])
         self.item.addItem(self.point_text, ignoreBounds=True)
-        self.mark_texts = [pg.TextItem(anchor=(1.0, -0.1)) for _ in range(MAX_MARK_LABELS)]
+        # only the runtime figure marks points (its whole weeks)
+        self.mark_texts = [pg.TextItem(anchor=(1.0, -0.1))
+                           for _ in range(MAX_MARK_LABELS if name == "runtime" else 0)]
         for text in self.mark_texts:
             self.item.addItem(text, ignoreBounds=True)
         self.message = pg.TextItem(anchor=(0.5, 0.5))
@@ -739,6 +744,8 @@ class PlotPanel(QWidget):
         """Scale every text of the plots (1.0 = normal; e.g. 1.5 on a projector)."""
         if not 0.5 <= factor <= 4.0:
             raise ValueError(f"factor must be between 0.5 and 4, got {factor!r}")
+        if float(factor) == self._text_scale:
+            return
         self._text_scale = float(factor)
         self._restyle()
 

@@ -11,8 +11,6 @@ first recompute).
 
 from __future__ import annotations
 
-from fourfold.simulation import row_is_stale
-
 KEY = "simulated"
 """Column key of the simulated power."""
 
@@ -20,6 +18,10 @@ MARKS = {"agrees": "✓", "borderline": "?", "below": "⚠", "above": "⚠"}
 
 
 def _stale(metric, settings, row) -> bool:
+    # imported here: only rows with a stored check get this far, and the simulation package
+    # is not needed to open a window
+    from fourfold.simulation import row_is_stale
+
     return row is not None and row_is_stale(metric, settings, row)
 
 

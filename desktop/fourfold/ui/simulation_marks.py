@@ -16,7 +16,6 @@ import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
 from fourfold.plan.evaluation import compute
-from fourfold.simulation import is_stale
 from fourfold.ui import theme
 
 FLAGGED = ("below", "above")
@@ -86,6 +85,8 @@ def show_simulation(grid, plan, result, index) -> None:
     if not check or figure.reason or not math.isfinite(units) or units <= 0:
         mark.hide()
         return
+    from fourfold.simulation import is_stale  # only for a row with a stored check
+
     result = compute(plan) if result is None else result
     units_view = math.log10(units) if figure.y_log else units
     mark.show(check, units_view, grid.style, is_stale(plan, index, result))
