@@ -52,3 +52,16 @@ def test_a_swatch_marker_is_sized_in_device_pixels(qapp, scale):
     assert 11 <= rows.max() - rows.min() + 1 <= 15
     centre = QPointF(10.0 * scale, 11.0 * scale)
     assert abs(columns.mean() - centre.x()) < 1.5 and abs(rows.mean() - centre.y()) < 1.5
+
+
+def test_labels_follow_their_markers_and_can_be_thinned(qapp):
+    layer = SeriesLayer()
+    layer.set_series("marks", [7.0, 14.0, 21.0], [3.0, 2.0, 1.5], [7.0, 14.0, 21.0],
+                     [3.0, 2.0, 1.5])
+    layer.set_labels("marks", ["3", "2", "1.5"], [True, False, True])
+    assert layer.labels("marks") == ["3", "1.5"]
+    assert layer.label_width("marks") > 0
+    with pytest.raises(ValueError, match="one flag per label"):
+        layer.set_labels("marks", ["3"], [True, False])
+    layer.clear()
+    assert layer.labels("marks") == [] and layer.label_width("marks") == 0.0

@@ -197,6 +197,23 @@ def test_the_runtime_legend_is_one_line_when_it_fits(qtbot, panel):
         show(qtbot, panel, make_plan(effect=0.08), 0)  # a new design-point text
 
 
+def test_point_and_week_labels_show_the_figures_numbers(qtbot, panel):
+    from fourfold.ui.formatting import format_count, format_number
+
+    plan = make_plan()
+    show(qtbot, panel, plan, 0)
+    data = panel.tradeoffs
+    effect, runtime = panel.grid.plots["effect"], panel.grid.plots["runtime"]
+    assert effect.layer.labels("point") == [format_count(data.effect.point[1])]
+    assert runtime.layer.labels("point") == []  # read from the legend instead
+    weeks = [format_number(float(v)) for v in data.runtime.marks.y]
+    wide = runtime.layer.labels("marks")
+    assert wide and set(wide) <= set(weeks) and wide[-1] == weeks[-1]
+    panel.resize(360, 640)  # too narrow for every week: every second or third is labelled
+    qtbot.waitUntil(lambda: len(runtime.layer.labels("marks")) < len(wide), timeout=2000)
+    assert runtime.layer.labels("marks")[-1] == weeks[-1]
+
+
 def test_compact_tick_labels():
     assert [compact(v) for v in (950.0, 12_500.0, 3e6, -0.5)] == ["950", "12.5k", "3M", "−0.5"]
 

@@ -6,16 +6,19 @@ these just as well, but each of them costs Python calls on every update and ever
 (bounds, pixel vectors, paint); a figure redrawn on every keystroke spends most of its frame
 there. :class:`SeriesLayer` keeps the four series in one item: lines as painter paths in view
 coordinates, markers as circles of a fixed size in device pixels (so that they stay round on
-log axes and scale with the page on a PDF). :class:`Swatch` draws a series' line or marker in
-a legend.
+log axes and scale with the page on a PDF), and the markers' labels as text in scene pixels
+(sized like every other text of the figure, and scaled with it onto a page). :class:`Swatch`
+draws a series' line or marker in a legend.
 """
 
 from __future__ import annotations
 
+from dataclasses import dataclass, field
+
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import QPointF, QRectF
-from PySide6.QtGui import QBrush, QPainter, QPainterPath, QPen
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 
 LINES = ("neighbour", "curve")
 DOTS = ("marks", "point")
@@ -23,6 +26,21 @@ SERIES = LINES + DOTS
 """The series of a figure, in drawing order (later ones on top)."""
 
 _EMPTY = np.empty(0)
+LABEL_PAD = 2.0
+"""Room around a label's text, in scene pixels (its fill covers it)."""
+
+
+@dataclass
+class _Labels:
+    """The labels of one marker series: one text per marker on show."""
+
+    font: QFont = field(default_factory=QFont)
+    colour: QColor = field(default_factory=QColor)
+    anchor: tuple[float, float] = (0.0, 0.0)
+    fill: QBrush | None = None
+    texts: list[str] = field(default_factory=list)
+    shown: list[bool] = field(default_factory=list)
+    metrics: QFontMetricsF = field(default_factory=lambda: QFontMetricsF(QFont()))
 
 
 class SeriesLayer(pg.GraphicsObject):
@@ -40,6 +58,7 @@ class SeriesLayer(pg.GraphicsObject):
         self._pens = {name: QPen() for name in SERIES}
         self._brushes = {name: QBrush() for name in DOTS}
         self._sizes = {name: 8.0 for name in DOTS}
+        self._labels = {name: _Labels() for name in DOTS}
 
     def set_line_style(self, name: str, pen: QPen) -> None:
         """Pen of line ``name`` (cosmetic: its width is in device pixels)."""
@@ -52,6 +71,40 @@ class SeriesLayer(pg.GraphicsObject):
         self._pens[name] = QPen(pen)
         self._brushes[name] = QBrush(brush)
         self.update()
+
+    def set_label_style(self, name: str, font: QFont, colour: QColor,
+                        anchor: tuple[float, float], fill: QBrush | None = None) -> None:
+        """Font, colour and placement of the labels of the markers of ``name``.
+
+        ``anchor`` is the point of a label's box put at its marker, as fractions of the box
+        (``(1, 0)``: top right corner; negative moves the box further right or down).
+        """
+        labels = self._labels[_dot(name)]
+        labels.font, labels.colour, labels.anchor = QFont(font), QColor(colour), anchor
+        labels.fill = None if fill is None else QBrush(fill)
+        labels.metrics = QFontMetricsF(labels.font)
+        self.update()
+
+    def set_labels(self, name: str, texts, shown=None) -> None:
+        """Label the markers of ``name`` on show, in order (``shown``: which to draw)."""
+        labels = self._labels[_dot(name)]
+        labels.texts = list(texts)
+        labels.shown = [True] * len(labels.texts) if shown is None else [bool(v) for v in shown]
+        if len(labels.shown) != len(labels.texts):
+            raise ValueError(f"shown must have one flag per label ({len(labels.texts)}), got "
+                             f"{len(labels.shown)}")
+        self.update()
+
+    def labels(self, name: str) -> list[str]:
+        """The labels of the markers of ``name`` that are drawn."""
+        labels = self._labels[_dot(name)]
+        return [text for text, shown in zip(labels.texts, labels.shown, strict=True) if shown]
+
+    def label_width(self, name: str) -> float:
+        """Width of the widest label of ``name``, box included (scene pixels; 0 without any)."""
+        labels = self._labels[_dot(name)]
+        return max((labels.metrics.horizontalAdvance(text) + 2 * LABEL_PAD
+                    for text in labels.texts), default=0.0)
 
     def set_series(self, name: str, x, y, view_x, view_y) -> None:
         """Show series ``name``: data values ``x, y`` at view coordinates ``view_x, view_y``.
@@ -76,6 +129,8 @@ class SeriesLayer(pg.GraphicsObject):
         """Show no data."""
         for name in SERIES:
             self.set_series(name, _EMPTY, _EMPTY, _EMPTY, _EMPTY)
+        for name in DOTS:
+            self.set_labels(name, [])
 
     def points(self, name: str) -> tuple[np.ndarray, np.ndarray]:
         """The data values on show in series ``name`` (markers: the finite ones)."""
@@ -117,7 +172,35 @@ class SeriesLayer(pg.GraphicsObject):
             painter.setBrush(self._brushes[name])
             for x, y in zip(view_x, view_y, strict=True):
                 painter.drawEllipse(transform.map(QPointF(float(x), float(y))), radius, radius)
+        self._paint_labels(painter, transform)
         painter.setTransform(transform)
+
+    def _paint_labels(self, painter: QPainter, transform) -> None:
+        """Labels in scene pixels: the view's scale is left out, a page's scale kept."""
+        scene = self.sceneTransform()
+        inverse, invertible = scene.inverted()
+        if not invertible:
+            return
+        painter.setTransform(inverse * transform)
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, False)
+        for name in DOTS:
+            labels = self._labels[name]
+            if not any(labels.shown):
+                continue
+            painter.setFont(labels.font)
+            across, down = labels.anchor
+            height = labels.metrics.height() + 2 * LABEL_PAD
+            for x, y, text, shown in zip(*self._view[name], labels.texts, labels.shown,
+                                         strict=False):
+                if not shown or not text:
+                    continue
+                at = scene.map(QPointF(float(x), float(y)))
+                width = labels.metrics.horizontalAdvance(text) + 2 * LABEL_PAD
+                box = QRectF(at.x() - across * width, at.y() - down * height, width, height)
+                if labels.fill is not None:
+                    painter.fillRect(box, labels.fill)
+                painter.setPen(labels.colour)
+                painter.drawText(box, Qt.AlignmentFlag.AlignCenter, text)
 
 
 class Swatch(pg.ItemSample):

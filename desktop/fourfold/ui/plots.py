@@ -40,7 +40,7 @@ from fourfold.ui.simulation_marks import show_simulation
 TICK_POINTS = 9.0
 LABEL_POINTS = 9.5
 TITLE_POINTS = 10.5
-MAX_MARK_LABELS = 12
+MARK_ANCHOR = (1.0, -0.1)  # a week's label sits below its point, to the left
 DRAG_INTERVAL_MS = 40
 SLIDER_STEPS = 200
 SCREEN_DPI = 96.0
@@ -259,13 +259,6 @@ class _Plot:
         self.guide = pg.InfiniteLine(angle=90, movable=False, label="",
                                      labelOpts={"position": 0.45, "anchors": [(0, 0.5), (0, 0.5)]})
         self.item.addItem(self.guide, ignoreBounds=True)
-        self.point_text = pg.TextItem(anchor=_POINT_ANCHOR[name])
-        self.item.addItem(self.point_text, ignoreBounds=True)
-        # only the runtime figure marks points (its whole weeks)
-        self.mark_texts = [pg.TextItem(anchor=(1.0, -0.1))
-                           for _ in range(MAX_MARK_LABELS if name == "runtime" else 0)]
-        for text in self.mark_texts:
-            self.item.addItem(text, ignoreBounds=True)
         self.message = pg.TextItem(anchor=(0.5, 0.5))
         self.item.addItem(self.message, ignoreBounds=True)
         self.legend = pg.LegendItem(offset=LEGEND_RIGHT, verSpacing=-5)
@@ -325,15 +318,14 @@ class _Plot:
                           autoExpandTextSpace=False, maxTickLevel=1,
                           tickTextWidth=math.ceil(metrics.horizontalAdvance(WIDEST_TICK)) + 2,
                           tickTextHeight=math.ceil(metrics.height()))
-        self.point_text.setColor(style.point if style.background.lightness() < 128
-                                 else style.foreground)
-        self.point_text.setFont(style.font(LABEL_POINTS))
         label_back = QColor(style.background)
         label_back.setAlpha(200)
-        self.point_text.fill = pg.mkBrush(label_back)
-        for text in self.mark_texts:
-            text.setColor(style.marks)
-            text.setFont(style.font(TICK_POINTS * 0.9))
+        self.layer.set_label_style(
+            "point", style.font(LABEL_POINTS),
+            style.point if style.background.lightness() < 128 else style.foreground,
+            _POINT_ANCHOR[self.name], pg.mkBrush(label_back))
+        self.layer.set_label_style("marks", style.font(TICK_POINTS * 0.9), style.marks,
+                                   MARK_ANCHOR)
         self.message.setColor(style.muted)
         self.message.setFont(style.font(LABEL_POINTS))
         self.legend.setLabelTextColor(style.foreground)
@@ -433,7 +425,7 @@ class _Plot:
         """Show nothing (no row selected)."""
         self._figure = None
         self.layer.clear()
-        for item in (self.point_text, self.guide, self.message, self.legend, *self.mark_texts):
+        for item in (self.guide, self.message, self.legend):
             item.hide()
         self.item.setTitle(None)
         self._texts = None
@@ -462,20 +454,11 @@ class _Plot:
             self.legend.setOffset(corner)
 
     def _set_texts(self, figure: Figure, drawn: bool) -> None:
-        point_x, point_y = self.layer.view_points("point")
-        show_point = drawn and point_x.size > 0 and figure.name != "runtime"
-        if show_point:
-            self.point_text.setText(_point_text(figure, self._unit))
-            self.point_text.setPos(float(point_x[0]), float(point_y[0]))
-        self.point_text.setVisible(show_point)
-        xs = _view(figure.marks.x, self._log[0])  # by index: thin_marks shows every n-th
-        ys = _view(figure.marks.y, self._log[1])
-        for i, text in enumerate(self.mark_texts):
-            if i < len(xs) and math.isfinite(xs[i]) and math.isfinite(ys[i]):
-                label = format_number(float(figure.marks.y[i]))
-                if text.toPlainText() != label:
-                    text.setText(label)
-                text.setPos(float(xs[i]), float(ys[i]))
+        """The design point's label (the runtime figure names its point in the legend)."""
+        shown = len(self.layer.points("point")[0])
+        label = _point_text(figure, self._unit) if shown else ""
+        self.layer.set_labels("point", [label] * shown,
+                              [drawn and figure.name != "runtime"] * shown)
 
     def fit(self) -> None:
         """Fit the texts to the plot's size: week labels and the runtime legend's shape."""
@@ -490,17 +473,17 @@ class _Plot:
 
     def thin_marks(self) -> None:
         """Label every week, or every second or third one when the plot is too narrow."""
+        xs, values = self.layer.points("marks")
+        texts = [format_number(float(value)) for value in values]
+        self.layer.set_labels("marks", texts)
+        count, step = len(texts), 1
         figure = self._figure
-        count = 0 if figure is None or figure.reason else len(figure.marks.x)
-        step = 1
-        if count > 1:
+        if count > 1 and figure is not None:
             span = float(np.nanmax(figure.curve.x) - np.nanmin(figure.curve.x)) or 1.0
-            spacing = self.item.vb.width() * float(figure.marks.x[1] - figure.marks.x[0]) / span
-            widest = max(text.boundingRect().width() for text in self.mark_texts[:count])
-            step = max(1, math.ceil(widest * 1.15 / max(spacing, 1.0)))
-        for i, text in enumerate(self.mark_texts):
-            finite = i < count and math.isfinite(figure.marks.y[i])
-            text.setVisible(finite and (count - 1 - i) % step == 0)
+            spacing = self.item.vb.width() * float(xs[1] - xs[0]) / span
+            step = max(1, math.ceil(self.layer.label_width("marks") * 1.15 / max(spacing, 1.0)))
+        self.layer.set_labels("marks", texts, [(count - 1 - i) % step == 0
+                                               for i in range(count)])
 
     def _set_guide(self, figure: Figure) -> None:
         shown = not figure.reason and math.isfinite(figure.guide)
