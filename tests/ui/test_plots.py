@@ -18,6 +18,7 @@ from fourfold import engine
 from fourfold.plan.evaluation import compute
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.ui import theme
+from fourfold.ui.formatting import format_count
 from fourfold.ui.plots import compact, paint_tradeoffs
 
 pytestmark = pytest.mark.qt
@@ -270,7 +271,12 @@ def test_pdf_figures_are_vector_text_in_points(qapp, tmp_path):
             words = " ".join(unicodedata.normalize("NFKC", text).split())  # "ﬀ" → "ff"
             sizes.setdefault(words, size * scale)
 
-    pypdf.PdfReader(str(path)).pages[0].extract_text(visitor_text=visit)
+    page = pypdf.PdfReader(str(path)).pages[0]
+    page.extract_text(visitor_text=visit)
     assert sizes["Sample size against effect"] == pytest.approx(10.5, abs=0.5)
     assert sizes["What each week can detect"] == pytest.approx(10.5, abs=0.5)
     assert sizes["80"] == pytest.approx(9.0, abs=0.5)  # a tick of the power axis
+    point = format_count(compute(make_plan()).rows[0].units_control)
+    assert sizes[point] == pytest.approx(9.5, abs=0.5)  # a label drawn by the figure layer
+    # markers, axes and legends are vector: the window's pixmaps never reach a page
+    assert not page.get("/Resources", {}).get("/XObject")

@@ -18,7 +18,18 @@ from dataclasses import dataclass, field
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
+from PySide6.QtGui import (
+    QBrush,
+    QColor,
+    QFont,
+    QFontMetricsF,
+    QPaintEngine,
+    QPainter,
+    QPainterPath,
+    QPen,
+    QPixmap,
+    QStaticText,
+)
 
 LINES = ("neighbour", "curve")
 DOTS = ("marks", "point")
@@ -41,6 +52,17 @@ class _Labels:
     texts: list[str] = field(default_factory=list)
     shown: list[bool] = field(default_factory=list)
     metrics: QFontMetricsF = field(default_factory=lambda: QFontMetricsF(QFont()))
+    laid_out: dict[str, QStaticText] = field(default_factory=dict)
+
+    def static(self, text: str) -> QStaticText:
+        """``text`` laid out once (labels repeat from frame to frame)."""
+        found = self.laid_out.get(text)
+        if found is None:
+            if len(self.laid_out) > 256:
+                self.laid_out.clear()
+            found = self.laid_out[text] = QStaticText(text)
+            found.setTextFormat(Qt.TextFormat.PlainText)
+        return found
 
 
 class SeriesLayer(pg.GraphicsObject):
@@ -59,6 +81,7 @@ class SeriesLayer(pg.GraphicsObject):
         self._brushes = {name: QBrush() for name in DOTS}
         self._sizes = {name: 8.0 for name in DOTS}
         self._labels = {name: _Labels() for name in DOTS}
+        self._sprites: dict[tuple[str, float], QPixmap] = {}
 
     def set_line_style(self, name: str, pen: QPen) -> None:
         """Pen of line ``name`` (cosmetic: its width is in device pixels)."""
@@ -70,6 +93,7 @@ class SeriesLayer(pg.GraphicsObject):
         self._sizes[_dot(name)] = float(size)
         self._pens[name] = QPen(pen)
         self._brushes[name] = QBrush(brush)
+        self._sprites = {key: sprite for key, sprite in self._sprites.items() if key[0] != name}
         self.update()
 
     def set_label_style(self, name: str, font: QFont, colour: QColor,
@@ -83,6 +107,7 @@ class SeriesLayer(pg.GraphicsObject):
         labels.font, labels.colour, labels.anchor = QFont(font), QColor(colour), anchor
         labels.fill = None if fill is None else QBrush(fill)
         labels.metrics = QFontMetricsF(labels.font)
+        labels.laid_out.clear()
         self.update()
 
     def set_labels(self, name: str, texts, shown=None) -> None:
@@ -163,17 +188,46 @@ class SeriesLayer(pg.GraphicsObject):
         transform = painter.transform()
         painter.resetTransform()  # markers in device pixels, round on any axis scale
         painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        # on screen a marker is a ready-drawn sprite; on a page (PDF) a vector circle
+        raster = painter.paintEngine().type() == QPaintEngine.Type.Raster
+        ratio = painter.device().devicePixelRatioF() if raster else 1.0
         for name in DOTS:
             view_x, view_y = self._view[name]
             if view_x.size == 0:
                 continue
             radius = self._sizes[name] / 2.0
+            sprite = self._sprite(name, ratio) if raster else None
             painter.setPen(self._pens[name])
             painter.setBrush(self._brushes[name])
             for x, y in zip(view_x, view_y, strict=True):
-                painter.drawEllipse(transform.map(QPointF(float(x), float(y))), radius, radius)
+                centre = transform.map(QPointF(float(x), float(y)))
+                if sprite is None:
+                    painter.drawEllipse(centre, radius, radius)
+                else:
+                    half = sprite.width() / ratio / 2.0
+                    painter.drawPixmap(QPointF(centre.x() - half, centre.y() - half), sprite)
         self._paint_labels(painter, transform)
         painter.setTransform(transform)
+
+    def _sprite(self, name: str, ratio: float) -> QPixmap:
+        """The marker of ``name`` drawn once into a pixmap for a device of pixel ratio ``ratio``."""
+        sprite = self._sprites.get((name, ratio))
+        if sprite is None:
+            size, pen = self._sizes[name], self._pens[name]
+            side = size + pen.widthF() + 2.0
+            pixels = max(1, round(side * ratio))
+            sprite = QPixmap(pixels, pixels)
+            sprite.setDevicePixelRatio(ratio)
+            sprite.fill(Qt.GlobalColor.transparent)
+            drawing = QPainter(sprite)
+            drawing.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+            drawing.setPen(pen)
+            drawing.setBrush(self._brushes[name])
+            middle = pixels / ratio / 2.0
+            drawing.drawEllipse(QPointF(middle, middle), size / 2.0, size / 2.0)
+            drawing.end()
+            self._sprites[(name, ratio)] = sprite
+        return sprite
 
     def _paint_labels(self, painter: QPainter, transform) -> None:
         """Labels in scene pixels: the view's scale is left out, a page's scale kept."""
@@ -200,7 +254,8 @@ class SeriesLayer(pg.GraphicsObject):
                 if labels.fill is not None:
                     painter.fillRect(box, labels.fill)
                 painter.setPen(labels.colour)
-                painter.drawText(box, Qt.AlignmentFlag.AlignCenter, text)
+                painter.drawStaticText(QPointF(box.x() + LABEL_PAD, box.y() + LABEL_PAD),
+                                       labels.static(text))
 
 
 class Swatch(pg.ItemSample):
