@@ -1,5 +1,6 @@
 """The command line's own behaviour: one parser, the default command, errors on stderr."""
 
+import os
 import subprocess
 import sys
 
@@ -40,3 +41,16 @@ def test_help_does_not_import_the_heavy_libraries():
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "[]"
+
+
+def test_one_blas_thread_unless_the_user_chose(monkeypatch):
+    # Set before numpy loads in a fresh process (a fact of OpenBLAS: it reads the variable at
+    # load time; common practice, no source); a user's own setting is kept.
+    monkeypatch.delenv("OPENBLAS_NUM_THREADS", raising=False)
+    with pytest.raises(SystemExit):
+        cli.main(["--version"])
+    assert os.environ["OPENBLAS_NUM_THREADS"] == "1"
+    monkeypatch.setenv("OPENBLAS_NUM_THREADS", "2")
+    with pytest.raises(SystemExit):
+        cli.main(["--version"])
+    assert os.environ["OPENBLAS_NUM_THREADS"] == "2"
