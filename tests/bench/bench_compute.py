@@ -18,8 +18,8 @@ solved), printed with the ratio of each measurement to it.
 from __future__ import annotations
 
 import dataclasses
-import statistics
-import time
+
+from timing import median_ms
 
 from fourfold.plan import Plan, load, sample_path
 from fourfold.plan.evaluation import RowCache, compute
@@ -28,16 +28,6 @@ from fourfold.plan.tradeoffs import tradeoffs
 ROWS = 500
 REPEAT = 200
 ROW = 1
-
-
-def _median_ms(fn, repeat=REPEAT):
-    fn()
-    times = []
-    for _ in range(repeat):
-        start = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times) * 1e3
 
 
 def main() -> None:
@@ -54,15 +44,15 @@ def main() -> None:
         plan.metrics[ROW] = dataclasses.replace(plan.metrics[ROW], sd=sd)
         compute(plan, cache=cache)
 
-    reference = _median_ms(lambda: compute(plan), repeat=40)
+    reference = median_ms(lambda: compute(plan), repeat=40)
     timings = [
-        ("one cell edit, then compute with the cache", _median_ms(edit), "≤ 2"),
+        ("one cell edit, then compute with the cache", median_ms(edit, REPEAT), "≤ 2"),
         ("compute with the cache, nothing changed",
-         _median_ms(lambda: compute(plan, cache=cache)), ""),
+         median_ms(lambda: compute(plan, cache=cache), REPEAT), ""),
     ]
     result = compute(plan, cache=cache)
     timings.append(("trade-off curves of the edited row",
-                    _median_ms(lambda: tradeoffs(plan, ROW, result)), ""))
+                    median_ms(lambda: tradeoffs(plan, ROW, result), REPEAT), ""))
     print(f"{ROWS}-row plan, median of {REPEAT} (reference: compute without a cache, "
           f"{reference:.2f} ms)")
     print(f"{'':<46}{'ms':>8}{'target':>8}{'ratio':>8}")

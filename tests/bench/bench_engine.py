@@ -26,7 +26,6 @@ log-uniform in [0.5, 10]) and [1 %, 20 %] for proportions (baseline log-uniform 
 power from {0.8, 0.9}, ratio from {0.5, 1, 2}, all three alternatives.
 """
 
-import statistics
 import subprocess
 import sys
 import time
@@ -38,6 +37,7 @@ import statsmodels
 from scipy import optimize, special, stats
 from statsmodels.stats.power import NormalIndPower, TTestIndPower
 from statsmodels.stats.proportion import power_proportions_2indep, proportion_effectsize
+from timing import median_ms
 
 from fourfold import engine
 
@@ -133,16 +133,6 @@ def _import_time(statement):
     return min(times)
 
 
-def _median_ms(fn, repeat=200):
-    fn()
-    times = []
-    for _ in range(repeat):
-        start = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times) * 1e3
-
-
 def per_call():
     """Per-call cost of the window's small engine calls against a bare ndtri of that size."""
     effects = np.linspace(0.01, 0.1, 162)
@@ -166,11 +156,11 @@ def per_call():
         ("power, proportion, 162", 162, None, lambda: engine.power(
             "proportion", 0.031, effects, 1e5, alpha=0.025, relative=True)),
     ]
-    floors = {size: _median_ms(lambda size=size: special.ndtri(np.full(size, 0.3)))
+    floors = {size: median_ms(lambda size=size: special.ndtri(np.full(size, 0.3)))
               for size in {size for _, size, _, _ in calls}}
     print(f"{'call (median of 200)':<38}{'ms':>8}{'target':>8}{'× ndtri':>9}")
     for name, size, target, fn in calls:
-        ms = _median_ms(fn)
+        ms = median_ms(fn)
         goal = "" if target is None else f"≤ {target:g}"
         print(f"{name:<38}{ms:>8.3f}{goal:>8}{ms / floors[size]:>8.0f}×")
     print("ndtri of the same size: " + ", ".join(f"{size}: {floors[size] * 1e3:.1f} µs"
