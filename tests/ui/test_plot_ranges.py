@@ -98,3 +98,21 @@ def test_another_row_is_fitted_afresh(qtbot, panel):
     fresh.show()
     _show(qtbot, fresh, dataclasses.replace(plan), 1)
     assert _ranges(panel) == _ranges(fresh)
+
+
+def test_data_growing_step_by_step_re_range_only_now_and_then(qtbot, panel):
+    # An effect typed or dragged step by step: the units grow 3 % a step. Each re-range
+    # leaves room to grow on, so eight steps re-range each figure at most three times.
+    sd = 14.8
+    _show(qtbot, panel, _plan(sd), 0)
+    changes = dict.fromkeys(FIGURES, 0)
+    before = _ranges(panel)
+    for _ in range(8):
+        sd *= 1.015  # units ∝ sd²: about 3 % a step
+        _show(qtbot, panel, _plan(sd), 0)
+        after = _ranges(panel)
+        for name in FIGURES:
+            changes[name] += after[name][1] != before[name][1]
+            assert _holds(panel, name), name
+        before = after
+    assert max(changes.values()) <= 3, changes

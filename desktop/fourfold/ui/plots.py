@@ -46,6 +46,7 @@ SLIDER_STEPS = 200
 SCREEN_DPI = 96.0
 WIDEST_TICK = "−00.0k"
 PADDING = 0.03
+HEADROOM = 0.2  # room left beyond data that grew past a kept range
 LEGEND_GAP = 3.0  # pyqtgraph's LegendItem adds 3 px after each sample and label
 
 _GRID = ((0, 0), (0, 1), (1, 0), (1, 1))
@@ -514,7 +515,9 @@ def _settled(low: float, high: float, padding: float,
     """The view range of one axis for data from ``low`` to ``high``.
 
     ``current`` stays while it holds the data and the data fill at least half of it;
-    otherwise the data's range widened by ``padding`` of its span on each side.
+    otherwise the data's range widened by ``padding`` of its span on each side — by
+    :data:`HEADROOM` on a side where the data grew past ``current``, so that an effect dragged
+    or typed step by step does not re-range (and repaint) the axes on every step.
 
     Examples
     --------
@@ -522,12 +525,16 @@ def _settled(low: float, high: float, padding: float,
     (0.9, 3.1)
     >>> _settled(1.0, 3.0, 0.05, (0.5, 3.5)), _settled(1.0, 3.0, 0.05, (0.0, 9.0))
     ((0.5, 3.5), (0.9, 3.1))
+    >>> _settled(1.0, 4.0, 0.05, (0.5, 3.5))  # grew past the top: room to grow on
+    (0.85, 4.6)
     """
     if current is not None and current[0] <= low and high <= current[1] \
             and high - low >= 0.5 * (current[1] - current[0]):
         return current
     span = high - low or abs(low) or 1.0
-    return (low - padding * span, high + padding * span)
+    below = HEADROOM if current is not None and low < current[0] else padding
+    above = HEADROOM if current is not None and high > current[1] else padding
+    return (low - max(below, padding) * span, high + max(above, padding) * span)
 
 
 class FigureGrid(pg.GraphicsLayoutWidget):
