@@ -9,25 +9,20 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from fourfold.plan import Metric, Plan, PlanError, Settings, dumps
-from fourfold.plan.commands import Change, CommandStack, ReorderMetrics
+from fourfold.plan.commands import Change, ReorderMetrics
 
 
-def _stack(count=4):
-    plan = Plan(Settings(title="Invented"),
+def _plan(count=4):
+    return Plan(Settings(title="Invented"),
                 [Metric(name=f"M{i}", baseline=0.1 + i / 100) for i in range(count)])
-    stack = CommandStack(plan)
-    after, before = [], []
-    stack.subscribe(after.append)
-    stack.subscribe(before.append, before=True)
-    return stack, after, before
 
 
 def _names(stack):
     return [metric.name for metric in stack.plan.metrics]
 
 
-def test_reorder_applies_the_permutation_and_undo_restores_the_order():
-    stack, after, before = _stack()
+def test_reorder_applies_the_permutation_and_undo_restores_the_order(recorded):
+    stack, after, before = recorded(_plan())
     start = dumps(stack.plan)
     objects = list(stack.plan.metrics)
     stack.do(ReorderMetrics([2, 0, 3, 1], text="Sort rows by Baseline"))
@@ -46,16 +41,16 @@ def test_reorder_applies_the_permutation_and_undo_restores_the_order():
 
 @pytest.mark.parametrize("order", [[0, 1, 2], [0, 1, 2, 2], [0, 1, 2, 4], [0, 1, 2, 3, 4],
                                    [0, 1, 2, 3.0], [True, 0, 2, 3], ["1", 0, 2, 3]])
-def test_an_order_that_is_not_a_permutation_of_the_rows_is_refused(order):
-    stack, after, _ = _stack()
+def test_an_order_that_is_not_a_permutation_of_the_rows_is_refused(order, recorded):
+    stack, after, _ = recorded(_plan())
     start = dumps(stack.plan)
     with pytest.raises(PlanError, match="order must name each of the rows 0 to 3"):
         stack.do(ReorderMetrics(order))
     assert dumps(stack.plan) == start and after == [] and not stack.can_undo
 
 
-def test_the_identity_order_is_refused():
-    stack, after, _ = _stack()
+def test_the_identity_order_is_refused(recorded):
+    stack, after, _ = recorded(_plan())
     with pytest.raises(PlanError, match="already in that order"):
         stack.do(ReorderMetrics(range(4)))
     assert after == [] and not stack.can_undo
@@ -67,8 +62,8 @@ def test_default_text():
 
 @settings(max_examples=40, deadline=None)
 @given(st.permutations(list(range(6))))
-def test_any_permutation_round_trips_through_undo_and_redo(order):
-    stack, after, _ = _stack(6)
+def test_any_permutation_round_trips_through_undo_and_redo(recorded, order):
+    stack, after, _ = recorded(_plan(6))
     assume(list(order) != list(range(6)))
     start = dumps(stack.plan)
     stack.do(ReorderMetrics(order))

@@ -33,20 +33,12 @@ def _plan() -> Plan:
     )
 
 
-def _stack():
-    stack = CommandStack(_plan())
-    after, before = [], []
-    stack.subscribe(after.append)
-    stack.subscribe(before.append, before=True)
-    return stack, after, before
-
-
 def _names(stack):
     return [metric.name for metric in stack.plan.metrics]
 
 
-def test_set_field_do_undo_redo():
-    stack, after, before = _stack()
+def test_set_field_do_undo_redo(recorded):
+    stack, after, before = recorded(_plan())
     start = dumps(stack.plan)
     stack.do(SetField(1, "baseline", 0.25))
     changed = dumps(stack.plan)
@@ -61,8 +53,8 @@ def test_set_field_do_undo_redo():
     assert len(after) == 3
 
 
-def test_kind_change_clears_a_foreign_method_in_one_step():
-    stack, after, _ = _stack()
+def test_kind_change_clears_a_foreign_method_in_one_step(recorded):
+    stack, after, _ = recorded(_plan())
     stack.do(SetField(1, "kind", "mean"))
     metric = stack.plan.metrics[1]
     assert (metric.kind, metric.method) == ("mean", None)
@@ -74,8 +66,8 @@ def test_kind_change_clears_a_foreign_method_in_one_step():
     assert after[-1] == Change("cells", (2,), ("kind",))
 
 
-def test_set_fields_is_one_step_and_names_rows_and_fields():
-    stack, after, _ = _stack()
+def test_set_fields_is_one_step_and_names_rows_and_fields(recorded):
+    stack, after, _ = recorded(_plan())
     start = dumps(stack.plan)
     stack.do(SetFields([(0, "sd", 3.0), (3, "name", "Dee"), (0, "baseline", 6.0)],
                        text="Paste"))
@@ -85,8 +77,8 @@ def test_set_fields_is_one_step_and_names_rows_and_fields():
     assert dumps(stack.plan) == start
 
 
-def test_set_fields_checks_a_method_against_a_kind_set_earlier_in_the_batch():
-    stack, _, _ = _stack()
+def test_set_fields_checks_a_method_against_a_kind_set_earlier_in_the_batch(recorded):
+    stack, _, _ = recorded(_plan())
     stack.do(SetFields([(3, "kind", "mean"), (3, "method", "t")]))
     assert (stack.plan.metrics[3].kind, stack.plan.metrics[3].method) == ("mean", "t")
     start = dumps(stack.plan)
@@ -95,8 +87,8 @@ def test_set_fields_checks_a_method_against_a_kind_set_earlier_in_the_batch():
     assert dumps(stack.plan) == start
 
 
-def test_insert_remove_move_restore_exactly():
-    stack, after, before = _stack()
+def test_insert_remove_move_restore_exactly(recorded):
+    stack, after, before = recorded(_plan())
     start = dumps(stack.plan)
     stack.do(InsertMetrics(1, [Metric(name="X"), Metric(name="Y")]))
     assert _names(stack) == ["A", "X", "Y", "B", "C", "D"]
@@ -121,8 +113,8 @@ def test_insert_remove_move_restore_exactly():
     assert _names(stack) == ["B", "D", "X"]
 
 
-def test_insert_validates_and_normalises_rows():
-    stack, after, _ = _stack()
+def test_insert_validates_and_normalises_rows(recorded):
+    stack, after, _ = recorded(_plan())
     start = dumps(stack.plan)
     with pytest.raises(PlanError, match="method"):
         stack.do(InsertMetrics(0, [Metric(name="ok"), Metric(kind="rate", method="t")]))
@@ -131,8 +123,8 @@ def test_insert_validates_and_normalises_rows():
     assert stack.plan.metrics[4].name == "E" and type(stack.plan.metrics[4].baseline) is float
 
 
-def test_settings_change_and_notification():
-    stack, after, _ = _stack()
+def test_settings_change_and_notification(recorded):
+    stack, after, _ = recorded(_plan())
     stack.do(SetSetting("arms", 2.0))
     assert stack.plan.settings.arms == 2
     assert after[-1] == Change("settings", fields=("arms",))
@@ -160,8 +152,8 @@ def test_settings_change_and_notification():
         MoveMetric(1, 1),
     ],
 )
-def test_invalid_commands_change_nothing_and_notify_nobody(command):
-    stack, after, before = _stack()
+def test_invalid_commands_change_nothing_and_notify_nobody(recorded, command):
+    stack, after, before = recorded(_plan())
     stack.do(SetField(0, "name", "Alpha"))
     state, count = dumps(stack.plan), len(after)
     with pytest.raises(PlanError):
@@ -171,8 +163,8 @@ def test_invalid_commands_change_nothing_and_notify_nobody(command):
     assert stack.undo_text == "Set name of A" and not stack.can_redo
 
 
-def test_new_command_clears_redo_and_empty_stacks_do_nothing():
-    stack, after, _ = _stack()
+def test_new_command_clears_redo_and_empty_stacks_do_nothing(recorded):
+    stack, after, _ = recorded(_plan())
     stack.undo()
     stack.redo()
     assert after == [] and stack.undo_text == stack.redo_text == ""
@@ -183,8 +175,8 @@ def test_new_command_clears_redo_and_empty_stacks_do_nothing():
     assert stack.plan.metrics[0].baseline == 8.0
 
 
-def test_clean_flag_follows_the_saved_state():
-    stack, _, _ = _stack()
+def test_clean_flag_follows_the_saved_state(recorded):
+    stack, _, _ = recorded(_plan())
     assert stack.clean
     stack.do(SetField(0, "baseline", 7.0))
     assert not stack.clean
@@ -201,8 +193,8 @@ def test_clean_flag_follows_the_saved_state():
     assert not stack.clean
 
 
-def test_merge_makes_a_drag_one_undo_step():
-    stack, _, _ = _stack()
+def test_merge_makes_a_drag_one_undo_step(recorded):
+    stack, _, _ = recorded(_plan())
     start = dumps(stack.plan)
     for value in (0.01, 0.02, 0.03):
         stack.do(SetField(3, "effect", value), merge=True)
@@ -211,8 +203,8 @@ def test_merge_makes_a_drag_one_undo_step():
     assert dumps(stack.plan) == start and not stack.can_undo
 
 
-def test_merged_kind_changes_restore_the_method():
-    stack, _, _ = _stack()
+def test_merged_kind_changes_restore_the_method(recorded):
+    stack, _, _ = recorded(_plan())
     start = dumps(stack.plan)
     stack.do(SetField(2, "kind", "mean"), merge=True)
     stack.do(SetField(2, "kind", "proportion"), merge=True)
@@ -221,8 +213,8 @@ def test_merged_kind_changes_restore_the_method():
     assert dumps(stack.plan) == start
 
 
-def test_merge_stops_at_the_saved_state():
-    stack, _, _ = _stack()
+def test_merge_stops_at_the_saved_state(recorded):
+    stack, _, _ = recorded(_plan())
     stack.do(SetField(3, "effect", 0.01), merge=True)
     stack.mark_clean()
     stack.do(SetField(3, "effect", 0.02), merge=True)
@@ -230,8 +222,8 @@ def test_merge_stops_at_the_saved_state():
     assert stack.clean and stack.plan.metrics[3].effect == 0.01
 
 
-def test_reset_replaces_the_document():
-    stack, after, before = _stack()
+def test_reset_replaces_the_document(recorded):
+    stack, after, before = recorded(_plan())
     stack.do(SetField(0, "baseline", 7.0))
     fresh = Plan.empty()
     stack.reset(fresh)
