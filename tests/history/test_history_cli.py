@@ -8,20 +8,8 @@ import json
 
 import numpy as np
 import pytest
-from history_frames import make_frame, write_csv
 
 from fourfold import cli
-
-
-@pytest.fixture
-def frame():
-    return make_frame()
-
-
-@pytest.fixture
-def history_csv(tmp_path, frame):
-    return write_csv(tmp_path, frame)
-
 
 
 def test_json_output_keyed_by_metric(history_csv, frame, capsys):

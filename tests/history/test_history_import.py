@@ -7,24 +7,13 @@ References: pandas ``Series.mean``/``Series.std`` (ddof 1), ``numpy.corrcoef``,
 
 import numpy as np
 import pytest
-from history_frames import make_frame, write_csv
+from history_frames import make_frame
 
 from fourfold.history import (
     ColumnMap,
     HistoryCancelled,
     read_history,
 )
-
-
-@pytest.fixture
-def frame():
-    return make_frame()
-
-
-@pytest.fixture
-def history_csv(tmp_path, frame):
-    return write_csv(tmp_path, frame)
-
 
 MAPPING = [
     ColumnMap("mean", "spend", pre="pre_spend"),

@@ -2,7 +2,6 @@
 same numbers as the streaming file import; partition results merge exactly."""
 
 import pytest
-from history_frames import make_frame, write_csv
 
 from fourfold.history import ColumnMap, HistoryError, read_history
 from fourfold.history.warehouse import (
@@ -11,17 +10,6 @@ from fourfold.history.warehouse import (
     read_warehouse_result,
     warehouse_sql,
 )
-
-
-@pytest.fixture
-def frame():
-    return make_frame()
-
-
-@pytest.fixture
-def history_csv(tmp_path, frame):
-    return write_csv(tmp_path, frame)
-
 
 duckdb = pytest.importorskip("duckdb")
 

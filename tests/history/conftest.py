@@ -1,0 +1,16 @@
+"""Fixtures for the history tests: the invented per-unit table and its CSV file."""
+
+import pytest
+from history_frames import make_frame, write_csv
+
+
+@pytest.fixture
+def frame():
+    """The invented table (see ``history_frames.make_frame``)."""
+    return make_frame()
+
+
+@pytest.fixture
+def history_csv(tmp_path, frame):
+    """``frame`` written to a CSV file in the test's temporary folder."""
+    return write_csv(tmp_path, frame)
