@@ -24,6 +24,11 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help="pre-period column of a metric, for CUPED's correlation")
     parser.add_argument("--cap", type=float, default=None, metavar="PERCENTILE",
                         help="cap heavy tails at this percentile (e.g. 99.9)")
+    parser.add_argument("--unit", metavar="COL",
+                        help="unit id column: rows are visits or days of units; with --time, "
+                             "adds the reach curve and each unit's first 7/14/21/28 days")
+    parser.add_argument("--time", metavar="COL",
+                        help="date or timestamp column (or whole day numbers), with --unit")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     parser.add_argument("--sql", metavar="TABLE",
                         help="print a standard-SQL query of the same figures for a warehouse "
@@ -86,7 +91,7 @@ def run(args: argparse.Namespace) -> int:
     if args.query_result:
         summary = read_warehouse_file(args.data, mapping)
     else:
-        summary = read_history(args.data, mapping)
+        summary = read_history(args.data, mapping, unit=args.unit, time=args.time)
     if args.json:
         print(json.dumps(summary.to_dict(), indent=2, ensure_ascii=False))
     else:
