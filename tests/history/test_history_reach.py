@@ -252,3 +252,18 @@ def test_the_bundled_sample_has_visitors_who_come_back():
     assert reach.units[-1] < 0.6 * summary.rows
     assert reach.units[6] / 7 > (reach.units[-1] - reach.units[20]) / 7
     assert summary.window("revenue", 28).mean > summary.window("revenue", 7).mean
+
+
+def test_ids_and_dates_read_the_same_without_pyarrow(monkeypatch):
+    from fourfold.history.days import DayReader
+    from fourfold.history.ids import hash_ids
+
+    ids = pd.Series(["synthetic-1", "synthétique-2", "17", "synthetic-1"], dtype=object)
+    times = pd.Series(["2026-03-01 08:00:00", "2026-03-02", "2026-03-02T23:59:59",
+                       "2026-03-04"], dtype=object)
+    with_arrow = hash_ids(ids, "u", str), DayReader("t")(times, str)
+    monkeypatch.setitem(__import__("sys").modules, "pyarrow", None)
+    without = hash_ids(ids, "u", str), DayReader("t")(times, str)
+    assert with_arrow[0].tolist() == without[0].tolist()
+    assert with_arrow[1].tolist() == without[1].tolist() == [20513, 20514, 20514, 20516]
+    assert hash_ids(pd.Series([17]), "u", str)[0] == without[0][2]

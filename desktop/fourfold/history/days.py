@@ -15,10 +15,10 @@ import datetime as dt
 import numpy as np
 
 from fourfold.history.errors import HistoryError
+from fourfold.history.ids import utf8_cells
 
 DATES = "dates"
 NUMBERS = "day numbers"
-_EPOCH = dt.date(1970, 1, 1)
 
 
 class DayReader:
@@ -40,28 +40,24 @@ class DayReader:
 
     def __call__(self, series, where) -> np.ndarray:
         """Day numbers (int64) of a chunk; ``where(i)`` names row ``i`` for messages."""
-        import pyarrow as pa
+        import pandas as pd
 
-        try:
-            array = pa.array(series, from_pandas=True)
-        except (pa.ArrowInvalid, pa.ArrowTypeError):
-            array = pa.array([None if v is None or v != v else str(v) for v in series])
-        if isinstance(array, pa.ChunkedArray):
-            array = array.combine_chunks()
-        if array.null_count:
-            i = int(np.argmax(~np.asarray(array.is_valid().to_numpy(zero_copy_only=False))))
-            raise HistoryError(f"column {self.column!r} is empty on {where(i)}: every row "
-                               "needs a time")
-        kind = array.type
-        if pa.types.is_integer(kind) or pa.types.is_floating(kind):
-            return self._numbers(array.to_numpy(zero_copy_only=False), where)
-        if pa.types.is_timestamp(kind) or pa.types.is_date(kind):
+        series = pd.Series(series) if not isinstance(series, pd.Series) else series
+        missing = series.isna().to_numpy()
+        if missing.any():
+            raise HistoryError(f"column {self.column!r} is empty on "
+                               f"{where(int(np.argmax(missing)))}: every row needs a time")
+        kind = series.dtype.kind
+        if kind in "iuf":
+            return self._numbers(series.to_numpy(np.float64), where)
+        if kind == "M":
             self._hold(DATES, where)
-            return self._from_timestamps(array)
-        if pa.types.is_string(kind) or pa.types.is_large_string(kind):
-            return self._from_text(array, where)
-        raise HistoryError(f"column {self.column!r} holds {kind}, which is neither a date, a "
-                           "timestamp nor a day number")
+            if getattr(series.dtype, "tz", None) is not None:
+                series = series.dt.tz_convert("UTC").dt.tz_localize(None)
+            return series.to_numpy().astype("datetime64[D]").astype(np.int64)
+        if len(series) and isinstance(series.iloc[0], dt.date):  # dates from a Parquet file
+            return self(pd.Series(pd.to_datetime(series.to_numpy(dtype=object))), where)
+        return self._from_text(series.astype(str), where)
 
     def _hold(self, form: str, where, row: int = 0) -> None:
         if self.form is None:
@@ -80,61 +76,67 @@ class DayReader:
         self._hold(NUMBERS, where)
         return x.astype(np.int64)
 
-    @staticmethod
-    def _from_timestamps(array) -> np.ndarray:
-        import pyarrow as pa
-        import pyarrow.compute as pc
-
-        if pa.types.is_timestamp(array.type) and array.type.tz is not None:
-            array = pc.cast(array, pa.timestamp(array.type.unit))  # the UTC instant
-        return pc.cast(pc.cast(array, pa.date32()), pa.int32()).to_numpy().astype(np.int64)
-
-    def _from_text(self, array, where) -> np.ndarray:
-        import pyarrow as pa
-        import pyarrow.compute as pc
-
-        text = pc.utf8_trim_whitespace(array)
+    def _from_text(self, text, where) -> np.ndarray:
         if self.form == NUMBERS or (self.form is None and _all_whole(text)):
-            try:
-                numbers = pc.cast(text, "int64").to_numpy()
-            except Exception:  # pyarrow's invalid-cast error; name the first bad cell
-                numbers = None
-            if numbers is not None:
+            import pandas as pd
+
+            numbers = pd.to_numeric(text.str.strip(), errors="coerce").to_numpy(np.float64)
+            if not np.isnan(numbers).any():
                 return self._numbers(numbers, where)
-        length = pc.utf8_length(text).to_numpy()
-        # What may follow the date: nothing, or a time after "T" or a space.
-        after = pc.is_in(pc.utf8_slice_codeunits(text, 10, 11),
-                         value_set=pa.array(["", "T", "t", " "]))
-        shape = (length >= 10) & after.to_numpy(zero_copy_only=False)
-        encoded = pc.utf8_slice_codeunits(text, 0, 10).dictionary_encode()
-        codes = encoded.indices.to_numpy(zero_copy_only=False)
-        parsed = np.array([_iso_day(day) for day in encoded.dictionary.to_pylist()],
-                          dtype=np.int64)
-        days = parsed[codes] if parsed.size else np.empty(0, np.int64)
-        bad = ~shape | (days == _NOT_A_DAY)
+        days, bad = _iso_days(text)
+        if bad.any():  # perhaps spaces around the dates
+            days, bad = _iso_days(text.str.strip())
         if bad.any():
             i = int(np.argmax(bad))
             raise HistoryError(
-                f"column {self.column!r} has {str(array[i].as_py())[:40]!r} on {where(i)}, "
+                f"column {self.column!r} has {str(text.iloc[i])[:40]!r} on {where(i)}, "
                 "which is not a date (YYYY-MM-DD, maybe followed by a time) nor a day number"
             )
         self._hold(DATES, where)
         return days
 
 
-_NOT_A_DAY = np.iinfo(np.int64).min
+_DIGITS = [0, 1, 2, 3, 5, 6, 8, 9]
+_MONTH_DAYS = np.array([0, 31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31])
 
 
-def _iso_day(text: str) -> int:
-    try:
-        if len(text) != 10 or text[4] != "-" or text[7] != "-":
-            return _NOT_A_DAY
-        return (dt.date.fromisoformat(text) - _EPOCH).days
-    except ValueError:
-        return _NOT_A_DAY
+def _iso_days(text) -> tuple[np.ndarray, np.ndarray]:
+    """Days since 1970-01-01 of text cells starting ``YYYY-MM-DD`` (then nothing, or a time
+    after ``T`` or a space), read from the cells' bytes; and which cells are not such dates."""
+    starts, length, _, data = utf8_cells(text)
+    cells = data[starts[:, None] + np.arange(11)]
+    digits = cells[:, _DIGITS] - np.uint8(ord("0"))  # wraps below "0", so one test: < 10
+    after = cells[:, 10]
+    bad = ((length < 10) | (digits > 9).any(axis=1)
+           | (cells[:, 4] != ord("-")) | (cells[:, 7] != ord("-"))
+           | ((length > 10) & (after != ord("T")) & (after != ord("t")) & (after != ord(" "))))
+    digits = digits.astype(np.int64)
+    year = digits[:, 0] * 1000 + digits[:, 1] * 100 + digits[:, 2] * 10 + digits[:, 3]
+    month = digits[:, 4] * 10 + digits[:, 5]
+    day = digits[:, 6] * 10 + digits[:, 7]
+    leap = (year % 4 == 0) & ((year % 100 != 0) | (year % 400 == 0))
+    month_ok = (month >= 1) & (month <= 12)
+    last = _MONTH_DAYS[np.where(month_ok, month, 0)] + (leap & (month == 2))
+    bad |= ~month_ok | (day < 1) | (day > last)
+    return _days_from_civil(year, month, day), bad
+
+
+def _days_from_civil(year, month, day):
+    """Days since 1970-01-01 of proleptic Gregorian dates (Hinnant's ``days_from_civil``).
+
+    Examples
+    --------
+    >>> _days_from_civil(np.array([1970, 2000, 2026]), np.array([1, 3, 3]),
+    ...                  np.array([1, 1, 2])).tolist()
+    [0, 11017, 20514]
+    """
+    year = year - (month <= 2)
+    era = year // 400
+    year_of_era = year - era * 400
+    day_of_year = (153 * (month + np.where(month > 2, -3, 9)) + 2) // 5 + day - 1
+    day_of_era = year_of_era * 365 + year_of_era // 4 - year_of_era // 100 + day_of_year
+    return era * 146097 + day_of_era - 719468
 
 
 def _all_whole(text) -> bool:
-    import pyarrow.compute as pc
-
-    return bool(pc.all(pc.match_substring_regex(text, r"^[+-]?[0-9]+$")).as_py())
+    return bool(text.str.fullmatch(r"\s*[+-]?[0-9]+\s*").all())

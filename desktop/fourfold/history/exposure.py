@@ -27,7 +27,7 @@ history) and the report says so.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -40,7 +40,6 @@ WINDOW_DAYS = (7, 14, 21, 28)
 """The standard windows (days since a unit's first day); the history's length is added."""
 BAND_DAYS = 7
 BANDS = 5
-_NEVER = np.iinfo(np.int16).max
 MAX_DAYS = 3660
 """The longest history the reach curve and windows follow (ten years of days)."""
 
@@ -133,119 +132,181 @@ class WindowSummary:
             return None
 
 
+_QUANTITIES = {
+    "mean": ("sum", "n"),
+    "count": ("sum", "n"),
+    "proportion": ("n", "true"),
+    "ratio": ("num", "den", "n"),
+}
+"""What each kind adds up per unit and band (``n``: rows with a value; ``true``: rows with 1)."""
+
+
 class Exposure:
     """Per-unit sums of each metric by band of days since the unit's first day.
 
-    The arrays live in the :class:`~fourfold.history.ids.UnitTable` (they grow, shrink and
-    are sampled with it). :meth:`add` takes a chunk's rows with their unit index and day
-    offset; :meth:`windows` turns the sums into one :class:`WindowSummary` per window.
+    The sums are columns of the :class:`~fourfold.history.ids.UnitTable`'s rows (they grow,
+    shrink and are sampled with it), one block per band holding every quantity the mapping
+    adds up (see ``_QUANTITIES``; a pre-period column adds its sum and count), so that a file
+    row's updates are side by side in memory and one ``np.add.at`` call makes them all.
+    :meth:`add` takes a chunk's rows with their unit and day offset; :meth:`windows` turns the
+    sums into one :class:`WindowSummary` per window.
     """
 
     def __init__(self, mapping: list[ColumnMap], table) -> None:
         self.mapping = mapping
         self.table = table
-        for i, spec in enumerate(mapping):
-            table.add_array(f"{i}:first", np.int16, fill=_NEVER)
-            if spec.kind == "proportion":
-                table.add_array(f"{i}:true", np.int16, fill=_NEVER)
-            elif spec.kind == "ratio":
-                table.add_array(f"{i}:num", np.float64, BANDS)
-                table.add_array(f"{i}:den", np.float64, BANDS)
-            else:
-                table.add_array(f"{i}:sum", np.float64, BANDS)
-            if spec.pre is not None:
-                table.add_array(f"{i}:pre", np.float64)
-                table.add_array(f"{i}:pren", np.int32)
+        self.places: list[dict[str, int]] = []
+        width = 0
+        for spec in mapping:
+            names = _QUANTITIES[spec.kind] + (("pre", "pre_n") if spec.pre is not None else ())
+            self.places.append({name: width + k for k, name in enumerate(names)})
+            width += len(names)
+        self.block = width
+        self.start = table.add_columns(BANDS * width)
 
     def clear(self) -> None:
         """Forget every sum (before a second pass)."""
-        self.table.clear_arrays()
+        self.table.clear_columns()
 
     def add(self, index: np.ndarray, offset: np.ndarray, value) -> None:
-        """Add a chunk: ``index`` the unit of each row (−1: not followed), ``offset`` its days
-        since the unit's first day, ``value(column, kind)`` a column's numbers (nan if empty)."""
-        rows = index >= 0
-        if not rows.all():
+        """Add a chunk: ``index`` the unit of each row (−1: not followed), ``offset`` its
+        days since the unit's first day, ``value(column, kind)`` a column's numbers (nan
+        where empty)."""
+        rows = np.flatnonzero(index >= 0)
+        every = rows.size == index.size
+        if not every:
             index, offset = index[rows], offset[rows]
-        offset = np.minimum(offset, _NEVER - 1).astype(np.int16)
-        cell = index * BANDS + np.minimum(offset // BAND_DAYS, BANDS - 1)
-        table = self.table
-        for i, spec in enumerate(self.mapping):
+        band = np.minimum(offset // BAND_DAYS, BANDS - 1)
+        width = self.table.rows.shape[1]
+        where = (index * width + self.start + band * self.block)[:, None] + np.arange(self.block)
+        amounts = np.empty((index.size, self.block))
+        for spec, place in zip(self.mapping, self.places, strict=True):
             x = value(spec.column, "mean" if spec.kind == "ratio" else spec.kind)
-            x = x if rows.all() else x[rows]
+            x = x if every else x[rows]
             if spec.kind == "ratio":
                 d = value(spec.denominator, "mean")
-                d = d if rows.all() else d[rows]
+                d = d if every else d[rows]
                 present = ~(np.isnan(x) | np.isnan(d))
-                np.add.at(table.array(f"{i}:num").reshape(-1), cell[present], x[present])
-                np.add.at(table.array(f"{i}:den").reshape(-1), cell[present], d[present])
+                amounts[:, place["num"]] = np.where(present, x, 0.0)
+                amounts[:, place["den"]] = np.where(present, d, 0.0)
             else:
                 present = ~np.isnan(x)
                 if spec.kind == "proportion":
-                    hit = present & (x == 1.0)
-                    np.minimum.at(table.array(f"{i}:true"), index[hit], offset[hit])
+                    amounts[:, place["true"]] = x == 1.0
                 else:
-                    np.add.at(table.array(f"{i}:sum").reshape(-1), cell[present], x[present])
-            np.minimum.at(table.array(f"{i}:first"), index[present], offset[present])
+                    amounts[:, place["sum"]] = np.where(present, x, 0.0)
+            amounts[:, place["n"]] = present
             if spec.pre is not None:
                 pre = value(spec.pre, spec.kind)
-                pre = pre if rows.all() else pre[rows]
+                pre = pre if every else pre[rows]
                 has = ~np.isnan(pre)
-                np.add.at(table.array(f"{i}:pre"), index[has], pre[has])
-                np.add.at(table.array(f"{i}:pren"), index[has], 1)
+                amounts[:, place["pre"]] = np.where(has, pre, 0.0)
+                amounts[:, place["pre_n"]] = has
+        np.add.at(self.table.rows.reshape(-1), where.ravel(), amounts.ravel())
 
     def windows(self, first_days: np.ndarray, day_one: int, days: int,
                 share: float = 1.0) -> tuple[WindowSummary, ...]:
-        """One summary per window of a ``days``-day history starting on ``day_one``."""
+        """One summary per window of a ``days``-day history starting on ``day_one``.
+
+        The units' sums are read a slice of units at a time, and their moments merged, so
+        no copy of the table is made; the values of a capped metric are kept whole (a
+        percentile does not merge).
+        """
         start = first_days.astype(np.int64) - day_one
+        plan = [(d, start + d <= days, d // BAND_DAYS if d in WINDOW_DAYS else BANDS)
+                for d in window_days(days)]
+        tallies = [[Tally() for _ in self.mapping] for _ in plan]
+        kept: list[list[list]] = [[[] for _ in self.mapping] for _ in plan]
+        rows = self.table.rows
+        for a in range(0, start.size, _UNITS_AT_ONCE):
+            part = rows[a:min(a + _UNITS_AT_ONCE, start.size),
+                        self.start:self.start + BANDS * self.block]
+            running = [part[:, :self.block].copy()]
+            for band in range(1, BANDS):
+                running.append(running[-1] + part[:, band * self.block:(band + 1) * self.block])
+            for w, (_, complete, bands) in enumerate(plan):
+                chosen = complete[a:a + _UNITS_AT_ONCE]
+                if not chosen.any():
+                    continue
+                inside, whole = running[bands - 1][chosen], running[-1][chosen]
+                for i, (spec, place) in enumerate(zip(self.mapping, self.places, strict=True)):
+                    values = _values(spec, place, inside, whole)
+                    if spec.cap is None:
+                        tallies[w][i] = tallies[w][i].merge(_tally(spec, *values))
+                    else:
+                        kept[w][i].append(values)
         out = []
-        for d in window_days(days):
-            complete = start + d <= days
-            bands = d // BAND_DAYS if d in WINDOW_DAYS else BANDS
+        for (d, complete, _), window_tallies, window_kept in zip(plan, tallies, kept,
+                                                                  strict=True):
+            units = int(complete.sum())
             metrics, problems = [], {}
-            for i, spec in enumerate(self.mapping):
+            for spec, tally, values in zip(self.mapping, window_tallies, window_kept,
+                                           strict=True):
                 try:
-                    metrics.append(self._metric(i, spec, complete, d, bands))
+                    if spec.cap is None:
+                        summary = finish(spec, replace(tally, rows=units))
+                    else:
+                        summary = _capped(spec, units, values)
+                    metrics.append(summary)
                 except HistoryError as error:
                     problems[spec.name] = str(error)
-            out.append(WindowSummary(d, int(complete.sum()), tuple(metrics), problems, share))
+            out.append(WindowSummary(d, units, tuple(metrics), problems, share))
         return tuple(out)
 
-    def _metric(self, i: int, spec: ColumnMap, complete: np.ndarray, d: int,
-                bands: int) -> MetricSummary:
-        size = self.table.size
 
-        def part(name: str) -> np.ndarray:
-            return self.table.array(f"{i}:{name}")[:size][complete]
+_UNITS_AT_ONCE = 1 << 16
 
-        units = int(complete.sum())
-        present = part("first") < d
-        if spec.kind == "ratio":
-            num = part("num")[:, :bands].sum(axis=1)[present]
-            den = part("den")[:, :bands].sum(axis=1)[present]
-            raw = CoMoments.of(den, num)
-            capped, count, thresholds = _cap(num, spec.cap, spec.column)
-            pairs = CoMoments.of(den, capped)
-            tally = Tally(units, pairs.y, pairs,
-                          raw_pairs=raw if spec.cap is not None else CoMoments(), capped=count)
-            return finish(spec, tally, thresholds=thresholds)
-        if spec.kind == "proportion":
-            x = (part("true") < d).astype(np.float64)[present]
-        else:
-            x = part("sum")[:, :bands].sum(axis=1)[present]
-        capped, count, thresholds = _cap(x, spec.cap, spec.column)
-        pairs = CoMoments()
-        if spec.pre is not None:
-            pre_n = part("pren")[present]
-            has = pre_n > 0
-            pre = part("pre")[present][has] / pre_n[has]
-            pre_capped, _, pre_thresholds = _cap(pre, spec.cap, spec.pre)
-            thresholds.update(pre_thresholds)
-            pairs = CoMoments.of(pre_capped, capped[has])
-        tally = Tally(units, Moments.of(capped), pairs,
-                      raw_values=Moments.of(x) if spec.cap is not None else Moments(),
-                      capped=count)
+
+def _values(spec: ColumnMap, place: dict[str, int], inside: np.ndarray, whole: np.ndarray):
+    """The metric's per-unit values in a window (units with a value only) and its other
+    column: the denominator of a ratio, the pre-period value (nan where none), or None.
+    ``inside`` holds the units' sums over the window's bands, ``whole`` over all bands (the
+    pre-period value is a unit attribute)."""
+    present = inside[:, place["n"]] > 0
+    if spec.kind == "ratio":
+        return inside[present, place["num"]], inside[present, place["den"]]
+    if spec.kind == "proportion":
+        x = (inside[present, place["true"]] > 0).astype(np.float64)
+    else:
+        x = inside[present, place["sum"]]
+    if spec.pre is None:
+        return x, None
+    pre_n = whole[present, place["pre_n"]]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        pre = np.where(pre_n > 0, whole[present, place["pre"]] / pre_n, np.nan)
+    return x, pre
+
+
+def _tally(spec: ColumnMap, x: np.ndarray, other: np.ndarray | None) -> Tally:
+    """The uncapped tally of one slice of units (rows are set for the whole window)."""
+    if spec.kind == "ratio":
+        pairs = CoMoments.of(other, x)
+        return Tally(0, pairs.y, pairs)
+    pairs = CoMoments()
+    if other is not None:
+        has = ~np.isnan(other)
+        pairs = CoMoments.of(other[has], x[has])
+    return Tally(0, Moments.of(x), pairs)
+
+
+def _capped(spec: ColumnMap, units: int, parts: list) -> MetricSummary:
+    """One capped metric over a window, from all its units' values."""
+    x = np.concatenate([p[0] for p in parts]) if parts else np.empty(0)
+    capped, count, thresholds = _cap(x, spec.cap, spec.column)
+    if spec.kind == "ratio":
+        den = np.concatenate([p[1] for p in parts]) if parts else np.empty(0)
+        pairs = CoMoments.of(den, capped)
+        tally = Tally(units, pairs.y, pairs, raw_pairs=CoMoments.of(den, x), capped=count)
         return finish(spec, tally, thresholds=thresholds)
+    pairs = CoMoments()
+    if spec.pre is not None:
+        pre = np.concatenate([p[1] for p in parts]) if parts else np.empty(0)
+        has = ~np.isnan(pre)
+        pre_capped, _, pre_thresholds = _cap(pre[has], spec.cap, spec.pre)
+        thresholds.update(pre_thresholds)
+        pairs = CoMoments.of(pre_capped, capped[has])
+    tally = Tally(units, Moments.of(capped), pairs, raw_values=Moments.of(x), capped=count)
+    return finish(spec, tally, thresholds=thresholds)
 
 
 def _cap(x: np.ndarray, cap: float | None, column: str):

@@ -49,26 +49,81 @@ def mix64(h: np.ndarray) -> np.ndarray:
     return h ^ (h >> np.uint64(31))
 
 
-def _arrow_strings(series):
-    """The chunk's ids as one pyarrow string array; numbers become their decimal text."""
-    import pyarrow as pa
+def _texts(series):
+    """The chunk's cells as text: numbers as their decimal text (whole floats without ".0")."""
+    import pandas as pd
 
     kind = series.dtype.kind
+    if kind == "f":  # whole numbers read as floats because a cell is empty
+        x = series.to_numpy(np.float64)
+        return pd.Series([None if v != v else (str(int(v)) if v.is_integer() else repr(v))
+                          for v in x.tolist()], dtype=object)
     if kind in "iub":
-        array = pa.array(np.asarray(series))
-    elif kind == "f":  # whole numbers read as floats because a cell is empty
-        array = pa.array([None if v != v else (str(int(v)) if v.is_integer() else repr(v))
-                          for v in np.asarray(series, dtype=np.float64).tolist()])
-    else:
-        try:
-            array = pa.array(series.array, from_pandas=True)
-        except (pa.ArrowInvalid, pa.ArrowTypeError):
-            array = pa.array([None if v is None or v != v else str(v) for v in series])
+        return series.astype(str)
+    return series
+
+
+def utf8_cells(series, pad: int = 16):
+    """The UTF-8 bytes of a chunk of text cells, without copying the cells one by one.
+
+    Returns ``(starts, lengths, valid, data)``: where each cell's bytes start in ``data`` and
+    how many there are (int64), which cells are not null, and the bytes followed by ``pad``
+    zero bytes (so that a fixed-width read past a cell's end stays inside the array). With
+    pyarrow the cells' own buffers are used; without it numpy encodes the cells to
+    fixed-width bytes.
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> starts, lengths, valid, data = utf8_cells(pd.Series(["ab", "é"]))
+    >>> lengths.tolist(), bytes(data[starts[1]:starts[1] + lengths[1]]).decode()
+    ([2, 2], 'é')
+    """
+    series = _texts(series)
+    try:
+        import pyarrow as pa
+    except ImportError:
+        return _numpy_cells(series, pad)
+    try:
+        array = pa.array(series.array if hasattr(series, "array") else series,
+                         from_pandas=True)
+    except (pa.ArrowInvalid, pa.ArrowTypeError):
+        array = pa.array([None if v is None or v != v else str(v) for v in series])
     if isinstance(array, pa.ChunkedArray):
         array = array.combine_chunks()
     if not (pa.types.is_string(array.type) or pa.types.is_large_string(array.type)):
         array = array.cast(pa.large_string())
-    return array
+    buffers = array.buffers()
+    n = len(array)
+    valid = np.ones(n, bool)
+    if array.null_count:
+        valid = np.asarray(array.is_valid().to_numpy(zero_copy_only=False), bool)
+    offset_type = np.int64 if pa.types.is_large_string(array.type) else np.int32
+    offsets = np.frombuffer(buffers[1], dtype=offset_type, count=n + 1,
+                            offset=array.offset * np.dtype(offset_type).itemsize).astype(np.int64)
+    data = np.frombuffer(buffers[2], dtype=np.uint8) if buffers[2] is not None else \
+        np.empty(0, np.uint8)
+    padded = np.zeros(data.size + pad, np.uint8)
+    padded[:data.size] = data
+    return offsets[:-1], np.diff(offsets), valid, padded
+
+
+def _numpy_cells(series, pad: int):
+    import pandas as pd
+
+    values = series.to_numpy(dtype=object)
+    valid = ~pd.isna(values)
+    texts = np.where(valid, values, "").astype(str)
+    encoded = np.char.encode(texts, "utf-8") if texts.size else np.empty(0, "S1")
+    width = max(encoded.dtype.itemsize, 1)
+    raw = np.frombuffer(encoded.tobytes(), np.uint8).reshape(-1, width)
+    filled = raw != 0
+    lengths = np.where(filled.any(axis=1), width - np.argmax(filled[:, ::-1], axis=1), 0)
+    padded = np.zeros(raw.size + pad, np.uint8)
+    padded[:raw.size] = raw.ravel()
+    # Each cell starts at a multiple of the width; its bytes past its length are zeros.
+    return np.arange(len(values), dtype=np.int64) * width, lengths.astype(np.int64), valid, \
+        padded
 
 
 def hash_ids(series, column: str, where) -> np.ndarray:
@@ -101,33 +156,18 @@ def hash_ids(series, column: str, where) -> np.ndarray:
     >>> bool(hash_ids(pd.Series([17]), "unit", str)[0] == h[3])
     True
     """
-    import pyarrow as pa
-
-    array = _arrow_strings(series)
-    n = len(array)
+    n = len(series)
     if n == 0:
         return np.empty(0, np.uint64)
-    buffers = array.buffers()
-    valid = np.ones(n, bool)
-    if array.null_count:
-        valid = np.asarray(array.is_valid().to_numpy(zero_copy_only=False), bool)
-    offset_type = np.int64 if pa.types.is_large_string(array.type) else np.int32
-    offsets = np.frombuffer(buffers[1], dtype=offset_type, count=n + 1,
-                            offset=array.offset * np.dtype(offset_type).itemsize).astype(np.int64)
-    lengths = np.diff(offsets)
+    start, lengths, valid, padded = utf8_cells(series)
     empty = ~valid | (lengths == 0)
     if empty.any():
         i = int(np.argmax(empty))
         raise HistoryError(f"column {column!r} is empty on {where(i)}: every row needs a unit")
-    data = np.frombuffer(buffers[2], dtype=np.uint8) if buffers[2] is not None else \
-        np.empty(0, np.uint8)
     width = int(lengths.max())
-    padded = np.zeros(data.size + 8, np.uint8)
-    padded[:data.size] = data
     # Every byte offset of `padded` read as a little-endian 64-bit word (unaligned view).
     words = np.ndarray(shape=(padded.size - 7,), dtype="<u8", buffer=padded.data, strides=(1,))
     h = mix64(lengths.astype(np.uint64) ^ _SEED)
-    start = offsets[:-1]
     for j in range(0, width, 8):
         rest = np.clip(lengths - j, 0, 8).astype(np.uint64)
         mask = np.where(rest >= 8, _ALL, (np.uint64(1) << (rest * np.uint64(8))) - np.uint64(1))
@@ -139,14 +179,19 @@ def hash_ids(series, column: str, where) -> np.ndarray:
 
 
 class UnitTable:
-    """Distinct unit hashes with a dense index, each unit's first day, and per-unit arrays.
+    """Distinct unit hashes with a dense index, each unit's first day and a row of numbers.
+
+    The columns of the rows are its users' (:meth:`add_columns`); a unit's numbers sit side
+    by side, so the updates a file row makes to its unit touch one place in memory.
+
+    The keys and rows are reserved for ``limit`` units at once, as zero pages that the system
+    backs with memory only where units are written (rows are filled from the top), so growing
+    never copies them; the slots of the hash table double as units arrive.
 
     Parameters
     ----------
     limit : int
         The most units held; past it the table keeps a hashed sample (see the module text).
-    initial : int
-        Units the arrays have room for at first (they double as needed).
 
     Examples
     --------
@@ -157,48 +202,65 @@ class UnitTable:
     ([0, 1, 0, 2], 3, [4, 3, 9])
     """
 
-    def __init__(self, limit: int = 1 << 24, initial: int = 1 << 16) -> None:
+    def __init__(self, limit: int = 1 << 24) -> None:
         if limit < 2:
             raise ValueError(f"limit must be at least 2, not {limit}")
         self.limit = int(limit)
         self.level = 0
         self.size = 0
         self.out_of_order = False
-        self._capacity = max(2, min(int(initial), self.limit))
-        self._keys = np.zeros(self._capacity, np.uint64)
-        self._first = np.zeros(self._capacity, np.int32)
-        self._extra: dict[str, tuple[np.ndarray, object]] = {}
-        self._slots = np.full(_slots_for(self._capacity), -1, np.int32)
+        self._width = 0
+        self._first: np.ndarray | None = None
+        self._keys: np.ndarray | None = None
+        self._rows: np.ndarray | None = None
+        self._slots = np.full(_slots_for(1 << 15), -1, np.int32)
 
-    # -- per-unit arrays ---------------------------------------------------------------
+    # -- per-unit numbers ------------------------------------------------------------------
 
-    def add_array(self, name: str, dtype, width: int = 0, fill=0) -> None:
-        """Register a per-unit array (shape ``(units,)`` or ``(units, width)``)."""
-        shape = (self._capacity, width) if width else (self._capacity,)
-        self._extra[name] = (np.full(shape, fill, dtype=dtype), fill)
+    def add_columns(self, count: int) -> int:
+        """Add ``count`` columns of zeros to every unit's row; the first new column's number.
 
-    def clear_arrays(self) -> None:
-        """Set every registered per-unit array back to its fill value."""
-        for values, fill in self._extra.values():
-            values[...] = fill
+        Every column starts at zero (so fresh memory is never written before it is used): a
+        column of sums starts empty, and a column of earliest days holds
+        :func:`earliest` codes, zero meaning none.
+        """
+        if self._rows is not None:
+            raise RuntimeError("add columns before the first unit")
+        start = self._width
+        self._width += count
+        return start
 
-    def array(self, name: str) -> np.ndarray:
-        """A registered per-unit array (its first :attr:`size` rows are in use)."""
-        return self._extra[name][0]
+    def clear_columns(self) -> None:
+        """Set every added column back to zero (first days stay)."""
+        self.rows[:self.size] = 0.0
+
+    @property
+    def rows(self) -> np.ndarray:
+        """The units' rows, shape (limit, width); the first :attr:`size` are in use."""
+        self._reserve()
+        return self._rows
+
+    def _reserve(self) -> None:
+        if self._rows is None:
+            self._keys = np.zeros(self.limit, np.uint64)
+            self._first = np.zeros(self.limit)
+            self._rows = np.zeros((self.limit, self._width))
 
     @property
     def bytes_per_unit(self) -> int:
-        """Bytes held per unit at most: hash, first day, slots and the registered arrays."""
-        extra = sum(a.nbytes // max(len(a), 1) for a, _ in self._extra.values())
-        return 8 + 4 + 8 + extra
+        """Bytes held per unit at most: hash, first day, slots and the unit's row."""
+        return 8 + 8 + 8 + 8 * self._width
 
     def keys(self) -> np.ndarray:
         """The hashes of the units held."""
-        return self._keys[:self.size]
+        return self._keys[:self.size] if self._keys is not None else np.empty(0, np.uint64)
 
-    def first_days(self) -> np.ndarray:
-        """Each unit's first day (as given to :meth:`index`)."""
-        return self._first[:self.size]
+    def first_days(self, index: np.ndarray | None = None) -> np.ndarray:
+        """The first day (as given to :meth:`index`, int64) of every unit, or of the units at
+        ``index``."""
+        self._reserve()
+        codes = self._first[:self.size] if index is None else self._first[index]
+        return latest(codes).astype(np.int64)
 
     # -- lookup ------------------------------------------------------------------------
 
@@ -216,36 +278,35 @@ class UnitTable:
         A new unit's first day is its earliest day in ``days``; a known unit's first day is
         lowered when a row comes earlier (and :attr:`out_of_order` is set). With
         ``add=False`` unknown keys get −1 and first days are left alone. ``on_full()`` is
-        called before the table would grow past :attr:`limit`; it must raise the level (see
-        :meth:`raise_level`) or stop.
+        called before the table would hold more than :attr:`limit` units; it must raise the
+        level (see :meth:`raise_level`) or stop.
         """
-        unique, inverse = np.unique(keys, return_inverse=True)
-        keep = self.sampled(unique)
-        found = np.full(unique.size, -1, np.int64)
-        if keep.any():
-            found[keep] = self._find(unique[keep])
-        if add:
-            new = keep & (found < 0)
-            while new.any() and self.size + int(new.sum()) > self._room:
-                if not self._grow(on_full):
-                    keep &= self.sampled(unique)
-                    found[~keep] = -1
-                    found[keep] = self._find(unique[keep])
-                    new = keep & (found < 0)
-            before = self.size
-            if new.any():
-                found[new] = self._insert(unique[new])
-        index = found[inverse]
-        if add:
-            rows = index >= 0
-            at, day = index[rows], np.asarray(days)[rows].astype(np.int32)
-            old = self._first[at]
-            fresh = at >= before
-            if (day[~fresh] < old[~fresh]).any():
-                self.out_of_order = True
-            self._first[at[fresh]] = np.iinfo(np.int32).max
-            np.minimum.at(self._first, at, day)
-        return index
+        self._reserve()
+        keep = self.sampled(keys)
+        found = np.full(keys.size, -1, np.int64)
+        found[keep] = self._find(keys[keep])
+        if not add:
+            return found
+        new = keep & (found < 0)
+        if new.any():
+            unique, inverse = np.unique(keys[new], return_inverse=True)
+            while self.size + unique.size > self.limit:
+                if on_full is None:
+                    raise HistoryError(f"more than {self.limit:,} distinct units")
+                on_full()
+                keep = self.sampled(keys)
+                found[~keep] = -1
+                found[keep] = self._find(keys[keep])
+                new = keep & (found < 0)
+                unique, inverse = np.unique(keys[new], return_inverse=True)
+            found[new] = self._insert(unique)[inverse]
+        held = found >= 0
+        at, code = found[held], earliest(np.asarray(days, dtype=np.float64)[held])
+        known = self._first[at]
+        if ((code > known) & (known > 0)).any():
+            self.out_of_order = True
+        np.maximum.at(self._first, at, code)
+        return found
 
     def _find(self, keys: np.ndarray) -> np.ndarray:
         mask = self._slots.size - 1
@@ -266,7 +327,10 @@ class UnitTable:
         index = np.arange(self.size, self.size + keys.size)
         self._keys[index] = keys
         self.size += keys.size
-        self._place(keys, index)
+        if 2 * self.size > self._slots.size:
+            self._rebuild_slots()
+        else:
+            self._place(keys, index)
         return index
 
     def _place(self, keys: np.ndarray, index: np.ndarray) -> None:
@@ -285,49 +349,47 @@ class UnitTable:
 
     # -- growth and sampling -------------------------------------------------------------
 
-    @property
-    def _room(self) -> int:
-        return min(self._capacity, self.limit)
-
-    def _grow(self, on_full) -> bool:
-        """Double the arrays, or (at the limit) ask ``on_full`` to thin the sample."""
-        if self._capacity >= self.limit:
-            if on_full is None:
-                raise HistoryError(f"more than {self.limit:,} distinct units")
-            on_full()
-            return False
-        capacity = min(self._capacity * 2, self.limit)
-        self._keys = _resized(self._keys, capacity, 0)
-        self._first = _resized(self._first, capacity, 0)
-        for name, (values, fill) in self._extra.items():
-            self._extra[name] = (_resized(values, capacity, fill), fill)
-        self._capacity = capacity
-        self._rebuild_slots()
-        return True
-
     def raise_level(self) -> None:
-        """Keep one unit in two more (by hash) and compact every per-unit array."""
+        """Keep one unit in two more (by hash) and compact the keys and rows."""
         self.level += 1
         keep = self.sampled(self.keys())
         count = int(keep.sum())
         self._keys[:count] = self._keys[:self.size][keep]
         self._first[:count] = self._first[:self.size][keep]
-        for values, fill in self._extra.values():
-            values[:count] = values[:self.size][keep]
-            values[count:] = fill
+        self._first[count:self.size] = 0.0
+        self._rows[:count] = self._rows[:self.size][keep]
+        self._rows[count:self.size] = 0.0
         self.size = count
         self._rebuild_slots()
 
     def _rebuild_slots(self) -> None:
-        self._slots = np.full(_slots_for(self._capacity), -1, np.int32)
+        self._slots = np.full(_slots_for(self.size), -1, np.int32)
         self._place(self._keys[:self.size], np.arange(self.size))
 
 
-def _slots_for(capacity: int) -> int:
-    return 1 << max(4, int(capacity * 2 - 1).bit_length())
+_EARLY = 2.0**40
 
 
-def _resized(values: np.ndarray, rows: int, fill) -> np.ndarray:
-    out = np.full((rows, *values.shape[1:]), fill, dtype=values.dtype)
-    out[:len(values)] = values
-    return out
+def earliest(x: np.ndarray) -> np.ndarray:
+    """Codes of days (or day offsets) under which the largest code is the earliest day, all
+    codes positive, so that a column of zeros means "none yet" and ``np.maximum.at`` keeps
+    the earliest (exact for whole numbers of magnitude below 2⁴⁰).
+
+    Examples
+    --------
+    >>> latest(np.maximum(earliest(np.array([5.0])), earliest(np.array([3.0])))).tolist()
+    [3.0]
+    >>> latest(np.zeros(1)).tolist()
+    [inf]
+    """
+    return _EARLY - x
+
+
+def latest(codes: np.ndarray) -> np.ndarray:
+    """The days of :func:`earliest` codes; infinity where the code is zero (none)."""
+    return np.where(codes > 0, _EARLY - codes, np.inf)
+
+
+def _slots_for(units: int) -> int:
+    """Slots for a load of at most one half after the units double (at least 2¹⁵)."""
+    return 1 << max(15, int(4 * units - 1).bit_length())

@@ -49,7 +49,7 @@ class TrafficPass:
         if unit == time:
             raise HistoryError(f"column {unit!r} cannot be both the unit and the time")
         self.unit, self.time = unit, time
-        self.table = UnitTable(limit=1 << 62)
+        self.table = UnitTable(limit=1 << 40)
         self.exposure = Exposure(mapping, self.table)
         self.table.limit = max(16, int(unit_memory) // self.table.bytes_per_unit)
         self.days = DayReader(time)
@@ -92,8 +92,7 @@ class TrafficPass:
         self.exposure.clear()
 
     def _sum(self, index: np.ndarray, days: np.ndarray, value) -> None:
-        first = self.table.first_days()
-        offset = days - first[np.maximum(index, 0)]
+        offset = days - self.table.first_days(np.maximum(index, 0))
         self.exposure.add(index, offset, value)
 
     def _span(self, days: np.ndarray) -> None:
