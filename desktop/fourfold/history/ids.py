@@ -6,11 +6,11 @@ vectorised over the UTF-8 bytes of a chunk's ids), and :class:`UnitTable` keeps,
 hash, a dense index, the unit's first day and whatever per-unit arrays its user registers
 (:mod:`fourfold.history.exposure` keeps the sums of each unit's first days there).
 
-Memory: 8 bytes per unit for the hash, 4 for the first day and at most 8 for the open-addressing
-slots (int32, load at most one half), so **10⁷ distinct ids take about 200 MB** (80 MB of
-hashes, 40 MB of first days, 64–128 MB of slots, depending on where the table last doubled).
-Two different ids share a hash with probability about n²/2⁶⁵ over the whole file (3·10⁻⁶ for
-n = 10⁷); the two units would then count as one.
+Memory: 8 bytes per unit for the hash, 4 for the first day and 8 to 16 for the slots of the
+open-addressing table (int32, rebuilt when half full), so **10⁷ distinct ids take 200 to
+280 MB** (80 MB of hashes, 40 MB of first days, 80–160 MB of slots). Two different ids share a
+hash with probability about n²/2⁶⁵ over the whole file (3·10⁻⁶ for n = 10⁷); the two units
+would then count as one.
 
 The table holds at most ``limit`` units. Past that, it keeps a *sample* of units chosen by their
 hash (level k keeps the units whose bits 32…32+k−1 are all zero, one in 2ᵏ): raising the level
@@ -220,9 +220,7 @@ class UnitTable:
     def add_columns(self, count: int) -> int:
         """Add ``count`` columns of zeros to every unit's row; the first new column's number.
 
-        Every column starts at zero (so fresh memory is never written before it is used): a
-        column of sums starts empty, and a column of earliest days holds
-        :func:`earliest` codes, zero meaning none.
+        Every column starts at zero, so fresh memory is not written before it is used.
         """
         if self._rows is not None:
             raise RuntimeError("add columns before the first unit")
@@ -243,13 +241,13 @@ class UnitTable:
     def _reserve(self) -> None:
         if self._rows is None:
             self._keys = np.zeros(self.limit, np.uint64)
-            self._first = np.zeros(self.limit)
+            self._first = np.zeros(self.limit, np.int32)
             self._rows = np.zeros((self.limit, self._width))
 
     @property
     def bytes_per_unit(self) -> int:
         """Bytes held per unit at most: hash, first day, slots and the unit's row."""
-        return 8 + 8 + 8 + 8 * self._width
+        return 8 + 4 + 16 + 8 * self._width
 
     def keys(self) -> np.ndarray:
         """The hashes of the units held."""
@@ -260,7 +258,7 @@ class UnitTable:
         ``index``."""
         self._reserve()
         codes = self._first[:self.size] if index is None else self._first[index]
-        return latest(codes).astype(np.int64)
+        return latest(codes)
 
     # -- lookup ------------------------------------------------------------------------
 
@@ -301,7 +299,7 @@ class UnitTable:
                 unique, inverse = np.unique(keys[new], return_inverse=True)
             found[new] = self._insert(unique)[inverse]
         held = found >= 0
-        at, code = found[held], earliest(np.asarray(days, dtype=np.float64)[held])
+        at, code = found[held], earliest(np.asarray(days)[held])
         known = self._first[at]
         if ((code > known) & (known > 0)).any():
             self.out_of_order = True
@@ -356,7 +354,7 @@ class UnitTable:
         count = int(keep.sum())
         self._keys[:count] = self._keys[:self.size][keep]
         self._first[:count] = self._first[:self.size][keep]
-        self._first[count:self.size] = 0.0
+        self._first[count:self.size] = 0
         self._rows[:count] = self._rows[:self.size][keep]
         self._rows[count:self.size] = 0.0
         self.size = count
@@ -367,29 +365,28 @@ class UnitTable:
         self._place(self._keys[:self.size], np.arange(self.size))
 
 
-_EARLY = 2.0**40
+_EARLY = np.int32(1 << 30)
 
 
-def earliest(x: np.ndarray) -> np.ndarray:
-    """Codes of days (or day offsets) under which the largest code is the earliest day, all
-    codes positive, so that a column of zeros means "none yet" and ``np.maximum.at`` keeps
-    the earliest (exact for whole numbers of magnitude below 2⁴⁰).
+def earliest(days: np.ndarray) -> np.ndarray:
+    """int32 codes of whole day numbers (|day| < 2³⁰) under which the largest code is the
+    earliest day and every code is positive, so that zeros mean "no day yet" and
+    ``np.maximum.at`` keeps the earliest.
 
     Examples
     --------
-    >>> latest(np.maximum(earliest(np.array([5.0])), earliest(np.array([3.0])))).tolist()
-    [3.0]
-    >>> latest(np.zeros(1)).tolist()
-    [inf]
+    >>> latest(np.maximum(earliest(np.array([5])), earliest(np.array([3])))).tolist()
+    [3]
     """
-    return _EARLY - x
+    return (_EARLY - np.asarray(days, dtype=np.int64)).astype(np.int32)
 
 
 def latest(codes: np.ndarray) -> np.ndarray:
-    """The days of :func:`earliest` codes; infinity where the code is zero (none)."""
-    return np.where(codes > 0, _EARLY - codes, np.inf)
+    """The days of :func:`earliest` codes (int64)."""
+    return _EARLY - np.asarray(codes, dtype=np.int64)
 
 
 def _slots_for(units: int) -> int:
-    """Slots for a load of at most one half after the units double (at least 2¹⁵)."""
+    """Slots for a load of a quarter to a half (at least 2¹⁵): the table is rebuilt at a
+    half, so slots take 8 to 16 bytes per unit."""
     return 1 << max(15, int(4 * units - 1).bit_length())
