@@ -61,8 +61,9 @@ class ReachCurve:
 
     Attributes
     ----------
-    first_day : int
-        Day 1 as a day number (days since 1970-01-01 when the file holds dates).
+    first_day : int or None
+        Day 1 as a day number (days since 1970-01-01 when the file holds dates); None when not
+        known (a warehouse result without it).
     units : tuple of int
         ``units[k]`` units were first seen on days 1 … k + 1.
     exact : bool
@@ -78,7 +79,7 @@ class ReachCurve:
     (3, '2026-03-01', {'day': 3, 'units': 251})
     """
 
-    first_day: int
+    first_day: int | None
     units: tuple[int, ...]
     exact: bool
     relative_error: float
@@ -92,6 +93,8 @@ class ReachCurve:
     @property
     def start(self) -> str:
         """Day 1 as an ISO date (or "day N" for day numbers)."""
+        if self.first_day is None:
+            return "day 1"
         if not self.dates:
             return f"day {self.first_day}"
         import datetime as dt

@@ -1,19 +1,21 @@
-"""The same import for data that lives in a warehouse: portable SQL and its result read back.
+"""The same import for data that lives in a warehouse: its query, and its result read back.
 
-:func:`warehouse_sql` writes one aggregate query for a column mapping — ``COUNT``, ``AVG``,
-``VAR_SAMP`` and ``COVAR_SAMP`` per metric, over the units where the metric's columns are
-filled in (the moments the delta method and ρ need) — using only standard SQL, with every
-identifier double-quoted. Run it in the warehouse, paste or save its result, and
-:func:`read_warehouse_result` turns it into the same :class:`HistorySummary` as the file
-import. A result with several rows (one per partition or day, from ``group_by``) is merged
-exactly with the same moment merges as the file import's chunks.
+:func:`warehouse_sql` writes the aggregate query of :mod:`fourfold.history.sql` (a sqlglot
+syntax tree rendered in the warehouse's dialect): per metric ``COUNT``, ``AVG`` and the sample
+variance over the units where the metric's columns are filled in (the moments the delta method
+and ρ need); with a unit and a time column also the reach curve and the windows. Run it in the
+warehouse — or let Fourfold run it (:mod:`fourfold.history.connect`, :mod:`fourfold.history
+.duckdb_files`) — and :func:`read_warehouse_result` or :func:`read_warehouse_rows` turn its
+result into the same :class:`HistorySummary` as the file import. Every result, pasted, saved or
+fetched, goes through the same cell checks. Rows of several partitions (``group_by``) are
+merged exactly with the same moment merges as the file import's chunks.
 
 Caps are percentiles, which do not merge across partitions; map capped metrics with the file
 import instead (or cap in the warehouse and map the capped column).
 
-Every value is cast to ``DOUBLE PRECISION`` (so that integer columns average as decimals); a
-proportion column must be numeric 0/1 — some warehouses cannot cast a boolean to a float, so
-cast a boolean column to an integer in a view first.
+Every value is cast to a double (so that integer columns average as decimals); a proportion
+column must be numeric 0/1 or a boolean the warehouse casts to 0/1 — the result counts the
+cells that are not (``bad``), and reading refuses them as the file import does.
 
 References
 ----------
@@ -27,127 +29,47 @@ import csv
 import io
 import math
 import os
-import re
 from collections.abc import Sequence
 from pathlib import Path
 
 from fourfold.history.errors import HistoryError
+from fourfold.history.exposure import ReachCurve, WindowSummary
 from fourfold.history.moments import CoMoments, Moments
+from fourfold.history.sql import (
+    AT,
+    DAY_ONE,
+    ROWS,
+    SECTION,
+    alias,
+    check_mapping,
+    history_query,
+)
 from fourfold.history.summary import ColumnMap, HistorySummary, Tally, finish
 
 _MAX_RESULT_BYTES = 1 << 20
-
-
-def quote_identifier(name: str) -> str:
-    """A double-quoted SQL identifier (embedded quotes doubled).
-
-    Examples
-    --------
-    >>> print(quote_identifier('odd "name" here'))
-    "odd ""name"" here"
-    """
-    if not isinstance(name, str) or not name or "\x00" in name:
-        raise HistoryError(f"an SQL identifier must be non-empty text, not {name!r}")
-    return '"' + name.replace('"', '""') + '"'
-
-
-def quote_table(table: str | Sequence[str]) -> str:
-    """A qualified table name, each dot-separated part quoted.
-
-    Examples
-    --------
-    >>> quote_table("analytics.visits_2026")
-    '"analytics"."visits_2026"'
-    """
-    parts = table.split(".") if isinstance(table, str) else list(table)
-    if not parts or any(not part.strip() for part in parts):
-        raise HistoryError(f"table must be a name like schema.table, not {table!r}")
-    return ".".join(quote_identifier(part.strip()) for part in parts)
-
-
-def _alias(index: int, spec: ColumnMap, what: str) -> str:
-    slug = re.sub(r"[^a-z0-9]+", "_", spec.name.lower()).strip("_")[:40] or "metric"
-    return f"m{index + 1}_{slug}_{what}"
-
-
-def _value(column: str) -> str:
-    return f"CAST({quote_identifier(column)} AS DOUBLE PRECISION)"
-
-
-def _when_both(value: str, left: str, right: str) -> str:
-    return (f"CASE WHEN {quote_identifier(left)} IS NOT NULL AND {quote_identifier(right)} "
-            f"IS NOT NULL THEN {value} END")
-
-
-def _select_items(index: int, spec: ColumnMap) -> list[tuple[str, str]]:
-    items: list[tuple[str, str]] = []
-    if spec.kind != "ratio":
-        x = _value(spec.column)
-        items += [(f"COUNT({x})", "n"), (f"AVG({x})", "mean"), (f"VAR_SAMP({x})", "var")]
-    other = spec.denominator if spec.kind == "ratio" else spec.pre
-    if other is not None:
-        x = _when_both(_value(other), other, spec.column)
-        y = _when_both(_value(spec.column), other, spec.column)
-        items += [
-            (f"COUNT({y})", "pairs"),
-            (f"AVG({x})", "mean_x"),
-            (f"AVG({y})", "mean_y"),
-            (f"VAR_SAMP({x})", "var_x"),
-            (f"VAR_SAMP({y})", "var_y"),
-            (f"COVAR_SAMP({_value(other)}, {_value(spec.column)})", "cov"),
-        ]
-    return [(expression, _alias(index, spec, what)) for expression, what in items]
-
-
-def _check(mapping: Sequence[ColumnMap]) -> list[ColumnMap]:
-    mapping = list(mapping)
-    if not mapping:
-        raise HistoryError("map at least one column to a metric")
-    for spec in mapping:
-        if spec.cap is not None:
-            raise HistoryError(
-                f"column {spec.column!r}: caps are percentiles, which do not merge across "
-                "partitions; cap in the warehouse or import the file instead"
-            )
-    return mapping
+_check = check_mapping
+_alias = alias
 
 
 def warehouse_sql(mapping: Sequence[ColumnMap], table: str | Sequence[str], *,
-                  group_by: str | None = None) -> str:
-    """One standard-SQL aggregate query giving every moment the mapping needs.
-
-    Parameters
-    ----------
-    mapping : sequence of ColumnMap
-        As for the file import (no caps).
-    table : str or sequence of str
-        The table, ``schema.table`` or its parts; each part is quoted.
-    group_by : str, optional
-        A partition column (e.g. the day): the query then gives one row per partition, and
-        :func:`read_warehouse_result` merges them.
+                  group_by: str | None = None, dialect: str | None = None,
+                  unit: str | None = None, time: str | None = None) -> str:
+    """The history query for ``table`` (see :func:`fourfold.history.sql.history_query`).
 
     Examples
     --------
     >>> print(warehouse_sql([ColumnMap("mean", "spend")], "shop.visits"))
     SELECT
+      'all' AS "section",
+      NULL AS "at",
       COUNT(*) AS "rows",
       COUNT(CAST("spend" AS DOUBLE PRECISION)) AS "m1_spend_n",
       AVG(CAST("spend" AS DOUBLE PRECISION)) AS "m1_spend_mean",
       VAR_SAMP(CAST("spend" AS DOUBLE PRECISION)) AS "m1_spend_var"
     FROM "shop"."visits"
     """
-    mapping = _check(mapping)
-    items = [("COUNT(*)", "rows")]
-    if group_by is not None:
-        items.insert(0, (quote_identifier(group_by), "part"))
-    for index, spec in enumerate(mapping):
-        items += _select_items(index, spec)
-    select = ",\n".join(f"  {expression} AS {quote_identifier(alias)}"
-                        for expression, alias in items)
-    sql = f"SELECT\n{select}\nFROM {quote_table(table)}"
-    if group_by is not None:
-        sql += f"\nGROUP BY {quote_identifier(group_by)}"
-    return sql
+    return history_query(mapping, table, dialect=dialect, group_by=group_by, unit=unit,
+                         time=time)
 
 
 def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
@@ -167,22 +89,146 @@ def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
     """
     mapping = _check(mapping)
     header, rows = _table(text, source)
+    return summary_from_rows(header, rows, mapping, source)
+
+
+def read_warehouse_rows(columns: Sequence[str], records, mapping: Sequence[ColumnMap], *,
+                        source: str = "query result") -> HistorySummary:
+    """:func:`read_warehouse_result` of rows fetched from a database (SQLAlchemy, DuckDB).
+
+    Each value is written as the text a result file would hold and read with the same checks.
+
+    Examples
+    --------
+    >>> rows = [("all", None, 10, 8, 2.5, 4.0), ("all", None, 6, 6, 4.0, 1.0)]
+    >>> names = ["section", "at", "rows", "m1_spend_n", "m1_spend_mean", "m1_spend_var"]
+    >>> read_warehouse_rows(names, rows, [ColumnMap("mean", "spend")])["spend"].n
+    14
+    """
+    mapping = _check(mapping)
+    header = [str(name).strip().lower() for name in columns]
+    rows = [(number, [_text(value) for value in record])
+            for number, record in enumerate(records, start=2)]
+    return summary_from_rows(header, rows, mapping, source)
+
+
+def _text(value) -> str:
+    """A database value as a result file would write it (empty for NULL)."""
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "1" if value else "0"
+    if isinstance(value, float):
+        return repr(value)
+    if hasattr(value, "isoformat"):
+        return value.isoformat()
+    return str(value)
+
+
+def summary_from_rows(header: list[str], rows: list[tuple[int, list[str]]],
+                      mapping: list[ColumnMap], source: str) -> HistorySummary:
+    """The summary of a result's rows (each with its line number), by section."""
     if not rows:
         raise HistoryError(f"{source}: there is a header line but no result row")
+    sections: dict[str, list] = {"all": [], "reach": [], "window": []}
+    at_index = header.index(SECTION) if SECTION in header else None
+    for line, row in rows:
+        name = row[at_index].strip().lower() if at_index is not None and at_index < len(
+            row) else "all"
+        if name not in sections:
+            raise HistoryError(f"{source}: line {line} is of an unknown section {name!r}")
+        sections[name].append((line, dict(zip(header, row, strict=False))))
+    if not sections["all"]:
+        raise HistoryError(f"{source}: no line of the whole history (section 'all')")
     tallies = [Tally() for _ in mapping]
     total = 0
-    for line, row in rows:
-        cells = dict(zip(header, row, strict=False))
+    length = first = None
+    for line, cells in sections["all"]:
+        def get(name: str, line=line, cells=cells) -> float:
+            return _cell(cells, name, source, line)
 
-        def get(alias: str, line=line, cells=cells) -> float:
-            return _cell(cells, alias, source, line)
-
-        part_rows = get("rows")
+        part_rows = get(ROWS)
         total += int(part_rows)
+        if AT in cells and cells[AT].strip() not in ("", "NULL", "null"):
+            length = _day(get(AT), AT, source, line)
+            first = _date(cells.get(DAY_ONE, ""), source, line)
         for index, spec in enumerate(mapping):
+            _check_bad(index, spec, get, cells, source, line)
             tallies[index] = tallies[index].merge(_part_tally(index, spec, get, part_rows))
     metrics = tuple(finish(spec, tally) for spec, tally in zip(mapping, tallies, strict=True))
-    return HistorySummary(source, total, metrics)
+    if not sections["reach"] and not sections["window"]:
+        return HistorySummary(source, total, metrics)
+    reach = _reach(sections["reach"], length, first, source)
+    windows = tuple(_window(line, cells, mapping, source)
+                    for line, cells in sorted(sections["window"],
+                                              key=lambda item: float(item[1].get(AT) or 0)))
+    return HistorySummary(source, total, metrics, reach, windows)
+
+
+def _check_bad(index: int, spec: ColumnMap, get, cells: dict, source: str, line: int) -> None:
+    if spec.kind not in ("proportion", "count"):
+        return
+    name = alias(index, spec, "bad")
+    if name not in cells:
+        return  # a result of a query written before these checks
+    bad = get(name)
+    if not math.isnan(bad) and bad > 0:
+        what = "0/1 (or true/false)" if spec.kind == "proportion" else "a count (0, 1, 2, …)"
+        raise HistoryError(f"{source}: column {spec.column!r} has {int(bad):,} values that are "
+                           f"not {what} (column {name!r} on line {line})")
+
+
+def _day(value: float, name: str, source: str, line: int) -> int:
+    if math.isnan(value) or value < 1 or value != math.floor(value) or value > 1e5:
+        raise HistoryError(f"{source}: column {name!r} on line {line} must be a day (1, 2, …)")
+    return int(value)
+
+
+def _date(text: str, source: str, line: int) -> int | None:
+    """Days since 1970-01-01 of a ``YYYY-MM-DD`` cell (None when empty)."""
+    import datetime as dt
+
+    text = text.strip()
+    if text in ("", "NULL", "null"):
+        return None
+    try:
+        return (dt.date.fromisoformat(text[:10]) - dt.date(1970, 1, 1)).days
+    except ValueError:
+        raise HistoryError(f"{source}: column {DAY_ONE!r} on line {line} must be a date "
+                           f"(YYYY-MM-DD), not {text[:40]!r}") from None
+
+
+def _reach(lines, length: int | None, first: int | None, source: str) -> ReachCurve:
+    """The cumulative reach from the rows of new units per day."""
+    new: dict[int, int] = {}
+    for line, cells in lines:
+        day = _day(_cell(cells, AT, source, line), AT, source, line)
+        if day in new:
+            raise HistoryError(f"{source}: day {day} appears twice in the reach (line {line})")
+        new[day] = int(_cell(cells, ROWS, source, line))
+    days = max([length or 0, *new])
+    if new and max(new) > days:
+        raise HistoryError(f"{source}: the reach goes past the history's {days} days")
+    units, running = [], 0
+    for day in range(1, days + 1):
+        running += new.get(day, 0)
+        units.append(running)
+    return ReachCurve(first, tuple(units), True, 0.0, first is not None)
+
+
+def _window(line: int, cells: dict, mapping: list[ColumnMap], source: str) -> WindowSummary:
+    def get(name: str) -> float:
+        return _cell(cells, name, source, line)
+
+    days = _day(get(AT), AT, source, line)
+    units = int(get(ROWS))
+    metrics, problems = [], {}
+    for index, spec in enumerate(mapping):
+        try:
+            metrics.append(finish(spec, _part_tally(index, spec, get, units)))
+        except HistoryError as error:
+            problems[spec.name] = str(error)
+    return WindowSummary(days, units, tuple(metrics), problems)
 
 
 def read_warehouse_file(path: str | os.PathLike, mapping: Sequence[ColumnMap]) -> HistorySummary:
