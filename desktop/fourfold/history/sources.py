@@ -73,7 +73,7 @@ def summarise(data: str | os.PathLike, mapping: Sequence[ColumnMap], *, engine: 
     if chosen == "stream":
         return read_history(data, mapping, unit=unit, time=time, progress=progress,
                             cancel=cancel, **stream_options)
-    from fourfold.history.duckdb_files import read_with_duckdb
+    from fourfold.history.duckdb_files import is_glob, read_with_duckdb
 
     try:
         return read_with_duckdb(str(data), mapping, unit=unit, time=time, progress=progress,
@@ -81,7 +81,7 @@ def summarise(data: str | os.PathLike, mapping: Sequence[ColumnMap], *, engine: 
     except HistoryCancelled:
         raise
     except HistoryError:
-        if engine == "duckdb":
+        if engine == "duckdb" or is_glob(str(data)):
             raise
         return read_history(data, mapping, unit=unit, time=time, progress=progress,
                             cancel=cancel, **stream_options)
