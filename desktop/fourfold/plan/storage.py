@@ -2,9 +2,13 @@
 
 A plan file is one JSON object::
 
-    {"format": "fourfold-plan", "schema_version": 1,
+    {"format": "fourfold-plan", "schema_version": 2,
      "settings": {...every Settings field...},
      "metrics": [{...every Metric field...}, ...]}
+
+Version 2 added the settings ``allocation`` and ``correction: "dunnett"`` and the metric fields
+``unit``, ``better`` and those of the ratio and quantile kinds; a version 1 file has none of
+them and opens unchanged, every new field at its default.
 
 On reading, every value goes through :func:`fourfold.plan.fields.validate_field`; a missing
 field takes its default (except a metric's ``name``, ``kind`` and ``baseline``), an unknown
@@ -33,7 +37,7 @@ from fourfold.plan.fields import (
 from fourfold.plan.model import Metric, Plan, Settings
 
 FORMAT = "fourfold-plan"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
 
 
