@@ -502,6 +502,7 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
             f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
         )
     notes.extend(sequential.plan_notes(plan, rows, designs))
+    notes.extend(kinds.tail_notes(plan.metrics, rows))
     deciding, secondary = [], []  # computed rows that solve for sample size, by role
     for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True)):
         if row.reason:

@@ -146,6 +146,39 @@ def quantile_name(metric: Metric) -> str:
     return f"p{100 * metric.quantile_level:.6g}"
 
 
+def tail_notes(metrics: list[Metric], rows) -> list[str]:
+    """A caution for each quantile row with few units beyond its quantile.
+
+    The closed form of a quantile rests on the sample quantile being nearly normal, which
+    needs many units per arm beyond it: fewer than ``MIN_TAIL_UNITS`` expected in the smaller
+    arm (n·min(p, 1 − p)) gets a note that points to the simulation check.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace
+    >>> from fourfold.plan.model import Metric
+    >>> row = Metric(name="Load p99.9", kind="quantile", quantile_level=0.999)
+    >>> print(*tail_notes([row], [SimpleNamespace(units_control=2000.0,
+    ...                                           units_treatment=2000.0)]))
+    ... # doctest: +NORMALIZE_WHITESPACE
+    Load p99.9: about 2 units per arm lie beyond its p99.9; the closed form needs about 100,
+    so check this row by simulation.
+    """
+    notes = []
+    for metric, row in zip(metrics, rows, strict=True):
+        if metric.kind != "quantile" or metric.quantile_level is None:
+            continue
+        n = min(row.units_control, row.units_treatment)
+        if not np.isfinite(n):
+            continue
+        beyond = n * min(metric.quantile_level, 1.0 - metric.quantile_level)
+        if beyond < engine.quantile.MIN_TAIL_UNITS:
+            notes.append(f"{metric.name}: about {beyond:.3g} units per arm lie beyond its "
+                         f"{quantile_name(metric)}; the closed form needs about "
+                         f"{engine.quantile.MIN_TAIL_UNITS}, so check this row by simulation.")
+    return notes
+
+
 def guardrail_direction(better: str, margin: float) -> tuple[str, float]:
     """The alternative and margin of a guardrail row whose metric is better ``better``.
 
