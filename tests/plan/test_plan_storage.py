@@ -204,7 +204,8 @@ def test_sample_plan_loads_and_is_the_invented_scenario():
     assert plan.settings.arms == 2 and plan.settings.daily_units == 42_000
     assert plan.settings.share == 0.6 and plan.settings.whole_weeks
     roles = [metric.role for metric in plan.metrics]
-    assert roles.count("primary") == 1 and roles.count("guardrail") == 2 and len(roles) == 6
+    assert roles.count("primary") == 1 and roles.count("guardrail") == 3 and len(roles) == 7
+    assert {"mean", "proportion", "rate", "ratio", "quantile"} == {m.kind for m in plan.metrics}
     assert path.read_text(encoding="utf-8") == dumps(plan)
 
 

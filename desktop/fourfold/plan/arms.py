@@ -99,11 +99,13 @@ class Saving:
         return self.equal_days - self.days
 
 
-def equal_allocation_saving(plan: Plan, result=None) -> Saving | None:
+def equal_allocation_saving(plan: Plan, result=None, cache=None) -> Saving | None:
     """What the plan's allocation saves against equal allocation, for the binding metric.
 
     ``None`` when the allocation is already equal, or when either plan has no binding metric
-    (a runtime plan, or no row that decides the duration).
+    (a runtime plan, or no row that decides the duration). ``cache`` is a
+    :class:`~fourfold.plan.evaluation.RowCache` kept for the equal plan by a caller that asks
+    again after every edit (the window).
 
     Examples
     --------
@@ -123,7 +125,7 @@ def equal_allocation_saving(plan: Plan, result=None) -> Saving | None:
     result = compute(plan) if result is None else result
     equal = Plan(dataclasses.replace(plan.settings, allocation="fixed", ratio=1.0),
                  plan.metrics)
-    other = compute(equal)
+    other = compute(equal, cache=cache)
     if result.total_units is None or other.total_units is None or \
             plan.settings.runtime_days is not None:
         return None

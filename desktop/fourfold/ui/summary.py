@@ -9,6 +9,8 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QSizePolicy
 
 from fourfold.formatting import format_count, format_number
+from fourfold.plan.arms import equal_allocation_saving
+from fourfold.plan.evaluation import RowCache
 from fourfold.ui.document import PlanDocument
 
 
@@ -39,6 +41,7 @@ class SummaryBar(QFrame):
         super().__init__(parent)
         self.setObjectName("summaryBar")
         self.document = document
+        self._equal_cache = RowCache()
         layout = QHBoxLayout(self)
         layout.setContentsMargins(12, 6, 12, 6)
         layout.setSpacing(28)
@@ -63,6 +66,19 @@ class SummaryBar(QFrame):
         return tuple(label.text().replace("<b>", "").replace("</b>", "")
                      for label in (self.duration, self.units, self.binding))
 
+    def _saving_text(self, result) -> str:
+        """What a √k split saves against an equal one ("" for any other split)."""
+        plan = self.document.plan
+        if plan.settings.allocation != "sqrt-k":
+            return ""
+        saving = equal_allocation_saving(plan, result, self._equal_cache)
+        if saving is None:
+            return ""
+        text = f" (√k split: {format_count(saving.units_saved)} fewer"
+        if math.isfinite(saving.days_saved):
+            text += f", {format_number(saving.days_saved, sig=3)} days sooner"
+        return text + " than an equal split)"
+
     def refresh(self) -> None:
         """Show the document's current result."""
         result = self.document.result
@@ -83,7 +99,7 @@ class SummaryBar(QFrame):
                 text += f" at most, {format_number(expected, sig=2)} days expected"
         self.duration.setText(text)
         total = format_count(result.total_units) if result.total_units is not None else "—"
-        self.units.setText(f"Total units <b>{total}</b>")
+        self.units.setText(f"Total units <b>{total}</b>{self._saving_text(result)}")
         if result.binding_name:
             row = result.binding_index + 1
             self.binding.setText(f"Binding metric <b>▶ {result.binding_name}</b> (row {row})")

@@ -9,11 +9,18 @@ from __future__ import annotations
 
 from PySide6.QtCore import Qt
 
-from fourfold.plan import CHOICES
+from fourfold.plan import CHOICES, kinds
 from fourfold.ui import cells, simulation_cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, TEXT
 
 ROLE = Qt.ItemDataRole
+
+DERIVED_SD_TIPS = {
+    "ratio": "Derived from the numerator's and denominator's means, sds and correlation by the "
+             "delta method (not typed)",
+    "quantile": "Derived from the quantile's level and the density there: √(p(1 − p)) / "
+                "density (not typed)",
+}
 
 
 class TableDisplay:
@@ -48,7 +55,12 @@ class TableDisplay:
             return self._default_text(key)
         if value is None and key == "sd" and metric.kind == "rate":
             return "= mean"
-        return cells.show_value(metric, key, value)
+        if key == "sd" and metric.kind in kinds.DERIVED_SD:
+            return cells.show_value(metric, key, kinds.unit_sd(metric), with_unit=True) \
+                or cells.DASH
+        if col.kind is not None and metric.kind != col.kind:
+            return ""
+        return cells.show_value(metric, key, value, with_unit=True)
 
     def edit_text(self, row: int, column: int) -> str:
         """The text an editor starts with (empty for unset optional values)."""
@@ -81,6 +93,13 @@ class TableDisplay:
             return metric.notes
         if col.key == "method" and metric.method is None:
             return f"The usual method for a {metric.kind} (choose another to override it)"
+        if col.key == "sd" and metric.kind in kinds.DERIVED_SD:
+            return DERIVED_SD_TIPS[metric.kind]
+        if col.kind is not None and metric.kind != col.kind:
+            return f"Used by {col.kind} rows only"
+        if col.key == "better" and metric.role == "guardrail":
+            margin = cells.show_value(metric, "margin", abs(metric.margin), with_unit=True)
+            return f"This guardrail {kinds.direction_words(metric, margin)}"
         if self.is_solved(row, column):
             return "The quantity this row solves for"
         if col.key == "name" and reason:
