@@ -499,7 +499,9 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
         primaries = sum(1 for metric in plan.metrics if metric.role == "primary")
         notes.append(
             f"α corrected ({settings.correction}): primary rows for {settings.arms} arm(s) × "
-            f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
+            f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)"
+            + (" (Dunnett's critical value over the arms, Bonferroni over the metrics)."
+               if settings.correction == "dunnett" else ".")
         )
     notes.extend(sequential.plan_notes(plan, rows, designs))
     notes.extend(kinds.tail_notes(plan.metrics, rows))

@@ -95,28 +95,6 @@ COLUMNS: tuple[Column, ...] = (
     Column("better", "Better\nwhen", "Which way the metric improves. A guardrail tests that it "
            "does not get worse: choosing this sets its direction and the side of its margin.",
            editor=CHOICE, width=7),
-    Column("unit", "Unit", "The metric's unit as written after a value (ms, $, items); shown "
-           "beside its numbers, on the plots' axes and in the report.", editor=TEXT, width=5),
-    Column("denominator", "Denom.\nmean", "Ratio rows: the denominator's mean per unit "
-           "(orders per visitor); the numerator's mean is the baseline times it.",
-           optional=True, width=7, kind="ratio"),
-    Column("numerator_sd", "Numer.\nSD", "Ratio rows: the sd of one unit's numerator (items "
-           "per visitor).", optional=True, width=6, kind="ratio"),
-    Column("denominator_sd", "Denom.\nSD", "Ratio rows: the sd of one unit's denominator "
-           "(orders per visitor).", optional=True, width=6, kind="ratio"),
-    Column("correlation", "Corr.", "Ratio rows: the correlation of a unit's numerator and "
-           "denominator. With the sds it gives the ratio's variance by the delta method.",
-           optional=True, width=5, kind="ratio"),
-    Column("quantile_level", "Quantile", "Quantile rows: which quantile the baseline is "
-           "(95 for the p95).", optional=True, width=6, kind="quantile"),
-    Column("density", "Density", "Quantile rows: the density at the quantile, per unit of the "
-           "metric (the history import estimates it). Empty: from the log-normal through the "
-           "baseline and the second percentile.", optional=True, width=6, kind="quantile"),
-    Column("second_level", "2nd\nquantile", "Quantile rows: a second percentile of the metric "
-           "(50 for the median) that fixes an assumed log-normal with the baseline.",
-           optional=True, width=6, kind="quantile"),
-    Column("second_value", "2nd\nvalue", "Quantile rows: the metric's value at the second "
-           "percentile (the median, say).", optional=True, width=6, kind="quantile"),
     Column("solve", "Solve\nfor", "Which quantity this row computes from the others: sample "
            "size, detectable effect, power or α.", editor=CHOICE, width=12),
     Column("units_control", "Control\nunits", "Units the control arm needs (or has), rounded up "
@@ -145,6 +123,28 @@ COLUMNS: tuple[Column, ...] = (
            "average if the effect is real.", group=OUTPUT, width=6, sequential=True),
     Column("look_days", "Look\ndays", "With interim looks: the day of each analysis; the last "
            "one is the longest the test may run.", group=OUTPUT, width=12, sequential=True),
+    Column("unit", "Unit", "The metric's unit as written after a value (ms, $, items); shown "
+           "beside its numbers, on the plots' axes and in the report.", editor=TEXT, width=5),
+    Column("denominator", "Denom.\nmean", "Ratio rows: the denominator's mean per unit "
+           "(orders per visitor); the numerator's mean is the baseline times it.",
+           optional=True, width=7, kind="ratio"),
+    Column("numerator_sd", "Numer.\nSD", "Ratio rows: the sd of one unit's numerator (items "
+           "per visitor).", optional=True, width=6, kind="ratio"),
+    Column("denominator_sd", "Denom.\nSD", "Ratio rows: the sd of one unit's denominator "
+           "(orders per visitor).", optional=True, width=6, kind="ratio"),
+    Column("correlation", "Corr.", "Ratio rows: the correlation of a unit's numerator and "
+           "denominator. With the sds it gives the ratio's variance by the delta method.",
+           optional=True, width=5, kind="ratio"),
+    Column("quantile_level", "Quantile", "Quantile rows: which quantile the baseline is "
+           "(95 for the p95).", optional=True, width=6, kind="quantile"),
+    Column("density", "Density", "Quantile rows: the density at the quantile, per unit of the "
+           "metric (the history import estimates it). Empty: from the log-normal through the "
+           "baseline and the second percentile.", optional=True, width=6, kind="quantile"),
+    Column("second_level", "2nd\nquantile", "Quantile rows: a second percentile of the metric "
+           "(50 for the median) that fixes an assumed log-normal with the baseline.",
+           optional=True, width=6, kind="quantile"),
+    Column("second_value", "2nd\nvalue", "Quantile rows: the metric's value at the second "
+           "percentile (the median, say).", optional=True, width=6, kind="quantile"),
     Column("method", "Method", "The test statistic used for this kind. Empty: the usual one "
            "for the kind.", editor=CHOICE, width=7),
     Column("alpha", "α", "This row's significance level; empty uses the plan's default "

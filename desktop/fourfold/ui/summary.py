@@ -74,7 +74,7 @@ class SummaryBar(QFrame):
         saving = equal_allocation_saving(plan, result, self._equal_cache)
         if saving is None:
             return ""
-        text = f" (√k split: {format_count(saving.units_saved)} fewer"
+        text = f" (√k split: {format_count(saving.units_saved)} fewer units"
         if math.isfinite(saving.days_saved):
             text += f", {format_number(saving.days_saved, sig=3)} days sooner"
         return text + " than an equal split)"
