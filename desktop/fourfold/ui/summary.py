@@ -109,6 +109,6 @@ class SummaryBar(QFrame):
             self.binding.setText("No binding metric (no primary or guardrail row sized)")
         count = len(result.notes)
         self.notes.setText(f"{count} note{'s' if count != 1 else ''} (hover)" if count else "")
-        items = "".join(f"<li>{html.escape(note)}</li>" for note in result.notes)
+        items = "".join(f"<li>{html.escape(note, quote=False)}</li>" for note in result.notes)
         self.notes.setToolTip(f"<ul>{items}</ul>" if count else "")
         self.setToolTip("\n".join(result.notes))
