@@ -35,7 +35,7 @@ from fourfold.plan.fields import (
     validate_field,
     validate_metric,
 )
-from fourfold.plan.model import Metric, Plan
+from fourfold.plan.model import Metric, Plan, new_row_id
 
 CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "rows_reordered",
                 "settings", "reset")
@@ -94,6 +94,28 @@ def _check_row(plan: Plan, row: int, *, end: bool = False, count: int | None = N
     return row
 
 
+def _identified(plan: Plan, metrics: list[Metric], ids: list[str] | None) -> list[str]:
+    """Give new rows ids no row or scenario of ``plan`` uses; ``ids`` from a first apply stay.
+
+    A copied row (duplicate, paste) arrives with its original's id; it gets a fresh one. The
+    ids are set on ``metrics`` (fresh copies) and returned, so that a redo reuses them.
+    """
+    if ids is None:
+        taken = {metric.id for metric in plan.metrics}
+        for scenario in plan.scenarios:
+            taken.update(scenario.rows, scenario.omitted)
+        ids = []
+        for metric in metrics:
+            identity = metric.id
+            while not identity or identity in taken:
+                identity = new_row_id()
+            taken.add(identity)
+            ids.append(identity)
+    for metric, identity in zip(metrics, ids, strict=True):
+        metric.id = identity
+    return ids
+
+
 def _metric_field(field: str) -> str:
     if field not in METRIC_FIELDS:
         raise PlanError(f"unknown metric field {field!r}", field)
@@ -134,7 +156,7 @@ class SetFields(Command):
 
     Examples
     --------
-    >>> from fourfold.plan.model import Metric, Plan
+    >>> from fourfold.plan.model import Metric, Plan, new_row_id
     >>> stack = CommandStack(Plan.empty())
     >>> stack.do(SetFields([(0, "baseline", 0.2), (1, "name", "Refunds")], append=[Metric()]))
     >>> [(m.name, m.baseline) for m in stack.plan.metrics]
@@ -150,6 +172,7 @@ class SetFields(Command):
         self.text = text or f"Edit {len(self.edits)} cells"
         self._old: dict[tuple[int, str], Any] = {}
         self._count = 0
+        self._ids: list[str] | None = None
 
     name_rows = True
 
@@ -179,6 +202,7 @@ class SetFields(Command):
         count = len(plan.metrics)
         added = [validate_metric(metric) for metric in self.append]  # fresh copies each time
         new = self._planned(plan, plan.metrics + added)
+        self._ids = _identified(plan, added, self._ids)
         self._count = count
         self._old = {key: getattr(plan.metrics[key[0]], key[1]) for key in new
                      if key[0] < count}
@@ -250,12 +274,14 @@ class InsertMetrics(Command):
         self.metrics = list(metrics)
         count = len(self.metrics)
         self.text = "Insert metric" if count == 1 else f"Insert {count} metrics"
+        self._ids: list[str] | None = None
 
     def apply(self, plan: Plan) -> Change:
         row = _check_row(plan, self.row, end=True)
         if not self.metrics:
             raise PlanError("metrics must hold at least one metric row to insert", "metrics")
         checked = [validate_metric(metric) for metric in self.metrics]
+        self._ids = _identified(plan, checked, self._ids)
         plan.metrics[row:row] = checked
         return Change("rows_inserted", tuple(range(row, row + len(checked))))
 
@@ -322,7 +348,7 @@ class ReorderMetrics(Command):
 
     Examples
     --------
-    >>> from fourfold.plan.model import Metric, Plan
+    >>> from fourfold.plan.model import Metric, Plan, new_row_id
     >>> stack = CommandStack(Plan(metrics=[Metric(name="A"), Metric(name="B")]))
     >>> stack.do(ReorderMetrics([1, 0], text="Sort rows by Metric, descending"))
     >>> [metric.name for metric in stack.plan.metrics], stack.undo_text
