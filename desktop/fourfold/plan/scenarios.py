@@ -308,3 +308,70 @@ def from_dict(plan: Plan, data: Any, where: str) -> Scenario:
     if len(set(omitted)) != len(omitted):
         raise PlanError(f"{where}.omitted names a row twice", f"{where}.omitted")
     return Scenario(name, settings, rows, omitted)
+
+
+# --- in words ----------------------------------------------------------------------------
+
+_LABELS = {
+    "arms": "treatment arms", "ratio": "allocation", "daily_units": "daily units",
+    "share": "share of traffic in the test", "whole_weeks": "whole weeks",
+    "runtime_days": "fixed runtime (days)", "looks": "looks", "rho": "CUPED ρ",
+    "n": "n (control units)", "icc": "ICC", "sd": "sd", "cluster_cv": "cluster-size cv",
+}
+_FRACTIONS = ("alpha", "power", "share")
+
+
+def _shown(field: str, value: Any, metric: Metric | None = None) -> str:
+    """A value in a sentence: fractions and relative effects as percentages."""
+    if value is None:
+        return "none" if field in ("daily_units", "runtime_days", "n", "sd") else "default"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, (int, float)):
+        relative = (metric is not None and field in ("effect", "margin") and metric.relative)
+        proportion = metric is not None and field == "baseline" and metric.kind == "proportion"
+        if field in _FRACTIONS or relative or proportion:
+            return f"{100 * value:.4g} %"
+        return f"{value:,.6g}"
+    return str(value)
+
+
+def describe(plan: Plan, name: str) -> str:
+    """What scenario ``name`` changes, as one plain sentence.
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan, Scenario, Settings
+    >>> plan = Plan(Settings(arms=2, share=0.6),
+    ...             [Metric(name="Conversion", id="c"), Metric(name="Page load", id="p")],
+    ...             [Scenario("S", {"arms": 1, "share": 1.0}, {"c": {"effect": 0.07}}, ["p"])])
+    >>> describe(plan, "S")
+    'Differs from the base in treatment arms 1 (base 2), share of traffic in the test 100 % \
+(base 60 %), Conversion: effect 7 % (base 5 %); leaves out Page load.'
+    """
+    scenario = find(plan, name)
+    view = effective(plan, name)
+    parts = [f"{_LABELS.get(field, field.replace('_', ' '))} "
+             f"{_shown(field, getattr(view.settings, field))} "
+             f"(base {_shown(field, getattr(plan.settings, field))})"
+             for field in SETTINGS_FIELDS if field in scenario.settings]
+    changed = {metric.id: metric for metric in view.metrics}
+    for metric in plan.metrics:
+        fields = scenario.rows.get(metric.id, {})
+        if metric.id not in changed or not fields:
+            continue
+        mine = changed[metric.id]
+        parts += [f"{metric.name}: {_LABELS.get(field, field.replace('_', ' '))} "
+                  f"{_shown(field, getattr(mine, field), mine)} "
+                  f"(base {_shown(field, getattr(metric, field), metric)})"
+                  for field in METRIC_FIELDS if field in fields]
+    left_out = [metric.name for metric in plan.metrics if metric.id in scenario.omitted]
+    if not parts and not left_out:
+        return "Same as the base."
+    sentences = []
+    if parts:
+        sentences.append("differs from the base in " + ", ".join(parts))
+    if left_out:
+        sentences.append("leaves out " + ", ".join(left_out))
+    sentence = "; ".join(sentences)
+    return sentence[0].upper() + sentence[1:] + "."
