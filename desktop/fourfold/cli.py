@@ -1,7 +1,8 @@
 """The ``fourfold`` command line: one parser for the window and the headless sub-commands.
 
 ``fourfold [PLAN.json]`` opens the window (on the bundled sample plan when no file is given);
-``fourfold export``, ``fourfold shot`` and ``fourfold history`` run without a window. Each
+``fourfold export``, ``fourfold compare``, ``fourfold shot`` and ``fourfold history`` run
+without a window. Each
 sub-command's work lives in its own package and is imported only when it runs, so that
 ``fourfold --help`` stays instant.
 """
@@ -16,7 +17,7 @@ from collections.abc import Sequence
 from fourfold import __version__
 from fourfold.errors import FourfoldError
 
-SUBCOMMANDS = ("open", "export", "shot", "history")
+SUBCOMMANDS = ("open", "export", "compare", "shot", "history")
 
 
 def _size(text: str) -> tuple[int, int]:
@@ -50,6 +51,19 @@ def build_parser() -> argparse.ArgumentParser:
     )
     p_export.add_argument(
         "--page", choices=("a4", "letter"), default="a4", help="PDF page size (default a4)"
+    )
+    p_export.add_argument(
+        "--scenario", metavar="NAME", default=None,
+        help="export this scenario of the plan (default: the base)",
+    )
+
+    p_compare = sub.add_parser(
+        "compare", help="compare the plan's base and scenarios side by side"
+    )
+    p_compare.add_argument("plan", help="plan file (.json)")
+    p_compare.add_argument(
+        "-o", "--output", default=None,
+        help="write the comparison to this .csv file instead of printing it",
     )
 
     p_shot = sub.add_parser("shot", help="render the window offscreen to a PNG")
@@ -95,8 +109,13 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "export":
             from fourfold.export import export_file
 
-            export_file(args.plan, args.output, page=args.page)
+            export_file(args.plan, args.output, page=args.page, scenario=args.scenario)
             print(f"wrote {args.output}")
+            return 0
+        if args.command == "compare":
+            from fourfold.export import compare_file
+
+            sys.stdout.write(compare_file(args.plan, args.output))
             return 0
         if args.command == "history":
             from fourfold.history.cli import run as run_history

@@ -158,8 +158,13 @@ def table(found: list[Outcome], base: Plan) -> pandas.DataFrame:
     """The comparison table of evaluated scenarios (see :func:`compare`)."""
     import pandas
 
+    return pandas.DataFrame.from_records(records(found, base))
+
+
+def records(found: list[Outcome], base: Plan) -> list[dict]:
+    """The rows of :func:`table` as dictionaries, column names as keys (no pandas)."""
     rows = deciding_rows(found)
-    records = []
+    found_records = []
     for each in found:
         record = {
             "scenario": each.label,
@@ -176,8 +181,8 @@ def table(found: list[Outcome], base: Plan) -> pandas.DataFrame:
             row = each.result.rows[index[row_id]] if row_id in index else None
             for column, value in _row_cells(row):
                 record[f"{label}: {column}"] = value
-        records.append(record)
-    return pandas.DataFrame.from_records(records)
+        found_records.append(record)
+    return found_records
 
 
 def _failures(each: Outcome) -> list[str]:

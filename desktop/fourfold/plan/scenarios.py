@@ -69,12 +69,14 @@ def find(plan: Plan, name: str) -> Scenario:
     >>> find(Plan(scenarios=[Scenario("A")]), "B")
     Traceback (most recent call last):
     ...
-    fourfold.plan.fields.PlanError: the plan has no scenario called 'B'
+    fourfold.plan.fields.PlanError: the plan has no scenario called 'B' (it has 'A')
     """
     for scenario in plan.scenarios:
         if scenario.name == name:
             return scenario
-    raise PlanError(f"the plan has no scenario called {name!r}", "scenario")
+    names = ", ".join(repr(scenario.name) for scenario in plan.scenarios)
+    raise PlanError(f"the plan has no scenario called {name!r} "
+                    f"({'it has ' + names if names else 'it has none'})", "scenario")
 
 
 def check_name(plan: Plan, name: Any, *, renaming: str | None = None) -> str:
