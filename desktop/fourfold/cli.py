@@ -73,6 +73,10 @@ def build_parser() -> argparse.ArgumentParser:
         "--size", type=_size, default=(1400, 900), help="window size, e.g. 1400x900"
     )
     p_shot.add_argument("--row", type=int, default=None, help="metric row to select (from 1)")
+    p_shot.add_argument("--scenario", metavar="NAME", default=None,
+                        help="the scenario to show (Base: the plan as entered)")
+    p_shot.add_argument("--tab", choices=("plots", "scenarios"), default="plots",
+                        help="the tab under the table (default: plots)")
 
     from fourfold.history.cli import configure as configure_history
 
@@ -105,7 +109,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "shot":
             from fourfold.ui.app import run_shot
 
-            return run_shot(args.plan, args.output, size=args.size, row=args.row)
+            return run_shot(args.plan, args.output, size=args.size, row=args.row,
+                            scenario=args.scenario, tab=args.tab)
         if args.command == "export":
             from fourfold.export import export_file
 

@@ -76,14 +76,14 @@ the output file must end in .csv or .pdf
     from fourfold.plan import effective, load
 
     plan = load(plan_path)
-    shown = effective(plan, scenario)  # an unknown scenario is refused before any output
+    effective(plan, scenario)  # an unknown scenario is refused before any output
     if suffix == ".csv":
         from fourfold.export.csv import write_csv
 
         return list(write_csv(plan, output, scenario))
     from fourfold.export.pdf import write_pdf
 
-    return [write_pdf(shown, output, page=page)]
+    return [write_pdf(plan, output, page=page, scenario=scenario)]
 
 
 def compare_file(plan_path: os.PathLike | str, output: os.PathLike | str | None = None) -> str:

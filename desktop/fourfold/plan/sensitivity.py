@@ -52,6 +52,9 @@ class Swing:
         The plan's duration at those values (``nan`` when the plan cannot be computed then).
     note : str
         Why a side was capped or cannot be computed; ``""`` otherwise.
+    percent : bool
+        Whether the input reads as a percentage (a share, a proportion's baseline, a relative
+        effect or margin).
     """
 
     label: str
@@ -62,6 +65,7 @@ class Swing:
     low_days: float
     high_days: float
     note: str = ""
+    percent: bool = False
 
     @property
     def swing(self) -> float:
@@ -184,7 +188,9 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
             metrics[index] = changed
             sides.append((getattr(changed, field),
                           *_duration(Plan(settings, metrics), cache)))
-        swings.append(_swing(label, field, value, sides))
+        percent = ((field == "baseline" and metric.kind == "proportion")
+                   or (field in ("effect", "margin") and metric.relative))
+        swings.append(_swing(label, field, value, sides, percent=percent))
     total = result.rows[index].units_total
     for label, field, high in (("Daily units", "daily_units", None),
                                ("Traffic share", "share", 1.0)):
@@ -197,7 +203,8 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
                 _exact(moved, total)))
         capped = field == "share" and value * (1 + amount) > 1.0
         swings.append(_swing(label, field, value, sides,
-                             "the share is at most 100 %" if capped else ""))
+                             "the share is at most 100 %" if capped else "",
+                             percent=field == "share"))
     swings.sort(key=lambda pair: (math.isnan(pair[0].swing), -_finite(pair[0].swing),
                                   -_finite(pair[1])))
     return Sensitivity(amount, days, metric.name, tuple(swing for swing, _ in swings))
@@ -208,10 +215,10 @@ def _finite(value: float) -> float:
 
 
 def _swing(label: str, field: str, value: float, sides: list,
-           note: str = "") -> tuple[Swing, float]:
+           note: str = "", *, percent: bool) -> tuple[Swing, float]:
     """The swing, and its spread in days before rounding up (to order equal swings)."""
     (low_value, low_days, low_exact), (high_value, high_days, high_exact) = sides
     if math.isnan(low_days) or math.isnan(high_days):
         note = note or "the plan cannot be computed on one side"
-    return (Swing(label, field, value, low_value, high_value, low_days, high_days, note),
-            abs(high_exact - low_exact))
+    return (Swing(label, field, value, low_value, high_value, low_days, high_days, note,
+                  percent), abs(high_exact - low_exact))

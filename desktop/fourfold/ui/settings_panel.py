@@ -311,7 +311,7 @@ class SettingsPanel(QWidget):
             self.refresh()
 
     def _on_change(self, change) -> None:
-        if change.kind in ("settings", "reset"):
+        if change.kind in ("settings", "scenario", "reset"):
             self.refresh()
 
     @staticmethod

@@ -24,6 +24,9 @@ QPlainTextEdit#planDescription {{ color: {muted}; border: none; background: tran
 QFrame#summaryBar {{ background: {summary}; border-radius: 6px; }}
 QLabel#summaryItem {{ font-size: {summary_pt}pt; }}
 QLabel#summaryNotes {{ color: {muted}; }}
+QComboBox#scenarioChoice {{ font-size: {summary_pt}pt; padding: 1px 8px; }}
+QComboBox#scenarioChoice[active="true"] {{ background: {accent}; color: #ffffff;
+    font-weight: 600; border: 1px solid {accent}; border-radius: 4px; }}
 """
 HEADER_STYLE = """
 QHeaderView::section {{ padding: 2px 6px; border: none; border-right: 1px solid {mid};
@@ -79,6 +82,7 @@ class WindowLook:
         self.table.horizontalHeader().setFont(font)
         self.table.verticalHeader().setFont(font)
         self.boundaries.setFont(font)
+        self.scenario_panel.set_text_font(font)
         if self.isVisible():  # a window being built is fitted when it is first shown
             self.fit_table()
         self.plots.set_text_scale(scale)
