@@ -45,6 +45,7 @@ from fourfold.plan import scenarios
 from fourfold.plan.commands import (
     Change,
     Command,
+    InsertMetrics,
     RemoveMetrics,
     SetField,
     SetFields,
@@ -307,8 +308,11 @@ class InScenario(Command):
             self.text = (f"Leave out {view.metrics[rows[0]].name} in {self.name}"
                          if len(rows) == 1 else f"Leave out {len(rows)} rows in {self.name}")
             return Change("rows_removed", tuple(rows))
-        raise PlanError(f"{inner.text or 'this edit'}: the rows and their order belong to the "
-                        f"base; show {scenarios.BASE} to change them", "scenario")
+        if isinstance(inner, InsertMetrics):
+            raise PlanError(f"rows are added to the base, not to a scenario: show "
+                            f"{scenarios.BASE} to add rows", "rows")
+        raise PlanError(f"{inner.text or 'this edit'}: the order of the rows belongs to the "
+                        f"base; show {scenarios.BASE} to move or sort rows", "scenario")
 
     def _set(self, store: dict, key: tuple, value: Any, base_value: Any) -> None:
         """Store ``value`` in ``store`` under ``key[1]`` (dropped when equal to the base's)."""

@@ -64,7 +64,7 @@ class WindowFiles:
         self.document.replace(plan, path)
         self.recovery.discard()
         self.remember_recent(path)
-        self.show_message(f"Opened {path}")
+        self.show_message(" ".join([f"Opened {path}.", *self.document.stale_changes()]))
         return True
 
     def save_file(self) -> bool:
