@@ -110,12 +110,13 @@ def _effect(metric, row) -> tuple[str, float]:
     return report.effect_text(metric, row.effect_abs, relative=False), row.effect_abs
 
 
-def _row_lines(found: list[Outcome], row_id: str, label: str) -> list[Line]:
+def _row_lines(found: list[Outcome], positions: list[dict[str, int]], row_id: str,
+               label: str) -> list[Line]:
     cells: dict[str, list] = {"units": [], "effect": [], "power": []}
     numbers: dict[str, list] = {"units": [], "effect": [], "power": []}
     relative = []
-    for each in found:
-        index = next((i for i, m in enumerate(each.plan.metrics) if m.id == row_id), None)
+    for each, position in zip(found, positions, strict=True):
+        index = position.get(row_id)
         if index is None:
             for key in cells:
                 cells[key].append("left out")
@@ -147,8 +148,10 @@ def comparison_lines(found: list[Outcome]) -> list[Line]:
     """The comparison's lines for evaluated scenarios (base first, as
     :func:`fourfold.plan.comparison.outcomes` gives them)."""
     lines = _plan_lines(found)
+    positions = [{metric.id: index for index, metric in enumerate(each.plan.metrics)}
+                 for each in found]
     for row_id, label in deciding_rows(found):
-        lines += _row_lines(found, row_id, label)
+        lines += _row_lines(found, positions, row_id, label)
     return lines
 
 

@@ -12,12 +12,11 @@ the tab is visible (and once when it is shown again).
 
 from __future__ import annotations
 
-from PySide6.QtCore import QRectF, QSize, Qt, Signal
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QRectF, QSize, Qt, Signal
 from PySide6.QtGui import QColor, QFont, QFontMetrics, QPainter
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QHBoxLayout,
-    QHeaderView,
     QLabel,
     QLayout,
     QSpinBox,
@@ -25,8 +24,7 @@ from PySide6.QtWidgets import (
     QStyle,
     QStyledItemDelegate,
     QStyleOptionViewItem,
-    QTableWidget,
-    QTableWidgetItem,
+    QTableView,
     QToolBar,
     QVBoxLayout,
     QWidget,
@@ -42,6 +40,8 @@ from fourfold.ui import theme
 from fourfold.ui.document import PlanDocument
 
 DELTA_ROLE = Qt.ItemDataRole.UserRole + 1
+CELL_PAD = 6
+GAP = "  "
 NO_SCENARIOS = ("No scenarios yet. Scenario → New scenario (Ctrl+Alt+N) makes one from the "
                 "plan on show; its edits then change only it.")
 
@@ -66,97 +66,164 @@ class DeltaDelegate(QStyledItemDelegate):
         widget = view.widget
         widget.style().drawControl(QStyle.ControlElement.CE_ItemViewItem, view, painter, widget)
         delta = index.data(DELTA_ROLE) or ""
-        selected = bool(view.state & QStyle.StateFlag.State_Selected)
-        palette = view.palette
-        ink = palette.highlightedText().color() if selected else palette.text().color()
-        rect = view.rect.adjusted(6, 0, -6, 0)
+        rect = view.rect.adjusted(CELL_PAD, 0, -CELL_PAD, 0)
         painter.save()
         painter.setFont(view.font)
-        painter.setPen(ink)
+        painter.setPen(view.palette.text().color())
         centre = Qt.AlignmentFlag.AlignVCenter
         painter.drawText(rect, Qt.AlignmentFlag.AlignLeft | centre, text)
         if delta:
-            painter.setPen(ink if selected else theme.tints().accent)
-            shift = painter.fontMetrics().horizontalAdvance(text + "  ")
+            painter.setPen(theme.tints().accent)
+            shift = painter.fontMetrics().horizontalAdvance(text + GAP)
             painter.drawText(rect.adjusted(shift, 0, 0, 0), Qt.AlignmentFlag.AlignLeft | centre,
                              delta)
         painter.restore()
 
-    def sizeHint(self, option, index) -> QSize:  # noqa: N802 (Qt's name)
-        size = super().sizeHint(option, index)
-        delta = index.data(DELTA_ROLE) or ""
-        metrics = QFontMetrics(index.data(Qt.ItemDataRole.FontRole) or option.font)
-        width = metrics.horizontalAdvance(index.data() or "") + 16
-        if delta:
-            width += metrics.horizontalAdvance("  " + delta)
-        size.setWidth(max(size.width(), width))
-        return size
+
+class ComparisonModel(QAbstractTableModel):
+    """The comparison's lines as a table: one column per scenario, one row per line."""
+
+    def __init__(self, parent=None) -> None:
+        super().__init__(parent)
+        self.found: list[Outcome] = []
+        self.lines: list = []
+        self.active: str | None = None
+        self.whole = None
+        self.bold = QFont()
+        self.bold.setBold(True)
+        self.shade = QColor()
+
+    def rowCount(self, parent=QModelIndex()) -> int:  # noqa: B008, N802 - Qt's signature
+        return 0 if parent.isValid() else len(self.lines)
+
+    def columnCount(self, parent=QModelIndex()) -> int:  # noqa: B008, N802 - Qt's signature
+        return 0 if parent.isValid() else len(self.found)
+
+    def set_outcomes(self, found: list[Outcome], active: str | None, whole) -> None:
+        """Show ``found``; the same shape repaints its cells, another resets the table."""
+        lines = comparison_lines(found) if found else []
+        shape = ([each.name for each in found], [line.label for line in lines])
+        same = shape == ([each.name for each in self.found], [line.label for line in self.lines])
+        self.shade = QColor(theme.tints().accent)
+        self.shade.setAlpha(28)
+        if not same:
+            self.beginResetModel()
+        self.found, self.lines, self.active, self.whole = found, lines, active, whole
+        if not same:
+            self.endResetModel()
+        elif lines:
+            self.dataChanged.emit(self.index(0, 0),
+                                  self.index(len(lines) - 1, len(found) - 1))
+            self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(found) - 1)
+
+    def data(self, index, role=Qt.ItemDataRole.DisplayRole):
+        line, each = self.lines[index.row()], self.found[index.column()]
+        if role == Qt.ItemDataRole.DisplayRole:
+            return line.cells[index.column()]
+        if role == DELTA_ROLE:
+            return line.deltas[index.column()]
+        if role == Qt.ItemDataRole.FontRole and each.name == self.active:
+            return self.bold
+        if role == Qt.ItemDataRole.BackgroundRole and each.name == self.active:
+            return self.shade
+        if role == Qt.ItemDataRole.ToolTipRole and not each.complete:
+            return _column_tip(each, self.whole)
+        return None
+
+    def headerData(self, section, orientation, role=Qt.ItemDataRole.DisplayRole):  # noqa: N802
+        if orientation == Qt.Orientation.Horizontal:
+            each = self.found[section]
+            if role == Qt.ItemDataRole.DisplayRole:
+                return ("▶ " if each.name == self.active else "") + each.label
+            if role == Qt.ItemDataRole.FontRole and each.name == self.active:
+                return self.bold
+            if role == Qt.ItemDataRole.ToolTipRole:
+                return _column_tip(each, self.whole)
+            return None
+        line = self.lines[section]
+        if role == Qt.ItemDataRole.DisplayRole:
+            return line.label if line.heading or not line.row else f"   {line.label}"
+        if role == Qt.ItemDataRole.FontRole and line.heading:
+            return self.bold
+        return None
 
 
-class ComparisonView(QTableWidget):
-    """The comparison table; a click on a column emits :attr:`chosen` (``None``: the base)."""
+class ComparisonView(QTableView):
+    """The comparison table; a click on a column emits :attr:`chosen` (``None``: the base).
+
+    Columns are sized from their texts once per refresh (measured here, not by the header's
+    resize-to-contents, which asks every cell for its size on every change).
+    """
 
     chosen = Signal(object)
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.names: list[str | None] = []
-        self.active: str | None = None
+        self._measured: tuple[QFont, dict] = (QFont(), {})  # text widths, for one font
+        self.comparison = ComparisonModel(self)
+        self.setModel(self.comparison)
         self.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
         self.setSelectionMode(QAbstractItemView.SelectionMode.NoSelection)
         self.setFocusPolicy(Qt.FocusPolicy.NoFocus)
         self.setItemDelegate(DeltaDelegate(self))
         self.setWordWrap(False)
-        self.horizontalHeader().setSectionsClickable(True)
-        self.horizontalHeader().sectionClicked.connect(self._clicked)
-        self.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
-        self.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        header = self.horizontalHeader()
+        header.setSectionsClickable(True)
+        header.sectionClicked.connect(self._clicked)
         self.verticalHeader().setDefaultAlignment(Qt.AlignmentFlag.AlignLeft
                                                   | Qt.AlignmentFlag.AlignVCenter)
-        self.cellClicked.connect(lambda _row, column: self._clicked(column))
+        self.clicked.connect(lambda index: self._clicked(index.column()))
+
+    @property
+    def names(self) -> list[str | None]:
+        """The scenarios of the columns (``None``: the base)."""
+        return [each.name for each in self.comparison.found]
 
     def _clicked(self, column: int) -> None:
-        if 0 <= column < len(self.names) and self.names[column] != self.active:
-            self.chosen.emit(self.names[column])
+        names = self.names
+        if 0 <= column < len(names) and names[column] != self.comparison.active:
+            self.chosen.emit(names[column])
 
     def show_outcomes(self, found: list[Outcome], active: str | None, whole) -> None:
         """Fill the table with the comparison of ``found`` (``active``: the one on show)."""
-        lines = comparison_lines(found) if found else []
-        self.names = [each.name for each in found]
-        self.active = active
-        self.setUpdatesEnabled(False)
-        self.setColumnCount(len(found))
-        self.setRowCount(len(lines))
-        bold = QFont(self.font())
-        bold.setBold(True)
-        shade = QColor(theme.tints().accent)
-        shade.setAlpha(28)
-        for column, each in enumerate(found):
-            header = QTableWidgetItem(("▶ " if each.name == active else "") + each.label)
-            if each.name == active:
-                header.setFont(bold)
-            header.setToolTip(_column_tip(each, whole))
-            self.setHorizontalHeaderItem(column, header)
-        for row, line in enumerate(lines):
-            label = QTableWidgetItem(line.label if line.heading or not line.row
-                                     else f"   {line.label}")
-            if line.heading:
-                label.setFont(bold)
-            self.setVerticalHeaderItem(row, label)
-            for column, (text, delta) in enumerate(zip(line.cells, line.deltas, strict=True)):
-                item = QTableWidgetItem(text)
-                item.setData(DELTA_ROLE, delta)
-                if found[column].name == active:
-                    item.setBackground(shade)
-                    item.setFont(bold)
-                if not found[column].complete:
-                    item.setToolTip(_column_tip(found[column], whole))
-                self.setItem(row, column, item)
-        self.setUpdatesEnabled(True)
+        self.comparison.set_outcomes(found, active, whole)
+        self._fit()
+
+    def _fit(self) -> None:
+        model = self.comparison
+        font = self.font()
+        if self._measured[0] != font or len(self._measured[1]) > 4096:
+            self._measured = (QFont(font), {})
+        plain = QFontMetrics(font)
+        bold = QFontMetrics(_bolder(font))
+        known = self._measured[1]
+
+        def width(text: str, strong: bool) -> int:
+            found = known.get((text, strong))
+            if found is None:
+                found = known[(text, strong)] = (bold if strong else plain).horizontalAdvance(
+                    text)
+            return found
+
+        for column, each in enumerate(model.found):
+            strong = each.name == model.active
+            header = model.headerData(column, Qt.Orientation.Horizontal)
+            widest = max([width(header, True)]
+                         + [width(line.cells[column] + (GAP + line.deltas[column]
+                                                        if line.deltas[column] else ""), strong)
+                            for line in model.lines])
+            if self.columnWidth(column) != widest + 2 * CELL_PAD + 8:
+                self.setColumnWidth(column, widest + 2 * CELL_PAD + 8)
 
     def column_of(self, name: str | None) -> int:
         """The column of scenario ``name`` (``None``: the base)."""
         return self.names.index(name)
+
+
+def _bolder(font: QFont) -> QFont:
+    bold = QFont(font)
+    bold.setBold(True)
+    return bold
 
 
 def _column_tip(each: Outcome, whole) -> str:
