@@ -22,6 +22,7 @@ from fourfold.plan.scenario_commands import (
     ForgetStale,
     NewScenario,
     RenameScenario,
+    RestoreRows,
     SwitchScenario,
 )
 
@@ -59,6 +60,7 @@ COMMANDS = {
     "apply active": lambda: ApplyToBase("Bigger lift"),
     "apply other": lambda: ApplyToBase("All traffic"),
     "forget stale": lambda: ForgetStale("All traffic"),
+    "bring back rows": lambda: RestoreRows("Bigger lift"),
     "cell in scenario": lambda: SetField(0, "baseline", 0.05),
     "cells in scenario": lambda: SetFields([(0, "power", 0.9), (1, "sd", 0.7)]),
     "setting in scenario": lambda: SetSetting("whole_weeks", False),
@@ -95,6 +97,7 @@ def test_the_scenario_commands_name_themselves_in_the_edit_menu(recorded):
         "Duplicate scenario All traffic", "Delete scenario Bigger lift",
         "Delete scenario One arm", "Apply Bigger lift to the base",
         "Apply All traffic to the base", "Forget stale changes of All traffic",
+        "Bring back the rows Bigger lift leaves out",
         "Set baseline of Conversion in Bigger lift", "Edit 2 cells in Bigger lift",
         "Set whole_weeks in Bigger lift", "Leave out Load time in Bigger lift",
     ]

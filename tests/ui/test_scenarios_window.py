@@ -185,9 +185,13 @@ def test_leaving_out_a_row_in_a_scenario_and_bringing_it_back(qtbot, make_window
     _settle(qtbot, window)
     assert window.model.rowCount() == 5 and len(window.document.whole.metrics) == 6
     assert window.document.whole.scenarios[0].omitted == ["page-load"]
+    assert window.restore_rows_action.isEnabled()
+    window.restore_rows_action.trigger()
+    _settle(qtbot, window)
+    assert window.model.rowCount() == 6 and not window.restore_rows_action.isEnabled()
     window.undo_action.trigger()
     _settle(qtbot, window)
-    assert window.model.rowCount() == 6
+    assert window.model.rowCount() == 5
 
 
 def test_the_overlay_toggle_draws_and_hides_the_other_scenarios_curves(qtbot, make_window):

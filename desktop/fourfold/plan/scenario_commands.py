@@ -2,7 +2,7 @@
 
 The scenario commands — :class:`NewScenario`, :class:`SwitchScenario`,
 :class:`RenameScenario`, :class:`DuplicateScenario`, :class:`DeleteScenario`,
-:class:`ApplyToBase` and :class:`ForgetStale` — go through the same
+:class:`ApplyToBase`, :class:`RestoreRows` and :class:`ForgetStale` — go through the same
 :class:`~fourfold.plan.commands.CommandStack` as every edit, and report
 ``Change("scenario")``: what the window shows may have changed as a whole.
 
@@ -195,6 +195,22 @@ class ForgetStale(ScenarioCommand):
             raise PlanError(f"scenario {self.name!r} has no stale changes", "scenario")
         self._save(plan)
         scenario.rows, scenario.settings, scenario.omitted = rows, settings, omitted
+        return Change("scenario")
+
+
+class RestoreRows(ScenarioCommand):
+    """Bring back every row scenario ``name`` leaves out."""
+
+    def __init__(self, name: str) -> None:
+        self.name = name
+        self.text = f"Bring back the rows {name} leaves out"
+
+    def apply(self, plan: Plan) -> Change:
+        scenario = scenarios.find(plan, self.name)
+        if not scenario.omitted:
+            raise PlanError(f"scenario {self.name!r} leaves out no rows", "scenario")
+        self._save(plan)
+        scenario.omitted = []
         return Change("scenario")
 
 

@@ -18,6 +18,7 @@ from fourfold.plan.scenario_commands import (
     ForgetStale,
     NewScenario,
     RenameScenario,
+    RestoreRows,
     SwitchScenario,
 )
 
@@ -50,6 +51,9 @@ class WindowScenarios:
         self.previous_scenario_action = self._action(
             "Pre&vious scenario", lambda: self.step_scenario(-1), "Ctrl+Alt+PgUp",
             "Show the previous scenario")
+        self.restore_rows_action = self._action(
+            "Bring back &left-out rows", self.restore_rows, "Ctrl+Alt+I",
+            "Show again the rows the scenario leaves out")
         self.forget_stale_action = self._action(
             "&Forget stale changes", self.forget_stale, "Ctrl+Alt+F",
             "Drop the scenario's changes of rows or fields that no longer exist")
@@ -84,7 +88,7 @@ class WindowScenarios:
         menu.addActions([self.show_base_action, self.next_scenario_action,
                          self.previous_scenario_action])
         menu.addSeparator()
-        menu.addAction(self.forget_stale_action)
+        menu.addActions([self.restore_rows_action, self.forget_stale_action])
         self.view_menu.addSeparator()
         self.view_menu.addActions([self.plots_tab_action, self.scenarios_tab_action,
                                    self.overlay_action])
@@ -144,6 +148,12 @@ class WindowScenarios:
         if name is not None and self.document.apply(ApplyToBase(name)):
             self.show_message(f"{name} is now the base; the other scenarios keep their numbers")
 
+    def restore_rows(self) -> None:
+        """Scenario → Bring back left-out rows of the scenario on show."""
+        name = self._active_or_tell()
+        if name is not None:
+            self.document.apply(RestoreRows(name))
+
     def forget_stale(self) -> None:
         """Scenario → Forget stale changes of the scenario on show."""
         name = self._active_or_tell()
@@ -185,4 +195,6 @@ class WindowScenarios:
             action.setEnabled(bool(whole.scenarios))
         self.forget_stale_action.setEnabled(active and bool(scenarios.problems(
             whole, whole.active)))
+        self.restore_rows_action.setEnabled(
+            active and bool(scenarios.find(whole, whole.active).omitted))
         self.show_title()
