@@ -34,21 +34,14 @@ Reference for both, measured in the same run between the steps:
 from __future__ import annotations
 
 import dataclasses
-import os
-import statistics
-import tempfile
-import time
 
 from timing import median_ms
 
 from fourfold.plan import Plan, Scenario, load, sample_path
 from fourfold.plan.commands import CommandStack, SetField
 from fourfold.plan.comparison import Caches, outcomes, table
-from fourfold.plan.evaluation import compute
 from fourfold.plan.scenario_commands import SwitchScenario
 
-os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
-os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")  # as the fourfold command sets it
 WINDOW_STEPS = 40
 
 ROWS = 50
@@ -98,69 +91,26 @@ def main() -> None:
         print(f"{name:<48}{ms:>8.3f}{target:>8}{ms / reference:>8.3f}")
 
 
-def _window(plan):
-    from PySide6.QtCore import QSettings
-
-    from fourfold.ui.app import application
-    from fourfold.ui.main_window import MainWindow
-
-    app = application()
-    scratch = tempfile.mkdtemp()
-    window = MainWindow(plan, None, QSettings(os.path.join(scratch, "s.ini"),
-                                              QSettings.Format.IniFormat), data_dir=scratch)
-    window.resize(1400, 900)
-    window.show()
-    app.processEvents()
-    return app, window
-
-
-def _close(app, window) -> None:
-    window.document.stack.mark_clean()
-    window.close()
-    window.deleteLater()
-    app.processEvents()
-
-
-def _paired(app, window, step) -> tuple[list[float], list[float]]:
-    """Alternate the reference and a window step, so that both see the same machine."""
-    reference, timings = [], []
-    for k in range(WINDOW_STEPS):
-        start = time.perf_counter()
-        compute(window.document.plan)
-        reference.append(time.perf_counter() - start)
-        start = time.perf_counter()
-        step(k)
-        app.processEvents()  # the coalesced recompute, the views and the repaint
-        app.processEvents()  # anything posted meanwhile
-        timings.append(time.perf_counter() - start)
-    return reference, timings
-
-
-def _report(name: str, reference: list[float], timings: list[float]) -> None:
-    ms, ref = statistics.median(timings) * 1e3, statistics.median(reference) * 1e3
-    low, high = (statistics.quantiles(timings, n=4)[k] * 1e3 for k in (0, 2))
-    print(f"{name}: compute alone {ref:.2f} ms; window {ms:.1f} ms (quartiles "
-          f"{low:.1f}–{high:.1f}; target ≤ 16 ms); ratio {ms / ref:.2f}")
-
-
 def window() -> None:
+    from windows import close_window, open_window, paired, report
+
     from fourfold.ui.columns import column_index
 
-    app, shown = _window(plan_with_scenarios())
+    app, shown = open_window(plan_with_scenarios())
     shown.scenarios_tab_action.trigger()
     model = shown.model
     column = column_index("sd")
     app.processEvents()
-    reference, timings = _paired(app, shown, lambda k: model.setData(
-        model.index(ROW, column), f"{14.0 + 0.01 * k:.2f}"))
-    _report(f"base edit, {SCENARIOS} scenarios × {ROWS} rows on show", reference, timings)
-    _close(app, shown)
+    reference, timings = paired(app, shown, lambda k: model.setData(
+        model.index(ROW, column), f"{14.0 + 0.01 * k:.2f}"), WINDOW_STEPS)
+    report(f"base edit, {SCENARIOS} scenarios × {ROWS} rows on show", reference, timings)
+    close_window(app, shown)
 
-    app, shown = _window(load(sample_path()))
-    app.processEvents()
-    reference, timings = _paired(app, shown, lambda k: shown.next_scenario_action.trigger())
-    _report("switching the scenario on show, sample plan", reference, timings)
-    _close(app, shown)
+    app, shown = open_window(load(sample_path()))
+    reference, timings = paired(app, shown, lambda k: shown.next_scenario_action.trigger(),
+                                WINDOW_STEPS)
+    report("switching the scenario on show, sample plan", reference, timings)
+    close_window(app, shown)
 
 
 if __name__ == "__main__":
