@@ -193,3 +193,15 @@ def test_forget_stale_drops_only_the_stale_changes():
     assert sc.problems(stack.plan) == ()
     with pytest.raises(PlanError, match="no stale changes"):
         stack.do(ForgetStale("All traffic"))
+
+
+def test_forget_stale_drops_a_method_that_no_longer_fits_its_kind():
+    stack = CommandStack(_plan())
+    stack.do(SetField(1, "method", "z"))  # Load time in "Bigger lift"
+    stack.do(SwitchScenario(None))
+    stack.do(SetField(2, "kind", "proportion"))
+    stack.do(SetField(2, "baseline", 0.2))
+    assert sc.problems(stack.plan, "Bigger lift")
+    stack.do(ForgetStale("Bigger lift"))
+    assert sc.problems(stack.plan, "Bigger lift") == ()
+    assert stack.plan.scenarios[1].rows == {"conv": {"effect": 0.07}}

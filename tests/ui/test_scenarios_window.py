@@ -291,3 +291,21 @@ def test_shot_renders_a_scenario(tmp_path, tab):
     out = tmp_path / "shot.png"
     assert cli.main(["shot", "-o", str(out), "--scenario", ARM_B, "--tab", tab]) == 0
     assert out.stat().st_size > 10_000
+
+
+def test_the_inputs_a_scenario_changes_are_marked_with_the_base_value(qtbot, make_window):
+    window = _shown(qtbot, make_window)
+    lift, effect = "Accept +7 % conversion lift", window.model.index(0, column_index("effect"))
+    assert window.model.data(effect, Qt.ItemDataRole.BackgroundRole) is None
+    window.switch_scenario(lift)
+    _settle(qtbot, window)
+    assert window.model.data(effect, Qt.ItemDataRole.BackgroundRole) is not None
+    assert window.model.data(effect, Qt.ItemDataRole.ToolTipRole) == (
+        f"Changed in scenario {lift} (base: +5.0 %)")
+    other = window.model.index(0, column_index("baseline"))
+    assert window.model.data(other, Qt.ItemDataRole.BackgroundRole) is None
+    window.switch_scenario(ARM_B)
+    arms = window.settings_panel.fields["arms"]
+    assert arms.property("changed") is True
+    assert arms.toolTip().endswith(f"Changed in scenario {ARM_B} (base: 2)")
+    assert window.settings_panel.fields["share"].property("changed") is False

@@ -41,6 +41,7 @@ from __future__ import annotations
 import copy
 from typing import Any
 
+from fourfold.engine import METHODS
 from fourfold.plan import scenarios
 from fourfold.plan.commands import (
     Change,
@@ -183,9 +184,10 @@ class ForgetStale(ScenarioCommand):
 
     def apply(self, plan: Plan) -> Change:
         scenario = scenarios.find(plan, self.name)
-        ids = {metric.id for metric in plan.metrics}
+        base = {metric.id: metric for metric in plan.metrics}
+        ids = set(base)
         rows = {row_id: {field: value for field, value in fields.items()
-                         if field in METRIC_FIELDS}
+                         if field in METRIC_FIELDS and _fits(field, value, fields, base[row_id])}
                 for row_id, fields in scenario.rows.items() if row_id in ids}
         rows = {row_id: fields for row_id, fields in rows.items() if fields}
         settings = {field: value for field, value in scenario.settings.items()
@@ -196,6 +198,13 @@ class ForgetStale(ScenarioCommand):
         self._save(plan)
         scenario.rows, scenario.settings, scenario.omitted = rows, settings, omitted
         return Change("scenario")
+
+
+def _fits(field: str, value: Any, fields: dict, metric) -> bool:
+    """Whether a changed method belongs to the row's kind in the scenario (else it is stale)."""
+    if field != "method" or value is None:
+        return True
+    return value in METHODS[fields.get("kind", metric.kind)]
 
 
 class RestoreRows(ScenarioCommand):
