@@ -308,4 +308,4 @@ def test_the_inputs_a_scenario_changes_are_marked_with_the_base_value(qtbot, mak
     arms = window.settings_panel.fields["arms"]
     assert arms.property("changed") is True
     assert arms.toolTip().endswith(f"Changed in scenario {ARM_B} (base: 2)")
-    assert window.settings_panel.fields["share"].property("changed") is False
+    assert not window.settings_panel.fields["share"].property("changed")
