@@ -4,7 +4,7 @@ A figure shows two lines (the row's design and a neighbouring choice), faint lin
 row in other scenarios, and two sets of round markers (the weekly marks and the design point).
 pyqtgraph's curve and scatter items draw these just as well, but each of them costs Python calls
 on every update and every repaint (bounds, pixel vectors, paint); a figure redrawn on every
-keystroke spends most of its frame there. :class:`SeriesLayer` keeps the four series in one
+keystroke spends most of its frame there. :class:`SeriesLayer` keeps the series in one
 item: lines as painter paths in view coordinates, markers as circles of a fixed size in device
 pixels (so that they stay round on log axes and scale with the page on a PDF), and the markers'
 labels as text in scene pixels (sized like every other text of the figure, and scaled with it
