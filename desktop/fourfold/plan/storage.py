@@ -47,8 +47,13 @@ from fourfold.plan.fields import (
 from fourfold.plan.model import Metric, Plan, Settings
 
 FORMAT = "fourfold-plan"
-SCHEMA_VERSION = 2
-"""The newest version this Fourfold reads; it writes version 1 for a plan without scenarios."""
+PLAIN_VERSION = 1
+"""The version written for a plan without scenarios (what every Fourfold since 1 reads)."""
+SCENARIOS_VERSION = 2
+"""The version that added row ids, scenarios and the active scenario; written only for a plan
+with scenarios."""
+SCHEMA_VERSION = SCENARIOS_VERSION
+"""The newest version this Fourfold reads."""
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
 
 
@@ -71,7 +76,7 @@ def to_dict(plan: Plan) -> dict[str, Any]:
     versioned = bool(plan.scenarios)
     data = {
         "format": FORMAT,
-        "schema_version": 2 if versioned else 1,
+        "schema_version": SCENARIOS_VERSION if versioned else PLAIN_VERSION,
         "settings": dataclasses.asdict(plan.settings),
         "metrics": [{**({"id": metric.id} if versioned else {}),
                      **{name: copy.deepcopy(getattr(metric, name)) for name in METRIC_FIELDS}}
@@ -145,7 +150,7 @@ def from_dict(data: Any) -> Plan:
     if version < 1:
         raise PlanError(f"schema_version must be 1 or more, not {version}", "schema_version")
     members = ("format", "schema_version", "settings", "metrics")
-    if version >= 2:
+    if version >= SCENARIOS_VERSION:
         members += ("scenarios", "active")
     unknown = [key for key in data if key not in members]
     if unknown:
@@ -160,7 +165,7 @@ def from_dict(data: Any) -> Plan:
         where = f"metrics[{index}]"
         row = _object(row, where)
         identity = {}
-        if version >= 2:
+        if version >= SCENARIOS_VERSION:
             row = dict(row)
             if "id" not in row:
                 raise PlanError(f"{where}.id: missing (required)", f"{where}.id")
@@ -175,7 +180,7 @@ def from_dict(data: Any) -> Plan:
         metrics.append(Metric(**_fields(row, METRIC_FIELDS, where, settings=False, kind=kind),
                               **identity))
     plan = Plan(settings, metrics)
-    if version >= 2:
+    if version >= SCENARIOS_VERSION:
         _scenarios(plan, data)
     return plan
 
