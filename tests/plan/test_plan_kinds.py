@@ -165,8 +165,8 @@ def test_direction_in_words(metric, size, words):
 
 def test_fields_refuse_impossible_values():
     with pytest.raises(PlanError, match="correlation must satisfy -1 ≤ correlation ≤ 1"):
-        loads(json.dumps({"format": "fourfold-plan", "schema_version": 2, "metrics": [
-            {"name": "x", "kind": "ratio", "baseline": 1.0, "correlation": 2.0}]}))
+        loads(json.dumps({"format": "fourfold-plan", "schema_version": 3, "metrics": [
+            {"id": "r1", "name": "x", "kind": "ratio", "baseline": 1.0, "correlation": 2.0}]}))
     with pytest.raises(PlanError, match="unit must be at most 20 characters"):
         SetField(0, "unit", "x" * 21).apply(Plan.empty())
     with pytest.raises(PlanError, match="quantile_level must satisfy 0 < quantile_level < 1"):
@@ -182,7 +182,7 @@ def test_version_1_files_open_unchanged():
     # Its rows evaluate as the engine says (test_plan_evaluation's direct engine calls).
     assert all(row.reason == "" for row in compute(old).rows)
     assert VERSION_1.read_text(encoding="utf-8") == text  # opening never rewrites it
-    assert loads(dumps(old)) == old and json.loads(dumps(old))["schema_version"] == 2
+    assert loads(dumps(old)) == old and json.loads(dumps(old))["schema_version"] == 1
 
 
 def test_plans_with_the_new_kinds_round_trip(tmp_path):
@@ -190,6 +190,7 @@ def test_plans_with_the_new_kinds_round_trip(tmp_path):
                 [_ratio_row(), _quantile_row(), _quantile_row(density=0.25, unit="ms")])
     path = tmp_path / "kinds.json"
     path.write_text(dumps(plan), encoding="utf-8")
+    assert json.loads(path.read_text(encoding="utf-8"))["schema_version"] == 3
     again = load(path)
     assert again == plan and compute(again) == compute(plan)
 
