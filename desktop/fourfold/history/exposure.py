@@ -158,9 +158,12 @@ class Exposure:
     def __init__(self, mapping: list[ColumnMap], table) -> None:
         self.mapping = mapping
         self.table = table
-        self.places: list[dict[str, int]] = []
+        self.places: list[dict[str, int] | None] = []
         width = 0
         for spec in mapping:
+            if spec.kind not in _QUANTITIES:  # a quantile is of the rows, not of units
+                self.places.append(None)
+                continue
             names = _QUANTITIES[spec.kind] + (("pre", "pre_n") if spec.pre is not None else ())
             self.places.append({name: width + k for k, name in enumerate(names)})
             width += len(names)
@@ -184,6 +187,8 @@ class Exposure:
         where = (index * width + self.start + band * self.block)[:, None] + np.arange(self.block)
         amounts = np.empty((index.size, self.block))
         for spec, place in zip(self.mapping, self.places, strict=True):
+            if place is None:
+                continue
             x = value(spec.column, "mean" if spec.kind == "ratio" else spec.kind)
             x = x if every else x[rows]
             if spec.kind == "ratio":
@@ -233,6 +238,8 @@ class Exposure:
                     continue
                 inside, whole = running[bands - 1][chosen], running[-1][chosen]
                 for i, (spec, place) in enumerate(zip(self.mapping, self.places, strict=True)):
+                    if place is None:
+                        continue
                     values = _values(spec, place, inside, whole)
                     if spec.cap is None:
                         tallies[w][i] = tallies[w][i].merge(_tally(spec, *values))
@@ -243,8 +250,12 @@ class Exposure:
                                                                   strict=True):
             units = int(complete.sum())
             metrics, problems = [], {}
-            for spec, tally, values in zip(self.mapping, window_tallies, window_kept,
-                                           strict=True):
+            for spec, place, tally, values in zip(self.mapping, self.places, window_tallies,
+                                                  window_kept, strict=True):
+                if place is None:
+                    problems[spec.name] = ("a quantile is of the rows' values; it has no "
+                                           "per-unit window")
+                    continue
                 try:
                     if spec.cap is None:
                         summary = finish(spec, replace(tally, rows=units))

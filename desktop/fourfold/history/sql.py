@@ -119,11 +119,16 @@ def history_query(mapping: Sequence[ColumnMap], table: str | Sequence[str], *,
 
 
 def check_mapping(mapping: Sequence[ColumnMap]) -> list[ColumnMap]:
-    """The mapping as a list; HistoryError when it is empty or has a cap."""
+    """The mapping as a list; HistoryError when it is empty, has a cap or a quantile."""
     mapping = list(mapping)
     if not mapping:
         raise HistoryError("map at least one column to a metric")
     for spec in mapping:
+        if spec.kind == "quantile":
+            raise HistoryError(
+                f"quantile {spec.name!r}: a quantile and the density there need the values, "
+                "which do not merge across partitions; import a per-unit file instead"
+            )
         if spec.cap is not None:
             raise HistoryError(
                 f"column {spec.column!r}: caps are percentiles, which do not merge across "

@@ -44,10 +44,10 @@ def summary_table(summary: HistorySummary) -> str:
     >>> row = MetricSummary("spend", "mean", 1000, 3, 2.5, 9.25, rho=0.41, pairs=1000)
     >>> print(summary_table(HistorySummary("h.csv", 1003, (row,))))
     h.csv: 1,003 rows
-    metric  kind  plan row      n  missing  mean  sd    ρ
-    spend   mean  mean      1,000        3  2.5   9.25  0.41
+    metric  kind  plan row      n  missing  baseline  sd    ρ
+    spend   mean  mean      1,000        3  2.5       9.25  0.41
     """
-    header = ("metric", "kind", "plan row", "n", "missing", "mean", "sd", "ρ")
+    header = ("metric", "kind", "plan row", "n", "missing", "baseline", "sd", "ρ")
     rows = [
         (m.name, m.kind, m.plan_kind, f"{m.n:,}", f"{m.missing:,}", number(m.mean),
          number(m.sd), number(m.rho, 3))
@@ -96,15 +96,16 @@ def traffic_lines(summary: HistorySummary) -> list[str]:
     lines.append("each unit's first d days (units whose whole window is in the history"
                  f"{sample}):")
     header = ("metric", "days", "units", "n", "missing", "mean", "sd", "ρ")
-    rows, problems = [], []
+    rows, problems = [], {}
     for metric in summary.metrics:
         for window in summary.windows:
             m = window.get(metric.name)
             if m is None:
-                problems.append(f"  {metric.name}, {window.days} days: "
-                                f"{window.problems.get(metric.name, 'no figures')}")
+                why = window.problems.get(metric.name, "no figures")
+                problems.setdefault((metric.name, why), []).append(str(window.days))
                 continue
             rows.append((metric.name, window.days, f"{window.units:,}", f"{m.n:,}",
                          f"{m.missing:,}", number(m.mean), number(m.sd), number(m.rho, 3)))
     lines += _aligned(header, rows, right={1, 2, 3, 4})
-    return lines + problems
+    return lines + [f"  {name}, {', '.join(days)} days: {why}"
+                    for (name, why), days in problems.items()]
