@@ -236,7 +236,7 @@ def test_readable_output_names_the_reach_and_windows(visits_csv, capsys):
     assert cli.main(["history", str(visits_csv), "--unit", "visitor", "--time", "time",
                      "--proportion", "bought"]) == 0
     out = capsys.readouterr().out
-    assert "reach from 2026-03-01 (exact)" in out
+    assert "Reach from 2026-03-01 (exact)" in out
     assert "first d days" in out
 
 

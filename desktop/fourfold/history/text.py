@@ -85,7 +85,7 @@ def reach_line(summary: HistorySummary) -> str:
         f"HyperLogLog estimate, ±{100 * reach.relative_error:.2g} % (one standard error)")
     marks = sorted({d for d in (1, 7, 14, 21, 28) if d <= reach.days} | {reach.days})
     points = " · ".join(f"day {d}: {reach.units[d - 1]:,}" for d in marks)
-    return f"reach from {reach.start} ({how}): {points}"
+    return f"Reach from {reach.start} ({how}): {points}"
 
 
 def traffic_lines(summary: HistorySummary) -> list[str]:
