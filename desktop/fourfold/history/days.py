@@ -57,7 +57,8 @@ class DayReader:
             return series.to_numpy().astype("datetime64[D]").astype(np.int64)
         if len(series) and isinstance(series.iloc[0], dt.date):  # dates from a Parquet file
             return self(pd.Series(pd.to_datetime(series.to_numpy(dtype=object))), where)
-        return self._from_text(series.astype(str), where)
+        text = series if isinstance(series.dtype, pd.StringDtype) else series.astype(str)
+        return self._from_text(text, where)
 
     def _hold(self, form: str, where, row: int = 0) -> None:
         if self.form is None:

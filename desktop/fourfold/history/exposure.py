@@ -136,39 +136,47 @@ class WindowSummary:
 
 
 _QUANTITIES = {
-    "mean": ("sum", "n"),
-    "count": ("sum", "n"),
-    "proportion": ("n", "true"),
-    "ratio": ("num", "den", "n"),
+    "mean": ("sum",),
+    "count": ("sum",),
+    "proportion": ("true",),
+    "ratio": ("num", "den"),
 }
-"""What each kind adds up per unit and band (``n``: rows with a value; ``true``: rows with 1)."""
+"""What each kind adds up per unit and band besides the rows: the values' sum, the rows with
+a 1 (``true``), a ratio's numerator and denominator; and, for every metric, ``miss``: its
+rows without a value (so that its rows with one are the unit's rows less those)."""
 
 
 class Exposure:
     """Per-unit sums of each metric by band of days since the unit's first day.
 
     The sums are columns of the :class:`~fourfold.history.ids.UnitTable`'s rows (they grow,
-    shrink and are sampled with it), one block per band holding every quantity the mapping
-    adds up (see ``_QUANTITIES``; a pre-period column adds its sum and count), so that a file
-    row's updates are side by side in memory and one ``np.add.at`` call makes them all.
-    :meth:`add` takes a chunk's rows with their unit and day offset; :meth:`windows` turns the
-    sums into one :class:`WindowSummary` per window.
+    shrink and are sampled with it), one block per band holding the unit's rows in the band
+    and every quantity the mapping adds up (see ``_QUANTITIES``; a pre-period column adds its
+    sum and its empty cells), so that a file row's updates are side by side in memory and one
+    ``np.add.at`` call makes them all; empty cells, usually few, are counted by a second call
+    over those rows only. :meth:`add` takes a chunk's rows with their unit and day offset;
+    :meth:`windows` turns the sums into one :class:`WindowSummary` per window.
     """
 
     def __init__(self, mapping: list[ColumnMap], table) -> None:
         self.mapping = mapping
         self.table = table
-        self.places: list[dict[str, int] | None] = []
-        width = 0
-        for spec in mapping:
+        dense: list[tuple[int, str]] = []
+        sparse: list[tuple[int, str]] = []
+        for i, spec in enumerate(mapping):
             if spec.kind not in _QUANTITIES:  # a quantile is of the rows, not of units
-                self.places.append(None)
                 continue
-            names = _QUANTITIES[spec.kind] + (("pre", "pre_n") if spec.pre is not None else ())
-            self.places.append({name: width + k for k, name in enumerate(names)})
-            width += len(names)
-        self.block = width
-        self.start = table.add_columns(BANDS * width)
+            pre = spec.pre is not None
+            dense += [(i, name) for name in _QUANTITIES[spec.kind] + (("pre",) if pre else ())]
+            sparse += [(i, "miss")] + ([(i, "pre_miss")] if pre else [])
+        # Column 0 of a band's block counts the unit's rows in the band.
+        self.places: list[dict[str, int] | None] = [
+            None if spec.kind not in _QUANTITIES else {} for spec in mapping]
+        for column, (i, name) in enumerate(dense + sparse, start=1):
+            self.places[i][name] = column
+        self.dense = 1 + len(dense)
+        self.block = 1 + len(dense) + len(sparse)
+        self.start = table.add_columns(BANDS * self.block)
 
     def clear(self) -> None:
         """Forget every sum (before a second pass)."""
@@ -182,18 +190,23 @@ class Exposure:
         every = rows.size == index.size
         if not every:
             index, offset = index[rows], offset[rows]
+
+        def numbers(column: str, kind: str) -> np.ndarray:
+            x = value(column, kind)
+            return x if every else x[rows]
+
         band = np.minimum(offset // BAND_DAYS, BANDS - 1)
         width = self.table.rows.shape[1]
-        where = (index * width + self.start + band * self.block)[:, None] + np.arange(self.block)
-        amounts = np.empty((index.size, self.block))
+        base = index * width + self.start + band * self.block
+        amounts = np.empty((index.size, self.dense))
+        amounts[:, 0] = 1.0
+        empty: list[tuple[int, np.ndarray]] = []
         for spec, place in zip(self.mapping, self.places, strict=True):
             if place is None:
                 continue
-            x = value(spec.column, "mean" if spec.kind == "ratio" else spec.kind)
-            x = x if every else x[rows]
+            x = numbers(spec.column, "mean" if spec.kind == "ratio" else spec.kind)
             if spec.kind == "ratio":
-                d = value(spec.denominator, "mean")
-                d = d if every else d[rows]
+                d = numbers(spec.denominator, "mean")
                 present = ~(np.isnan(x) | np.isnan(d))
                 amounts[:, place["num"]] = np.where(present, x, 0.0)
                 amounts[:, place["den"]] = np.where(present, d, 0.0)
@@ -203,14 +216,17 @@ class Exposure:
                     amounts[:, place["true"]] = x == 1.0
                 else:
                     amounts[:, place["sum"]] = np.where(present, x, 0.0)
-            amounts[:, place["n"]] = present
+            empty.append((place["miss"], ~present))
             if spec.pre is not None:
-                pre = value(spec.pre, spec.kind)
-                pre = pre if every else pre[rows]
+                pre = numbers(spec.pre, spec.kind)
                 has = ~np.isnan(pre)
                 amounts[:, place["pre"]] = np.where(has, pre, 0.0)
-                amounts[:, place["pre_n"]] = has
-        np.add.at(self.table.rows.reshape(-1), where.ravel(), amounts.ravel())
+                empty.append((place["pre_miss"], ~has))
+        flat = self.table.rows.reshape(-1)
+        np.add.at(flat, (base[:, None] + np.arange(self.dense)).ravel(), amounts.ravel())
+        where = [base[mask] + column for column, mask in empty if mask.any()]
+        if where:
+            np.add.at(flat, np.concatenate(where), 1.0)
 
     def windows(self, first_days: np.ndarray, day_one: int, days: int,
                 share: float = 1.0) -> tuple[WindowSummary, ...]:
@@ -275,8 +291,8 @@ def _values(spec: ColumnMap, place: dict[str, int], inside: np.ndarray, whole: n
     """The metric's per-unit values in a window (units with a value only) and its other
     column: the denominator of a ratio, the pre-period value (nan where none), or None.
     ``inside`` holds the units' sums over the window's bands, ``whole`` over all bands (the
-    pre-period value is a unit attribute)."""
-    present = inside[:, place["n"]] > 0
+    pre-period value is a unit attribute); column 0 is the unit's rows."""
+    present = inside[:, 0] - inside[:, place["miss"]] > 0
     if spec.kind == "ratio":
         return inside[present, place["num"]], inside[present, place["den"]]
     if spec.kind == "proportion":
@@ -285,7 +301,7 @@ def _values(spec: ColumnMap, place: dict[str, int], inside: np.ndarray, whole: n
         x = inside[present, place["sum"]]
     if spec.pre is None:
         return x, None
-    pre_n = whole[present, place["pre_n"]]
+    pre_n = whole[present, 0] - whole[present, place["pre_miss"]]
     with np.errstate(invalid="ignore", divide="ignore"):
         pre = np.where(pre_n > 0, whole[present, place["pre"]] / pre_n, np.nan)
     return x, pre

@@ -301,9 +301,10 @@ class UnitTable:
         held = found >= 0
         at, code = found[held], earliest(np.asarray(days)[held])
         known = self._first[at]
-        if ((code > known) & (known > 0)).any():
+        earlier = code > known  # new units (known 0) and rows before a unit's first day
+        if (earlier & (known > 0)).any():
             self.out_of_order = True
-        np.maximum.at(self._first, at, code)
+        np.maximum.at(self._first, at[earlier], code[earlier])
         return found
 
     def _find(self, keys: np.ndarray) -> np.ndarray:
