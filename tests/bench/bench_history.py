@@ -150,7 +150,7 @@ def measure(path: Path, what: str, repeat: int) -> dict:
     for _ in range(repeat):
         out = subprocess.run([sys.executable, "-c", _RUN, str(path), what], check=True,
                              capture_output=True, text=True)
-        runs.append(json.loads(out.stdout))
+        runs.append(json.loads(out.stdout.strip().splitlines()[-1]))
     result = dict(runs[0])
     result["seconds"] = statistics.median(r["seconds"] for r in runs)
     result["peak_mb"] = max(r["peak_mb"] for r in runs)

@@ -103,14 +103,34 @@ _MONTH_DAYS = np.array([0, 31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31])
 
 def _iso_days(text) -> tuple[np.ndarray, np.ndarray]:
     """Days since 1970-01-01 of text cells starting ``YYYY-MM-DD`` (then nothing, or a time
-    after ``T`` or a space), read from the cells' bytes; and which cells are not such dates."""
+    after ``T`` or a space), read from the cells' bytes; and which cells are not such dates.
+
+    A log in time order repeats each date over many rows: the date is parsed once per run of
+    cells that start with the same ten bytes.
+    """
     starts, length, _, data = utf8_cells(text)
-    cells = data[starts[:, None] + np.arange(11)]
-    digits = cells[:, _DIGITS] - np.uint8(ord("0"))  # wraps below "0", so one test: < 10
-    after = cells[:, 10]
-    bad = ((length < 10) | (digits > 9).any(axis=1)
-           | (cells[:, 4] != ord("-")) | (cells[:, 7] != ord("-"))
+    if starts.size == 0:
+        return np.empty(0, np.int64), np.empty(0, bool)
+    words = np.ndarray(shape=(data.size - 7,), dtype="<u8", buffer=data.data, strides=(1,))
+    pairs = np.ndarray(shape=(data.size - 1,), dtype="<u2", buffer=data.data, strides=(1,))
+    head, tail = words[starts], pairs[starts + 8]
+    new = np.empty(starts.size, bool)
+    new[0] = True
+    new[1:] = (head[1:] != head[:-1]) | (tail[1:] != tail[:-1])
+    first = np.flatnonzero(new)
+    days, wrong = _parse_dates(data, starts[first])
+    runs = np.diff(np.append(first, starts.size))
+    after = data[starts + 10]
+    bad = (np.repeat(wrong, runs) | (length < 10)
            | ((length > 10) & (after != ord("T")) & (after != ord("t")) & (after != ord(" "))))
+    return np.repeat(days, runs), bad
+
+
+def _parse_dates(data: np.ndarray, starts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Days of the ``YYYY-MM-DD`` at each start, and which are not such dates."""
+    cells = data[starts[:, None] + np.arange(10)]
+    digits = cells[:, _DIGITS] - np.uint8(ord("0"))  # wraps below "0", so one test: < 10
+    bad = (digits > 9).any(axis=1) | (cells[:, 4] != ord("-")) | (cells[:, 7] != ord("-"))
     digits = digits.astype(np.int64)
     year = digits[:, 0] * 1000 + digits[:, 1] * 100 + digits[:, 2] * 10 + digits[:, 3]
     month = digits[:, 4] * 10 + digits[:, 5]

@@ -107,6 +107,8 @@ class DuckDBQuery:
             connection = duckdb.connect(":memory:")
             try:
                 connection.execute("SET temp_directory = ?", [spill])
+                connection.execute("SET enable_progress_bar = true")  # for query_progress()
+                connection.execute("SET enable_progress_bar_print = false")
                 _keep_casts_out_of_the_csv_scan(connection, duckdb)
                 names = [str(path) for path in self.files]
                 if self.parquet:

@@ -16,12 +16,15 @@ is D days long.
   pre-period column is a unit attribute: its mean over the unit's rows that have one. A cap
   applies to the per-unit window values, at their exact percentile.
 
-Memory: per unit, :class:`~fourfold.history.ids.UnitTable` holds 20 bytes, and per mapped metric
-:class:`Exposure` adds the sums of five bands of days since the first (days 1–7, 8–14,
-15–21, 22–28, 29 on), from which every window is a prefix: 42 bytes for a mean or count, 4 for
-a proportion, 82 for a ratio, 12 more for a pre-period column. Past the memory budget the
-windows come from a hashed sample of units (one in 2ᵏ, chosen by id, so never a unit's partial
-history) and the report says so.
+Memory: per unit, :class:`~fourfold.history.ids.UnitTable` holds 20 to 28 bytes (hash, first
+day, slots), and :class:`Exposure` keeps, for each of five bands of days since the first
+(days 1–7, 8–14, 15–21, 22–28, 29 on; every window is a prefix of them), the unit's rows and
+two numbers per metric (three for a ratio, two more for a pre-period column): 40 bytes, plus
+80 per mean, count or proportion metric, 120 per ratio and 80 per pre-period column. One mean
+with its pre-period column takes 224 bytes a unit; the six metrics of the sample history 744.
+Past the memory budget (:data:`fourfold.history.traffic.DEFAULT_UNIT_MEMORY`) the windows come
+from a hashed sample of units (one in 2ᵏ, chosen by id, so never a unit's partial history)
+and the report says so.
 """
 
 from __future__ import annotations
@@ -284,7 +287,7 @@ class Exposure:
         return tuple(out)
 
 
-_UNITS_AT_ONCE = 1 << 16
+_UNITS_AT_ONCE = 1 << 17
 
 
 def _values(spec: ColumnMap, place: dict[str, int], inside: np.ndarray, whole: np.ndarray):

@@ -29,7 +29,8 @@ from fourfold.history.ids import UnitTable, hash_ids
 
 DEFAULT_UNIT_MEMORY = 1 << 30
 """Bytes of per-unit arrays (1 GiB) before the reach curve is estimated and the windows are
-sampled; with one mean column and its pre-period column, 13 million units fit."""
+sampled: 4.8 million units with one mean column and its pre-period column, 1.4 million with the
+six metrics of the sample history (see :mod:`fourfold.history.exposure` for the bytes)."""
 
 
 class TrafficPass:
