@@ -179,6 +179,8 @@ class Exposure:
             self.places[i][name] = column
         self.dense = 1 + len(dense)
         self.block = 1 + len(dense) + len(sparse)
+        self._amounts: np.ndarray | None = None
+        self._where: np.ndarray | None = None
         self.start = table.add_columns(BANDS * self.block)
 
     def clear(self) -> None:
@@ -189,9 +191,9 @@ class Exposure:
         """Add a chunk: ``index`` the unit of each row (−1: not followed), ``offset`` its
         days since the unit's first day, ``value(column, kind)`` a column's numbers (nan
         where empty)."""
-        rows = np.flatnonzero(index >= 0)
-        every = rows.size == index.size
+        every = index.size == 0 or index.min() >= 0
         if not every:
+            rows = np.flatnonzero(index >= 0)
             index, offset = index[rows], offset[rows]
 
         def numbers(column: str, kind: str) -> np.ndarray:
@@ -201,7 +203,7 @@ class Exposure:
         band = np.minimum(offset // BAND_DAYS, BANDS - 1)
         width = self.table.rows.shape[1]
         base = index * width + self.start + band * self.block
-        amounts = np.empty((index.size, self.dense))
+        amounts, where = self._buffers(index.size)
         amounts[:, 0] = 1.0
         empty: list[tuple[int, np.ndarray]] = []
         for spec, place in zip(self.mapping, self.places, strict=True):
@@ -226,10 +228,19 @@ class Exposure:
                 amounts[:, place["pre"]] = np.where(has, pre, 0.0)
                 empty.append((place["pre_miss"], ~has))
         flat = self.table.rows.reshape(-1)
-        np.add.at(flat, (base[:, None] + np.arange(self.dense)).ravel(), amounts.ravel())
-        where = [base[mask] + column for column, mask in empty if mask.any()]
-        if where:
-            np.add.at(flat, np.concatenate(where), 1.0)
+        np.add(base[:, None], np.arange(self.dense), out=where)
+        np.add.at(flat, where.reshape(-1), amounts.reshape(-1))
+        cells = [base[mask] + column for column, mask in empty if mask.any()]
+        if cells:
+            np.add.at(flat, np.concatenate(cells), 1.0)
+
+    def _buffers(self, rows: int) -> tuple[np.ndarray, np.ndarray]:
+        """The chunk's amounts and cells, in arrays kept from chunk to chunk (fresh large
+        arrays would be fresh pages of memory, each written for the first time)."""
+        if self._amounts is None or len(self._amounts) < rows:
+            self._amounts = np.empty((rows, self.dense))
+            self._where = np.empty((rows, self.dense), np.int64)
+        return self._amounts[:rows], self._where[:rows]
 
     def windows(self, first_days: np.ndarray, day_one: int, days: int,
                 share: float = 1.0) -> tuple[WindowSummary, ...]:

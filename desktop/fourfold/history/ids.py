@@ -280,12 +280,15 @@ class UnitTable:
         level (see :meth:`raise_level`) or stop.
         """
         self._reserve()
-        keep = self.sampled(keys)
-        found = np.full(keys.size, -1, np.int64)
-        found[keep] = self._find(keys[keep])
+        if self.level == 0:
+            keep, found = None, self._find(keys)
+        else:
+            keep = self.sampled(keys)
+            found = np.full(keys.size, -1, np.int64)
+            found[keep] = self._find(keys[keep])
         if not add:
             return found
-        new = keep & (found < 0)
+        new = found < 0 if keep is None else keep & (found < 0)
         if new.any():
             unique, inverse = np.unique(keys[new], return_inverse=True)
             while self.size + unique.size > self.limit:
@@ -299,7 +302,10 @@ class UnitTable:
                 unique, inverse = np.unique(keys[new], return_inverse=True)
             found[new] = self._insert(unique)[inverse]
         held = found >= 0
-        at, code = found[held], earliest(np.asarray(days)[held])
+        if held.all():
+            at, code = found, earliest(days)
+        else:
+            at, code = found[held], earliest(np.asarray(days)[held])
         known = self._first[at]
         earlier = code > known  # new units (known 0) and rows before a unit's first day
         if (earlier & (known > 0)).any():
@@ -310,15 +316,17 @@ class UnitTable:
     def _find(self, keys: np.ndarray) -> np.ndarray:
         mask = self._slots.size - 1
         slot = (keys & np.uint64(mask)).astype(np.int64)
-        out = np.full(keys.size, -1, np.int64)
-        todo = np.arange(keys.size)
+        # The first probe finds nearly every key (the table is at most half full).
+        held = self._slots[slot]
+        out = np.where((held >= 0) & (self._keys[np.maximum(held, 0)] == keys), held, -1)
+        todo = np.flatnonzero((out < 0) & (held >= 0))
         while todo.size:
+            slot[todo] = (slot[todo] + 1) & mask
             held = self._slots[slot[todo]]
             empty = held < 0
             hit = ~empty & (self._keys[np.maximum(held, 0)] == keys[todo])
             out[todo[hit]] = held[hit]
             todo = todo[~empty & ~hit]
-            slot[todo] = (slot[todo] + 1) & mask
         return out
 
     def _insert(self, keys: np.ndarray) -> np.ndarray:
