@@ -40,26 +40,16 @@ TARGET_TRAFFIC_PEAK_MB = 1500  # reach + windows: the unit table's budget (1 GiB
 _RUN = r"""
 import json, resource, sys, time
 
-def peak_mb():
+def status_mb(field):
     # VmHWM is this process's own high-water mark (ru_maxrss keeps the parent's across exec).
     try:
         with open("/proc/self/status") as status:
             for row in status:
-                if row.startswith("VmHWM:"):
+                if row.startswith(field + ":"):
                     return int(row.split()[1]) / 1024
     except OSError:
         pass
-    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-
-def rss_mb():
-    try:
-        with open("/proc/self/status") as status:
-            for row in status:
-                if row.startswith("VmRSS:"):
-                    return int(row.split()[1]) / 1024
-    except OSError:
-        pass
-    return 0.0
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024 if field == "VmHWM" else 0.0
 
 path, what = sys.argv[1], sys.argv[2]
 start = time.perf_counter()
@@ -72,13 +62,13 @@ if what == "pandas":
 elif what == "ids":
     import numpy as np
     from fourfold.history.ids import UnitTable, mix64
-    before = rss_mb()
+    before = status_mb("VmRSS")
     table = UnitTable(limit=1 << 25)
     for first in range(0, 10_000_000, 500_000):
         keys = mix64(np.arange(first, first + 500_000, dtype=np.uint64) + np.uint64(1))
         table.index(keys, np.zeros(keys.size, np.int64))
     rows = table.size
-    extra_mb = rss_mb() - before
+    extra_mb = status_mb("VmRSS") - before
 else:
     from fourfold.history import ColumnMap
     from fourfold.history.sources import summarise
@@ -92,7 +82,7 @@ else:
     rows = summary.rows
     reach = list(summary.reach.units) if summary.reach is not None else None
 seconds = time.perf_counter() - start
-out = {"rows": rows, "seconds": seconds, "peak_mb": peak_mb()}
+out = {"rows": rows, "seconds": seconds, "peak_mb": status_mb("VmHWM")}
 if reach is not None:
     out["reach"] = reach
 if extra_mb is not None:

@@ -7,6 +7,16 @@ modules called ``conftest`` in folders without ``__init__.py`` would clash.
 import numpy as np
 import pandas as pd
 
+from fourfold.history import ColumnMap
+
+VISIT_MAPPING = [
+    ColumnMap("mean", "spend", pre="pre_spend"),
+    ColumnMap("proportion", "bought"),
+    ColumnMap("count", "contacts"),
+    ColumnMap("ratio", "clicks", denominator="sessions"),
+]
+"""Every kind of metric the visits of :func:`make_visits` have, with a pre-period column."""
+
 
 def make_frame(rows: int = 3000, seed: int = 4) -> pd.DataFrame:
     """A small per-unit table with every kind of column and some empty cells."""

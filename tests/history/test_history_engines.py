@@ -9,7 +9,7 @@ import threading
 import time
 
 import pytest
-from history_frames import make_visits
+from history_frames import VISIT_MAPPING as MAPPING
 
 from fourfold import cli
 from fourfold.history import ColumnMap, HistoryCancelled, HistoryError, read_history
@@ -20,16 +20,6 @@ duckdb = pytest.importorskip("duckdb")
 pytest.importorskip("sqlalchemy")
 pytest.importorskip("duckdb_engine")
 
-MAPPING = [
-    ColumnMap("mean", "spend", pre="pre_spend"),
-    ColumnMap("proportion", "bought"),
-    ColumnMap("ratio", "clicks", denominator="sessions"),
-]
-
-
-@pytest.fixture(scope="module")
-def visits():
-    return make_visits()
 
 
 @pytest.fixture
@@ -52,10 +42,8 @@ def _same(a, b):
     assert b.sd == pytest.approx(a.sd, rel=1e-9)
 
 
-def test_sqlalchemy_end_to_end_equals_the_file_import(database, visits, tmp_path):
-    path = tmp_path / "visits.csv"
-    visits.to_csv(path, index=False)
-    from_file = read_history(path, MAPPING, unit="visitor", time="time")
+def test_sqlalchemy_end_to_end_equals_the_file_import(database, visits_csv):
+    from_file = read_history(visits_csv, MAPPING, unit="visitor", time="time")
     summary = query_warehouse(f"duckdb:///{database}", MAPPING, "shop.visits",
                               unit="visitor", time="time")
     assert summary.source == f"duckdb:///{database}"

@@ -11,30 +11,11 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
-from history_frames import make_visits
+from history_frames import VISIT_MAPPING as MAPPING
 
 from fourfold import cli
 from fourfold.history import ColumnMap, HistoryError, read_history
 from fourfold.history.exposure import window_days
-
-MAPPING = [
-    ColumnMap("mean", "spend", pre="pre_spend"),
-    ColumnMap("proportion", "bought"),
-    ColumnMap("count", "contacts"),
-    ColumnMap("ratio", "clicks", denominator="sessions"),
-]
-
-
-@pytest.fixture(scope="module")
-def visits():
-    return make_visits()
-
-
-@pytest.fixture
-def visits_csv(tmp_path, visits):
-    path = tmp_path / "visits.csv"
-    visits.to_csv(path, index=False)
-    return path
 
 
 def _day_index(frame):

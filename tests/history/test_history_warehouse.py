@@ -6,7 +6,7 @@ tests/history checks against pandas.
 """
 
 import pytest
-from history_frames import make_visits
+from history_frames import VISIT_MAPPING as MAPPING
 
 from fourfold.history import ColumnMap, HistoryError, read_history
 from fourfold.history.sql import DIALECTS
@@ -20,12 +20,6 @@ from fourfold.history.warehouse import (
 duckdb = pytest.importorskip("duckdb")
 sqlglot = pytest.importorskip("sqlglot")
 
-MAPPING = [
-    ColumnMap("mean", "spend", pre="pre_spend"),
-    ColumnMap("proportion", "bought"),
-    ColumnMap("count", "contacts"),
-    ColumnMap("ratio", "clicks", denominator="sessions"),
-]
 HOSTILE = [
     'sp"end; DROP TABLE x; --',
     "sp`end /* comment */",
@@ -43,11 +37,6 @@ def connection(frame):
     con.execute('CREATE SCHEMA shop; CREATE TABLE shop."visits 2026" AS SELECT * FROM frame_view')
     yield con
     con.close()
-
-
-@pytest.fixture(scope="module")
-def visits():
-    return make_visits()
 
 
 @pytest.fixture
@@ -91,11 +80,9 @@ def test_every_dialect_runs_with_the_file_import_numbers(connection, history_csv
 
 
 @pytest.mark.parametrize("dialect", DIALECTS)
-def test_reach_and_windows_in_every_dialect_equal_the_file_import(visits_connection, visits,
-                                                                   tmp_path, dialect):
-    path = tmp_path / "visits.csv"
-    visits.to_csv(path, index=False)
-    from_file = read_history(path, MAPPING, unit="visitor", time="time")
+def test_reach_and_windows_in_every_dialect_equal_the_file_import(visits_connection,
+                                                                   visits_csv, dialect):
+    from_file = read_history(visits_csv, MAPPING, unit="visitor", time="time")
     sql = warehouse_sql(MAPPING, "visits", dialect=dialect, unit="visitor", time="time")
     columns, rows = _run(visits_connection, sql, dialect)
     from_sql = read_warehouse_rows(columns, rows, MAPPING)
