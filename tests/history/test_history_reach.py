@@ -248,3 +248,15 @@ def test_ids_and_dates_read_the_same_without_pyarrow(monkeypatch):
     assert with_arrow[0].tolist() == without[0].tolist()
     assert with_arrow[1].tolist() == without[1].tolist() == [20513, 20514, 20514, 20516]
     assert hash_ids(pd.Series([17]), "u", str)[0] == without[0][2]
+
+
+def test_a_metric_named_like_the_reach_is_refused_with_units(tmp_path):
+    from fourfold.history.warehouse import warehouse_sql
+
+    path = tmp_path / "h.csv"
+    path.write_text("u,t,reach\na,2026-03-01,1\nb,2026-03-02,2\n")
+    for read in (lambda: read_history(path, [ColumnMap("mean", "reach")], unit="u", time="t"),
+                 lambda: warehouse_sql([ColumnMap("mean", "reach")], "t", unit="u", time="t")):
+        with pytest.raises(HistoryError, match="cannot go with a unit and a time column"):
+            read()
+    assert read_history(path, [ColumnMap("mean", "reach")])["reach"].n == 2

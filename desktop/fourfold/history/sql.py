@@ -44,7 +44,7 @@ from collections.abc import Sequence
 
 from fourfold.history.errors import HistoryError
 from fourfold.history.exposure import WINDOW_DAYS
-from fourfold.history.summary import ColumnMap
+from fourfold.history.summary import RESERVED_KEYS, ColumnMap
 
 DIALECTS = ("ansi", "postgres", "snowflake", "bigquery", "spark", "databricks", "redshift",
             "trino", "duckdb", "mysql")
@@ -144,6 +144,10 @@ def history_tree(mapping: list[ColumnMap], table, *, group_by=None, unit=None, t
 
     if (unit is None) != (time is None):
         raise HistoryError("reach and windows need both a unit column and a time column")
+    clash = [spec.name for spec in mapping if unit is not None and spec.name in RESERVED_KEYS]
+    if clash:
+        raise HistoryError(f"a metric called {clash[0]!r} cannot go with a unit and a time "
+                           "column (the output uses that name for the reach curve)")
     columns = list(dict.fromkeys(c for spec in mapping for c in spec.columns))
     slot = {column: f"c{i + 1}" for i, column in enumerate(columns)}
     if unit is None:
