@@ -178,10 +178,12 @@ class Exposure:
         for column, (i, name) in enumerate(dense + sparse, start=1):
             self.places[i][name] = column
         self.dense = 1 + len(dense)
-        self.block = 1 + len(dense) + len(sparse)
+        self.sparse = len(sparse)
+        self.block = self.dense + self.sparse
         self._amounts: np.ndarray | None = None
         self._where: np.ndarray | None = None
-        self.start = table.add_columns(BANDS * self.block)
+        self.start = table.add_columns(BANDS * self.dense)
+        self.sparse_start = table.add_columns(BANDS * self.sparse, matrix=1)
 
     def clear(self) -> None:
         """Forget every sum (before a second pass)."""
@@ -202,7 +204,7 @@ class Exposure:
 
         band = np.minimum(offset // BAND_DAYS, BANDS - 1)
         width = self.table.rows.shape[1]
-        base = index * width + self.start + band * self.block
+        base = index * width + self.start + band * self.dense
         amounts, where = self._buffers(index.size)
         amounts[:, 0] = 1.0
         empty: list[tuple[int, np.ndarray]] = []
@@ -230,9 +232,12 @@ class Exposure:
         flat = self.table.rows.reshape(-1)
         np.add(base[:, None], np.arange(self.dense), out=where)
         np.add.at(flat, where.reshape(-1), amounts.reshape(-1))
+        if not any(mask.any() for _, mask in empty):
+            return
+        sparse = self.table.matrix(1)
+        base = index * sparse.shape[1] + self.sparse_start + band * self.sparse - self.dense
         cells = [base[mask] + column for column, mask in empty if mask.any()]
-        if cells:
-            np.add.at(flat, np.concatenate(cells), 1.0)
+        np.add.at(sparse.reshape(-1), np.concatenate(cells), 1.0)
 
     def _buffers(self, rows: int) -> tuple[np.ndarray, np.ndarray]:
         """The chunk's amounts and cells, in arrays kept from chunk to chunk (fresh large
@@ -255,18 +260,27 @@ class Exposure:
                 for d in window_days(days)]
         tallies = [[Tally() for _ in self.mapping] for _ in plan]
         kept: list[list[list]] = [[[] for _ in self.mapping] for _ in plan]
-        rows = self.table.rows
+        rows, sparse = self.table.rows, self.table.matrix(1)
+        # One slice of units at a time, band by band, in buffers kept for the whole call.
+        part = np.empty((BANDS, min(_UNITS_AT_ONCE, start.size), self.block))
+        running = np.empty_like(part)
         for a in range(0, start.size, _UNITS_AT_ONCE):
-            part = rows[a:min(a + _UNITS_AT_ONCE, start.size),
-                        self.start:self.start + BANDS * self.block]
-            running = [part[:, :self.block].copy()]
+            end = min(a + _UNITS_AT_ONCE, start.size)
+            here, cum = part[:, :end - a], running[:, :end - a]
+            here[:, :, :self.dense] = rows[a:end, self.start:self.start + BANDS * self.dense
+                                           ].reshape(-1, BANDS, self.dense).transpose(1, 0, 2)
+            here[:, :, self.dense:] = sparse[
+                a:end, self.sparse_start:self.sparse_start + BANDS * self.sparse
+            ].reshape(-1, BANDS, self.sparse).transpose(1, 0, 2)
+            cum[0] = here[0]
             for band in range(1, BANDS):
-                running.append(running[-1] + part[:, band * self.block:(band + 1) * self.block])
+                np.add(cum[band - 1], here[band], out=cum[band])
             for w, (_, complete, bands) in enumerate(plan):
-                chosen = complete[a:a + _UNITS_AT_ONCE]
-                if not chosen.any():
+                chosen = np.flatnonzero(complete[a:a + _UNITS_AT_ONCE])
+                if not chosen.size:
                     continue
-                inside, whole = running[bands - 1][chosen], running[-1][chosen]
+                inside = cum[bands - 1].take(chosen, axis=0)
+                whole = cum[-1].take(chosen, axis=0)
                 for i, (spec, place) in enumerate(zip(self.mapping, self.places, strict=True)):
                     if place is None:
                         continue

@@ -209,45 +209,56 @@ class UnitTable:
         self.level = 0
         self.size = 0
         self.out_of_order = False
-        self._width = 0
+        self._widths = [0, 0]
         self._first: np.ndarray | None = None
         self._keys: np.ndarray | None = None
-        self._rows: np.ndarray | None = None
+        self._matrices: list[np.ndarray] | None = None
         self._slots = np.full(_slots_for(1 << 15), -1, np.int32)
 
     # -- per-unit numbers ------------------------------------------------------------------
 
-    def add_columns(self, count: int) -> int:
-        """Add ``count`` columns of zeros to every unit's row; the first new column's number.
+    def add_columns(self, count: int, matrix: int = 0) -> int:
+        """Add ``count`` columns of zeros to every unit's row of ``matrix`` (0: the numbers
+        every file row updates; 1: numbers few rows update, kept apart so that they do not
+        thin out the others in memory); the first new column's number.
 
         Every column starts at zero, so fresh memory is not written before it is used.
         """
-        if self._rows is not None:
+        if self._matrices is not None:
             raise RuntimeError("add columns before the first unit")
-        start = self._width
-        self._width += count
+        start = self._widths[matrix]
+        self._widths[matrix] += count
         return start
 
     def clear_columns(self) -> None:
         """Set every added column back to zero (first days stay)."""
-        self.rows[:self.size] = 0.0
+        for values in self._all():
+            values[:self.size] = 0.0
 
     @property
     def rows(self) -> np.ndarray:
-        """The units' rows, shape (limit, width); the first :attr:`size` are in use."""
+        """The units' rows of matrix 0, shape (limit, width); the first :attr:`size` are in
+        use."""
+        return self.matrix(0)
+
+    def matrix(self, number: int) -> np.ndarray:
+        """The units' rows of matrix ``number`` (see :meth:`add_columns`)."""
+        return self._all()[number]
+
+    def _all(self) -> list[np.ndarray]:
         self._reserve()
-        return self._rows
+        return self._matrices
 
     def _reserve(self) -> None:
-        if self._rows is None:
+        if self._matrices is None:
             self._keys = np.zeros(self.limit, np.uint64)
             self._first = np.zeros(self.limit, np.int32)
-            self._rows = np.zeros((self.limit, self._width))
+            self._matrices = [np.zeros((self.limit, width)) for width in self._widths]
 
     @property
     def bytes_per_unit(self) -> int:
-        """Bytes held per unit at most: hash, first day, slots and the unit's row."""
-        return 8 + 4 + 16 + 8 * self._width
+        """Bytes held per unit at most: hash, first day, slots and the unit's rows."""
+        return 8 + 4 + 16 + 8 * sum(self._widths)
 
     def keys(self) -> np.ndarray:
         """The hashes of the units held."""
@@ -364,8 +375,9 @@ class UnitTable:
         self._keys[:count] = self._keys[:self.size][keep]
         self._first[:count] = self._first[:self.size][keep]
         self._first[count:self.size] = 0
-        self._rows[:count] = self._rows[:self.size][keep]
-        self._rows[count:self.size] = 0.0
+        for values in self._matrices:
+            values[:count] = values[:self.size][keep]
+            values[count:self.size] = 0.0
         self.size = count
         self._rebuild_slots()
 
