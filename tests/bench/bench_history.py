@@ -10,8 +10,9 @@ a temporary folder, then measures in fresh subprocesses, taking the **median of 
 * ``read_history`` with ``unit`` and ``time`` (the same moments plus the reach curve and the
   windowed moments in the same pass) — target: within 2× the current import's time, and a
   bounded peak memory;
-* DuckDB (``--engine duckdb``) on the same CSV, and both engines on the Parquet file — the
-  faster per format is printed, to be :data:`fourfold.history.sources.FASTER`;
+* DuckDB (``--engine duckdb``) on the same CSV, and both engines on the Parquet file, with and
+  without the reach and windows — the faster per format and job is printed, to be
+  :data:`fourfold.history.sources.FASTER`;
 * the memory of 10⁷ distinct ids in :class:`fourfold.history.ids.UnitTable` alone, and the
   reach of a run past a small memory budget (HyperLogLog) with its error against the exact one.
 
@@ -174,6 +175,8 @@ def main(rows: int = ROWS, repeat: int = REPEAT) -> int:
             ("DuckDB, CSV, reach + windows", csv, "duckdb-units"),
             ("read_history, Parquet", parquet, "stream"),
             ("DuckDB, Parquet", parquet, "duckdb"),
+            ("read_history, Parquet, reach + windows", parquet, "stream-units"),
+            ("DuckDB, Parquet, reach + windows", parquet, "duckdb-units"),
             ("reach past a 64 MB budget (HyperLogLog)", csv, "sketch"),
             ("10^7 distinct ids in the unit table", csv, "ids"),
         ):
@@ -194,11 +197,18 @@ def main(rows: int = ROWS, repeat: int = REPEAT) -> int:
     print(f"10^7 distinct ids: the unit table holds {ids['table_mb']:.0f} MB (process peak "
           f"{ids['peak_mb']:.0f} MB)")
     faster = {}
-    for form, stream, duck in (("csv", "read_history, CSV (current import)", "DuckDB, CSV"),
-                               ("parquet", "read_history, Parquet", "DuckDB, Parquet")):
-        faster[form] = "duckdb" if runs[duck]["seconds"] < runs[stream]["seconds"] else "stream"
-        print(f"faster for {form}: {faster[form]} "
-              f"({runs[stream]['seconds']:.2f} s streaming, {runs[duck]['seconds']:.2f} s DuckDB)")
+    pairs = {
+        ("csv", "moments"): ("read_history, CSV (current import)", "DuckDB, CSV"),
+        ("csv", "units"): ("read_history, CSV, reach + windows", "DuckDB, CSV, reach + windows"),
+        ("parquet", "moments"): ("read_history, Parquet", "DuckDB, Parquet"),
+        ("parquet", "units"): ("read_history, Parquet, reach + windows",
+                               "DuckDB, Parquet, reach + windows"),
+    }
+    for (form, job), (stream_name, duck_name) in pairs.items():
+        stream, duck = runs[stream_name], runs[duck_name]
+        faster[form, job] = "duckdb" if duck["seconds"] < stream["seconds"] else "stream"
+        print(f"faster for {form}, {job}: {faster[form, job]} ({stream['seconds']:.2f} s "
+              f"streaming, {duck['seconds']:.2f} s DuckDB)")
     if faster != FASTER:
         print(f"NOTE: fourfold.history.sources.FASTER is {FASTER}; measured here {faster}")
     print(f"targets: current import ratio ≥ {TARGET_RATIO} (got {ratio:.2f}), peak ≤ "

@@ -170,8 +170,9 @@ def test_under_auto_what_duckdb_refuses_the_streaming_reader_reads(tmp_path, mon
     mapping = [ColumnMap("proportion", "bought")]
     with pytest.raises(HistoryError, match="DuckDB cannot read it"):
         summarise(path, mapping, engine="duckdb")
-    monkeypatch.setitem(sys.modules["fourfold.history.sources"].FASTER, "csv", "duckdb")
-    assert choose_engine(path, mapping) == "duckdb"
+    monkeypatch.setitem(sys.modules["fourfold.history.sources"].FASTER, ("csv", "units"),
+                        "duckdb")
+    assert choose_engine(path, mapping, unit="u") == "duckdb"
     summary = summarise(path, mapping, unit="u", time="t")
     assert summary["bought"].mean == pytest.approx(20 / 60, rel=1e-12)
     # A cap needs the streaming reader whatever is faster.

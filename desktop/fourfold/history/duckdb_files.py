@@ -9,8 +9,8 @@ DuckDB reads them into a view, and the query reads the view.
 Before DuckDB reads anything, each file's header is checked as the streaming reader checks it
 (:func:`fourfold.history.reader.read_columns`) and the mapping against it, so a missing column
 or a damaged header gets the same message either way. Empty cells and the texts pandas reads as
-missing (``NA``, ``NULL``, ``nan``, …) are missing for DuckDB too. DuckDB spills to a temporary
-folder when an aggregation outgrows memory. A running query reports DuckDB's own progress and
+missing (``NA``, ``NULL``, ``nan``, …) are missing for DuckDB too. DuckDB works within
+:data:`MEMORY_LIMIT_MB` and spills to a temporary folder beyond it. A running query reports DuckDB's own progress and
 stops on :meth:`DuckDBQuery.cancel` (DuckDB's ``interrupt``).
 """
 
@@ -30,6 +30,9 @@ from fourfold.history.summary import check_mapping as check_columns
 from fourfold.history.warehouse import read_warehouse_rows
 
 EXTRA = "pip install 'fourfold[duckdb]'"
+MEMORY_LIMIT_MB = 1024
+"""DuckDB's memory limit here (it spills to a temporary folder beyond), as the streaming
+reader's unit budget."""
 VIEW = "fourfold_history"
 MISSING_TEXTS = ("", "#N/A", "#N/A N/A", "#NA", "-1.#IND", "-1.#QNAN", "-NaN", "-nan",
                  "1.#IND", "1.#QNAN", "<NA>", "N/A", "NA", "NULL", "NaN", "None", "n/a", "nan",
@@ -107,6 +110,7 @@ class DuckDBQuery:
             connection = duckdb.connect(":memory:")
             try:
                 connection.execute("SET temp_directory = ?", [spill])
+                connection.execute(f"SET memory_limit = '{MEMORY_LIMIT_MB}MB'")
                 connection.execute("SET enable_progress_bar = true")  # for query_progress()
                 connection.execute("SET enable_progress_bar_print = false")
                 _keep_casts_out_of_the_csv_scan(connection, duckdb)

@@ -1,10 +1,11 @@
-"""Which engine reads a history: the streaming reader or DuckDB, chosen per format.
+"""Which engine reads a history: the streaming reader or DuckDB, chosen per format and job.
 
 :func:`summarise` is the entry point of the command line and the window for local data. The
 ``engine`` is ``"stream"`` (:func:`fourfold.history.read_history`), ``"duckdb"``
 (:mod:`fourfold.history.duckdb_files`) or ``"auto"``: the faster of the two for the file's
-format as measured by ``tests/bench/bench_history.py`` (:data:`FASTER`), when DuckDB is
-installed and can do the job (it cannot cap: a percentile does not merge). Under ``auto``, if
+format and the job (with or without reach and windows) as measured by
+``tests/bench/bench_history.py`` (:data:`FASTER`), when DuckDB is installed and can do the job
+(not a cap nor a quantile: a percentile does not merge). Under ``auto``, if
 DuckDB refuses the file — a cell it cannot cast, a true/false word it does not know — the
 streaming reader reads it instead, and either gives the figures or names the line at fault.
 A glob of several files needs DuckDB.
@@ -20,9 +21,11 @@ from fourfold.history.reader import is_parquet
 from fourfold.history.summary import ColumnMap, HistorySummary
 
 ENGINES = ("auto", "stream", "duckdb")
-FASTER = {"csv": "stream", "parquet": "stream"}
-"""The faster engine per format, as measured by ``tests/bench/bench_history.py`` (see the
-README's benchmark section for the figures)."""
+FASTER = {("csv", "moments"): "stream", ("csv", "units"): "stream",
+          ("parquet", "moments"): "stream", ("parquet", "units"): "stream"}
+"""The faster engine per format and job (the moments alone, or with a unit and a time column
+the reach and windows too), as measured by ``tests/bench/bench_history.py`` (see the README's
+benchmark section for the figures)."""
 
 
 def duckdb_installed() -> bool:
@@ -35,7 +38,7 @@ def duckdb_installed() -> bool:
 
 
 def choose_engine(data: str | os.PathLike, mapping: Sequence[ColumnMap],
-                  engine: str = "auto") -> str:
+                  engine: str = "auto", unit: str | None = None) -> str:
     """The engine that reads ``data``: ``"stream"`` or ``"duckdb"``.
 
     Examples
@@ -58,8 +61,9 @@ def choose_engine(data: str | os.PathLike, mapping: Sequence[ColumnMap],
             raise HistoryError(f"reading with DuckDB needs the optional duckdb package "
                                f"({EXTRA})")
         return "duckdb"
-    capped = any(spec.cap is not None for spec in mapping)
-    faster = FASTER["parquet" if is_parquet(data) else "csv"]
+    capped = any(spec.cap is not None or spec.kind == "quantile" for spec in mapping)
+    job = "moments" if unit is None else "units"
+    faster = FASTER["parquet" if is_parquet(data) else "csv", job]
     return "duckdb" if faster == "duckdb" and not capped and duckdb_installed() else "stream"
 
 
@@ -69,7 +73,7 @@ def summarise(data: str | os.PathLike, mapping: Sequence[ColumnMap], *, engine: 
     """The summary of a local history with the engine :func:`choose_engine` picks."""
     from fourfold.history.importer import read_history
 
-    chosen = choose_engine(data, mapping, engine)
+    chosen = choose_engine(data, mapping, engine, unit)
     if chosen == "stream":
         return read_history(data, mapping, unit=unit, time=time, progress=progress,
                             cancel=cancel, **stream_options)

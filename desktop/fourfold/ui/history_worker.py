@@ -32,7 +32,8 @@ class FileJob:
         from fourfold.history.sources import choose_engine, summarise
 
         options = dict(self.options)
-        if choose_engine(self.path, self.mapping, options["engine"]) == "stream":
+        if choose_engine(self.path, self.mapping, options["engine"],
+                         options["unit"]) == "stream":
             options["chunk_rows"] = CHUNK_ROWS
         return summarise(self.path, self.mapping, progress=progress, cancel=cancel, **options)
 
