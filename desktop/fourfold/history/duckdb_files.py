@@ -10,8 +10,8 @@ Before DuckDB reads anything, each file's header is checked as the streaming rea
 (:func:`fourfold.history.reader.read_columns`) and the mapping against it, so a missing column
 or a damaged header gets the same message either way. Empty cells and the texts pandas reads as
 missing (``NA``, ``NULL``, ``nan``, …) are missing for DuckDB too. DuckDB works within
-:data:`MEMORY_LIMIT_MB` and spills to a temporary folder beyond it. A running query reports DuckDB's own progress and
-stops on :meth:`DuckDBQuery.cancel` (DuckDB's ``interrupt``).
+:data:`MEMORY_LIMIT_MB` and spills to a temporary folder beyond it. A running query reports
+DuckDB's own progress and stops on :meth:`DuckDBQuery.cancel` (DuckDB's ``interrupt``).
 """
 
 from __future__ import annotations
