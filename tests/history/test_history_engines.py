@@ -215,3 +215,12 @@ def test_without_the_extras_the_commands_name_what_to_install(tmp_path, capsys, 
     assert extra in capsys.readouterr().err
     # Without the extras, the file still reads with the streaming reader.
     assert cli.main(["history", str(path), "--mean", "x"]) == 0
+
+
+def test_under_auto_an_infinite_cell_is_named_by_the_streaming_reader(tmp_path):
+    path = tmp_path / "inf.csv"
+    path.write_text("spend\n1.5\n2.0\ninf\n3.0\n")
+    with pytest.raises(HistoryError, match="not a finite number"):
+        summarise(path, [ColumnMap("mean", "spend")], engine="duckdb")
+    with pytest.raises(HistoryError, match="line 4.*infinite"):
+        summarise(path, [ColumnMap("mean", "spend")])

@@ -168,9 +168,16 @@ def hash_ids(series, column: str, where) -> np.ndarray:
     # Every byte offset of `padded` read as a little-endian 64-bit word (unaligned view).
     words = np.ndarray(shape=(padded.size - 7,), dtype="<u8", buffer=padded.data, strides=(1,))
     h = mix64(lengths.astype(np.uint64) ^ _SEED)
+    shortest = int(lengths.min())
     for j in range(0, width, 8):
+        if j + 8 <= shortest:  # a whole word of every id: no masks, no choices
+            h = mix64(h ^ words[start + j])
+            continue
         rest = np.clip(lengths - j, 0, 8).astype(np.uint64)
         mask = np.where(rest >= 8, _ALL, (np.uint64(1) << (rest * np.uint64(8))) - np.uint64(1))
+        if j < shortest:  # every id has bytes here
+            h = mix64(h ^ (words[start + j] & mask))
+            continue
         live = lengths > j
         word = np.zeros(n, np.uint64)
         word[live] = words[start[live] + j]

@@ -300,9 +300,12 @@ def _cell(cells: dict, alias: str, source: str, line: int) -> float:
     try:
         value = float(text)
     except ValueError:
+        value = math.nan
+    if not math.isfinite(value):  # nan or inf cells make a mean or variance nan or inf
         raise HistoryError(
-            f"{source}: column {alias!r} has {text[:40]!r} on line {line}, which is not a number"
-        ) from None
+            f"{source}: column {alias!r} has {text[:40]!r} on line {line}, which is not a "
+            "finite number (an infinite or not-a-number cell in the data?)"
+        )
     if key.endswith(("_n", "_pairs")) or key == "rows":
         if value < 0 or value != math.floor(value):
             raise HistoryError(f"{source}: column {alias!r} on line {line} must be a count")
