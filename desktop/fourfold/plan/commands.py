@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import abc
 import copy
+import dataclasses
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -36,6 +37,7 @@ from fourfold.plan.fields import (
     validate_metric,
 )
 from fourfold.plan.model import Metric, Plan
+from fourfold.plan.rules import refusal
 
 CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "rows_reordered",
                 "settings", "reset")
@@ -179,6 +181,7 @@ class SetFields(Command):
         count = len(plan.metrics)
         added = [validate_metric(metric) for metric in self.append]  # fresh copies each time
         new = self._planned(plan, plan.metrics + added)
+        _check_rows(plan, added, new)
         self._count = count
         self._old = {key: getattr(plan.metrics[key[0]], key[1]) for key in new
                      if key[0] < count}
@@ -199,6 +202,20 @@ class SetFields(Command):
             return Change(rows_kind, tuple(range(self._count, self._count + len(self.append))),
                           fields)
         return Change("cells", tuple(sorted({row for row, _ in values})), fields)
+
+
+def _check_rows(plan: Plan, added: list[Metric], new: dict[tuple[int, str], Any]) -> None:
+    """Refuse edits that make a row break a rule it kept (:mod:`fourfold.plan.rules`)."""
+    count = len(plan.metrics)
+    changes: dict[int, dict[str, Any]] = {}
+    for (row, name), value in new.items():
+        changes.setdefault(row, {})[name] = value
+    for row, fields in changes.items():
+        before = plan.metrics[row] if row < count else None
+        after = dataclasses.replace(before or added[row - count], **fields)
+        message = refusal(row, before, after, tuple(fields), plan.settings)
+        if message is not None:
+            raise PlanError(message, next(iter(fields)))
 
 
 class SetField(SetFields):
@@ -233,6 +250,11 @@ class SetSetting(Command):
         if self.field not in SETTINGS_FIELDS:
             raise PlanError(f"unknown setting {self.field!r}", self.field)
         value = validate_field(self.field, self.value, settings=True)
+        changed = dataclasses.replace(plan.settings, **{self.field: value})
+        for row, metric in enumerate(plan.metrics):
+            message = refusal(row, metric, metric, self.field, changed, plan.settings)
+            if message is not None:
+                raise PlanError(message, self.field)
         self._old = getattr(plan.settings, self.field)
         setattr(plan.settings, self.field, value)
         return Change("settings", fields=(self.field,))
