@@ -51,6 +51,11 @@ def build_parser() -> argparse.ArgumentParser:
     p_export.add_argument(
         "--page", choices=("a4", "letter"), default="a4", help="PDF page size (default a4)"
     )
+    p_export.add_argument(
+        "--allow-incomplete", action="store_true",
+        help="export a plan even when a primary or guardrail row cannot be computed (the "
+             "outputs then say \"incomplete\" and have no duration); refused by default",
+    )
 
     p_shot = sub.add_parser("shot", help="render the window offscreen to a PNG")
     p_shot.add_argument("plan", nargs="?", help="plan file (.json); default: the sample plan")
@@ -76,6 +81,16 @@ def _normalise(argv: Sequence[str]) -> list[str]:
     return argv
 
 
+def _warn_incomplete(plan_path: str) -> None:
+    """Say on stderr that an exported plan is incomplete (allowed by ``--allow-incomplete``)."""
+    from fourfold.plan import compute, load
+
+    result = compute(load(plan_path))
+    if result.incomplete:
+        print(f"fourfold: warning: the plan is incomplete: {result.incomplete_text()}",
+              file=sys.stderr)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     # One BLAS thread (unless the user chose otherwise), set before numpy loads: Fourfold's
     # arrays are small, and OpenBLAS's workers spin after each call, taking the second core
@@ -91,12 +106,17 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "shot":
             from fourfold.ui.app import run_shot
 
-            return run_shot(args.plan, args.output, size=args.size, row=args.row)
+            code = run_shot(args.plan, args.output, size=args.size, row=args.row)
+            print(f"wrote {args.output}")
+            return code
         if args.command == "export":
             from fourfold.export import export_file
 
-            export_file(args.plan, args.output, page=args.page)
-            print(f"wrote {args.output}")
+            written = export_file(args.plan, args.output, page=args.page,
+                                  allow_incomplete=args.allow_incomplete)
+            print("wrote " + " and ".join(str(path) for path in written))
+            if args.allow_incomplete:
+                _warn_incomplete(args.plan)
             return 0
         if args.command == "history":
             from fourfold.history.cli import run as run_history

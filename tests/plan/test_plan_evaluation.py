@@ -232,7 +232,9 @@ def test_rows_that_cannot_be_computed_get_reasons_not_exceptions():
     assert all(reasons[:5]) and reasons[5] == ""
     for row in result.rows[:5]:
         assert math.isnan(row.units_control) and math.isnan(row.days)
-    assert result.binding_name == "Fine"
+    assert (result.status, result.binding_name, result.duration_days) == ("incomplete", None,
+                                                                           None)
+    assert [item.name for item in result.incomplete] == [m.name for m in metrics[:5]]
     assert sum("not computed" in note for note in result.notes) == 5
 
 

@@ -15,17 +15,27 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
+from fourfold.errors import FourfoldError
 from fourfold.export.files import ExportError
 
 FORMATS = (".csv", ".pdf")
 PAGES = ("a4", "letter")
 
-__all__ = ["FORMATS", "PAGES", "ExportError", "export_file"]
+__all__ = ["FORMATS", "PAGES", "ExportError", "IncompletePlanError", "export_file"]
+
+
+class IncompletePlanError(FourfoldError):
+    """An incomplete plan that the export was not allowed to write; the message names every
+    primary or guardrail row that cannot be computed, with its reason."""
 
 
 def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
-                page: str = "a4") -> list[Path]:
+                page: str = "a4", *, allow_incomplete: bool = False) -> list[Path]:
     """Load a plan file and export it; the format comes from the output's extension.
+
+    An incomplete plan (a primary or guardrail row that cannot be computed, see
+    :mod:`fourfold.plan.evaluation`) is refused unless ``allow_incomplete``: its outputs would
+    have no duration. Allowed, every output says "incomplete" and names the rows.
 
     Parameters
     ----------
@@ -35,6 +45,8 @@ def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
         ``*.csv`` (the settings file goes beside it as ``*-settings.csv``) or ``*.pdf``.
     page : {"a4", "letter"}
         Paper size of a PDF.
+    allow_incomplete : bool
+        Write an incomplete plan too (its outputs say "incomplete").
 
     Returns
     -------
@@ -46,7 +58,8 @@ def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
     fourfold.errors.FourfoldError
         For an unknown extension or page size, a missing or malformed plan file
         (:class:`fourfold.plan.PlanError`) or an output that cannot be written
-        (:class:`ExportError`). No output file is created or changed then.
+        (:class:`ExportError`), or an incomplete plan without ``allow_incomplete``
+        (:class:`IncompletePlanError`). No output file is created or changed then.
 
     Examples
     --------
@@ -71,6 +84,16 @@ the output file must end in .csv or .pdf
     from fourfold.plan import load
 
     plan = load(plan_path)
+    if not allow_incomplete:
+        from fourfold.plan.evaluation import compute
+
+        result = compute(plan)
+        if result.incomplete:
+            raise IncompletePlanError(
+                f"{Path(plan_path).name} is an incomplete plan: {result.incomplete_text()}. "
+                "Every primary and guardrail row must be computed for the plan to have a "
+                "duration; mend these rows, or export anyway with --allow-incomplete (every "
+                "output then says \"incomplete\")")
     if suffix == ".csv":
         from fourfold.export.csv import write_csv
 

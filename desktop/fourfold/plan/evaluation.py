@@ -29,6 +29,14 @@ Binding metric
     ``total_units``. Secondary rows are informational (a note names those that would need
     more). In runtime mode nothing binds; the duration is the runtime and the total is the
     traffic it brings.
+Incomplete plans
+    A plan in which a primary or guardrail row cannot be computed is *incomplete*: such a row
+    might need longer than every other, so the plan has no duration, total units or binding
+    metric (``None``), even with a fixed runtime, and ``PlanResult.incomplete`` names each
+    such row with its reason. A secondary row that cannot be computed leaves the plan
+    complete (a note names it). A plan file whose rows break the rules of
+    :mod:`fourfold.plan.rules` (written by hand, say) is loaded as it is and evaluated this
+    way, so that it can be opened and mended.
 Interim looks
     With ``settings.looks > 1`` every row's units and days are the maximum of its group
     sequential design (:mod:`fourfold.plan.sequential`): the fixed design's units times the
@@ -143,6 +151,9 @@ class PlanResult:
         Its name.
     notes : tuple of str
         Plain-language remarks on how the plan was evaluated.
+    incomplete : tuple of Unfinished
+        The primary and guardrail rows that cannot be computed; when there are any, the plan
+        is incomplete and has no duration, total units or binding metric.
     """
 
     rows: tuple[RowResult, ...]
@@ -151,6 +162,34 @@ class PlanResult:
     binding_index: int | None
     binding_name: str | None
     notes: tuple[str, ...]
+    incomplete: tuple[Unfinished, ...] = ()
+
+    @property
+    def status(self) -> str:
+        """``"complete"``, or ``"incomplete"`` when a deciding row cannot be computed."""
+        return "incomplete" if self.incomplete else "complete"
+
+    def incomplete_text(self) -> str:
+        """The rows that make the plan incomplete, in words ("" for a complete plan).
+
+        Examples
+        --------
+        >>> from fourfold.plan.model import Metric, Plan
+        >>> plan = Plan(metrics=[Metric(name="Spend", role="primary", kind="mean")])
+        >>> print(compute(plan).incomplete_text())
+        row 1 (Spend): sd is required for a mean (the per-unit standard deviation)
+        """
+        return "; ".join(f"row {item.index + 1} ({item.name}): {item.reason}"
+                         for item in self.incomplete)
+
+
+@dataclass(frozen=True)
+class Unfinished:
+    """A deciding row that cannot be computed: its index (from 0), name and the reason."""
+
+    index: int
+    name: str
+    reason: str
 
 
 @dataclass
@@ -505,14 +544,22 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
         )
     notes.extend(sequential.plan_notes(plan, rows, designs))
     deciding, secondary = [], []  # computed rows that solve for sample size, by role
+    unfinished = []
     for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True)):
         if row.reason:
             notes.append(f"{metric.name}: not computed — {row.reason}.")
+            if metric.role in DECIDING_ROLES:
+                unfinished.append(Unfinished(index, metric.name, row.reason))
         elif row.solved == "sample_size":
             if metric.role in DECIDING_ROLES:
                 deciding.append(index)
             elif metric.role == "secondary":
                 secondary.append(index)
+    if unfinished:
+        roles = "primary or guardrail row" if len(unfinished) == 1 else "primary or guardrail rows"
+        notes.insert(0, f"Incomplete plan: {len(unfinished)} {roles} cannot be computed, so the "
+                        "plan has no duration until they can.")
+        return PlanResult(rows, None, None, None, None, tuple(notes), tuple(unfinished))
 
     if settings.runtime_days is not None:
         units = runtime_units(settings)
@@ -556,7 +603,8 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
     ``alpha_override`` and ``power_override``; ``alpha`` and ``power`` are the values the row
     was evaluated at (or solved). The plan-level results and the settings are in ``df.attrs``
     (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``, ``notes``,
-    ``settings``).
+    ``status`` — ``"complete"`` or ``"incomplete"`` —, ``incomplete`` — one dict of ``index``,
+    ``name`` and ``reason`` per deciding row that cannot be computed — and ``settings``).
 
     Examples
     --------
@@ -585,6 +633,8 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
         binding_index=result.binding_index,
         binding_name=result.binding_name,
         notes=list(result.notes),
+        status=result.status,
+        incomplete=[dataclasses.asdict(item) for item in result.incomplete],
         settings={name: getattr(plan.settings, name) for name in SETTINGS_FIELDS},
     )
     return frame
