@@ -14,6 +14,7 @@ from .catalog import ALTERNATIVES, KINDS, METHODS
 from .design import adjusted_alpha, duration_days, total_units, variance_factor
 from .solve import (
     detectable_effect,
+    detectable_margin,
     power,
     problems,
     sample_size,
@@ -27,6 +28,7 @@ __all__ = [
     "METHODS",
     "adjusted_alpha",
     "detectable_effect",
+    "detectable_margin",
     "duration_days",
     "power",
     "problems",

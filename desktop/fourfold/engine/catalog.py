@@ -17,7 +17,7 @@ METHODS = {
     "rate": ("z",),
 }
 ALTERNATIVES = ("two-sided", "greater", "less")
-SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")
+SOLVES = ("sample_size", "power", "detectable_effect", "significance_level", "detectable_margin")
 
 
 def quoted(values):

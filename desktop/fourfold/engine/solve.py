@@ -43,6 +43,7 @@ from ._power import (
     power_of,
 )
 from .checks import KIND_MODULES, prepare
+from .margin import solve_margin
 
 _TAIL_SIGN = {"greater": 1.0, "less": -1.0, "two-sided": 1.0}
 _N_MIN_Z = 1e-9
@@ -407,11 +408,44 @@ def significance_level(kind, baseline, effect, n, *, sd=None, power=0.8,
     return _finish(p, *_run(_significance_level, p))
 
 
+def detectable_margin(kind, baseline, effect, n, *, sd=None, alpha=0.05, power=0.8,
+                      alternative="greater", ratio=1.0, relative=False, method=None):
+    """The tightest margin a one-sided test of ``n`` units rules out with ``power``.
+
+    With the true difference held at ``effect`` (usually 0 for a guardrail), the margin
+    closest to it that the test still rejects with the given power: below the effect for
+    "greater" (non-inferiority: the treatment is not worse than the margin), above it for
+    "less" (a guardrail: the metric does not rise by the margin or more). With
+    ``relative=True`` effect and margin are fractions of the baseline. Other parameters as in
+    :func:`sample_size`; a two-sided test has no such margin.
+
+    Returns
+    -------
+    numpy.ndarray
+        The margin (treatment − control under H0); nan where impossible (array calls).
+
+    References
+    ----------
+    Chow, Shao & Wang (2008), §3.2 and §4.2; Farrington & Manning (1990).
+
+    Examples
+    --------
+    >>> round(float(detectable_margin("mean", 1.84, 0.0, 14_533.0, sd=0.61,
+    ...                               alternative="less")), 4)
+    0.0178
+    """
+    p = prepare("detectable_margin", kind, baseline, effect=effect, n=n, sd=sd, alpha=alpha,
+                power=power, alternative=alternative, ratio=ratio, relative=relative,
+                method=method)
+    return _finish(p, *_run(solve_margin, p))
+
+
 _SOLVERS = {
     "sample_size": _sample_size,
     "power": _power,
     "detectable_effect": _detectable_effect,
     "significance_level": _significance_level,
+    "detectable_margin": solve_margin,
 }
 
 
@@ -428,7 +462,8 @@ def values_and_reasons(solve, kind, baseline, *, effect=None, n=None, sd=None, a
 
     Parameters
     ----------
-    solve : {"sample_size", "power", "detectable_effect", "significance_level"}
+    solve : {"sample_size", "power", "detectable_effect", "significance_level", \
+"detectable_margin"}
     kind, baseline, effect, n, sd, alpha, power, alternative, ratio, relative, margin, method
         As for the solver; inputs the solve does not use are ignored.
 
