@@ -35,7 +35,12 @@ no suffix
 The effect and the margin as entered go to one of two columns each, by their unit:
 ``effect_input_rel_frac`` and ``margin_input_rel_frac`` (fractions of the baseline) when
 ``relative_input`` is true, ``effect_input_abs`` and ``margin_input_abs`` (the metric's unit)
-otherwise; the other column of the pair is empty. ``units_control`` is the control arm,
+otherwise; the other column of the pair is empty. ``effect_abs`` / ``effect_rel_frac`` and
+``margin_abs`` / ``margin_rel_frac`` are the effect and the H0 margin the row was computed with,
+both ways: given, or solved (the detectable effect; for a margin row with ``solved`` =
+``detectable_margin`` the tightest margin it rules out). ``power_frac`` is the row's power (given
+or solved), ``power_at_duration_frac`` its power with the units of the plan's whole duration
+(empty when the plan has none). ``units_control`` is the control arm,
 ``units_treatment_per_arm`` each treatment arm, ``units_total`` all arms together. With interim
 looks, ``units_max`` and ``units_expected_h1`` are totals over all arms (the most the test can
 need, and what it needs on average if the effect is real) and ``look_days`` lists the day of
@@ -195,8 +200,11 @@ COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
     ("solved", lambda i, m, r, p: r.solved),
     ("alpha_frac", lambda i, m, r, p: r.alpha),
     ("power_frac", lambda i, m, r, p: r.power),
+    ("power_at_duration_frac", lambda i, m, r, p: p.duration_powers[i]),
     ("effect_abs", lambda i, m, r, p: r.effect_abs),
     ("effect_rel_frac", lambda i, m, r, p: r.effect_rel),
+    ("margin_abs", lambda i, m, r, p: r.margin_abs),
+    ("margin_rel_frac", lambda i, m, r, p: r.margin_rel),
     ("units_control", lambda i, m, r, p: whole(r.units_control)),
     ("units_treatment_per_arm", lambda i, m, r, p: whole(r.units_treatment)),
     ("units_total", lambda i, m, r, p: whole(r.units_total)),

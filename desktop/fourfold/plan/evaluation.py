@@ -71,7 +71,15 @@ from fourfold.plan import sequential
 from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Plan
 from fourfold.plan.results import PlanResult, RowResult, Unfinished
-from fourfold.plan.rows import row_alphas, runtime_units, solve_rows
+from fourfold.plan.rows import (
+    AtDuration,
+    powers_at,
+    row_alphas,
+    runtime_units,
+    solve_rows,
+    waits_for_duration,
+    without_duration,
+)
 
 if TYPE_CHECKING:
     import pandas
@@ -118,6 +126,8 @@ class RowCache:
     """The latest evaluation's row results, in the plan's order."""
     uses: dict = field(default_factory=dict)
     """How many rows of the latest evaluation have each key of ``rows``."""
+    powers: dict = field(default_factory=dict)
+    """The latest evaluation's powers at the plan's duration by (row key, units)."""
 
 
 def _evaluate_rows(plan: Plan, designs: dict,
@@ -209,12 +219,81 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
         settings = tuple(getattr(plan.settings, name) for name in _SETTINGS_INPUTS)
         if settings != cache.settings:
             cache.settings, cache.rows, cache.designs = settings, {}, {}
-            cache.keys, cache.results, cache.uses = [], (), {}
+            cache.keys, cache.results, cache.uses, cache.powers = [], (), {}, {}
         designs = cache.designs
-    return _summarise(plan, _evaluate_rows(plan, designs, cache), designs)
+    rows = list(_evaluate_rows(plan, designs, cache))
+    waiting = frozenset(index for index, metric in enumerate(plan.metrics)
+                        if waits_for_duration(plan.settings, metric))
+    result = _summarise(plan, tuple(rows), designs, waiting)
+    at = _at_duration(plan, result)
+    if waiting:
+        result = _solve_waiting(plan, rows, designs, sorted(waiting), result, at)
+        at = at if result.status == "complete" else None
+    powers = (math.nan,) * len(rows)
+    if at is not None and rows:
+        powers = _duration_powers(plan, result.rows, at, designs, cache)
+    return dataclasses.replace(result, duration_powers=powers)
 
 
-def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = None) -> PlanResult:
+def _at_duration(plan: Plan, result: PlanResult) -> AtDuration | None:
+    """The control units and days the plan's duration brings (``None``: no duration)."""
+    settings = plan.settings
+    if result.incomplete:
+        return None
+    if settings.runtime_days is not None:
+        units = runtime_units(settings)
+        return None if units is None else AtDuration(units, float(settings.runtime_days))
+    if result.binding_index is None:
+        return None
+    if result.duration_days is None:  # no traffic: the binding row's units, no days
+        return AtDuration(result.rows[result.binding_index].units_control, math.nan)
+    days = result.duration_days
+    return AtDuration(runtime_units(dataclasses.replace(settings, runtime_days=days)), days)
+
+
+def _solve_waiting(plan: Plan, rows: list, designs: dict, waiting: list[int],
+                   result: PlanResult, at: AtDuration | None) -> PlanResult:
+    """Solve the rows without units of their own at the plan's duration, then summarise.
+
+    Without a duration they stay not computed; when one of them leaves the plan incomplete,
+    the others lose the duration they were solved at too.
+    """
+    if at is not None:
+        solve_rows(plan, designs, row_alphas(plan), waiting, rows, at)
+    elif result.incomplete:
+        for index in waiting:
+            rows[index] = without_duration(rows[index])
+    final = _summarise(plan, tuple(rows), designs)
+    if at is not None and final.incomplete:
+        for index in waiting:
+            if not rows[index].reason:
+                rows[index] = without_duration(rows[index])
+        final = _summarise(plan, tuple(rows), designs)
+    return final
+
+
+def _duration_powers(plan: Plan, rows: tuple[RowResult, ...], at: AtDuration, designs: dict,
+                     cache: RowCache | None) -> tuple[float, ...]:
+    """Each row's power at the plan's duration, from the cache where its inputs and the
+    duration's units are unchanged."""
+    keys = cache.keys if cache is not None and len(cache.keys) == len(rows) else None
+    known = {} if keys is None else cache.powers
+    powers = [known.get((keys[index], at.units)) if keys is not None else None
+              for index in range(len(rows))]
+    missing = [index for index, power in enumerate(powers) if power is None]
+    if missing:
+        for index, power in zip(missing, powers_at(plan, rows, missing, at, designs),
+                                strict=True):
+            powers[index] = power
+    if keys is not None:
+        cache.powers = {(key, at.units): power for key, power in zip(keys, powers, strict=True)}
+    return tuple(powers)
+
+
+def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = None,
+               waiting: frozenset[int] = frozenset()) -> PlanResult:
+    """The plan-level results; rows in ``waiting`` (still to be solved at the plan's duration)
+    neither count as not computed nor get a note."""
     settings = plan.settings
     notes = []
     if settings.correction != "none":
@@ -227,6 +306,8 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
     deciding, secondary = [], []  # computed rows that solve for sample size, by role
     unfinished = []
     for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True)):
+        if index in waiting:
+            continue
         if row.reason:
             notes.append(f"{metric.name}: not computed — {row.reason}.")
             if metric.role in DECIDING_ROLES:
@@ -246,7 +327,8 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
         units = runtime_units(settings)
         if any(metric.solve == "sample_size" for metric in plan.metrics):
             notes.append(f"Fixed runtime of {settings.runtime_days:g} days: rows that solve for "
-                         "sample size show the effect they can detect instead.")
+                         "sample size show the effect they can detect instead (a margin row: "
+                         "the tightest margin it rules out).")
         total = None if units is None else units * (1.0 + settings.arms * settings.ratio)
         return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
 
@@ -282,7 +364,8 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
 
     Inputs keep their field names, except the row overrides of α and power, which are
     ``alpha_override`` and ``power_override``; ``alpha`` and ``power`` are the values the row
-    was evaluated at (or solved). The plan-level results and the settings are in ``df.attrs``
+    was evaluated at (or solved), ``power_at_duration`` its power at the plan's duration
+    (:attr:`PlanResult.duration_powers`). The plan-level results and the settings are in ``df.attrs``
     (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``, ``notes``,
     ``status`` — ``"complete"`` or ``"incomplete"`` —, ``incomplete`` — one dict of ``index``,
     ``name`` and ``reason`` per deciding row that cannot be computed — and ``settings``).
@@ -304,9 +387,11 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
                   for name in METRIC_FIELDS if name != "simulation"}
         record.update(dataclasses.asdict(row))
         record["binding"] = index == result.binding_index
+        record["power_at_duration"] = result.duration_powers[index]
         records.append(record)
     columns = [renamed.get(name, name) for name in METRIC_FIELDS if name != "simulation"]
-    columns += [field.name for field in dataclasses.fields(RowResult)] + ["binding"]
+    columns += [field.name for field in dataclasses.fields(RowResult)]
+    columns += ["binding", "power_at_duration"]
     frame = pandas.DataFrame.from_records(records, columns=columns)
     frame.attrs.update(
         duration_days=result.duration_days,

@@ -3,6 +3,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 
@@ -23,8 +24,8 @@ class RowResult:
     reason : str
         Why the row cannot be computed; ``""`` when it can.
     solved : str
-        The quantity computed: ``"sample_size"``, ``"detectable_effect"``, ``"power"`` or
-        ``"significance_level"``.
+        The quantity computed: ``"sample_size"``, ``"detectable_effect"``, ``"power"``,
+        ``"significance_level"`` or, for a margin row, ``"detectable_margin"``.
     design_factor : float
         The variance factor applied to the row's units.
     units_max, units_expected_h1, days_expected_h1 : float
@@ -32,6 +33,11 @@ class RowResult:
         effect is real. Equal to ``units_total`` / ``days`` for a fixed design.
     look_days : tuple of float or None
         Day of each interim look; ``None`` for a fixed design.
+    margin_abs, margin_rel : float
+        The H0 margin as a difference and as a fraction of the baseline: the row's own, or,
+        for a margin row (:func:`fourfold.plan.rules.is_margin_row`) that solves for what it
+        can detect, the tightest margin it rules out (``solved`` is then
+        ``"detectable_margin"``).
     """
 
     units_control: float
@@ -49,6 +55,8 @@ class RowResult:
     units_expected_h1: float
     days_expected_h1: float
     look_days: tuple[float, ...] | None
+    margin_abs: float = math.nan
+    margin_rel: float = math.nan
 
 
 @dataclass(frozen=True)
@@ -72,6 +80,10 @@ class PlanResult:
     incomplete : tuple of Unfinished
         The primary and guardrail rows that cannot be computed; when there are any, the plan
         is incomplete and has no duration, total units or binding metric.
+    duration_powers : tuple of float
+        Each row's power at the plan's duration: the chance its test detects its effect (a
+        margin row: rules out its margin) with the units the plan's duration brings, at its
+        α; ``nan`` where the row or the plan's duration is not known.
     """
 
     rows: tuple[RowResult, ...]
@@ -81,6 +93,7 @@ class PlanResult:
     binding_name: str | None
     notes: tuple[str, ...]
     incomplete: tuple[Unfinished, ...] = ()
+    duration_powers: tuple[float, ...] = ()
 
     @property
     def status(self) -> str:

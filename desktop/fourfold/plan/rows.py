@@ -17,6 +17,7 @@ from fourfold import engine
 from fourfold.plan import sequential
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.plan.results import RowResult
+from fourfold.plan.rules import is_margin_row
 
 
 def _ceil(value: float) -> float:
@@ -71,25 +72,65 @@ class _Pending:
     staged: Any
     n_control: float | None
     n_effective: float | None
+    at_duration: bool = False
 
 
-def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float,
-                 designs: dict) -> RowResult | _Pending:
+@dataclass(frozen=True)
+class AtDuration:
+    """What the plan's duration brings: control-arm units and days (nan without traffic)."""
+
+    units: float
+    days: float
+
+
+def solved_for(settings: Settings, metric: Metric) -> str:
+    """What a row computes: its own "solve for", the detectable effect instead of the sample
+    size under a fixed runtime, and for a margin row the margin instead of the effect.
+
+    Examples
+    --------
+    >>> solved_for(Settings(runtime_days=14.0), Metric(alternative="less", margin=0.1))
+    'detectable_margin'
+    """
+    solved = metric.solve
+    if settings.runtime_days is not None and solved == "sample_size":
+        solved = "detectable_effect"
+    if solved == "detectable_effect" and is_margin_row(metric):
+        solved = "detectable_margin"
+    return solved
+
+
+def waits_for_duration(settings: Settings, metric: Metric) -> bool:
+    """Whether a row takes its units from the plan's duration: it does not solve for sample
+    size, gives no ``n`` and the plan has no fixed runtime."""
+    return settings.runtime_days is None and metric.solve != "sample_size" and metric.n is None
+
+
+def needs_units_text(solved: str) -> str:
+    """Why a row that waits for the plan's duration has none."""
+    return ("needs n (control units), a fixed runtime or a row that sets the plan's duration "
+            "to solve for " + solved.replace("_", " "))
+
+
+def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float, designs: dict,
+                 at_duration: AtDuration | None = None) -> RowResult | _Pending:
     """The plan-level checks of a row: a failed :class:`RowResult` or what the engine needs."""
     settings = plan.settings
     runtime = settings.runtime_days is not None
-    solved = "detectable_effect" if runtime and metric.solve == "sample_size" else metric.solve
+    solved = solved_for(settings, metric)
     power = settings.power if metric.power is None else metric.power
     shown_alpha = math.nan if solved == "significance_level" else alpha
     shown_power = math.nan if solved == "power" else power
 
     n_control = None
+    waiting = waits_for_duration(settings, metric)
     if solved != "sample_size":
         n_control = runtime_units(settings) if runtime else metric.n
+        if waiting and at_duration is not None:
+            n_control = at_duration.units
         if n_control is None:
             why = ("a fixed runtime needs the plan's daily units" if runtime else
-                   "needs n (control units) or a plan runtime to solve for "
-                   + solved.replace("_", " "))
+                   needs_units_text(solved))
             return _failed(solved, factor, shown_alpha, shown_power, why)
     try:
         staged = sequential.row_design(settings, alpha, power, metric.alternative, designs)
@@ -101,7 +142,8 @@ def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float,
         return _failed(solved, factor, shown_alpha, shown_power,
                        "needs an effect to solve for " + solved.replace("_", " "))
     n_effective = None if n_control is None else n_control / factor
-    return _Pending(solved, alpha, power, factor, staged, n_control, n_effective)
+    return _Pending(solved, alpha, power, factor, staged, n_control, n_effective,
+                    waiting and at_duration is not None)
 
 
 def _column(values: list, dtype: type = float) -> np.ndarray:
@@ -127,7 +169,10 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
         relative=_column([metric.relative for metric in metrics], bool),
         margin=_column([metric.margin for metric in metrics]),
     )
-    if solved == "detectable_effect":
+    effect = _column([metric.effect for metric in metrics])
+    if solved in ("detectable_effect", "detectable_margin"):
+        if solved == "detectable_margin":
+            common["effect"] = effect
         n_effective = _column([row.n_effective for row in rows])
         inflation = _column([sequential.inflation(row.staged) for row in rows])
         values, reasons = engine.values_and_reasons(solved, kind, baseline,
@@ -138,7 +183,6 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
                                     power=power, **common)
             reasons = np.where(first != "", first, reasons)
         return values, reasons
-    effect = _column([metric.effect for metric in metrics])
     n_effective = None if solved == "sample_size" else _column([row.n_effective for row in rows])
     return engine.values_and_reasons(solved, kind, baseline, effect=effect, n=n_effective,
                                      alpha=alpha, power=power, **common)
@@ -146,8 +190,12 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
 
 
 def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int],
-                results: list) -> None:
-    """Fill ``results`` at the ``missing`` rows: one engine call per group of rows."""
+               results: list, at_duration: AtDuration | None = None) -> None:
+    """Fill ``results`` at the ``missing`` rows: one engine call per group of rows.
+
+    With ``at_duration``, rows that wait for the plan's duration (:func:`waits_for_duration`)
+    take its units and days.
+    """
     settings = plan.settings
     metrics = plan.metrics
     todo = [metrics[index] for index in missing]
@@ -160,7 +208,7 @@ def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int
     pending: dict[int, _Pending] = {}
     groups: dict[tuple, list[int]] = {}
     for index, metric, factor in zip(missing, todo, factors.tolist(), strict=True):
-        prepared = _prepare_row(plan, metric, alphas[index], factor, designs)
+        prepared = _prepare_row(plan, metric, alphas[index], factor, designs, at_duration)
         if isinstance(prepared, RowResult):
             results[index] = prepared
             continue
@@ -182,11 +230,11 @@ def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int
                 solved_rows.append((index, outcome))
 
     if solved_rows:
-        _finish_rows(settings, solved_rows, pending, results)
+        _finish_rows(settings, solved_rows, pending, results, at_duration)
 
 
 def _finish_rows(settings: Settings, solved_rows: list, pending: dict[int, _Pending],
-                 results: list) -> None:
+                 results: list, at_duration: AtDuration | None) -> None:
     """Days (one engine call for all rows) and the sequential fields of the solved rows."""
     totals = _column([outcome[2] for _, outcome in solved_rows])
     if settings.runtime_days is not None:
@@ -198,9 +246,12 @@ def _finish_rows(settings: Settings, solved_rows: list, pending: dict[int, _Pend
                                     settings.whole_weeks).tolist()
     for (index, outcome), day in zip(solved_rows, days, strict=True):
         row = pending[index]
+        if row.at_duration:
+            day = at_duration.days
         units_total = outcome[2]
-        results[index] = RowResult(*outcome[:3], day, *outcome[3:], "", row.solved, row.factor,
-                                   *sequential.row_fields(row.staged, units_total, day))
+        results[index] = RowResult(*outcome[:3], day, *outcome[3:7], "", row.solved, row.factor,
+                                   *sequential.row_fields(row.staged, units_total, day),
+                                   *outcome[7:])
 
 
 def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
@@ -212,28 +263,84 @@ def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
     if reason:
         return _failed(solved, factor, shown_alpha, shown_power, reason)
     n_control, effect, power, alpha = row.n_control, metric.effect, row.power, row.alpha
+    margin = metric.margin
     if solved == "sample_size":
         n_control = value * (factor * sequential.inflation(row.staged))
     elif solved == "detectable_effect":
         effect = value
+    elif solved == "detectable_margin":
+        margin = value
     elif solved == "power":
         power = value
         if row.staged is not None:
             power = sequential.power_of(row.staged, power)
     else:
         alpha = value
-    if not all(math.isfinite(number) for number in (n_control, effect, power, alpha)):
+    if not all(math.isfinite(number) for number in (n_control, effect, power, alpha, margin)):
         return _failed(solved, factor, shown_alpha, shown_power,
                        f"the engine found no finite {solved.replace('_', ' ')} for this row")
-    if metric.relative:
-        effect_abs, effect_rel = effect * metric.baseline, effect
-    else:
-        effect_abs = effect
-        effect_rel = effect / metric.baseline if metric.baseline != 0 else math.nan
     units_control = _ceil(n_control)
     units_treatment = _ceil(settings.ratio * units_control)
     units_total = units_control + settings.arms * units_treatment
-    return (units_control, units_treatment, units_total, float(effect_abs), float(effect_rel),
-            power, alpha)
+    return (units_control, units_treatment, units_total, *_both(metric, effect), power, alpha,
+            *_both(metric, margin))
 
 
+def _both(metric: Metric, value: float) -> tuple[float, float]:
+    """An effect or margin in the row's units as (difference, fraction of the baseline)."""
+    if metric.relative:
+        return float(value * metric.baseline), float(value)
+    return float(value), (float(value / metric.baseline) if metric.baseline != 0 else math.nan)
+
+
+
+
+def without_duration(row: RowResult) -> RowResult:
+    """``row`` as not computed because the plan, being incomplete, has no duration."""
+    solved = row.solved
+    return _failed(solved, row.design_factor,
+                   math.nan if solved == "significance_level" else row.alpha,
+                   math.nan if solved == "power" else row.power,
+                   "the plan is incomplete, so it has no duration to solve for "
+                   + solved.replace("_", " ") + " at")
+
+
+def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: AtDuration,
+              designs: dict) -> list[float]:
+    """The power of each row in ``indices`` with the control units ``at`` brings.
+
+    The row's test as computed: its α (corrected or solved), its effect (given or solved) and
+    margin (given or solved), its design factor; with interim looks the units are the maximum
+    of its group sequential design. ``nan`` for a row that was not computed. One engine call
+    per group of rows that share kind, method, direction and sd-or-not.
+    """
+    settings = plan.settings
+    powers = dict.fromkeys(indices, math.nan)
+    groups: dict[tuple, list[int]] = {}
+    for index in indices:
+        metric = plan.metrics[index]
+        if not rows[index].reason:
+            key = (metric.kind, metric.method, metric.alternative, metric.sd is not None)
+            groups.setdefault(key, []).append(index)
+    for (kind, method, alternative, has_sd), members in groups.items():
+        metrics = [plan.metrics[index] for index in members]
+        chosen = [rows[index] for index in members]
+        values, reasons = engine.values_and_reasons(
+            "power", kind, _column([metric.baseline for metric in metrics]),
+            effect=_column([row.effect_abs for row in chosen]),
+            n=at.units / _column([row.design_factor for row in chosen]),
+            sd=_column([metric.sd for metric in metrics]) if has_sd else None,
+            alpha=_column([row.alpha for row in chosen]), alternative=alternative,
+            ratio=settings.ratio, relative=False,
+            margin=_column([row.margin_abs for row in chosen]), method=method)
+        for index, metric, row, value, reason in zip(members, metrics, chosen, values.tolist(),
+                                                     reasons.tolist(), strict=True):
+            if reason:
+                continue
+            target = settings.power if metric.power is None else metric.power
+            try:
+                staged = sequential.row_design(settings, row.alpha, target, alternative, designs)
+            except ValueError:
+                continue
+            powers[index] = value if staged is None else sequential.power_of(staged, value)
+    return [powers[index] for index in indices]
