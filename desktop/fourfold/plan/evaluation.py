@@ -365,10 +365,11 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
     Inputs keep their field names, except the row overrides of α and power, which are
     ``alpha_override`` and ``power_override``; ``alpha`` and ``power`` are the values the row
     was evaluated at (or solved), ``power_at_duration`` its power at the plan's duration
-    (:attr:`PlanResult.duration_powers`). The plan-level results and the settings are in ``df.attrs``
-    (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``, ``notes``,
-    ``status`` — ``"complete"`` or ``"incomplete"`` —, ``incomplete`` — one dict of ``index``,
-    ``name`` and ``reason`` per deciding row that cannot be computed — and ``settings``).
+    (:attr:`PlanResult.duration_powers`). The plan-level results and the settings are in
+    ``df.attrs`` (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``,
+    ``notes``, ``status`` — ``"complete"`` or ``"incomplete"`` —, ``incomplete`` — one dict of
+    ``index``, ``name`` and ``reason`` per deciding row that cannot be computed — and
+    ``settings``).
 
     Examples
     --------
