@@ -18,7 +18,21 @@ Units from a runtime
     With ``settings.runtime_days`` set, every row gets the control units the runtime provides,
     ``runtime_days × daily_units × share / (1 + arms × ratio)``, and rows that would solve for
     sample size solve for the detectable effect instead. Without a runtime, rows that solve for
-    detectable effect, power or α use their own ``n``.
+    detectable effect, power or α use their own ``n``, or, without one, the control units of
+    the plan's duration (``duration_days × daily_units × share / (1 + arms × ratio)``; without
+    daily units the binding row's control units), and take that duration as their days.
+Margin rows
+    A one-sided row with a margin (:func:`fourfold.plan.rules.is_margin_row`: a guardrail, a
+    non-inferiority or superiority-by-margin test) is about its margin: its effect is the true
+    difference assumed (usually 0), and where another row would solve for the detectable
+    effect it solves for the tightest margin it rules out
+    (:func:`fourfold.engine.detectable_margin`; ``solved == "detectable_margin"``). Every row
+    reports the margin it was computed with in ``margin_abs`` and ``margin_rel``.
+Power at the plan's duration
+    Every computed row of a complete plan gets the power of its test — its α, its effect
+    (given or solved) and margin (given or solved) — with the control units of the plan's
+    duration (a fixed runtime's, or the binding row's whole days or weeks of traffic), in
+    ``PlanResult.duration_powers``: a secondary row's real chance in the test as planned.
 Rounding
     Unit counts are rounded up to whole units: control ``ceil(n)``, each treatment arm
     ``ceil(ratio × control)``, total ``control + arms × treatment``; days come from
