@@ -14,6 +14,13 @@ For one row of a plan, four figures answer the questions a planning meeting asks
     week marked ("what each extra week buys"); beside it the neighbouring power. Needs the
     plan's daily units.
 
+A margin row (:func:`fourfold.plan.rules.is_margin_row`: a guardrail or non-inferiority row)
+is about its margin, its effect being the true difference assumed (usually 0): its ``effect``
+figure shows units against the margin, over a range on the far side of the effect, and its
+``runtime`` figure the tightest margin ruled out after each day and week
+(:func:`fourfold.engine.detectable_margin`). ``Tradeoffs.quantity`` is then ``"margin"``, and
+the ``effect_*`` attributes describe the margin.
+
 The six curves of the first three figures are one vectorised engine call, the runtime
 figure's three curves another. Every curve uses the row's own design, exactly as
 :func:`fourfold.plan.evaluation.compute` evaluates the row: its α (overridden and corrected for
@@ -60,6 +67,7 @@ from fourfold import engine
 from fourfold.plan import sequential
 from fourfold.plan.evaluation import PlanResult, RowResult, compute, runtime_units
 from fourfold.plan.model import Metric, Plan, Settings
+from fourfold.plan.rules import is_margin_row
 
 FIGURES = ("effect", "power", "alpha", "runtime")
 POINTS = 81
@@ -155,6 +163,10 @@ class Tradeoffs:
         The figures.
     reason : str
         Why the row cannot be computed; ``""`` when it can.
+    quantity : str
+        The field the effect figure's x axis is about and its marker drags: ``"effect"``, or
+        ``"margin"`` for a margin row (``effect_scale``, ``effect_unit``, ``effect_span`` and
+        ``effect_editable`` then describe the margin).
     """
 
     index: int
@@ -168,6 +180,7 @@ class Tradeoffs:
     alpha: Figure
     runtime: Figure
     reason: str
+    quantity: str = "effect"
 
     @property
     def figures(self) -> tuple[Figure, Figure, Figure, Figure]:
@@ -220,9 +233,15 @@ def _row_effect(metric: Metric, row: RowResult) -> float:
     return row.effect_rel if metric.relative else row.effect_abs
 
 
-def _default_span(metric: Metric, effect: float) -> tuple[float, float]:
-    distance = effect - metric.margin
-    ends = sorted((metric.margin + distance * SPAN[0], metric.margin + distance * SPAN[1]))
+def _row_margin(metric: Metric, row: RowResult) -> float:
+    return row.margin_rel if metric.relative else row.margin_abs
+
+
+def _default_span(anchor: float, value: float) -> tuple[float, float]:
+    """A range of ``value`` (effect or margin) at 0.4 to 2.5 times its distance from
+    ``anchor`` (the margin, or the effect) on its side."""
+    distance = value - anchor
+    ends = sorted((anchor + distance * SPAN[0], anchor + distance * SPAN[1]))
     return float(ends[0]), float(ends[1])
 
 
@@ -262,8 +281,11 @@ class _Row:
     def __init__(self, plan: Plan, metric: Metric, row: RowResult) -> None:
         self.plan, self.metric, self.row = plan, metric, row
         settings = plan.settings
+        self.margin_row = is_margin_row(metric)
+        self.effect = _row_effect(metric, row)
+        self.margin = _row_margin(metric, row)
         self.common = dict(sd=metric.sd, alternative=metric.alternative, ratio=settings.ratio,
-                           relative=metric.relative, margin=metric.margin, method=metric.method)
+                           relative=metric.relative, method=metric.method)
 
     def inflation(self, alpha, power, design: float | None = None):
         """Interim-look inflation at α and power (1 for a fixed design).
@@ -294,25 +316,40 @@ class _Row:
 
     def units(self, *curves: tuple) -> list[np.ndarray]:
         """Control-arm units (design factor and interim looks included), as the evaluation
-        computes them, for each ``(effect, alpha, power, design)`` of ``curves`` (one engine
-        call); ``design`` tells :meth:`inflation` the row's own value on the curve's grid."""
+        computes them, for each ``(x, alpha, power, design)`` of ``curves`` (one engine
+        call), ``x`` the effect, or for a margin row the margin; ``design`` tells
+        :meth:`inflation` the row's own value on the curve's grid."""
         metric = self.metric
+
+        def solve(x, a, p):
+            if self.margin_row:
+                return engine.sample_size(metric.kind, metric.baseline, self.effect, alpha=a,
+                                          power=p, margin=x, **self.common)
+            return engine.sample_size(metric.kind, metric.baseline, x, alpha=a, power=p,
+                                      margin=self.margin, **self.common)
+
         with np.errstate(all="ignore"):
-            n = _split(lambda e, a, p: engine.sample_size(metric.kind, metric.baseline, e,
-                                                          alpha=a, power=p, **self.common),
-                       [curve[:3] for curve in curves])
+            n = _split(solve, [curve[:3] for curve in curves])
         return [values * self.row.design_factor * self.inflation(alpha, power, design)
                 for values, (_, alpha, power, design) in zip(n, curves, strict=True)]
 
     def detectable(self, *curves: tuple) -> list[np.ndarray]:
-        """Detectable effect (row units) for each ``(n_control, alpha, power)`` of ``curves``
-        (control-arm units, the maximum with looks; one engine call)."""
+        """Detectable effect, or for a margin row the tightest margin ruled out (row units),
+        for each ``(n_control, alpha, power)`` of ``curves`` (control-arm units, the maximum
+        with looks; one engine call)."""
         metric = self.metric
         scaled = [(np.asarray(n) / (self.row.design_factor * self.inflation(alpha, power)),
                    alpha, power) for n, alpha, power in curves]
+
+        def solve(n, a, p):
+            if self.margin_row:
+                return engine.detectable_margin(metric.kind, metric.baseline, self.effect, n,
+                                                alpha=a, power=p, **self.common)
+            return engine.detectable_effect(metric.kind, metric.baseline, n, alpha=a, power=p,
+                                            margin=self.margin, **self.common)
+
         with np.errstate(all="ignore"):
-            return _split(lambda n, a, p: engine.detectable_effect(
-                metric.kind, metric.baseline, n, alpha=a, power=p, **self.common), scaled)
+            return _split(solve, scaled)
 
 
 def _split(solve, curves) -> list[np.ndarray]:
@@ -363,33 +400,47 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
     result = compute(plan) if result is None else result
     metric, row = plan.metrics[index], result.rows[index]
     scale, unit, effect_text = _effect_units(metric)
-    y_units = "units per arm" if plan.settings.ratio == 1.0 else "control-arm units"
-    sided = "two-sided" if metric.alternative == "two-sided" else "one-sided"
-    per = ", per comparison" if plan.settings.correction != "none" else ""
-    labels = {
-        "effect": ("Sample size against effect", f"effect ({effect_text})", y_units),
-        "power": ("Sample size against power", "power (%)", y_units),
-        "alpha": ("Sample size against α", f"α ({sided}{per}, log scale)", y_units),
-        "runtime": ("What each week can detect", "days of runtime",
-                    f"MDE ({effect_text})" if unit else "MDE"),
-    }
-    editable = row.solved != "detectable_effect"
-    effect = _row_effect(metric, row)
-    if row.reason or not math.isfinite(effect):
-        reason = row.reason or "the row has no effect to plot"
+    quantity = "margin" if is_margin_row(metric) else "effect"
+    labels = _labels(plan, metric, quantity, effect_text, unit)
+    editable = row.solved not in ("detectable_effect", "detectable_margin")
+    x = (_row_margin if quantity == "margin" else _row_effect)(metric, row)
+    if row.reason or not math.isfinite(x):
+        reason = row.reason or f"the row has no {quantity} to plot"
         figures = [_empty_figure(name, *labels[name], reason, x_log=name == "alpha")
                    for name in FIGURES]
         return Tradeoffs(index, metric.name, scale, unit, (math.nan, math.nan), editable,
-                         *figures, reason)
+                         *figures, reason, quantity)
 
     engine_row = _Row(plan, metric, row)
-    span = effect_span if _usable_span(effect_span, effect) else _default_span(metric, effect)
+    anchor = engine_row.effect if quantity == "margin" else engine_row.margin
+    span = effect_span if _usable_span(effect_span, x) else _default_span(anchor, x)
     figures = (
-        *_units_figures(engine_row, effect, span, scale, labels, points),
-        _runtime_figure(engine_row, result, effect, scale, labels["runtime"], points),
+        *_units_figures(engine_row, x, span, scale, labels, points),
+        _runtime_figure(engine_row, result, x, scale, labels["runtime"], points),
     )
     return Tradeoffs(index, metric.name, scale, unit, (float(span[0]), float(span[1])),
-                     editable, *figures, "")
+                     editable, *figures, "", quantity)
+
+
+def _labels(plan: Plan, metric: Metric, quantity: str, effect_text: str,
+            unit: str) -> dict[str, tuple[str, str, str]]:
+    """Title, x label and y label of each figure."""
+    y_units = "units per arm" if plan.settings.ratio == 1.0 else "control-arm units"
+    sided = "two-sided" if metric.alternative == "two-sided" else "one-sided"
+    per = ", per comparison" if plan.settings.correction != "none" else ""
+    if quantity == "margin":
+        first = ("Sample size against the margin", f"margin ({effect_text})")
+        runtime = ("What each week can rule out",
+                   f"margin ruled out ({effect_text})" if unit else "margin ruled out")
+    else:
+        first = ("Sample size against effect", f"effect ({effect_text})")
+        runtime = ("What each week can detect", f"MDE ({effect_text})" if unit else "MDE")
+    return {
+        "effect": (*first, y_units),
+        "power": ("Sample size against power", "power (%)", y_units),
+        "alpha": ("Sample size against α", f"α ({sided}{per}, log scale)", y_units),
+        "runtime": (runtime[0], "days of runtime", runtime[1]),
+    }
 
 
 def _units_figures(r: _Row, effect: float, span: tuple[float, float], scale: float,
