@@ -288,7 +288,7 @@ _SETTINGS = st.builds(
     daily_units=st.one_of(st.none(), st.floats(10.0, 1e6)),
     share=st.floats(0.05, 1.0),
     whole_weeks=st.booleans(),
-    runtime_days=st.one_of(st.none(), st.floats(1.0, 90.0)),
+    runtime_days=st.one_of(st.none(), st.integers(1, 90).map(float)),
 )
 
 

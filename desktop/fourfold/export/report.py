@@ -36,6 +36,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+from fourfold.formatting import format_days
 from fourfold.plan import CHOICES
 from fourfold.plan.fields import CORRECTION_LABELS
 from fourfold.plan.sequential import looks_row, row_looks
@@ -114,17 +115,14 @@ def units(value) -> str:
 
 
 def days(value) -> str:
-    """Days to one decimal; whole days without one.
+    """Days as everywhere in Fourfold: whole days, rounded up.
 
     Examples
     --------
     >>> days(28.0), days(13.42), days(None)
-    ('28', '13.4', '—')
+    ('28', '14', '—')
     """
-    if not _finite(value):
-        return DASH
-    value = float(value)
-    return f"{value:,.0f}" if value == round(value) else f"{value:,.1f}"
+    return format_days(value if _finite(value) else None)
 
 
 def number(value, digits: int = 4) -> str:

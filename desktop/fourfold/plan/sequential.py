@@ -129,7 +129,7 @@ def row_fields(made: SequentialDesign | None, units_total: float,
     share = made.expected_h1 / made.inflation
     expected_units = _ceil(units_total * share) if math.isfinite(units_total) else math.nan
     looks = look_days(made, days)
-    expected_days = math.nan if looks is None else float(np.dot(made.stop_h1, looks))
+    expected_days = math.nan if looks is None else _ceil(float(np.dot(made.stop_h1, looks)))
     return units_total, expected_units, expected_days, looks
 
 

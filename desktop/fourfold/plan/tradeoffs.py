@@ -64,6 +64,7 @@ import numpy as np
 from scipy.special import ndtri
 
 from fourfold import engine
+from fourfold.formatting import format_days
 from fourfold.plan import sequential
 from fourfold.plan.evaluation import PlanResult, RowResult, compute, runtime_units
 from fourfold.plan.model import Metric, Plan, Settings
@@ -505,7 +506,7 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
                                                   (units_after(week_days), row.alpha, row.power)))
     duration = result.duration_days
     guide = float(duration) if duration is not None and math.isfinite(duration) else math.nan
-    guide_label = f"test runs {guide:g} d" if math.isfinite(guide) else ""
+    guide_label = f"test runs {format_days(guide)} d" if math.isfinite(guide) else ""
     return Figure("runtime", *labels, False, False,
                   Curve(days, at_days, _power_label(row.power)),
                   Curve(days, at_days_other, _power_label(other)),

@@ -13,6 +13,7 @@ import math
 from fourfold.formatting import (
     DASH,
     format_count,
+    format_days,
     format_number,
     format_percent,
     parse_number,
@@ -106,7 +107,7 @@ def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
     if key in ("units_control", "units_treatment", "units_total"):
         return format_count(getattr(row, key))
     if key == "days":
-        return format_number(row.days, sig=3)
+        return format_days(row.days)
     if key == "detectable":
         value = row.effect_rel if metric.relative else row.effect_abs
         return show_value(metric, "detectable", value)
@@ -117,11 +118,11 @@ def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
     if key == "units_expected_h1":
         return format_count(row.units_expected_h1)
     if key == "days_expected_h1":
-        return format_number(row.days_expected_h1, sig=3)
+        return format_days(row.days_expected_h1)
     if key == "look_days":
         if not row.look_days:
             return DASH
-        return ", ".join(format_number(day, sig=3) for day in row.look_days)
+        return ", ".join(format_days(day) for day in row.look_days)
     raise KeyError(key)
 
 

@@ -8,28 +8,29 @@ import math
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QSizePolicy
 
-from fourfold.formatting import format_count, format_number
+from fourfold.formatting import format_count, format_days, format_number, whole_days
 from fourfold.ui.document import PlanDocument
 
 
 def duration_text(days: float | None) -> str:
-    """Days and weeks in words, e.g. "28 days (4 weeks)".
+    """Days and weeks in words, e.g. "28 days (4 weeks)"; days whole, rounded up.
 
     Examples
     --------
     >>> duration_text(28.0)
     '28 days (4 weeks)'
-    >>> duration_text(10.5)
-    '10.5 days (1.5 weeks)'
+    >>> duration_text(10.0)
+    '10 days (1.4 weeks)'
     >>> duration_text(None)
     '—'
     """
     if days is None or not math.isfinite(days):
         return "—"
+    days = whole_days(days)
     weeks = days / 7.0
     week_word = "week" if weeks == 1 else "weeks"
     day_word = "day" if days == 1 else "days"
-    return f"{format_number(days, sig=3)} {day_word} ({format_number(weeks, sig=2)} {week_word})"
+    return f"{format_days(days)} {day_word} ({format_number(weeks, sig=2)} {week_word})"
 
 
 class SummaryBar(QFrame):
@@ -80,7 +81,7 @@ class SummaryBar(QFrame):
         if settings.looks > 1 and result.binding_index is not None:
             expected = result.rows[result.binding_index].days_expected_h1
             if math.isfinite(expected):
-                text += f" at most, {format_number(expected, sig=2)} days expected"
+                text += f" at most, {format_days(expected)} days expected"
         self.duration.setText(text)
         total = format_count(result.total_units) if result.total_units is not None else "—"
         self.units.setText(f"Total units <b>{total}</b>")
