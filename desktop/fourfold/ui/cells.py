@@ -19,12 +19,14 @@ from fourfold.formatting import (
     parse_number,
 )
 from fourfold.plan import Metric, Settings
+from fourfold.plan.rules import is_margin_row
 
 LABELS = {
     "sample_size": "sample size",
     "detectable_effect": "detectable effect",
     "power": "power",
     "significance_level": "α",
+    "detectable_margin": "margin ruled out",
     "two-sided": "two-sided",
     "greater": "greater",
     "less": "less",
@@ -100,6 +102,11 @@ def read_value(metric: Metric, key: str, text: str, header: str) -> float:
     return parse_number(text, percent=unit(metric, key) is not None, label=header)
 
 
+def _margin(metric: Metric, row) -> float:
+    """The margin a row was computed with (its own, or the tightest it rules out)."""
+    return row.margin_rel if metric.relative else row.margin_abs
+
+
 def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
     """Text of a computed cell from the row's result (``row`` is a ``RowResult`` or None)."""
     if row is None:
@@ -109,6 +116,8 @@ def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
     if key == "days":
         return format_days(row.days)
     if key == "detectable":
+        if is_margin_row(metric):
+            return "margin " + show_value(metric, "detectable", _margin(metric, row))
         value = row.effect_rel if metric.relative else row.effect_abs
         return show_value(metric, "detectable", value)
     if key == "power_out":
@@ -132,6 +141,8 @@ def output_number(metric: Metric, row, key: str) -> float:
         return math.nan
     if key == "look_days":
         return float(row.look_days[0]) if row.look_days else math.nan
+    if key == "detectable" and is_margin_row(metric):
+        return _margin(metric, row)
     attribute = {
         "power_out": "power",
         "alpha_out": "alpha",

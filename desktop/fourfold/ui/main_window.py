@@ -26,6 +26,7 @@ from PySide6.QtWidgets import (
 import fourfold
 from fourfold.plan import Metric, Plan
 from fourfold.plan.commands import InsertMetrics, MoveMetric, RemoveMetrics, SetField
+from fourfold.plan.rules import is_margin_row
 from fourfold.ui import theme
 from fourfold.ui.boundaries_plot import BoundariesView
 from fourfold.ui.document import PlanDocument
@@ -183,9 +184,11 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         else:
             self.row_status.setText(metric.name)
 
-    def _effect_dragged(self, row: int, effect: float) -> None:
+    def _effect_dragged(self, row: int, value: float) -> None:
+        """The effect marker or slider moved: the row's effect, or a margin row's margin."""
         if 0 <= row < self.model.rowCount():
-            self.document.apply(SetField(row, "effect", effect), merge=True)
+            field = "margin" if is_margin_row(self.model.metric(row)) else "effect"
+            self.document.apply(SetField(row, field, value), merge=True)
 
     def _follow_scheme(self, *_args) -> None:
         self.dark = theme.apply(QApplication.instance())

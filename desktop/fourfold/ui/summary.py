@@ -1,14 +1,20 @@
-"""The summary line: the plan's duration, its total units and the binding metric, always shown."""
+"""The summary line: the plan's duration, its total units and the binding metric, always shown.
+
+An incomplete plan (a primary or guardrail row that cannot be computed) shows no duration:
+the line says so in the warning colour and names each such row with its reason.
+"""
 
 from __future__ import annotations
 
 import html
 import math
+import re
 
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QSizePolicy
 
 from fourfold.formatting import format_count, format_days, format_number, whole_days
+from fourfold.ui import theme
 from fourfold.ui.document import PlanDocument
 
 
@@ -61,8 +67,20 @@ class SummaryBar(QFrame):
 
     def texts(self) -> tuple[str, str, str]:
         """The three items as plain text (for tests and the status of a shot)."""
-        return tuple(label.text().replace("<b>", "").replace("</b>", "")
+        return tuple(html.unescape(re.sub(r"<[^>]+>", "", label.text()))
                      for label in (self.duration, self.units, self.binding))
+
+    def _show_incomplete(self, result) -> None:
+        """An incomplete plan: no duration, but the rows that keep it from one, in the warning
+        colour."""
+        colour = theme.tints().problem.name()
+        rows = "; ".join(f"row {item.index + 1} ({html.escape(item.name)}): "
+                         f"{html.escape(item.reason)}" for item in result.incomplete)
+        self.duration.setWordWrap(True)
+        self.duration.setText(f'<span style="color:{colour}"><b>Incomplete plan: no duration'
+                              f'</b> until these rows can be computed — {rows}</span>')
+        self.units.setText("")
+        self.binding.setText("")
 
     def refresh(self) -> None:
         """Show the document's current result."""
@@ -73,6 +91,11 @@ class SummaryBar(QFrame):
             self.binding.setText("")
             self.notes.setText("")
             return
+        self._notes(result)
+        if result.incomplete:
+            self._show_incomplete(result)
+            return
+        self.duration.setWordWrap(False)
         settings = self.document.plan.settings
         duration = duration_text(result.duration_days)
         if result.duration_days is None and settings.daily_units is None:
@@ -92,6 +115,8 @@ class SummaryBar(QFrame):
             self.binding.setText("Fixed runtime: rows report what it allows")
         else:
             self.binding.setText("No binding metric (no primary or guardrail row sized)")
+
+    def _notes(self, result) -> None:
         count = len(result.notes)
         self.notes.setText(f"{count} note{'s' if count != 1 else ''} (hover)" if count else "")
         items = "".join(f"<li>{html.escape(note)}</li>" for note in result.notes)

@@ -7,6 +7,8 @@ cannot be computed. The row header marks the binding metric.
 
 from __future__ import annotations
 
+import math
+
 from PySide6.QtCore import Qt
 
 from fourfold.plan import CHOICES
@@ -14,6 +16,17 @@ from fourfold.ui import cells, simulation_cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, TEXT
 
 ROLE = Qt.ItemDataRole
+
+
+def _solve_tip(solved: str, chosen: str, runtime: bool) -> str:
+    """Why a row computes something other than its "Solve for" choice."""
+    if solved == "detectable_margin":
+        why = "a fixed runtime and a margin" if runtime and chosen == "sample_size" else \
+            "a margin"
+        return (f"With {why}, this row reports the tightest margin it rules out (the margin "
+                f"closest to its effect), not an effect (chosen: {cells.label(chosen)})")
+    return (f"The plan has a fixed runtime, so this row reports the {cells.label(solved)} "
+            f"those days allow (chosen: {cells.label(chosen)})")
 
 
 class TableDisplay:
@@ -33,6 +46,8 @@ class TableDisplay:
         if col.computed:
             if self._reason(row):
                 return cells.DASH
+            if key == "power_at_duration":
+                return cells.format_number(self.duration_power(row), sig=3)
             return cells.output_text(metric, self.document.plan.settings, self._results[row],
                                      key)
         value = getattr(metric, key)
@@ -43,6 +58,8 @@ class TableDisplay:
         if col.editor == CHOICE:
             if key == "method" and value is None:
                 return CHOICES["method"][metric.kind][0]
+            if key == "solve":  # what the row computes, which a runtime or a margin may change
+                return cells.label(self._solved(row))
             return cells.label(value)
         if value is None and key in ("alpha", "power"):
             return self._default_text(key)
@@ -71,10 +88,14 @@ class TableDisplay:
             return f"Cannot compute this row: {reason}"
         metric = self._rows[row]
         if col.key == "solve" and self._solved(row) != metric.solve:
-            return (f"The plan has a fixed runtime, so this row reports the "
-                    f"{cells.label(self._solved(row))} those days allow")
+            return _solve_tip(self._solved(row), metric.solve,
+                              self.document.plan.settings.runtime_days is not None)
         if col.key == "effect" and self._is_unused(row, "effect"):
             return "Not used: this row computes the effect it can detect"
+        if col.key == "margin" and self._is_unused(row, "margin"):
+            return "Not used: this row computes the tightest margin it rules out"
+        if col.key == "power_at_duration" and not reason and math.isnan(self.duration_power(row)):
+            return "The plan has no duration yet: no row sets it, or the plan is incomplete"
         if col.key in ("alpha", "power") and getattr(metric, col.key) is None:
             return "Plan default (type a value to override it for this row)"
         if col.key == "notes" and metric.notes:
