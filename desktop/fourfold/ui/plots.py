@@ -130,6 +130,7 @@ class PlotPanel(QWidget):
         self._step = 1.0
         self.slider.setAccessibleName("Effect of the selected row")
         self.slider_label = QLabel("Effect", self)
+        self.slider_label.setMinimumWidth(self.fontMetrics().horizontalAdvance("Margin") + 4)
         self.slider_label.setBuddy(self.slider)
         self.slider_value = QLabel("", self)
         self.slider_value.setMinimumWidth(self.fontMetrics().horizontalAdvance("+00.00 % ") + 8)

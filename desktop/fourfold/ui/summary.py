@@ -76,7 +76,7 @@ class SummaryBar(QFrame):
         colour = theme.tints().problem.name()
         rows = "; ".join(f"row {item.index + 1} ({html.escape(item.name)}): "
                          f"{html.escape(item.reason)}" for item in result.incomplete)
-        self.duration.setWordWrap(True)
+        self._wrap(True)
         self.duration.setText(f'<span style="color:{colour}"><b>Incomplete plan: no duration'
                               f'</b> until these rows can be computed — {rows}</span>')
         self.units.setText("")
@@ -95,7 +95,7 @@ class SummaryBar(QFrame):
         if result.incomplete:
             self._show_incomplete(result)
             return
-        self.duration.setWordWrap(False)
+        self._wrap(False)
         settings = self.document.plan.settings
         duration = duration_text(result.duration_days)
         if result.duration_days is None and settings.daily_units is None:
@@ -115,6 +115,14 @@ class SummaryBar(QFrame):
             self.binding.setText("Fixed runtime: rows report what it allows")
         else:
             self.binding.setText("No binding metric (no primary or guardrail row sized)")
+
+    def _wrap(self, wide: bool) -> None:
+        """Let the duration item take the line's free width and wrap (an incomplete plan's
+        reasons), or keep it to its text (a duration)."""
+        self.duration.setWordWrap(wide)
+        horizontal = QSizePolicy.Policy.Expanding if wide else QSizePolicy.Policy.Preferred
+        self.duration.setSizePolicy(horizontal, QSizePolicy.Policy.Preferred)
+        self.layout().setStretchFactor(self.duration, 1 if wide else 0)
 
     def _notes(self, result) -> None:
         count = len(result.notes)
