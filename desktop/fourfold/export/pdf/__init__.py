@@ -37,7 +37,7 @@ from PySide6.QtGui import (
 )
 
 from fourfold import CAUTION, __version__
-from fourfold.export import report
+from fourfold.export import methods, report
 from fourfold.export.files import ExportError, replacing
 from fourfold.export.pdf.flow import ACCENT, INK, MUTED, RULE, Flow, Text, clean, font, hline
 
@@ -224,7 +224,7 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
             _entry(flow, entry)
 
     flow.heading("Methods and references")
-    for method in report.methods(plan):
+    for method in methods.methods(plan):
         used = ""
         if method.rows:
             names = ", ".join(method.rows) if len(method.rows) <= 8 else f"{len(method.rows)} rows"
