@@ -119,7 +119,8 @@ def test_correction_counts_arms_and_primary_rows():
     # Šidák: 1 − (1 − α)^(1/k) (Šidák 1967, JASA 62:626; from memory).
     assert alphas == pytest.approx([1 - 0.95 ** (1 / 6)] * 2 + [1 - 0.95 ** (1 / 3),
                                                                  1 - 0.9 ** (1 / 3)])
-    assert any("sidak" in note for note in compute(plan).notes)
+    assert ("α corrected (Šidák): primary rows for 3 arms × 2 primary metrics, other rows for "
+            "3 arms.") in compute(plan).notes
     plan.settings.correction = "none"
     assert [row.alpha for row in compute(plan).rows] == [0.05, 0.05, 0.05, 0.1]
     assert not any("corrected" in note for note in compute(plan).notes)

@@ -82,7 +82,7 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
 from fourfold.plan import sequential
-from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS
+from fourfold.plan.fields import CORRECTION_LABELS, METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Plan
 from fourfold.plan.results import PlanResult, RowResult, Unfinished
 from fourfold.plan.rows import (
@@ -312,10 +312,10 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
     notes = []
     if settings.correction != "none":
         primaries = sum(1 for metric in plan.metrics if metric.role == "primary")
-        notes.append(
-            f"α corrected ({settings.correction}): primary rows for {settings.arms} arm(s) × "
-            f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
-        )
+        arms = f"{settings.arms} {'arm' if settings.arms == 1 else 'arms'}"
+        metrics = f"{primaries} primary {'metric' if primaries == 1 else 'metrics'}"
+        notes.append(f"α corrected ({CORRECTION_LABELS[settings.correction]}): primary rows for "
+                     f"{arms} × {metrics}, other rows for {arms}.")
     notes.extend(sequential.plan_notes(plan, rows, designs))
     deciding, secondary = [], []  # computed rows that solve for sample size, by role
     unfinished = []
