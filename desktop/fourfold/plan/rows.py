@@ -132,8 +132,14 @@ def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float, design
             why = ("a fixed runtime needs the plan's daily units" if runtime else
                    needs_units_text(solved))
             return _failed(solved, factor, shown_alpha, shown_power, why)
+    days = math.nan  # the run of a row with units of its own: its looks may fall on week ends
+    if n_control is not None and settings.looks > 1 and settings.whole_weeks:
+        days = (float(settings.runtime_days) if runtime else
+                at_duration.days if waiting and at_duration is not None else
+                _days_of(settings, n_control))
     try:
-        staged = sequential.row_design(settings, alpha, power, metric.alternative, designs)
+        staged = sequential.row_design(settings, alpha, power, metric.alternative, designs,
+                                       days)
     except ValueError as error:
         return _failed(solved, factor, shown_alpha, shown_power, str(error))
     if staged is not None and solved == "significance_level":
@@ -144,6 +150,42 @@ def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float, design
     n_effective = None if n_control is None else n_control / factor
     return _Pending(solved, alpha, power, factor, staged, n_control, n_effective,
                     waiting and at_duration is not None)
+
+
+def _totals(settings: Settings, n_control: float) -> tuple[float, float, float]:
+    """Whole units: control, each treatment arm, all arms."""
+    units_control = _ceil(n_control)
+    units_treatment = _ceil(settings.ratio * units_control)
+    return units_control, units_treatment, units_control + settings.arms * units_treatment
+
+
+def _days_of(settings: Settings, n_control: float) -> float:
+    """Days for ``n_control`` control units, as :func:`fourfold.engine.duration_days` counts
+    them (whole days, whole weeks when asked; nan without daily units)."""
+    if settings.daily_units is None:
+        return math.nan
+    days = _ceil(_totals(settings, n_control)[2] / (settings.daily_units * settings.share))
+    return 7.0 * math.ceil(days / 7.0) if settings.whole_weeks else days
+
+
+def _on_week_ends(plan: Plan, index: int, row: _Pending, fixed: float, day: float,
+                  designs: dict) -> tuple[tuple[float, float, float], float, Any]:
+    """A sample-size row with interim looks in a plan of whole weeks: the design with its looks
+    at the ends of the row's weeks, its units (``fixed`` × that design's inflation) and days.
+
+    The weeks come from the units and the units from the design at those weeks: from the
+    equally spaced design's days, the run grows by weeks until its traffic holds the units.
+    """
+    settings = plan.settings
+    alternative = plan.metrics[index].alternative
+    for _ in range(6):
+        made = sequential.row_design(settings, row.alpha, row.power, alternative, designs, day)
+        units = _totals(settings, fixed * made.inflation)
+        needed = _days_of(settings, fixed * made.inflation)
+        if needed <= day:
+            break
+        day = needed
+    return units, day, made
 
 
 def _column(values: list, dtype: type = float) -> np.ndarray:
@@ -217,12 +259,13 @@ def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int
                metric.sd is not None)
         groups.setdefault(key, []).append(index)
 
-    solved_rows = []
+    solved_rows, fixed = [], {}
     for key, members in groups.items():
         values, reasons = _solve_group(plan, key, members, pending)
         for index, value, reason in zip(members, values.tolist(), reasons.tolist(),
                                         strict=True):
             row = pending[index]
+            fixed[index] = value * row.factor  # the fixed design's units (sample-size rows)
             outcome = _solved_row(plan.metrics[index], row, value, str(reason), settings)
             if isinstance(outcome, RowResult):
                 results[index] = outcome
@@ -230,12 +273,15 @@ def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int
                 solved_rows.append((index, outcome))
 
     if solved_rows:
-        _finish_rows(settings, solved_rows, pending, results, at_duration)
+        _finish_rows(plan, solved_rows, pending, results, at_duration, (fixed, designs))
 
 
-def _finish_rows(settings: Settings, solved_rows: list, pending: dict[int, _Pending],
-                 results: list, at_duration: AtDuration | None) -> None:
-    """Days (one engine call for all rows) and the sequential fields of the solved rows."""
+def _finish_rows(plan: Plan, solved_rows: list, pending: dict[int, _Pending], results: list,
+                 at_duration: AtDuration | None, weekly: tuple[dict, dict]) -> None:
+    """Days (one engine call for all rows) and the sequential fields of the solved rows;
+    ``weekly`` holds the fixed design's units per row and the evaluation's designs, for
+    looks at week ends."""
+    settings = plan.settings
     totals = _column([outcome[2] for _, outcome in solved_rows])
     if settings.runtime_days is not None:
         days = [float(settings.runtime_days)] * len(solved_rows)
@@ -244,13 +290,19 @@ def _finish_rows(settings: Settings, solved_rows: list, pending: dict[int, _Pend
     else:
         days = engine.duration_days(totals, settings.daily_units, settings.share,
                                     settings.whole_weeks).tolist()
+    weeks = settings.looks > 1 and settings.whole_weeks and settings.runtime_days is None
     for (index, outcome), day in zip(solved_rows, days, strict=True):
         row = pending[index]
+        staged = row.staged
         if row.at_duration:
             day = at_duration.days
+        if weeks and row.solved == "sample_size" and math.isfinite(day):
+            units, day, staged = _on_week_ends(plan, index, row, weekly[0][index], day,
+                                               weekly[1])
+            outcome = (*units, *outcome[3:])
         units_total = outcome[2]
         results[index] = RowResult(*outcome[:3], day, *outcome[3:7], "", row.solved, row.factor,
-                                   *sequential.row_fields(row.staged, units_total, day),
+                                   *sequential.row_fields(staged, units_total, day),
                                    *outcome[7:])
 
 
@@ -279,10 +331,7 @@ def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
     if not all(math.isfinite(number) for number in (n_control, effect, power, alpha, margin)):
         return _failed(solved, factor, shown_alpha, shown_power,
                        f"the engine found no finite {solved.replace('_', ' ')} for this row")
-    units_control = _ceil(n_control)
-    units_treatment = _ceil(settings.ratio * units_control)
-    units_total = units_control + settings.arms * units_treatment
-    return (units_control, units_treatment, units_total, *_both(metric, effect), power, alpha,
+    return (*_totals(settings, n_control), *_both(metric, effect), power, alpha,
             *_both(metric, margin))
 
 
@@ -339,7 +388,8 @@ def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: A
                 continue
             target = settings.power if metric.power is None else metric.power
             try:
-                staged = sequential.row_design(settings, row.alpha, target, alternative, designs)
+                staged = sequential.row_design(settings, row.alpha, target, alternative, designs,
+                                               at.days)
             except ValueError:
                 continue
             powers[index] = value if staged is None else sequential.power_of(staged, value)

@@ -267,11 +267,13 @@ def _empty_figure(name: str, title: str, x_label: str, y_label: str, reason: str
 
 @functools.lru_cache(maxsize=256)
 def _inflation(looks: int, spending: str, futility: bool, alpha: float, power: float,
-               alternative: str) -> float:
-    """Maximum ÷ fixed units of the row design the evaluation uses (nan when impossible)."""
-    staged = Settings(looks=looks, spending=spending, futility=futility)
+               alternative: str, whole_weeks: bool, days: float) -> float:
+    """Maximum ÷ fixed units of the row design the evaluation uses (nan when impossible); its
+    looks fall on the week ends of a run of ``days`` in a plan of whole weeks."""
+    staged = Settings(looks=looks, spending=spending, futility=futility, whole_weeks=whole_weeks)
     try:
-        return sequential.inflation(sequential.row_design(staged, alpha, power, alternative))
+        return sequential.inflation(sequential.row_design(staged, alpha, power, alternative,
+                                                          days=days))
     except ValueError:
         return math.nan
 
@@ -296,7 +298,8 @@ class _Row:
         interpolated on the normal-quantile scale of α or power, where it is close to a
         straight line (within 0.2 % of the exact designs with five nodes, where linear
         interpolation in power missed by 1 % near power 0.99); each group sequential design
-        costs milliseconds.
+        costs milliseconds. In a plan of whole weeks the looks keep the week ends of the row's
+        own run along the curves.
         """
         settings = self.plan.settings
         if settings.looks <= 1:
@@ -304,7 +307,8 @@ class _Row:
 
         def at(a: float, p: float) -> float:
             return _inflation(settings.looks, settings.spending, settings.futility, float(a),
-                              float(p), self.metric.alternative)
+                              float(p), self.metric.alternative, settings.whole_weeks,
+                              float(self.row.days))
 
         alpha, power = np.asarray(alpha, dtype=float), np.asarray(power, dtype=float)
         if alpha.ndim == 0 and power.ndim == 0:
