@@ -1,7 +1,8 @@
 """The ``fourfold`` command line: one parser for the window and the headless sub-commands.
 
 ``fourfold [PLAN.json]`` opens the window (on the bundled sample plan when no file is given);
-``fourfold export``, ``fourfold shot`` and ``fourfold history`` run without a window. Each
+``fourfold export``, ``fourfold compare``, ``fourfold shot`` and ``fourfold history`` run
+without a window. Each
 sub-command's work lives in its own package and is imported only when it runs, so that
 ``fourfold --help`` stays instant.
 """
@@ -16,7 +17,7 @@ from collections.abc import Sequence
 from fourfold import __version__
 from fourfold.errors import FourfoldError
 
-SUBCOMMANDS = ("open", "export", "shot", "history")
+SUBCOMMANDS = ("open", "export", "compare", "shot", "history")
 
 
 def _size(text: str) -> tuple[int, int]:
@@ -52,9 +53,22 @@ def build_parser() -> argparse.ArgumentParser:
         "--page", choices=("a4", "letter"), default="a4", help="PDF page size (default a4)"
     )
     p_export.add_argument(
+        "--scenario", metavar="NAME", default=None,
+        help="export this scenario of the plan (default: the base)",
+    )
+    p_export.add_argument(
         "--allow-incomplete", action="store_true",
         help="export a plan even when a primary or guardrail row cannot be computed (the "
              "outputs then say \"incomplete\" and have no duration); refused by default",
+    )
+
+    p_compare = sub.add_parser(
+        "compare", help="compare the plan's base and scenarios side by side"
+    )
+    p_compare.add_argument("plan", help="plan file (.json)")
+    p_compare.add_argument(
+        "-o", "--output", default=None,
+        help="write the comparison to this .csv file instead of printing it",
     )
 
     p_shot = sub.add_parser("shot", help="render the window offscreen to a PNG")
@@ -64,6 +78,10 @@ def build_parser() -> argparse.ArgumentParser:
         "--size", type=_size, default=(1400, 900), help="window size, e.g. 1400x900"
     )
     p_shot.add_argument("--row", type=int, default=None, help="metric row to select (from 1)")
+    p_shot.add_argument("--scenario", metavar="NAME", default=None,
+                        help="the scenario to show (Base: the plan as entered)")
+    p_shot.add_argument("--tab", choices=("plots", "scenarios"), default="plots",
+                        help="the tab under the table (default: plots)")
 
     from fourfold.history.cli import configure as configure_history
 
@@ -81,11 +99,11 @@ def _normalise(argv: Sequence[str]) -> list[str]:
     return argv
 
 
-def _warn_incomplete(plan_path: str) -> None:
+def _warn_incomplete(plan_path: str, scenario: str | None) -> None:
     """Say on stderr that an exported plan is incomplete (allowed by ``--allow-incomplete``)."""
-    from fourfold.plan import compute, load
+    from fourfold.plan import compute, effective, load
 
-    result = compute(load(plan_path))
+    result = compute(effective(load(plan_path), scenario))
     if result.incomplete:
         print(f"fourfold: warning: the plan is incomplete: {result.incomplete_text()}",
               file=sys.stderr)
@@ -106,17 +124,26 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "shot":
             from fourfold.ui.app import run_shot
 
-            code = run_shot(args.plan, args.output, size=args.size, row=args.row)
+            code = run_shot(args.plan, args.output, size=args.size, row=args.row,
+                            scenario=args.scenario, tab=args.tab)
             print(f"wrote {args.output}")
             return code
         if args.command == "export":
             from fourfold.export import export_file
 
             written = export_file(args.plan, args.output, page=args.page,
+                                  scenario=args.scenario,
                                   allow_incomplete=args.allow_incomplete)
-            print("wrote " + " and ".join(str(path) for path in written))
+            names = [str(path) for path in written]
+            print("wrote " + (", ".join(names[:-1]) + " and " if len(names) > 1 else "")
+                  + names[-1])
             if args.allow_incomplete:
-                _warn_incomplete(args.plan)
+                _warn_incomplete(args.plan, args.scenario)
+            return 0
+        if args.command == "compare":
+            from fourfold.export import compare_file
+
+            sys.stdout.write(compare_file(args.plan, args.output))
             return 0
         if args.command == "history":
             from fourfold.history.cli import run as run_history

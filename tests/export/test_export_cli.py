@@ -22,7 +22,8 @@ def _fails(capsys, *argv) -> str:
 def test_csv_export_writes_both_files(tmp_path, capsys):
     assert cli.main(["export", str(sample_path()), "-o", str(tmp_path / "p.csv")]) == 0
     assert "p.csv" in capsys.readouterr().out
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["p-settings.csv", "p.csv"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["p-scenarios.csv", "p-settings.csv",
+                                                          "p.csv"]
 
 
 def test_missing_plan_file(tmp_path, capsys):
@@ -59,7 +60,10 @@ def test_unwritable_output_path(tmp_path, capsys, where):
 def test_csv_export_names_both_files_it_wrote(tmp_path, capsys):
     assert cli.main(["export", str(sample_path()), "-o", str(tmp_path / "p.csv")]) == 0
     out = capsys.readouterr().out
-    assert out.strip() == f"wrote {tmp_path / 'p.csv'} and {tmp_path / 'p-settings.csv'}"
+    assert out.strip() == (f"wrote {tmp_path / 'p.csv'}, {tmp_path / 'p-settings.csv'} and "
+                           f"{tmp_path / 'p-scenarios.csv'}")
+    assert sorted(path.name for path in tmp_path.iterdir()) == [
+        "p-scenarios.csv", "p-settings.csv", "p.csv"]
 
 
 def _incomplete_plan(tmp_path):

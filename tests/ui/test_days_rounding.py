@@ -44,7 +44,7 @@ def test_29_03_days_read_30_everywhere(make_window, qtbot, tmp_path):
     pdf = write_pdf(plan, tmp_path / "plan.pdf")
     text = " ".join(" ".join(page.extract_text().split()) for page in pypdf.PdfReader(pdf).pages)
     assert "30 days" in text and "29 d" not in text
-    path, _ = write_csv(plan, tmp_path / "plan.csv")
+    path, *_ = write_csv(plan, tmp_path / "plan.csv")
     with open(path, encoding="utf-8-sig", newline="") as handle:
         rows = list(csv.reader(handle))
     assert rows[1][rows[0].index("days")] == "30.0"
