@@ -129,3 +129,20 @@ def test_a_guardrails_plots_and_slider_move_its_margin(make_window, qtbot):
     qtbot.waitUntil(lambda: window.document.plan.metrics[5].margin != margin, timeout=3000)
     after = window.document.plan.metrics[5]
     assert after.margin == pytest.approx(0.0205) and after.effect == effect
+
+
+def test_the_window_exports_an_incomplete_plan_saying_so(make_window, tmp_path, monkeypatch):
+    from PySide6.QtWidgets import QFileDialog
+
+    window = make_window()
+    window.document.apply(SetField(0, "kind", "mean"))  # the primary row has no SD yet
+    window.document.recompute_now()
+    monkeypatch.setattr(QFileDialog, "getSaveFileName",
+                        lambda *args, **kwargs: (str(tmp_path / "plan.csv"), ""))
+    window.csv_action.trigger()
+    assert window.statusBar().currentMessage() == (
+        f"Wrote {tmp_path / 'plan.csv'}: an incomplete plan, so it says \"incomplete\" and gives "
+        "no duration (row 1 (Checkout conversion): sd is required for a mean (the per-unit "
+        "standard deviation))")
+    text = (tmp_path / "plan-settings.csv").read_text(encoding="utf-8-sig")
+    assert "status,incomplete,text" in text
