@@ -28,8 +28,8 @@ Examples
 
 import numpy as np
 
-from . import _normal, roots
-from ._power import critical, degrees_of_freedom, power_of
+from . import roots
+from ._power import critical, degrees_of_freedom, distance_search, power_of
 
 SIGNS = {"greater": 1.0, "less": -1.0}
 REASONS = {
@@ -59,13 +59,8 @@ def solve_margin(p):
     room = (effect - lo) if sign > 0 else (hi - effect)
     sd = None if p.sd is None else p.sd[i]
     _, s0, s1, _ = kind.moments(p.method, baseline, effect, effect, sd, ratio)
-    u = critical(p.alpha[i], p.alternative, False, None)
-    guess = (u * s0 + _normal.quantile(p.power[i]) * s1) / np.sqrt(n)
-    bounded = np.isfinite(room)
-    guess = np.where(bounded, np.minimum(guess, 0.5 * room), guess)
-    y0 = np.log(np.maximum(guess, 1e-300))
-    y_max = np.where(bounded, np.log(room) + np.log1p(-1e-12), y0 + 60.0)
-    y_min = np.minimum(y0, y_max) - 60.0
+    u, y0, y_min, y_max = distance_search(room, s0, s1, p.alpha[i], p.power[i], n,
+                                          p.alternative)
     exact_t = p.method == "t"
     crit = critical(p.alpha[i], p.alternative, True, degrees_of_freedom(n, ratio)) \
         if exact_t else u

@@ -39,6 +39,7 @@ from . import _normal, roots, tdist
 from ._power import (
     critical,
     degrees_of_freedom,
+    distance_search,
     limit_power_and_slope,
     power_of,
 )
@@ -211,13 +212,8 @@ def _detectable_effect(p):
     lo, hi = KIND_MODULES[p.kind].effect_bounds(p.baseline[i], margin, sign)
     room = (hi - margin) if sign > 0 else (margin - lo)
     _, s0, s1, _ = _moments(p, i, margin)
-    u = critical(p.alpha[i], p.alternative, False, None)
-    guess = (u * s0 + _normal.quantile(p.power[i]) * s1) / np.sqrt(p.n[i])
-    bounded = np.isfinite(room)
-    guess = np.where(bounded, np.minimum(guess, 0.5 * room), guess)
-    y0 = np.log(np.maximum(guess, 1e-300))
-    y_max = np.where(bounded, np.log(room) + np.log1p(-1e-12), y0 + 60.0)
-    y_min = np.minimum(y0, y_max) - 60.0
+    u, y0, y_min, y_max = distance_search(room, s0, s1, p.alpha[i], p.power[i], p.n[i],
+                                          p.alternative)
     target = p.power[i]
     exact_t = p.method == "t"
     n, ratio, baseline = p.n[i], p.ratio[i], p.baseline[i]
