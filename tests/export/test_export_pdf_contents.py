@@ -95,3 +95,16 @@ def test_no_table_row_is_left_alone_on_a_page(qapp):
     assert _rows_per_page(5, 5) == [5]
     assert _rows_per_page(6, 5) == [4, 2]  # not [5, 1]: the last row keeps one company
     assert _rows_per_page(11, 5) == [5, 4, 2]
+
+
+def test_the_comparison_gives_a_guardrails_margin_not_its_assumed_effect(tmp_path, capsys):
+    """With a 14-day runtime the support-contacts guardrail rules out +8.61 % (the engine's
+    detectable_margin; before, the comparison showed its assumed effect, "0 %")."""
+    plan = load(sample_path())
+    plan.settings.runtime_days = 14.0
+    path = tmp_path / "runtime.json"
+    path.write_text(dumps(plan), encoding="utf-8")
+    assert cli.main(["compare", str(path)]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    at = next(i for i, line in enumerate(lines) if line.startswith("Support contacts"))
+    assert lines[at + 2].split()[:4] == ["Detectable", "effect", "margin", "+8.61"]
