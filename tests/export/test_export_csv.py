@@ -109,11 +109,15 @@ def test_effect_and_margin_as_entered_go_to_the_column_of_their_unit(tmp_path):
             absolute = row[header.index(f"{field}_input_abs")]
             entered, other = (relative, absolute) if metric.relative else (absolute, relative)
             assert (float(entered), other) == (getattr(metric, field), ""), (metric.name, field)
-    assert [row[header.index("margin_input_abs")] for row in rows[1:]] == [""] * 5 + ["0.02"]
+    names = [row[header.index("name")] for row in rows[1:]]
+    load = rows[1 + names.index("Page load time (s)")]
+    assert (load[header.index("margin_input_abs")], load[header.index("margin_input_rel_frac")]) \
+        == ("0.02", "")
 
 
 def test_unit_counts_are_written_as_integers(tmp_path):
     plan = _sample()
+    plan.settings.correction = "bonferroni"
     plan.metrics[1].n = 5000.0
     path, extra, *_ = write_csv(plan, tmp_path / "plan.csv")
     rows = _read(path)

@@ -3,7 +3,8 @@ back with pypdf 7.1 through ``fourfold export``, as a user makes it.
 
 Hand calculations beside each check: a relative margin of +10 % on a baseline of 0.018 is
 0.0018 in the metric's unit; an absolute margin of 0.02 s on 1.84 s is +1.09 %; Bonferroni over
-two treatment arms tests each comparison at 0.05 / 2 = 0.025. The powers at the plan's duration
+two treatment arms (set here; the sample plan uses Dunnett's) tests each comparison at
+0.05 / 2 = 0.025. The powers at the plan's duration
 are checked against statsmodels in tests/plan/test_plan_duration_power.py.
 """
 
@@ -28,6 +29,15 @@ def _pages(path) -> list[str]:
             for page in PdfReader(path).pages]
 
 
+def _bonferroni(tmp_path):
+    """The sample plan with Bonferroni's correction (α 0.05 / 2 arms = 0.025), as a file."""
+    plan = load(sample_path())
+    plan.settings.correction = "bonferroni"
+    path = tmp_path / "bonferroni.json"
+    path.write_text(dumps(plan), encoding="utf-8")
+    return path
+
+
 def _export(tmp_path, plan_path, *extra) -> list[str]:
     out = tmp_path / "plan.pdf"
     assert cli.main(["export", str(plan_path), "-o", str(out), *extra]) == 0
@@ -35,26 +45,27 @@ def _export(tmp_path, plan_path, *extra) -> list[str]:
 
 
 def test_the_report_speaks_of_margins_sides_and_power_at_the_duration(qapp, tmp_path):
-    pages = _export(tmp_path, sample_path())
+    pages = _export(tmp_path, _bonferroni(tmp_path))
     text = " ".join(pages)
-    assert "6 metric rows (1 primary, 3 secondaries, 2 guardrails)" in pages[0]
-    assert "+10 % (+0.0018)" in text and "+0.02 (+1.09 %)" in text
+    assert "7 metric rows (1 primary, 3 secondaries, 3 guardrails)" in pages[0]
+    assert "+10 % (+0.0018 contacts)" in text and "+0.02 s (+1.09 %)" in text
     assert "0.025 (two-sided)" in text and "0.025 (one-sided)" in text
     assert "Power at duration" in text
     assert "Checkout conversion +5 % (+0.155 pp) — 0.025 (two-sided) 0.80 0.8743" in text
-    assert "Revenue per visitor +4 % (+0.094) — 0.025 (two-sided) 0.80 0.6399" in text
+    assert "Revenue per visitor +4 % (+0.094 $) — 0.025 (two-sided) 0.80 0.6399" in text
     assert "primary rows for 2 arms × 1 primary metric, other rows for 2 arms" in pages[0]
 
 
 def test_a_fixed_runtime_report_gives_a_guardrails_tightest_margin(qapp, tmp_path):
     plan = load(sample_path())
     plan.settings.runtime_days = 14.0
+    plan.settings.correction = "bonferroni"
     path = tmp_path / "runtime.json"
     path.write_text(dumps(plan), encoding="utf-8")
     text = " ".join(_export(tmp_path, path))
     # the page-load guardrail rules out +0.00705 s (0.38 %) in 14 days (the engine's
     # detectable_margin, checked against the closed form in tests/engine/test_margin.py)
-    assert "Page load time (s) 0 (0 %) +0.007048 (+0.383 %) 0.025 (one-sided)" in text
+    assert "Page load time (s) 0 s (0 %) +0.007048 s (+0.383 %) 0.025 (one-sided)" in text
 
 
 def test_an_incomplete_plan_exported_anyway_reads_incomplete(qapp, tmp_path, capsys):
@@ -102,6 +113,7 @@ def test_the_comparison_gives_a_guardrails_margin_not_its_assumed_effect(tmp_pat
     detectable_margin; before, the comparison showed its assumed effect, "0 %")."""
     plan = load(sample_path())
     plan.settings.runtime_days = 14.0
+    plan.settings.correction = "bonferroni"
     path = tmp_path / "runtime.json"
     path.write_text(dumps(plan), encoding="utf-8")
     assert cli.main(["compare", str(path)]) == 0

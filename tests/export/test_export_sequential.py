@@ -14,7 +14,7 @@ import csv
 import pytest
 from pypdf import PdfReader
 
-from fourfold.export import methods, report
+from fourfold.export import report
 from fourfold.export.csv import settings_path, write_csv
 from fourfold.plan.evaluation import compute
 from fourfold.plan.model import Metric, Plan, Settings
@@ -63,7 +63,7 @@ def test_report_table_and_references():
     # Pocock C_P(3, 0.05) = 2.289, Jennison & Turnbull (2000) Table 2.1 — from memory.
     efficacy = table.header.index("Efficacy z")
     assert {row[efficacy] for row in table.rows} == {"2.289"}
-    references = " ".join(m.reference for m in methods.methods(plan))
+    references = " ".join(m.reference for m in report.methods(plan))
     assert "Armitage" in references and "Pocock, S. J. (1977)" in references
     assert report.looks_table(_plan(), compute(_plan())) is None
 

@@ -4,9 +4,9 @@ References (test-only): statsmodels 0.15.0 (``TTestIndPower.power``,
 ``power_proportions_2indep``) and scipy 1.17.1 (``scipy.stats.norm``) for the one-sided z test
 of a Poisson rate against a margin, power Φ(|m − δ|·√n / √(λ_c + λ_t/r) − z₁₋α) (common
 practice, no source). The sample plan: 35 days × 42,000 eligible visitors × 60 % in the test,
-split over control and two treatment arms, gives 294,000 control visitors; Bonferroni over the
-two arms tests the secondary and guardrail rows at α = 0.025, the primary (one primary row)
-also at 0.025.
+split over control and two treatment arms, gives 294,000 control visitors; with its correction
+set to Bonferroni (the sample uses Dunnett's), the two arms test every row at α = 0.025 (one
+primary row).
 """
 
 import math
@@ -26,7 +26,9 @@ UNITS = 35 * 42_000 * 0.6 / 3  # control visitors in the plan's 35 days
 
 
 def _sample():
-    return load(sample_path())
+    plan = load(sample_path())
+    plan.settings.correction = "bonferroni"
+    return plan
 
 
 def test_the_units_the_duration_brings():
@@ -111,9 +113,9 @@ def test_with_a_fixed_runtime_powers_are_at_the_runtime():
     plan.settings.runtime_days = 28.0
     result = compute(plan)
     # every row solves for what it can detect in 28 days, so its power there is its own
-    assert result.duration_powers == pytest.approx([0.8] * 6, abs=1e-9)
+    assert result.duration_powers == pytest.approx([0.8] * 7, abs=1e-9)
     assert [row.solved for row in result.rows] == ["detectable_effect"] * 4 + [
-        "detectable_margin"] * 2
+        "detectable_margin"] * 3
 
 
 def test_without_traffic_the_binding_rows_units_are_the_plans():

@@ -19,7 +19,7 @@ from fourfold.plan.sequential import design_of_row, row_looks, week_timing
 
 def _sample(**settings):
     plan = load(sample_path())
-    for name, value in dict(looks=3, **settings).items():
+    for name, value in dict(looks=3, correction="bonferroni", **settings).items():
         setattr(plan.settings, name, value)
     return plan
 

@@ -74,21 +74,29 @@ def test_an_incomplete_plan_says_so_in_the_warning_colour_naming_each_row(make_w
     qtbot.waitUntil(lambda: window.summary.texts()[0] == "Duration 35 days (5 weeks)")
 
 
+def _bonferroni():
+    """The sample plan with Bonferroni's correction (every row at α 0.025, as in
+    tests/plan/test_plan_duration_power.py)."""
+    plan = load(sample_path())
+    plan.settings.correction = "bonferroni"
+    return plan
+
+
 def test_every_row_shows_its_power_at_the_plans_duration(make_window, qtbot):
-    window = make_window()
+    window = make_window(_bonferroni())
     model = window.model
     column = column_index("power_at_duration")
     powers = compute(window.document.plan).duration_powers
-    shown = [model.data(model.index(row, column)) for row in range(6)]
-    assert shown == ["0.874", "0.64", "0.968", "0.927", "0.999", "1"]
-    assert [round(p, 3) for p in powers[:4]] == [0.874, 0.64, 0.968, 0.927]
+    shown = [model.data(model.index(row, column)) for row in range(7)]
+    assert shown == ["0.874", "0.64", "0.968", "0.949", "0.999", "1", "1"]
+    assert [round(p, 3) for p in powers[:4]] == [0.874, 0.64, 0.968, 0.949]
     window.document.apply(SetField(0, "effect", 0.06))  # the binding row: every power moves
     window.document.recompute_now()
     assert model.data(model.index(1, column)) != "0.64"
 
 
 def test_a_power_row_without_n_uses_the_plans_duration(make_window):
-    window = make_window()
+    window = make_window(_bonferroni())
     model = window.model
     window.document.apply(SetField(1, "solve", "power"))
     window.document.recompute_now()

@@ -120,13 +120,13 @@ def test_paste_of_a_three_by_four_block_is_one_undo_step(qtbot, model):
     document = model.document
     before = dumps(document.plan)
     view.setCurrentIndex(model.index(1, column_index("baseline")))
-    block = "2.5\t15\t3%\tno\n2.6\t16\t4 %\tyes\n12\t11\t5\tyes\n"
+    block = "2.5\t15\t3%\tno\n2.6\t16\t4 %\tyes\n12\t\t5\tyes\n"
     assert view.paste(block)
     metrics = document.plan.metrics
     # Rows 2-4 of the sample: a mean, a proportion (baseline typed in percent), a mean; all
     # three have relative effects, typed in percent of the baseline.
     assert [m.baseline for m in metrics[1:4]] == pytest.approx([2.5, 0.026, 12.0])
-    assert [m.sd for m in metrics[1:4]] == [15.0, 16.0, 11.0]
+    assert [m.sd for m in metrics[1:4]] == [15.0, 16.0, None]
     assert [m.effect for m in metrics[1:4]] == pytest.approx([0.03, 0.04, 0.05])
     assert [m.relative for m in metrics[1:4]] == [False, True, True]
     assert document.stack.undo_text == "Paste 12 cells"

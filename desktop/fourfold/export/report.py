@@ -1,9 +1,10 @@
-"""What the PDF report says, as plain text and tables (no Qt): the layout lives in ``pdf``;
-the methods section and its references are in :mod:`fourfold.export.methods`.
+"""What the PDF report says, as plain text and tables (no Qt): the layout lives in ``pdf``.
 
 Numbers are formatted for reading here: units rounded up to whole units (a sample size is
 always rounded up), proportions as percentages, effects with four significant digits. The CSV
 export keeps the full-precision values.
+
+The methods section and its references are in :mod:`fourfold.export.report_methods`.
 """
 
 from __future__ import annotations
@@ -11,10 +12,20 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+from fourfold.export.report_methods import (
+    SPENDING_LABELS,
+    SPENDING_SOURCES,
+    Method,
+    method_of,
+    methods,
+)
 from fourfold.formatting import format_days
-from fourfold.plan import CHOICES
+from fourfold.plan import kinds
+from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
 from fourfold.plan.fields import CORRECTION_LABELS
 from fourfold.plan.sequential import looks_row, row_looks
+
+__all__ = ["SPENDING_LABELS", "SPENDING_SOURCES", "Method", "Table", "method_of", "methods"]
 
 DASH = "—"
 ROLE_ORDER = ("primary", "secondary", "guardrail")
@@ -24,14 +35,6 @@ SOLVE_LABELS = {
     "power": "power",
     "significance_level": "α",
 }
-SPENDING_LABELS = {
-    "ld-obrien-fleming": "Lan–DeMets, O'Brien–Fleming type",
-    "ld-pocock": "Lan–DeMets, Pocock type",
-    "hsd": "Hwang–Shih–DeCani",
-    "obrien-fleming": "O'Brien–Fleming",
-    "pocock": "Pocock",
-}
-
 @dataclass(frozen=True)
 class Table:
     """A table to lay out: header, rows of text cells, per-column alignment and emphasis.
@@ -132,16 +135,30 @@ def signed(text: str, value) -> str:
     return "+" + text if _finite(value) and float(value) > 0 else text
 
 
-def method_of(metric) -> str:
-    """The row's method, the kind's default when the row leaves it empty."""
-    return metric.method if metric.method is not None else CHOICES["method"][metric.kind][0]
+def with_unit(metric, text: str) -> str:
+    """``text`` followed by the row's unit (when it has one and the text is a number).
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace
+    >>> with_unit(SimpleNamespace(unit="ms"), "20"), with_unit(SimpleNamespace(unit=""), "20")
+    ('20 ms', '20')
+    """
+    return f"{text} {metric.unit}" if metric.unit and text != DASH else text
 
 
 def baseline_text(metric) -> str:
     """The baseline: a percentage for a proportion, the metric's unit otherwise."""
     if metric.kind == "proportion":
         return percent(metric.baseline, 4)
-    return number(metric.baseline)
+    return with_unit(metric, number(metric.baseline))
+
+
+def sd_text(metric) -> str:
+    """The per-unit sd: as entered, or derived from a ratio's or quantile's own inputs."""
+    if metric.kind in kinds.DERIVED_SD:
+        return with_unit(metric, number(kinds.unit_sd(metric)))
+    return DASH if metric.sd is None else with_unit(metric, number(metric.sd))
 
 
 def effect_text(metric, value, *, relative: bool) -> str:
@@ -152,7 +169,68 @@ def effect_text(metric, value, *, relative: bool) -> str:
         return percent(value, signed=True)
     if metric.kind == "proportion":
         return signed(f"{number(100 * float(value), 3)} pp", value)
-    return signed(number(value), value)
+    return with_unit(metric, signed(number(value), value))
+
+
+def kind_text(metric) -> str:
+    """The kind and method, a quantile with its level: ``quantile (p95), asymptotic``."""
+    kind = metric.kind
+    if kind == "quantile":
+        kind = f"quantile ({kinds.quantile_name(metric)})"
+    return f"{kind}, {method_of(metric)}"
+
+
+def margin_size_text(metric) -> str:
+    """The margin's size without its sign, in the row's units ("20 ms", "10 %", "0.5 pp")."""
+    size = abs(metric.margin)
+    if metric.relative:
+        return f"{percent(size)} of the baseline"
+    if metric.kind == "proportion":
+        return f"{number(100 * size, 3)} pp"
+    return with_unit(metric, number(size))
+
+
+def direction_lines(plan) -> list[tuple[str, str]]:
+    """Each guardrail's test in plain words (see :func:`fourfold.plan.kinds.direction_words`).
+
+    Examples
+    --------
+    >>> from fourfold.plan import Metric, Plan
+    >>> direction_lines(Plan(metrics=[Metric(name="Load", role="guardrail", kind="mean",
+    ...     sd=1.0, baseline=1.8, better="lower", alternative="less", margin=0.02,
+    ...     relative=False, unit="s")]))
+    [('1. Load', 'must not get worse (higher) by more than 0.02 s; lower is better')]
+    """
+    return [(f"{index + 1}. {m.name}",
+             f"{kinds.direction_words(m, margin_size_text(m))}; {m.better} is better")
+            for index, m in enumerate(plan.metrics) if m.role == "guardrail"]
+
+
+def kind_inputs_table(plan) -> Table:
+    """The own inputs of ratio and quantile rows and the per-unit sd they give."""
+    rows = []
+    for index, m in enumerate(plan.metrics):
+        if m.kind == "ratio":
+            numerator = None if m.denominator is None else m.baseline * m.denominator
+            inputs = (f"numerator {number(numerator)} per unit (sd {number(m.numerator_sd)}), "
+                      f"denominator {number(m.denominator)} per unit (sd "
+                      f"{number(m.denominator_sd)}), correlation {number(m.correlation, 3)}")
+            how = "delta method"
+        elif m.kind == "quantile":
+            name = kinds.quantile_name(m)
+            if m.density is not None:
+                inputs = f"density at the {name}: {number(m.density)} (from history)"
+                how = "√(p(1 − p)) / density"
+            else:
+                second = DASH if m.second_level is None else f"p{100 * m.second_level:.6g}"
+                inputs = (f"log-normal through the {name} and the {second} = "
+                          f"{with_unit(m, number(m.second_value))}")
+                how = "√(p(1 − p)) / log-normal density"
+        else:
+            continue
+        rows.append((str(index + 1), m.name, inputs, how, sd_text(m)))
+    return Table(header=("#", "Metric", "Own inputs", "SD from", "SD per unit"),
+                 rows=tuple(rows), align=("r", "l", "l", "l", "r"))
 
 
 def both_ways(metric, value) -> str:
@@ -193,8 +271,23 @@ def alternative_text(metric) -> str:
 
 def split_text(settings) -> str:
     """The allocation, control first: ``1 : 1 : 1`` for two treatment arms at ratio 1."""
-    ratio = number(settings.ratio, 3)
-    return " : ".join(["1", *[ratio] * settings.arms])
+    ratio = number(treatment_ratio(settings), 3)
+    split = " : ".join(["1", *[ratio] * settings.arms])
+    return f"{split} (√k rule)" if settings.allocation == "sqrt-k" else split
+
+
+def saving_text(plan, result) -> str | None:
+    """What the √k split saves against an equal one, in words (``None`` for other splits)."""
+    if plan.settings.allocation != "sqrt-k":
+        return None
+    saving = equal_allocation_saving(plan, result)
+    if saving is None:
+        return None
+    text = (f"{units(saving.units_saved)} units fewer than an equal split "
+            f"({units(saving.equal_units)})")
+    if _finite(saving.days_saved):
+        text += f", {days(saving.days_saved)} days sooner ({days(saving.equal_days)})"
+    return text
 
 
 def duration_text(result) -> str:
@@ -296,6 +389,7 @@ def assumptions(plan) -> list[tuple[str, str]]:
         ("Significance level α", probability(s.alpha)),
         ("Power", probability(s.power)),
         ("Multiple-comparison correction", CORRECTION_LABELS[s.correction]),
+        ("Split between the arms", split_text(s)),
         ("Traffic", traffic),
         ("Share of traffic in the test", percent(s.share)),
         ("Duration rounded to whole weeks", "yes" if s.whole_weeks else "no"),
@@ -304,6 +398,9 @@ def assumptions(plan) -> list[tuple[str, str]]:
     ]
     if overrides:
         rows.append(("Rows with their own α or power", ", ".join(overrides)))
+    saving = saving_text(plan, None)
+    if saving is not None:
+        rows.append(("What the √k split saves", saving))
     return rows
 
 
@@ -344,9 +441,9 @@ def inputs_table(plan) -> Table:
             str(index + 1),
             m.name,
             m.role,
-            f"{m.kind}, {method_of(m)}",
+            kind_text(m),
             baseline_text(m),
-            DASH if m.sd is None else number(m.sd),
+            sd_text(m),
             DASH if m.solve == "detectable_effect" else effect_text(m, m.effect,
                                                                      relative=m.relative),
             alternative_text(m),

@@ -23,7 +23,6 @@ from __future__ import annotations
 
 import abc
 import copy
-import dataclasses
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -36,8 +35,9 @@ from fourfold.plan.fields import (
     validate_field,
     validate_metric,
 )
+from fourfold.plan.kinds import guardrail_direction
 from fourfold.plan.model import Metric, Plan, new_row_id
-from fourfold.plan.rules import refusal
+from fourfold.plan.rules import check_edits, check_setting
 
 CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "rows_reordered",
                 "settings", "scenario", "reset")
@@ -209,13 +209,14 @@ class SetFields(Command):
                 if not self.name_rows:
                     raise
                 raise PlanError(f"row {row + 1}: {error}", error.field) from None
+        _guardrail_defaults(new, metrics, {(row, field) for row, field, _ in self.edits})
         return new
 
     def apply(self, plan: Plan) -> Change:
         count = len(plan.metrics)
         added = [validate_metric(metric) for metric in self.append]  # fresh copies each time
         new = self._planned(plan, plan.metrics + added)
-        _check_rows(plan, added, new)
+        check_edits(plan, added, new, {(row, field) for row, field, _ in self.edits})
         self._ids = _identified(plan, added, self._ids)
         self._count = count
         self._old = {key: getattr(plan.metrics[key[0]], key[1]) for key in new
@@ -239,25 +240,43 @@ class SetFields(Command):
         return Change("cells", tuple(sorted({row for row, _ in values})), fields)
 
 
-def _check_rows(plan: Plan, added: list[Metric], new: dict[tuple[int, str], Any]) -> None:
-    """Refuse edits that make a row break a rule it kept (:mod:`fourfold.plan.rules`)."""
-    count = len(plan.metrics)
-    changes: dict[int, dict[str, Any]] = {}
-    for (row, name), value in new.items():
-        changes.setdefault(row, {})[name] = value
-    for row, fields in changes.items():
-        before = plan.metrics[row] if row < count else None
-        after = dataclasses.replace(before or added[row - count], **fields)
-        message = refusal(row, before, after, tuple(fields), plan.settings)
-        if message is not None:
-            raise PlanError(message, next(iter(fields)))
+def _guardrail_defaults(new: dict[tuple[int, str], Any], metrics: list[Metric],
+                        explicit: set[tuple[int, str]]) -> None:
+    """A row that becomes a guardrail, or a guardrail whose ``better`` changes, gets the
+    one-sided test of its direction (:func:`fourfold.plan.kinds.guardrail_direction`), unless
+    the same command sets its alternative or margin itself."""
+    rows = {row for row, field in new if field in ("role", "better")}
+    for row in sorted(rows):
+        metric = metrics[row]
+        if new.get((row, "role"), metric.role) != "guardrail":
+            continue
+        if (row, "alternative") in explicit or (row, "margin") in explicit:
+            continue
+        if (row, "role") in new and metric.role == "guardrail" and (row, "better") not in new:
+            continue
+        alternative, margin = guardrail_direction(new.get((row, "better"), metric.better),
+                                                  new.get((row, "margin"), metric.margin))
+        if alternative != metric.alternative:
+            new[(row, "alternative")] = alternative
+        if margin != metric.margin:
+            new[(row, "margin")] = margin
 
 
 class SetField(SetFields):
     """Set one metric cell: ``SetField(row, field, value)``.
 
-    Changing ``kind`` also clears a ``method`` that does not belong to the new kind (in the
-    same undo step).
+    Changing ``kind`` also clears a ``method`` that does not belong to the new kind, and
+    making a row a guardrail or changing a guardrail's ``better`` sets its one-sided
+    alternative and the side of its margin (in the same undo step).
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan
+    >>> stack = CommandStack(Plan(metrics=[Metric(name="Load time", margin=0.05)]))
+    >>> stack.do(SetField(0, "better", "lower")); stack.do(SetField(0, "role", "guardrail"))
+    >>> row = stack.plan.metrics[0]
+    >>> row.alternative, row.margin
+    ('less', 0.05)
     """
 
     name_rows = False  # one cell: the user is looking at it
@@ -289,11 +308,7 @@ class SetSetting(Command):
         if self.field not in SETTINGS_FIELDS:
             raise PlanError(f"unknown setting {self.field!r}", self.field)
         value = validate_field(self.field, self.value, settings=True)
-        changed = dataclasses.replace(plan.settings, **{self.field: value})
-        for row, metric in enumerate(plan.metrics):
-            message = refusal(row, metric, metric, self.field, changed, plan.settings)
-            if message is not None:
-                raise PlanError(message, self.field)
+        check_setting(plan, self.field, value)
         self._old = getattr(plan.settings, self.field)
         setattr(plan.settings, self.field, value)
         return Change("settings", fields=(self.field,))

@@ -10,7 +10,10 @@ Semantics
     plan's ``correction`` is not ``"none"``, primary rows test at
     ``adjusted_alpha(α, arms × number of primary rows, correction)`` and secondary and guardrail
     rows at ``adjusted_alpha(α, arms, correction)`` (each row is compared once per treatment
-    arm). Rows solving for the significance level report the α they achieve, uncorrected.
+    arm); Dunnett's correction splits α over the primary rows (Bonferroni) and covers the arms
+    by its critical value for the plan's allocation and the row's sidedness
+    (:func:`fourfold.plan.arms.row_alphas`). Rows solving for the significance level report
+    the α they achieve, uncorrected.
 Design factor
     ``variance_factor(rho, cluster_size, icc, cluster_cv)`` multiplies the units a row needs;
     rows that start from a number of units use ``n / factor`` effective units.
@@ -81,14 +84,14 @@ import operator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
-from fourfold.plan import sequential
+from fourfold.plan import kinds, sequential
+from fourfold.plan.arms import row_alphas, treatment_ratio
 from fourfold.plan.fields import CORRECTION_LABELS, METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Plan
 from fourfold.plan.results import PlanResult, RowResult, Unfinished
 from fourfold.plan.rows import (
     AtDuration,
     powers_at,
-    row_alphas,
     runtime_units,
     solve_rows,
     waits_for_duration,
@@ -101,7 +104,8 @@ if TYPE_CHECKING:
 DECIDING_ROLES = ("primary", "guardrail")
 
 _ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative", "margin",
-               "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n")
+               "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n",
+               *kinds.RATIO_FIELDS, *kinds.QUANTILE_FIELDS)
 """The metric fields a row's result depends on (with its corrected α and the settings)."""
 
 _ROW_KEY = operator.attrgetter(*_ROW_INPUTS)
@@ -314,9 +318,12 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
         primaries = sum(1 for metric in plan.metrics if metric.role == "primary")
         arms = f"{settings.arms} {'arm' if settings.arms == 1 else 'arms'}"
         metrics = f"{primaries} primary {'metric' if primaries == 1 else 'metrics'}"
+        dunnett = (" (Dunnett's critical value over the arms, Bonferroni over the metrics)"
+                   if settings.correction == "dunnett" else "")
         notes.append(f"α corrected ({CORRECTION_LABELS[settings.correction]}): primary rows for "
-                     f"{arms} × {metrics}, other rows for {arms}.")
+                     f"{arms} × {metrics}, other rows for {arms}{dunnett}.")
     notes.extend(sequential.plan_notes(plan, rows, designs))
+    notes.extend(kinds.tail_notes(plan.metrics, rows))
     deciding, secondary = [], []  # computed rows that solve for sample size, by role
     unfinished = []
     for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True)):
@@ -343,7 +350,8 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
             notes.append(f"Fixed runtime of {settings.runtime_days:g} days: rows that solve for "
                          "sample size show the effect they can detect instead (a margin row: "
                          "the tightest margin it rules out).")
-        total = None if units is None else units * (1.0 + settings.arms * settings.ratio)
+        total = None if units is None else units * (1.0 + settings.arms
+                                                    * treatment_ratio(settings))
         return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
 
     if not deciding:

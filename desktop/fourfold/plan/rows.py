@@ -14,7 +14,8 @@ from typing import Any
 import numpy as np
 
 from fourfold import engine
-from fourfold.plan import sequential
+from fourfold.plan import kinds, sequential
+from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.plan.results import RowResult
 from fourfold.plan.rules import is_margin_row
@@ -25,20 +26,6 @@ def _ceil(value: float) -> float:
     if not math.isfinite(value):
         return math.nan
     return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
-
-
-def row_alphas(plan: Plan) -> list[float]:
-    """Each row's α after the plan's correction (one engine call for all rows)."""
-    settings = plan.settings
-    alphas = [settings.alpha if metric.alpha is None else metric.alpha
-              for metric in plan.metrics]
-    if settings.correction == "none" or not alphas:
-        return alphas
-    primary = [metric.role == "primary" for metric in plan.metrics]
-    comparisons = settings.arms * np.where(primary, float(sum(primary)), 1.0)
-    adjusted = engine.adjusted_alpha(np.array(alphas, dtype=float), comparisons,
-                                     settings.correction)
-    return adjusted.tolist()
 
 
 def runtime_units(settings: Settings) -> float | None:
@@ -52,7 +39,7 @@ def runtime_units(settings: Settings) -> float | None:
     if settings.runtime_days is None or settings.daily_units is None:
         return None
     return (settings.runtime_days * settings.daily_units * settings.share
-            / (1.0 + settings.arms * settings.ratio))
+            / (1.0 + settings.arms * treatment_ratio(settings)))
 
 
 def _failed(solved: str, factor: float, alpha: float, power: float, reason: str) -> RowResult:
@@ -155,7 +142,7 @@ def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float, design
 def _totals(settings: Settings, n_control: float) -> tuple[float, float, float]:
     """Whole units: control, each treatment arm, all arms."""
     units_control = _ceil(n_control)
-    units_treatment = _ceil(settings.ratio * units_control)
+    units_treatment = _ceil(treatment_ratio(settings) * units_control)
     return units_control, units_treatment, units_control + settings.arms * units_treatment
 
 
@@ -205,16 +192,23 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
     baseline = _column([metric.baseline for metric in metrics])
     alpha = _column([row.alpha for row in rows])
     power = _column([row.power for row in rows])
+    sd, own = kinds.unit_sds(metrics)  # a ratio's or quantile's sd, from its own inputs
     common = dict(
-        sd=_column([metric.sd for metric in metrics]) if has_sd else None,
-        alternative=alternative, ratio=plan.settings.ratio, method=method,
+        sd=None if sd is None else np.where(own == "", sd, 1.0), alternative=alternative,
+        ratio=treatment_ratio(plan.settings), method=method,
         relative=_column([metric.relative for metric in metrics], bool),
         margin=_column([metric.margin for metric in metrics]),
     )
+    values, reasons = _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common)
+    return np.where(own == "", values, np.nan), np.where(own == "", reasons, own)
+
+
+def _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common):
+    """The engine's values and reasons for a group (see :func:`_solve_group`)."""
     effect = _column([metric.effect for metric in metrics])
     if solved in ("detectable_effect", "detectable_margin"):
         if solved == "detectable_margin":
-            common["effect"] = effect
+            common = dict(common, effect=effect)
         n_effective = _column([row.n_effective for row in rows])
         inflation = _column([sequential.inflation(row.staged) for row in rows])
         values, reasons = engine.values_and_reasons(solved, kind, baseline,
@@ -228,7 +222,6 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
     n_effective = None if solved == "sample_size" else _column([row.n_effective for row in rows])
     return engine.values_and_reasons(solved, kind, baseline, effect=effect, n=n_effective,
                                      alpha=alpha, power=power, **common)
-
 
 
 def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int],
@@ -256,7 +249,7 @@ def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int
             continue
         pending[index] = prepared
         key = (metric.kind, metric.method, metric.alternative, prepared.solved,
-               metric.sd is not None)
+               kinds.has_sd(metric))
         groups.setdefault(key, []).append(index)
 
     solved_rows, fixed = [], {}
@@ -369,19 +362,21 @@ def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: A
     for index in indices:
         metric = plan.metrics[index]
         if not rows[index].reason:
-            key = (metric.kind, metric.method, metric.alternative, metric.sd is not None)
+            key = (metric.kind, metric.method, metric.alternative, kinds.has_sd(metric))
             groups.setdefault(key, []).append(index)
-    for (kind, method, alternative, has_sd), members in groups.items():
+    for (kind, method, alternative, _), members in groups.items():
         metrics = [plan.metrics[index] for index in members]
         chosen = [rows[index] for index in members]
+        sd, own = kinds.unit_sds(metrics)
         values, reasons = engine.values_and_reasons(
             "power", kind, _column([metric.baseline for metric in metrics]),
             effect=_column([row.effect_abs for row in chosen]),
             n=at.units / _column([row.design_factor for row in chosen]),
-            sd=_column([metric.sd for metric in metrics]) if has_sd else None,
+            sd=None if sd is None else np.where(own == "", sd, 1.0),
             alpha=_column([row.alpha for row in chosen]), alternative=alternative,
-            ratio=settings.ratio, relative=False,
+            ratio=treatment_ratio(settings), relative=False,
             margin=_column([row.margin_abs for row in chosen]), method=method)
+        reasons = np.where(own == "", reasons, own)
         for index, metric, row, value, reason in zip(members, metrics, chosen, values.tolist(),
                                                      reasons.tolist(), strict=True):
             if reason:

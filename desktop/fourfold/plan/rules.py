@@ -15,9 +15,10 @@ engine's own domain checks (:func:`fourfold.engine.problems`), which a test veri
 
 Rules
 -----
-- a proportion's baseline lies strictly between 0 and 1; a rate's is above 0; a mean row with
-  a relative effect or margin needs a baseline other than 0;
-- a mean row needs an SD;
+- a proportion's baseline lies strictly between 0 and 1; a rate's is above 0; a row of another
+  kind with a relative effect or margin needs a baseline other than 0;
+- a mean row needs an SD (a ratio's or quantile's comes from its own inputs, which
+  :mod:`fourfold.plan.kinds` checks);
 - a row that uses its effect (every row except those solving for the detectable effect; a
   margin row keeps its effect as the assumed true difference, see :func:`is_margin_row`) needs
   one, and baseline + effect must be a possible proportion (in (0, 1)) or rate (above 0);
@@ -45,7 +46,10 @@ import dataclasses
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import Any
 
+from fourfold.plan.arms import treatment_ratio
+from fourfold.plan.fields import PlanError
 from fourfold.plan.model import Metric, Settings
 
 LABELS = {
@@ -53,7 +57,10 @@ LABELS = {
     "effect": "Effect", "relative": "Relative", "alternative": "Direction", "margin": "Margin",
     "solve": "Solve for", "method": "Method", "alpha": "α", "power": "Power",
     "rho": "ρ (CUPED)", "cluster_size": "Cluster size", "icc": "ICC",
-    "cluster_cv": "Cluster CV", "n": "n (control)", "notes": "Notes",
+    "cluster_cv": "Cluster CV", "n": "n (control)", "notes": "Notes", "unit": "Unit",
+    "better": "Better when", "denominator": "Denom. mean", "numerator_sd": "Numer. SD",
+    "denominator_sd": "Denom. SD", "correlation": "Corr.", "quantile_level": "Quantile",
+    "density": "Density", "second_level": "2nd quantile", "second_value": "2nd value",
 }
 """How the table names each metric field (its column header on one line)."""
 
@@ -97,7 +104,7 @@ def _alpha(metric: Metric, settings: Settings) -> float:
 
 
 def _t_floor(settings: Settings) -> float:
-    ratio = settings.ratio
+    ratio = treatment_ratio(settings)
     return max(1.0, 1.0 / ratio, 3.0 / (1.0 + ratio))
 
 
@@ -182,7 +189,8 @@ RULES: tuple[Rule, ...] = (
          _kind("rate"), lambda m, s: m.baseline, low=0.0),
     Rule("relative-baseline", ("baseline", "relative", "kind"),
          "an effect or margin relative to the baseline needs a baseline other than 0",
-         lambda m, s: m.kind == "mean" and m.relative, lambda m, s: m.baseline, not_equal=0.0),
+         lambda m, s: m.kind not in ("proportion", "rate") and m.relative,
+         lambda m, s: m.baseline, not_equal=0.0),
     Rule("mean-sd", ("sd", "kind"), "a mean needs an SD (the per-unit standard deviation)",
          _kind("mean"), missing=lambda m: m.sd is None),
     Rule("effect-needed", ("effect", "solve", "alternative", "margin"),
@@ -368,3 +376,38 @@ def refusal(row: int, before: Metric | None, after: Metric, fields: str | tuple[
         return f"{text}; allowed here: {allowed(after, field, settings)}."
     others = [LABELS[name] for name in rule.fields if name != field][:2]
     return f"{text}; change {' or '.join(others)} first."
+
+
+def check_edits(plan, added: list[Metric], new: dict[tuple[int, str], Any],
+                typed: set[tuple[int, str]]) -> None:
+    """Refuse metric edits that make a row break a rule it kept.
+
+    ``new`` maps ``(row, field)`` to the validated value, the edits' own and those they bring
+    (a guardrail's test follows its direction); ``typed`` holds the ``(row, field)`` the edits
+    themselves set: only those can be refused (:func:`refusal`). Rows past the plan's end are
+    the ``added`` ones (a paste running past the last row). Raises
+    :class:`~fourfold.plan.fields.PlanError` with :func:`refusal`'s message.
+    """
+    count = len(plan.metrics)
+    changes: dict[int, dict[str, Any]] = {}
+    for (row, name), value in new.items():
+        changes.setdefault(row, {})[name] = value
+    for row, fields in changes.items():
+        before = plan.metrics[row] if row < count else None
+        after = dataclasses.replace(before or added[row - count], **fields)
+        edited = tuple(name for name in fields if (row, name) in typed)
+        if not edited:
+            continue
+        message = refusal(row, before, after, edited, plan.settings)
+        if message is not None:
+            raise PlanError(message, edited[0])
+
+
+def check_setting(plan, field: str, value: Any) -> None:
+    """Refuse a setting that makes a row of ``plan`` break a rule it kept (α above a row's
+    power, say); :class:`~fourfold.plan.fields.PlanError` names the setting and the row."""
+    changed = dataclasses.replace(plan.settings, **{field: value})
+    for row, metric in enumerate(plan.metrics):
+        message = refusal(row, metric, metric, field, changed, plan.settings)
+        if message is not None:
+            raise PlanError(message, field)

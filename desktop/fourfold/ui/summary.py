@@ -16,6 +16,8 @@ from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import QComboBox, QFrame, QHBoxLayout, QLabel, QSizePolicy
 
 from fourfold.formatting import MINUS, format_count, format_days, format_number, whole_days
+from fourfold.plan.arms import equal_allocation_saving
+from fourfold.plan.evaluation import RowCache
 from fourfold.plan.scenarios import BASE
 from fourfold.ui import theme
 from fourfold.ui.document import PlanDocument
@@ -70,6 +72,7 @@ class SummaryBar(QFrame):
         super().__init__(parent)
         self.setObjectName("summaryBar")
         self.document = document
+        self._equal_cache = RowCache()
         layout = QHBoxLayout(self)
         layout.setContentsMargins(12, 6, 12, 6)
         layout.setSpacing(28)
@@ -112,6 +115,19 @@ class SummaryBar(QFrame):
                               f'</b> until these rows can be computed — {rows}</span>')
         self.units.setText("")
         self.binding.setText("")
+
+    def _saving_text(self, result) -> str:
+        """What a √k split saves against an equal one ("" for any other split)."""
+        plan = self.document.plan
+        if plan.settings.allocation != "sqrt-k":
+            return ""
+        saving = equal_allocation_saving(plan, result, self._equal_cache)
+        if saving is None:
+            return ""
+        text = f" (√k split: {format_count(saving.units_saved)} fewer units"
+        if math.isfinite(saving.days_saved):
+            text += f", {format_number(saving.days_saved, sig=3)} days sooner"
+        return text + " than an equal split)"
 
     def scenario_text(self) -> str:
         """The scenario on show as the drop-down names it ("" without scenarios)."""
@@ -166,7 +182,7 @@ class SummaryBar(QFrame):
                 text += f" at most, {format_days(expected)} days expected"
         self.duration.setText(text)
         total = format_count(result.total_units) if result.total_units is not None else "—"
-        self.units.setText(f"Total units <b>{total}</b>")
+        self.units.setText(f"Total units <b>{total}</b>{self._saving_text(result)}")
         if result.binding_name:
             row = result.binding_index + 1
             self.binding.setText(f"Binding metric <b>▶ {result.binding_name}</b> (row {row})")
@@ -186,6 +202,6 @@ class SummaryBar(QFrame):
     def _notes(self, result) -> None:
         count = len(result.notes)
         self.notes.setText(f"{count} note{'s' if count != 1 else ''} (hover)" if count else "")
-        items = "".join(f"<li>{html.escape(note)}</li>" for note in result.notes)
+        items = "".join(f"<li>{html.escape(note, quote=False)}</li>" for note in result.notes)
         self.notes.setToolTip(f"<ul>{items}</ul>" if count else "")
         self.setToolTip("\n".join(result.notes))

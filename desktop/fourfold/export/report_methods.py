@@ -1,5 +1,8 @@
-"""The methods section of the PDF report: the published methods a plan's rows use, with their
-references (plain text, no Qt).
+"""The methods section of the report: the published methods a plan's rows use, with sources.
+
+Each kind and method of a row, each design factor and each plan-wide choice (correction,
+allocation, interim looks, days) that the plan uses contributes one :class:`Method`: its name,
+what it does in a sentence, its reference and the rows that use it.
 
 References
 ----------
@@ -19,6 +22,10 @@ The methods section cites, per method a plan uses:
 - Kish, L. (1965). *Survey Sampling*; Eldridge, S. M., Ashby, D. & Kerry, S. (2006).
   *International Journal of Epidemiology* 35, 1292–1300 (design effect).
 - Deng, A., Knoblich, U. & Lu, J. (2018). KDD 2018 (delta method).
+- Serfling, R. J. (1980). *Approximation Theorems of Mathematical Statistics*, §2.3
+  (sample quantiles); Silverman, B. W. (1986). *Density Estimation*, eq. 3.31 (bandwidth).
+- Dunnett, C. W. (1955). *JASA* 50, 1096–1121; (1964). *Biometrics* 20, 482–491
+  (many-to-one comparisons; the √k allocation).
 - Bonferroni, C. E. (1936); Šidák, Z. (1967). *Journal of the American Statistical
   Association* 62, 626–633.
 - Lan, K. K. G. & DeMets, D. L. (1983). *Biometrika* 70, 659–663; O'Brien, P. C. & Fleming,
@@ -32,7 +39,15 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from fourfold.export.report import SPENDING_LABELS, method_of
+from fourfold.plan import CHOICES
+
+SPENDING_LABELS = {
+    "ld-obrien-fleming": "Lan–DeMets, O'Brien–Fleming type",
+    "ld-pocock": "Lan–DeMets, Pocock type",
+    "hsd": "Hwang–Shih–DeCani",
+    "obrien-fleming": "O'Brien–Fleming",
+    "pocock": "Pocock",
+}
 
 _LAN_DEMETS = ("Lan, K. K. G. & DeMets, D. L. (1983). Discrete sequential boundaries for "
                "clinical trials. Biometrika 70, 659–663.")
@@ -57,6 +72,12 @@ class Method:
     text: str
     reference: str
     rows: tuple[str, ...] = ()
+
+
+
+def method_of(metric) -> str:
+    """The row's method, the kind's default when the row leaves it empty."""
+    return metric.method if metric.method is not None else CHOICES["method"][metric.kind][0]
 
 
 _KIND_METHODS = {
@@ -98,6 +119,26 @@ _KIND_METHODS = {
         "Effect size h = 2·arcsin√p_t − 2·arcsin√p_c, whose variance does not depend on p.",
         "Cohen, J. (1988). Statistical Power Analysis for the Behavioral Sciences, 2nd ed., "
         "ch. 6.",
+    ),
+    ("ratio", "delta"): (
+        "Ratio of two per-unit means, delta method",
+        "The ratio of sums R = ΣX/ΣY over the units of an arm (items per order, randomised by "
+        "visitor) has the per-unit variance (σ_X² − 2R·ρ·σ_X·σ_Y + R²·σ_Y²)/μ_Y² by the delta "
+        "method; the treatment is taken to add the effect per unit of the denominator, which "
+        "keeps that variance. Normal approximation (z test).",
+        "Deng, A., Knoblich, U. & Lu, J. (2018). Applying the delta method in metric "
+        "analytics: a practical guide with novel ideas. KDD 2018.",
+    ),
+    ("quantile", "asymptotic"): (
+        "Difference of quantiles, asymptotic variance",
+        "A sample p-quantile of n units is nearly normal with variance p(1 − p)/(n·f(q_p)²), f "
+        "the density at the quantile: from a Gaussian kernel estimate on history (Silverman's "
+        "rule-of-thumb bandwidth, Silverman 1986, eq. 3.31) or from a log-normal through two "
+        "of the metric's percentiles. The treatment is taken to shift the distribution. It "
+        "needs many units beyond the quantile; the simulation check tells when it holds.",
+        "Serfling, R. J. (1980). Approximation Theorems of Mathematical Statistics. Wiley, "
+        "§2.3. Silverman, B. W. (1986). Density Estimation for Statistics and Data Analysis. "
+        "Chapman & Hall.",
     ),
     ("rate", "z"): (
         "Difference of mean counts, normal approximation",
@@ -143,7 +184,8 @@ def methods(plan) -> list[Method]:
                     "randomized trials: effect of coefficient of variation of cluster size and "
                     "analysis method. International Journal of Epidemiology 35, 1292–1300.",
                     m.name)
-        if any(word in f"{m.name} {m.notes}".lower() for word in _DELTA_WORDS):
+        if m.kind != "ratio" and any(word in f"{m.name} {m.notes}".lower()
+                                     for word in _DELTA_WORDS):
             add("delta", "Delta method for ratio metrics",
                 "The per-unit variance of a ratio of sums comes from its linearisation.",
                 "Deng, A., Knoblich, U. & Lu, J. (2018). Applying the delta method in metric "
@@ -180,6 +222,23 @@ def _plan_methods(plan, add) -> None:
             "Šidák, Z. (1967). Rectangular confidence regions for the means of multivariate "
             "normal distributions. Journal of the American Statistical Association 62, "
             "626–633.")
+    if s.correction == "dunnett":
+        add("dunnett", "Dunnett's many-to-one correction",
+            "The treatment arms share one control, so their comparisons are correlated "
+            "(ρ = r/(1 + r) with r treatment units per control unit). Each is tested at the "
+            "critical value that keeps the family-wise error at α under that correlation "
+            "(multivariate normal), less strict than Bonferroni's or Šidák's; several primary "
+            "metrics share α by Bonferroni first. The α column shows each comparison's level.",
+            "Dunnett, C. W. (1955). A multiple comparison procedure for comparing several "
+            "treatments with a control. Journal of the American Statistical Association 50, "
+            "1096–1121. Dunnett, C. W. (1964). New tables for multiple comparisons with a "
+            "control. Biometrics 20, 482–491.")
+    if s.allocation == "sqrt-k":
+        add("sqrt-k", "The √k allocation",
+            f"The control gets √k times the units of each of the k = {s.arms} treatment arms: "
+            "at a given power this split needs the fewest units in all.",
+            "Dunnett, C. W. (1955). Journal of the American Statistical Association 50, "
+            "1096–1121.")
     if s.looks > 1:
         futility = " and a futility bound" if s.futility else ""
         add("sequential", "Group-sequential design with α spending",
