@@ -176,3 +176,19 @@ def test_a_margin_row_is_a_one_sided_test_with_a_margin():
     rows = load(sample_path()).metrics
     assert [metric.name for metric in rows if is_margin_row(metric)] == [
         "Support contacts per visitor", "Page load time (s)", "Page load time, p95"]
+
+
+def test_a_guardrails_automatic_direction_is_never_refused():
+    """Making a row a guardrail sets its one-sided test by its direction (a change the user did
+    not type): the row may then break a rule, and says so, but the choice stands."""
+    stack = _stack()
+    stack.do(SetField(2, "better", "lower"))  # add-to-cart rate, effect +3 %
+    stack.do(SetField(2, "role", "guardrail"))
+    metric = stack.plan.metrics[2]
+    assert (metric.role, metric.alternative) == ("guardrail", "less")
+    assert compute(stack.plan).rows[2].reason == ("effect must be less than the margin for a "
+                                                  "'less' test")
+    stack.do(SetField(2, "margin", 0.05))  # typed: must not rise by 5 % or more
+    assert compute(stack.plan).rows[2].reason == ""
+    message = _refused(stack, SetField(2, "margin", 0.01))  # now a rule the row keeps
+    assert message.endswith("allowed here: above +3 %.")
