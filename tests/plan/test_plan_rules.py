@@ -191,4 +191,4 @@ def test_a_guardrails_automatic_direction_is_never_refused():
     stack.do(SetField(2, "margin", 0.05))  # typed: must not rise by 5 % or more
     assert compute(stack.plan).rows[2].reason == ""
     message = _refused(stack, SetField(2, "margin", 0.01))  # now a rule the row keeps
-    assert message.endswith("allowed here: above +3 %.")
+    assert message.endswith("allowed here: above +3 % and below +777.2 %.")
