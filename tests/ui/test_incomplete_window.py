@@ -118,7 +118,7 @@ def test_with_a_runtime_solve_for_shows_what_each_row_solves_for(make_window):
     assert "tightest margin it rules out" in tip and "chosen: sample size" in tip
     detectable = model.data(model.index(5, column_index("detectable")))
     margin = compute(window.document.plan).rows[5].margin_abs
-    assert detectable == f"margin +{margin:.3g}"
+    assert detectable == f"margin +{margin:.3g} s"  # the page-load row is in seconds
 
 
 def test_a_guardrails_plots_and_slider_move_its_margin(make_window, qtbot):

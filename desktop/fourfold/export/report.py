@@ -447,7 +447,7 @@ def inputs_table(plan) -> Table:
             DASH if m.solve == "detectable_effect" else effect_text(m, m.effect,
                                                                      relative=m.relative),
             alternative_text(m),
-            DASH if m.margin == 0 else both_ways(m, m.margin),
+            DASH if m.margin == 0 else effect_text(m, m.margin, relative=m.relative),
             SOLVE_LABELS[m.solve],
         ))
     return Table(

@@ -128,7 +128,8 @@ def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
         return format_days(row.days)
     if key == "detectable":
         if is_margin_row(metric):
-            return "margin " + show_value(metric, "detectable", _margin(metric, row))
+            return "margin " + show_value(metric, "detectable", _margin(metric, row),
+                                          with_unit=True)
         value = row.effect_rel if metric.relative else row.effect_abs
         return show_value(metric, "detectable", value, with_unit=True)
     if key == "power_out":
