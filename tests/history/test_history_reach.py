@@ -260,3 +260,11 @@ def test_a_metric_named_like_the_reach_is_refused_with_units(tmp_path):
         with pytest.raises(HistoryError, match="cannot go with a unit and a time column"):
             read()
     assert read_history(path, [ColumnMap("mean", "reach")])["reach"].n == 2
+
+
+def test_a_quantile_alone_has_reach_but_no_windows(visits_csv, visits):
+    summary = read_history(visits_csv, [ColumnMap("quantile", "spend", level=0.9)],
+                           unit="visitor", time="time")
+    assert list(summary.reach.units) == _pandas_reach(visits)
+    assert all(w.get("spend p90") is None and "quantile" in w.problems["spend p90"]
+               for w in summary.windows)

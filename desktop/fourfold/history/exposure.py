@@ -269,9 +269,10 @@ class Exposure:
             here, cum = part[:, :end - a], running[:, :end - a]
             here[:, :, :self.dense] = rows[a:end, self.start:self.start + BANDS * self.dense
                                            ].reshape(-1, BANDS, self.dense).transpose(1, 0, 2)
-            here[:, :, self.dense:] = sparse[
-                a:end, self.sparse_start:self.sparse_start + BANDS * self.sparse
-            ].reshape(-1, BANDS, self.sparse).transpose(1, 0, 2)
+            if self.sparse:
+                here[:, :, self.dense:] = sparse[
+                    a:end, self.sparse_start:self.sparse_start + BANDS * self.sparse
+                ].reshape(-1, BANDS, self.sparse).transpose(1, 0, 2)
             cum[0] = here[0]
             for band in range(1, BANDS):
                 np.add(cum[band - 1], here[band], out=cum[band])
