@@ -6,6 +6,7 @@ import json
 import os
 
 import pytest
+from stored_checks import STORED_CHECK
 
 from fourfold.plan import (
     METRIC_FIELDS,
@@ -34,7 +35,7 @@ def _full_plan() -> Plan:
         name="Basket value", role="guardrail", kind="mean", method="t", baseline=41.5, sd=12.25,
         effect=-0.5, relative=False, alternative="less", margin=0.75, alpha=0.02, power=0.85,
         rho=0.4, cluster_size=3.5, icc=0.01, cluster_cv=0.6, solve="power", n=9000.0,
-        notes="ünïcode “quotes” and\nnewlines", simulation={"power": 0.84, "draws": 4000},
+        notes="ünïcode “quotes” and\nnewlines", simulation=dict(STORED_CHECK),
     )
     return Plan(settings, [metric, Metric()])
 

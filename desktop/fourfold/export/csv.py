@@ -63,6 +63,7 @@ Examples
 from __future__ import annotations
 
 import csv
+import io
 import math
 import numbers
 import os
@@ -73,7 +74,7 @@ from typing import Any
 import numpy as np
 
 from fourfold import __version__
-from fourfold.export.files import replacing
+from fourfold.export.files import ExportError, write_parts
 from fourfold.plan import CHOICES
 
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
@@ -261,9 +262,22 @@ def _look_rows(plan, result) -> list[list[str]]:
     return lines
 
 
-def _write(path: Path, lines: Iterable[Sequence[str]]) -> None:
-    with open(path, "w", encoding=ENCODING, newline="") as handle:
-        csv.writer(handle, lineterminator="\r\n").writerows(lines)
+def encoded(path: Path, lines: Iterable[Sequence[str]]) -> bytes:
+    """The CSV file's bytes (UTF-8 with a byte-order mark, CRLF line ends).
+
+    Raises
+    ------
+    fourfold.export.files.ExportError
+        When a text cell is not valid Unicode (an unpaired surrogate), naming the file.
+    """
+    buffer = io.StringIO()
+    csv.writer(buffer, lineterminator="\r\n").writerows(lines)
+    try:
+        return buffer.getvalue().encode(ENCODING)
+    except UnicodeEncodeError as error:
+        bad = error.object[error.start:error.end].encode("unicode_escape").decode("ascii")
+        raise ExportError(f"cannot write {path}: its text holds {bad}, which is not a "
+                          "character (an unpaired surrogate)") from None
 
 
 def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
@@ -303,7 +317,6 @@ def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
     result = compute(plan)
     path = Path(path)
     extra = settings_path(path)
-    with replacing(path, extra) as (part, extra_part):
-        _write(part, metric_rows(plan, result))
-        _write(extra_part, settings_rows(plan, result))
+    write_parts({path: encoded(path, metric_rows(plan, result)),
+                 extra: encoded(extra, settings_rows(plan, result))})
     return path, extra

@@ -15,19 +15,18 @@ moves it into place with :func:`os.replace`, so the old file survives any failur
 
 from __future__ import annotations
 
-import contextlib
 import dataclasses
 import json
 import os
 import pathlib
-import stat
-import tempfile
 from typing import Any
 
+from fourfold import atomic
 from fourfold.plan.fields import (
     METRIC_FIELDS,
     SETTINGS_FIELDS,
     PlanError,
+    shown,
     validate_field,
 )
 from fourfold.plan.model import Metric, Plan, Settings
@@ -35,6 +34,8 @@ from fourfold.plan.model import Metric, Plan, Settings
 FORMAT = "fourfold-plan"
 SCHEMA_VERSION = 1
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
+MAX_DIGITS = 400
+"""Longest JSON integer read exactly (larger ones are beyond any float and are refused)."""
 
 
 def sample_path() -> pathlib.Path:
@@ -140,13 +141,67 @@ def from_dict(data: Any) -> Plan:
     return Plan(settings, metrics)
 
 
+class _Duplicate(ValueError):
+    """A key that appears twice in one JSON object."""
+
+
+def _unique(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
+    seen: dict[str, Any] = {}
+    for key, value in pairs:
+        if key in seen:
+            raise _Duplicate(key)
+        seen[key] = value
+    return seen
+
+
+def _whole_number(text: str) -> int | float:
+    """A JSON integer: exact up to :data:`MAX_DIGITS` digits, beyond that a float (inf), which
+    the field's check then refuses by name instead of Python's digit limit failing the file."""
+    return int(text) if len(text) <= MAX_DIGITS else float(text)
+
+
+def parse_json(text: str) -> Any:
+    """Parse JSON text strictly: a key twice in one object, nesting deeper than the reader can
+    follow, or any syntax error is a :class:`PlanError` with a one-line message.
+
+    Examples
+    --------
+    >>> parse_json('{"metrics": [], "metrics": [1]}')
+    Traceback (most recent call last):
+    ...
+    fourfold.plan.fields.PlanError: the field 'metrics' appears twice in one object; a plan \
+file names each field once
+    >>> parse_json("[" * 100_000)
+    Traceback (most recent call last):
+    ...
+    fourfold.plan.fields.PlanError: not valid JSON: nested too deeply (a plan file is a few \
+levels deep)
+    """
+    try:
+        return json.loads(text, object_pairs_hook=_unique, parse_int=_whole_number)
+    except json.JSONDecodeError as error:
+        raise PlanError(
+            f"not valid JSON: {error.msg} at line {error.lineno}, column {error.colno}", None
+        ) from None
+    except _Duplicate as error:
+        key = shown(error.args[0])
+        raise PlanError(f"the field {key} appears twice in one object; a plan file names "
+                        "each field once", None) from None
+    except RecursionError:
+        raise PlanError("not valid JSON: nested too deeply (a plan file is a few levels deep)",
+                        None) from None
+    except ValueError as error:
+        raise PlanError(f"not valid JSON: {error}", None) from None
+
+
 def loads(text: str) -> Plan:
     """Parse plan JSON text.
 
     Raises
     ------
     PlanError
-        For text that is not JSON (with line and column) or not a valid plan.
+        For text that is not JSON (with line and column), a field named twice in one object,
+        or text that is not a valid plan.
 
     Examples
     --------
@@ -157,13 +212,7 @@ def loads(text: str) -> Plan:
     ...
     fourfold.plan.fields.PlanError: settings.alpha: alpha must satisfy 0 < alpha < 0.5; got 2
     """
-    try:
-        data = json.loads(text)
-    except json.JSONDecodeError as error:
-        raise PlanError(
-            f"not valid JSON: {error.msg} at line {error.lineno}, column {error.colno}", None
-        ) from None
-    return from_dict(data)
+    return from_dict(parse_json(text))
 
 
 def load(path: str | os.PathLike) -> Plan:
@@ -188,38 +237,19 @@ def load(path: str | os.PathLike) -> Plan:
 def save(plan: Plan, path: str | os.PathLike) -> None:
     """Write a plan file atomically: the old file stays intact if anything fails.
 
-    The text is written to a temporary file in the target's folder, flushed to disk and moved
-    over the target with :func:`os.replace`; an existing file's permissions are kept, and a
-    symbolic link is followed (its target is replaced, the link stays).
+    The text is written to a temporary file in the target's folder, flushed to disk, checked
+    and moved over the target with :func:`os.replace` (see :mod:`fourfold.atomic`); an
+    existing file's permissions are kept, and a symbolic link is followed (its target is
+    replaced, the link stays). Temporary files of earlier saves that were killed are removed.
 
     Raises
     ------
     PlanError
-        When the plan cannot be written (the message names the file and the reason).
+        When the plan cannot be written (the message names the file and the reason), or the
+        target is not a regular file (a folder or a device).
     """
-    path = pathlib.Path(os.path.realpath(path))
     try:
-        mode = stat.S_IMODE(path.stat().st_mode)
-    except FileNotFoundError:
-        umask = os.umask(0)
-        os.umask(umask)
-        mode = 0o666 & ~umask
-    except OSError as error:
-        raise PlanError(f"cannot save {path}: {error}") from None
-    temporary = None
-    try:
-        handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp",
-                                             dir=path.parent)
-        with os.fdopen(handle, "w", encoding="utf-8") as stream:
-            stream.write(dumps(plan))
-            stream.flush()
-            os.fsync(stream.fileno())
-        os.chmod(temporary, mode)
-        os.replace(temporary, path)
-        temporary = None
-    except (OSError, TypeError, ValueError) as error:
-        raise PlanError(f"cannot save {path}: {error}") from None
-    finally:
-        if temporary is not None:
-            with contextlib.suppress(OSError):
-                os.unlink(temporary)
+        data = dumps(plan).encode("utf-8")
+    except (TypeError, ValueError) as error:
+        raise PlanError(f"cannot save {os.fspath(path)!r}: {error}") from None
+    atomic.write_bytes(path, data, error=PlanError, verb="save")

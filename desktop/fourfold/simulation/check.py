@@ -22,6 +22,7 @@ from fourfold.engine.catalog import METHODS
 from fourfold.errors import FourfoldError
 from fourfold.plan.evaluation import compute
 from fourfold.plan.sequential import design_of_row
+from fourfold.plan.simulation_record import INPUT_FIELDS
 from fourfold.simulation.intervals import wilson_interval
 from fourfold.simulation.power import simulate_power
 from fourfold.simulation.streams import SimulationCancelled
@@ -29,8 +30,6 @@ from fourfold.simulation.streams import SimulationCancelled
 WIDE_LEVEL = 0.999
 """Coverage of the interval beyond which a disagreement is called firm rather than borderline."""
 
-INPUT_FIELDS = ("kind", "method", "baseline", "sd", "effect", "alpha", "alternative", "margin",
-                "n_control", "ratio", "looks")
 
 
 @dataclass(frozen=True)

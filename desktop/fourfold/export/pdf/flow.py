@@ -374,13 +374,12 @@ class Flow:
         for index, ops in enumerate(self.pages):
             if index:
                 next_page()
-            for op in ops:
+            for op in (*ops, lambda p, index=index: decorate(p, index, count)):
                 painter.save()
-                op(painter)
-                painter.restore()
-            painter.save()
-            decorate(painter, index, count)
-            painter.restore()
+                try:
+                    op(painter)
+                finally:  # also when interrupted, so the painter can end cleanly
+                    painter.restore()
 
 
 def hline(painter: QPainter, x0: float, x1: float, y: float, color: QColor,
