@@ -33,3 +33,19 @@ def test_readme_carries_the_cautions():
 
 def test_sample_plan_is_bundled():
     assert (ROOT / "samples" / "quillmoss-checkout.json").is_file()
+
+
+MAX_MODULE_LINES = 600
+"""No module over 600 lines: a module that grows past it is split by what it holds."""
+
+
+def _long_modules(package: Path) -> list[str]:
+    return sorted(
+        f"{path.relative_to(ROOT)}: {lines} lines"
+        for path in package.rglob("*.py")
+        if (lines := len(path.read_text(encoding="utf-8").splitlines())) > MAX_MODULE_LINES
+    )
+
+
+def test_no_module_is_over_600_lines():
+    assert _long_modules(ROOT / "desktop" / "fourfold") == []

@@ -114,7 +114,7 @@ def test_binned_bootstrap_agrees_with_direct_resampling(monkeypatch):
     effect = 2.5 * history.std() * np.sqrt(2 / 6000)
     binned = simulate_power("mean", history.mean(), effect, 6000, **args)
     monkeypatch.setattr("fourfold.simulation.resample.DIRECT_MAX", 10**6)
-    monkeypatch.setattr("fourfold.simulation.power.DIRECT_MAX", 10**6)
+    monkeypatch.setattr("fourfold.simulation.arms.DIRECT_MAX", 10**6)
     direct = simulate_power("mean", history.mean(), effect, 6000, **args)
     assert binned.model == "bootstrap (binned)" and direct.model == "bootstrap"
     assert binned.low <= direct.high and direct.low <= binned.high

@@ -10,16 +10,11 @@ import pytest
 from PySide6.QtCore import QRectF
 from PySide6.QtGui import QColor, QImage, QPainter
 
+from fourfold.figures.boundaries import FIXED_TEXT, BoundaryStyle, paint_boundaries
 from fourfold.plan.evaluation import compute
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.plan.sequential import row_looks
-from fourfold.ui.boundaries_plot import (
-    FIXED_TEXT,
-    BoundariesView,
-    BoundaryStyle,
-    looks_text,
-    paint_boundaries,
-)
+from fourfold.ui.boundaries_plot import BoundariesView, looks_text
 from fourfold.ui.columns import COLUMNS
 
 pytestmark = pytest.mark.qt

@@ -15,11 +15,12 @@ from PySide6.QtCore import QRectF, Qt
 from PySide6.QtGui import QColor, QImage, QPainter
 
 from fourfold import engine
+from fourfold.figures.axes import compact
+from fourfold.figures.tradeoffs import paint_tradeoffs
+from fourfold.formatting import format_count
 from fourfold.plan.evaluation import compute
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.ui import theme
-from fourfold.ui.formatting import format_count
-from fourfold.ui.plots import compact, paint_tradeoffs
 
 pytestmark = pytest.mark.qt
 
@@ -199,7 +200,7 @@ def test_the_runtime_legend_is_one_line_when_it_fits(qtbot, panel):
 
 
 def test_point_and_week_labels_show_the_figures_numbers(qtbot, panel):
-    from fourfold.ui.formatting import format_count, format_number
+    from fourfold.formatting import format_count, format_number
 
     plan = make_plan()
     show(qtbot, panel, plan, 0)

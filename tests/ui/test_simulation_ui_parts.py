@@ -11,13 +11,13 @@ import math
 
 import pytest
 
+from fourfold.figures.simulation_marks import show_simulation
 from fourfold.plan import load, sample_path
 from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import tradeoffs
 from fourfold.simulation import check_metric
 from fourfold.ui import simulation_cells, theme
 from fourfold.ui.plots import FigureGrid
-from fourfold.ui.simulation_marks import show_simulation
 
 
 @pytest.fixture

@@ -2,17 +2,15 @@
 
 from __future__ import annotations
 
-import math
-import operator
 from dataclasses import asdict, dataclass
 
 import numpy as np
 
 from fourfold.engine.catalog import METHODS, quoted
+from fourfold.simulation.arguments import finite, look_sizes, looks_design, units, whole
+from fourfold.simulation.arms import arms
 from fourfold.simulation.decide import fixed_rejections, sequential_rejections
 from fourfold.simulation.intervals import wilson_interval
-from fourfold.simulation.models import BinomialArm, CountArm, NormalArm
-from fourfold.simulation.resample import DIRECT_MAX, EmpiricalArm, bin_history
 from fourfold.simulation.streams import (
     block_sizes,
     default_workers,
@@ -117,153 +115,6 @@ class SimulationResult:
     def to_dict(self):
         """Plain dict of the fields (JSON-ready floats, ints and strings)."""
         return asdict(self)
-
-
-def _finite(name, value):
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise ValueError(f"{name} must be a number, got {value!r}") from None
-    if not math.isfinite(number):
-        raise ValueError(f"{name} must be a finite number, got {value!r}")
-    return number
-
-
-def _whole(name, value, low, high):
-    try:
-        number = operator.index(value)
-    except TypeError:
-        number = None
-    if isinstance(value, bool) or number is None or number < low or (
-            high is not None and number > high):
-        span = f"from {low:,} to {high:,}" if high is not None else f"of at least {low:,}"
-        raise ValueError(f"{name} must be a whole number {span}, got {value!r}")
-    return number
-
-
-def _units(n, ratio, kind):
-    n = _finite("n", n)
-    if n <= 0:
-        raise ValueError(f"n must be positive (control-arm units), got {n!r}")
-    n_c = math.ceil(n - 1e-9)
-    n_t = math.ceil(n * ratio - 1e-9)
-    least = 2 if kind == "mean" else 1
-    if min(n_c, n_t) < least:
-        raise ValueError(
-            f"n and ratio give {n_c} control and {n_t} treatment units; "
-            f"each arm needs at least {least}"
-        )
-    return n_c, n_t
-
-
-def _look_sizes(n_units, fractions):
-    sizes = np.maximum(np.round(np.asarray(fractions, dtype=float) * n_units), 1).astype(np.int64)
-    sizes[-1] = n_units
-    sizes = np.maximum.accumulate(sizes)
-    keep = np.concatenate([np.diff(sizes) > 0, [True]])
-    if not np.all(keep):
-        raise ValueError(
-            f"looks: {n_units} units are too few for {len(sizes)} looks at distinct sizes"
-        )
-    return sizes
-
-
-def _looks_design(looks):
-    if looks is None:
-        return None
-    try:
-        fractions = np.asarray(looks.fractions, dtype=float)
-        upper = np.asarray(looks.upper, dtype=float)
-    except AttributeError:
-        raise ValueError(
-            "looks must be a design from fourfold.engine.sequential.design (with fractions "
-            "and upper boundaries)"
-        ) from None
-    lower = getattr(looks, "lower", None)
-    lower = None if lower is None else np.asarray(lower, dtype=float)
-    if fractions.ndim != 1 or fractions.size < 1 or upper.shape != fractions.shape:
-        raise ValueError("looks: fractions and upper boundaries must be 1-D arrays of one size")
-    if not (np.all(np.diff(fractions) > 0) and fractions[0] > 0 and abs(fractions[-1] - 1) < 1e-9):
-        raise ValueError("looks: information fractions must increase to 1")
-    return fractions, upper, lower
-
-
-def _history_values(history, kind):
-    if kind == "proportion":
-        raise ValueError(
-            "history applies to mean and rate metrics; a proportion is fully described by its "
-            "baseline"
-        )
-    values = np.asarray(history, dtype=float).ravel()
-    if values.size < 2:
-        raise ValueError("history must hold at least 2 values")
-    if not np.all(np.isfinite(values)):
-        raise ValueError("history must hold finite numbers only (no nan or inf)")
-    if np.ptp(values) == 0:
-        raise ValueError("history must not be constant (its variance is zero)")
-    return values
-
-
-def _arms(kind, baseline, sd, history, history_effect, n_largest):
-    """Control arm and a function giving the treatment arm for a true difference."""
-    if history is not None:
-        values = _history_values(history, kind)
-        bins = bin_history(values)
-        centre = float(values.mean())
-        control = EmpiricalArm(values, bins)
-        if history_effect == "lift":
-            if centre == 0:
-                raise ValueError("history_effect 'lift' needs a history whose mean is not 0")
-
-            def treatment(diff):
-                return EmpiricalArm(values, bins, scale=1.0 + diff / centre)
-        else:
-
-            def treatment(diff):
-                return EmpiricalArm(values, bins, shift=diff)
-
-        model = "bootstrap" if n_largest <= DIRECT_MAX else "bootstrap (binned)"
-        return control, treatment, model
-    if kind == "mean":
-        if sd is None:
-            raise ValueError("sd is required for a mean metric (per-unit standard deviation)")
-        sd = _finite("sd", sd)
-        if sd <= 0:
-            raise ValueError(f"sd must be positive, got {sd!r}")
-        return NormalArm(baseline, sd), lambda diff: NormalArm(baseline + diff, sd), "normal"
-    if kind == "proportion":
-        if not 0.0 < baseline < 1.0:
-            raise ValueError(f"baseline must be a proportion between 0 and 1, got {baseline!r}")
-
-        def treatment(diff):
-            p = baseline + diff
-            if not 0.0 <= p <= 1.0:
-                raise ValueError(
-                    f"baseline + effect (or margin) gives a treatment proportion of {p:.6g}, "
-                    "outside [0, 1]"
-                )
-            return BinomialArm(p)
-
-        return BinomialArm(baseline), treatment, "binomial"
-    if baseline <= 0:
-        raise ValueError(f"baseline must be a positive mean count per unit, got {baseline!r}")
-    phi = 1.0
-    if sd is not None:
-        sd = _finite("sd", sd)
-        if sd <= 0:
-            raise ValueError(f"sd must be positive, got {sd!r}")
-        phi = sd * sd / baseline
-
-    def treatment(diff):
-        lam = baseline + diff
-        if lam < 0:
-            raise ValueError(
-                f"baseline + effect (or margin) gives a negative rate ({lam:.6g} per unit)"
-            )
-        return CountArm(lam, phi)
-
-    model = "poisson" if phi == 1.0 else ("negative binomial" if phi > 1 else "normal counts")
-    return CountArm(baseline, phi), treatment, model
 
 
 def simulate_power(
@@ -389,6 +240,69 @@ def simulate_power(
     >>> simulate_power("proportion", 0.3, 0.1, 400, method="arcsine", reps=100).test
     "Cohen's h (arcsine)"
     """
+    checked = _check(kind, baseline, effect, alpha=alpha, alternative=alternative, ratio=ratio,
+                     relative=relative, margin=margin, method=method, reps=reps, seed=seed,
+                     history_effect=history_effect, chunk=chunk, workers=workers)
+    n_c, n_t = units(n, checked.ratio, kind)
+    design = looks_design(looks)
+    fractions = np.ones(1) if design is None else design[0]
+    control, treatment_for, model = arms(
+        kind, baseline, sd, history, history_effect, max(n_c, n_t)
+    )
+    test = describe_test(kind, checked.method, checked.margin, history is not None)
+    scenarios = (treatment_for(checked.effect), treatment_for(checked.margin))
+    trial = _Trial(
+        sizes_c=look_sizes(n_c, fractions),
+        sizes_t=look_sizes(n_t, fractions),
+        control=control,
+        statistic=_statistic(kind, checked.method, checked.margin, history is not None,
+                             getattr(control, "phi", 1.0)),
+        design=design,
+        alpha=checked.alpha,
+        alternative=alternative,
+        direction=-1.0 if checked.effect < checked.margin else 1.0,
+    )
+    hits_h1, used_h1, hits_h0 = _run(trial, scenarios, checked, progress, cancelled)
+    low, high = wilson_interval(hits_h1, checked.reps)
+    fp_low, fp_high = wilson_interval(hits_h0, checked.reps)
+    return SimulationResult(
+        power=hits_h1 / checked.reps,
+        low=low,
+        high=high,
+        false_positive=hits_h0 / checked.reps,
+        false_positive_low=fp_low,
+        false_positive_high=fp_high,
+        reps=checked.reps,
+        seed=checked.seed,
+        n_control=n_c,
+        n_treatment=n_t,
+        effect=checked.effect,
+        alpha=checked.alpha,
+        model=model,
+        test=test,
+        looks=int(fractions.size),
+        expected_fraction=used_h1 / checked.reps,
+    )
+
+
+@dataclass(frozen=True)
+class _Checked:
+    """The arguments of :func:`simulate_power`, checked; ``effect`` and ``margin`` absolute."""
+
+    method: str
+    alpha: float
+    ratio: float
+    reps: int
+    seed: int
+    chunk: int
+    workers: int
+    effect: float
+    margin: float
+
+
+def _check(kind, baseline, effect, *, alpha, alternative, ratio, relative, margin, method, reps,
+           seed, history_effect, chunk, workers) -> _Checked:
+    """Check the scalar arguments (ValueError naming the first one at fault)."""
     if kind not in KINDS:
         raise ValueError(f"kind must be one of {', '.join(KINDS)}; got {kind!r}")
     if alternative not in ALTERNATIVES:
@@ -400,88 +314,89 @@ def simulate_power(
             f"history_effect must be one of {', '.join(HISTORY_EFFECTS)}; got {history_effect!r}"
         )
     method = _method(kind, method)
-    baseline = _finite("baseline", baseline)
-    effect = _finite("effect", effect)
-    margin = _finite("margin", margin)
-    alpha = _finite("alpha", alpha)
+    baseline = finite("baseline", baseline)
+    effect = finite("effect", effect)
+    margin = finite("margin", margin)
+    alpha = finite("alpha", alpha)
     if not 0.0 < alpha < 1.0:
         raise ValueError(f"alpha must be between 0 and 1 (exclusive), got {alpha!r}")
-    ratio = _finite("ratio", ratio)
+    ratio = finite("ratio", ratio)
     if ratio <= 0:
         raise ValueError(f"ratio must be positive (treatment:control), got {ratio!r}")
-    reps = _whole("reps", reps, 10, MAX_REPS)
-    seed = _whole("seed", seed, 0, None)
-    chunk = _whole("chunk", chunk, 1, None)
-    workers = default_workers() if workers is None else _whole("workers", workers, 1, 64)
+    reps = whole("reps", reps, 10, MAX_REPS)
+    seed = whole("seed", seed, 0, None)
+    chunk = whole("chunk", chunk, 1, None)
+    workers = default_workers() if workers is None else whole("workers", workers, 1, 64)
     if relative:
-        effect_abs, margin_abs = effect * baseline, margin * baseline
+        effect, margin = effect * baseline, margin * baseline
+    return _Checked(method, alpha, ratio, reps, seed, chunk, workers, effect, margin)
+
+
+def _statistic(kind, method, margin, history, phi):
+    """The replicate's test statistic: ``z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t)``
+    at every look, from the arms' running means and sums of squared deviations."""
+    if history or kind == "mean":
+        def z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t):
+            return welch_z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t, margin)
+    elif kind == "proportion":
+        def z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t):
+            return proportion_z(sizes_c, mean_c, sizes_t, mean_t, margin, method)
     else:
-        effect_abs, margin_abs = effect, margin
+        def z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t):
+            return rate_z(sizes_c, mean_c, sizes_t, mean_t, margin, phi)
+    return z
 
-    n_c, n_t = _units(n, ratio, kind)
-    design = _looks_design(looks)
-    fractions = np.ones(1) if design is None else design[0]
-    sizes_c = _look_sizes(n_c, fractions)
-    sizes_t = _look_sizes(n_t, fractions)
-    control, treatment_for, model = _arms(
-        kind, baseline, sd, history, history_effect, max(n_c, n_t)
-    )
-    test = describe_test(kind, method, margin_abs, history is not None)
-    scenarios = (treatment_for(effect_abs), treatment_for(margin_abs))
-    phi = getattr(control, "phi", 1.0)
-    direction = -1.0 if effect_abs < margin_abs else 1.0
 
-    def score(mean_c, m2_c, mean_t, m2_t):
-        if history is not None or kind == "mean":
-            return welch_z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t, margin_abs)
-        if kind == "proportion":
-            return proportion_z(sizes_c, mean_c, sizes_t, mean_t, margin_abs, method)
-        return rate_z(sizes_c, mean_c, sizes_t, mean_t, margin_abs, phi)
+@dataclass(frozen=True)
+class _Trial:
+    """The simulated experiment: units per arm at each look, the control arm, the test and
+    its stopping rule (``design``: fractions, upper and lower boundaries; None: one look)."""
 
-    def block_job(rng, size, arm_t):
-        def job():
-            mean_c, m2_c = control.draw(rng, size, sizes_c)
-            mean_t, m2_t = arm_t.draw(rng, size, sizes_t)
-            z = score(mean_c, m2_c, mean_t, m2_t)
-            if design is None:
-                rejected, used = fixed_rejections(z, alpha, alternative)
+    sizes_c: np.ndarray
+    sizes_t: np.ndarray
+    control: object
+    statistic: object
+    design: tuple | None
+    alpha: float
+    alternative: str
+    direction: float
+
+    def job(self, rng, size, arm_t):
+        """A block of ``size`` replicates against treatment arm ``arm_t``, drawn from ``rng``:
+        returns (rejections, units used as a share of the planned units, summed)."""
+        def run():
+            mean_c, m2_c = self.control.draw(rng, size, self.sizes_c)
+            mean_t, m2_t = arm_t.draw(rng, size, self.sizes_t)
+            z = self.statistic(self.sizes_c, mean_c, m2_c, self.sizes_t, mean_t, m2_t)
+            if self.design is None:
+                rejected, used = fixed_rejections(z, self.alpha, self.alternative)
             else:
-                rejected, used = sequential_rejections(z, *design, alternative, direction)
+                rejected, used = sequential_rejections(z, *self.design, self.alternative,
+                                                       self.direction)
             return int(rejected.sum()), float(used.sum())
 
-        return job
+        return run
 
-    generators = scenario_generators(seed, 2, reps)
-    sizes = block_sizes(reps)
+
+def _run(trial, scenarios, checked, progress, cancelled):
+    """Simulate both scenarios (H1, H0) in blocks, each block on its own random stream.
+
+    Returns the rejections under H1, the units used under H1 (summed shares) and the
+    rejections under H0.
+    """
+    generators = scenario_generators(checked.seed, 2, checked.reps)
+    sizes = block_sizes(checked.reps)
     jobs = [
-        (size, block_job(rng, size, arm_t))
+        (size, trial.job(rng, size, arm_t))
         for arm_t, gens in zip(scenarios, generators, strict=True)
         for rng, size in zip(gens, sizes, strict=True)
     ]
     outcomes = run_chunked(
-        jobs, chunk=chunk, workers=workers, progress=progress, cancelled=cancelled
+        jobs, chunk=checked.chunk, workers=checked.workers, progress=progress,
+        cancelled=cancelled
     )
     half = len(sizes)
     hits_h1 = sum(h for h, _ in outcomes[:half])
     used_h1 = sum(u for _, u in outcomes[:half])
     hits_h0 = sum(h for h, _ in outcomes[half:])
-    low, high = wilson_interval(hits_h1, reps)
-    fp_low, fp_high = wilson_interval(hits_h0, reps)
-    return SimulationResult(
-        power=hits_h1 / reps,
-        low=low,
-        high=high,
-        false_positive=hits_h0 / reps,
-        false_positive_low=fp_low,
-        false_positive_high=fp_high,
-        reps=reps,
-        seed=seed,
-        n_control=n_c,
-        n_treatment=n_t,
-        effect=effect_abs,
-        alpha=alpha,
-        model=model,
-        test=test,
-        looks=int(fractions.size),
-        expected_fraction=used_h1 / reps,
-    )
+    return hits_h1, used_h1, hits_h0

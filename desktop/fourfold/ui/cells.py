@@ -10,14 +10,14 @@ from __future__ import annotations
 
 import math
 
-from fourfold.plan import Metric, Settings
-from fourfold.ui.formatting import (
+from fourfold.formatting import (
     DASH,
     format_count,
     format_number,
     format_percent,
     parse_number,
 )
+from fourfold.plan import Metric, Settings
 
 LABELS = {
     "sample_size": "sample size",
@@ -86,7 +86,7 @@ def read_value(metric: Metric, key: str, text: str, header: str) -> float:
 
     Raises
     ------
-    fourfold.ui.formatting.ParseError
+    fourfold.formatting.ParseError
         With a message naming the column.
 
     Examples

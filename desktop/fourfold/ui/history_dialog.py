@@ -5,107 +5,48 @@ reads the file on a worker thread with a progress bar, a rows-per-second figure 
 shows what it found per metric, and applies it to new or existing metric rows as one undoable
 command. All the reading and statistics are :func:`fourfold.history.read_history`'s; this
 module only collects choices and shows results. Cancel or a bad file leaves the plan as it was.
+
+The mapping table (:mod:`fourfold.ui.history_mapping`), the warehouse page
+(:mod:`fourfold.ui.history_warehouse`), the results and the command that applies them
+(:mod:`fourfold.ui.history_results`) and the worker thread (:mod:`fourfold.ui.history_worker`)
+each have a module of their own.
 """
 
 from __future__ import annotations
 
-import math
 import threading
 import time
-from pathlib import Path
 
-from PySide6.QtCore import QObject, Qt, QThread, Signal, Slot
-from PySide6.QtGui import QFontDatabase, QGuiApplication
+from PySide6.QtCore import Qt, QThread, Slot
 from PySide6.QtWidgets import (
     QAbstractItemView,
-    QComboBox,
     QDialog,
     QFileDialog,
     QFrame,
-    QGridLayout,
     QHBoxLayout,
     QHeaderView,
     QLabel,
     QLineEdit,
-    QPlainTextEdit,
     QProgressBar,
     QPushButton,
     QTabBar,
     QTableWidget,
-    QTableWidgetItem,
     QVBoxLayout,
     QWidget,
 )
 
 from fourfold.errors import FourfoldError
-from fourfold.history import (
-    HISTORY_KINDS,
-    ColumnMap,
-    HistoryCancelled,
-    HistoryError,
-    HistorySummary,
-    read_history,
-)
+from fourfold.history import HistorySummary
 from fourfold.history.guess import guess_mapping
-from fourfold.history.text import number
-from fourfold.history.warehouse import read_warehouse_result, warehouse_sql
-from fourfold.plan import Metric
-from fourfold.plan.commands import InsertMetrics, SetFields
+from fourfold.ui.history_mapping import MAP_COLUMNS, HistoryMapping
+from fourfold.ui.history_results import RESULT_COLUMNS, HistoryResults
+from fourfold.ui.history_warehouse import HistoryWarehouse
+from fourfold.ui.history_worker import HistoryWorker, rate_text
 
-NONE = "—"
-NEW_ROW = "new row"
-CAP_CHOICES = ("no cap", "99", "99.5", "99.9", "99.99")
-MAP_COLUMNS = ("Column", "Kind", "Denominator", "Pre-period", "Cap at percentile")
-RESULT_COLUMNS = ("Metric", "n", "Missing", "Mean", "sd", "ρ", "Cap value", "Capped",
-                  "Variance ×", "Plan row")
-CHUNK_ROWS = 50_000  # short chunks keep the progress bar and Cancel lively
-RESULT_LIMIT = 1 << 20
 FILE_FILTER = "History files (*.csv *.parquet *.pq);;CSV (*.csv);;All files (*)"
 
 
-class _Worker(QObject):
-    """Runs :func:`read_history` on the worker thread and reports through signals."""
-
-    progress = Signal(float, int)
-    finished = Signal(object)
-    failed = Signal(str)
-    cancelled = Signal()
-
-    def __init__(self, path: str, mapping: list[ColumnMap], stop: threading.Event) -> None:
-        super().__init__()
-        self.path, self.mapping, self.stop = path, mapping, stop
-
-    @Slot()
-    def run(self) -> None:
-        try:
-            summary = read_history(self.path, self.mapping, chunk_rows=CHUNK_ROWS,
-                                   progress=self.progress.emit, cancel=self.stop.is_set)
-        except HistoryCancelled:
-            self.cancelled.emit()
-        except FourfoldError as error:
-            self.failed.emit(str(error))
-        except (OSError, MemoryError) as error:
-            self.failed.emit(f"{Path(self.path).name}: {error}")
-        except Exception as error:  # a bug, but the thread must still end and say so
-            self.failed.emit(f"internal error while reading {Path(self.path).name}: {error!r}")
-        else:
-            self.finished.emit(summary)
-
-
-def _combo(items, current: str | None = None, editable: bool = False) -> QComboBox:
-    box = QComboBox()
-    box.addItems(list(items))
-    box.setEditable(editable)
-    if current is not None:
-        box.setCurrentText(current)
-    return box
-
-
-def _display_name(name: str) -> str:
-    return name.replace(":", " / ")
-
-
-class HistoryDialog(QDialog):
+class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
     """Import baselines and variances from history into the plan.
 
     Parameters
@@ -125,7 +66,7 @@ class HistoryDialog(QDialog):
         self.columns: list[str] = []
         self.summary: HistorySummary | None = None
         self._thread: QThread | None = None
-        self._worker: _Worker | None = None
+        self._worker: HistoryWorker | None = None
         self._stop = threading.Event()
         self._started = 0.0
         self._build()
@@ -233,45 +174,6 @@ class HistoryDialog(QDialog):
         row.setContentsMargins(6, 6, 6, 6)
         return tab
 
-    def _warehouse_tab(self) -> QFrame:
-        tab = QFrame()
-        tab.setFrameShape(QFrame.Shape.StyledPanel)
-        grid = QGridLayout(tab)
-        grid.addWidget(QLabel("Table:"), 0, 0)
-        self.table_edit = QLineEdit()
-        self.table_edit.setPlaceholderText("schema.table")
-        grid.addWidget(self.table_edit, 0, 1)
-        grid.addWidget(QLabel("One result row per (optional):"), 0, 2)
-        self.partition_edit = QLineEdit()
-        self.partition_edit.setPlaceholderText("a partition column, e.g. day")
-        grid.addWidget(self.partition_edit, 0, 3)
-        self.sql_button = QPushButton("Write SQL")
-        self.sql_button.clicked.connect(self.write_sql)
-        grid.addWidget(self.sql_button, 0, 4)
-        self.copy_button = QPushButton("Copy SQL")
-        self.copy_button.clicked.connect(
-            lambda: QGuiApplication.clipboard().setText(self.sql_view.toPlainText()))
-        grid.addWidget(self.copy_button, 0, 5)
-        mono = QFontDatabase.systemFont(QFontDatabase.SystemFont.FixedFont)
-        self.sql_view = QPlainTextEdit()
-        self.sql_view.setReadOnly(True)
-        self.sql_view.setFont(mono)
-        self.sql_view.setPlaceholderText("the query for the columns below appears here")
-        grid.addWidget(self.sql_view, 1, 0, 1, 6)
-        self.result_edit = QPlainTextEdit()
-        self.result_edit.setFont(mono)
-        self.result_edit.setPlaceholderText(
-            "paste the query's result here: the header line and one row per partition")
-        grid.addWidget(self.result_edit, 2, 0, 1, 5)
-        self.result_file_button = QPushButton("Load result…")
-        self.result_file_button.clicked.connect(self.load_result_file)
-        grid.addWidget(self.result_file_button, 2, 5, Qt.AlignmentFlag.AlignTop)
-        for box in (self.sql_view, self.result_edit):
-            box.setMaximumHeight(96)
-            box.setLineWrapMode(QPlainTextEdit.LineWrapMode.NoWrap)
-        self.result_edit.textChanged.connect(self._update_buttons)
-        return tab
-
     def _source_changed(self, index: int) -> None:
         for page_index, page in enumerate(self.source_pages):
             page.setVisible(page_index == index)
@@ -279,49 +181,7 @@ class HistoryDialog(QDialog):
             widget.setVisible(index == 0)
         self._update_buttons()
 
-    # -- warehouse -----------------------------------------------------------------------
-
-    def write_sql(self) -> bool:
-        """Show the query for the current mapping and table; False (and a message) if none."""
-        try:
-            sql = warehouse_sql(self.mapping(), self.table_edit.text().strip(),
-                                group_by=self.partition_edit.text().strip() or None)
-        except FourfoldError as error:
-            self.show_status(str(error), error=True)
-            return False
-        self.sql_view.setPlainText(sql)
-        self.show_status("Run the query in the warehouse, then paste its result below.")
-        return True
-
-    def load_result_file(self) -> None:
-        path, _ = QFileDialog.getOpenFileName(self, "Choose a saved query result", "",
-                                              "Query results (*.csv *.tsv *.txt);;All files (*)")
-        if not path:
-            return
-        try:
-            size = Path(path).stat().st_size
-            if size > RESULT_LIMIT:
-                raise HistoryError(f"{Path(path).name}: a query result should be a few lines")
-            self.result_edit.setPlainText(Path(path).read_text(encoding="utf-8-sig"))
-        except (OSError, UnicodeDecodeError) as error:
-            self.show_status(f"{Path(path).name}: cannot be read ({error})", error=True)
-        except FourfoldError as error:
-            self.show_status(str(error), error=True)
-
-    def read_result(self) -> None:
-        """Read the pasted query result into the results table (instant: a few lines)."""
-        self._clear_results()
-        try:
-            summary = read_warehouse_result(self.result_edit.toPlainText(), self.mapping())
-        except FourfoldError as error:
-            self.show_status(str(error), error=True)
-            return
-        self.summary = summary
-        self._fill_results(summary)
-        self.show_status(f"The result covers {summary.rows:,} rows. Choose a plan row for each "
-                         "metric (or a new row) and apply; one Undo takes it back.")
-
-    # -- file and mapping ----------------------------------------------------------------
+    # -- file --------------------------------------------------------------------------
 
     def choose_file(self) -> None:
         path, _ = QFileDialog.getOpenFileName(self, "Choose a history file", "", FILE_FILTER)
@@ -345,70 +205,6 @@ class HistoryDialog(QDialog):
                          "Set a ratio's denominator, pre-period columns and caps as needed.")
         self._update_buttons()
         return True
-
-    def add_mapping_row(self, spec: ColumnMap | None) -> None:
-        row = self.map_table.rowCount()
-        self.map_table.insertRow(row)
-        choices = self.columns or [""]
-        column = _combo(choices, spec.column if spec else None, editable=True)
-        kind = _combo(HISTORY_KINDS, spec.kind if spec else "mean")
-        denominator = _combo([NONE, *self.columns], spec.denominator if spec else NONE,
-                             editable=True)
-        pre = _combo([NONE, *self.columns], spec.pre if spec and spec.pre else NONE,
-                     editable=True)
-        cap = _combo(CAP_CHOICES, f"{spec.cap:g}" if spec and spec.cap else CAP_CHOICES[0],
-                     editable=True)
-        for index, widget in enumerate((column, kind, denominator, pre, cap)):
-            self.map_table.setCellWidget(row, index, widget)
-            if isinstance(widget, QComboBox):
-                widget.currentTextChanged.connect(self._mapping_changed)
-        self._mapping_changed()
-
-    def remove_mapping_rows(self) -> None:
-        rows = sorted({index.row() for index in self.map_table.selectedIndexes()}, reverse=True)
-        if not rows and self.map_table.rowCount():
-            rows = [self.map_table.rowCount() - 1]
-        for row in rows:
-            self.map_table.removeRow(row)
-        self._mapping_changed()
-
-    def _mapping_changed(self, *_args) -> None:
-        for row in range(self.map_table.rowCount()):
-            ratio = self._cell_text(row, 1) == "ratio"
-            self.map_table.cellWidget(row, 2).setEnabled(ratio)
-            self.map_table.cellWidget(row, 3).setEnabled(not ratio)
-            self.map_table.cellWidget(row, 4).setEnabled(self._cell_text(row, 1) != "proportion")
-        self._update_buttons()
-
-    def _cell_text(self, row: int, column: int) -> str:
-        widget = self.map_table.cellWidget(row, column)
-        return widget.currentText().strip() if widget is not None else ""
-
-    def mapping(self) -> list[ColumnMap]:
-        """The mapping as the table shows it; HistoryError naming the line at fault."""
-        specs = []
-        for row in range(self.map_table.rowCount()):
-            kind = self._cell_text(row, 1)
-            denominator = self._cell_text(row, 2) if kind == "ratio" else NONE
-            pre = self._cell_text(row, 3) if kind != "ratio" else NONE
-            cap_text = self._cell_text(row, 4) if kind != "proportion" else CAP_CHOICES[0]
-            cap = None
-            if cap_text and cap_text != CAP_CHOICES[0]:
-                try:
-                    cap = float(cap_text.rstrip("%").replace(",", "."))
-                except ValueError:
-                    raise HistoryError(
-                        f"metric line {row + 1}: the cap must be a percentile such as 99.9, "
-                        f"not {cap_text!r}"
-                    ) from None
-            if kind == "ratio" and denominator == NONE:
-                raise HistoryError(f"metric line {row + 1}: choose the ratio's denominator")
-            specs.append(ColumnMap(
-                kind, self._cell_text(row, 0),
-                denominator=None if denominator == NONE else denominator,
-                pre=None if pre == NONE else pre, cap=cap,
-            ))
-        return specs
 
     # -- reading on the worker thread ----------------------------------------------------
 
@@ -441,7 +237,7 @@ class HistoryDialog(QDialog):
         self.speed_label.setText("starting…")
         self.show_status("Reading the history file…")
         thread = QThread(self)
-        worker = _Worker(self.path_edit.text(), mapping, self._stop)
+        worker = HistoryWorker(self.path_edit.text(), mapping, self._stop)
         worker.moveToThread(thread)
         thread.started.connect(worker.run)
         worker.progress.connect(self._on_progress)
@@ -505,99 +301,6 @@ class HistoryDialog(QDialog):
         self._thread = self._worker = None
         self._update_buttons()
 
-    # -- results and applying ------------------------------------------------------------
-
-    def _clear_results(self) -> None:
-        self.summary = None
-        self.result_table.setRowCount(0)
-        self._update_buttons()
-
-    def _fill_results(self, summary: HistorySummary) -> None:
-        names = [metric.name for metric in self.document.plan.metrics]
-        self.result_table.setRowCount(len(summary.metrics))
-        for row, metric in enumerate(summary.metrics):
-            cap = metric.cap
-            cells = [
-                f"{_display_name(metric.name)} ({metric.kind})",
-                f"{metric.n:,}",
-                f"{metric.missing:,}",
-                number(metric.mean),
-                "–" if metric.kind == "proportion" else number(metric.sd),
-                number(metric.rho, 3),
-                "–" if cap is None else number(cap.threshold) + ("" if cap.exact else " ≈"),
-                "–" if cap is None else f"{cap.capped:,}",
-                "–" if cap is None else number(cap.variance_ratio(metric.sd), 3),
-            ]
-            for column, text in enumerate(cells):
-                item = QTableWidgetItem(text)
-                if column:
-                    item.setTextAlignment(Qt.AlignmentFlag.AlignRight
-                                          | Qt.AlignmentFlag.AlignVCenter)
-                if cap is not None and column >= 6:
-                    item.setToolTip(
-                        f"sd {number(cap.sd_uncapped)} → {number(metric.sd)}; mean "
-                        f"{number(cap.mean_uncapped)} → {number(metric.mean)}"
-                    )
-                self.result_table.setItem(row, column, item)
-            target = _combo([NEW_ROW, *names])
-            target.currentTextChanged.connect(self._update_buttons)
-            self.result_table.setCellWidget(row, len(RESULT_COLUMNS) - 1, target)
-        self._update_buttons()
-
-    def targets(self) -> list[int | None]:
-        """The plan row each result goes to (None: a new row), in result order."""
-        out: list[int | None] = []
-        for row in range(self.result_table.rowCount()):
-            box = self.result_table.cellWidget(row, len(RESULT_COLUMNS) - 1)
-            index = box.currentIndex()
-            out.append(None if index <= 0 else index - 1)
-        return out
-
-    def set_target(self, result_row: int, plan_row: int | None) -> None:
-        """Send one result to a plan row (None: a new row)."""
-        box = self.result_table.cellWidget(result_row, len(RESULT_COLUMNS) - 1)
-        box.setCurrentIndex(0 if plan_row is None else plan_row + 1)
-
-    def command(self):
-        """The one command that applies the results; HistoryError when targets are mixed."""
-        if self.summary is None:
-            raise HistoryError("read the history file first")
-        targets = self.targets()
-        source = Path(self.summary.source).name
-        if all(target is None for target in targets):
-            metrics = []
-            for metric in self.summary.metrics:
-                fields = metric.plan_fields()
-                metrics.append(Metric(name=_display_name(metric.name)[:200],
-                                      notes=f"{metric.describe()} ({source})", **fields))
-            command = InsertMetrics(len(self.document.plan.metrics), metrics)
-            command.text = f"Import history into {len(metrics)} new rows"
-            return command
-        if any(target is None for target in targets):
-            raise HistoryError(
-                "send every metric to an existing row, or every metric to a new row, so that "
-                "one Undo takes the import back"
-            )
-        if len(set(targets)) != len(targets):
-            raise HistoryError("two metrics are sent to the same plan row")
-        edits = [
-            (target, field, value)
-            for metric, target in zip(self.summary.metrics, targets, strict=True)
-            for field, value in metric.plan_fields().items()
-        ]
-        return SetFields(edits, text=f"Import history into {len(targets)} rows")
-
-    def apply_to_plan(self) -> None:
-        try:
-            command = self.command()
-        except FourfoldError as error:
-            self.show_status(str(error), error=True)
-            return
-        if self.document.apply(command):
-            self.accept()
-        else:
-            self.show_status("The plan refused the values; nothing was changed.", error=True)
-
     # -- state ---------------------------------------------------------------------------
 
     def show_status(self, text: str, *, error: bool = False) -> None:
@@ -624,16 +327,3 @@ class HistoryDialog(QDialog):
             self._stop.set()
             self.wait()
         super().done(result)
-
-
-def rate_text(rows: int, seconds: float) -> str:
-    """Rows per second as shown under the progress bar.
-
-    Examples
-    --------
-    >>> rate_text(1_000_000, 0.5)
-    '2,000,000 rows/s'
-    """
-    if not seconds > 0 or not math.isfinite(seconds):
-        return ""
-    return f"{rows / seconds:,.0f} rows/s"

@@ -28,11 +28,11 @@ from PySide6.QtWidgets import (
 )
 
 from fourfold.errors import FourfoldError
+from fourfold.formatting import format_count, format_number, format_percent, parse_number
 from fourfold.plan import CHOICES
 from fourfold.plan.commands import SetSetting
 from fourfold.plan.fields import CORRECTION_LABELS, MAX_ARMS, MAX_LOOKS
 from fourfold.ui.document import PlanDocument
-from fourfold.ui.formatting import format_count, format_number, format_percent, parse_number
 
 SPENDING_LABELS = {
     "ld-obrien-fleming": "LD O'Brien–Fleming",

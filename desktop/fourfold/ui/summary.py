@@ -8,8 +8,8 @@ import math
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QSizePolicy
 
+from fourfold.formatting import format_count, format_number
 from fourfold.ui.document import PlanDocument
-from fourfold.ui.formatting import format_count, format_number
 
 
 def duration_text(days: float | None) -> str:

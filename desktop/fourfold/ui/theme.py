@@ -8,25 +8,11 @@ Contrast of body text on its background is above 7:1 in both palettes.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QGuiApplication, QIcon, QPainter, QPainterPath, QPalette, QPixmap
 from PySide6.QtWidgets import QApplication
 
-
-@dataclass(frozen=True)
-class Tints:
-    """Colours the plan table and summary use on top of the palette."""
-
-    computed: QColor
-    solved: QColor
-    solved_text: QColor
-    binding: QColor
-    problem: QColor
-    muted: QColor
-    accent: QColor
-
+from fourfold.figures.style import TINTS, Tints
 
 _LIGHT = {
     "window": "#f2f1ec", "base": "#ffffff", "alternate": "#f7f6f2", "text": "#1c2126",
@@ -39,12 +25,6 @@ _DARK = {
     "button": "#2c323a", "highlight": "#4f9ea3", "highlighted_text": "#0f1418",
     "mid": "#3d444d", "dark": "#14171b", "link": "#8cc4e6", "tooltip": "#2c323a",
     "placeholder": "#8d939a", "disabled": "#6b7178",
-}
-_TINTS = {
-    False: Tints(QColor("#eaf0f2"), QColor("#fbe7b5"), QColor("#3b2a00"), QColor("#b0532c"),
-                 QColor("#a8332b"), QColor("#5f6670"), QColor("#2d6a6f")),
-    True: Tints(QColor("#27323a"), QColor("#5a4a1c"), QColor("#fff3cf"), QColor("#e58a5f"),
-                QColor("#f08a80"), QColor("#a3abb4"), QColor("#6fb7bc")),
 }
 
 
@@ -76,7 +56,7 @@ def palette(dark: bool) -> QPalette:
 
 def tints(dark: bool | None = None) -> Tints:
     """The table tints of a scheme (the current system scheme when ``dark`` is None)."""
-    return _TINTS[system_is_dark() if dark is None else dark]
+    return TINTS[system_is_dark() if dark is None else dark]
 
 
 def apply(app: QApplication, dark: bool | None = None) -> bool:

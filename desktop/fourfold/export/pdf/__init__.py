@@ -301,8 +301,8 @@ def _looks(flow: Flow, plan, result) -> None:
     looks = report.looks_table(plan, result)
     if looks is None:
         return
+    from fourfold.figures.boundaries import BoundaryStyle, paint_boundaries
     from fourfold.plan.sequential import looks_row, row_looks
-    from fourfold.ui.boundaries_plot import BoundaryStyle, paint_boundaries
 
     name, table = looks
     flow.heading(f"Stopping boundaries: {name}", level=2)
@@ -329,7 +329,7 @@ def _entry(flow: Flow, parts) -> None:
 
 
 def _figures(flow: Flow, plan, result) -> None:
-    from fourfold.ui.plots import paint_tradeoffs
+    from fourfold.figures.tradeoffs import paint_tradeoffs
 
     for index, metric in enumerate(plan.metrics):
         if metric.role != "primary":

@@ -15,8 +15,8 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
+from fourfold.figures.style import TINTS
 from fourfold.plan.evaluation import compute
-from fourfold.ui import theme
 
 FLAGGED = ("below", "above")
 
@@ -43,7 +43,7 @@ class SimulationMark:
         """Draw ``check`` at ``units_view`` (the row's units in view coordinates)."""
         dark = style.background.lightness() < 128
         flagged = check.get("verdict") in FLAGGED
-        colour = theme.tints(dark).problem if flagged else style.foreground
+        colour = TINTS[dark].problem if flagged else style.foreground
         if stale:
             colour = style.muted
         x = 100.0 * check["power"]
@@ -68,8 +68,9 @@ class SimulationMark:
 def show_simulation(grid, plan, result, index) -> None:
     """Draw row ``index``'s stored check on ``grid``'s power figure (or clear it).
 
-    ``grid`` is a :class:`fourfold.ui.plots.FigureGrid` already showing the row's trade-offs;
-    the mark is created on first use and reused.
+    ``grid`` is a :class:`fourfold.figures.tradeoffs.TradeoffFigures` (or the window's
+    :class:`fourfold.ui.plots.FigureGrid` that shows one) already showing the row's
+    trade-offs; the mark is created on first use and reused.
     """
     mark = getattr(grid, "simulation_mark", None)
     if mark is None:

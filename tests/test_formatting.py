@@ -6,7 +6,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from fourfold.ui.formatting import (
+from fourfold.formatting import (
     ParseError,
     format_count,
     format_number,

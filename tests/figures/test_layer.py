@@ -11,7 +11,7 @@ import pytest
 from PySide6.QtCore import QPointF
 from PySide6.QtGui import QBrush, QColor, QImage, QPainter, QPen
 
-from fourfold.ui.figure_layer import SeriesLayer, Swatch
+from fourfold.figures.layer import SeriesLayer, Swatch
 
 pytestmark = pytest.mark.qt
 

@@ -1,0 +1,212 @@
+"""The stopping boundaries of the selected row's interim looks, drawn with a plain QPainter.
+
+The figure shows, per look (on its calendar day, or its share of the maximum units when the
+plan has no traffic), the z value above which the test stops for efficacy, with the nominal
+p-value it corresponds to, and the futility z below which it stops for lack of effect. The
+numbers come from :func:`fourfold.plan.sequential.row_looks`; nothing is computed here.
+:func:`paint_boundaries` draws onto any painter (the window's widget, an image, a PDF page).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
+
+from fourfold.formatting import MINUS
+from fourfold.plan.sequential import Look
+
+Z_CAP = 6.0
+"""Highest z drawn; earlier boundaries above it are drawn at the cap with their value."""
+MAX_LABELS = 10
+SCREEN_DPI = 96.0
+
+FIXED_TEXT = ("One look: a fixed design. Set looks above 1 to plan interim analyses and see "
+              "their stopping boundaries here.")
+
+
+@dataclass(frozen=True)
+class BoundaryStyle:
+    """Colours and text size of the figure."""
+
+    foreground: QColor
+    muted: QColor
+    grid: QColor
+    efficacy: QColor
+    futility: QColor
+    points: float = 9.0
+
+
+def p_text(p: float) -> str:
+    """A nominal p-value for a label: "p < 0.0031", "p < 1.1e−06".
+
+    Examples
+    --------
+    >>> p_text(0.003123), p_text(1.08e-6), p_text(0.0374)
+    ('p < 0.0031', 'p < 1.1e−06', 'p < 0.037')
+    """
+    if p >= 1e-4:
+        digits = max(2, 1 - math.floor(math.log10(p)))
+        return f"p < {p:.{digits}f}"
+    return f"p < {p:.1e}".replace("-", MINUS)
+
+
+def z_text(z: float) -> str:
+    return f"{z:.2f}".replace("-", MINUS)
+
+
+def _x_values(looks: tuple[Look, ...]) -> tuple[list[float], str, list[str]]:
+    if all(math.isfinite(look.day) for look in looks):
+        return ([look.day for look in looks], "Day of the look",
+                [f"{look.day:.0f}" for look in looks])
+    return ([look.fraction for look in looks], "Share of the maximum units",
+            [f"{look.fraction * 100:.0f} %" for look in looks])
+
+
+def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
+                     style: BoundaryStyle, title: str = "", caption: str = "") -> None:
+    """Draw the boundaries of ``looks`` into ``rect``; a short text when there are none.
+
+    ``caption`` is a line of muted text under the figure (the price of unadjusted peeking).
+
+    Text is sized in points; lines, markers and gaps in screen pixels scaled to the device's
+    resolution, so the figure looks alike on the screen and on a 300 dpi PDF page.
+    """
+    px = max(1.0, painter.device().logicalDpiX() / SCREEN_DPI)
+    painter.save()
+    painter.setRenderHint(QPainter.RenderHint.Antialiasing)
+    font = QFont(painter.font())
+    font.setPointSizeF(style.points)
+    painter.setFont(font)
+    metrics = painter.fontMetrics()
+    line = metrics.height()
+    painter.setPen(style.foreground)
+    if title:
+        bold = QFont(font)
+        bold.setBold(True)
+        painter.setFont(bold)
+        painter.drawText(QRectF(rect.left(), rect.top(), rect.width(), line),
+                         Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter, title)
+        painter.setFont(font)
+    if not looks:
+        painter.setPen(style.muted)
+        painter.drawText(rect.adjusted(line, 2 * line, -line, -line),
+                         Qt.AlignmentFlag.AlignCenter | Qt.TextFlag.TextWordWrap, FIXED_TEXT)
+        painter.restore()
+        return
+
+    xs, x_label, x_ticks = _x_values(looks)
+    futile = [look.z_futility for look in looks if math.isfinite(look.z_futility)]
+    z_low = min(0.0, math.floor(min(futile))) if futile else 0.0
+    z_high = min(Z_CAP, math.ceil(max(look.z_efficacy for look in looks) + 0.3))
+    labelled = set(range(len(looks) - 1, -1, -max(1, math.ceil(len(looks) / MAX_LABELS))))
+    labels = [f"z {z_text(look.z_efficacy)}" if look.z_efficacy > z_high
+              else p_text(look.p_efficacy) for look in looks]
+    widest = max(metrics.horizontalAdvance(text) for text in labels)
+    items = _legend_items(style, bool(futile))
+    stacked = (sum(30 * px + metrics.horizontalAdvance(text) for _, text in items)
+               > rect.width())
+    legend_lines = len(items) if stacked else 1
+    caption_lines = 0
+    if caption:
+        caption_lines = 1 if metrics.horizontalAdvance(caption) <= rect.width() else 2
+    bottom = 2.6 + 1.1 * caption_lines
+    plot = rect.adjusted(4.0 * metrics.horizontalAdvance("0") + 6 * px,
+                         (2.8 + 1.1 * legend_lines) * line, -widest - 8 * px, -bottom * line)
+
+    def at(x: float, z: float) -> QPointF:
+        zx = plot.left() + plot.width() * x / xs[-1]
+        zy = plot.bottom() - plot.height() * (min(z, z_high) - z_low) / (z_high - z_low)
+        return QPointF(zx, zy)
+
+    gutter = plot.left() - rect.left() - 6 * px
+    right = Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
+    for z in range(int(z_low), int(z_high) + 1):
+        y = at(0.0, z).y()
+        painter.setPen(QPen(style.grid, px))
+        painter.drawLine(QPointF(plot.left(), y), QPointF(plot.right(), y))
+        painter.setPen(style.muted)
+        painter.drawText(QRectF(rect.left(), y - line / 2, gutter, line), right,
+                         str(z).replace("-", MINUS))
+    painter.drawText(QRectF(rect.left(), plot.top() - 1.15 * line, gutter, line), right, "z")
+    efficacy = [at(x, look.z_efficacy) for x, look in zip(xs, looks, strict=True)]
+    _shade(painter, efficacy, plot.top(), plot.right(), style.efficacy, 0.12)
+    if futile:
+        floor = [at(x, look.z_futility) for x, look in zip(xs, looks, strict=True)]
+        _shade(painter, floor, plot.bottom(), plot.right(), style.futility, 0.14)
+        _curve(painter, floor, style.futility, Qt.PenStyle.DashLine, px)
+
+    _curve(painter, efficacy, style.efficacy, Qt.PenStyle.SolidLine, px)
+    painter.setPen(style.foreground)
+    for k in sorted(labelled):
+        point = efficacy[k]
+        box = QRectF(point.x() + 5 * px, point.y() - line - 2 * px, widest + 4 * px, line)
+        painter.drawText(box, Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
+                         labels[k])
+
+    painter.setPen(QPen(style.foreground, px))
+    painter.drawLine(plot.bottomLeft(), plot.bottomRight())
+    painter.drawLine(plot.bottomLeft(), plot.topLeft())
+    painter.setPen(style.muted)
+    for k in sorted(labelled):
+        x, tick = at(xs[k], z_low).x(), x_ticks[k]
+        painter.drawText(QRectF(x - 40 * px, plot.bottom() + 2 * px, 80 * px, line),
+                         Qt.AlignmentFlag.AlignCenter, tick)
+    painter.drawText(QRectF(plot.left(), plot.bottom() + 1.2 * line, plot.width(), line),
+                     Qt.AlignmentFlag.AlignCenter, x_label)
+    if caption:
+        height = 1.1 * caption_lines * line
+        painter.drawText(QRectF(rect.left(), rect.bottom() - height, rect.width(), height),
+                         Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignBottom
+                         | Qt.TextFlag.TextWordWrap, caption)
+    painter.setPen(style.foreground)
+    _legend(painter, QPointF(rect.left(), rect.top() + 1.7 * line), items, stacked, px)
+    painter.restore()
+
+
+def _shade(painter, points, edge, right, colour, alpha):
+    """Fill the region between a boundary and the plot's top or bottom edge (``edge``)."""
+    region = QPainterPath()
+    region.moveTo(QPointF(points[0].x(), edge))
+    for point in points:
+        region.lineTo(point)
+    region.lineTo(QPointF(right, edge))
+    region.closeSubpath()
+    shade = QColor(colour)
+    shade.setAlphaF(alpha)
+    painter.fillPath(region, shade)
+
+
+def _curve(painter: QPainter, points: list[QPointF], colour: QColor, dash, px: float) -> None:
+    pen = QPen(colour, 2.0 * px)
+    pen.setStyle(dash)
+    painter.setPen(pen)
+    painter.drawPolyline(QPolygonF(points))
+    painter.setPen(QPen(colour, px))
+    painter.setBrush(colour)
+    for point in points:
+        painter.drawEllipse(point, 3.0 * px, 3.0 * px)
+    painter.setBrush(Qt.BrushStyle.NoBrush)
+
+
+def _legend_items(style: BoundaryStyle, futility: bool) -> list[tuple[QColor, str]]:
+    items = [(style.efficacy, "Stop for efficacy above (nominal p)")]
+    if futility:
+        items.append((style.futility, "Stop for futility below"))
+    return items
+
+
+def _legend(painter: QPainter, origin: QPointF, items: list[tuple[QColor, str]],
+            stacked: bool, px: float) -> None:
+    """Legend items under the title: in one line, or one per line when narrow."""
+    metrics = painter.fontMetrics()
+    x, middle = origin.x(), origin.y()
+    for colour, text in items:
+        painter.fillRect(QRectF(x, middle - 4 * px, 14 * px, 8 * px), colour)
+        painter.drawText(QPointF(x + 18 * px, middle + metrics.ascent() / 2 - px), text)
+        if stacked:
+            middle += 1.1 * metrics.height()
+        else:
+            x += 30 * px + metrics.horizontalAdvance(text)

@@ -1,0 +1,122 @@
+"""What the history import found, per metric, and the one command that applies it to the plan.
+
+Each result goes to a plan row or to a new row; all to new rows or all to existing rows, so
+that one Undo takes the import back.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QTableWidgetItem
+
+from fourfold.errors import FourfoldError
+from fourfold.history import HistoryError, HistorySummary
+from fourfold.history.text import number
+from fourfold.plan import Metric
+from fourfold.plan.commands import InsertMetrics, SetFields
+from fourfold.ui.history_mapping import combo
+
+NEW_ROW = "new row"
+RESULT_COLUMNS = ("Metric", "n", "Missing", "Mean", "sd", "ρ", "Cap value", "Capped",
+                  "Variance ×", "Plan row")
+
+
+def display_name(name: str) -> str:
+    return name.replace(":", " / ")
+
+
+class HistoryResults:
+    """The results table and applying of :class:`fourfold.ui.history_dialog.HistoryDialog`."""
+
+    def _clear_results(self) -> None:
+        self.summary = None
+        self.result_table.setRowCount(0)
+        self._update_buttons()
+
+    def _fill_results(self, summary: HistorySummary) -> None:
+        names = [metric.name for metric in self.document.plan.metrics]
+        self.result_table.setRowCount(len(summary.metrics))
+        for row, metric in enumerate(summary.metrics):
+            cap = metric.cap
+            cells = [
+                f"{display_name(metric.name)} ({metric.kind})",
+                f"{metric.n:,}",
+                f"{metric.missing:,}",
+                number(metric.mean),
+                "–" if metric.kind == "proportion" else number(metric.sd),
+                number(metric.rho, 3),
+                "–" if cap is None else number(cap.threshold) + ("" if cap.exact else " ≈"),
+                "–" if cap is None else f"{cap.capped:,}",
+                "–" if cap is None else number(cap.variance_ratio(metric.sd), 3),
+            ]
+            for column, text in enumerate(cells):
+                item = QTableWidgetItem(text)
+                if column:
+                    item.setTextAlignment(Qt.AlignmentFlag.AlignRight
+                                          | Qt.AlignmentFlag.AlignVCenter)
+                if cap is not None and column >= 6:
+                    item.setToolTip(
+                        f"sd {number(cap.sd_uncapped)} → {number(metric.sd)}; mean "
+                        f"{number(cap.mean_uncapped)} → {number(metric.mean)}"
+                    )
+                self.result_table.setItem(row, column, item)
+            target = combo([NEW_ROW, *names])
+            target.currentTextChanged.connect(self._update_buttons)
+            self.result_table.setCellWidget(row, len(RESULT_COLUMNS) - 1, target)
+        self._update_buttons()
+
+    def targets(self) -> list[int | None]:
+        """The plan row each result goes to (None: a new row), in result order."""
+        out: list[int | None] = []
+        for row in range(self.result_table.rowCount()):
+            box = self.result_table.cellWidget(row, len(RESULT_COLUMNS) - 1)
+            index = box.currentIndex()
+            out.append(None if index <= 0 else index - 1)
+        return out
+
+    def set_target(self, result_row: int, plan_row: int | None) -> None:
+        """Send one result to a plan row (None: a new row)."""
+        box = self.result_table.cellWidget(result_row, len(RESULT_COLUMNS) - 1)
+        box.setCurrentIndex(0 if plan_row is None else plan_row + 1)
+
+    def command(self):
+        """The one command that applies the results; HistoryError when targets are mixed."""
+        if self.summary is None:
+            raise HistoryError("read the history file first")
+        targets = self.targets()
+        source = Path(self.summary.source).name
+        if all(target is None for target in targets):
+            metrics = []
+            for metric in self.summary.metrics:
+                fields = metric.plan_fields()
+                metrics.append(Metric(name=display_name(metric.name)[:200],
+                                      notes=f"{metric.describe()} ({source})", **fields))
+            command = InsertMetrics(len(self.document.plan.metrics), metrics)
+            command.text = f"Import history into {len(metrics)} new rows"
+            return command
+        if any(target is None for target in targets):
+            raise HistoryError(
+                "send every metric to an existing row, or every metric to a new row, so that "
+                "one Undo takes the import back"
+            )
+        if len(set(targets)) != len(targets):
+            raise HistoryError("two metrics are sent to the same plan row")
+        edits = [
+            (target, field, value)
+            for metric, target in zip(self.summary.metrics, targets, strict=True)
+            for field, value in metric.plan_fields().items()
+        ]
+        return SetFields(edits, text=f"Import history into {len(targets)} rows")
+
+    def apply_to_plan(self) -> None:
+        try:
+            command = self.command()
+        except FourfoldError as error:
+            self.show_status(str(error), error=True)
+            return
+        if self.document.apply(command):
+            self.accept()
+        else:
+            self.show_status("The plan refused the values; nothing was changed.", error=True)

@@ -1,0 +1,134 @@
+"""What the plan table shows: cell texts, tooltips, colours of the text and the row headers.
+
+A cell shows an input as the user typed it (in the row's units), a plan default or an unused
+input in muted italics, a computed output, or "—" with the reason in its tooltip when the row
+cannot be computed. The row header marks the binding metric.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt
+
+from fourfold.plan import CHOICES
+from fourfold.ui import cells, simulation_cells
+from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, TEXT
+
+ROLE = Qt.ItemDataRole
+
+
+class TableDisplay:
+    """Display texts and roles of :class:`fourfold.ui.table_model.PlanTableModel`."""
+
+    def _default_text(self, key: str) -> str:
+        settings = self.document.plan.settings
+        return cells.format_number(getattr(settings, key), sig=3)
+
+    def display_text(self, row: int, column: int) -> str:
+        """The text shown in a cell."""
+        metric = self._rows[row]
+        col = COLUMNS[column]
+        key = col.key
+        if key == simulation_cells.KEY:
+            return simulation_cells.text(metric, self.document.plan.settings, self._results[row])
+        if col.computed:
+            if self._reason(row):
+                return cells.DASH
+            return cells.output_text(metric, self.document.plan.settings, self._results[row],
+                                     key)
+        value = getattr(metric, key)
+        if col.editor == TEXT:
+            return value
+        if col.editor == CHECK:
+            return ""
+        if col.editor == CHOICE:
+            if key == "method" and value is None:
+                return CHOICES["method"][metric.kind][0]
+            return cells.label(value)
+        if value is None and key in ("alpha", "power"):
+            return self._default_text(key)
+        if value is None and key == "sd" and metric.kind == "rate":
+            return "= mean"
+        return cells.show_value(metric, key, value)
+
+    def edit_text(self, row: int, column: int) -> str:
+        """The text an editor starts with (empty for unset optional values)."""
+        metric = self._rows[row]
+        col = COLUMNS[column]
+        value = getattr(metric, col.key)
+        if value is None:
+            return ""
+        if col.editor == NUMBER:
+            return cells.show_value(metric, col.key, value)
+        return value if isinstance(value, str) else str(value)
+
+    def _tooltip(self, row: int, column: int) -> str | None:
+        col = COLUMNS[column]
+        if col.key == simulation_cells.KEY:
+            return simulation_cells.tooltip(self._rows[row], self.document.plan.settings,
+                                            self._results[row])
+        reason = self._reason(row)
+        if col.computed and reason:
+            return f"Cannot compute this row: {reason}"
+        metric = self._rows[row]
+        if col.key == "solve" and self._solved(row) != metric.solve:
+            return (f"The plan has a fixed runtime, so this row reports the "
+                    f"{cells.label(self._solved(row))} those days allow")
+        if col.key == "effect" and self._is_unused(row, "effect"):
+            return "Not used: this row computes the effect it can detect"
+        if col.key in ("alpha", "power") and getattr(metric, col.key) is None:
+            return "Plan default (type a value to override it for this row)"
+        if col.key == "notes" and metric.notes:
+            return metric.notes
+        if col.key == "method" and metric.method is None:
+            return f"The usual method for a {metric.kind} (choose another to override it)"
+        if self.is_solved(row, column):
+            return "The quantity this row solves for"
+        if col.key == "name" and reason:
+            return f"Cannot compute this row: {reason}"
+        return None
+
+    def _foreground(self, row: int, column: int):
+        col = COLUMNS[column]
+        metric = self._rows[row]
+        if col.key == simulation_cells.KEY:
+            return simulation_cells.colour(self._tints, metric, self.document.plan.settings,
+                                           self._results[row])
+        if col.computed and self._reason(row):
+            return self._tints.problem
+        if self.is_solved(row, column):
+            return self._tints.solved_text
+        if col.key == "name" and self._reason(row):
+            return self._tints.problem
+        if col.key in ("alpha", "power") and getattr(metric, col.key) is None:
+            return self._tints.muted
+        if col.key == "method" and metric.method is None:
+            return self._tints.muted
+        if col.key == "sd" and metric.sd is None:
+            return self._tints.muted
+        if self._is_unused(row, col.key):
+            return self._tints.muted
+        return None
+
+    def headerData(self, section, orientation, role=ROLE.DisplayRole):
+        if orientation == Qt.Orientation.Horizontal:
+            if not 0 <= section < len(COLUMNS):
+                return None
+            col = COLUMNS[section]
+            if role == ROLE.DisplayRole:
+                return col.header
+            if role == ROLE.ToolTipRole:
+                kind = "Computed. " if col.computed else ""
+                return f"<p>{kind}{col.tooltip}</p>"
+            return None
+        if not 0 <= section < len(self._rows):
+            return None
+        binding = section == self._binding
+        if role == ROLE.DisplayRole:
+            return str(section + 1)
+        if role == ROLE.DecorationRole and binding:
+            return self._marker
+        if role == ROLE.ToolTipRole:
+            if binding:
+                return "Binding metric: this row needs the most days and sets the plan's duration"
+            return f"Row {section + 1}"
+        return None

@@ -1,0 +1,81 @@
+"""The main window's autosave and its offer to restore plans that windows left unsaved.
+
+The copies themselves are kept by :class:`fourfold.ui.recovery.Recovery`; this module decides
+when to write them and asks the user what to do with the ones found at start.
+"""
+
+from __future__ import annotations
+
+import pathlib
+
+from PySide6.QtCore import QDateTime, QLocale, QStandardPaths
+from PySide6.QtWidgets import QMessageBox
+
+
+def data_directory() -> pathlib.Path:
+    """The folder of the windows' recovery copies (the platform's application data location)."""
+    location = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation)
+    return pathlib.Path(location)
+
+
+class WindowRecovery:
+    """Autosave and recovery prompts of :class:`fourfold.ui.main_window.MainWindow`."""
+
+    def autosave(self) -> None:
+        """Write the recovery copy when there are unsaved changes."""
+        if self.document.dirty:
+            try:
+                self.recovery.write(self.document.plan, self.document.path)
+            except OSError as error:
+                self.show_message(f"Autosave failed: {error}")
+
+    def offer_recovery(self, ask=None) -> bool:
+        """Offer the plans that windows left unsaved when they ended, newest first.
+
+        ``ask(recovered)`` decides for each (default: a dialog): True restores it here (then
+        no more are offered: the rest wait for another window), False deletes it, None keeps
+        it for later. Copies of windows still running are never offered. Returns whether a
+        plan was restored.
+        """
+        leftovers = self.recovery.leftovers()
+        for number, found in enumerate(leftovers, start=1):
+            answer = ask(found) if ask is not None else self._ask_recover(
+                found, number, len(leftovers))
+            if answer is None:
+                self.recovery.keep(found)
+                continue
+            if not answer:
+                self.recovery.drop(found)
+                continue
+            self.document.replace(found.plan, found.source, unsaved=True)
+            try:
+                self.recovery.write(found.plan, found.source)  # this window's copy takes over
+            except OSError:
+                self.recovery.keep(found)
+            else:
+                self.recovery.drop(found)
+            for rest in leftovers[number:]:
+                self.recovery.keep(rest)
+            waiting = len(leftovers) - number
+            more = (f"; {waiting} more kept for the next Fourfold window" if waiting else "")
+            self.show_message(f"Restored the unsaved plan from the last session{more}")
+            return True
+        return False
+
+    def _ask_recover(self, found, number: int = 1, total: int = 1) -> bool | None:
+        source = found.source.name if found.source else "an unsaved plan"
+        when = QLocale().toString(QDateTime.fromSecsSinceEpoch(int(found.saved_at)),
+                                  QLocale.FormatType.ShortFormat)
+        count = f" ({number} of {total})" if total > 1 else ""
+        box = QMessageBox(QMessageBox.Icon.Question, f"Restore unsaved changes?{count}",
+                          f"A Fourfold window closed without saving changes to {source} "
+                          f"(last copy {when}). Restore them here?", parent=self)
+        restore = box.addButton("Restore", QMessageBox.ButtonRole.AcceptRole)
+        discard = box.addButton("Discard", QMessageBox.ButtonRole.DestructiveRole)
+        box.addButton("Keep for later", QMessageBox.ButtonRole.RejectRole)
+        box.setDefaultButton(restore)
+        box.exec()
+        clicked = box.clickedButton()
+        if clicked is restore:
+            return True
+        return False if clicked is discard else None
