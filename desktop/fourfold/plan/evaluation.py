@@ -418,16 +418,26 @@ def _finish_rows(settings: Settings, solved_rows: list, pending: dict[int, _Pend
     for (index, outcome), day in zip(solved_rows, days, strict=True):
         row = pending[index]
         units_total = outcome[2]
+        if settings.daily_units is not None and not math.isfinite(day):
+            results[index] = _failed(row.solved, row.factor, *_shown(row.solved, *outcome[5:]),
+                                     f"needs more days than can be counted at "
+                                     f"{settings.daily_units:g} daily units")
+            continue
         results[index] = RowResult(*outcome[:3], day, *outcome[3:], "", row.solved, row.factor,
                                    *sequential.row_fields(row.staged, units_total, day))
+
+
+def _shown(solved: str, power: float, alpha: float) -> tuple[float, float]:
+    """α and power as a row that failed shows them (nan for the quantity it solves for)."""
+    return (math.nan if solved == "significance_level" else alpha,
+            math.nan if solved == "power" else power)
 
 
 def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
                 settings: Settings) -> RowResult | tuple:
     """A failed :class:`RowResult`, or the row's units, effect, power and α (days to come)."""
     solved, factor = row.solved, row.factor
-    shown_alpha = math.nan if solved == "significance_level" else row.alpha
-    shown_power = math.nan if solved == "power" else row.power
+    shown_alpha, shown_power = _shown(solved, row.power, row.alpha)
     if reason:
         return _failed(solved, factor, shown_alpha, shown_power, reason)
     n_control, effect, power, alpha = row.n_control, metric.effect, row.power, row.alpha
@@ -441,6 +451,10 @@ def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
             power = sequential.power_of(row.staged, power)
     else:
         alpha = value
+    if math.isfinite(value) and not math.isfinite(n_control):
+        return _failed(solved, factor, shown_alpha, shown_power,
+                       f"needs more units than can be counted (the variance factor is "
+                       f"{factor:g})")
     if not all(math.isfinite(number) for number in (n_control, effect, power, alpha)):
         return _failed(solved, factor, shown_alpha, shown_power,
                        f"the engine found no finite {solved.replace('_', ' ')} for this row")
@@ -452,6 +466,9 @@ def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
     units_control = _ceil(n_control)
     units_treatment = _ceil(settings.ratio * units_control)
     units_total = units_control + settings.arms * units_treatment
+    if not math.isfinite(units_total):
+        return _failed(solved, factor, shown_alpha, shown_power,
+                       "needs more units than can be counted (beyond about 1.8e308)")
     return (units_control, units_treatment, units_total, float(effect_abs), float(effect_rel),
             power, alpha)
 
