@@ -42,9 +42,10 @@ be computed; ``reason`` then says why).
 
 Numbers are written in full precision (Python's shortest round-trip form), so reading the file
 back gives exactly the values of :func:`fourfold.plan.evaluation.evaluate`. Text cells that a
-spreadsheet would run as a formula — beginning with ``=``, ``+``, ``-``, ``@``, a tab or a
-carriage return — are prefixed with a single quote (OWASP, "CSV Injection"); numeric cells are
-never altered.
+spreadsheet would run as a formula — beginning with ``=``, ``+``, ``-``, ``@``, ``|``, a tab or
+a line break, also after white space or invisible characters or in full-width form — are
+prefixed with a single quote (OWASP, "CSV Injection", see :func:`neutralise`); numeric cells
+are never altered.
 
 References
 ----------
@@ -67,6 +68,7 @@ import io
 import math
 import numbers
 import os
+import unicodedata
 from collections.abc import Callable, Iterable, Sequence
 from pathlib import Path
 from typing import Any
@@ -77,8 +79,15 @@ from fourfold import __version__
 from fourfold.export.files import ExportError, write_parts
 from fourfold.plan import CHOICES
 
-FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+FORMULA_STARTS = ("=", "+", "-", "@", "|", "\t", "\r", "\n")
 ENCODING = "utf-8-sig"
+_RUNS = frozenset("=+-@|")
+
+
+def _skipped(character: str) -> bool:
+    """Characters a spreadsheet may drop before it looks for a formula: white space (space,
+    no-break space, line breaks) and invisible format characters (zero-width space, BOM)."""
+    return character.isspace() or unicodedata.category(character) == "Cf"
 
 
 def neutralise(text: str) -> str:
@@ -92,8 +101,11 @@ def neutralise(text: str) -> str:
     Returns
     -------
     str
-        ``"'" + text`` when ``text`` begins with ``=``, ``+``, ``-``, ``@``, a tab or a carriage
-        return; ``text`` unchanged otherwise.
+        ``"'" + text`` when ``text`` begins with ``=``, ``+``, ``-``, ``@``, ``|``, a tab, a
+        carriage return or a line feed — also when that sign comes after white space or
+        invisible characters (space, no-break space, zero-width space, byte-order mark) or in
+        a compatibility form that reads as it (full-width ``＝ ＋ － ＠``, small ``﹦``);
+        ``text`` unchanged otherwise.
 
     References
     ----------
@@ -103,8 +115,16 @@ def neutralise(text: str) -> str:
     --------
     >>> neutralise("-2+3"), neutralise("@SUM(A1:A2)"), neutralise("a-b")
     ("'-2+3", "'@SUM(A1:A2)", 'a-b')
+    >>> neutralise("\u00a0=1+1"), neutralise("＝1+1"), neutralise("|calc")
+    ("'\xa0=1+1", "'＝1+1", "'|calc")
     """
-    return "'" + text if text.startswith(FORMULA_STARTS) else text
+    if text.startswith(FORMULA_STARTS):
+        return "'" + text
+    for character in text:
+        if _skipped(character):
+            continue
+        return "'" + text if unicodedata.normalize("NFKC", character)[:1] in _RUNS else text
+    return text
 
 
 def cell(value: Any) -> str:
