@@ -32,12 +32,20 @@ SAFE_EXPONENT = 400
 """Values whose largest magnitude lies within 2^±SAFE_EXPONENT are summed unscaled."""
 
 
+_NO_SIZE = -1100
+"""The size of a set of zeros (below any double's power of two)."""
+
+
+def _scale_of(power: int) -> int:
+    """The power-of-two scale for values of size 2^power (0: none needed)."""
+    return power if SAFE_EXPONENT < abs(power) and power > _NO_SIZE else 0
+
+
 def _exponent(top: float) -> int:
     """The power-of-two scale for values whose largest magnitude is ``top`` (0: none)."""
     if top == 0 or not math.isfinite(top):
         return 0
-    exponent = math.frexp(top)[1]
-    return exponent if abs(exponent) > SAFE_EXPONENT else 0
+    return _scale_of(math.frexp(top)[1])
 
 
 def _rescale(value: float, exponent: int, target: int) -> float:
@@ -97,6 +105,14 @@ class Moments:
         exponent = math.frexp(math.sqrt(variance))[1]
         return cls(n, float(mean), math.ldexp(variance, -2 * exponent) * (n - 1), exponent)
 
+    def _size(self) -> int:
+        """The power of two of the values' size: of the larger of |mean| and the rms
+        deviation (:data:`_NO_SIZE` when every value is 0)."""
+        sizes = [math.frexp(self.mean)[1]] if self.mean else []
+        if self.m2 > 0:
+            sizes.append(self.exponent + math.frexp(math.sqrt(self.m2 / self.n))[1])
+        return max(sizes, default=_NO_SIZE)
+
     def scaled_mean(self, exponent: int) -> float:
         """The mean in units of 2^exponent."""
         return math.ldexp(self.mean, -exponent) if exponent else self.mean
@@ -112,8 +128,7 @@ class Moments:
         if self.n == 0:
             return other
         n = self.n + other.n
-        e = max(self.exponent, other.exponent,
-                _exponent(max(abs(self.mean), abs(other.mean))))
+        e = _scale_of(max(self._size(), other._size()))
         if e == 0 and self.exponent == other.exponent:
             delta = other.mean - self.mean
             mean = self.mean + delta * (other.n / n)

@@ -76,12 +76,19 @@ def _object(value: Any, where: str) -> dict:
     return value
 
 
+def _place(key: str) -> str:
+    """A key as a message names its place: on one line, cut to about 40 characters."""
+    text = shown(key, 42)
+    return text[1:-1] if text[:1] in "'\"" and text[-1:] == text[:1] else text[1:]
+
+
 def _fields(data: dict, names: tuple[str, ...], where: str, *, settings: bool,
             kind: str | None = None) -> dict[str, Any]:
     unknown = [key for key in data if key not in names]
     if unknown:
-        key = unknown[0]
-        raise PlanError(f"{where}.{key}: unknown field {key!r}", f"{where}.{key}")
+        key = _place(unknown[0])
+        raise PlanError(f"{where}.{key}: unknown field {shown(unknown[0], 40)}",
+                        f"{where}.{key}")
     values = {}
     for name in names:
         if name in data:
@@ -105,16 +112,18 @@ def from_dict(data: Any) -> Plan:
     if data.get("format") != FORMAT:
         found = data.get("format")
         raise PlanError(
-            f"format: not a Fourfold plan (expected \"format\": \"{FORMAT}\", found {found!r})",
+            f"format: not a Fourfold plan (expected \"format\": \"{FORMAT}\", found "
+            f"{shown(found)})",
             "format",
         )
     version = data.get("schema_version")
     if isinstance(version, bool) or not isinstance(version, int):
-        raise PlanError(f"schema_version must be a whole number, not {version!r}",
+        raise PlanError(f"schema_version must be a whole number, not {shown(version)}",
                         "schema_version")
     if version > SCHEMA_VERSION:
         raise PlanError(
-            f"schema_version {version} is newer than this Fourfold reads ({SCHEMA_VERSION}); "
+            f"schema_version {shown(version)} is newer than this Fourfold reads "
+            f"({SCHEMA_VERSION}); "
             "open it with a newer Fourfold",
             "schema_version",
         )
@@ -123,7 +132,8 @@ def from_dict(data: Any) -> Plan:
     unknown = [key for key in data if key not in ("format", "schema_version", "settings",
                                                    "metrics")]
     if unknown:
-        raise PlanError(f"{unknown[0]}: unknown field {unknown[0]!r}", unknown[0])
+        key = _place(unknown[0])
+        raise PlanError(f"{key}: unknown field {shown(unknown[0], 40)}", key)
     settings = Settings(**_fields(_object(data.get("settings", {}), "settings"),
                                   SETTINGS_FIELDS, "settings", settings=True))
     rows = data.get("metrics", [])
