@@ -31,7 +31,7 @@ def _exported(tmp_path, names):
     plan.metrics = [dataclasses.replace(template, name=f"row {i}", notes=text)
                     for i, text in enumerate(names)]
     plan.settings.description = names[0]
-    path, extra = write_csv(plan, tmp_path / "plan.csv")
+    path, extra = write_csv(plan, tmp_path / "plan.csv")[:2]
     with open(path, encoding="utf-8-sig", newline="") as handle:
         rows = list(csv.DictReader(handle))
     with open(extra, encoding="utf-8-sig", newline="") as handle:

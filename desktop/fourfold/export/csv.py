@@ -1,7 +1,7 @@
 """The plan table as CSV: one file of metric rows, one file of plan-level settings and results.
 
 ``write_csv(plan, "checkout.csv")`` writes two UTF-8 files (with a byte-order mark, so that
-spreadsheets detect the encoding):
+spreadsheets detect the encoding), and a third for a plan with scenarios:
 
 ``checkout.csv``
     One header row, then one row per metric row of the plan, in plan order, holding every input
@@ -14,6 +14,11 @@ spreadsheets detect the encoding):
     ``look_k_futility_z`` (empty without a futility bound), ``look_k_alpha_spent_frac``,
     ``look_k_stop_h0_frac`` and ``look_k_stop_h1_frac`` (the chance of stopping there with no
     effect and with the planned effect). z is oriented in the direction of the effect.
+    A plan with scenarios also has a ``scenario`` row: the scenario written ("Base" or its
+    name).
+``checkout-scenarios.csv``
+    Only for a plan with scenarios: one row per scenario, base first — see
+    :func:`fourfold.export.comparison.write_comparison`.
 
 Column names
 ------------
@@ -30,6 +35,16 @@ no suffix
     the metric's own unit (``baseline``, ``sd``, ``effect_abs``; for a proportion that is a
     fraction of units, for a rate a count per unit), a dimensionless number (``cuped_rho``,
     ``icc``, ``cluster_cv``, ``design_factor``), a flag (``true``/``false``) or text.
+
+``unit`` is the metric's unit as text and ``better`` its good direction (``higher`` or
+``lower``). Ratio rows fill ``ratio_denominator`` (the denominator's mean per unit),
+``ratio_numerator_sd``, ``ratio_denominator_sd`` and ``ratio_correlation``; quantile rows
+``quantile_level_frac`` (0.95 for the p95), ``quantile_density`` (the density at the quantile,
+per unit of the metric) or the second percentile of their log-normal
+(``quantile_second_level_frac``, ``quantile_second_value``). ``sd_used`` is the per-unit sd
+the computation used: the delta method's for a ratio, √(p(1 − p))/density for a quantile,
+``sd`` otherwise. With the √k allocation the settings file adds what equal allocation would
+need: ``equal_allocation_total_units`` and ``equal_allocation_duration_days``.
 
 ``effect_input`` and ``margin_input`` are the numbers as entered: fractions of the baseline when
 ``relative_input`` is true, the metric's unit otherwise. ``units_control`` is the control arm,
@@ -78,6 +93,8 @@ import numpy as np
 from fourfold import __version__
 from fourfold.export.files import ExportError, write_parts
 from fourfold.plan import CHOICES
+from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
+from fourfold.plan.kinds import DERIVED_SD, unit_sd
 
 FORMULA_STARTS = ("=", "+", "-", "@", "|", "\t", "\r", "\n")
 ENCODING = "utf-8-sig"
@@ -158,6 +175,11 @@ def _method(metric) -> str:
     return metric.method if metric.method is not None else CHOICES["method"][metric.kind][0]
 
 
+def _sd_used(metric) -> float | None:
+    """The per-unit sd the engine used: derived for ratio and quantile rows, else ``sd``."""
+    return unit_sd(metric) if metric.kind in DERIVED_SD else metric.sd
+
+
 #: The metric-row columns in file order: (name, how to get the value from (index, metric, row
 #: result, plan result)).
 COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
@@ -169,6 +191,17 @@ COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
     ("solve", lambda i, m, r, p: m.solve),
     ("baseline", lambda i, m, r, p: m.baseline),
     ("sd", lambda i, m, r, p: m.sd),
+    ("unit", lambda i, m, r, p: m.unit),
+    ("better", lambda i, m, r, p: m.better),
+    ("ratio_denominator", lambda i, m, r, p: m.denominator),
+    ("ratio_numerator_sd", lambda i, m, r, p: m.numerator_sd),
+    ("ratio_denominator_sd", lambda i, m, r, p: m.denominator_sd),
+    ("ratio_correlation", lambda i, m, r, p: m.correlation),
+    ("quantile_level_frac", lambda i, m, r, p: m.quantile_level),
+    ("quantile_density", lambda i, m, r, p: m.density),
+    ("quantile_second_level_frac", lambda i, m, r, p: m.second_level),
+    ("quantile_second_value", lambda i, m, r, p: m.second_value),
+    ("sd_used", lambda i, m, r, p: _sd_used(m)),
     ("effect_input", lambda i, m, r, p: m.effect),
     ("margin_input", lambda i, m, r, p: m.margin),
     ("relative_input", lambda i, m, r, p: m.relative),
@@ -207,6 +240,9 @@ SETTINGS: tuple[tuple[str, str, Callable[[Any, Any], Any]], ...] = (
     ("power", "fraction", lambda s, p: s.power),
     ("arms", "treatment arms", lambda s, p: s.arms),
     ("ratio", "treatment units per control unit, each arm", lambda s, p: s.ratio),
+    ("allocation", "text", lambda s, p: s.allocation),
+    ("treatment_ratio", "treatment units per control unit, each arm, as allocated",
+     lambda s, p: treatment_ratio(s)),
     ("correction", "text", lambda s, p: s.correction),
     ("daily_units", "units per day", lambda s, p: s.daily_units),
     ("share", "fraction", lambda s, p: s.share),
@@ -251,6 +287,10 @@ def settings_rows(plan, result) -> list[list[str]]:
     lines = [["key", "value", "unit"]]
     lines += [[key, cell(get(plan.settings, result)), unit] for key, unit, get in SETTINGS]
     lines += [[f"note_{i}", cell(note), "text"] for i, note in enumerate(result.notes, 1)]
+    saving = equal_allocation_saving(plan, result)
+    if saving is not None:
+        lines += [["equal_allocation_total_units", cell(saving.equal_units), "units"],
+                  ["equal_allocation_duration_days", cell(saving.equal_days), "days"]]
     lines += _look_rows(plan, result)
     lines.append(["fourfold_version", cell(__version__), "text"])
     return lines
@@ -300,7 +340,7 @@ def encoded(path: Path, lines: Iterable[Sequence[str]]) -> bytes:
                           "character (an unpaired surrogate)") from None
 
 
-def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
+def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tuple[Path, ...]:
     """Write the plan's metric table to ``path`` and its settings beside it.
 
     Parameters
@@ -308,17 +348,24 @@ def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
     plan : fourfold.plan.Plan
         The plan; it is evaluated here with :func:`fourfold.plan.compute`.
     path : path-like
-        The metric file. The settings go to :func:`settings_path` of it.
+        The metric file. The settings go to :func:`settings_path` of it; for a plan with
+        scenarios the comparison goes to ``NAME-scenarios.csv``
+        (:func:`fourfold.export.comparison.write_comparison`).
+    scenario : str, optional
+        The scenario whose rows and settings to write (default: the base); with scenarios,
+        the settings file names it in its ``scenario`` row.
 
     Returns
     -------
     tuple of pathlib.Path
-        The metric file and the settings file.
+        The metric file, the settings file and, for a plan with scenarios, the comparison.
 
     Raises
     ------
     fourfold.export.files.ExportError
-        When a file cannot be written; both files are then left as they were.
+        When a file cannot be written; every file is then left as it was.
+    fourfold.plan.PlanError
+        When the plan has no scenario called ``scenario``.
 
     References
     ----------
@@ -330,13 +377,23 @@ def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
     >>> from fourfold.plan import load, sample_path
     >>> out = pathlib.Path(tempfile.mkdtemp()) / "plan.csv"
     >>> [p.name for p in write_csv(load(sample_path()), out)]
-    ['plan.csv', 'plan-settings.csv']
+    ['plan.csv', 'plan-settings.csv', 'plan-scenarios.csv']
     """
+    from fourfold.export.comparison import scenario_rows, scenarios_path
     from fourfold.plan.evaluation import compute
+    from fourfold.plan.scenarios import BASE, effective
 
-    result = compute(plan)
+    shown = effective(plan, scenario)
+    result = compute(shown)
     path = Path(path)
-    extra = settings_path(path)
-    write_parts({path: encoded(path, metric_rows(plan, result)),
-                 extra: encoded(extra, settings_rows(plan, result))})
-    return path, extra
+    targets = [path, settings_path(path)]
+    settings = settings_rows(shown, result)
+    if plan.scenarios:
+        settings.insert(3, ["scenario", cell(scenario or BASE), "text"])
+        targets.append(scenarios_path(path))
+    contents = {targets[0]: encoded(targets[0], metric_rows(shown, result)),
+                targets[1]: encoded(targets[1], settings)}
+    if plan.scenarios:
+        contents[targets[2]] = encoded(targets[2], scenario_rows(plan))
+    write_parts(contents)
+    return tuple(targets)

@@ -3,11 +3,30 @@
 Plain dataclasses with no behaviour beyond construction; every change a user makes goes through
 :mod:`fourfold.plan.commands` (which validates with :func:`fourfold.plan.fields.validate_field`),
 and files go through :mod:`fourfold.plan.storage`, which checks every field on load.
+
+A plan is its **base** (``settings`` and ``metrics``) and any number of named **scenarios**, each
+storing only what it changes; :mod:`fourfold.plan.scenarios` builds a scenario's plan.
 """
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
+from typing import Any
+
+
+def new_row_id() -> str:
+    """A fresh row id: eight random hexadecimal digits.
+
+    Random rather than counted, so that the id of a deleted row is never given to a new one
+    (a scenario's changes to the deleted row must not move to another row).
+
+    Examples
+    --------
+    >>> len(new_row_id()), new_row_id() != new_row_id()
+    (8, True)
+    """
+    return os.urandom(4).hex()
 
 
 @dataclass
@@ -23,9 +42,14 @@ class Settings:
     arms : int
         Number of treatment arms, each compared with the one control arm.
     ratio : float
-        Allocation per treatment arm: treatment units per control unit.
+        Allocation per treatment arm: treatment units per control unit (used when
+        ``allocation`` is ``"fixed"``).
+    allocation : str
+        ``"fixed"`` (``ratio`` as given) or ``"sqrt-k"``: the control gets √arms times the
+        units of each treatment arm (:func:`fourfold.engine.allocation_ratio`).
     correction : str
-        Multiple-comparison correction of α: ``"none"``, ``"bonferroni"`` or ``"sidak"``.
+        Multiple-comparison correction of α: ``"none"``, ``"bonferroni"``, ``"sidak"`` or
+        ``"dunnett"`` (many-to-one, for the treatment arms against the shared control).
     daily_units : float or None
         Eligible units (visitors, users) per day; ``None`` means durations are not computed.
     share : float
@@ -51,6 +75,7 @@ class Settings:
     power: float = 0.8
     arms: int = 1
     ratio: float = 1.0
+    allocation: str = "fixed"
     correction: str = "none"
     daily_units: float | None = None
     share: float = 1.0
@@ -72,13 +97,30 @@ class Metric:
     role : str
         ``"primary"``, ``"secondary"`` or ``"guardrail"``.
     kind : str
-        ``"mean"``, ``"proportion"`` or ``"rate"`` (see :mod:`fourfold.engine`).
+        ``"mean"``, ``"proportion"``, ``"rate"``, ``"ratio"`` or ``"quantile"`` (see
+        :mod:`fourfold.engine`).
     method : str or None
         Test statistic of the kind (``None``: the kind's default).
     baseline : float
-        Control-arm mean, proportion or mean count per unit.
+        Control-arm mean, proportion, mean count per unit, ratio of means or quantile.
     sd : float or None
-        Per-unit standard deviation (required for means; optional for rates).
+        Per-unit standard deviation (required for means; optional for rates; ratio and
+        quantile rows derive theirs, see :mod:`fourfold.plan.kinds`).
+    unit : str
+        The metric's unit as written after a value ("ms", "$", "items"); empty for none.
+    better : str
+        ``"higher"`` or ``"lower"``: which direction is good for the metric; it sets the
+        one-sided alternative of a guardrail row ("must not get worse").
+    denominator, numerator_sd, denominator_sd, correlation : float or None
+        Ratio rows: the denominator's mean per unit, the per-unit sds of numerator and
+        denominator and their correlation (the baseline is the ratio of the means).
+    quantile_level : float or None
+        Quantile rows: the level p of the quantile in the baseline (0.95 for the p95).
+    density : float or None
+        Quantile rows: the density at the quantile (from history); when empty, the density
+        of the log-normal through the baseline and ``second_level``/``second_value``.
+    second_level, second_value : float or None
+        Quantile rows: a second percentile of the metric (e.g. 0.5 and the median).
     effect : float or None
         Minimum detectable effect, treatment minus control (a fraction of the baseline when
         ``relative``); used by rows that solve for sample size, power or α.
@@ -103,6 +145,10 @@ class Metric:
         Free text (where the numbers come from).
     simulation : dict or None
         A stored Monte Carlo check of the row (JSON-compatible).
+    id : str
+        The row's stable identity, which scenarios use to name the row (not a field a user
+        edits, and not compared: two rows with the same values are equal). A new row gets a
+        fresh one; a copy keeps it until a command inserts it into a plan that has that id.
 
     Examples
     --------
@@ -116,6 +162,16 @@ class Metric:
     method: str | None = None
     baseline: float = 0.1
     sd: float | None = None
+    unit: str = ""
+    better: str = "higher"
+    denominator: float | None = None
+    numerator_sd: float | None = None
+    denominator_sd: float | None = None
+    correlation: float | None = None
+    quantile_level: float | None = None
+    density: float | None = None
+    second_level: float | None = None
+    second_value: float | None = None
     effect: float | None = 0.05
     relative: bool = True
     alternative: str = "two-sided"
@@ -130,21 +186,62 @@ class Metric:
     n: float | None = None
     notes: str = ""
     simulation: dict | None = None
+    id: str = field(default_factory=new_row_id, compare=False, repr=False)
+
+
+@dataclass
+class Scenario:
+    """A named alternative to the base plan: only what it changes.
+
+    Attributes
+    ----------
+    name : str
+        Unique within the plan (ignoring case); never "base".
+    settings : dict
+        Settings field → value, for the settings the scenario changes.
+    rows : dict
+        Row id → {metric field → value}, for the row fields the scenario changes.
+    omitted : list of str
+        Ids of the base rows the scenario leaves out.
+
+    Examples
+    --------
+    >>> Scenario("All traffic", settings={"share": 1.0}).rows
+    {}
+    """
+
+    name: str
+    settings: dict[str, Any] = field(default_factory=dict)
+    rows: dict[str, dict[str, Any]] = field(default_factory=dict)
+    omitted: list[str] = field(default_factory=list)
 
 
 @dataclass
 class Plan:
-    """A plan: its settings and its metric rows, in display order.
+    """A plan: its settings and its metric rows, in display order (the base), and scenarios.
+
+    Attributes
+    ----------
+    settings : Settings
+        The base's settings.
+    metrics : list of Metric
+        The base's rows.
+    scenarios : list of Scenario
+        Named alternatives, in the order they were made.
+    active : str or None
+        The scenario the window shows and edits (``None``: the base).
 
     Examples
     --------
     >>> plan = Plan.empty()
-    >>> [metric.role for metric in plan.metrics]
-    ['primary']
+    >>> [metric.role for metric in plan.metrics], plan.scenarios, plan.active
+    (['primary'], [], None)
     """
 
     settings: Settings = field(default_factory=Settings)
     metrics: list[Metric] = field(default_factory=list)
+    scenarios: list[Scenario] = field(default_factory=list)
+    active: str | None = None
 
     @classmethod
     def empty(cls) -> Plan:

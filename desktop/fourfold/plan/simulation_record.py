@@ -20,10 +20,10 @@ import math
 import numbers
 from typing import Any
 
-from fourfold.plan.fields import PlanError, check_text
+from fourfold.plan.fields import PlanError, check_text, key_name, shown
 
 INPUT_FIELDS = ("kind", "method", "baseline", "sd", "effect", "alpha", "alternative", "margin",
-                "n_control", "ratio", "looks")
+                "n_control", "ratio", "looks", "kind_inputs")
 """The row inputs a check was run on (to tell when it has gone stale)."""
 
 VERDICTS = ("agrees", "borderline", "below", "above")
@@ -93,18 +93,30 @@ def _inputs(where: str, value: Any) -> dict:
         raise _error(where, "must be an object")
     out = {}
     for key, item in value.items():
-        place = f"{where}.{key}"
+        place = f"{where}.{key_name(key)}"
         if key not in INPUT_FIELDS:
-            raise _error(place, f"unknown field {key!r}")
-        if item is None or isinstance(item, bool):
-            out[key] = item
-        elif isinstance(item, str):
-            out[key] = _text(place, item)
-        elif isinstance(item, numbers.Integral) and not isinstance(item, bool):
-            out[key] = _whole(place, item, -_MAX_COUNT, _MAX_COUNT)
-        else:
-            out[key] = _finite(place, item)
+            raise _error(place, f"unknown field {shown(key, 40)}")
+        out[key] = (_scalars(place, item) if key == "kind_inputs" and item is not None
+                    else _scalar(place, item))
     return out
+
+
+def _scalars(where: str, value: Any) -> dict:
+    """A flat object of plain values (a ratio's or quantile's own inputs)."""
+    if not isinstance(value, dict):
+        raise _error(where, "must be an object")
+    return {key: _scalar(f"{where}.{key_name(key)}", item) for key, item in value.items()}
+
+
+def _scalar(where: str, item: Any) -> Any:
+    """A plain value: empty, true/false, text or a finite number."""
+    if item is None or isinstance(item, bool):
+        return item
+    if isinstance(item, str):
+        return _text(where, item)
+    if isinstance(item, numbers.Integral):
+        return _whole(where, item, -_MAX_COUNT, _MAX_COUNT)
+    return _finite(where, item)
 
 
 def validate_record(field: str, value: Any) -> dict | None:
@@ -139,7 +151,7 @@ def validate_record(field: str, value: Any) -> dict | None:
         raise _error(field, "must be a stored simulation check (an object) or empty")
     for key in value:
         if key not in KEYS:
-            raise _error(f"{field}.{key}", f"unknown field {key!r}")
+            raise _error(f"{field}.{key_name(key)}", f"unknown field {shown(key, 40)}")
     for key in _REQUIRED:
         if key not in value:
             raise _error(f"{field}.{key}", "missing (a stored simulation check needs it)")

@@ -2,9 +2,27 @@
 
 A plan file is one JSON object::
 
-    {"format": "fourfold-plan", "schema_version": 1,
+    {"format": "fourfold-plan", "schema_version": 2,
      "settings": {...every Settings field...},
      "metrics": [{...every Metric field...}, ...]}
+
+A plan with scenarios is written as ``"schema_version": 2``: every metric row also has its
+stable ``"id"``, and two more members hold the scenarios and the one the window shows::
+
+     "scenarios": [{"name": "All traffic", "settings": {"share": 1.0},
+                    "rows": {"<row id>": {"effect": 0.07}}, "omitted": ["<row id>"]}, ...],
+     "active": "All traffic"            (or null: the base)
+
+A plan without scenarios is written as version 1, exactly as before scenarios existed, so
+older Fourfolds read it; its rows get fresh ids when it is read. Scenario values are checked
+as base values are (:func:`fourfold.plan.scenarios.from_dict`); a scenario change naming a row
+or field that does not exist is kept and reported, not dropped.
+
+A plan that uses what version 3 added — a row's unit or "better" direction, the ratio and
+quantile kinds and their inputs, the √k allocation or Dunnett's correction — is written as
+``"schema_version": 3``, with row ids and the scenario members as in version 2; a plan that
+uses none of it is written as before (version 1 or 2), so older Fourfolds still read it, and
+files of every earlier version open unchanged, the new fields at their defaults.
 
 On reading, every value goes through :func:`fourfold.plan.fields.validate_field`; a missing
 field takes its default (except a metric's ``name``, ``kind`` and ``baseline``), an unknown
@@ -15,6 +33,7 @@ moves it into place with :func:`os.replace`, so the old file survives any failur
 
 from __future__ import annotations
 
+import copy
 import dataclasses
 import json
 import os
@@ -22,17 +41,32 @@ import pathlib
 from typing import Any
 
 from fourfold import atomic
+from fourfold.plan import scenarios
 from fourfold.plan.fields import (
     METRIC_FIELDS,
     SETTINGS_FIELDS,
     PlanError,
+    key_name,
     shown,
     validate_field,
 )
 from fourfold.plan.model import Metric, Plan, Settings
 
 FORMAT = "fourfold-plan"
-SCHEMA_VERSION = 1
+PLAIN_VERSION = 1
+"""The version written for a plan without scenarios (what every Fourfold since 1 reads)."""
+SCENARIOS_VERSION = 2
+"""The version that added row ids, scenarios and the active scenario; written only for a plan
+with scenarios."""
+KINDS_VERSION = 3
+"""The version that added units, directions, the ratio and quantile kinds, the √k allocation
+and Dunnett's correction; written only for a plan that uses one of them."""
+SCHEMA_VERSION = KINDS_VERSION
+"""The newest version this Fourfold reads."""
+KINDS_METRIC_FIELDS = ("unit", "better", "denominator", "numerator_sd", "denominator_sd",
+                       "correlation", "quantile_level", "density", "second_level",
+                       "second_value")
+KINDS_SETTINGS_FIELDS = ("allocation",)
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
 MAX_DIGITS = 400
 """Longest JSON integer read exactly (larger ones are beyond any float and are refused)."""
@@ -49,14 +83,59 @@ def sample_path() -> pathlib.Path:
     return pathlib.Path(__file__).resolve().parents[3] / "samples" / "quillmoss-checkout.json"
 
 
+def _uses_kinds(plan: Plan) -> bool:
+    """Whether the plan (or a scenario of it) uses anything version 3 added."""
+    defaults, plain = Metric(), Settings()
+    if plan.settings.correction == "dunnett" or any(
+            getattr(plan.settings, name) != getattr(plain, name)
+            for name in KINDS_SETTINGS_FIELDS):
+        return True
+    for metric in plan.metrics:
+        if metric.kind in ("ratio", "quantile") or any(
+                getattr(metric, name) != getattr(defaults, name) for name in KINDS_METRIC_FIELDS):
+            return True
+    for scenario in plan.scenarios:
+        changed = dict(scenario.settings)
+        for fields in scenario.rows.values():
+            changed.update(fields)
+        if changed.get("correction") == "dunnett" or changed.get("kind") in ("ratio",
+                                                                             "quantile"):
+            return True
+        if any(name in changed for name in (*KINDS_METRIC_FIELDS, *KINDS_SETTINGS_FIELDS)):
+            return True
+    return False
+
+
 def to_dict(plan: Plan) -> dict[str, Any]:
-    """The JSON object of a plan (every field written, in declaration order)."""
-    return {
+    """The JSON object of a plan (every field written, in declaration order).
+
+    Version 2 (row ids, scenarios and the active one) only when the plan has scenarios;
+    version 3 (and its fields) only when it uses what version 3 added.
+    """
+    version = PLAIN_VERSION
+    if plan.scenarios:
+        version = SCENARIOS_VERSION
+    if _uses_kinds(plan):
+        version = KINDS_VERSION
+    versioned = version >= SCENARIOS_VERSION
+    metric_fields = [name for name in METRIC_FIELDS
+                     if version >= KINDS_VERSION or name not in KINDS_METRIC_FIELDS]
+    settings = dataclasses.asdict(plan.settings)
+    if version < KINDS_VERSION:
+        settings = {key: value for key, value in settings.items()
+                    if key not in KINDS_SETTINGS_FIELDS}
+    data = {
         "format": FORMAT,
-        "schema_version": SCHEMA_VERSION,
-        "settings": dataclasses.asdict(plan.settings),
-        "metrics": [dataclasses.asdict(metric) for metric in plan.metrics],
+        "schema_version": version,
+        "settings": settings,
+        "metrics": [{**({"id": metric.id} if versioned else {}),
+                     **{name: copy.deepcopy(getattr(metric, name)) for name in metric_fields}}
+                    for metric in plan.metrics],
     }
+    if versioned:
+        data["scenarios"] = [scenarios.to_dict(scenario) for scenario in plan.scenarios]
+        data["active"] = plan.active
+    return data
 
 
 def dumps(plan: Plan) -> str:
@@ -76,17 +155,11 @@ def _object(value: Any, where: str) -> dict:
     return value
 
 
-def _place(key: str) -> str:
-    """A key as a message names its place: on one line, cut to about 40 characters."""
-    text = shown(key, 42)
-    return text[1:-1] if text[:1] in "'\"" and text[-1:] == text[:1] else text[1:]
-
-
 def _fields(data: dict, names: tuple[str, ...], where: str, *, settings: bool,
             kind: str | None = None) -> dict[str, Any]:
     unknown = [key for key in data if key not in names]
     if unknown:
-        key = _place(unknown[0])
+        key = key_name(unknown[0])
         raise PlanError(f"{where}.{key}: unknown field {shown(unknown[0], 40)}",
                         f"{where}.{key}")
     values = {}
@@ -129,10 +202,12 @@ def from_dict(data: Any) -> Plan:
         )
     if version < 1:
         raise PlanError(f"schema_version must be 1 or more, not {version}", "schema_version")
-    unknown = [key for key in data if key not in ("format", "schema_version", "settings",
-                                                   "metrics")]
+    members = ("format", "schema_version", "settings", "metrics")
+    if version >= SCENARIOS_VERSION:
+        members += ("scenarios", "active")
+    unknown = [key for key in data if key not in members]
     if unknown:
-        key = _place(unknown[0])
+        key = key_name(unknown[0])
         raise PlanError(f"{key}: unknown field {shown(unknown[0], 40)}", key)
     settings = Settings(**_fields(_object(data.get("settings", {}), "settings"),
                                   SETTINGS_FIELDS, "settings", settings=True))
@@ -143,12 +218,38 @@ def from_dict(data: Any) -> Plan:
     for index, row in enumerate(rows):
         where = f"metrics[{index}]"
         row = _object(row, where)
+        identity = {}
+        if version >= SCENARIOS_VERSION:
+            row = dict(row)
+            if "id" not in row:
+                raise PlanError(f"{where}.id: missing (required)", f"{where}.id")
+            identity["id"] = scenarios.check_row_id(row.pop("id"), f"{where}.id")
+            if any(metric.id == identity["id"] for metric in metrics):
+                raise PlanError(f"{where}.id: {identity['id']!r} is the id of another row",
+                                f"{where}.id")
         for name in REQUIRED_METRIC_FIELDS:
             if name not in row:
                 raise PlanError(f"{where}.{name}: missing (required)", f"{where}.{name}")
         kind = _fields({"kind": row["kind"]}, ("kind",), where, settings=False)["kind"]
-        metrics.append(Metric(**_fields(row, METRIC_FIELDS, where, settings=False, kind=kind)))
-    return Plan(settings, metrics)
+        metrics.append(Metric(**_fields(row, METRIC_FIELDS, where, settings=False, kind=kind),
+                              **identity))
+    plan = Plan(settings, metrics)
+    if version >= SCENARIOS_VERSION:
+        _scenarios(plan, data)
+    return plan
+
+
+def _scenarios(plan: Plan, data: dict) -> None:
+    """Read a version-2 file's scenarios and active scenario into ``plan``."""
+    listed = data.get("scenarios", [])
+    if not isinstance(listed, list):
+        raise PlanError("scenarios must be a JSON list", "scenarios")
+    for index, scenario in enumerate(listed):
+        plan.scenarios.append(scenarios.from_dict(plan, scenario, f"scenarios[{index}]"))
+    active = data.get("active")
+    if active is not None and active not in [scenario.name for scenario in plan.scenarios]:
+        raise PlanError(f"active: the plan has no scenario called {active!r}", "active")
+    plan.active = active
 
 
 class _Duplicate(ValueError):

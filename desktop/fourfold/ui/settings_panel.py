@@ -30,8 +30,10 @@ from PySide6.QtWidgets import (
 from fourfold.errors import FourfoldError
 from fourfold.formatting import format_count, format_number, format_percent, parse_number
 from fourfold.plan import CHOICES
+from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.commands import SetSetting
-from fourfold.plan.fields import CORRECTION_LABELS, MAX_ARMS, MAX_LOOKS
+from fourfold.plan.fields import ALLOCATION_LABELS, CORRECTION_LABELS, MAX_ARMS, MAX_LOOKS
+from fourfold.plan.scenarios import find
 from fourfold.ui.document import PlanDocument
 
 SPENDING_LABELS = {
@@ -173,6 +175,7 @@ class SettingsPanel(QWidget):
         super().__init__(parent)
         self.document = document
         self.fields: dict[str, QWidget] = {}
+        self._tips: dict[str, str] | None = None  # the fields' own tooltips
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
         outer.setSpacing(6)
@@ -202,14 +205,21 @@ class SettingsPanel(QWidget):
         self._number(grid, 0, 0, "alpha")
         self._number(grid, 0, 2, "power")
         self._choice(grid, 1, 0, "correction", "Correction",
-                     "Correction of α for several treatment arms and metrics.", CORRECTION_LABELS,
-                     span=3)
+                     "Correction of α for several treatment arms and metrics. Dunnett's, for "
+                     "arms that share one control, needs fewer units than Bonferroni or Šidák; "
+                     "the table's α column shows the level of each comparison.",
+                     CORRECTION_LABELS, span=3)
         layout.addWidget(frame, 2)
 
         frame, grid = _group("Arms")
         self._spin(grid, 0, "arms", "Treatment arms", MAX_ARMS,
                    "Treatment arms, each compared with the one control arm.")
         self._number(grid, 1, 0, "ratio")
+        self._choice(grid, 0, 2, "allocation", "Split",
+                     "As set: each treatment arm gets the allocation's units per control unit. "
+                     "√k rule: the control gets √k times the units of each of the k treatment "
+                     "arms, which needs the fewest units in all; the summary says what it saves "
+                     "against an equal split.", ALLOCATION_LABELS)
         layout.addWidget(frame, 1)
 
         frame, grid = _group("Traffic")
@@ -311,7 +321,7 @@ class SettingsPanel(QWidget):
             self.refresh()
 
     def _on_change(self, change) -> None:
-        if change.kind in ("settings", "reset"):
+        if change.kind in ("settings", "scenario", "reset"):
             self.refresh()
 
     @staticmethod
@@ -325,11 +335,32 @@ class SettingsPanel(QWidget):
             return format_count(value)
         return format_number(value, sig=4)
 
+    def _base_text(self, field: str, value) -> str:
+        """A setting of the base in words, for a scenario field's tooltip."""
+        if isinstance(value, bool):
+            return "yes" if value else "no"
+        if isinstance(value, str):
+            return {**CORRECTION_LABELS, **SPENDING_LABELS}.get(value, value) or "empty"
+        return self.show_setting(field, value) or "none"
+
     def refresh(self) -> None:
-        """Show the plan's current settings (without sending commands)."""
+        """Show the plan's current settings (without sending commands); while a scenario is
+        on show, the fields it changes are marked and their tooltips give the base's value."""
         settings = self.document.plan.settings
+        whole = self.document.whole
+        changed = find(whole, whole.active).settings if whole.active is not None else {}
+        if self._tips is None:
+            self._tips = {field: widget.toolTip() for field, widget in self.fields.items()}
         for field, widget in self.fields.items():
             value = getattr(settings, field)
+            mark = field in changed
+            if bool(widget.property("changed")) != mark:
+                widget.setProperty("changed", mark)
+                widget.style().unpolish(widget)
+                widget.style().polish(widget)
+            base = self._base_text(field, getattr(whole.settings, field))
+            widget.setToolTip(self._tips[field] + (
+                f"\nChanged in scenario {whole.active} (base: {base})" if mark else ""))
             widget.blockSignals(True)
             if isinstance(widget, QCheckBox):
                 widget.setChecked(bool(value))
@@ -339,6 +370,9 @@ class SettingsPanel(QWidget):
                 widget.setCurrentIndex(max(widget.findData(value), 0))
             elif isinstance(widget, DescriptionEdit):
                 widget.show_text(value)
+            elif field == "ratio":
+                widget.setText(self.show_setting(field, treatment_ratio(settings)))
+                widget.setEnabled(settings.allocation == "fixed")
             elif field in NUMBER_FIELDS:
                 widget.setText(self.show_setting(field, value))
             else:

@@ -16,8 +16,9 @@ from __future__ import annotations
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPointF, Qt
 from PySide6.QtGui import QColor, QFont, QIcon, QPainter, QPixmap, QPolygonF
 
+from fourfold.plan import kinds
 from fourfold.ui import theme
-from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, SOLVED_COLUMN
+from fourfold.ui.columns import CHECK, CHOICE, COLUMN_KINDS, COLUMNS, NUMBER, SOLVED_COLUMN
 from fourfold.ui.document import PlanDocument
 from fourfold.ui.table_display import TableDisplay
 from fourfold.ui.table_editing import TableEditing
@@ -82,6 +83,9 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         self._italic.setItalic(True)
         self._bold = QFont()
         self._bold.setBold(True)
+        self._changes = self.scenario_changes()
+        self._scenario_tint = QColor(self._tints.accent)
+        self._scenario_tint.setAlpha(45)
         self._cache: dict[int, dict[tuple[int, int], object]] = {}  # row → (column, role)
         self._touched: set[int] | None = set()
         document.changed.connect(self._on_change)
@@ -115,6 +119,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
 
     def _on_change(self, change) -> None:
         kind = change.kind
+        self._changes = self.scenario_changes()
         if kind == "cells" and self._touched is not None:
             self._touched.update(change.rows)
             self._forget(change.rows)
@@ -205,6 +210,8 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         """Follow a change of the colour scheme."""
         self._tints = theme.tints(dark)
         self._marker = _marker_icon(self._tints.binding)
+        self._scenario_tint = QColor(self._tints.accent)
+        self._scenario_tint.setAlpha(45)
         self._cache.clear()
         if self._rows:
             self.dataChanged.emit(self.index(0, 0), self.index(len(self._rows) - 1,
@@ -242,7 +249,10 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         if key == "n":
             return (metric.solve == "sample_size"
                     or self.document.plan.settings.runtime_days is not None)
-        return key == "sd" and metric.kind == "proportion"
+        if key == "sd":
+            return metric.kind in ("proportion", *kinds.DERIVED_SD)
+        column = COLUMN_KINDS.get(key)
+        return column is not None and column != metric.kind
 
     def data(self, index, role=ROLE.DisplayRole):
         role = int(role)
@@ -284,6 +294,8 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
                 return self._tints.solved
             if col.computed:
                 return self._tints.computed
+            if self.changed_here(row, col.key):
+                return self._scenario_tint
             return None
         if role == ROLE.ForegroundRole:
             return self._foreground(row, column)

@@ -4,7 +4,9 @@
 date; the key figures (duration, total units, binding metric, arms and split) and the
 evaluation's notes; the assumptions (α, power, correction, traffic, share, rounding, interim
 looks); the metric rows as entered; the results, with the solved quantity of each row in bold
-and the binding row highlighted; interim looks when the plan has them; variance reduction and
+and the binding row highlighted; for a plan with scenarios the alternatives considered
+(:mod:`fourfold.export.pdf.alternatives`); what moves the duration; interim looks when the
+plan has them; variance reduction and
 clustering per row; each row's notes; the trade-off figures of every primary metric; and the
 published methods the rows use, with references. Every page carries ``fourfold.CAUTION`` and
 "page i of n" in its footer.
@@ -63,13 +65,16 @@ def application() -> QGuiApplication:
 
 
 def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
-              today: datetime.date | None = None) -> Path:
+              today: datetime.date | None = None, scenario: str | None = None) -> Path:
     """Write the plan's report to ``path``.
 
     Parameters
     ----------
     plan : fourfold.plan.Plan
         The plan; it is evaluated here with :func:`fourfold.plan.evaluation.compute`.
+    scenario : str, optional
+        The scenario the report documents (default: the base); the alternatives section
+        compares every scenario of ``plan``.
     path : path-like
         The PDF file; replaced only when the report is complete.
     page : {"a4", "letter"}
@@ -99,7 +104,9 @@ def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
     if page not in PAGES:
         raise ExportError(f"page must be one of {', '.join(PAGES)}; got {page!r}")
     from fourfold.plan.evaluation import compute
+    from fourfold.plan.scenarios import effective
 
+    whole, plan = plan, effective(plan, scenario)
     result = compute(plan)
     application()
     path = Path(path)
@@ -116,7 +123,7 @@ def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
         try:
             if not painter.begin(writer):
                 raise ExportError(f"cannot write {path}: the PDF writer could not open the file")
-            _render(painter, writer, plan, result, when)
+            _render(painter, writer, plan, result, when, (whole, scenario))
         finally:  # also when interrupted: a writer must not outlive its active painter
             ended = painter.end() if painter.isActive() else False
             del painter, writer
@@ -163,7 +170,8 @@ def pdf_problem(path: Path) -> str | None:
     return None
 
 
-def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.date) -> None:
+def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.date,
+            reported: tuple) -> None:
     width, height = float(writer.width()), float(writer.height())
 
     def pt(points: float) -> float:
@@ -174,7 +182,7 @@ def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.
     header_height = pt(24)
     flow = Flow(writer, width=width, top_first=0.0, top=header_height,
                 bottom=height - footer_height)
-    _content(flow, plan, result, when)
+    _content(flow, plan, result, when, reported)
     dated = f"{when.day} {when:%B %Y}"
     small = font(7.5)
     title = QFontMetricsF(small, writer).elidedText(clean(plan.settings.title),
@@ -206,10 +214,17 @@ def _roles(plan) -> str:
     return f"{len(plan.metrics)} {rows} ({', '.join(parts)})" if parts else f"0 {rows}"
 
 
-def _content(flow: Flow, plan, result, when: datetime.date) -> None:
+def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> None:
     s = plan.settings
+    whole, scenario = reported
     flow.paragraph("SAMPLE-SIZE PLAN", font(8, bold=True), ACCENT, after=2)
     flow.paragraph(s.title, font(19, bold=True), INK, spacing=1.1, after=5)
+    if whole.scenarios:
+        from fourfold.plan.scenarios import describe
+
+        shown = ("Base: the plan as entered" if scenario is None
+                 else f"Scenario {scenario}: {describe(whole, scenario)}")
+        flow.paragraph(shown, font(10, bold=True), ACCENT, spacing=1.2, after=5)
     flow.paragraph(f"Prepared {when.day} {when:%B %Y} with Fourfold {__version__} · "
                    f"{_roles(plan)}", font(8), MUTED, after=8)
     flow.paragraph(s.description, font(9.5), INK, spacing=1.3, after=10)
@@ -241,6 +256,7 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
     if not plan.metrics:
         flow.paragraph("The plan has no metric rows yet.", font(9), INK)
     flow.table(report.inputs_table(plan))
+    _kinds(flow, plan)
 
     flow.heading("Results")
     flow.paragraph("Units are rounded up to whole units. The quantity each row solves for is in "
@@ -248,6 +264,12 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
                    "level each comparison is tested at, after any correction.",
                    font(8), MUTED, spacing=1.25)
     flow.table(report.results_table(plan, result))
+
+    from fourfold.export.pdf.alternatives import alternatives, what_moves
+
+    if whole.scenarios:
+        alternatives(flow, whole, scenario)
+    what_moves(flow, plan, result, scenario or "the base")
 
     sequential = report.sequential_table(plan, result)
     if sequential is not None:
@@ -275,6 +297,21 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
         _entry(flow, [(method.name, font(8.5, bold=True), INK, 0, 1),
                       (method.text + used, font(8.5), INK, 10, 1),
                       (method.reference, font(8, italic=True), MUTED, 10, 6)])
+
+
+def _kinds(flow: Flow, plan) -> None:
+    """Ratio and quantile rows' own inputs, and each guardrail's test in words."""
+    own = report.kind_inputs_table(plan)
+    if own.rows:
+        flow.heading("Ratio and quantile rows", level=2)
+        flow.paragraph("Their per-unit sd comes from their own inputs: a ratio's by the delta "
+                       "method, a quantile's from the density at the quantile.", font(8), MUTED,
+                       spacing=1.25)
+        flow.table(own)
+    guardrails = report.direction_lines(plan)
+    if guardrails:
+        flow.heading("Guardrails in words", level=2)
+        flow.key_values(guardrails)
 
 
 def _simulation(flow: Flow, plan, result) -> None:
