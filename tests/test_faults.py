@@ -15,6 +15,7 @@ import json
 import os
 import shutil
 import signal
+import stat
 import subprocess
 import sys
 import textwrap
@@ -23,7 +24,7 @@ from pathlib import Path
 
 import pytest
 
-from fourfold import atomic, cli
+from fourfold import cli
 from fourfold.plan import Plan, PlanError, Settings, dumps, load, sample_path, save
 
 PARTS = ".*.part"
@@ -48,17 +49,29 @@ def _one_line_error(err: str, *words: str) -> None:
 
 # -- targets that are not regular files -----------------------------------------------------
 
+def _device(folder: Path, name: str) -> Path:
+    """A character device to write to: a null device of the test's own where the test may
+    make one (as root: a faulty writer then replaces only that), else a link to /dev/null,
+    which a process that is not root cannot replace."""
+    path = folder / name
+    if hasattr(os, "getuid") and os.getuid() == 0:
+        os.mknod(path, 0o666 | stat.S_IFCHR, os.makedev(1, 3))
+    else:
+        path.symlink_to(os.devnull)
+    assert path.is_char_device()
+    return path
+
+
 @pytest.mark.parametrize("suffix", [".csv", ".pdf", ".png"])
 def test_a_device_target_is_refused_and_left_a_device(tmp_path, capsys, suffix):
-    link = tmp_path / f"out{suffix}"
-    link.symlink_to(os.devnull)
-    command = "shot" if suffix == ".png" else "export"
-    argv = ("shot", "-o", link) if command == "shot" else ("export", sample_path(), "-o", link)
+    device = _device(tmp_path, f"out{suffix}")
+    argv = (("shot", "-o", device) if suffix == ".png"
+            else ("export", sample_path(), "-o", device))
     code, _, err = _run(capsys, *argv)
     assert code == 2
     _one_line_error(err, "is a device, not a regular file")
-    assert link.is_symlink() and Path(os.devnull).is_char_device()
-    assert _leftovers(tmp_path) == [] and _leftovers(Path(os.devnull).parent) == []
+    assert device.is_char_device() and Path(os.devnull).is_char_device()
+    assert _leftovers(tmp_path) == []
 
 
 def test_a_named_pipe_target_is_refused(tmp_path, capsys):
@@ -81,11 +94,10 @@ def test_a_nul_byte_in_the_output_name_is_refused(tmp_path, capsys):
 
 
 def test_saving_a_plan_onto_a_device_is_refused(tmp_path):
-    link = tmp_path / "plan.json"
-    link.symlink_to(os.devnull)
+    device = _device(tmp_path, "plan.json")
     with pytest.raises(PlanError, match="cannot save .*: it is a device"):
-        save(Plan.empty(), link)
-    assert Path(os.devnull).is_char_device()
+        save(Plan.empty(), device)
+    assert device.is_char_device() and Path(os.devnull).is_char_device()
 
 
 # -- a full disk -----------------------------------------------------------------------------
@@ -174,7 +186,7 @@ def full_disk(monkeypatch):
         room["left"] -= written
         return written
 
-    monkeypatch.setattr(atomic.os, "write", write)
+    monkeypatch.setattr(os, "write", write)
     return room
 
 
@@ -214,6 +226,8 @@ def test_a_recovery_copy_on_a_full_disk_keeps_the_previous_copy(tmp_path, full_d
 
 def test_a_writer_that_stops_short_is_caught_by_the_size_check(tmp_path, monkeypatch):
     # A file system that accepts the bytes but keeps fewer (the check after the flush).
+    from fourfold import atomic
+
     path = tmp_path / "plan.json"
     save(Plan.empty(), path)
     before = path.read_bytes()

@@ -13,16 +13,17 @@ from hypothesis import strategies as st
 from pypdf import PdfReader
 
 from fourfold.export.pdf import write_pdf
-from fourfold.export.pdf.flow import WORD_PIECE, clean
+from fourfold.export.pdf.flow import clean
 from fourfold.plan import load, sample_path
 
 
 @settings(max_examples=200, deadline=None)
-@given(st.text(st.sampled_from("ab \n\t\u00a0é🌱\u200b"), max_size=200))
+@given(st.text(st.sampled_from("ab \n\t\u00a0é🌱\u200b"), max_size=200)
+       | st.sampled_from(["x" * 10_000, "a b " + "é" * 300 + "\n🌱"]))
 def test_no_run_of_the_laid_out_text_is_longer_than_a_piece(text):
     laid_out = clean(text)
     runs = re.split(r"[\s\u200b]+", laid_out)
-    assert max((len(run) for run in runs), default=0) <= WORD_PIECE
+    assert max((len(run) for run in runs), default=0) <= 64
     original = text.replace("\r\n", "\n").replace("\n", "\u2028").replace("\t", " ")
     assert laid_out.replace("\u200b", "") == original.replace("\u200b", "")
 

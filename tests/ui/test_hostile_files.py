@@ -28,7 +28,7 @@ HOSTILE = {
 }
 
 
-@pytest.mark.parametrize("name", list(HOSTILE))
+@pytest.mark.parametrize("name", list(HOSTILE), ids=list(HOSTILE))
 def test_opening_a_hostile_plan_shows_why_and_keeps_the_plan(make_window, tmp_path, name):
     text, words = HOSTILE[name]
     assert text != SAMPLE
@@ -79,7 +79,9 @@ def started(monkeypatch, tmp_path, qapp):
 
 
 @pytest.mark.parametrize("damage", ["1" + "0" * 400, "1" + "0" * 4400, "[" * 100_000,
-                                    '{"format": "fourfold-plan"', "\udcff"])
+                                    '{"format": "fourfold-plan"', "\udcff"],
+                         ids=["above 1e308", "4,400 digits", "deep nesting", "cut off",
+                              "undecodable byte"])
 def test_a_damaged_recovery_copy_is_set_aside_and_the_window_starts(started, damage):
     data, start = started
     copy = data / "recovery-crashed.json"
