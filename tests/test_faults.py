@@ -93,6 +93,57 @@ def test_a_nul_byte_in_the_output_name_is_refused(tmp_path, capsys):
     assert list(tmp_path.iterdir()) == []
 
 
+@pytest.mark.parametrize("argv", [
+    ["export", "plan\x00.json", "-o", "out.csv"], ["shot", "plan\x00.json", "-o", "out.png"],
+    ["open", "plan\x00.json"], ["history", "data\x00.csv", "--mean", "x"],
+    ["history", "--query-result", "result\x00.csv", "--mean", "x"],
+], ids=["export", "shot", "open", "history", "query-result"])
+def test_a_nul_byte_in_an_input_name_is_refused(tmp_path, capsys, monkeypatch, argv):
+    monkeypatch.chdir(tmp_path)
+    code, _, err = _run(capsys, *argv)
+    assert code == 2
+    _one_line_error(err, "NUL character", "\\x00")
+    assert list(tmp_path.iterdir()) == []
+
+
+READ_ONLY = textwrap.dedent("""
+    set -u
+    mount -t tmpfs -o size=64k tmpfs "$DISK"
+    printf 'old table' > "$DISK/plan.csv"
+    mount -o remount,ro "$DISK"
+    "$PYTHON" -m fourfold export "$PLAN" -o "$DISK/plan.csv"; echo "csv $?"
+    "$PYTHON" -m fourfold export "$PLAN" -o "$DISK/plan.pdf"; echo "pdf $?"
+    echo "kept $(cat "$DISK/plan.csv")"
+""")
+
+
+def test_an_unwritable_folder_fails_with_one_line_and_keeps_the_old_file(tmp_path, capsys):
+    if hasattr(os, "getuid") and os.getuid() != 0:  # permissions hold for this user
+        folder = tmp_path / "locked"
+        folder.mkdir()
+        (folder / "plan.csv").write_text("old table")
+        folder.chmod(0o500)
+        try:
+            code, _, err = _run(capsys, "export", sample_path(), "-o", folder / "plan.csv")
+        finally:
+            folder.chmod(0o700)
+        assert code == 2
+        _one_line_error(err, "cannot write", "Permission denied")
+        assert (folder / "plan.csv").read_text() == "old table"
+        return
+    if not _can_mount_tmpfs():  # root ignores permissions: a read-only file system instead
+        pytest.skip("no private tmpfs on this machine")
+    disk = tmp_path / "disk"
+    disk.mkdir()
+    env = dict(os.environ, DISK=str(disk), PYTHON=sys.executable, PLAN=str(sample_path()),
+               QT_QPA_PLATFORM="offscreen")
+    done = subprocess.run(["unshare", "-rm", "sh", "-c", READ_ONLY], env=env,
+                          capture_output=True, text=True, timeout=120)
+    assert done.stdout.split("\n")[:3] == ["csv 2", "pdf 2", "kept old table"], done.stdout
+    errors = done.stderr.strip().splitlines()
+    assert len(errors) == 2 and all("Read-only file system" in e for e in errors), errors
+
+
 def test_saving_a_plan_onto_a_device_is_refused(tmp_path):
     device = _device(tmp_path, "plan.json")
     with pytest.raises(PlanError, match="cannot save .*: it is a device"):

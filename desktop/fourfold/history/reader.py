@@ -62,6 +62,8 @@ def read_columns(path: str | os.PathLike) -> list[str]:
         mid-line.
     """
     path = Path(path)
+    if "\x00" in str(path):
+        raise HistoryError(f"{str(path)!r}: the file name holds a NUL character")
     if not path.is_file():
         raise HistoryError(f"{path}: no such file")
     if is_parquet(path):

@@ -203,6 +203,8 @@ def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
 def read_warehouse_file(path: str | os.PathLike, mapping: Sequence[ColumnMap]) -> HistorySummary:
     """:func:`read_warehouse_result` of a small saved result file (up to 1 MB)."""
     path = Path(path)
+    if "\x00" in str(path):
+        raise HistoryError(f"{str(path)!r}: the file name holds a NUL character")
     try:
         with open(path, "rb") as handle:
             data = handle.read(_MAX_RESULT_BYTES + 1)

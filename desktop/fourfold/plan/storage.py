@@ -335,6 +335,8 @@ def load(path: str | os.PathLike) -> Plan:
         For an unreadable file (naming it) or any fault :func:`loads` reports.
     """
     path = pathlib.Path(path)
+    if "\x00" in str(path):
+        raise PlanError(f"cannot read {str(path)!r}: the file name holds a NUL character")
     try:
         text = path.read_text(encoding="utf-8-sig")
     except (OSError, UnicodeDecodeError) as error:
