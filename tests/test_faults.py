@@ -62,11 +62,12 @@ def _device(folder: Path, name: str) -> Path:
     return path
 
 
-@pytest.mark.parametrize("suffix", [".csv", ".pdf", ".png"])
-def test_a_device_target_is_refused_and_left_a_device(tmp_path, capsys, suffix):
+@pytest.mark.parametrize("command, suffix", [("export", ".csv"), ("export", ".pdf"),
+                                             ("shot", ".png"), ("compare", ".csv")])
+def test_a_device_target_is_refused_and_left_a_device(tmp_path, capsys, command, suffix):
     device = _device(tmp_path, f"out{suffix}")
-    argv = (("shot", "-o", device) if suffix == ".png"
-            else ("export", sample_path(), "-o", device))
+    argv = ((command, "-o", device) if command == "shot"
+            else (command, sample_path(), "-o", device))
     code, _, err = _run(capsys, *argv)
     assert code == 2
     _one_line_error(err, "is a device, not a regular file")
