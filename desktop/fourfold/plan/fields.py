@@ -123,7 +123,10 @@ which is not a character; remove it
 
 
 def _magnitude(value: Any) -> str:
-    """An infinite or too large number as a message shows it."""
+    """An infinite or too large number as a message shows it (as written in a file)."""
+    if hasattr(value, "text"):
+        return shown(value.text, 30)[1:-1] if len(value.text) < 30 else \
+            f"a number of {len(value.text):,} characters ({value.text[:12]}…)"
     if isinstance(value, numbers.Integral):
         digits = len(str(abs(int(value)))) if abs(int(value)).bit_length() < 14000 else None
         return f"a whole number of {digits:,} digits" if digits else "a whole number"

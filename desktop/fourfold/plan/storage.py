@@ -36,6 +36,7 @@ from __future__ import annotations
 import copy
 import dataclasses
 import json
+import math
 import os
 import pathlib
 from typing import Any
@@ -68,8 +69,9 @@ KINDS_METRIC_FIELDS = ("unit", "better", "denominator", "numerator_sd", "denomin
                        "second_value")
 KINDS_SETTINGS_FIELDS = ("allocation",)
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
-MAX_DIGITS = 400
-"""Longest JSON integer read exactly (larger ones are beyond any float and are refused)."""
+MAX_DIGITS = 4000
+"""Longest JSON integer read exactly (below Python's 4,300-digit limit; any integer past 309
+digits is beyond a double and refused by the field's check)."""
 
 
 def sample_path() -> pathlib.Path:
@@ -265,10 +267,28 @@ def _unique(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
     return seen
 
 
+class Beyond(float):
+    """A JSON number beyond a double: ±inf that remembers how the file wrote it, so that the
+    field's check refuses it by name and shows it (instead of Python's digit limit failing the
+    whole file, or a message about "inf" the file never said)."""
+
+    text: str
+
+    def __new__(cls, text: str) -> Beyond:
+        number = super().__new__(cls, -math.inf if text.startswith("-") else math.inf)
+        number.text = text
+        return number
+
+
 def _whole_number(text: str) -> int | float:
-    """A JSON integer: exact up to :data:`MAX_DIGITS` digits, beyond that a float (inf), which
-    the field's check then refuses by name instead of Python's digit limit failing the file."""
-    return int(text) if len(text) <= MAX_DIGITS else float(text)
+    """A JSON integer: exact up to :data:`MAX_DIGITS` digits, beyond that :class:`Beyond`."""
+    return int(text) if len(text) <= MAX_DIGITS else Beyond(text)
+
+
+def _real_number(text: str) -> float:
+    """A JSON number with a fraction or exponent; :class:`Beyond` past ±1.8e308."""
+    number = float(text)
+    return Beyond(text) if math.isinf(number) else number
 
 
 def parse_json(text: str) -> Any:
@@ -289,7 +309,8 @@ file names each field once
 levels deep)
     """
     try:
-        return json.loads(text, object_pairs_hook=_unique, parse_int=_whole_number)
+        return json.loads(text, object_pairs_hook=_unique, parse_int=_whole_number,
+                          parse_float=_real_number)
     except json.JSONDecodeError as error:
         raise PlanError(
             f"not valid JSON: {error.msg} at line {error.lineno}, column {error.colno}", None
