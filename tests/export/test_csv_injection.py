@@ -43,7 +43,7 @@ def test_every_variant_is_quoted_in_the_export_and_numbers_stay_numeric(tmp_path
     rows, settings_rows = _exported(tmp_path, VARIANTS)
     for text, row in zip(VARIANTS, rows, strict=True):
         assert row["notes"] == "'" + text, text
-        assert float(row["baseline"]) == 0.031 and float(row["effect_input"]) == 0.05
+        assert float(row["baseline"]) == 0.031 and float(row["effect_input_rel_frac"]) == 0.05
         assert row["units_control"].replace(".", "").isdigit()
     assert settings_rows["description"] == "'" + VARIANTS[0]
 

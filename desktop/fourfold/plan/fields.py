@@ -52,6 +52,7 @@ MAX_ARMS = 20
 MAX_LOOKS = 20
 MAX_TEXT = 200
 _SURROGATE = re.compile("[\ud800-\udfff]")
+MAX_DAYS = 3650
 MAX_UNIT = 20
 
 
@@ -186,6 +187,17 @@ def _integer(low: int, high: int) -> Callable[[str, Any], int]:
     return check
 
 
+def _whole_days(field: str, value: Any) -> float | None:
+    """A whole number of days from 1 to MAX_DAYS, or empty (days are counted whole everywhere)."""
+    if value is None:
+        return None
+    number = _number(field, value)
+    if number != int(number) or not 1 <= number <= MAX_DAYS:
+        raise PlanError(f"{field} must be a whole number of days from 1 to {MAX_DAYS}, or empty; "
+                        f"got {number:g}", field)
+    return number
+
+
 def _choice(choices: tuple[str, ...]) -> Callable[[str, Any], str]:
     def check(field: str, value: Any) -> str:
         if not isinstance(value, str) or value not in choices:
@@ -296,7 +308,7 @@ _SETTINGS_RULES: dict[str, Callable[[str, Any], Any]] = {
     "daily_units": _ranged(0.0, None, optional=True),
     "share": _ranged(0.0, 1.0, high_open=False),
     "whole_weeks": _flag,
-    "runtime_days": _ranged(0.0, None, optional=True),
+    "runtime_days": _whole_days,
     "looks": _integer(1, MAX_LOOKS),
     "spending": _choice(SPENDING),
     "futility": _flag,
