@@ -134,12 +134,7 @@ def test_an_unwritable_folder_fails_with_one_line_and_keeps_the_old_file(tmp_pat
         return
     if not _can_mount_tmpfs():  # root ignores permissions: a read-only file system instead
         pytest.skip("no private tmpfs on this machine")
-    disk = tmp_path / "disk"
-    disk.mkdir()
-    env = dict(os.environ, DISK=str(disk), PYTHON=sys.executable, PLAN=str(sample_path()),
-               QT_QPA_PLATFORM="offscreen")
-    done = subprocess.run(["unshare", "-rm", "sh", "-c", READ_ONLY], env=env,
-                          capture_output=True, text=True, timeout=120)
+    done = _in_private_tmpfs(tmp_path, READ_ONLY)
     assert done.stdout.split("\n")[:3] == ["csv 2", "pdf 2", "kept old table"], done.stdout
     errors = done.stderr.strip().splitlines()
     assert len(errors) == 2 and all("Read-only file system" in e for e in errors), errors
@@ -160,6 +155,17 @@ def _can_mount_tmpfs() -> bool:
     probe = subprocess.run(["unshare", "-rm", "sh", "-c", "mount -t tmpfs -o size=8k tmpfs /mnt"],
                            capture_output=True)
     return probe.returncode == 0
+
+
+def _in_private_tmpfs(tmp_path: Path, script: str) -> subprocess.CompletedProcess:
+    """Run the shell ``script`` as root of a private user and mount namespace, with ``$DISK``
+    an empty folder to mount on, ``$PYTHON`` this interpreter and ``$PLAN`` the sample plan."""
+    disk = tmp_path / "disk"
+    disk.mkdir()
+    env = dict(os.environ, DISK=str(disk), PYTHON=sys.executable, PLAN=str(sample_path()),
+               QT_QPA_PLATFORM="offscreen")
+    return subprocess.run(["unshare", "-rm", "sh", "-c", script], env=env,
+                          capture_output=True, text=True, timeout=120)
 
 
 FULL_DISK = textwrap.dedent("""
@@ -186,12 +192,7 @@ FULL_DISK = textwrap.dedent("""
 
 @pytest.mark.skipif(not _can_mount_tmpfs(), reason="no private tmpfs on this machine")
 def test_a_full_disk_fails_every_writer_and_keeps_the_old_files(tmp_path):
-    disk = tmp_path / "disk"
-    disk.mkdir()
-    env = dict(os.environ, DISK=str(disk), PYTHON=sys.executable, PLAN=str(sample_path()),
-               QT_QPA_PLATFORM="offscreen")
-    done = subprocess.run(["unshare", "-rm", "sh", "-c", FULL_DISK], env=env,
-                          capture_output=True, text=True, timeout=120)
+    done = _in_private_tmpfs(tmp_path, FULL_DISK)
     lines = done.stdout.splitlines()
     assert "pdf 2" in lines and "csv 2" in lines and "png 2" in lines, done.stdout
     assert "plan.pdf old report" in lines and "plan.csv old table" in lines

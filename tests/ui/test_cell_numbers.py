@@ -12,36 +12,11 @@ from __future__ import annotations
 import math
 
 import pytest
+from cell_typing import type_in_cell
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from PySide6.QtCore import QEvent, Qt
-from PySide6.QtGui import QKeyEvent
-from PySide6.QtWidgets import QApplication, QLineEdit
 
 from fourfold.formatting import ParseError, parse_number
-from fourfold.ui.columns import column_index
-
-
-def _editor(table):
-    editors = [child for child in table.viewport().findChildren(QLineEdit) if child.isVisible()]
-    return editors[0] if len(editors) == 1 else None
-
-
-def _type(window, qtbot, row: int, key: str, text: str) -> None:
-    table = window.table
-    table.setCurrentIndex(window.model.index(row, column_index(key)))
-    table.setFocus()
-    qtbot.keyClick(table, Qt.Key.Key_Return)
-    editor = _editor(table)
-    assert editor is not None
-    editor.selectAll()
-    for character in text:  # what a keyboard layout or input method sends for each character
-        for kind in (QEvent.Type.KeyPress, QEvent.Type.KeyRelease):
-            QApplication.sendEvent(editor, QKeyEvent(kind, Qt.Key.Key_unknown,
-                                                     Qt.KeyboardModifier.NoModifier, character))
-    assert editor.text() == text
-    qtbot.keyClick(editor, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: _editor(table) is None)
 
 
 @pytest.mark.parametrize("text, key, row, expected", [
@@ -56,7 +31,7 @@ def test_digits_of_any_script_are_read_as_those_digits(make_window, qtbot, text,
                                                        expected):
     window = make_window()
     window.show()
-    _type(window, qtbot, row, key, text)
+    type_in_cell(qtbot, window, row, key, text)
     assert getattr(window.document.plan.metrics[row], key) == pytest.approx(expected,
                                                                            rel=1e-15)
 
@@ -75,7 +50,7 @@ def test_a_refused_number_keeps_the_old_value_and_says_why(make_window, qtbot, t
     window.show()
     row = 1
     before = getattr(window.document.plan.metrics[row], key)
-    _type(window, qtbot, row, key, text)
+    type_in_cell(qtbot, window, row, key, text)
     assert getattr(window.document.plan.metrics[row], key) == before
     assert words in window.statusBar().currentMessage()
 
