@@ -124,6 +124,7 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         if self.model.rowCount():
             self.table.setCurrentIndex(self.model.index(0, 0))
         self.table.setFocus()
+        self.name_actions()
 
     # -- document state -----------------------------------------------------------------
 

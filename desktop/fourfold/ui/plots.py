@@ -37,6 +37,12 @@ class FigureGrid(pg.GraphicsView):
         self.figures = TradeoffFigures(style or style_from_palette(self.palette()))
         self.setCentralItem(self.figures)
         self.setBackground(self.figures.style.background)
+        # pyqtgraph's scene offers "Export..." in the context menus of its items; the figures
+        # have none, so it could never be reached (the PDF report exports the figures)
+        scene = self.scene()
+        for action in scene.contextMenu:
+            action.setParent(None)
+        scene.contextMenu = []
 
     @property
     def plots(self) -> dict:

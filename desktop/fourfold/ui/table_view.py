@@ -110,7 +110,7 @@ class PlanTableView(QTableView):
         model = self.model()
         if model is not None and model.rowCount():
             self.widen_columns(model.index(0, 0),
-                               model.index(model.rowCount() - 1, model.columnCount() - 1))
+                               model.index(model.rowCount() - 1, model.columnCount() - 1), ())
 
     def follow_looks(self) -> None:
         """Show the interim-look columns only while the plan has more than one look."""
@@ -176,7 +176,7 @@ class PlanTableView(QTableView):
             wanted = max(title, min(content, MAX_COLUMN_CHARS * char), column.width * char)
             self.setColumnWidth(position, wanted)
 
-    def widen_columns(self, top_left, bottom_right, roles=()) -> None:
+    def widen_columns(self, top_left, bottom_right, roles) -> None:
         """Widen the number and result columns whose changed cells no longer fit.
 
         Connected to the model's ``dataChanged``: only the announced cells in rows on screen

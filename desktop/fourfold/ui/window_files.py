@@ -120,11 +120,14 @@ class WindowFiles:
         recent = self.recent_files()
         for number, path in enumerate(recent, start=1):
             action = self.recent_menu.addAction(f"&{number} {pathlib.Path(path).name}")
+            action.setObjectName("recent_file_action")
             action.setToolTip(path)
             action.triggered.connect(lambda _=False, p=path: self.may_discard()
                                      and self.open_path(p))
         if not recent:
-            self.recent_menu.addAction("No recent plans").setEnabled(False)
+            placeholder = self.recent_menu.addAction("No recent plans")
+            placeholder.setObjectName("no_recent_action")
+            placeholder.setEnabled(False)
 
     def _export_path(self, suffix: str, title: str) -> str:
         base = self.document.path.with_suffix(suffix) if self.document.path else \
