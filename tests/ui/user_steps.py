@@ -6,8 +6,10 @@ through their editors, file dialogs are answered with a path. Helpers only; no t
 
 from __future__ import annotations
 
+import shiboken6
 from PySide6.QtCore import QPoint, Qt
 from PySide6.QtGui import QAction, QKeySequence
+from PySide6.QtTest import QTest
 from PySide6.QtWidgets import QApplication, QComboBox, QFileDialog, QLineEdit, QWidget
 
 from fourfold.ui.columns import column_index
@@ -31,9 +33,19 @@ def focused() -> QWidget:
 
 
 def press(qtbot, keys: str | QKeySequence, widget: QWidget | None = None) -> None:
-    """Press one key chord ("Ctrl+Shift+N") on ``widget`` (default: the focused widget)."""
+    """Press one key chord ("Ctrl+Shift+N") on ``widget`` (default: the focused widget).
+
+    Then the modifier keys are let go, as on a keyboard: QTest's release of the chord still
+    carries them, and Qt would go on believing Ctrl is held (a later click then toggles the
+    selection instead of setting it).
+    """
     chord = QKeySequence(keys)[0]
-    qtbot.keyClick(widget or focused(), chord.key(), chord.keyboardModifiers())
+    target = widget or focused()
+    qtbot.keyClick(target, chord.key(), chord.keyboardModifiers())
+    if chord.keyboardModifiers() != Qt.KeyboardModifier.NoModifier:
+        let_go = QApplication.focusWidget() or (target if shiboken6.isValid(target) else None)
+        if let_go is not None:
+            QTest.keyRelease(let_go, Qt.Key.Key_Control)
 
 
 def press_each_shortcut(qtbot, action: QAction, after=None) -> None:
@@ -68,7 +80,7 @@ def type_into_cell(qtbot, window, row: int, key: str, text: str) -> None:
     qtbot.keyClick(table, Qt.Key.Key_Return)
     editor = cell_editor(table)
     assert isinstance(editor, QLineEdit) and QApplication.focusWidget() is editor
-    qtbot.keyClick(editor, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    press(qtbot, "Ctrl+A", editor)
     qtbot.keyClicks(editor, text)
     qtbot.keyClick(editor, Qt.Key.Key_Return)
     qtbot.waitUntil(lambda: cell_editor(table) is None or cell_editor(table) is not editor)

@@ -9,6 +9,7 @@ recomputed and redrawn once per burst.
 from __future__ import annotations
 
 import pathlib
+import re
 
 from PySide6.QtCore import QObject, QTimer, Signal
 
@@ -16,6 +17,25 @@ from fourfold.errors import FourfoldError
 from fourfold.plan import Plan
 from fourfold.plan.commands import CommandStack
 from fourfold.plan.evaluation import RowCache, compute
+
+UNTITLED = "Untitled plan"
+_NOT_IN_FILE_NAMES = re.compile(r'[\\/:*?"<>|\x00-\x1f]+')
+MAX_NAME_CHARS = 80
+
+
+def file_name_for(title: str) -> str:
+    """A plan file's name made from its title: characters that file systems refuse become
+    spaces, runs of spaces one, and the name stays short enough for any file system.
+
+    Examples
+    --------
+    >>> file_name_for("Quillmoss Garden Supply — checkout redesign")
+    'Quillmoss Garden Supply — checkout redesign.json'
+    >>> file_name_for("Q3: price test / EU"), file_name_for("  ")
+    ('Q3 price test EU.json', 'Untitled plan.json')
+    """
+    name = " ".join(_NOT_IN_FILE_NAMES.sub(" ", title).split())[:MAX_NAME_CHARS].strip(" .")
+    return f"{name or UNTITLED}.json"
 
 
 class PlanDocument(QObject):
@@ -69,8 +89,15 @@ class PlanDocument(QObject):
 
     @property
     def file_name(self) -> str:
-        """The file's name for the window title ("untitled.json" before the first save)."""
-        return self.path.name if self.path is not None else "untitled.json"
+        """The file's name; before the first save, a name made from the plan's title."""
+        return self.path.name if self.path is not None else file_name_for(self.plan.settings.title)
+
+    @property
+    def display_name(self) -> str:
+        """What the window's title calls the plan: its file's name, or its title until saved."""
+        if self.path is not None:
+            return self.path.name
+        return " ".join(self.plan.settings.title.split()) or UNTITLED
 
     def replace(self, plan: Plan, path: str | pathlib.Path | None, *,
                 unsaved: bool = False) -> None:

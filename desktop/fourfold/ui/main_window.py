@@ -133,6 +133,7 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         self.statusBar().showMessage(text, 12_000)
 
     def _after_change(self) -> None:
+        self.setWindowTitle(f"{self.document.display_name}[*] — Fourfold")
         stack = self.document.stack
         self.undo_action.setEnabled(stack.can_undo)
         self.redo_action.setEnabled(stack.can_redo)
@@ -141,7 +142,7 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         self.setWindowModified(self.document.dirty)
 
     def _after_replace(self) -> None:
-        self.setWindowTitle(f"{self.document.file_name}[*] — Fourfold")
+        self.setWindowTitle(f"{self.document.display_name}[*] — Fourfold")
         if self.isVisible():  # a window being built is fitted when it is first shown
             self.fit_table()
 
