@@ -118,16 +118,17 @@ class PlanDocument(QObject):
         self.stack.mark_clean()
         self.history.emit()
 
-    def apply(self, command, *, merge: bool = False) -> bool:
+    def apply(self, command, *, merge: bool = False, explain=None) -> bool:
         """Run a command; a refused value is reported on ``message`` and changes nothing.
 
         ``merge=True`` folds a repeated edit of the same cell (a dragged effect) into one
-        undo step.
+        undo step. ``explain(text)``, when given, turns the refusal into the message shown
+        (naming the cell, say).
         """
         try:
             self.stack.do(command, merge=merge)
         except FourfoldError as error:
-            self.message.emit(str(error))
+            self.message.emit(explain(str(error)) if explain is not None else str(error))
             return False
         return True
 

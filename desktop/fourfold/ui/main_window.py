@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import dataclasses
 
-from PySide6.QtCore import QSettings, Qt, QTimer
+from PySide6.QtCore import QItemSelectionModel, QSettings, Qt, QTimer
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import (
     QApplication,
@@ -102,8 +102,11 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
 
         self._build_actions()
         self._build_menus()
-        for source in (self.document.message, self.settings_panel.message, self.table.message):
-            source.connect(self.show_message)
+        self._problem: str | None = None
+        for source in (self.document.message, self.settings_panel.message, self.table.problem):
+            source.connect(self.show_problem)
+        self.table.message.connect(self.show_message)
+        self.document.changed.connect(self._clear_problem)
         self.document.history.connect(self._after_change)
         self.document.replaced.connect(self._after_replace)
         self.document.computed.connect(self._show_computed)
@@ -129,8 +132,19 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
     # -- document state -----------------------------------------------------------------
 
     def show_message(self, text: str) -> None:
-        """Show ``text`` in the status line (refused edits, paste reports, saves)."""
+        """Show ``text`` in the status line (paste reports, saves)."""
+        self._problem = None
         self.statusBar().showMessage(text, 12_000)
+
+    def show_problem(self, text: str) -> None:
+        """Show why something was refused; it stays until the plan next changes."""
+        self.statusBar().showMessage(text, 30_000)
+        self._problem = text
+
+    def _clear_problem(self, _change) -> None:
+        if self._problem is not None and self.statusBar().currentMessage() == self._problem:
+            self.statusBar().clearMessage()
+        self._problem = None
 
     def _after_change(self) -> None:
         self.setWindowTitle(f"{self.document.display_name}[*] — Fourfold")
@@ -204,16 +218,23 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
             rows = {current.row()}
         return sorted(rows)
 
-    def _select_row(self, row: int) -> None:
-        column = max(self.table.currentIndex().column(), 0)
-        self.table.setCurrentIndex(self.model.index(row, column))
+    def select_cell(self, row: int, column: int | None = None) -> None:
+        """Make a cell current and the only one selected (in the current column by default).
+
+        Not ``setCurrentIndex``: run from a shortcut such as Ctrl+D, it would read the held
+        Ctrl as "add to the selection", and a following Ctrl+Del would delete both rows.
+        """
+        if column is None:
+            column = max(self.table.currentIndex().column(), 0)
+        self.table.selectionModel().setCurrentIndex(
+            self.model.index(row, column), QItemSelectionModel.SelectionFlag.ClearAndSelect)
 
     def add_metric(self) -> None:
         """Insert a new metric row below the current one."""
         rows = self.selected_rows()
         row = rows[-1] + 1 if rows else self.model.rowCount()
         if self.document.apply(InsertMetrics(row, [Metric()])):
-            self._select_row(row)
+            self.select_cell(row)
             self.table.edit(self.model.index(row, 0))
 
     def duplicate_metrics(self) -> None:
@@ -226,14 +247,14 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
             metric = self.document.plan.metrics[row]
             copies.append(dataclasses.replace(metric, name=f"{metric.name} (copy)"[:200]))
         if self.document.apply(InsertMetrics(rows[-1] + 1, copies)):
-            self._select_row(rows[-1] + 1)
+            self.select_cell(rows[-1] + 1)
 
     def delete_metrics(self) -> None:
         """Remove the selected rows (undo brings them back)."""
         rows = self.selected_rows()
         if rows and self.document.apply(RemoveMetrics(rows)):
             if self.model.rowCount():
-                self._select_row(min(rows[0], self.model.rowCount() - 1))
+                self.select_cell(min(rows[0], self.model.rowCount() - 1))
             self.show_message(f"Removed {len(rows)} row(s); Undo brings them back")
 
     def move_metric(self, step: int) -> None:
@@ -244,7 +265,7 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         target = current.row() + step
         if 0 <= target < self.model.rowCount() and self.document.apply(
                 MoveMetric(current.row(), target)):
-            self.table.setCurrentIndex(self.model.index(target, current.column()))
+            self.select_cell(target, current.column())
 
     # -- events and dialogs ---------------------------------------------------------------
 

@@ -12,8 +12,10 @@ import dataclasses
 from PySide6.QtCore import Qt
 
 from fourfold.errors import FourfoldError
+from fourfold.formatting import format_number
 from fourfold.plan import CHOICES, Metric
 from fourfold.plan.commands import SetField
+from fourfold.plan.fields import validate_field
 from fourfold.ui import cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, TEXT
 
@@ -166,10 +168,27 @@ class TableEditing:
         try:
             parsed = self.parse(row, column, value)
         except FourfoldError as error:
-            self.document.message.emit(str(error))
+            self.document.message.emit(self.refusal(row, column, str(error)))
             return False
         if parsed == getattr(self._rows[row], col.key) and type(parsed) is type(
             getattr(self._rows[row], col.key)
         ):
             return True
-        return self.document.apply(SetField(row, col.key, parsed))
+        return self.document.apply(SetField(row, col.key, parsed),
+                                   explain=lambda text: self.refusal(row, column, text, parsed))
+
+    def refusal(self, row: int, column: int, text: str, value=None) -> str:
+        """The message for a refused cell: its column and row, why, and a hint when a number
+        typed in percent was meant (``90`` for a power of 90 %)."""
+        col = COLUMNS[column]
+        prefix = f"{col.label}: "
+        reason = text[len(prefix):] if text.startswith(prefix) else text
+        message = f"{col.label} of row {row + 1} “{self._rows[row].name}”: {reason}"
+        if isinstance(value, float) and 1 < value <= 100 and cells.unit(
+                self._rows[row], col.key) is None:
+            try:
+                validate_field(col.key, value / 100, kind=self._rows[row].kind)
+            except FourfoldError:
+                return message
+            return f"{message} — for {format_number(value)} percent, type {format_number(value)} %"
+        return message
