@@ -7,7 +7,7 @@ through their editors, file dialogs are answered with a path. Helpers only; no t
 from __future__ import annotations
 
 import shiboken6
-from PySide6.QtCore import QPoint, Qt
+from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtTest import QTest
 from PySide6.QtWidgets import QApplication, QComboBox, QFileDialog, QLineEdit, QWidget
@@ -127,3 +127,16 @@ def drag(qtbot, widget: QWidget, start: QPoint, end: QPoint, steps: int = 8) -> 
         point = start + (end - start) * step / steps
         qtbot.mouseMove(widget, point)
     qtbot.mouseRelease(widget, Qt.MouseButton.LeftButton, pos=end)
+
+
+def drag_effect_marker(qtbot, window, to: float) -> None:
+    """Drag the effect marker of the plots with the mouse to ``to`` (in the axis's units)."""
+    grid = window.plots.grid
+    box = grid.plots["effect"].item.vb
+    (_left, _right), (bottom, top) = box.viewRange()
+    height = bottom + 0.4 * (top - bottom)
+
+    def point(x: float) -> QPoint:
+        return grid.mapFromScene(box.mapViewToScene(QPointF(x, height)))
+
+    drag(qtbot, grid.viewport(), point(grid.handle.value()), point(to))

@@ -23,11 +23,39 @@ from PySide6.QtWidgets import QApplication
 from fourfold.figures.simulation_marks import show_simulation
 from fourfold.figures.style import Style, paper, style_from_palette
 from fourfold.figures.tradeoff_plot import TICK_POINTS, FigurePlot
+from fourfold.formatting import format_number, format_percent
 from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import Tradeoffs, tradeoffs
 
 SCREEN_DPI = 96.0
 _GRID = ((0, 0), (0, 1), (1, 0), (1, 1))
+HANDLE_ARROW = "  ⟷"
+
+
+def effect_text(effect: float, unit: str) -> str:
+    """An effect as the plan table shows it: "+3.0 %", "−0.15 pp", "+0.12" (display units:
+    percent or percentage points when ``unit`` says so, the metric's own units otherwise).
+
+    Examples
+    --------
+    >>> effect_text(3.0, "%"), effect_text(-0.155, "pp"), effect_text(0.12, ""), effect_text(0, "%")
+    ('+3.0 %', '−0.155 pp', '+0.12', '0')
+    """
+    if effect == 0:
+        return "0"
+    if unit:
+        return format_percent(effect / 100.0, signed=True, suffix=unit)
+    return format_number(effect, sig=3, signed=True)
+
+
+class _MarkerLabel:
+    """The effect marker's text: pyqtgraph calls ``format(value=...)`` as on a format string."""
+
+    def __init__(self, unit: str) -> None:
+        self.unit = unit
+
+    def format(self, value: float) -> str:
+        return effect_text(value, self.unit) + HANDLE_ARROW
 
 
 class TradeoffFigures(pg.GraphicsLayout):
@@ -106,8 +134,7 @@ class TradeoffFigures(pg.GraphicsLayout):
         if visible:
             low, high = (v * data.effect_scale for v in data.effect_span)
             self.handle.setBounds((low, high))
-            unit = f" {data.effect_unit}" if data.effect_unit else ""
-            self.handle.label.setFormat("{value:+.3g}" + unit + "  ⟷")
+            self.handle.label.setFormat(_MarkerLabel(data.effect_unit))
             if not keep_handle:
                 self.handle.setValue(x)
 

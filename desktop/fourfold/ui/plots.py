@@ -17,8 +17,7 @@ from PySide6.QtWidgets import QHBoxLayout, QLabel, QSlider, QVBoxLayout, QWidget
 
 from fourfold.figures.simulation_marks import show_simulation
 from fourfold.figures.style import Style, style_from_palette
-from fourfold.figures.tradeoffs import TradeoffFigures
-from fourfold.formatting import format_number
+from fourfold.figures.tradeoffs import TradeoffFigures, effect_text
 from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import Tradeoffs, tradeoffs
 
@@ -103,6 +102,20 @@ def slider_step(low: float, high: float) -> float:
     raw = (high - low) / SLIDER_STEPS
     power = 10.0 ** math.floor(math.log10(raw))
     return next(m * power for m in (1, 2, 5, 10) if m * power >= raw * (1 - 1e-9))
+
+
+def snap_effect(effect: float, step: float) -> float:
+    """A dragged effect as it is stored: on the grid of round steps, then to the three
+    significant digits that the table and the marker show, so that what is shown is what is
+    stored.
+
+    Examples
+    --------
+    >>> snap_effect(0.02995, 0.001), snap_effect(0.12349, 0.0005), snap_effect(-0.00731, 0.0005)
+    (0.03, 0.123, -0.0075)
+    """
+    on_grid = round(round(effect / step) * step, 12)
+    return float(f"{on_grid:.3g}")
 
 
 def _near_edge(data: Tradeoffs) -> bool:
@@ -266,14 +279,13 @@ class PlotPanel(QWidget):
 
     @staticmethod
     def _effect_text(effect: float, data: Tradeoffs) -> str:
-        shown = format_number(effect * data.effect_scale, signed=True)
-        return f"{shown} {data.effect_unit}" if data.effect_unit else shown
+        return effect_text(effect * data.effect_scale, data.effect_unit)
 
     def _slider_moved(self, position: int) -> None:
         data = self.grid.shown
         if data is None:
             return
-        effect = round(position * self._step, 12)
+        effect = snap_effect(position * self._step, self._step)
         self.slider_value.setText(self._effect_text(effect, data))
         self._queue(effect)
         if not self.slider.isSliderDown():
@@ -281,18 +293,20 @@ class PlotPanel(QWidget):
 
     def _handle_dragged(self, line: pg.InfiniteLine) -> None:
         data = self.grid.shown
-        if data is not None:
-            self._queue(float(line.value()) / data.effect_scale)
+        if data is None:
+            return
+        effect = snap_effect(float(line.value()) / data.effect_scale, self._step)
+        shown = effect * data.effect_scale
+        if float(line.value()) != shown:  # the marker and its label sit on the stored value
+            line.setValue(shown)
+        self.slider_value.setText(self._effect_text(effect, data))
+        self._queue(effect)
 
     def _handle_released(self, line: pg.InfiniteLine) -> None:
         self._handle_dragged(line)
         self._flush()
 
     def _queue(self, effect: float) -> None:
-        data = self.grid.shown
-        if data is not None:  # a pixel's worth of precision: 0.072, not 0.07200000000000001
-            low, high = data.effect_span
-            effect = round(effect, max(0, math.ceil(-math.log10((high - low) / 1000.0))))
         self._queued = effect
         if not self._drag_timer.isActive():
             self._drag_timer.start()
