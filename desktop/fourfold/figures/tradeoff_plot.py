@@ -180,6 +180,9 @@ class FigurePlot:
             for axis in self.axes.values():  # centre the new label (pyqtgraph does on resize)
                 axis.resizeEvent()
         empty = bool(figure.reason)
+        for side in self.axes:  # a figure that cannot be drawn shows its reason, no axes
+            if self.item.getAxis(side).isVisible() == empty:
+                self.item.showAxis(side, not empty)
         log = (figure.x_log and not empty, figure.y_log and not empty)
         if log != self._log:
             self._log = log

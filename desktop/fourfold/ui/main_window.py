@@ -107,11 +107,14 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
             source.connect(self.show_problem)
         self.table.message.connect(self.show_message)
         self.document.changed.connect(self._clear_problem)
+        # a redraw queued before the change would pair the changed plan with the old result
+        self.document.changed.connect(self.plots.cancel_pending)
         self.document.history.connect(self._after_change)
         self.document.replaced.connect(self._after_replace)
         self.document.computed.connect(self._show_computed)
         self.table.selectionModel().currentRowChanged.connect(self._show_row)
         self.plots.effect_dragged.connect(self._effect_dragged)
+        self.model.rowsInserted.connect(self._rows_added)
         hints = QGuiApplication.styleHints()
         hints.colorSchemeChanged.connect(self._follow_scheme)
 
@@ -163,10 +166,20 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
     def fit_table(self) -> None:
         """Fit columns to the font and give the table the height of its rows (up to 12)."""
         self.table.fit_columns()
+        self._fit_table_height()
+
+    def _fit_table_height(self, grow_only: bool = False) -> None:
+        """The table's height for its rows: 3 to 12 of them, at most 55 % of the splitter."""
         rows = min(max(self.model.rowCount(), 3), 12)
         total = sum(self.splitter.sizes()) or self.height()
         table = min(self.table.wanted_height(rows), int(total * 0.55))
-        self.splitter.setSizes([table, max(total - table, 1)])
+        if not grow_only or table > self.splitter.sizes()[0]:
+            self.splitter.setSizes([table, max(total - table, 1)])
+
+    def _rows_added(self, *_args) -> None:
+        """The table grows with added rows (up to 12), so that the first stays in view."""
+        if self.isVisible():
+            self._fit_table_height(grow_only=True)
 
     def current_row(self) -> int | None:
         """The row of the current cell (None when the table is empty)."""
@@ -180,8 +193,8 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         self._show_row(now=True)
 
     def _show_row(self, *_args, now: bool = False) -> None:
-        if self.model.rowCount() != len(self.document.plan.metrics):
-            return  # mid row insertion/removal: the recompute that follows shows the row
+        if self.model.rowCount() != len(self.document.plan.metrics) or self.document.pending():
+            return  # the plan changed: the recompute that follows shows the row
         row = self.current_row()
         if row is None and self.model.rowCount():
             self.table.setCurrentIndex(self.model.index(0, 0))  # calls back with row 0

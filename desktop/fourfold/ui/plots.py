@@ -13,7 +13,16 @@ import math
 
 import pyqtgraph as pg
 from PySide6.QtCore import QEvent, Qt, QTimer, Signal
-from PySide6.QtWidgets import QHBoxLayout, QLabel, QSlider, QVBoxLayout, QWidget
+from PySide6.QtGui import QFontMetrics
+from PySide6.QtWidgets import (
+    QHBoxLayout,
+    QLabel,
+    QSizePolicy,
+    QSlider,
+    QStackedLayout,
+    QVBoxLayout,
+    QWidget,
+)
 
 from fourfold.figures.simulation_marks import show_simulation
 from fourfold.figures.style import Style, style_from_palette
@@ -23,6 +32,9 @@ from fourfold.plan.tradeoffs import Tradeoffs, tradeoffs
 
 DRAG_INTERVAL_MS = 40
 SLIDER_STEPS = 200
+HEADING_POINTS = 10.5
+EMPTY_TEXT = ("No metric row to plot. Add one with Plan → Add metric (Ctrl+Shift+N), or "
+              "paste rows from a spreadsheet.")
 
 
 class FigureGrid(pg.GraphicsView):
@@ -156,10 +168,23 @@ class PlotPanel(QWidget):
         controls.addWidget(self.slider_label)
         controls.addWidget(self.slider, 1)
         controls.addWidget(self.slider_value)
+        # names the row on show; shortened rather than widening the panel
+        self.heading = QLabel("", self)
+        self.heading.setObjectName("plotHeading")
+        self.heading.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Fixed)
+        self.heading.setContentsMargins(8, 2, 8, 0)
+        # no row: a sentence where the plots would be, not four empty axes
+        self.empty = QLabel(EMPTY_TEXT, self)
+        self.empty.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        self.empty.setWordWrap(True)
+        self.pages = QStackedLayout()
+        self.pages.addWidget(self.grid)
+        self.pages.addWidget(self.empty)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.setSpacing(2)
-        layout.addWidget(self.grid, 1)
+        layout.addWidget(self.heading)
+        layout.addLayout(self.pages, 1)
         layout.addLayout(controls)
 
         self._pending: tuple | None = None
@@ -180,6 +205,7 @@ class PlotPanel(QWidget):
         self.slider.valueChanged.connect(self._slider_moved)
         self.slider.sliderReleased.connect(self._flush)
         self._set_controls_enabled(False)
+        self._style_texts(self.grid.style)
 
     @property
     def tradeoffs(self) -> Tradeoffs | None:
@@ -207,6 +233,11 @@ class PlotPanel(QWidget):
         else:
             self._redraw_timer.start()
 
+    def cancel_pending(self, *_args) -> None:
+        """Forget a queued redraw (its plan changed; the caller shows the row again)."""
+        self._redraw_timer.stop()
+        self._pending = None
+
     def set_text_scale(self, factor: float) -> None:
         """Scale every text of the plots (1.0 = normal; e.g. 1.5 on a projector)."""
         if not 0.5 <= factor <= 4.0:
@@ -222,7 +253,17 @@ class PlotPanel(QWidget):
         super().changeEvent(event)
 
     def _restyle(self) -> None:
-        self.grid.apply_style(style_from_palette(self.palette(), self._text_scale))
+        style = style_from_palette(self.palette(), self._text_scale)
+        self.grid.apply_style(style)
+        self._style_texts(style)
+
+    def _style_texts(self, style: Style) -> None:
+        heading = style.font(HEADING_POINTS)
+        heading.setBold(True)
+        self.heading.setFont(heading)
+        # the same height with or without a row: the plots below never shift
+        self.heading.setFixedHeight(QFontMetrics(heading).height() + 4)
+        self.empty.setFont(style.font(HEADING_POINTS))
 
     def _redraw(self) -> None:
         if self._pending is None:
@@ -234,9 +275,13 @@ class PlotPanel(QWidget):
             self.grid.blank()
             show_simulation(self.grid, plan, result, None)
             self._set_controls_enabled(False)
+            self.heading.setText("")
+            self.pages.setCurrentWidget(self.empty)
             return
+        self.pages.setCurrentWidget(self.grid)
         result = compute(plan) if result is None else result
         metric = plan.metrics[index]
+        self._set_heading(metric, index)
         dragging = self.grid.handle.moving or self.slider.isSliderDown()
         # an edit of another row leaves this row's inputs, result and settings as drawn
         drawn = (index, repr(plan.settings), repr(metric), repr(result.rows[index]),
@@ -256,6 +301,12 @@ class PlotPanel(QWidget):
         show_simulation(self.grid, plan, result, index)
         self.grid.settle()
         self._sync_slider(data)
+
+    def _set_heading(self, metric, index: int) -> None:
+        text = f"{metric.name} — row {index + 1}, {metric.role}"
+        if self.heading.text() != text:
+            self.heading.setText(text)
+            self.heading.setToolTip(text)
 
     def _set_controls_enabled(self, enabled: bool) -> None:
         for widget in (self.slider, self.slider_label, self.slider_value):

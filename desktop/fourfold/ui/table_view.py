@@ -183,7 +183,8 @@ class PlanTableView(QTableView):
             self.setColumnWidth(position, wanted)
 
     def widen_columns(self, top_left, bottom_right, roles) -> None:
-        """Widen the number and result columns whose changed cells no longer fit.
+        """Widen the name, number and result columns whose changed cells no longer fit (the
+        name up to the width :meth:`fit_columns` allows it).
 
         Connected to the model's ``dataChanged``: only the announced cells in rows on screen
         are measured (scrolling measures the rows it brings into view), and a column only ever
@@ -204,9 +205,11 @@ class PlanTableView(QTableView):
                                                self) + 1) + 6
         base = self.font()
         measures: dict[tuple[bool, bool], QFontMetrics] = {}
+        widest_name = MAX_COLUMN_CHARS * self.fontMetrics().averageCharWidth()
         for position in range(top_left.column(), bottom_right.column() + 1):
             column = COLUMNS[position]
-            if not (column.computed or column.editor == NUMBER) or self.isColumnHidden(position):
+            if not (column.computed or column.editor == NUMBER or column.key == "name") \
+                    or self.isColumnHidden(position):
                 continue
             widest = 0
             for row in rows:
@@ -221,6 +224,8 @@ class PlanTableView(QTableView):
                     measure = measures[key] = QFontMetrics(
                         base if font is None else font.resolve(base))
                 widest = max(widest, measure.horizontalAdvance(text))
+            if column.key == "name":
+                widest = min(widest, widest_name)
             if widest + margin > self.columnWidth(position):
                 self.setColumnWidth(position, widest + margin)
 
