@@ -1,7 +1,8 @@
 """The ``fourfold`` command line: one parser for the window and the headless sub-commands.
 
 ``fourfold [PLAN.json]`` opens the window (on the bundled sample plan when no file is given);
-``fourfold export``, ``fourfold shot`` and ``fourfold history`` run without a window. Each
+``fourfold export``, ``fourfold compare``, ``fourfold shot`` and ``fourfold history`` run
+without a window. Each
 sub-command's work lives in its own package and is imported only when it runs, so that
 ``fourfold --help`` stays instant.
 """
@@ -16,7 +17,7 @@ from collections.abc import Sequence
 from fourfold import __version__
 from fourfold.errors import FourfoldError
 
-SUBCOMMANDS = ("open", "export", "shot", "history")
+SUBCOMMANDS = ("open", "export", "compare", "shot", "history")
 
 
 def _size(text: str) -> tuple[int, int]:
@@ -51,6 +52,19 @@ def build_parser() -> argparse.ArgumentParser:
     p_export.add_argument(
         "--page", choices=("a4", "letter"), default="a4", help="PDF page size (default a4)"
     )
+    p_export.add_argument(
+        "--scenario", metavar="NAME", default=None,
+        help="export this scenario of the plan (default: the base)",
+    )
+
+    p_compare = sub.add_parser(
+        "compare", help="compare the plan's base and scenarios side by side"
+    )
+    p_compare.add_argument("plan", help="plan file (.json)")
+    p_compare.add_argument(
+        "-o", "--output", default=None,
+        help="write the comparison to this .csv file instead of printing it",
+    )
 
     p_shot = sub.add_parser("shot", help="render the window offscreen to a PNG")
     p_shot.add_argument("plan", nargs="?", help="plan file (.json); default: the sample plan")
@@ -59,6 +73,10 @@ def build_parser() -> argparse.ArgumentParser:
         "--size", type=_size, default=(1400, 900), help="window size, e.g. 1400x900"
     )
     p_shot.add_argument("--row", type=int, default=None, help="metric row to select (from 1)")
+    p_shot.add_argument("--scenario", metavar="NAME", default=None,
+                        help="the scenario to show (Base: the plan as entered)")
+    p_shot.add_argument("--tab", choices=("plots", "scenarios"), default="plots",
+                        help="the tab under the table (default: plots)")
 
     from fourfold.history.cli import configure as configure_history
 
@@ -91,12 +109,18 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "shot":
             from fourfold.ui.app import run_shot
 
-            return run_shot(args.plan, args.output, size=args.size, row=args.row)
+            return run_shot(args.plan, args.output, size=args.size, row=args.row,
+                            scenario=args.scenario, tab=args.tab)
         if args.command == "export":
             from fourfold.export import export_file
 
-            export_file(args.plan, args.output, page=args.page)
+            export_file(args.plan, args.output, page=args.page, scenario=args.scenario)
             print(f"wrote {args.output}")
+            return 0
+        if args.command == "compare":
+            from fourfold.export import compare_file
+
+            sys.stdout.write(compare_file(args.plan, args.output))
             return 0
         if args.command == "history":
             from fourfold.history.cli import run as run_history

@@ -14,7 +14,6 @@ import os
 import statistics
 import subprocess
 import sys
-import tempfile
 import time
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
@@ -83,53 +82,24 @@ def startup() -> None:
 def edits() -> None:
     import dataclasses
 
-    from PySide6.QtCore import QSettings
+    from windows import close_window, open_window, paired, report
 
     from fourfold.plan import Plan, load, sample_path
-    from fourfold.plan.evaluation import compute
-    from fourfold.ui.app import application
     from fourfold.ui.columns import column_index
-    from fourfold.ui.main_window import MainWindow
 
-    app = application()
     sample = load(sample_path())
     metrics = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
                for i in range(500)]
-    plan = Plan(sample.settings, metrics)
-    scratch = tempfile.mkdtemp()
-    window = MainWindow(plan, None, QSettings(os.path.join(scratch, "s.ini"),
-                                              QSettings.Format.IniFormat), data_dir=scratch)
-    window.resize(1400, 900)
-    window.show()
-    app.processEvents()
+    app, window = open_window(Plan(sample.settings, metrics))
     model = window.model
     column = column_index("sd")
     row = 1
     window.table.setCurrentIndex(model.index(row, column))
     app.processEvents()
-
-    # Reference and edits alternate, so that both see the same machine (a shared machine's
-    # speed drifts by a factor of two between runs).
-    reference, timings = [], []
-    for step in range(EDITS):
-        start = time.perf_counter()
-        compute(window.document.plan)
-        reference.append(time.perf_counter() - start)
-        start = time.perf_counter()
-        model.setData(model.index(row, column), f"{14.0 + 0.01 * step:.2f}")
-        app.processEvents()  # the coalesced recompute, the plots and the repaint
-        app.processEvents()  # anything posted meanwhile
-        timings.append(time.perf_counter() - start)
-    edit = statistics.median(timings)
-    engine = statistics.median(reference)
-    low, high = (statistics.quantiles(timings, n=4)[k] for k in (0, 2))
-    print(f"edit of a 500-row plan: compute alone {engine * 1e3:.1f} ms; edit → table and plots "
-          f"{edit * 1e3:.1f} ms (quartiles {low * 1e3:.1f}–{high * 1e3:.1f}; target ≤ 16 ms); "
-          f"ratio {edit / engine:.2f}")
-    window.document.stack.mark_clean()
-    window.close()
-    window.deleteLater()
-    app.processEvents()
+    reference, timings = paired(app, window, lambda step: model.setData(
+        model.index(row, column), f"{14.0 + 0.01 * step:.2f}"), EDITS)
+    report("edit of a 500-row plan → table and plots", reference, timings)
+    close_window(app, window)
 
 
 if __name__ == "__main__":

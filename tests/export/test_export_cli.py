@@ -20,7 +20,8 @@ def _fails(capsys, *argv) -> str:
 def test_csv_export_writes_both_files(tmp_path, capsys):
     assert cli.main(["export", str(sample_path()), "-o", str(tmp_path / "p.csv")]) == 0
     assert "p.csv" in capsys.readouterr().out
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["p-settings.csv", "p.csv"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["p-scenarios.csv", "p-settings.csv",
+                                                          "p.csv"]
 
 
 def test_missing_plan_file(tmp_path, capsys):

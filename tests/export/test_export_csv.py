@@ -76,7 +76,7 @@ def _read(path):
 
 def test_numbers_read_back_by_pandas_equal_evaluate_exactly(tmp_path):
     plan = _sample()
-    path, _ = write_csv(plan, tmp_path / "plan.csv")
+    path, *_ = write_csv(plan, tmp_path / "plan.csv")
     back = pd.read_csv(path, keep_default_na=False, na_values=[""])
     frame = evaluate(plan)
     assert len(back) == len(frame) == len(plan.metrics)
@@ -98,7 +98,7 @@ def test_results_are_not_rounded_away(tmp_path):
     """Full precision: the file holds Python's shortest round-trip repr of each float."""
     plan = _sample()
     plan.settings.whole_weeks = False
-    path, _ = write_csv(plan, tmp_path / "plan.csv")
+    path, *_ = write_csv(plan, tmp_path / "plan.csv")
     rows = _read(path)
     header = rows[0]
     frame = evaluate(plan)
@@ -108,7 +108,7 @@ def test_results_are_not_rounded_away(tmp_path):
 
 def test_settings_file_holds_settings_and_plan_results(tmp_path):
     plan = _sample()
-    path, extra = write_csv(plan, tmp_path / "checkout.csv")
+    path, extra, *_ = write_csv(plan, tmp_path / "checkout.csv")
     assert extra == tmp_path / "checkout-settings.csv" == settings_path(path)
     rows = _read(extra)
     assert rows[0] == ["key", "value", "unit"]
@@ -139,7 +139,7 @@ def test_formula_text_is_neutralised_and_numbers_untouched(tmp_path):
         for payload in PAYLOADS
     ]
     plan.settings.title = "=1+1"
-    path, extra = write_csv(plan, tmp_path / "plan.csv")
+    path, extra, *_ = write_csv(plan, tmp_path / "plan.csv")
     rows = _read(path)
     header = rows[0]
     for payload, row in zip(PAYLOADS, rows[1:], strict=True):

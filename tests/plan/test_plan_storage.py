@@ -59,8 +59,16 @@ def test_round_trip_keeps_every_field(tmp_path):
     save(plan, path)
     again = load(path)
     assert again == plan
-    assert dataclasses.asdict(again) == dataclasses.asdict(plan)
+    assert _fields(again) == _fields(plan)
     assert loads(dumps(plan)) == plan
+
+
+def _fields(plan: Plan) -> dict:
+    """Every field of the plan but the rows' ids (a file without scenarios has none)."""
+    data = dataclasses.asdict(plan)
+    for row in data["metrics"]:
+        del row["id"]
+    return data
 
 
 def test_file_header_and_all_fields_written():
@@ -89,7 +97,7 @@ def test_missing_optional_fields_take_defaults():
         (json.dumps({"format": "some-other-tool", "schema_version": 1}), "format"),
         (json.dumps({"format": "fourfold-plan"}), "schema_version"),
         (json.dumps({"format": "fourfold-plan", "schema_version": "1"}), "schema_version"),
-        (json.dumps({"format": "fourfold-plan", "schema_version": 2}), "newer"),
+        (json.dumps({"format": "fourfold-plan", "schema_version": 3}), "newer"),
         (json.dumps({"format": "fourfold-plan", "schema_version": 1, "extra": 1}), "extra"),
         (json.dumps({"format": "fourfold-plan", "schema_version": 1, "metrics": {}}),
          "metrics must be a JSON list"),

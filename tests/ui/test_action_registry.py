@@ -15,7 +15,9 @@ from __future__ import annotations
 import ast
 from pathlib import Path
 
+from PySide6.QtCore import Qt
 from PySide6.QtGui import QAction
+from PySide6.QtWidgets import QToolBar
 
 from fourfold.plan import save
 from fourfold.ui.history_dialog import HistoryDialog
@@ -49,8 +51,12 @@ def live_actions(window, tmp_path) -> list[QAction]:
     window.recent_menu.aboutToShow.emit()
     dialogs = [HistoryDialog(window.document, window), SimulationDialog(window.document, [0],
                                                                         window)]
+    # a tool bar's own show/hide entry is offered only for the main window's own tool bars
+    internal = {bar.toggleViewAction() for bar in window.findChildren(QToolBar)
+                if window.toolBarArea(bar) == Qt.ToolBarArea.NoToolBarArea}
     actions = [action for action in window.findChildren(QAction)
-               if not action.isSeparator() and action.menu() is None]
+               if not action.isSeparator() and action.menu() is None
+               and action not in internal]
     for dialog in dialogs:
         dialog.deleteLater()
     return actions

@@ -81,8 +81,8 @@ def test_the_relative_check_box_toggles_through_a_command(make_window):
 def test_every_menu_action_has_a_shortcut(make_window):
     window = make_window()
     missing = []
-    for menu in (window.file_menu, window.edit_menu, window.plan_menu, window.view_menu,
-                 window.help_menu, window.export_menu):
+    for menu in (window.file_menu, window.edit_menu, window.plan_menu, window.scenario_menu,
+                 window.view_menu, window.help_menu, window.export_menu):
         for action in menu.actions():
             if action.isSeparator() or action.menu() is not None:
                 continue

@@ -4,7 +4,10 @@
   and result in full precision) and ``NAME-settings.csv`` (plan settings and results as
   ``key,value,unit``); no Qt.
 - :func:`fourfold.export.pdf.write_pdf` writes the report with Qt's PDF writer.
-- :func:`export_file` is the headless entry point of ``fourfold export``.
+- :func:`fourfold.export.comparison.write_comparison` writes the scenarios side by side
+  (``NAME-scenarios.csv``, also written by ``write_csv`` for a plan with scenarios); no Qt.
+- :func:`export_file` is the headless entry point of ``fourfold export``, and
+  :func:`compare_file` of ``fourfold compare``.
 
 Every export writes to a temporary file beside its target and renames it on success, so a
 failed export never leaves a half-written file or touches an existing one.
@@ -20,11 +23,11 @@ from fourfold.export.files import ExportError
 FORMATS = (".csv", ".pdf")
 PAGES = ("a4", "letter")
 
-__all__ = ["FORMATS", "PAGES", "ExportError", "export_file"]
+__all__ = ["FORMATS", "PAGES", "ExportError", "compare_file", "export_file"]
 
 
 def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
-                page: str = "a4") -> list[Path]:
+                page: str = "a4", scenario: str | None = None) -> list[Path]:
     """Load a plan file and export it; the format comes from the output's extension.
 
     Parameters
@@ -35,6 +38,8 @@ def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
         ``*.csv`` (the settings file goes beside it as ``*-settings.csv``) or ``*.pdf``.
     page : {"a4", "letter"}
         Paper size of a PDF.
+    scenario : str, optional
+        The scenario to export (default: the base).
 
     Returns
     -------
@@ -54,7 +59,7 @@ def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
     >>> from fourfold.plan import sample_path
     >>> out = pathlib.Path(tempfile.mkdtemp()) / "plan.csv"
     >>> [p.name for p in export_file(sample_path(), out)]
-    ['plan.csv', 'plan-settings.csv']
+    ['plan.csv', 'plan-settings.csv', 'plan-scenarios.csv']
     >>> export_file(sample_path(), out.with_suffix(".xlsx"))
     Traceback (most recent call last):
     ...
@@ -68,13 +73,55 @@ the output file must end in .csv or .pdf
                           f"file must end in {' or '.join(FORMATS)}")
     if page not in PAGES:
         raise ExportError(f"page must be one of {', '.join(PAGES)}; got {page!r}")
-    from fourfold.plan import load
+    from fourfold.plan import effective, load
 
     plan = load(plan_path)
+    effective(plan, scenario)  # an unknown scenario is refused before any output
     if suffix == ".csv":
         from fourfold.export.csv import write_csv
 
-        return list(write_csv(plan, output))
+        return list(write_csv(plan, output, scenario))
     from fourfold.export.pdf import write_pdf
 
-    return [write_pdf(plan, output, page=page)]
+    return [write_pdf(plan, output, page=page, scenario=scenario)]
+
+
+def compare_file(plan_path: os.PathLike | str, output: os.PathLike | str | None = None) -> str:
+    """Load a plan file and compare its base and scenarios (``fourfold compare``).
+
+    Parameters
+    ----------
+    plan_path : path-like
+        A plan file.
+    output : path-like, optional
+        A ``.csv`` file to write the comparison to
+        (:func:`fourfold.export.comparison.write_comparison`).
+
+    Returns
+    -------
+    str
+        The comparison as aligned text (without ``output``) or a line naming the file.
+
+    Raises
+    ------
+    fourfold.errors.FourfoldError
+        For a missing or malformed plan file, an output not ending in ``.csv`` or one that
+        cannot be written (nothing is written then).
+
+    Examples
+    --------
+    >>> from fourfold.plan import sample_path
+    >>> compare_file(sample_path()).splitlines()[0].split("   ")[-1]
+    'Accept +7 % conversion lift'
+    """
+    if output is not None and Path(output).suffix.lower() != ".csv":
+        raise ExportError(f"cannot tell which format to write for {Path(output).name}: the "
+                          "comparison is written as .csv")
+    from fourfold.export.comparison import text_table, write_comparison
+    from fourfold.plan import load
+    from fourfold.plan.comparison import outcomes
+
+    plan = load(plan_path)
+    if output is not None:
+        return f"wrote {write_comparison(plan, output)}\n"
+    return text_table(outcomes(plan))

@@ -1,7 +1,7 @@
 """The plan table as CSV: one file of metric rows, one file of plan-level settings and results.
 
 ``write_csv(plan, "checkout.csv")`` writes two UTF-8 files (with a byte-order mark, so that
-spreadsheets detect the encoding):
+spreadsheets detect the encoding), and a third for a plan with scenarios:
 
 ``checkout.csv``
     One header row, then one row per metric row of the plan, in plan order, holding every input
@@ -14,6 +14,11 @@ spreadsheets detect the encoding):
     ``look_k_futility_z`` (empty without a futility bound), ``look_k_alpha_spent_frac``,
     ``look_k_stop_h0_frac`` and ``look_k_stop_h1_frac`` (the chance of stopping there with no
     effect and with the planned effect). z is oriented in the direction of the effect.
+    A plan with scenarios also has a ``scenario`` row: the scenario written ("Base" or its
+    name).
+``checkout-scenarios.csv``
+    Only for a plan with scenarios: one row per scenario, base first — see
+    :func:`fourfold.export.comparison.write_comparison`.
 
 Column names
 ------------
@@ -266,7 +271,7 @@ def _write(path: Path, lines: Iterable[Sequence[str]]) -> None:
         csv.writer(handle, lineterminator="\r\n").writerows(lines)
 
 
-def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
+def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tuple[Path, ...]:
     """Write the plan's metric table to ``path`` and its settings beside it.
 
     Parameters
@@ -274,17 +279,24 @@ def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
     plan : fourfold.plan.Plan
         The plan; it is evaluated here with :func:`fourfold.plan.compute`.
     path : path-like
-        The metric file. The settings go to :func:`settings_path` of it.
+        The metric file. The settings go to :func:`settings_path` of it; for a plan with
+        scenarios the comparison goes to ``NAME-scenarios.csv``
+        (:func:`fourfold.export.comparison.write_comparison`).
+    scenario : str, optional
+        The scenario whose rows and settings to write (default: the base); with scenarios,
+        the settings file names it in its ``scenario`` row.
 
     Returns
     -------
     tuple of pathlib.Path
-        The metric file and the settings file.
+        The metric file, the settings file and, for a plan with scenarios, the comparison.
 
     Raises
     ------
     fourfold.export.files.ExportError
-        When a file cannot be written; both files are then left as they were.
+        When a file cannot be written; every file is then left as it was.
+    fourfold.plan.PlanError
+        When the plan has no scenario called ``scenario``.
 
     References
     ----------
@@ -296,14 +308,23 @@ def write_csv(plan, path: os.PathLike | str) -> tuple[Path, Path]:
     >>> from fourfold.plan import load, sample_path
     >>> out = pathlib.Path(tempfile.mkdtemp()) / "plan.csv"
     >>> [p.name for p in write_csv(load(sample_path()), out)]
-    ['plan.csv', 'plan-settings.csv']
+    ['plan.csv', 'plan-settings.csv', 'plan-scenarios.csv']
     """
+    from fourfold.export.comparison import scenario_rows, scenarios_path
     from fourfold.plan.evaluation import compute
+    from fourfold.plan.scenarios import BASE, effective
 
-    result = compute(plan)
+    shown = effective(plan, scenario)
+    result = compute(shown)
     path = Path(path)
-    extra = settings_path(path)
-    with replacing(path, extra) as (part, extra_part):
-        _write(part, metric_rows(plan, result))
-        _write(extra_part, settings_rows(plan, result))
-    return path, extra
+    targets = [path, settings_path(path)]
+    if plan.scenarios:
+        targets.append(scenarios_path(path))
+    with replacing(*targets) as parts:
+        _write(parts[0], metric_rows(shown, result))
+        settings = settings_rows(shown, result)
+        if plan.scenarios:
+            settings.insert(3, ["scenario", cell(scenario or BASE), "text"])
+            _write(parts[2], scenario_rows(plan))
+        _write(parts[1], settings)
+    return tuple(targets)

@@ -1,14 +1,14 @@
 """The data of one trade-off figure drawn by a single graphics item, and its legend swatches.
 
-A figure shows two lines (the row's design and a neighbouring choice) and two sets of round
-markers (the weekly marks and the design point). pyqtgraph's curve and scatter items draw
-these just as well, but each of them costs Python calls on every update and every repaint
-(bounds, pixel vectors, paint); a figure redrawn on every keystroke spends most of its frame
-there. :class:`SeriesLayer` keeps the four series in one item: lines as painter paths in view
-coordinates, markers as circles of a fixed size in device pixels (so that they stay round on
-log axes and scale with the page on a PDF), and the markers' labels as text in scene pixels
-(sized like every other text of the figure, and scaled with it onto a page). :class:`Swatch`
-draws a series' line or marker in a legend.
+A figure shows two lines (the row's design and a neighbouring choice), faint lines of the same
+row in other scenarios, and two sets of round markers (the weekly marks and the design point).
+pyqtgraph's curve and scatter items draw these just as well, but each of them costs Python calls
+on every update and every repaint (bounds, pixel vectors, paint); a figure redrawn on every
+keystroke spends most of its frame there. :class:`SeriesLayer` keeps the series in one
+item: lines as painter paths in view coordinates, markers as circles of a fixed size in device
+pixels (so that they stay round on log axes and scale with the page on a PDF), and the markers'
+labels as text in scene pixels (sized like every other text of the figure, and scaled with it
+onto a page). :class:`Swatch` draws a series' line or marker in a legend.
 """
 
 from __future__ import annotations
@@ -31,7 +31,7 @@ from PySide6.QtGui import (
     QStaticText,
 )
 
-LINES = ("neighbour", "curve")
+LINES = ("others", "neighbour", "curve")
 DOTS = ("marks", "point")
 SERIES = LINES + DOTS
 """The series of a figure, in drawing order (later ones on top)."""

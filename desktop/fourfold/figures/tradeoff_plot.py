@@ -1,9 +1,10 @@
 """One trade-off figure on a pyqtgraph plot item: its axes, series, texts and view range.
 
 A figure (:class:`fourfold.plan.tradeoffs.Figure`) shows the row's design as a solid curve with
-its design point, one neighbouring choice as a faint dashed curve, and on the runtime figure
-the weekly marks. :class:`FigurePlot` creates the items once and updates them with each new
-figure; it keeps its view range while the data fit it, so that the axes keep their pictures.
+its design point, one neighbouring choice as a faint dashed curve, on the runtime figure the
+weekly marks, and, when asked, the same row's curves in other scenarios as faint grey lines.
+:class:`FigurePlot` creates the items once and updates them with each new figure; it keeps its
+view range while the data fit it, so that the axes keep their pictures.
 """
 
 from __future__ import annotations
@@ -30,6 +31,8 @@ WIDEST_TICK = "−00.0k"
 PADDING = 0.03
 HEADROOM = 0.2  # room left beyond data that grew past a kept range
 LEGEND_GAP = 3.0  # pyqtgraph's LegendItem adds 3 px after each sample and label
+
+OTHERS = "other scenarios"
 
 LEGEND_LEFT = (8, 8)
 LEGEND_RIGHT = (-8, 8)
@@ -91,6 +94,7 @@ class FigurePlot:
         if name == "runtime":  # its design point is read from the legend, not a floating label
             self.legend.addItem(Swatch(self.layer, "point"), "")
         self._figure: Figure | None = None
+        self._others_shown: tuple[Figure, ...] = ()
         self._unit = ""
         self._texts: tuple | None = None
         self._range: tuple[tuple[float, float], tuple[float, float]] | None = None
@@ -113,6 +117,9 @@ class FigurePlot:
         # Whole device pixels: the window draws without anti-aliasing (it would cost a few
         # milliseconds a frame), where a 2.6 px line comes out 2 or 3 px wide by position.
         scale = style.pen_scale
+        faint = QColor(style.foreground)
+        faint.setAlpha(80)
+        self.layer.set_line_style("others", pg.mkPen(faint, width=2.0 * scale))
         self.layer.set_line_style("curve", pg.mkPen(style.curve, width=3.0 * scale))
         self.layer.set_line_style("neighbour", pg.mkPen(style.neighbour, width=2.0 * scale,
                                                         style=Qt.PenStyle.DashLine))
@@ -159,12 +166,16 @@ class FigurePlot:
         self.legend.setBrush(legend_back)
         self.legend.setPen(pg.mkPen(style.grid))
         if self._figure is not None:
-            self.set_figure(self._figure, style, self._unit)
+            self.set_figure(self._figure, style, self._unit, others=self._others_shown)
 
     def set_figure(self, figure: Figure, style: Style, unit: str = "", *,
-                   sticky: bool = False) -> None:
-        """Show ``figure``; with ``sticky`` the view range stays while the data fit it."""
+                   sticky: bool = False, others: tuple[Figure, ...] = ()) -> None:
+        """Show ``figure``; with ``sticky`` the view range stays while the data fit it.
+
+        ``others`` are the same figure of the row in other scenarios, drawn as faint lines.
+        """
         self._figure = figure
+        self._others_shown = others
         self._unit = unit
         texts = (figure.title, figure.x_label, figure.y_label, style)
         if texts != self._texts:  # re-laying out HTML labels is the slow part of an update
@@ -189,12 +200,14 @@ class FigurePlot:
             self._range = None
         self.item.setLogMode(x=log[0], y=log[1])
         x, y = figure.point
-        data = {"curve": (figure.curve.x, figure.curve.y),
+        others = tuple(other for other in others if not other.reason) if not empty else ()
+        data = {"others": _joined(others),
+                "curve": (figure.curve.x, figure.curve.y),
                 "neighbour": (figure.neighbour.x, figure.neighbour.y),
                 "marks": (figure.marks.x, figure.marks.y), "point": ([x], [y])}
         for name, (xs, ys) in data.items():
             self.layer.set_series(name, xs, ys, _view(xs, log[0]), _view(ys, log[1]))
-        self._set_legend(figure)
+        self._set_legend(figure, bool(others))
         self._set_texts(figure, not empty)
         self._set_guide(figure)
         self.fit()
@@ -255,12 +268,19 @@ class FigurePlot:
         self._texts = None
         self._range = None
 
-    def _set_legend(self, figure: Figure) -> None:
+    def _set_legend(self, figure: Figure, others: bool = False) -> None:
         texts = [figure.curve.label, figure.neighbour.label]
         if figure.name == "runtime":
             texts.append(_point_text(figure, self._unit))
         changed = False
-        for (_, label), text in zip(self.legend.items, texts, strict=True):
+        listed = any(label.text == OTHERS for _, label in self.legend.items)
+        if others != listed:  # the swatch is in the legend while others are drawn
+            if others:
+                self.legend.addItem(Swatch(self.layer, "others"), OTHERS)
+            else:
+                self.legend.removeItem(OTHERS)
+            changed = True
+        for (_, label), text in zip(self.legend.items[:len(texts)], texts, strict=True):
             if label.text != text:
                 label.setText(text)
                 changed = True
@@ -315,6 +335,16 @@ class FigurePlot:
             self.guide.setValue(float(_view(figure.guide, figure.x_log)))
             self.guide.label.setFormat(figure.guide_label)
         self.guide.setVisible(shown)
+
+
+def _joined(figures: tuple[Figure, ...]) -> tuple[np.ndarray, np.ndarray]:
+    """The curves of ``figures`` end to end, a nan between two (the line breaks there)."""
+    if not figures:
+        return np.empty(0), np.empty(0)
+    gap = np.array([np.nan])
+    xs = np.concatenate([part for figure in figures for part in (figure.curve.x, gap)])
+    ys = np.concatenate([part for figure in figures for part in (figure.curve.y, gap)])
+    return xs, ys
 
 
 def _clip_top(figure: Figure) -> tuple[float, float] | None:

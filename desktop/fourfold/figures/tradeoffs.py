@@ -118,16 +118,19 @@ class TradeoffFigures(pg.GraphicsLayout):
         self.handle.hide()
 
     def set_tradeoffs(self, data: Tradeoffs, *, keep_handle: bool = False,
-                      sticky: bool = False) -> None:
+                      sticky: bool = False, others=()) -> None:
         """Show a row's figures; ``keep_handle`` leaves the effect marker where the user holds it.
 
         ``sticky`` keeps each figure's view range while the new data fit it (an edit of the row
-        on show); otherwise every figure is ranged on its data.
+        on show); otherwise every figure is ranged on its data. ``others`` are the row's
+        :class:`~fourfold.plan.tradeoffs.Tradeoffs` in other scenarios, drawn faintly.
         """
         self.shown = data
         for figure in data.figures:
+            same = tuple(other_figure for other in others for other_figure in other.figures
+                         if other_figure.name == figure.name)
             self.plots[figure.name].set_figure(figure, self.style, data.effect_unit,
-                                               sticky=sticky)
+                                               sticky=sticky, others=same)
         x = data.effect.point[0]
         visible = data.effect_editable and not data.effect.reason and math.isfinite(x)
         self.handle.setVisible(visible)

@@ -1,10 +1,13 @@
 """The plan document: settings and metric rows, their rules, files, evaluation and undo.
 
+A plan is its base and any number of scenarios (:mod:`fourfold.plan.scenarios`);
+:func:`evaluate` evaluates the base or one scenario, :func:`compare` sets them side by side.
 Qt-free (the window and the exports build on it); pandas is imported only by
-:func:`evaluate`.
+:func:`evaluate` and :func:`compare`.
 """
 
-from fourfold.plan.evaluation import PlanResult, RowResult, compute, evaluate
+from fourfold.plan.comparison import compare, evaluate
+from fourfold.plan.evaluation import PlanResult, RowResult, compute
 from fourfold.plan.fields import (
     CHOICES,
     METRIC_FIELDS,
@@ -14,7 +17,8 @@ from fourfold.plan.fields import (
     validate_metric,
     validate_settings,
 )
-from fourfold.plan.model import Metric, Plan, Settings
+from fourfold.plan.model import Metric, Plan, Scenario, Settings
+from fourfold.plan.scenarios import effective
 from fourfold.plan.storage import dumps, load, loads, sample_path, save
 
 __all__ = [
@@ -26,9 +30,12 @@ __all__ = [
     "PlanError",
     "PlanResult",
     "RowResult",
+    "Scenario",
     "Settings",
+    "compare",
     "compute",
     "dumps",
+    "effective",
     "evaluate",
     "load",
     "loads",

@@ -35,10 +35,10 @@ from fourfold.plan.fields import (
     validate_field,
     validate_metric,
 )
-from fourfold.plan.model import Metric, Plan
+from fourfold.plan.model import Metric, Plan, new_row_id
 
 CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "rows_reordered",
-                "settings", "reset")
+                "settings", "scenario", "reset")
 
 
 @dataclass(frozen=True)
@@ -49,7 +49,9 @@ class Change:
     ----------
     kind : str
         ``"cells"`` (metric fields of existing rows), ``"rows_inserted"``, ``"rows_removed"``,
-        ``"rows_moved"``, ``"rows_reordered"``, ``"settings"`` or ``"reset"`` (a new document).
+        ``"rows_moved"``, ``"rows_reordered"``, ``"settings"``, ``"scenario"`` (the scenarios
+        or the active one changed: the plan shown may differ as a whole) or ``"reset"`` (a new
+        document). Row indices are those of the plan shown (:attr:`CommandStack.view`).
     rows : tuple of int
         ``"cells"``: the rows touched, ascending. ``"rows_inserted"``: the new rows' indices
         after the insertion, ascending. ``"rows_removed"``: the removed rows' indices before
@@ -94,6 +96,28 @@ def _check_row(plan: Plan, row: int, *, end: bool = False, count: int | None = N
     return row
 
 
+def _identified(plan: Plan, metrics: list[Metric], ids: list[str] | None) -> list[str]:
+    """Give new rows ids no row or scenario of ``plan`` uses; ``ids`` from a first apply stay.
+
+    A copied row (duplicate, paste) arrives with its original's id; it gets a fresh one. The
+    ids are set on ``metrics`` (fresh copies) and returned, so that a redo reuses them.
+    """
+    if ids is None:
+        taken = {metric.id for metric in plan.metrics}
+        for scenario in plan.scenarios:
+            taken.update(scenario.rows, scenario.omitted)
+        ids = []
+        for metric in metrics:
+            identity = metric.id
+            while not identity or identity in taken:
+                identity = new_row_id()
+            taken.add(identity)
+            ids.append(identity)
+    for metric, identity in zip(metrics, ids, strict=True):
+        metric.id = identity
+    return ids
+
+
 def _metric_field(field: str) -> str:
     if field not in METRIC_FIELDS:
         raise PlanError(f"unknown metric field {field!r}", field)
@@ -101,9 +125,18 @@ def _metric_field(field: str) -> str:
 
 
 class Command(abc.ABC):
-    """Base of the plan commands: ``text`` names it in the Edit menu."""
+    """Base of the plan commands: ``text`` names it in the Edit menu.
+
+    ``cell`` names the one cell a command sets, for merging repeated edits of it (``None``:
+    never merged); :meth:`absorb` takes over the undo state of the command it merges with.
+    """
 
     text = ""
+    cell: tuple | None = None
+
+    def absorb(self, older: Command) -> None:
+        """Undo to the state before ``older`` (the same cell's edit just before this one)."""
+        raise NotImplementedError
 
     @abc.abstractmethod
     def apply(self, plan: Plan) -> Change:
@@ -134,7 +167,7 @@ class SetFields(Command):
 
     Examples
     --------
-    >>> from fourfold.plan.model import Metric, Plan
+    >>> from fourfold.plan.model import Metric, Plan, new_row_id
     >>> stack = CommandStack(Plan.empty())
     >>> stack.do(SetFields([(0, "baseline", 0.2), (1, "name", "Refunds")], append=[Metric()]))
     >>> [(m.name, m.baseline) for m in stack.plan.metrics]
@@ -150,6 +183,7 @@ class SetFields(Command):
         self.text = text or f"Edit {len(self.edits)} cells"
         self._old: dict[tuple[int, str], Any] = {}
         self._count = 0
+        self._ids: list[str] | None = None
 
     name_rows = True
 
@@ -179,6 +213,7 @@ class SetFields(Command):
         count = len(plan.metrics)
         added = [validate_metric(metric) for metric in self.append]  # fresh copies each time
         new = self._planned(plan, plan.metrics + added)
+        self._ids = _identified(plan, added, self._ids)
         self._count = count
         self._old = {key: getattr(plan.metrics[key[0]], key[1]) for key in new
                      if key[0] < count}
@@ -213,6 +248,10 @@ class SetField(SetFields):
     def __init__(self, row: int, field: str, value: Any) -> None:
         super().__init__([(row, field, value)], text="")
         self.row, self.field, self.value = row, field, value
+        self.cell = (row, field)
+
+    def absorb(self, older: Command) -> None:
+        self._old = {**self._old, **older._old}
 
     def apply(self, plan: Plan) -> Change:
         name = plan.metrics[_check_row(plan, self.row)].name
@@ -250,12 +289,14 @@ class InsertMetrics(Command):
         self.metrics = list(metrics)
         count = len(self.metrics)
         self.text = "Insert metric" if count == 1 else f"Insert {count} metrics"
+        self._ids: list[str] | None = None
 
     def apply(self, plan: Plan) -> Change:
         row = _check_row(plan, self.row, end=True)
         if not self.metrics:
             raise PlanError("metrics must hold at least one metric row to insert", "metrics")
         checked = [validate_metric(metric) for metric in self.metrics]
+        self._ids = _identified(plan, checked, self._ids)
         plan.metrics[row:row] = checked
         return Change("rows_inserted", tuple(range(row, row + len(checked))))
 
@@ -322,7 +363,7 @@ class ReorderMetrics(Command):
 
     Examples
     --------
-    >>> from fourfold.plan.model import Metric, Plan
+    >>> from fourfold.plan.model import Metric, Plan, new_row_id
     >>> stack = CommandStack(Plan(metrics=[Metric(name="A"), Metric(name="B")]))
     >>> stack.do(ReorderMetrics([1, 0], text="Sort rows by Metric, descending"))
     >>> [metric.name for metric in stack.plan.metrics], stack.undo_text
@@ -374,11 +415,24 @@ class CommandStack:
 
     def __init__(self, plan: Plan) -> None:
         self.plan = plan
+        self._view: Plan | None = None
         self._done: list[Command] = []
         self._undone: list[Command] = []
         self._clean_depth: int | None = 0
         self._after: list[Subscriber] = []
         self._before: list[Subscriber] = []
+
+    @property
+    def view(self) -> Plan:
+        """The plan shown and edited: the base (``plan`` itself) or the active scenario's
+        effective plan (:func:`fourfold.plan.scenarios.effective`, rebuilt after a change)."""
+        if self.plan.active is None:
+            return self.plan
+        if self._view is None:
+            from fourfold.plan.scenarios import effective
+
+            self._view = effective(self.plan, self.plan.active)
+        return self._view
 
     def subscribe(self, callback: Subscriber, *, before: bool = False) -> Callable[[], None]:
         """Call ``callback(change)`` on every change; returns the unsubscribe function."""
@@ -400,6 +454,7 @@ class CommandStack:
         if preview is not None and self._before:
             self._notify(self._before, preview)
         change = step(self.plan)
+        self._view = None
         record()
         self._notify(self._after, change)
         return change
@@ -417,18 +472,24 @@ class CommandStack:
     def do(self, command: Command, *, merge: bool = False) -> None:
         """Apply ``command`` and push it; PlanError (nothing changed) if it is invalid.
 
-        With ``merge=True`` and a :class:`SetField` of the same cell on top of the stack
-        (a value being dragged), the two become one undo step.
+        While a scenario is active, an edit is stored in that scenario
+        (:class:`fourfold.plan.scenario_commands.InScenario`). With ``merge=True`` and an
+        edit of the same cell on top of the stack (a value being dragged), the two become one
+        undo step.
         """
+        from fourfold.plan.scenario_commands import routed
+
+        command = routed(self.plan, command)
+
         def record() -> None:
             if self._clean_depth is not None and self._clean_depth > len(self._done):
                 self._clean_depth = None
             self._undone.clear()
             top = self._done[-1] if self._done else None
-            if (merge and type(command) is SetField and type(top) is SetField
-                    and (top.row, top.field) == (command.row, command.field)
+            if (merge and command.cell is not None and top is not None
+                    and top.cell == command.cell and type(top) is type(command)
                     and self._clean_depth != len(self._done)):
-                command._old = {**command._old, **top._old}
+                command.absorb(top)
                 self._done[-1] = command
             else:
                 self._done.append(command)
@@ -457,6 +518,7 @@ class CommandStack:
         if self._before:
             self._notify(self._before, change)
         self.plan = plan
+        self._view = None
         self._done.clear()
         self._undone.clear()
         self._clean_depth = 0

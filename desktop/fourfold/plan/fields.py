@@ -39,7 +39,8 @@ CHOICES: dict[str, Any] = {
 """Allowed values of every choice field; ``CHOICES["method"]`` maps each kind to its methods
 (the first is the kind's default, used when a row's method is ``None``)."""
 
-METRIC_FIELDS = tuple(f.name for f in dataclasses.fields(Metric))
+METRIC_FIELDS = tuple(f.name for f in dataclasses.fields(Metric) if f.name != "id")
+"""The fields of a metric row a user edits (a row's ``id`` is its identity, not a field)."""
 SETTINGS_FIELDS = tuple(f.name for f in dataclasses.fields(Settings))
 
 MAX_ARMS = 20
@@ -264,7 +265,7 @@ significance_level; got 'duration'
 
 
 def validate_metric(metric: Metric) -> Metric:
-    """Return a copy of ``metric`` with every field validated and normalised.
+    """Return a copy of ``metric`` with every field validated and normalised (its id kept).
 
     Raises
     ------
@@ -279,7 +280,7 @@ def validate_metric(metric: Metric) -> Metric:
     values = {}
     for name in METRIC_FIELDS:
         values[name] = validate_field(name, getattr(metric, name), kind=metric.kind)
-    return Metric(**values)
+    return Metric(**values, id=metric.id)
 
 
 def validate_settings(settings: Settings) -> Settings:

@@ -3,11 +3,30 @@
 Plain dataclasses with no behaviour beyond construction; every change a user makes goes through
 :mod:`fourfold.plan.commands` (which validates with :func:`fourfold.plan.fields.validate_field`),
 and files go through :mod:`fourfold.plan.storage`, which checks every field on load.
+
+A plan is its **base** (``settings`` and ``metrics``) and any number of named **scenarios**, each
+storing only what it changes; :mod:`fourfold.plan.scenarios` builds a scenario's plan.
 """
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
+from typing import Any
+
+
+def new_row_id() -> str:
+    """A fresh row id: eight random hexadecimal digits.
+
+    Random rather than counted, so that the id of a deleted row is never given to a new one
+    (a scenario's changes to the deleted row must not move to another row).
+
+    Examples
+    --------
+    >>> len(new_row_id()), new_row_id() != new_row_id()
+    (8, True)
+    """
+    return os.urandom(4).hex()
 
 
 @dataclass
@@ -103,6 +122,10 @@ class Metric:
         Free text (where the numbers come from).
     simulation : dict or None
         A stored Monte Carlo check of the row (JSON-compatible).
+    id : str
+        The row's stable identity, which scenarios use to name the row (not a field a user
+        edits, and not compared: two rows with the same values are equal). A new row gets a
+        fresh one; a copy keeps it until a command inserts it into a plan that has that id.
 
     Examples
     --------
@@ -130,21 +153,62 @@ class Metric:
     n: float | None = None
     notes: str = ""
     simulation: dict | None = None
+    id: str = field(default_factory=new_row_id, compare=False, repr=False)
+
+
+@dataclass
+class Scenario:
+    """A named alternative to the base plan: only what it changes.
+
+    Attributes
+    ----------
+    name : str
+        Unique within the plan (ignoring case); never "base".
+    settings : dict
+        Settings field → value, for the settings the scenario changes.
+    rows : dict
+        Row id → {metric field → value}, for the row fields the scenario changes.
+    omitted : list of str
+        Ids of the base rows the scenario leaves out.
+
+    Examples
+    --------
+    >>> Scenario("All traffic", settings={"share": 1.0}).rows
+    {}
+    """
+
+    name: str
+    settings: dict[str, Any] = field(default_factory=dict)
+    rows: dict[str, dict[str, Any]] = field(default_factory=dict)
+    omitted: list[str] = field(default_factory=list)
 
 
 @dataclass
 class Plan:
-    """A plan: its settings and its metric rows, in display order.
+    """A plan: its settings and its metric rows, in display order (the base), and scenarios.
+
+    Attributes
+    ----------
+    settings : Settings
+        The base's settings.
+    metrics : list of Metric
+        The base's rows.
+    scenarios : list of Scenario
+        Named alternatives, in the order they were made.
+    active : str or None
+        The scenario the window shows and edits (``None``: the base).
 
     Examples
     --------
     >>> plan = Plan.empty()
-    >>> [metric.role for metric in plan.metrics]
-    ['primary']
+    >>> [metric.role for metric in plan.metrics], plan.scenarios, plan.active
+    (['primary'], [], None)
     """
 
     settings: Settings = field(default_factory=Settings)
     metrics: list[Metric] = field(default_factory=list)
+    scenarios: list[Scenario] = field(default_factory=list)
+    active: str | None = None
 
     @classmethod
     def empty(cls) -> Plan:

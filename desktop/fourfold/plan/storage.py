@@ -6,6 +6,18 @@ A plan file is one JSON object::
      "settings": {...every Settings field...},
      "metrics": [{...every Metric field...}, ...]}
 
+A plan with scenarios is written as ``"schema_version": 2``: every metric row also has its
+stable ``"id"``, and two more members hold the scenarios and the one the window shows::
+
+     "scenarios": [{"name": "All traffic", "settings": {"share": 1.0},
+                    "rows": {"<row id>": {"effect": 0.07}}, "omitted": ["<row id>"]}, ...],
+     "active": "All traffic"            (or null: the base)
+
+A plan without scenarios is written as version 1, exactly as before scenarios existed, so
+older Fourfolds read it; its rows get fresh ids when it is read. Scenario values are checked
+as base values are (:func:`fourfold.plan.scenarios.from_dict`); a scenario change naming a row
+or field that does not exist is kept and reported, not dropped.
+
 On reading, every value goes through :func:`fourfold.plan.fields.validate_field`; a missing
 field takes its default (except a metric's ``name``, ``kind`` and ``baseline``), an unknown
 field, a wrong type or an out-of-range value is a :class:`~fourfold.plan.fields.PlanError` that
@@ -16,6 +28,7 @@ moves it into place with :func:`os.replace`, so the old file survives any failur
 from __future__ import annotations
 
 import contextlib
+import copy
 import dataclasses
 import json
 import os
@@ -24,6 +37,7 @@ import stat
 import tempfile
 from typing import Any
 
+from fourfold.plan import scenarios
 from fourfold.plan.fields import (
     METRIC_FIELDS,
     SETTINGS_FIELDS,
@@ -33,7 +47,13 @@ from fourfold.plan.fields import (
 from fourfold.plan.model import Metric, Plan, Settings
 
 FORMAT = "fourfold-plan"
-SCHEMA_VERSION = 1
+PLAIN_VERSION = 1
+"""The version written for a plan without scenarios (what every Fourfold since 1 reads)."""
+SCENARIOS_VERSION = 2
+"""The version that added row ids, scenarios and the active scenario; written only for a plan
+with scenarios."""
+SCHEMA_VERSION = SCENARIOS_VERSION
+"""The newest version this Fourfold reads."""
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
 
 
@@ -49,13 +69,23 @@ def sample_path() -> pathlib.Path:
 
 
 def to_dict(plan: Plan) -> dict[str, Any]:
-    """The JSON object of a plan (every field written, in declaration order)."""
-    return {
+    """The JSON object of a plan (every field written, in declaration order).
+
+    Version 2 (row ids, scenarios and the active one) only when the plan has scenarios.
+    """
+    versioned = bool(plan.scenarios)
+    data = {
         "format": FORMAT,
-        "schema_version": SCHEMA_VERSION,
+        "schema_version": SCENARIOS_VERSION if versioned else PLAIN_VERSION,
         "settings": dataclasses.asdict(plan.settings),
-        "metrics": [dataclasses.asdict(metric) for metric in plan.metrics],
+        "metrics": [{**({"id": metric.id} if versioned else {}),
+                     **{name: copy.deepcopy(getattr(metric, name)) for name in METRIC_FIELDS}}
+                    for metric in plan.metrics],
     }
+    if versioned:
+        data["scenarios"] = [scenarios.to_dict(scenario) for scenario in plan.scenarios]
+        data["active"] = plan.active
+    return data
 
 
 def dumps(plan: Plan) -> str:
@@ -119,8 +149,10 @@ def from_dict(data: Any) -> Plan:
         )
     if version < 1:
         raise PlanError(f"schema_version must be 1 or more, not {version}", "schema_version")
-    unknown = [key for key in data if key not in ("format", "schema_version", "settings",
-                                                   "metrics")]
+    members = ("format", "schema_version", "settings", "metrics")
+    if version >= SCENARIOS_VERSION:
+        members += ("scenarios", "active")
+    unknown = [key for key in data if key not in members]
     if unknown:
         raise PlanError(f"{unknown[0]}: unknown field {unknown[0]!r}", unknown[0])
     settings = Settings(**_fields(_object(data.get("settings", {}), "settings"),
@@ -132,12 +164,38 @@ def from_dict(data: Any) -> Plan:
     for index, row in enumerate(rows):
         where = f"metrics[{index}]"
         row = _object(row, where)
+        identity = {}
+        if version >= SCENARIOS_VERSION:
+            row = dict(row)
+            if "id" not in row:
+                raise PlanError(f"{where}.id: missing (required)", f"{where}.id")
+            identity["id"] = scenarios.check_row_id(row.pop("id"), f"{where}.id")
+            if any(metric.id == identity["id"] for metric in metrics):
+                raise PlanError(f"{where}.id: {identity['id']!r} is the id of another row",
+                                f"{where}.id")
         for name in REQUIRED_METRIC_FIELDS:
             if name not in row:
                 raise PlanError(f"{where}.{name}: missing (required)", f"{where}.{name}")
         kind = _fields({"kind": row["kind"]}, ("kind",), where, settings=False)["kind"]
-        metrics.append(Metric(**_fields(row, METRIC_FIELDS, where, settings=False, kind=kind)))
-    return Plan(settings, metrics)
+        metrics.append(Metric(**_fields(row, METRIC_FIELDS, where, settings=False, kind=kind),
+                              **identity))
+    plan = Plan(settings, metrics)
+    if version >= SCENARIOS_VERSION:
+        _scenarios(plan, data)
+    return plan
+
+
+def _scenarios(plan: Plan, data: dict) -> None:
+    """Read a version-2 file's scenarios and active scenario into ``plan``."""
+    listed = data.get("scenarios", [])
+    if not isinstance(listed, list):
+        raise PlanError("scenarios must be a JSON list", "scenarios")
+    for index, scenario in enumerate(listed):
+        plan.scenarios.append(scenarios.from_dict(plan, scenario, f"scenarios[{index}]"))
+    active = data.get("active")
+    if active is not None and active not in [scenario.name for scenario in plan.scenarios]:
+        raise PlanError(f"active: the plan has no scenario called {active!r}", "active")
+    plan.active = active
 
 
 def loads(text: str) -> Plan:

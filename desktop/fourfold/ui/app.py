@@ -11,7 +11,7 @@ from PySide6.QtCore import QCoreApplication, QSettings
 from PySide6.QtWidgets import QApplication
 
 from fourfold.errors import FourfoldError
-from fourfold.plan import load, sample_path
+from fourfold.plan import effective, load, sample_path
 from fourfold.ui import theme
 
 APP_NAME = "Fourfold"
@@ -68,7 +68,8 @@ def run_window(plan_path: str | None) -> int:
 
 
 def run_shot(plan_path: str | None, output: str, size: tuple[int, int] = (1400, 900),
-             row: int | None = None) -> int:
+             row: int | None = None, scenario: str | None = None,
+             tab: str = "plots") -> int:
     """Render the window on ``plan_path`` offscreen to the PNG ``output``; returns 0.
 
     Parameters
@@ -81,16 +82,28 @@ def run_shot(plan_path: str | None, output: str, size: tuple[int, int] = (1400, 
         Window width and height in pixels.
     row : int, optional
         Metric row to select, counted from 1.
+    scenario : str, optional
+        The scenario to show (default: the one the plan was saved with).
+    tab : {"plots", "scenarios"}
+        The tab under the table: the trade-off plots, or the scenarios' comparison and what
+        moves the duration.
 
     Raises
     ------
     FourfoldError
-        When the plan cannot be read, ``row`` is out of range or the PNG cannot be written.
+        When the plan cannot be read, ``row`` is out of range, the plan has no such scenario
+        or the PNG cannot be written.
     """
     os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
     plan, path = _load(plan_path)
-    if row is not None and not 1 <= row <= len(plan.metrics):
-        raise FourfoldError(f"--row must be from 1 to {len(plan.metrics)}; got {row}")
+    if scenario is not None:
+        from fourfold.plan.scenarios import BASE, find
+
+        plan.active = None if scenario.casefold() == BASE.casefold() else \
+            find(plan, scenario).name
+    rows = len(effective(plan, plan.active).metrics)
+    if row is not None and not 1 <= row <= rows:
+        raise FourfoldError(f"--row must be from 1 to {rows}; got {row}")
     app = application()
     from fourfold.ui.main_window import MainWindow
 
@@ -103,6 +116,7 @@ def run_shot(plan_path: str | None, output: str, size: tuple[int, int] = (1400, 
         if row is not None:
             window.table.setCurrentIndex(window.model.index(row - 1, 0))
             window.table.selectRow(row - 1)
+        window.lower_tabs.setCurrentIndex(1 if tab == "scenarios" else 0)
         window.show()
         app.processEvents()
         ok = window.grab().toImage().save(output, "PNG")

@@ -4,6 +4,11 @@
 place it asks :func:`fourfold.plan.compute` for numbers. Bursts of changes (a paste of 500
 cells, a spin box held down) are coalesced by a zero-delay single-shot timer, so the plan is
 recomputed and redrawn once per burst.
+
+A plan with scenarios shows one of them (or the base): :attr:`PlanDocument.plan` is the plan
+shown and edited, :attr:`PlanDocument.whole` the document with every scenario (what is saved).
+Every recompute evaluates the base and each scenario with a row cache of its own
+(:func:`fourfold.plan.comparison.outcomes`), for the comparison view.
 """
 
 from __future__ import annotations
@@ -16,7 +21,8 @@ from PySide6.QtCore import QObject, QTimer, Signal
 from fourfold.errors import FourfoldError
 from fourfold.plan import Plan
 from fourfold.plan.commands import CommandStack
-from fourfold.plan.evaluation import RowCache, compute
+from fourfold.plan.comparison import Caches, Outcome, outcomes
+from fourfold.plan.evaluation import compute
 
 UNTITLED = "Untitled plan"
 _NOT_IN_FILE_NAMES = re.compile(r'[\\/:*?"<>|\x00-\x1f]+')
@@ -71,7 +77,9 @@ class PlanDocument(QObject):
         self._timer.timeout.connect(self.recompute_now)
         self.compute_error = ""
         self._unsaved = False
-        self._rows = RowCache()
+        self._caches = Caches()
+        self.outcomes: list[Outcome] = []
+        """The base and every scenario, evaluated (empty for a plan without scenarios)."""
         self.stack = CommandStack(plan)
         self.stack.subscribe(self._on_change)
         self.path = pathlib.Path(path) if path is not None else None
@@ -79,8 +87,18 @@ class PlanDocument(QObject):
 
     @property
     def plan(self) -> Plan:
-        """The plan being edited (owned by the command stack)."""
+        """The plan shown and edited: the base, or the active scenario's effective plan."""
+        return self.stack.view
+
+    @property
+    def whole(self) -> Plan:
+        """The document: base, scenarios and the active one (what is saved)."""
         return self.stack.plan
+
+    @property
+    def scenario(self) -> str | None:
+        """The active scenario's name (``None``: the base)."""
+        return self.stack.plan.active
 
     @property
     def dirty(self) -> bool:
@@ -98,6 +116,12 @@ class PlanDocument(QObject):
         if self.path is not None:
             return self.path.name
         return " ".join(self.plan.settings.title.split()) or UNTITLED
+
+    def stale_changes(self) -> tuple[str, ...]:
+        """The scenarios' changes of rows or fields that no longer exist, in words."""
+        from fourfold.plan.scenarios import problems
+
+        return problems(self.whole)
 
     def replace(self, plan: Plan, path: str | pathlib.Path | None, *,
                 unsaved: bool = False) -> None:
@@ -149,10 +173,19 @@ class PlanDocument(QObject):
             self._timer.start()
 
     def _compute(self):
+        whole = self.stack.plan
         try:
-            result = compute(self.stack.plan, cache=self._rows)
+            if whole.scenarios:
+                self.outcomes = outcomes(whole, self._caches)
+                result = next(found.result for found in self.outcomes
+                              if found.name == whole.active)
+            else:
+                self.outcomes = []
+                self._caches.keep([None])
+                result = compute(whole, cache=self._caches.get(None))
         except FourfoldError as error:
             self.compute_error = str(error)
+            self.outcomes = []
             return None
         self.compute_error = ""
         return result

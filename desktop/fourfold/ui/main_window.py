@@ -3,8 +3,10 @@
 This module builds the window and holds what ties its parts together: the document's state,
 the row actions and the dialogs. Its actions and menus (:mod:`fourfold.ui.window_actions`),
 plan files and exports (:mod:`fourfold.ui.window_files`), autosave and recovery prompts
-(:mod:`fourfold.ui.window_recovery`) and look and text size (:mod:`fourfold.ui.window_look`)
-each have a module of their own.
+(:mod:`fourfold.ui.window_recovery`), look and text size (:mod:`fourfold.ui.window_look`) and
+scenarios (:mod:`fourfold.ui.window_scenarios`) each have a module of their own. Under the
+table, one tab holds the trade-off plots and another the scenarios' comparison and what moves
+the duration (:mod:`fourfold.ui.scenario_panel`).
 """
 
 from __future__ import annotations
@@ -19,6 +21,7 @@ from PySide6.QtWidgets import (
     QMainWindow,
     QMessageBox,
     QSplitter,
+    QTabWidget,
     QVBoxLayout,
     QWidget,
 )
@@ -31,6 +34,7 @@ from fourfold.ui.boundaries_plot import BoundariesView
 from fourfold.ui.document import PlanDocument
 from fourfold.ui.plots import PlotPanel
 from fourfold.ui.recovery import Recovery
+from fourfold.ui.scenario_panel import ScenarioPanel
 from fourfold.ui.settings_panel import SettingsPanel
 from fourfold.ui.summary import SummaryBar
 from fourfold.ui.table_model import PlanTableModel
@@ -39,11 +43,13 @@ from fourfold.ui.window_actions import WindowActions
 from fourfold.ui.window_files import WindowFiles
 from fourfold.ui.window_look import WindowLook
 from fourfold.ui.window_recovery import WindowRecovery, data_directory
+from fourfold.ui.window_scenarios import WindowScenarios
 
 AUTOSAVE_MS = 60_000
 
 
-class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWindow):
+class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowScenarios,
+                 QMainWindow):
     """The window on one plan.
 
     Parameters
@@ -83,7 +89,12 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         self.figures.setStretchFactor(1, 1)
         self.figures.setChildrenCollapsible(False)
         self.figures.setSizes([2500, 1000])
-        self.splitter.addWidget(self.figures)
+        self.scenario_panel = ScenarioPanel(self.document, ())
+        self.lower_tabs = QTabWidget()
+        self.lower_tabs.setDocumentMode(True)
+        self.lower_tabs.addTab(self.figures, "Trade-offs")
+        self.lower_tabs.addTab(self.scenario_panel, "Scenarios and what moves the duration")
+        self.splitter.addWidget(self.lower_tabs)
         # the table keeps the height fitted to its rows; the plots take what the window gains
         # or loses (the description growing to three lines after the first layout, say)
         self.splitter.setStretchFactor(0, 0)
@@ -101,7 +112,12 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         self.statusBar().addPermanentWidget(self.row_status)
 
         self._build_actions()
+        self._build_scenario_actions()
         self._build_menus()
+        self._build_scenario_menu()
+        self.scenario_panel.tools.addActions(self.scenario_tool_actions())
+        self.scenario_panel.comparison.chosen.connect(self.switch_scenario)
+        self.summary.chosen.connect(self.switch_scenario)
         self._problem: str | None = None
         for source in (self.document.message, self.settings_panel.message, self.table.problem):
             source.connect(self.show_problem)
@@ -150,16 +166,20 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         self._problem = None
 
     def _after_change(self) -> None:
-        self.setWindowTitle(f"{self.document.display_name}[*] — Fourfold")
+        self.show_title()
         stack = self.document.stack
         self.undo_action.setEnabled(stack.can_undo)
         self.redo_action.setEnabled(stack.can_redo)
         self.undo_action.setText(f"&Undo {stack.undo_text}" if stack.can_undo else "&Undo")
         self.redo_action.setText(f"&Redo {stack.redo_text}" if stack.can_redo else "&Redo")
+        self._scenario_state()
         self.setWindowModified(self.document.dirty)
 
     def _after_replace(self) -> None:
-        self.setWindowTitle(f"{self.document.display_name}[*] — Fourfold")
+        self.show_title()
+        problems = self.document.stale_changes()
+        if problems:
+            self.show_message(" ".join(problems))
         if self.isVisible():  # a window being built is fitted when it is first shown
             self.fit_table()
 
@@ -199,7 +219,8 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
         if row is None and self.model.rowCount():
             self.table.setCurrentIndex(self.model.index(0, 0))  # calls back with row 0
             return
-        self.plots.show_row(self.document.plan, self.document.result, row, now=now)
+        self.plots.show_row(self.document.plan, self.document.result, row, now=now,
+                            others=self._other_scenarios(row))
         self.boundaries.setVisible(self.document.plan.settings.looks > 1)
         self.boundaries.show_row(self.document.plan, self.document.result, row)
         if row is None:
@@ -211,6 +232,13 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, QMainWi
             self.row_status.setText(f"{metric.name}: {result.reason}")
         else:
             self.row_status.setText(metric.name)
+
+    def _other_scenarios(self, row: int | None) -> list:
+        """The other scenarios' evaluations to overlay in the plots (when the toggle is on)."""
+        if row is None or not self.overlay_action.isChecked():
+            return []
+        return [found for found in self.document.outcomes
+                if found.name != self.document.scenario]
 
     def _effect_dragged(self, row: int, effect: float) -> None:
         if 0 <= row < self.model.rowCount():

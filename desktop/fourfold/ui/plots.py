@@ -3,8 +3,9 @@
 :class:`PlotPanel` shows the four figures of :mod:`fourfold.figures.tradeoffs` for the row the
 user selected: it reuses their items on every update, coalesces bursts of updates into one
 redraw, and lets the user drag the effect marker (or move the slider below the plots) to change
-the row's effect. The same figures go into the PDF through
-:func:`fourfold.figures.tradeoffs.paint_tradeoffs`.
+the row's effect. It can also draw the same row's curves in other scenarios faintly; their
+curves are kept between redraws while those scenarios do not change. The same figures go into
+the PDF through :func:`fourfold.figures.tradeoffs.paint_tradeoffs`.
 """
 
 from __future__ import annotations
@@ -35,6 +36,7 @@ SLIDER_STEPS = 200
 HEADING_POINTS = 10.5
 EMPTY_TEXT = ("No metric row to plot. Add one with Plan → Add metric (Ctrl+Shift+N), or "
               "paste rows from a spreadsheet.")
+KEPT_OVERLAYS = 64
 
 
 class FigureGrid(pg.GraphicsView):
@@ -89,9 +91,10 @@ class FigureGrid(pg.GraphicsView):
         self.figures.blank()
 
     def set_tradeoffs(self, data: Tradeoffs, *, keep_handle: bool = False,
-                      sticky: bool = False) -> None:
+                      sticky: bool = False, others=()) -> None:
         """Show a row's figures (see :meth:`TradeoffFigures.set_tradeoffs`)."""
-        self.figures.set_tradeoffs(data, keep_handle=keep_handle, sticky=sticky)
+        self.figures.set_tradeoffs(data, keep_handle=keep_handle, sticky=sticky,
+                                   others=others)
 
     def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
         super().resizeEvent(event)
@@ -128,6 +131,26 @@ def snap_effect(effect: float, step: float) -> float:
     """
     on_grid = round(round(effect / step) * step, 12)
     return float(f"{on_grid:.3g}")
+
+
+def _comparable(metric, others) -> list[tuple]:
+    """``(outcome, row)`` of the other scenarios whose row of ``metric``'s id is drawn on the
+    same axes as it (same kind, effect scale, direction and quantity solved)."""
+    key = (metric.kind, metric.relative, metric.alternative, metric.solve)
+    found = []
+    for other in others:
+        for row, candidate in enumerate(other.plan.metrics):
+            if candidate.id == metric.id:
+                if (candidate.kind, candidate.relative, candidate.alternative,
+                        candidate.solve) == key and not other.result.rows[row].reason:
+                    found.append((other, row))
+                break
+    return found
+
+
+def _overlay_key(other, row: int) -> tuple:
+    return (other.name, repr(other.plan.settings), repr(other.plan.metrics[row]),
+            repr(other.result.rows[row]), other.result.duration_days)
 
 
 def _near_edge(data: Tradeoffs) -> bool:
@@ -188,6 +211,7 @@ class PlotPanel(QWidget):
         layout.addLayout(controls)
 
         self._pending: tuple | None = None
+        self._overlays: dict[tuple, Tradeoffs] = {}
         self._span_key: tuple | None = None
         self._drawn: tuple | None = None
         self._queued: float | None = None
@@ -212,7 +236,8 @@ class PlotPanel(QWidget):
         """The curve data on show (``None`` before the first row)."""
         return self.grid.shown
 
-    def show_row(self, plan, result, index: int | None, *, now: bool = False) -> None:
+    def show_row(self, plan, result, index: int | None, *, now: bool = False,
+                 others=()) -> None:
         """Show row ``index`` of ``plan`` (with its computed ``result``); ``None`` clears.
 
         Parameters
@@ -225,8 +250,11 @@ class PlotPanel(QWidget):
         now : bool
             Redraw at once instead of on the coalescing timer: for a caller that is itself
             coalesced (a recompute), so that table and plots are painted in the same pass.
+        others : sequence of fourfold.plan.comparison.Outcome
+            Other scenarios: the same row (by id) is drawn faintly where it is comparable
+            (same kind, effect scale, direction and quantity solved).
         """
-        self._pending = (plan, result, index)
+        self._pending = (plan, result, index, tuple(others))
         if now:
             self._redraw_timer.stop()
             self._redraw()
@@ -268,7 +296,7 @@ class PlotPanel(QWidget):
     def _redraw(self) -> None:
         if self._pending is None:
             return
-        plan, result, index = self._pending
+        plan, result, index, others = self._pending
         self._pending = None
         if index is None or not 0 <= index < len(plan.metrics):
             self._drawn = None
@@ -284,8 +312,9 @@ class PlotPanel(QWidget):
         self._set_heading(metric, index)
         dragging = self.grid.handle.moving or self.slider.isSliderDown()
         # an edit of another row leaves this row's inputs, result and settings as drawn
+        overlaid = _comparable(metric, others)
         drawn = (index, repr(plan.settings), repr(metric), repr(result.rows[index]),
-                 result.duration_days)
+                 result.duration_days, tuple(_overlay_key(o, j) for o, j in overlaid))
         if drawn == self._drawn and not dragging:
             return
         self._drawn = None if dragging else drawn
@@ -297,7 +326,9 @@ class PlotPanel(QWidget):
             data = tradeoffs(plan, index, result)  # re-centre once the user lets go
         sticky = key == self._span_key
         self._span_key = key
-        self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving, sticky=sticky)
+        overlays = [self._overlay(other, row, data.effect_span) for other, row in overlaid]
+        self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving, sticky=sticky,
+                                others=overlays)
         show_simulation(self.grid, plan, result, index)
         self.grid.settle()
         self._sync_slider(data)
@@ -307,6 +338,17 @@ class PlotPanel(QWidget):
         if self.heading.text() != text:
             self.heading.setText(text)
             self.heading.setToolTip(text)
+
+    def _overlay(self, other, row: int, span: tuple[float, float]) -> Tradeoffs:
+        """The curves of ``row`` in scenario ``other`` on the shown effect span (kept)."""
+        key = (*_overlay_key(other, row), span)
+        found = self._overlays.get(key)
+        if found is None:
+            if len(self._overlays) >= KEPT_OVERLAYS:
+                self._overlays.clear()
+            found = self._overlays[key] = tradeoffs(other.plan, row, other.result,
+                                                    effect_span=span)
+        return found
 
     def _set_controls_enabled(self, enabled: bool) -> None:
         for widget in (self.slider, self.slider_label, self.slider_value):

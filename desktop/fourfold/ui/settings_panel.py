@@ -32,6 +32,7 @@ from fourfold.formatting import format_count, format_number, format_percent, par
 from fourfold.plan import CHOICES
 from fourfold.plan.commands import SetSetting
 from fourfold.plan.fields import CORRECTION_LABELS, MAX_ARMS, MAX_LOOKS
+from fourfold.plan.scenarios import find
 from fourfold.ui.document import PlanDocument
 
 SPENDING_LABELS = {
@@ -173,6 +174,7 @@ class SettingsPanel(QWidget):
         super().__init__(parent)
         self.document = document
         self.fields: dict[str, QWidget] = {}
+        self._tips: dict[str, str] | None = None  # the fields' own tooltips
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
         outer.setSpacing(6)
@@ -311,7 +313,7 @@ class SettingsPanel(QWidget):
             self.refresh()
 
     def _on_change(self, change) -> None:
-        if change.kind in ("settings", "reset"):
+        if change.kind in ("settings", "scenario", "reset"):
             self.refresh()
 
     @staticmethod
@@ -325,11 +327,32 @@ class SettingsPanel(QWidget):
             return format_count(value)
         return format_number(value, sig=4)
 
+    def _base_text(self, field: str, value) -> str:
+        """A setting of the base in words, for a scenario field's tooltip."""
+        if isinstance(value, bool):
+            return "yes" if value else "no"
+        if isinstance(value, str):
+            return {**CORRECTION_LABELS, **SPENDING_LABELS}.get(value, value) or "empty"
+        return self.show_setting(field, value) or "none"
+
     def refresh(self) -> None:
-        """Show the plan's current settings (without sending commands)."""
+        """Show the plan's current settings (without sending commands); while a scenario is
+        on show, the fields it changes are marked and their tooltips give the base's value."""
         settings = self.document.plan.settings
+        whole = self.document.whole
+        changed = find(whole, whole.active).settings if whole.active is not None else {}
+        if self._tips is None:
+            self._tips = {field: widget.toolTip() for field, widget in self.fields.items()}
         for field, widget in self.fields.items():
             value = getattr(settings, field)
+            mark = field in changed
+            if bool(widget.property("changed")) != mark:
+                widget.setProperty("changed", mark)
+                widget.style().unpolish(widget)
+                widget.style().polish(widget)
+            base = self._base_text(field, getattr(whole.settings, field))
+            widget.setToolTip(self._tips[field] + (
+                f"\nChanged in scenario {whole.active} (base: {base})" if mark else ""))
             widget.blockSignals(True)
             if isinstance(widget, QCheckBox):
                 widget.setChecked(bool(value))

@@ -1,14 +1,20 @@
-"""The summary line: the plan's duration, its total units and the binding metric, always shown."""
+"""The summary line: the plan's duration, its total units and the binding metric, always shown.
+
+For a plan with scenarios it starts with the scenario on show (a drop-down that switches it,
+tinted while a scenario rather than the base is shown) and gives the duration's difference
+from the base.
+"""
 
 from __future__ import annotations
 
 import html
 import math
 
-from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QSizePolicy
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import QComboBox, QFrame, QHBoxLayout, QLabel, QSizePolicy
 
-from fourfold.formatting import format_count, format_number
+from fourfold.formatting import MINUS, format_count, format_number
+from fourfold.plan.scenarios import BASE
 from fourfold.ui.document import PlanDocument
 
 
@@ -32,8 +38,29 @@ def duration_text(days: float | None) -> str:
     return f"{format_number(days, sig=3)} {day_word} ({format_number(weeks, sig=2)} {week_word})"
 
 
+def base_delta(days: float | None, base: float | None) -> str:
+    """The difference of a scenario's duration from the base's, in words.
+
+    Examples
+    --------
+    >>> base_delta(21.0, 35.0), base_delta(35.0, 35.0), base_delta(None, 35.0)
+    ('−14 d vs base', 'same as base', '')
+    """
+    if days is None or base is None or not (math.isfinite(days) and math.isfinite(base)):
+        return ""
+    delta = days - base
+    if delta == 0:
+        return "same as base"
+    sign = "+" if delta > 0 else MINUS
+    return f"{sign}{format_number(abs(delta), sig=3)} d vs base"
+
+
 class SummaryBar(QFrame):
-    """One line under the settings: duration, total units, binding metric, notes on hover."""
+    """One line under the settings: the scenario on show, duration, total units, binding
+    metric, notes on hover. :attr:`chosen` carries a scenario picked in the drop-down
+    (``None``: the base)."""
+
+    chosen = Signal(object)
 
     def __init__(self, document: PlanDocument, parent=None) -> None:
         super().__init__(parent)
@@ -42,6 +69,13 @@ class SummaryBar(QFrame):
         layout = QHBoxLayout(self)
         layout.setContentsMargins(12, 6, 12, 6)
         layout.setSpacing(28)
+        self.scenario = QComboBox()
+        self.scenario.setObjectName("scenarioChoice")
+        self.scenario.setAccessibleName("Scenario on show")
+        self.scenario.setToolTip("The scenario on show: edits change only it (Base: the plan "
+                                 "as entered)")
+        self.scenario.activated.connect(self._picked)
+        layout.addWidget(self.scenario)
         self.duration = QLabel()
         self.units = QLabel()
         self.binding = QLabel()
@@ -63,8 +97,31 @@ class SummaryBar(QFrame):
         return tuple(label.text().replace("<b>", "").replace("</b>", "")
                      for label in (self.duration, self.units, self.binding))
 
+    def scenario_text(self) -> str:
+        """The scenario on show as the drop-down names it ("" without scenarios)."""
+        return "" if self.scenario.isHidden() else self.scenario.currentText()
+
+    def _picked(self, index: int) -> None:
+        self.chosen.emit(self.scenario.itemData(index))
+
+    def _show_scenarios(self) -> None:
+        whole = self.document.whole
+        names = [None, *(scenario.name for scenario in whole.scenarios)]
+        self.scenario.blockSignals(True)
+        if [self.scenario.itemData(i) for i in range(self.scenario.count())] != names:
+            self.scenario.clear()
+            for name in names:
+                self.scenario.addItem(f"Scenario: {name}" if name else f"Showing: {BASE}", name)
+        self.scenario.setCurrentIndex(names.index(whole.active))
+        self.scenario.blockSignals(False)
+        self.scenario.setVisible(bool(whole.scenarios))
+        self.scenario.setProperty("active", whole.active is not None)
+        self.scenario.style().unpolish(self.scenario)
+        self.scenario.style().polish(self.scenario)
+
     def refresh(self) -> None:
         """Show the document's current result."""
+        self._show_scenarios()
         result = self.document.result
         if result is None:
             self.duration.setText(f"Cannot compute the plan: {self.document.compute_error}")
@@ -77,6 +134,11 @@ class SummaryBar(QFrame):
         if result.duration_days is None and settings.daily_units is None:
             duration = "— (set daily units)"
         text = f"Duration <b>{duration}</b>"
+        outcomes = self.document.outcomes
+        if self.document.scenario is not None and outcomes and outcomes[0].complete:
+            delta = base_delta(result.duration_days, outcomes[0].result.duration_days)
+            if delta:
+                text += f" ({delta})"
         if settings.looks > 1 and result.binding_index is not None:
             expected = result.rows[result.binding_index].days_expected_h1
             if math.isfinite(expected):

@@ -2,7 +2,8 @@
 
 A cell shows an input as the user typed it (in the row's units), a plan default or an unused
 input in muted italics, a computed output, or "—" with the reason in its tooltip when the row
-cannot be computed. The row header marks the binding metric.
+cannot be computed. The row header marks the binding metric. While a scenario is on show, the
+inputs it changes are tinted and their tooltips give the base's value.
 """
 
 from __future__ import annotations
@@ -10,6 +11,7 @@ from __future__ import annotations
 from PySide6.QtCore import Qt
 
 from fourfold.plan import CHOICES
+from fourfold.plan.scenarios import find
 from fourfold.ui import cells, simulation_cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, TEXT
 
@@ -18,6 +20,31 @@ ROLE = Qt.ItemDataRole
 
 class TableDisplay:
     """Display texts and roles of :class:`fourfold.ui.table_model.PlanTableModel`."""
+
+    def scenario_changes(self) -> dict:
+        """Row id → the fields the scenario on show changes (empty for the base)."""
+        whole = self.document.whole
+        if whole.active is None:
+            return {}
+        return find(whole, whole.active).rows
+
+    def changed_here(self, row: int, key: str) -> bool:
+        """Whether the scenario on show changes this input of ``row``."""
+        return key in self._changes.get(self._rows[row].id, ())
+
+    def _base_text(self, row: int, key: str) -> str:
+        base = next((metric for metric in self.document.whole.metrics
+                     if metric.id == self._rows[row].id), None)
+        if base is None:
+            return ""
+        value = getattr(base, key)
+        if isinstance(value, bool):
+            return "yes" if value else "no"
+        if key == "method" and value is None:
+            return CHOICES["method"][base.kind][0]
+        if isinstance(value, str) or value is None:
+            return cells.label(value) if value is not None else "empty"
+        return cells.show_value(base, key, value)
 
     def _default_text(self, key: str) -> str:
         settings = self.document.plan.settings
@@ -70,6 +97,9 @@ class TableDisplay:
         if col.computed and reason:
             return f"Cannot compute this row: {reason}"
         metric = self._rows[row]
+        if not col.computed and self.changed_here(row, col.key):
+            return (f"Changed in scenario {self.document.scenario} "
+                    f"(base: {self._base_text(row, col.key)})")
         if col.key == "solve" and self._solved(row) != metric.solve:
             return (f"The plan has a fixed runtime, so this row reports the "
                     f"{cells.label(self._solved(row))} those days allow")

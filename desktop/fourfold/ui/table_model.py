@@ -82,6 +82,9 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         self._italic.setItalic(True)
         self._bold = QFont()
         self._bold.setBold(True)
+        self._changes = self.scenario_changes()
+        self._scenario_tint = QColor(self._tints.accent)
+        self._scenario_tint.setAlpha(45)
         self._cache: dict[int, dict[tuple[int, int], object]] = {}  # row → (column, role)
         self._touched: set[int] | None = set()
         document.changed.connect(self._on_change)
@@ -115,6 +118,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
 
     def _on_change(self, change) -> None:
         kind = change.kind
+        self._changes = self.scenario_changes()
         if kind == "cells" and self._touched is not None:
             self._touched.update(change.rows)
             self._forget(change.rows)
@@ -205,6 +209,8 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         """Follow a change of the colour scheme."""
         self._tints = theme.tints(dark)
         self._marker = _marker_icon(self._tints.binding)
+        self._scenario_tint = QColor(self._tints.accent)
+        self._scenario_tint.setAlpha(45)
         self._cache.clear()
         if self._rows:
             self.dataChanged.emit(self.index(0, 0), self.index(len(self._rows) - 1,
@@ -284,6 +290,8 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
                 return self._tints.solved
             if col.computed:
                 return self._tints.computed
+            if self.changed_here(row, col.key):
+                return self._scenario_tint
             return None
         if role == ROLE.ForegroundRole:
             return self._foreground(row, column)

@@ -64,7 +64,7 @@ class WindowFiles:
         self.document.replace(plan, path)
         self.recovery.discard()
         self.remember_recent(path)
-        self.show_message(f"Opened {path}")
+        self.show_message(" ".join([f"Opened {path}.", *self.document.stale_changes()]))
         return True
 
     def save_file(self) -> bool:
@@ -87,7 +87,7 @@ class WindowFiles:
         """Write the plan to ``path`` (atomically); on failure the old file stays intact."""
         self.settings_panel.commit_pending()
         try:
-            save(self.document.plan, path)
+            save(self.document.whole, path)
         except (FourfoldError, OSError) as error:
             self.show_error("Cannot save the plan", f"{path}\n\n{error}")
             return False
@@ -138,7 +138,8 @@ class WindowFiles:
         return path
 
     def export_csv(self) -> None:
-        """Write the plan table to a CSV file."""
+        """Write the plan table of the scenario on show to a CSV file (and, for a plan with
+        scenarios, their comparison beside it)."""
         path = self._export_path(".csv", "Export CSV table")
         if path:
             from fourfold.export.csv import write_csv
@@ -146,19 +147,19 @@ class WindowFiles:
             self._export(write_csv, path)
 
     def export_pdf(self) -> None:
-        """Write the plan report to a PDF (Letter in US locales, A4 elsewhere)."""
+        """Write the report of the scenario on show to a PDF (Letter in US locales, A4
+        elsewhere)."""
         path = self._export_path(".pdf", "Export PDF report")
         if path:
             from fourfold.export.pdf import write_pdf
 
             imperial = QLocale().measurementSystem() == QLocale.MeasurementSystem.ImperialUSSystem
-            self._export(lambda plan, target: write_pdf(plan, target,
-                                                        page="letter" if imperial else "a4"),
-                         path)
+            self._export(lambda plan, target, scenario: write_pdf(
+                plan, target, page="letter" if imperial else "a4", scenario=scenario), path)
 
     def _export(self, writer, path: str) -> None:
         try:
-            writer(self.document.plan, path)
+            writer(self.document.whole, path, self.document.scenario)
         except (FourfoldError, OSError) as error:
             self.show_error("Cannot export", f"{path}\n\n{error}")
             return

@@ -24,11 +24,21 @@ QPlainTextEdit#planDescription {{ color: {muted}; border: none; background: tran
 QFrame#summaryBar {{ background: {summary}; border-radius: 6px; }}
 QLabel#summaryItem {{ font-size: {summary_pt}pt; }}
 QLabel#summaryNotes {{ color: {muted}; }}
+QLineEdit[changed="true"], QSpinBox[changed="true"], QComboBox[changed="true"],
+QCheckBox[changed="true"] {{ background: {changed}; }}
+QComboBox#scenarioChoice {{ font-size: {summary_pt}pt; padding: 1px 8px; }}
+QComboBox#scenarioChoice[active="true"] {{ background: {accent}; color: #ffffff;
+    font-weight: 600; border: 1px solid {accent}; border-radius: 4px; }}
 """
 HEADER_STYLE = """
 QHeaderView::section {{ padding: 2px 6px; border: none; border-right: 1px solid {mid};
     border-bottom: 1px solid {mid}; background: {button}; font-weight: 600; }}
 """
+
+
+def _changed_tint(accent) -> str:
+    """The accent, faint: the background of a field a scenario changes (as in the table)."""
+    return f"rgba({accent.red()}, {accent.green()}, {accent.blue()}, 45)"
 
 
 class WindowLook:
@@ -50,7 +60,7 @@ class WindowLook:
             button=palette.button().color().name(), accent=tints.accent.name(),
             muted=tints.muted.name(), summary=tints.computed.name(),
             small=round(base_pt * 0.8, 1), title=round(base_pt * 1.45, 1),
-            summary_pt=round(base_pt * 1.1, 1),
+            summary_pt=round(base_pt * 1.1, 1), changed=_changed_tint(tints.accent),
         )
         self.settings_panel.setStyleSheet(sheet)
         self.summary.setStyleSheet(sheet)
@@ -79,6 +89,7 @@ class WindowLook:
         self.table.horizontalHeader().setFont(font)
         self.table.verticalHeader().setFont(font)
         self.boundaries.setFont(font)
+        self.scenario_panel.set_text_font(font)
         if self.isVisible():  # a window being built is fitted when it is first shown
             self.fit_table()
         self.plots.set_text_scale(scale)

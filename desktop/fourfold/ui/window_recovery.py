@@ -43,7 +43,7 @@ class WindowRecovery:
         """Write the recovery copy when there are unsaved changes."""
         if self.document.dirty:
             try:
-                self.recovery.write(self.document.plan, self.document.path)
+                self.recovery.write(self.document.whole, self.document.path)
             except OSError as error:
                 self.show_message(f"Autosave failed: {error}")
 

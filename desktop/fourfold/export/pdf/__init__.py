@@ -4,7 +4,9 @@
 date; the key figures (duration, total units, binding metric, arms and split) and the
 evaluation's notes; the assumptions (α, power, correction, traffic, share, rounding, interim
 looks); the metric rows as entered; the results, with the solved quantity of each row in bold
-and the binding row highlighted; interim looks when the plan has them; variance reduction and
+and the binding row highlighted; for a plan with scenarios the alternatives considered
+(:mod:`fourfold.export.pdf.alternatives`); what moves the duration; interim looks when the
+plan has them; variance reduction and
 clustering per row; each row's notes; the trade-off figures of every primary metric; and the
 published methods the rows use, with references. Every page carries ``fourfold.CAUTION`` and
 "page i of n" in its footer.
@@ -60,13 +62,16 @@ def application() -> QGuiApplication:
 
 
 def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
-              today: datetime.date | None = None) -> Path:
+              today: datetime.date | None = None, scenario: str | None = None) -> Path:
     """Write the plan's report to ``path``.
 
     Parameters
     ----------
     plan : fourfold.plan.Plan
         The plan; it is evaluated here with :func:`fourfold.plan.evaluation.compute`.
+    scenario : str, optional
+        The scenario the report documents (default: the base); the alternatives section
+        compares every scenario of ``plan``.
     path : path-like
         The PDF file; replaced only when the report is complete.
     page : {"a4", "letter"}
@@ -96,7 +101,9 @@ def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
     if page not in PAGES:
         raise ExportError(f"page must be one of {', '.join(PAGES)}; got {page!r}")
     from fourfold.plan.evaluation import compute
+    from fourfold.plan.scenarios import effective
 
+    whole, plan = plan, effective(plan, scenario)
     result = compute(plan)
     application()
     path = Path(path)
@@ -113,14 +120,15 @@ def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
         if not painter.begin(writer):
             raise ExportError(f"cannot write {path}: the PDF writer could not open the file")
         try:
-            _render(painter, writer, plan, result, when)
+            _render(painter, writer, plan, result, when, (whole, scenario))
         finally:
             painter.end()
         del painter, writer
     return path
 
 
-def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.date) -> None:
+def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.date,
+            reported: tuple) -> None:
     width, height = float(writer.width()), float(writer.height())
 
     def pt(points: float) -> float:
@@ -131,7 +139,7 @@ def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.
     header_height = pt(24)
     flow = Flow(writer, width=width, top_first=0.0, top=header_height,
                 bottom=height - footer_height)
-    _content(flow, plan, result, when)
+    _content(flow, plan, result, when, reported)
     dated = f"{when.day} {when:%B %Y}"
     small = font(7.5)
     title = QFontMetricsF(small, writer).elidedText(clean(plan.settings.title),
@@ -163,10 +171,17 @@ def _roles(plan) -> str:
     return f"{len(plan.metrics)} {rows} ({', '.join(parts)})" if parts else f"0 {rows}"
 
 
-def _content(flow: Flow, plan, result, when: datetime.date) -> None:
+def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> None:
     s = plan.settings
+    whole, scenario = reported
     flow.paragraph("SAMPLE-SIZE PLAN", font(8, bold=True), ACCENT, after=2)
     flow.paragraph(s.title, font(19, bold=True), INK, spacing=1.1, after=5)
+    if whole.scenarios:
+        from fourfold.plan.scenarios import describe
+
+        shown = ("Base: the plan as entered" if scenario is None
+                 else f"Scenario {scenario}: {describe(whole, scenario)}")
+        flow.paragraph(shown, font(10, bold=True), ACCENT, spacing=1.2, after=5)
     flow.paragraph(f"Prepared {when.day} {when:%B %Y} with Fourfold {__version__} · "
                    f"{_roles(plan)}", font(8), MUTED, after=8)
     flow.paragraph(s.description, font(9.5), INK, spacing=1.3, after=10)
@@ -205,6 +220,12 @@ def _content(flow: Flow, plan, result, when: datetime.date) -> None:
                    "level each comparison is tested at, after any correction.",
                    font(8), MUTED, spacing=1.25)
     flow.table(report.results_table(plan, result))
+
+    from fourfold.export.pdf.alternatives import alternatives, what_moves
+
+    if whole.scenarios:
+        alternatives(flow, whole, scenario)
+    what_moves(flow, plan, result, scenario or "the base")
 
     sequential = report.sequential_table(plan, result)
     if sequential is not None:

@@ -1,0 +1,224 @@
+"""What moves the duration: the plan's days when one assumption is off by a given amount.
+
+For the binding row's baseline, its sd, its effect (its margin when the effect is zero, as
+for a non-inferiority guardrail), its CUPED ρ when it uses one, and the plan's daily units
+and traffic share, :func:`sensitivity` gives the duration with that one input scaled by
+``1 − amount`` and ``1 + amount`` (the share at most 100 %, ρ below 1), every other input as
+planned. The whole plan is evaluated again each time, so another row may become binding; an
+input that makes the plan incomplete gives no duration for that side. The assumptions come
+sorted by swing — the spread of their two durations — largest first: the plan is most fragile
+to the first.
+
+Daily units and share change every row's days alike and no row's units, so their durations
+come from the binding row's units directly (:func:`fourfold.engine.duration_days`, as the
+evaluation computes days); the row inputs are re-solved through
+:func:`fourfold.plan.evaluation.compute` with a scratch :class:`RowCache`, which keeps the
+cost at one row per perturbation.
+
+Examples
+--------
+>>> from fourfold.plan import load, sample_path
+>>> found = sensitivity(load(sample_path()))
+>>> found.days, found.binding, [(s.label, s.low_days, s.high_days) for s in found.swings][:2]
+(35.0, 'Checkout conversion', [('Effect', 49.0, 21.0), ('Baseline', 42.0, 28.0)])
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+
+from fourfold import engine
+from fourfold.plan.evaluation import DECIDING_ROLES, PlanResult, RowCache, compute
+from fourfold.plan.model import Plan
+
+DEFAULT_AMOUNT = 0.2
+
+
+@dataclass(frozen=True)
+class Swing:
+    """The duration with one input scaled down and up.
+
+    Attributes
+    ----------
+    label : str
+        The input ("Baseline", "Daily units", …).
+    field : str
+        Its field (a metric field of the binding row, or a settings field).
+    value, low_value, high_value : float
+        The input as planned and scaled by ``1 − amount`` and ``1 + amount`` (capped).
+    low_days, high_days : float
+        The plan's duration at those values (``nan`` when the plan cannot be computed then).
+    note : str
+        Why a side was capped or cannot be computed; ``""`` otherwise.
+    percent : bool
+        Whether the input reads as a percentage (a share, a proportion's baseline, a relative
+        effect or margin).
+    """
+
+    label: str
+    field: str
+    value: float
+    low_value: float
+    high_value: float
+    low_days: float
+    high_days: float
+    note: str = ""
+    percent: bool = False
+
+    @property
+    def swing(self) -> float:
+        """``|high_days − low_days|``; ``nan`` when a side has no duration."""
+        return abs(self.high_days - self.low_days)
+
+
+@dataclass(frozen=True)
+class Sensitivity:
+    """The swings of a plan's duration, largest first.
+
+    Attributes
+    ----------
+    amount : float
+        The relative change applied (0.2: ±20 %).
+    days : float
+        The duration as planned (``nan`` when none).
+    binding : str or None
+        The binding row's name.
+    swings : tuple of Swing
+        Sorted by swing, largest first; those without a swing last.
+    message : str
+        Why there is nothing to show (a fixed runtime, no binding row, no daily units, an
+        incomplete plan); ``""`` when there are swings.
+    """
+
+    amount: float
+    days: float
+    binding: str | None
+    swings: tuple[Swing, ...]
+    message: str = ""
+
+
+def _scaled(value: float, factor: float, low: float | None, high: float | None) -> float:
+    scaled = float(f"{value * factor:.12g}")  # 0.05 × 0.8 is 0.04, not 0.04000000000000001
+    if high is not None:
+        scaled = min(scaled, high)
+    if low is not None:
+        scaled = max(scaled, low)
+    return scaled
+
+
+def _complete(plan: Plan, result: PlanResult) -> bool:
+    return all(not row.reason for metric, row in zip(plan.metrics, result.rows, strict=True)
+               if metric.role in DECIDING_ROLES)
+
+
+def _duration(plan: Plan, cache: RowCache) -> tuple[float, float]:
+    """The plan's duration, and its days before rounding up (to order equal durations)."""
+    result = compute(plan, cache=cache)
+    if not _complete(plan, result) or result.duration_days is None:
+        return math.nan, math.nan
+    return float(result.duration_days), _exact(plan.settings, result.total_units)
+
+
+def _exact(settings, total: float) -> float:
+    return total / (settings.daily_units * settings.share)
+
+
+def _row_inputs(metric) -> list[tuple[str, str, float | None, float | None]]:
+    """(label, field, lower bound, upper bound) of the row inputs that apply."""
+    inputs = [("Baseline", "baseline", None, None)]
+    if metric.sd is not None:
+        inputs.append(("sd", "sd", None, None))
+    if metric.effect:
+        inputs.append(("Effect", "effect", None, None))
+    elif metric.margin:
+        inputs.append(("Margin", "margin", None, None))
+    if metric.rho:
+        inputs.append(("CUPED ρ", "rho", -0.99, 0.99))
+    return inputs
+
+
+def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
+                result: PlanResult | None = None, cache: RowCache | None = None) -> Sensitivity:
+    """The duration of ``plan`` with each assumption off by ``amount`` (module notes).
+
+    Parameters
+    ----------
+    plan : Plan
+        A plan (an effective plan for a scenario, :func:`fourfold.plan.effective`).
+    amount : float
+        The relative change, in (0, 1): 0.2 scales each input by 0.8 and 1.2.
+    result : PlanResult, optional
+        ``compute(plan)``, when the caller has it.
+    cache : RowCache, optional
+        A scratch cache kept between calls (not the document's: it is left holding a
+        perturbed plan).
+
+    Raises
+    ------
+    ValueError
+        For an ``amount`` outside (0, 1).
+    """
+    if not (isinstance(amount, (int, float)) and 0 < amount < 1):
+        raise ValueError(f"amount must satisfy 0 < amount < 1; got {amount!r}")
+    result = compute(plan) if result is None else result
+    settings = plan.settings
+    days = math.nan if result.duration_days is None else float(result.duration_days)
+    if settings.runtime_days is not None:
+        return Sensitivity(amount, days, None, (), "A fixed runtime sets the duration: it does "
+                           "not move with the assumptions (the detectable effect does).")
+    if not _complete(plan, result):
+        return Sensitivity(amount, math.nan, None, (), "The plan is incomplete: a primary or "
+                           "guardrail row cannot be computed, so there is no duration to move.")
+    index = result.binding_index
+    if index is None or settings.daily_units is None:
+        why = ("No primary or guardrail row solves for sample size: nothing sets the duration."
+               if index is None else "Without daily units the plan has no duration.")
+        return Sensitivity(amount, days, None, (), why)
+    cache = RowCache() if cache is None else cache
+    metric = plan.metrics[index]
+    swings = []
+    for label, field, low, high in _row_inputs(metric):
+        value = getattr(metric, field)
+        sides = []
+        for factor in (1 - amount, 1 + amount):
+            changed = dataclasses.replace(metric, **{field: _scaled(value, factor, low, high)})
+            metrics = list(plan.metrics)
+            metrics[index] = changed
+            sides.append((getattr(changed, field),
+                          *_duration(Plan(settings, metrics), cache)))
+        percent = ((field == "baseline" and metric.kind == "proportion")
+                   or (field in ("effect", "margin") and metric.relative))
+        swings.append(_swing(label, field, value, sides, percent=percent))
+    total = result.rows[index].units_total
+    for label, field, high in (("Daily units", "daily_units", None),
+                               ("Traffic share", "share", 1.0)):
+        value = getattr(settings, field)
+        sides = []
+        for factor in (1 - amount, 1 + amount):
+            moved = dataclasses.replace(settings, **{field: _scaled(value, factor, None, high)})
+            sides.append((getattr(moved, field), float(engine.duration_days(
+                total, moved.daily_units, moved.share, moved.whole_weeks)),
+                _exact(moved, total)))
+        capped = field == "share" and value * (1 + amount) > 1.0
+        swings.append(_swing(label, field, value, sides,
+                             "the share is at most 100 %" if capped else "",
+                             percent=field == "share"))
+    swings.sort(key=lambda pair: (math.isnan(pair[0].swing), -_finite(pair[0].swing),
+                                  -_finite(pair[1])))
+    return Sensitivity(amount, days, metric.name, tuple(swing for swing, _ in swings))
+
+
+def _finite(value: float) -> float:
+    return 0.0 if math.isnan(value) else value
+
+
+def _swing(label: str, field: str, value: float, sides: list,
+           note: str = "", *, percent: bool) -> tuple[Swing, float]:
+    """The swing, and its spread in days before rounding up (to order equal swings)."""
+    (low_value, low_days, low_exact), (high_value, high_days, high_exact) = sides
+    if math.isnan(low_days) or math.isnan(high_days):
+        note = note or "the plan cannot be computed on one side"
+    return (Swing(label, field, value, low_value, high_value, low_days, high_days, note,
+                  percent), abs(high_exact - low_exact))
