@@ -20,6 +20,7 @@ from PySide6.QtCore import QEvent, QRectF, Qt
 from PySide6.QtGui import QPainter, QPalette
 from PySide6.QtWidgets import QApplication
 
+from fourfold.figures.placement import text_box
 from fourfold.figures.simulation_marks import show_simulation
 from fourfold.figures.style import Style, paper, style_from_palette
 from fourfold.figures.tradeoff_plot import TICK_POINTS, FigurePlot
@@ -109,6 +110,23 @@ class TradeoffFigures(pg.GraphicsLayout):
             plot.item.layout.activate()
         self.layout.activate()
         self.plots["runtime"].fit()
+        self.place_labels()
+
+    def place_labels(self) -> None:
+        """Put every figure's texts clear of each other, of the markers and of the plot's
+        edges (:meth:`FigurePlot.place_labels`; the effect figure's include the marker's)."""
+        for name, plot in self.plots.items():
+            plot.place_labels(self.handle if name == "effect" else None)
+
+    def label_boxes(self) -> dict[str, dict[str, list]]:
+        """Each figure's :meth:`FigurePlot.label_boxes`; the effect figure's include the
+        effect marker's label as "marker label"."""
+        found = {name: plot.label_boxes() for name, plot in self.plots.items()}
+        label = self.handle.label
+        found["effect"]["marker label"] = ([text_box(label)]
+                                           if self.handle.isVisible() and label.isVisible()
+                                           else [])
+        return found
 
     def blank(self) -> None:
         """Show empty plots (no row selected)."""
@@ -144,7 +162,7 @@ class TradeoffFigures(pg.GraphicsLayout):
 
 def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *,
                     dpi: float | None = None, text_scale: float = 1.0,
-                    palette: QPalette | None = None) -> None:
+                    palette: QPalette | None = None, inspect=None) -> None:
     """Paint row ``index``'s four trade-off figures into ``rect`` with ``painter``.
 
     The figures are built offscreen at the physical size of ``rect`` (so that fonts keep their
@@ -168,6 +186,9 @@ def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *
         Text size relative to the window's normal size.
     palette : QPalette, optional
         Colours; default a light palette (paper).
+    inspect : callable, optional
+        Called with the built :class:`TradeoffFigures` just before they are painted (tests
+        read where the texts went).
 
     Examples
     --------
@@ -209,6 +230,10 @@ def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *
         grid.settle()
         for plot in grid.plots.values():
             plot.legend.updateSize()
+        QApplication.sendPostedEvents()
+        grid.place_labels()  # the legends have their final size now
+        if inspect is not None:
+            inspect(grid)
         for item in host.scene().items():
             if isinstance(item, pg.ScatterPlotItem):  # markers are sized in device pixels
                 item.setExportMode(True, {"antialias": True, "resolutionScale": scale})

@@ -102,7 +102,7 @@ class FigureGrid(pg.GraphicsView):
         # emptied the scene.
         figures = getattr(self, "figures", None)
         if figures is not None and not self.closed:
-            figures.plots["runtime"].fit()
+            figures.settle()  # the new size lays out the figures, then places their texts
 
 
 def slider_step(low: float, high: float) -> float:
