@@ -87,7 +87,8 @@ def type_into_cell(qtbot, window, row: int, key: str, text: str) -> None:
 
 
 def choose_in_cell(qtbot, window, row: int, key: str, shown: str) -> None:
-    """Click a choice cell, open its drop-down with Enter and pick ``shown`` with the keys."""
+    """Click a choice cell, Enter for its drop-down, Alt+Down for the list, then the arrow keys
+    to ``shown`` and Enter."""
     click_cell(qtbot, window, row, key)
     table = window.table
     qtbot.keyClick(table, Qt.Key.Key_Return)
@@ -95,10 +96,13 @@ def choose_in_cell(qtbot, window, row: int, key: str, shown: str) -> None:
     assert isinstance(combo, QComboBox)
     target = combo.findText(shown)
     assert target >= 0, f"{shown!r} is not among the choices"
-    step = Qt.Key.Key_Down if target > combo.currentIndex() else Qt.Key.Key_Up
-    for _ in range(abs(target - combo.currentIndex())):
-        qtbot.keyClick(combo, step)
-    qtbot.keyClick(combo, Qt.Key.Key_Return)
+    start = combo.currentIndex()
+    press(qtbot, "Alt+Down", combo)
+    qtbot.waitUntil(lambda: combo.view().isVisible())
+    step = Qt.Key.Key_Down if target > start else Qt.Key.Key_Up
+    for _ in range(abs(target - start)):
+        qtbot.keyClick(combo.view(), step)
+    qtbot.keyClick(combo.view(), Qt.Key.Key_Return)
     qtbot.waitUntil(lambda: cell_editor(table) is None)
 
 

@@ -122,6 +122,11 @@ class PlanDelegate(QStyledItemDelegate):
         return False
 
     def eventFilter(self, editor, event) -> bool:  # noqa: N802 (Qt's name)
+        if (event.type() == QEvent.Type.KeyPress and isinstance(editor, ChoiceEditor)
+                and event.key() in (Qt.Key.Key_Return, Qt.Key.Key_Enter)):
+            # taken here: passed on, it would reach the table, which opens an editor on Enter
+            self._commit(editor)
+            return True
         if (event.type() == QEvent.Type.KeyPress and isinstance(editor, CellEditor)
                 and event.key() in _SUBMIT_KEYS
                 and not event.modifiers() & ~Qt.KeyboardModifier.ShiftModifier
