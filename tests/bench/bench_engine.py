@@ -22,7 +22,9 @@ vectorised call). Targets: scalar z sample size ≤ 0.3 ms; 162-element proporti
 
 Rows (invented, A/B scale): relative MDE log-uniform in [0.5 %, 10 %] for means (CV
 log-uniform in [0.5, 10]) and [1 %, 20 %] for proportions (baseline log-uniform in
-[0.5 %, 50 %]) and rates (baseline log-uniform in [0.005, 3]); α from {0.01, 0.05, 0.1},
+[0.5 %, 50 %]) and rates (baseline log-uniform in [0.005, 3]), [1 %, 10 %] for ratios (sd by
+the delta method from random components) and quantiles (p50 to p99 of a log-normal); ratio
+and quantile rows are checked against ``NormalIndPower`` with their sd; α from {0.01, 0.05, 0.1},
 power from {0.8, 0.9}, ratio from {0.5, 1, 2}, all three alternatives.
 """
 
@@ -56,6 +58,21 @@ def _rows(kind, rng, size=ROWS):
         rows["baseline"] = np.ones(size)
         rows["sd"] = 10 ** rng.uniform(np.log10(0.5), 1.0, size)
         rows["effect"] = sign * 10 ** rng.uniform(np.log10(0.005), -1.0, size)
+    elif kind == "ratio":
+        rows["baseline"] = 10 ** rng.uniform(0.0, 1.0, size)
+        denominator = 10 ** rng.uniform(-2.0, 0.5, size)
+        rows["sd"] = engine.ratio.unit_sd(rows["baseline"], denominator,
+                                          rows["baseline"] * denominator * rng.uniform(1, 5, size),
+                                          denominator * rng.uniform(1, 5, size),
+                                          rng.uniform(0.0, 0.95, size))
+        rows["effect"] = sign * rows["baseline"] * 10 ** rng.uniform(-2.0, -1.0, size)
+    elif kind == "quantile":
+        level = rng.choice([0.5, 0.9, 0.95, 0.99], size)
+        rows["baseline"] = 10 ** rng.uniform(-1.0, 1.0, size)
+        density = engine.quantile.lognormal_density(level, rows["baseline"], 0.5 + 0.4 * (
+            level == 0.5), rows["baseline"] * np.where(level == 0.5, 2.0, 0.5))
+        rows["sd"] = engine.quantile.unit_sd(level, density)
+        rows["effect"] = sign * rows["baseline"] * 10 ** rng.uniform(-2.0, -1.0, size)
     elif kind == "proportion":
         rows["baseline"] = 10 ** rng.uniform(np.log10(0.005), np.log10(0.5), size)
         rows["effect"] = sign * rows["baseline"] * 10 ** rng.uniform(-2.0, np.log10(0.2), size)
@@ -88,7 +105,7 @@ def _pooled_power(pc, pt, n, ratio, alpha, alternative):
 def _reference_row(kind, method, row):
     alt, a, p, r = row["alternative"], row["alpha"], row["power"], row["ratio"]
     b, e = row["baseline"], row["effect"]
-    if kind == "mean":
+    if kind in ("mean", "ratio", "quantile"):  # ratio and quantile: a z test with their sd
         solver = TTestIndPower() if method == "t" else NormalIndPower()
         return solver.solve_power(e / row["sd"], nobs1=None, alpha=a, power=p, ratio=r,
                                   alternative=SM_ALT[alt])
@@ -155,6 +172,12 @@ def per_call():
             "mean", 2.35, units, sd=14.8, alpha=0.025, relative=True, method="t")),
         ("power, proportion, 162", 162, None, lambda: engine.power(
             "proportion", 0.031, effects, 1e5, alpha=0.025, relative=True)),
+        ("ratio sd (delta method), scalar", 1, None, lambda: engine.ratio.unit_sd(
+            2.6, 0.034, 0.61, 0.19, 0.8)),
+        ("quantile density (log-normal), scalar", 1, None,
+         lambda: engine.quantile.lognormal_density(0.95, 3.1, 0.5, 1.7)),
+        ("Dunnett α, 2 arms, both sidednesses", 2, None, lambda: engine.adjusted_alpha(
+            np.array([0.05, 0.05]), 2, "dunnett", alternative=np.array(["two-sided", "less"]))),
     ]
     floors = {size: median_ms(lambda size=size: special.ndtri(np.full(size, 0.3)))
               for size in {size for _, size, _, _ in calls}}

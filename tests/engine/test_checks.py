@@ -98,7 +98,7 @@ def test_scalar_bad_input_raises_and_array_gives_nan_with_the_same_reason(kind, 
 
 
 @pytest.mark.parametrize("name,value,words", [
-    ("kind", "ratio", "kind must be one of 'mean', 'proportion', 'rate'"),
+    ("kind", "share", "kind must be one of 'mean', 'proportion', 'rate', 'ratio', 'quantile'"),
     ("method", "welch", "method must be one of 'z', 't' for a mean"),
     ("alternative", "bigger", "alternative must be one of 'two-sided', 'greater', 'less'"),
 ])

@@ -54,8 +54,27 @@ def test_report_text_has_title_metrics_duration_and_cautions(sample_pdf):
         assert _words(fourfold.CAUTION) in page, number
         assert f"page {number} of {len(pages)}" in page
     for method in ("Fleiss, J. L., Levin, B. & Paik", "Deng, A., Xu, Y., Kohavi",
-                   "Bonferroni", "Deng, A., Knoblich, U. & Lu"):
+                   "Dunnett, C. W. (1955)", "Deng, A., Knoblich, U. & Lu",
+                   "Serfling, R. J. (1980)"):
         assert method in text, method
+
+
+def test_report_reads_the_new_kinds_guardrails_and_the_split(qapp, tmp_path, sample_pdf):
+    _, pages = sample_pdf
+    text = " ".join(pages)
+    assert "Ratio and quantile rows" in text and "delta method" in text
+    assert "log-normal through the p95 and the p50 = 1.74 s" in text
+    assert "quantile (p95), asymptotic" in text
+    assert "must not get worse (higher) by more than 0.05 s; lower is better" in text
+    assert "must not get worse (higher) by more than 10 % of the baseline" in text
+    assert "Dunnett's many-to-one correction" in text
+    plan = load(sample_path())
+    plan.settings = dataclasses.replace(plan.settings, arms=3, allocation="sqrt-k")
+    path = tmp_path / "sqrt-k.pdf"
+    write_pdf(plan, path)
+    first = _pages(path)[0]
+    assert "1 : 0.577 : 0.577 : 0.577 (√k rule)" in first
+    assert "What the √k split saves" in first and "units fewer than an equal split" in first
 
 
 def test_a4_and_letter_page_sizes(sample_pdf, tmp_path):

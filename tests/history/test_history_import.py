@@ -14,6 +14,8 @@ from fourfold.history import (
     HistoryCancelled,
     read_history,
 )
+from fourfold.plan import Metric
+from fourfold.plan.kinds import unit_sd
 
 MAPPING = [
     ColumnMap("mean", "spend", pre="pre_spend"),
@@ -59,7 +61,15 @@ def test_every_kind_matches_the_in_memory_figures(history_csv, frame):
     assert ratio.sd == pytest.approx(
         _delta_sd(pairs["clicks"].to_numpy(), pairs["sessions"].to_numpy().astype(float)),
         rel=1e-10)
-    assert ratio.plan_fields()["kind"] == "mean"
+    fields = ratio.plan_fields()
+    assert fields["kind"] == "ratio" and fields["sd"] is None
+    clicks, sessions = pairs["clicks"].astype(float), pairs["sessions"].astype(float)
+    assert fields["denominator"] == pytest.approx(sessions.mean(), rel=1e-12)
+    assert fields["numerator_sd"] == pytest.approx(clicks.std(), rel=1e-12)
+    assert fields["denominator_sd"] == pytest.approx(sessions.std(), rel=1e-12)
+    assert fields["correlation"] == pytest.approx(clicks.corr(sessions), rel=1e-10)
+    # The ratio row built from these fields has the delta-method sd of the summary.
+    assert unit_sd(Metric(name="r", **fields)) == pytest.approx(ratio.sd, rel=1e-10)
 
 
 @pytest.mark.parametrize("chunk_rows", [1, 7, 10_000])

@@ -6,6 +6,7 @@ recorded in ``SCIPY``.
 
 import dataclasses
 import math
+import pathlib
 
 import numpy as np
 import pytest
@@ -17,8 +18,10 @@ from scipy.stats import norm
 from fourfold import engine
 from fourfold.plan import CHOICES, Metric, Plan, Settings, load, sample_path, validate_metric
 from fourfold.plan.evaluation import compute, evaluate, runtime_units
+from fourfold.plan.kinds import unit_sd
 
 SCIPY = scipy.__version__
+VERSION_1 = pathlib.Path(__file__).parent / "data" / "plan-version-1.json"
 
 
 def _mean_row(**changes) -> Metric:
@@ -71,26 +74,36 @@ def _sample():
 
 
 def test_sample_plan_evaluates_every_row_and_runs_a_few_weeks():
-    result = compute(_sample())
-    assert [row.reason for row in result.rows] == [""] * 6
+    plan = _sample()
+    result = compute(plan)
+    assert [row.reason for row in result.rows] == [""] * len(plan.metrics)
     assert all(np.isfinite(row.units_total) for row in result.rows)
     assert result.binding_name == "Checkout conversion"
     assert 14 <= result.duration_days <= 56 and result.duration_days % 7 == 0
 
 
-def test_sample_rows_match_direct_engine_calls():
-    plan = _sample()
+@pytest.mark.parametrize("path", [sample_path(), VERSION_1], ids=["sample", "version-1"])
+def test_sample_rows_match_direct_engine_calls(path):
+    # The current sample (Dunnett's correction, ratio and quantile rows) and the sample as a
+    # version-1 file had it (Bonferroni; means, proportions and rates only).
+    plan = load(path)
     result = compute(plan)
     settings = plan.settings
     primaries = sum(metric.role == "primary" for metric in plan.metrics)
     for metric, row in zip(plan.metrics, result.rows, strict=True):
-        comparisons = settings.arms * (primaries if metric.role == "primary" else 1)
-        alpha = float(engine.adjusted_alpha(settings.alpha, comparisons, "bonferroni"))
+        metrics = primaries if metric.role == "primary" else 1
+        if settings.correction == "dunnett":
+            alpha = float(engine.adjusted_alpha(settings.alpha / metrics, settings.arms,
+                                                "dunnett", alternative=metric.alternative))
+        else:
+            alpha = float(engine.adjusted_alpha(settings.alpha, settings.arms * metrics,
+                                                settings.correction))
         assert row.alpha == pytest.approx(alpha)
         factor = float(engine.variance_factor(metric.rho, metric.cluster_size, metric.icc,
                                               metric.cluster_cv))
+        sd = unit_sd(metric) if metric.kind in ("ratio", "quantile") else metric.sd
         n = float(engine.sample_size(
-            metric.kind, metric.baseline, metric.effect, sd=metric.sd, alpha=alpha,
+            metric.kind, metric.baseline, metric.effect, sd=sd, alpha=alpha,
             power=settings.power, alternative=metric.alternative, ratio=settings.ratio,
             relative=metric.relative, margin=metric.margin, method=metric.method)) * factor
         assert row.units_control == math.ceil(n), metric.name
@@ -102,8 +115,10 @@ def test_sample_guardrail_matches_the_one_sided_closed_form():
     page_load = next(i for i, m in enumerate(plan.metrics) if m.name.startswith("Page load"))
     metric = plan.metrics[page_load]
     row = compute(plan).rows[page_load]
-    # Non-inferiority, one-sided at α/arms (Bonferroni), δ = effect − margin.
-    n = _closed_form_n(metric.sd, metric.effect - metric.margin, 0.05 / 2, 0.8, sides=1)
+    # Non-inferiority, one-sided, δ = effect − margin, at the level of one comparison under
+    # Dunnett's correction for two arms, z = 1.916 (Dunnett 1955, Table 1a, ν = ∞: 1.92).
+    assert norm.isf(row.alpha) == pytest.approx(1.916, abs=5e-4)
+    n = _closed_form_n(metric.sd, metric.effect - metric.margin, row.alpha, 0.8, sides=1)
     assert row.units_control == math.ceil(n)
 
 
@@ -252,7 +267,8 @@ def test_evaluate_is_compute_as_a_frame():
         for field in dataclasses.fields(row):
             value, expected = frame[field.name].iloc[index], getattr(row, field.name)
             assert value == expected or (value != value and expected != expected), field.name
-    assert list(frame["binding"]) == [i == result.binding_index for i in range(6)]
+    assert list(frame["binding"]) == [i == result.binding_index
+                                      for i in range(len(plan.metrics))]
     assert frame["alpha_override"].isna().all()
     assert frame.attrs["duration_days"] == result.duration_days
     assert frame.attrs["binding_name"] == result.binding_name

@@ -12,6 +12,7 @@ import pytest
 from fourfold import engine
 from fourfold.plan import Plan, load, sample_path
 from fourfold.plan.evaluation import RowCache, compute
+from fourfold.plan.kinds import unit_sd
 
 SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")
 
@@ -52,7 +53,8 @@ def _count_engine_calls(monkeypatch) -> dict:
 @pytest.mark.parametrize("looks", [1, 3])
 def test_engine_calls_do_not_grow_with_the_number_of_rows(monkeypatch, looks):
     counts = _count_engine_calls(monkeypatch)
-    compute(_mixed_plan(24, looks=looks))
+    every = 4 * len(load(sample_path()).metrics)  # each sample row with each of the 4 solves
+    compute(_mixed_plan(every, looks=looks))
     small = dict(counts)
     counts.clear()
     result = compute(_mixed_plan(500, looks=looks))
@@ -77,7 +79,8 @@ def test_grouped_rows_equal_direct_scalar_engine_calls():
     for metric, row in zip(plan.metrics, compute(plan).rows, strict=True):
         factor = float(engine.variance_factor(metric.rho, metric.cluster_size, metric.icc,
                                               metric.cluster_cv))
-        common = dict(sd=metric.sd, alpha=settings.alpha, alternative=metric.alternative,
+        sd = unit_sd(metric) if metric.kind in ("ratio", "quantile") else metric.sd
+        common = dict(sd=sd, alpha=settings.alpha, alternative=metric.alternative,
                       ratio=settings.ratio, relative=metric.relative, margin=metric.margin,
                       method=metric.method)
         if row.reason:

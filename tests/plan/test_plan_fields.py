@@ -62,7 +62,7 @@ def test_plan_error_is_a_user_error_and_a_value_error():
         ("baseline", "0.031", False), ("baseline", True, False),
         ("relative", 1, False), ("whole_weeks", "yes", True),
         ("name", "   ", False), ("name", "x" * 201, False), ("notes", 3, False),
-        ("role", "tertiary", False), ("kind", "ratio", False), ("solve", "days", False),
+        ("role", "tertiary", False), ("kind", "share", False), ("solve", "days", False),
         ("alternative", "two_sided", False), ("correction", "holm", True),
         ("spending", "linear", True), ("method", "welch", False),
         ("simulation", [1, 2], False), ("simulation", {"p": math.nan}, False),

@@ -27,11 +27,14 @@ def _full_plan() -> Plan:
     """A plan where every field differs from its default, so a dropped field shows."""
     settings = Settings(
         title="Seed-packet test", description="Invented.\nTwo lines.", alpha=0.01, power=0.9,
-        arms=3, ratio=1.5, correction="sidak", daily_units=1234.5, share=0.25,
-        whole_weeks=False, runtime_days=21.0, looks=3, spending="hsd", futility=True,
+        arms=3, ratio=1.5, allocation="sqrt-k", correction="sidak", daily_units=1234.5,
+        share=0.25, whole_weeks=False, runtime_days=21.0, looks=3, spending="hsd",
+        futility=True,
     )
     metric = Metric(
         name="Basket value", role="guardrail", kind="mean", method="t", baseline=41.5, sd=12.25,
+        unit="$", better="lower", denominator=0.034, numerator_sd=0.61, denominator_sd=0.19,
+        correlation=0.8, quantile_level=0.95, density=0.09, second_level=0.5, second_value=1.7,
         effect=-0.5, relative=False, alternative="less", margin=0.75, alpha=0.02, power=0.85,
         rho=0.4, cluster_size=3.5, icc=0.01, cluster_cv=0.6, solve="power", n=9000.0,
         notes="ünïcode “quotes” and\nnewlines", simulation={"power": 0.84, "draws": 4000},
@@ -74,9 +77,26 @@ def _fields(plan: Plan) -> dict:
 def test_file_header_and_all_fields_written():
     data = json.loads(dumps(_full_plan()))
     assert data["format"] == "fourfold-plan"
-    assert data["schema_version"] == 1
+    assert data["schema_version"] == storage.SCHEMA_VERSION == storage.KINDS_VERSION == 3
     assert list(data["settings"]) == list(SETTINGS_FIELDS)
-    assert list(data["metrics"][0]) == list(METRIC_FIELDS)
+    assert list(data["metrics"][0]) == ["id", *METRIC_FIELDS]
+
+
+def test_a_plan_without_what_version_3_added_is_written_as_before():
+    # What an older Fourfold reads: version 1, none of the version-3 fields.
+    plan = _full_plan()
+    plan.settings.allocation = "fixed"
+    plan.metrics[0] = dataclasses.replace(
+        plan.metrics[0], unit="", better="higher", denominator=None, numerator_sd=None,
+        denominator_sd=None, correlation=None, quantile_level=None, density=None,
+        second_level=None, second_value=None)
+    data = json.loads(dumps(plan))
+    assert data["schema_version"] == storage.PLAIN_VERSION == 1
+    assert not set(storage.KINDS_METRIC_FIELDS) & set(data["metrics"][0])
+    assert "allocation" not in data["settings"]
+    assert loads(dumps(plan)) == plan
+    plan.settings.correction = "dunnett"  # Dunnett alone needs version 3
+    assert json.loads(dumps(plan))["schema_version"] == 3
 
 
 def test_missing_optional_fields_take_defaults():
@@ -97,7 +117,7 @@ def test_missing_optional_fields_take_defaults():
         (json.dumps({"format": "some-other-tool", "schema_version": 1}), "format"),
         (json.dumps({"format": "fourfold-plan"}), "schema_version"),
         (json.dumps({"format": "fourfold-plan", "schema_version": "1"}), "schema_version"),
-        (json.dumps({"format": "fourfold-plan", "schema_version": 3}), "newer"),
+        (json.dumps({"format": "fourfold-plan", "schema_version": 4}), "newer"),
         (json.dumps({"format": "fourfold-plan", "schema_version": 1, "extra": 1}), "extra"),
         (json.dumps({"format": "fourfold-plan", "schema_version": 1, "metrics": {}}),
          "metrics must be a JSON list"),
@@ -117,7 +137,11 @@ def test_malformed_or_foreign_text_is_rejected(text, named):
         ("settings", "arms", "two", "settings.arms"),
         ("settings", "colour", "green", "settings.colour"),
         ("metric", "power", 1.5, "metrics[1].power"),
-        ("metric", "kind", "ratio", "metrics[1].kind"),
+        ("metric", "kind", "share", "metrics[1].kind"),
+        ("metric", "better", "up", "metrics[1].better"),
+        ("metric", "correlation", 1.5, "metrics[1].correlation"),
+        ("metric", "unit", "m\ns", "metrics[1].unit"),
+        ("settings", "allocation", "square-root", "settings.allocation"),
         ("metric", "method", "t", "metrics[1].method"),
         ("metric", "relative", "yes", "metrics[1].relative"),
         ("metric", "sd", -1, "metrics[1].sd"),
@@ -205,7 +229,8 @@ def test_sample_plan_loads_and_is_the_invented_scenario():
     assert plan.settings.arms == 2 and plan.settings.daily_units == 42_000
     assert plan.settings.share == 0.6 and plan.settings.whole_weeks
     roles = [metric.role for metric in plan.metrics]
-    assert roles.count("primary") == 1 and roles.count("guardrail") == 2 and len(roles) == 6
+    assert roles.count("primary") == 1 and roles.count("guardrail") == 3 and len(roles) == 7
+    assert {"mean", "proportion", "rate", "ratio", "quantile"} == {m.kind for m in plan.metrics}
     assert path.read_text(encoding="utf-8") == dumps(plan)
 
 

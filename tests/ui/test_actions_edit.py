@@ -57,9 +57,13 @@ def test_copy_cells_puts_the_selection_on_the_clipboard_and_pastes_back(make_win
     press_each_shortcut(qtbot, window.copy_action)
     assert clipboard.text() == copied
     before = dumps(window.document.plan)
-    click_cell(qtbot, window, 3, "baseline")
+    click_cell(qtbot, window, 1, "baseline")
+    window.copy_action.trigger()  # the one cell: it fills the selection it is pasted on
+    table.selectionModel().select(
+        table._range(0, column_index("baseline"), 2, column_index("baseline")),
+        table.selectionModel().SelectionFlag.ClearAndSelect)
     press(qtbot, "Ctrl+V")
-    assert model.metric(3).sd == 14.8 and model.metric(4).effect == 0.03
+    assert [model.metric(row).baseline for row in range(3)] == [0.0235, 2.35, 0.0235]
     window.undo_action.trigger()
     assert dumps(window.document.plan) == before
 

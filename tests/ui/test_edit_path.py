@@ -23,6 +23,12 @@ def _big_plan(rows: int = 60) -> Plan:
     return Plan(sample.settings, metrics)
 
 
+def _mean_row(plan: Plan, start: int) -> int:
+    """The first row from ``start`` on whose sd is typed (a mean row of the sample)."""
+    return next(index for index in range(start, len(plan.metrics))
+                if plan.metrics[index].kind == "mean")
+
+
 def _texts(model):
     return [[model.data(model.index(row, column)) for column in range(len(COLUMNS))]
             for row in range(model.rowCount())]
@@ -40,14 +46,15 @@ def test_an_edit_announces_only_its_row_and_the_table_matches_a_full_recompute(q
     model = PlanTableModel(document)
     _texts(model)  # fill the model's cache of cell roles
     ranges = _recorded(model)
-    sd = document.plan.metrics[7].sd
-    assert document.apply(SetField(7, "sd", sd * 1.5))
+    row = _mean_row(document.plan, 7)
+    sd = document.plan.metrics[row].sd
+    assert document.apply(SetField(row, "sd", sd * 1.5))
     qtbot.waitUntil(lambda: not document.pending())
-    assert ranges == [(7, 0, 7, len(COLUMNS) - 1)]
+    assert ranges == [(row, 0, row, len(COLUMNS) - 1)]
     fresh = PlanTableModel(PlanDocument(document.plan))
     assert _texts(model) == _texts(fresh)
-    assert model.data(model.index(7, column_index("sd"))) != _texts(PlanTableModel(
-        PlanDocument(_big_plan())))[7][column_index("sd")]
+    assert model.data(model.index(row, column_index("sd"))) != _texts(PlanTableModel(
+        PlanDocument(_big_plan())))[row][column_index("sd")]
 
 
 def test_a_setting_announces_every_row(qtbot):
@@ -79,7 +86,8 @@ def test_the_plots_skip_an_edit_of_another_row_and_follow_their_own(qtbot, monke
 
     show()
     assert calls == [1]
-    document.apply(SetField(3, "sd", document.plan.metrics[3].sd * 2.0))
+    other = _mean_row(document.plan, 2)  # a row below, not the one shown
+    document.apply(SetField(other, "sd", document.plan.metrics[other].sd * 2.0))
     document.recompute_now()
     show()
     assert calls == [1]

@@ -97,7 +97,7 @@ def test_an_edit_in_the_table_goes_to_the_scenario_on_show(qtbot, make_window):
     whole = window.document.whole
     assert whole.metrics[5].sd == 0.61  # the base is untouched
     assert whole.scenarios[-1].rows == {"page-load": {"sd": 0.5}}
-    assert _cell(window, 5, "sd") == "0.5"
+    assert _cell(window, 5, "sd") == "0.5 s"  # with the row's unit
     assert window.undo_action.text() == "&Undo Set sd of Page load time (s) in Cheaper page"
 
 
@@ -189,15 +189,16 @@ def test_leaving_out_a_row_in_a_scenario_and_bringing_it_back(qtbot, make_window
     window.table.setCurrentIndex(window.model.index(5, 0))
     window.delete_action.trigger()
     _settle(qtbot, window)
-    assert window.model.rowCount() == 5 and len(window.document.whole.metrics) == 6
+    rows = len(window.document.whole.metrics)
+    assert window.model.rowCount() == rows - 1 and rows == len(load(sample_path()).metrics)
     assert window.document.whole.scenarios[0].omitted == ["page-load"]
     assert window.restore_rows_action.isEnabled()
     window.restore_rows_action.trigger()
     _settle(qtbot, window)
-    assert window.model.rowCount() == 6 and not window.restore_rows_action.isEnabled()
+    assert window.model.rowCount() == rows and not window.restore_rows_action.isEnabled()
     window.undo_action.trigger()
     _settle(qtbot, window)
-    assert window.model.rowCount() == 5
+    assert window.model.rowCount() == rows - 1
 
 
 @pytest.mark.triggers("overlay_action")
@@ -276,7 +277,8 @@ def test_save_writes_the_scenarios_and_the_one_on_show(qtbot, make_window, tmp_p
     path = tmp_path / "saved.json"
     assert window.save_to(path)
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["schema_version"] == 2 and data["active"] == ARM_B
+    # Version 3: the sample has ratio and quantile rows, units and Dunnett's correction.
+    assert data["schema_version"] == 3 and data["active"] == ARM_B
     assert len(data["scenarios"]) == 3
     assert ARM_B in window.windowTitle() and "saved.json" in window.windowTitle()
 

@@ -63,8 +63,8 @@ def test_a_block_past_the_last_row_adds_rows_in_the_same_undo_step(qtbot, view):
 
 @pytest.mark.parametrize(("key", "text", "expected"), [
     ("name", "Renamed\tsecondary\nRefunds\tguardrail\nReviews\tboss\n",
-     "row 8: Role"),                    # text the table cannot read, in the second new row
-    ("alpha", "0.05\n0.04\n0.7\n", "row 8: alpha"),  # the plan refuses α = 0.7
+     "Role"),                    # text the table cannot read, in the second new row
+    ("alpha", "0.05\n0.04\n0.7\n", "alpha"),  # the plan refuses α = 0.7
 ])
 def test_a_refused_cell_in_a_new_row_refuses_the_whole_paste(qtbot, view, key, text,
                                                              expected):
@@ -80,7 +80,7 @@ def test_a_refused_cell_in_a_new_row_refuses_the_whole_paste(qtbot, view, key, t
     assert not view.paste(text)
     assert dumps(document.plan) == before and model.rowCount() == rows
     assert not document.stack.can_undo
-    assert len(messages) == 1 and expected in messages[0]
+    assert len(messages) == 1 and f"row {rows + 2}: {expected}" in messages[0]
 
 
 def test_cells_right_of_the_last_column_are_dropped_and_counted(qtbot, view):

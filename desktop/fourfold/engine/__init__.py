@@ -10,8 +10,15 @@ Examples
 15.7
 """
 
+from . import dunnett, quantile, ratio
 from .catalog import ALTERNATIVES, KINDS, METHODS
-from .design import adjusted_alpha, duration_days, total_units, variance_factor
+from .design import (
+    adjusted_alpha,
+    allocation_ratio,
+    duration_days,
+    total_units,
+    variance_factor,
+)
 from .solve import (
     detectable_effect,
     power,
@@ -26,10 +33,14 @@ __all__ = [
     "KINDS",
     "METHODS",
     "adjusted_alpha",
+    "allocation_ratio",
     "detectable_effect",
+    "dunnett",
     "duration_days",
     "power",
     "problems",
+    "quantile",
+    "ratio",
     "sample_size",
     "significance_level",
     "total_units",

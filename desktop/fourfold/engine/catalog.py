@@ -10,11 +10,13 @@ Examples
 ('z', 'two-sided')
 """
 
-KINDS = ("mean", "proportion", "rate")
+KINDS = ("mean", "proportion", "rate", "ratio", "quantile")
 METHODS = {
     "mean": ("z", "t"),
     "proportion": ("pooled", "unpooled", "arcsine", "pooled-cc"),
     "rate": ("z",),
+    "ratio": ("delta",),
+    "quantile": ("asymptotic",),
 }
 ALTERNATIVES = ("two-sided", "greater", "less")
 SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")

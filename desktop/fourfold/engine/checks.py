@@ -17,9 +17,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import catalog, mean, proportion, rate
+from . import catalog, mean, proportion, quantile, rate, ratio
 
-KIND_MODULES = {"mean": mean, "proportion": proportion, "rate": rate}
+KIND_MODULES = {"mean": mean, "proportion": proportion, "rate": rate, "ratio": ratio,
+                "quantile": quantile}
 
 _NEEDS = {
     "sample_size": ("effect", "alpha", "power"),
@@ -56,6 +57,12 @@ class Prepared:
     reasons: np.ndarray
     ok: np.ndarray
 
+
+_SD_REQUIRED = {
+    "mean": "the per-unit standard deviation",
+    "ratio": "its delta-method sd per unit, from fourfold.engine.ratio.unit_sd",
+    "quantile": "the sample quantile's sd per unit, from fourfold.engine.quantile.unit_sd",
+}
 
 _ORDER = ("baseline", "effect", "n", "alpha", "power", "ratio", "margin", "sd")
 """The order in which the inputs are converted (the first one that is not a number raises)."""
@@ -114,8 +121,8 @@ def prepare(
     for name in needs:
         if given[name] is None:
             raise ValueError(f"{name} is required to solve for {solve.replace('_', ' ')}")
-    if kind == "mean" and sd is None:
-        raise ValueError("sd is required for a mean (the per-unit standard deviation)")
+    if kind in _SD_REQUIRED and sd is None:
+        raise ValueError(f"sd is required for a {kind} ({_SD_REQUIRED[kind]})")
     has_sd = sd is not None and kind != "proportion"
     raw = dict(given, baseline=baseline, ratio=ratio, margin=margin, sd=sd)
     converted = {name: _as_float(name, raw[name]) for name in _ORDER

@@ -2,6 +2,8 @@
 
 References
 ----------
+Dunnett, C. W. (1955) A multiple comparison procedure for comparing several treatments with a
+control. *JASA* 50:1096–1121 (see :mod:`fourfold.engine.dunnett`; the √k allocation).
 Šidák, Z. (1967) Rectangular confidence regions for the means of multivariate normal
 distributions. *JASA* 62:626–633.
 Deng, A., Xu, Y., Kohavi, R. & Walker, T. (2013) Improving the sensitivity of online
@@ -21,7 +23,10 @@ Examples
 
 import numpy as np
 
-CORRECTIONS = ("none", "bonferroni", "sidak")
+from . import dunnett
+
+CORRECTIONS = ("none", "bonferroni", "sidak", "dunnett")
+ALLOCATIONS = ("fixed", "sqrt-k")
 
 
 def _scalar_or_array(values, *inputs):
@@ -33,7 +38,7 @@ def _check(name, ok, message, scalar):
         raise ValueError(f"{name} {message}")
 
 
-def adjusted_alpha(alpha, comparisons, method):
+def adjusted_alpha(alpha, comparisons, method, *, ratio=1.0, alternative="two-sided"):
     """Per-comparison α that keeps the family-wise error at ``alpha``.
 
     Parameters
@@ -41,9 +46,16 @@ def adjusted_alpha(alpha, comparisons, method):
     alpha : array_like
         Family-wise α in (0, 1).
     comparisons : array_like
-        Number of comparisons (≥ 1).
-    method : {"none", "bonferroni", "sidak"}
-        ``bonferroni``: α/k; ``sidak``: 1 − (1 − α)^(1/k); ``none``: α.
+        Number of comparisons (≥ 1); for ``dunnett`` the treatment arms compared with one
+        control (a whole number).
+    method : {"none", "bonferroni", "sidak", "dunnett"}
+        ``bonferroni``: α/k; ``sidak``: 1 − (1 − α)^(1/k); ``dunnett``: the level of one
+        comparison at Dunnett's critical value for k arms against a shared control
+        (:func:`fourfold.engine.dunnett.per_comparison_alpha`, normal statistics); ``none``: α.
+    ratio : array_like
+        ``dunnett`` only: units of each treatment arm per control unit.
+    alternative : str or array_like of str
+        ``dunnett`` only: one-sided and two-sided tests have different critical values.
 
     Returns
     -------
@@ -54,6 +66,8 @@ def adjusted_alpha(alpha, comparisons, method):
     --------
     >>> adjusted_alpha([0.05, 0.1], 2, "bonferroni").tolist()
     [0.025, 0.05]
+    >>> round(float(adjusted_alpha(0.05, 2, "dunnett")), 5)
+    0.02696
     """
     if method not in CORRECTIONS:
         choices = ", ".join(f"'{c}'" for c in CORRECTIONS)
@@ -68,10 +82,45 @@ def adjusted_alpha(alpha, comparisons, method):
             out = a / k
         elif method == "sidak":
             out = -np.expm1(np.log1p(-a) / k)
+        elif method == "dunnett":
+            whole = (k >= 1) & (k == np.floor(k))
+            _check("comparisons", whole, "must be a whole number of arms for Dunnett", scalar)
+            out = dunnett.per_comparison_alpha(np.where((a > 0) & (a < 1), a, 0.5),
+                                               np.where(whole, k, 1.0), ratio, alternative)
         else:
             out = a + 0.0 * k
         out = np.where((a > 0) & (a < 1) & (k >= 1), out, np.nan)
     return _scalar_or_array(np.asarray(out, dtype=float), a, k)
+
+
+def allocation_ratio(arms, allocation="fixed", ratio=1.0):
+    """Units of each treatment arm per control unit under an allocation rule.
+
+    Parameters
+    ----------
+    arms : array_like
+        k, the number of treatment arms (≥ 1).
+    allocation : {"fixed", "sqrt-k"}
+        ``fixed``: ``ratio`` as given; ``sqrt-k``: the control gets √k times the units of each
+        arm, ratio 1/√k. It minimises the total n_c + k·n_t at a fixed variance of each
+        comparison, σ²(1/n_c + 1/n_t) (a Lagrange multiplier gives n_c/n_t = √k; Dunnett
+        1955 recommends it for his procedure).
+    ratio : array_like
+        The ratio used by ``fixed``.
+
+    Examples
+    --------
+    >>> allocation_ratio([1, 2, 4], "sqrt-k").tolist()
+    [1.0, 0.7071067811865475, 0.5]
+    """
+    if allocation not in ALLOCATIONS:
+        choices = ", ".join(f"'{c}'" for c in ALLOCATIONS)
+        raise ValueError(f"allocation must be one of {choices}, not {allocation!r}")
+    k, r = np.asarray(arms, dtype=float), np.asarray(ratio, dtype=float)
+    _check("arms", k >= 1, "must be at least 1", k.ndim == 0 and r.ndim == 0)
+    with np.errstate(invalid="ignore"):
+        out = np.where(k >= 1, 1.0 / np.sqrt(k), np.nan) if allocation == "sqrt-k" else r + 0 * k
+    return _scalar_or_array(np.asarray(out, dtype=float), k, r)
 
 
 def variance_factor(rho=0.0, cluster_size=1.0, icc=0.0, cluster_cv=0.0):

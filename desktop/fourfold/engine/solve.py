@@ -276,16 +276,20 @@ def sample_size(kind, baseline, effect, *, sd=None, alpha=0.05, power=0.8,
 
     Parameters
     ----------
-    kind : {"mean", "proportion", "rate"}
-        Metric kind: ``baseline`` is the control mean, the control proportion in (0, 1) or
-        the control mean count per unit.
+    kind : {"mean", "proportion", "rate", "ratio", "quantile"}
+        Metric kind: ``baseline`` is the control mean, the control proportion in (0, 1),
+        the control mean count per unit, the control ratio of means
+        (:mod:`~fourfold.engine.ratio`) or the control quantile
+        (:mod:`~fourfold.engine.quantile`).
     baseline, effect : array_like
         Control value and the effect (treatment − control; a fraction of baseline when
         ``relative``).
     sd : array_like, optional
-        Per-unit standard deviation: required for a mean; for a rate it overrides the
-        Poisson variance (over-dispersion: sd² in control, sd²·(baseline + effect)/baseline
-        in treatment); ignored for a proportion.
+        Per-unit standard deviation: required for a mean; for a ratio its delta-method sd
+        (:func:`fourfold.engine.ratio.unit_sd`) and for a quantile the sample quantile's
+        (:func:`fourfold.engine.quantile.unit_sd`); for a rate it overrides the Poisson
+        variance (over-dispersion: sd² in control, sd²·(baseline + effect)/baseline in
+        treatment); ignored for a proportion.
     alpha, power : array_like
         Significance level and power, both in (0, 1), power > alpha.
     alternative : {"two-sided", "greater", "less"}
@@ -310,7 +314,8 @@ def sample_size(kind, baseline, effect, *, sd=None, alpha=0.05, power=0.8,
 
     References
     ----------
-    Lehr (1992); Fleiss, Levin & Paik (2003), ch. 4; Fleiss, Tytun & Ury (1980).
+    Lehr (1992); Fleiss, Levin & Paik (2003), ch. 4; Fleiss, Tytun & Ury (1980); Deng,
+    Knoblich & Lu (2018) for ratios; Serfling (1980), §2.3 for quantiles.
 
     Examples
     --------
@@ -318,6 +323,10 @@ def sample_size(kind, baseline, effect, *, sd=None, alpha=0.05, power=0.8,
     84.1
     >>> sample_size("proportion", [0.1, 1.5], 0.02).round(1).tolist()
     [3840.8, nan]
+    >>> from fourfold.engine import ratio
+    >>> round(float(sample_size("ratio", 2.6, 0.04, relative=True,
+    ...                         sd=ratio.unit_sd(2.6, 0.034, 0.61, 0.19, 0.8))))
+    168225
     """
     p = prepare("sample_size", kind, baseline, effect=effect, sd=sd, alpha=alpha, power=power,
                 alternative=alternative, ratio=ratio, relative=relative, margin=margin,

@@ -36,6 +36,16 @@ no suffix
     fraction of units, for a rate a count per unit), a dimensionless number (``cuped_rho``,
     ``icc``, ``cluster_cv``, ``design_factor``), a flag (``true``/``false``) or text.
 
+``unit`` is the metric's unit as text and ``better`` its good direction (``higher`` or
+``lower``). Ratio rows fill ``ratio_denominator`` (the denominator's mean per unit),
+``ratio_numerator_sd``, ``ratio_denominator_sd`` and ``ratio_correlation``; quantile rows
+``quantile_level_frac`` (0.95 for the p95), ``quantile_density`` (the density at the quantile,
+per unit of the metric) or the second percentile of their log-normal
+(``quantile_second_level_frac``, ``quantile_second_value``). ``sd_used`` is the per-unit sd
+the computation used: the delta method's for a ratio, √(p(1 − p))/density for a quantile,
+``sd`` otherwise. With the √k allocation the settings file adds what equal allocation would
+need: ``equal_allocation_total_units`` and ``equal_allocation_duration_days``.
+
 ``effect_input`` and ``margin_input`` are the numbers as entered: fractions of the baseline when
 ``relative_input`` is true, the metric's unit otherwise. ``units_control`` is the control arm,
 ``units_treatment_per_arm`` each treatment arm, ``units_total`` all arms together. With interim
@@ -80,6 +90,8 @@ import numpy as np
 from fourfold import __version__
 from fourfold.export.files import replacing
 from fourfold.plan import CHOICES
+from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
+from fourfold.plan.kinds import DERIVED_SD, unit_sd
 
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 ENCODING = "utf-8-sig"
@@ -142,6 +154,11 @@ def _method(metric) -> str:
     return metric.method if metric.method is not None else CHOICES["method"][metric.kind][0]
 
 
+def _sd_used(metric) -> float | None:
+    """The per-unit sd the engine used: derived for ratio and quantile rows, else ``sd``."""
+    return unit_sd(metric) if metric.kind in DERIVED_SD else metric.sd
+
+
 #: The metric-row columns in file order: (name, how to get the value from (index, metric, row
 #: result, plan result)).
 COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
@@ -153,6 +170,17 @@ COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
     ("solve", lambda i, m, r, p: m.solve),
     ("baseline", lambda i, m, r, p: m.baseline),
     ("sd", lambda i, m, r, p: m.sd),
+    ("unit", lambda i, m, r, p: m.unit),
+    ("better", lambda i, m, r, p: m.better),
+    ("ratio_denominator", lambda i, m, r, p: m.denominator),
+    ("ratio_numerator_sd", lambda i, m, r, p: m.numerator_sd),
+    ("ratio_denominator_sd", lambda i, m, r, p: m.denominator_sd),
+    ("ratio_correlation", lambda i, m, r, p: m.correlation),
+    ("quantile_level_frac", lambda i, m, r, p: m.quantile_level),
+    ("quantile_density", lambda i, m, r, p: m.density),
+    ("quantile_second_level_frac", lambda i, m, r, p: m.second_level),
+    ("quantile_second_value", lambda i, m, r, p: m.second_value),
+    ("sd_used", lambda i, m, r, p: _sd_used(m)),
     ("effect_input", lambda i, m, r, p: m.effect),
     ("margin_input", lambda i, m, r, p: m.margin),
     ("relative_input", lambda i, m, r, p: m.relative),
@@ -191,6 +219,9 @@ SETTINGS: tuple[tuple[str, str, Callable[[Any, Any], Any]], ...] = (
     ("power", "fraction", lambda s, p: s.power),
     ("arms", "treatment arms", lambda s, p: s.arms),
     ("ratio", "treatment units per control unit, each arm", lambda s, p: s.ratio),
+    ("allocation", "text", lambda s, p: s.allocation),
+    ("treatment_ratio", "treatment units per control unit, each arm, as allocated",
+     lambda s, p: treatment_ratio(s)),
     ("correction", "text", lambda s, p: s.correction),
     ("daily_units", "units per day", lambda s, p: s.daily_units),
     ("share", "fraction", lambda s, p: s.share),
@@ -235,6 +266,10 @@ def settings_rows(plan, result) -> list[list[str]]:
     lines = [["key", "value", "unit"]]
     lines += [[key, cell(get(plan.settings, result)), unit] for key, unit, get in SETTINGS]
     lines += [[f"note_{i}", cell(note), "text"] for i, note in enumerate(result.notes, 1)]
+    saving = equal_allocation_saving(plan, result)
+    if saving is not None:
+        lines += [["equal_allocation_total_units", cell(saving.equal_units), "units"],
+                  ["equal_allocation_duration_days", cell(saving.equal_days), "days"]]
     lines += _look_rows(plan, result)
     lines.append(["fourfold_version", cell(__version__), "text"])
     return lines

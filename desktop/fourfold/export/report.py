@@ -4,31 +4,7 @@ Numbers are formatted for reading here: units rounded up to whole units (a sampl
 always rounded up), proportions as percentages, effects with four significant digits. The CSV
 export keeps the full-precision values.
 
-References
-----------
-The methods section cites, per method a plan uses:
-
-- Lehr, R. (1992). Sixteen s-squared over d-squared: a relation for crude sample size
-  estimates. *Statistics in Medicine* 11, 1099–1102.
-- Cohen, J. (1988). *Statistical Power Analysis for the Behavioral Sciences*, 2nd ed.
-- Fleiss, J. L., Levin, B. & Paik, M. C. (2003). *Statistical Methods for Rates and
-  Proportions*, 3rd ed., ch. 4.
-- Fleiss, J. L., Tytun, A. & Ury, H. K. (1980). *Biometrics* 36, 343–346.
-- Farrington, C. P. & Manning, G. (1990). *Statistics in Medicine* 9, 1447–1454.
-- Kohavi, R., Tang, D. & Xu, Y. (2020). *Trustworthy Online Controlled Experiments*, ch. 17.
-- Chow, S.-C., Shao, J. & Wang, H. (2008). *Sample Size Calculations in Clinical Research*,
-  2nd ed. (tests against a margin).
-- Deng, A., Xu, Y., Kohavi, R. & Walker, T. (2013). WSDM 2013, 123–132 (CUPED).
-- Kish, L. (1965). *Survey Sampling*; Eldridge, S. M., Ashby, D. & Kerry, S. (2006).
-  *International Journal of Epidemiology* 35, 1292–1300 (design effect).
-- Deng, A., Knoblich, U. & Lu, J. (2018). KDD 2018 (delta method).
-- Bonferroni, C. E. (1936); Šidák, Z. (1967). *Journal of the American Statistical
-  Association* 62, 626–633.
-- Lan, K. K. G. & DeMets, D. L. (1983). *Biometrika* 70, 659–663; O'Brien, P. C. & Fleming,
-  T. R. (1979). *Biometrics* 35, 549–556; Pocock, S. J. (1977). *Biometrika* 64, 191–199;
-  Hwang, I. K., Shih, W. J. & DeCani, J. S. (1990). *Statistics in Medicine* 9, 1439–1445;
-  Jennison, C. & Turnbull, B. W. (2000). *Group Sequential Methods with Applications to
-  Clinical Trials*.
+The methods section and its references are in :mod:`fourfold.export.report_methods`.
 """
 
 from __future__ import annotations
@@ -36,9 +12,19 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from fourfold.plan import CHOICES
+from fourfold.export.report_methods import (
+    SPENDING_LABELS,
+    SPENDING_SOURCES,
+    Method,
+    method_of,
+    methods,
+)
+from fourfold.plan import kinds
+from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
 from fourfold.plan.fields import CORRECTION_LABELS
 from fourfold.plan.sequential import looks_row, row_looks
+
+__all__ = ["SPENDING_LABELS", "SPENDING_SOURCES", "Method", "Table", "method_of", "methods"]
 
 DASH = "—"
 ROLE_ORDER = ("primary", "secondary", "guardrail")
@@ -48,29 +34,6 @@ SOLVE_LABELS = {
     "power": "power",
     "significance_level": "α",
 }
-SPENDING_LABELS = {
-    "ld-obrien-fleming": "Lan–DeMets, O'Brien–Fleming type",
-    "ld-pocock": "Lan–DeMets, Pocock type",
-    "hsd": "Hwang–Shih–DeCani",
-    "obrien-fleming": "O'Brien–Fleming",
-    "pocock": "Pocock",
-}
-
-_LAN_DEMETS = ("Lan, K. K. G. & DeMets, D. L. (1983). Discrete sequential boundaries for "
-               "clinical trials. Biometrika 70, 659–663.")
-SPENDING_SOURCES = {
-    "ld-obrien-fleming": _LAN_DEMETS,
-    "ld-pocock": _LAN_DEMETS,
-    "hsd": "Hwang, I. K., Shih, W. J. & DeCani, J. S. (1990). Group sequential designs using a "
-           "family of type I error probability spending functions. Statistics in Medicine 9, "
-           "1439–1445.",
-    "obrien-fleming": "O'Brien, P. C. & Fleming, T. R. (1979). A multiple testing procedure "
-                      "for clinical trials. Biometrics 35, 549–556.",
-    "pocock": "Pocock, S. J. (1977). Group sequential methods in the design and analysis of "
-              "clinical trials. Biometrika 64, 191–199.",
-}
-
-
 @dataclass(frozen=True)
 class Table:
     """A table to lay out: header, rows of text cells, per-column alignment and emphasis.
@@ -84,16 +47,6 @@ class Table:
     align: tuple[str, ...]
     bold: frozenset[tuple[int, int]] = field(default_factory=frozenset)
     marked: frozenset[int] = field(default_factory=frozenset)
-
-
-@dataclass(frozen=True)
-class Method:
-    """One entry of the methods section: what was used, for which rows, and its source."""
-
-    name: str
-    text: str
-    reference: str
-    rows: tuple[str, ...] = ()
 
 
 def _finite(value) -> bool:
@@ -184,16 +137,30 @@ def signed(text: str, value) -> str:
     return "+" + text if _finite(value) and float(value) > 0 else text
 
 
-def method_of(metric) -> str:
-    """The row's method, the kind's default when the row leaves it empty."""
-    return metric.method if metric.method is not None else CHOICES["method"][metric.kind][0]
+def with_unit(metric, text: str) -> str:
+    """``text`` followed by the row's unit (when it has one and the text is a number).
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace
+    >>> with_unit(SimpleNamespace(unit="ms"), "20"), with_unit(SimpleNamespace(unit=""), "20")
+    ('20 ms', '20')
+    """
+    return f"{text} {metric.unit}" if metric.unit and text != DASH else text
 
 
 def baseline_text(metric) -> str:
     """The baseline: a percentage for a proportion, the metric's unit otherwise."""
     if metric.kind == "proportion":
         return percent(metric.baseline, 4)
-    return number(metric.baseline)
+    return with_unit(metric, number(metric.baseline))
+
+
+def sd_text(metric) -> str:
+    """The per-unit sd: as entered, or derived from a ratio's or quantile's own inputs."""
+    if metric.kind in kinds.DERIVED_SD:
+        return with_unit(metric, number(kinds.unit_sd(metric)))
+    return DASH if metric.sd is None else with_unit(metric, number(metric.sd))
 
 
 def effect_text(metric, value, *, relative: bool) -> str:
@@ -204,7 +171,68 @@ def effect_text(metric, value, *, relative: bool) -> str:
         return percent(value, signed=True)
     if metric.kind == "proportion":
         return signed(f"{number(100 * float(value), 3)} pp", value)
-    return signed(number(value), value)
+    return with_unit(metric, signed(number(value), value))
+
+
+def kind_text(metric) -> str:
+    """The kind and method, a quantile with its level: ``quantile (p95), asymptotic``."""
+    kind = metric.kind
+    if kind == "quantile":
+        kind = f"quantile ({kinds.quantile_name(metric)})"
+    return f"{kind}, {method_of(metric)}"
+
+
+def margin_size_text(metric) -> str:
+    """The margin's size without its sign, in the row's units ("20 ms", "10 %", "0.5 pp")."""
+    size = abs(metric.margin)
+    if metric.relative:
+        return f"{percent(size)} of the baseline"
+    if metric.kind == "proportion":
+        return f"{number(100 * size, 3)} pp"
+    return with_unit(metric, number(size))
+
+
+def direction_lines(plan) -> list[tuple[str, str]]:
+    """Each guardrail's test in plain words (see :func:`fourfold.plan.kinds.direction_words`).
+
+    Examples
+    --------
+    >>> from fourfold.plan import Metric, Plan
+    >>> direction_lines(Plan(metrics=[Metric(name="Load", role="guardrail", kind="mean",
+    ...     sd=1.0, baseline=1.8, better="lower", alternative="less", margin=0.02,
+    ...     relative=False, unit="s")]))
+    [('1. Load', 'must not get worse (higher) by more than 0.02 s; lower is better')]
+    """
+    return [(f"{index + 1}. {m.name}",
+             f"{kinds.direction_words(m, margin_size_text(m))}; {m.better} is better")
+            for index, m in enumerate(plan.metrics) if m.role == "guardrail"]
+
+
+def kind_inputs_table(plan) -> Table:
+    """The own inputs of ratio and quantile rows and the per-unit sd they give."""
+    rows = []
+    for index, m in enumerate(plan.metrics):
+        if m.kind == "ratio":
+            numerator = None if m.denominator is None else m.baseline * m.denominator
+            inputs = (f"numerator {number(numerator)} per unit (sd {number(m.numerator_sd)}), "
+                      f"denominator {number(m.denominator)} per unit (sd "
+                      f"{number(m.denominator_sd)}), correlation {number(m.correlation, 3)}")
+            how = "delta method"
+        elif m.kind == "quantile":
+            name = kinds.quantile_name(m)
+            if m.density is not None:
+                inputs = f"density at the {name}: {number(m.density)} (from history)"
+                how = "√(p(1 − p)) / density"
+            else:
+                second = DASH if m.second_level is None else f"p{100 * m.second_level:.6g}"
+                inputs = (f"log-normal through the {name} and the {second} = "
+                          f"{with_unit(m, number(m.second_value))}")
+                how = "√(p(1 − p)) / log-normal density"
+        else:
+            continue
+        rows.append((str(index + 1), m.name, inputs, how, sd_text(m)))
+    return Table(header=("#", "Metric", "Own inputs", "SD from", "SD per unit"),
+                 rows=tuple(rows), align=("r", "l", "l", "l", "r"))
 
 
 def alternative_text(metric) -> str:
@@ -215,8 +243,23 @@ def alternative_text(metric) -> str:
 
 def split_text(settings) -> str:
     """The allocation, control first: ``1 : 1 : 1`` for two treatment arms at ratio 1."""
-    ratio = number(settings.ratio, 3)
-    return " : ".join(["1", *[ratio] * settings.arms])
+    ratio = number(treatment_ratio(settings), 3)
+    split = " : ".join(["1", *[ratio] * settings.arms])
+    return f"{split} (√k rule)" if settings.allocation == "sqrt-k" else split
+
+
+def saving_text(plan, result) -> str | None:
+    """What the √k split saves against an equal one, in words (``None`` for other splits)."""
+    if plan.settings.allocation != "sqrt-k":
+        return None
+    saving = equal_allocation_saving(plan, result)
+    if saving is None:
+        return None
+    text = (f"{units(saving.units_saved)} units fewer than an equal split "
+            f"({units(saving.equal_units)})")
+    if _finite(saving.days_saved):
+        text += f", {days(saving.days_saved)} days sooner ({days(saving.equal_days)})"
+    return text
 
 
 def duration_text(result) -> str:
@@ -280,6 +323,7 @@ def assumptions(plan) -> list[tuple[str, str]]:
         ("Significance level α", probability(s.alpha)),
         ("Power", probability(s.power)),
         ("Multiple-comparison correction", CORRECTION_LABELS[s.correction]),
+        ("Split between the arms", split_text(s)),
         ("Traffic", traffic),
         ("Share of traffic in the test", percent(s.share)),
         ("Duration rounded to whole weeks", "yes" if s.whole_weeks else "no"),
@@ -288,6 +332,9 @@ def assumptions(plan) -> list[tuple[str, str]]:
     ]
     if overrides:
         rows.append(("Rows with their own α or power", ", ".join(overrides)))
+    saving = saving_text(plan, None)
+    if saving is not None:
+        rows.append(("What the √k split saves", saving))
     return rows
 
 
@@ -328,9 +375,9 @@ def inputs_table(plan) -> Table:
             str(index + 1),
             m.name,
             m.role,
-            f"{m.kind}, {method_of(m)}",
+            kind_text(m),
             baseline_text(m),
-            DASH if m.sd is None else number(m.sd),
+            sd_text(m),
             DASH if m.solve == "detectable_effect" else effect_text(m, m.effect,
                                                                      relative=m.relative),
             alternative_text(m),
@@ -435,144 +482,3 @@ def looks_table(plan, result) -> tuple[str, Table] | None:
 def notes(plan) -> list[tuple[str, str]]:
     """Each row's free-text notes, labelled with its number and name."""
     return [(f"{i + 1}. {m.name}", m.notes) for i, m in enumerate(plan.metrics) if m.notes.strip()]
-
-
-_KIND_METHODS = {
-    ("mean", "z"): (
-        "Difference of means, normal approximation",
-        "n per arm = 2σ²(z₁₋α/₂ + z₁₋β)²/δ² for equal arms; with α = 0.05 two-sided and power "
-        "0.8 the coefficient is 15.7, Lehr's rule of 16.",
-        "Lehr, R. (1992). Sixteen s-squared over d-squared: a relation for crude sample size "
-        "estimates. Statistics in Medicine 11, 1099–1102.",
-    ),
-    ("mean", "t"): (
-        "Difference of means, two-sample t test",
-        "Power from the noncentral t distribution with the degrees of freedom of the two arms.",
-        "Cohen, J. (1988). Statistical Power Analysis for the Behavioral Sciences, 2nd ed., "
-        "ch. 2.",
-    ),
-    ("proportion", "pooled"): (
-        "Two proportions, pooled variance under H0",
-        "Normal approximation with the pooled proportion under H0 (the restricted estimates "
-        "of Farrington & Manning when H0 has a margin) and each arm's own variance under H1.",
-        "Fleiss, J. L., Levin, B. & Paik, M. C. (2003). Statistical Methods for Rates and "
-        "Proportions, 3rd ed., ch. 4.",
-    ),
-    ("proportion", "unpooled"): (
-        "Two proportions, unpooled variance",
-        "Wald test: each arm's own variance under H0 as well as under H1.",
-        "Fleiss, J. L., Levin, B. & Paik, M. C. (2003). Statistical Methods for Rates and "
-        "Proportions, 3rd ed., ch. 4.",
-    ),
-    ("proportion", "pooled-cc"): (
-        "Two proportions with continuity correction",
-        "The pooled normal approximation with the continuity correction for the discrete "
-        "outcome.",
-        "Fleiss, J. L., Tytun, A. & Ury, H. K. (1980). A simple approximation for calculating "
-        "sample sizes for comparing independent proportions. Biometrics 36, 343–346.",
-    ),
-    ("proportion", "arcsine"): (
-        "Two proportions, arcsine transformation (Cohen's h)",
-        "Effect size h = 2·arcsin√p_t − 2·arcsin√p_c, whose variance does not depend on p.",
-        "Cohen, J. (1988). Statistical Power Analysis for the Behavioral Sciences, 2nd ed., "
-        "ch. 6.",
-    ),
-    ("rate", "z"): (
-        "Difference of mean counts, normal approximation",
-        "Counts per unit with variance equal to the mean (Poisson), or over-dispersed with the "
-        "control arm's variance-to-mean ratio when a per-unit sd is given; Wald test.",
-        "Kohavi, R., Tang, D. & Xu, Y. (2020). Trustworthy Online Controlled Experiments. "
-        "Cambridge University Press, ch. 17.",
-    ),
-}
-
-_DELTA_WORDS = ("delta method", "ratio of sums", "ratio metric")
-
-
-def methods(plan) -> list[Method]:
-    """The published methods the plan's rows use, each with its reference, in a fixed order."""
-    used: dict[str, Method] = {}
-
-    def add(key: str, name: str, text: str, reference: str, row: str | None = None) -> None:
-        known = used.get(key)
-        rows = (known.rows if known else ()) + ((row,) if row else ())
-        used[key] = Method(name, text, reference, rows)
-
-    for m in plan.metrics:
-        name, text, reference = _KIND_METHODS[(m.kind, method_of(m))]
-        add(f"kind:{m.kind}:{method_of(m)}", name, text, reference, m.name)
-    for m in plan.metrics:
-        if m.rho != 0:
-            add("cuped", "Variance reduction with a pre-period covariate (CUPED)",
-                "The variance is multiplied by 1 − ρ², ρ being the correlation between the "
-                "metric and its pre-period value.",
-                "Deng, A., Xu, Y., Kohavi, R. & Walker, T. (2013). Improving the sensitivity of "
-                "online controlled experiments by utilizing pre-experiment data. WSDM 2013, "
-                "123–132.", m.name)
-        if m.cluster_size > 1 and m.icc > 0:
-            add("deff", "Design effect of clustered units",
-                "The variance is multiplied by 1 + (m − 1)·ICC for clusters of m units.",
-                "Kish, L. (1965). Survey Sampling. Wiley.", m.name)
-            if m.cluster_cv > 0:
-                add("deff-cv", "Design effect with unequal cluster sizes",
-                    "With a coefficient of variation cv of cluster sizes the design effect is "
-                    "1 + ((cv² + 1)·m − 1)·ICC.",
-                    "Eldridge, S. M., Ashby, D. & Kerry, S. (2006). Sample size for cluster "
-                    "randomized trials: effect of coefficient of variation of cluster size and "
-                    "analysis method. International Journal of Epidemiology 35, 1292–1300.",
-                    m.name)
-        if any(word in f"{m.name} {m.notes}".lower() for word in _DELTA_WORDS):
-            add("delta", "Delta method for ratio metrics",
-                "The per-unit variance of a ratio of sums comes from its linearisation.",
-                "Deng, A., Knoblich, U. & Lu, J. (2018). Applying the delta method in metric "
-                "analytics: a practical guide with novel ideas. KDD 2018.", m.name)
-        if m.margin != 0 and m.kind == "proportion" and method_of(m) in ("pooled", "pooled-cc"):
-            add("farrington-manning", "Restricted estimates under a margin (Farrington–Manning)",
-                "With a margin in H0, the H0 variance uses the maximum-likelihood proportions "
-                "restricted to the margin.",
-                "Farrington, C. P. & Manning, G. (1990). Test statistics and sample size formulae "
-                "for comparative binomial trials with null hypothesis of non-zero risk "
-                "difference or non-unity relative risk. Statistics in Medicine 9, 1447–1454.",
-                m.name)
-        if m.margin != 0:
-            add("margin", "Test against a margin",
-                "H0 places the difference at the margin instead of zero (non-inferiority, or "
-                "superiority by a margin).",
-                "Chow, S.-C., Shao, J. & Wang, H. (2008). Sample Size Calculations in Clinical "
-                "Research, 2nd ed. Chapman & Hall/CRC.", m.name)
-    _plan_methods(plan, add)
-    return list(used.values())
-
-
-def _plan_methods(plan, add) -> None:
-    s = plan.settings
-    if s.correction == "bonferroni":
-        add("bonferroni", "Bonferroni correction",
-            "Each comparison is tested at α divided by the number of comparisons.",
-            "Bonferroni, C. E. (1936). Teoria statistica delle classi e calcolo delle "
-            "probabilità. Pubblicazioni del R. Istituto Superiore di Scienze Economiche e "
-            "Commerciali di Firenze 8, 3–62.")
-    if s.correction == "sidak":
-        add("sidak", "Šidák correction",
-            "Each of k comparisons is tested at 1 − (1 − α)^(1/k).",
-            "Šidák, Z. (1967). Rectangular confidence regions for the means of multivariate "
-            "normal distributions. Journal of the American Statistical Association 62, "
-            "626–633.")
-    if s.looks > 1:
-        futility = " and a futility bound" if s.futility else ""
-        add("sequential", "Group-sequential design with α spending",
-            f"{s.looks} looks at equal shares of the maximum units, "
-            f"{SPENDING_LABELS[s.spending]} boundaries{futility}; the maximum is the fixed "
-            "design's units times the design's inflation factor, and the expected units assume "
-            "the planned effect is real.",
-            f"{SPENDING_SOURCES[s.spending]} Jennison, C. & Turnbull, B. W. (2000). Group "
-            "Sequential Methods with Applications to Clinical Trials. Chapman & Hall/CRC.")
-        add("peeking", "Unadjusted repeated looks",
-            "The false-positive rate of checking the test at every look without adjusting, "
-            "quoted in the notes, is that of repeated significance tests on accumulating data.",
-            "Armitage, P., McPherson, C. K. & Rowe, B. C. (1969). Repeated significance tests "
-            "on accumulating data. Journal of the Royal Statistical Society A 132, 235–244.")
-    if s.daily_units is not None:
-        text = "Days = total units ÷ (eligible units per day × share of traffic in the test)"
-        text += ", rounded up to whole weeks." if s.whole_weeks else "."
-        add("days", "From units to days", text, "Common practice; no single source.")

@@ -20,6 +20,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help="count column: rate per unit and its over-dispersion")
     parser.add_argument("--ratio", action="append", default=[], metavar="NUM:DEN",
                         help="ratio of sums with its delta-method variance")
+    parser.add_argument("--quantile", action="append", default=[], metavar="COL:LEVEL",
+                        help="a quantile of a numeric column and the density there, e.g. "
+                             "load_ms:0.95 for the p95")
     parser.add_argument("--pre", action="append", default=[], metavar="COL:PRECOL",
                         help="pre-period column of a metric, for CUPED's correlation")
     parser.add_argument("--cap", type=float, default=None, metavar="PERCENTILE",
@@ -58,6 +61,14 @@ def mapping_from_args(args: argparse.Namespace) -> list:
     for text in args.ratio:
         numerator, denominator = split_pair(text, "--ratio", "NUM:DEN")
         specs.append(ColumnMap("ratio", numerator, denominator=denominator, cap=args.cap))
+    for text in args.quantile:
+        column, level = split_pair(text, "--quantile", "COL:LEVEL (e.g. load_ms:0.95)")
+        try:
+            value = float(level)
+        except ValueError:
+            raise HistoryError(f"--quantile {text}: the level must be a number such as 0.95, "
+                               f"not {level!r}") from None
+        specs.append(ColumnMap("quantile", column, level=value))
     if pre:
         column = next(iter(pre))
         raise HistoryError(

@@ -2,9 +2,11 @@
 
 :func:`read_history` is the one entry point for the window, the command line and notebooks.
 It reads only the mapped columns, a chunk at a time, so memory stays flat however long the
-file is. Without caps there is one pass (moments); with caps, a first pass keeps a bounded
-summary of each capped column's upper tail (:class:`~fourfold.history.tail.TailSketch`) to
-find the cap, and a second pass computes the moments of the capped and uncapped values.
+file is. Without caps or quantiles there is one pass (moments); with caps, a first pass keeps
+a bounded summary of each capped column's upper tail (:class:`~fourfold.history.tail.TailSketch`)
+to find the cap, and a second pass computes the moments of the capped and uncapped values. A
+quantile's first pass finds the quantile and the kernel's bandwidth, its second the density
+there (:mod:`fourfold.history.quantiles`).
 """
 
 from __future__ import annotations
@@ -17,6 +19,7 @@ import numpy as np
 
 from fourfold.history.errors import HistoryCancelled, HistoryError
 from fourfold.history.moments import CoMoments, Moments
+from fourfold.history.quantiles import QuantileSketch, kernel_sum
 from fourfold.history.reader import iter_chunks, location, numbers, read_columns
 from fourfold.history.summary import (
     ColumnMap,
@@ -95,29 +98,37 @@ def read_history(
     check_mapping(mapping, header, path.name)
     columns = list(dict.fromkeys(c for spec in mapping for c in spec.columns))
     capped = list(dict.fromkeys(c for spec in mapping for c in spec.capped_columns))
-    passes = 2 if capped else 1
+    levels = {spec.name: spec for spec in mapping if spec.kind == "quantile"}
+    passes = 2 if capped or levels else 1
     counter = _Counter(progress, passes)
 
-    thresholds = {}
-    if capped:
+    thresholds, quantiles = {}, {}
+    if passes == 2:
         sketches = {column: TailSketch(capacity=tail_capacity) for column in capped}
         kinds = {c: spec.kind for spec in mapping for c in spec.capped_columns}
-        for chunk in _chunks(path, capped, chunk_rows, cancel, counter, 0):
+        first = {name: QuantileSketch(spec.level, tail_capacity) for name, spec in levels.items()}
+        read = list(dict.fromkeys([*capped, *(spec.column for spec in levels.values())]))
+        for chunk in _chunks(path, read, chunk_rows, cancel, counter, 0):
             for column in capped:
                 x = _column(chunk, column, kinds[column], path)
                 sketches[column].add(x[~np.isnan(x)])
+            for name, spec in levels.items():
+                x = _column(chunk, spec.column, "mean", path)
+                first[name].add(x[~np.isnan(x)])
         thresholds = {
             (column, spec.cap): sketches[column].estimate(spec.cap)
             for spec in mapping for column in spec.capped_columns
         }
+        quantiles = {name: sketch.estimate() for name, sketch in first.items()}
 
     tallies = [Tally() for _ in mapping]
     for chunk in _chunks(path, columns, chunk_rows, cancel, counter, passes - 1):
         cache: dict[tuple[str, str], np.ndarray] = {}
         for i, spec in enumerate(mapping):
-            tallies[i] = tallies[i].merge(_tally(spec, chunk, path, cache, thresholds))
+            tallies[i] = tallies[i].merge(_tally(spec, chunk, path, cache, thresholds,
+                                                 quantiles))
     metrics = tuple(
-        finish(spec, tally, thresholds=thresholds)
+        finish(spec, tally, thresholds=thresholds, quantiles=quantiles)
         for spec, tally in zip(mapping, tallies, strict=True)
     )
     return HistorySummary(str(path), tallies[0].rows if tallies else 0, metrics)
@@ -174,8 +185,8 @@ def _capped(x: np.ndarray, column: str, spec: ColumnMap, thresholds: dict):
     return (np.where(over, estimate.value, x), count) if count else (x, 0)
 
 
-def _tally(spec: ColumnMap, chunk, path, cache, thresholds) -> Tally:
-    value_kind = "mean" if spec.kind == "ratio" else spec.kind
+def _tally(spec: ColumnMap, chunk, path, cache, thresholds, quantiles) -> Tally:
+    value_kind = "mean" if spec.kind in ("ratio", "quantile") else spec.kind
     x = _column(chunk, spec.column, value_kind, path, cache)
     if spec.kind == "ratio":
         d = _column(chunk, spec.denominator, "mean", path, cache)
@@ -187,6 +198,10 @@ def _tally(spec: ColumnMap, chunk, path, cache, thresholds) -> Tally:
         return Tally(chunk.rows, pairs.y, pairs, raw_pairs=raw, capped=count)
     present = ~np.isnan(x)
     x = x[present]
+    if spec.kind == "quantile":
+        estimate = quantiles[spec.name]
+        kernel = kernel_sum(x, estimate) if estimate.bandwidth > 0 else 0.0
+        return Tally(chunk.rows, Moments.of(x), kernel=kernel)
     capped_x, count = _capped(x, spec.column, spec, thresholds)
     values = Moments.of(capped_x)
     raw = Moments.of(x) if spec.cap is not None else Moments()

@@ -2,8 +2,10 @@
 
 A :class:`ColumnMap` says how file columns become one metric row: a numeric column is a mean
 (mean and sd), a 0/1 or true/false column a proportion, a count column a rate (with its
-observed sd, which carries any over-dispersion), and a numerator and denominator pair a ratio
-of sums (a mean row whose sd comes from the delta method). An optional pre-period column gives
+observed sd, which carries any over-dispersion), a numerator and denominator pair a ratio row
+(the ratio of sums, the denominator's mean, both sds and their correlation; its delta-method
+sd), and a numeric column with a level a quantile row (the quantile and a kernel estimate of
+the density there, see :mod:`fourfold.history.quantiles`). An optional pre-period column gives
 CUPED's correlation ρ; an optional cap percentile winsorises the upper tail.
 
 A :class:`Tally` is the mergeable state of one metric (moments of the values, co-moments of
@@ -31,10 +33,11 @@ from dataclasses import dataclass, field
 from fourfold.history.errors import HistoryError
 from fourfold.history.moments import CoMoments, Moments
 
-HISTORY_KINDS = ("mean", "proportion", "count", "ratio")
-"""How a column maps to a metric row (``count`` becomes a rate row, ``ratio`` a mean row)."""
+HISTORY_KINDS = ("mean", "proportion", "count", "ratio", "quantile")
+"""How a column maps to a metric row (``count`` becomes a rate row)."""
 
-PLAN_KIND = {"mean": "mean", "proportion": "proportion", "count": "rate", "ratio": "mean"}
+PLAN_KIND = {"mean": "mean", "proportion": "proportion", "count": "rate", "ratio": "ratio",
+             "quantile": "quantile"}
 
 
 @dataclass(frozen=True)
@@ -53,7 +56,9 @@ class ColumnMap:
         The same metric in a pre-period, for CUPED's ρ (not for ratios).
     cap : float, optional
         Cap the values (and the pre-period values) above this percentile, in (50, 100); for a
-        ratio, the numerator. Not for proportions.
+        ratio, the numerator. Not for proportions nor quantiles.
+    level : float, optional
+        The quantile's level in (0, 1), 0.95 for the p95 (quantiles only).
 
     Examples
     --------
@@ -66,6 +71,7 @@ class ColumnMap:
     denominator: str | None = None
     pre: str | None = None
     cap: float | None = None
+    level: float | None = None
 
     def __post_init__(self) -> None:
         if self.kind not in HISTORY_KINDS:
@@ -84,6 +90,17 @@ class ColumnMap:
                 f"ratio {self.name!r}: a pre-period column applies to a mean, proportion or "
                 "count column, not to a ratio"
             )
+        if (self.kind == "quantile") != (self.level is not None):
+            raise HistoryError(
+                f"column {self.column!r}: a level goes with kind 'quantile' and only with it"
+            )
+        if self.level is not None and (isinstance(self.level, bool)
+                                       or not 0.0 < float(self.level) < 1.0):
+            raise HistoryError(f"level of column {self.column!r} must be between 0 and 1 "
+                               f"(0.95 for the p95); got {self.level!r}")
+        if self.kind == "quantile" and (self.pre is not None or self.cap is not None):
+            raise HistoryError(f"quantile {self.name!r}: a pre-period column or a cap applies "
+                               "to a mean, proportion or count column, not to a quantile")
         if self.pre is not None and self.pre == self.column:
             raise HistoryError(f"column {self.column!r} cannot be its own pre-period column")
         if self.cap is not None:
@@ -97,7 +114,9 @@ class ColumnMap:
 
     @property
     def name(self) -> str:
-        """The metric's key: the column, or ``NUM:DEN`` for a ratio."""
+        """The metric's key: the column, ``NUM:DEN`` for a ratio, ``COL p95`` for a quantile."""
+        if self.kind == "quantile":
+            return f"{self.column} p{100 * self.level:.6g}"
         return f"{self.column}:{self.denominator}" if self.kind == "ratio" else self.column
 
     @property
@@ -130,6 +149,8 @@ class Tally:
     raw_values: Moments = Moments()
     raw_pairs: CoMoments = CoMoments()
     capped: int = 0
+    kernel: float = 0.0
+    """A quantile's sum of Gaussian kernels at the quantile (see :mod:`~.quantiles`)."""
 
     def merge(self, other: Tally) -> Tally:
         """The tally of both sets of rows."""
@@ -140,6 +161,7 @@ class Tally:
             self.raw_values.merge(other.raw_values),
             self.raw_pairs.merge(other.raw_pairs),
             self.capped + other.capped,
+            self.kernel + other.kernel,
         )
 
 
@@ -193,10 +215,14 @@ class MetricSummary:
     rho: float | None = None
     pairs: int = 0
     cap: CapSummary | None = None
+    parts: dict | None = None
+    """The kind's own plan fields: a ratio's ``denominator``, ``numerator_sd``,
+    ``denominator_sd``, ``correlation``; a quantile's ``quantile_level``, ``density`` (and
+    ``exact``: whether the quantile is exact or estimated from a sample)."""
 
     @property
     def plan_kind(self) -> str:
-        """The metric row kind: mean, proportion or rate."""
+        """The metric row kind: mean, proportion, rate, ratio or quantile."""
         return PLAN_KIND[self.kind]
 
     @property
@@ -207,19 +233,24 @@ class MetricSummary:
         return self.sd**2 / self.mean
 
     def plan_fields(self) -> dict[str, object]:
-        """The metric row fields this summary sets: kind, baseline, sd and (with a pre-period
-        column) rho. A proportion's sd is left empty: its variance follows from the baseline.
+        """The metric row fields this summary sets: kind, baseline, sd, (with a pre-period
+        column) rho, and a ratio's or quantile's own inputs. A proportion's sd is left empty
+        (its variance follows from the baseline), as are a ratio's and a quantile's (derived
+        from their own inputs).
 
         Examples
         --------
         >>> MetricSummary("spend", "mean", 100, 0, 2.5, 9.0, rho=0.5, pairs=100).plan_fields()
         {'kind': 'mean', 'baseline': 2.5, 'sd': 9.0, 'rho': 0.5}
         """
+        derived = self.kind in ("proportion", "ratio", "quantile")
         fields: dict[str, object] = {
             "kind": self.plan_kind,
             "baseline": self.mean,
-            "sd": None if self.kind == "proportion" else self.sd,
+            "sd": None if derived else self.sd,
         }
+        fields.update({name: value for name, value in (self.parts or {}).items()
+                       if name != "exact"})
         if self.rho is not None:
             fields["rho"] = self.rho
         return fields
@@ -234,6 +265,10 @@ class MetricSummary:
         if self.cap is not None:
             text += (f", capped at the {self.cap.percentile:g}th percentile "
                      f"({self.cap.threshold:.6g}; {self.cap.capped:,} values)")
+        if self.kind == "quantile" and self.parts is not None:
+            how = "" if self.parts["exact"] else ", the quantile estimated from a sample"
+            text += (f", density {self.parts['density']:.4g} at the quantile (Gaussian kernel, "
+                     f"Silverman's bandwidth{how})")
         return text + "."
 
     def to_dict(self) -> dict[str, object]:
@@ -251,6 +286,8 @@ class MetricSummary:
             out["pairs"] = self.pairs
         if self.dispersion is not None:
             out["dispersion"] = _plain(self.dispersion)
+        for name, value in (self.parts or {}).items():
+            out[name] = value if isinstance(value, bool) else _plain(value)
         if self.cap is not None:
             out["cap"] = {
                 "percentile": self.cap.percentile,
@@ -314,14 +351,20 @@ def _listing(header: list[str]) -> str:
     return shown + (", …" if len(header) > 30 else "")
 
 
-def finish(spec: ColumnMap, tally: Tally, *, thresholds: dict | None = None) -> MetricSummary:
+def finish(spec: ColumnMap, tally: Tally, *, thresholds: dict | None = None,
+           quantiles: dict | None = None) -> MetricSummary:
     """The summary of one metric's tally; HistoryError when its numbers cannot be used.
 
     ``thresholds`` maps ``(column, cap percentile)`` to its
-    :class:`~fourfold.history.tail.TailEstimate`.
+    :class:`~fourfold.history.tail.TailEstimate`; ``quantiles`` maps a quantile's name to its
+    :class:`~fourfold.history.quantiles.QuantileEstimate`.
     """
     if spec.kind == "ratio":
         return _finish_ratio(spec, tally, thresholds)
+    if spec.kind == "quantile":
+        from fourfold.history.quantiles import finish_quantile
+
+        return finish_quantile(spec, tally, (quantiles or {}).get(spec.name))
     values = tally.values
     if values.n == 0:
         raise HistoryError(f"column {spec.column!r} has no values (every cell is empty)")
@@ -365,6 +408,11 @@ def _finish_ratio(spec: ColumnMap, tally: Tally, thresholds: dict | None) -> Met
             f"denominator column {spec.denominator!r} sums to zero, so the ratio "
             f"{spec.name!r} is undefined"
         )
+    if pairs.x.mean < 0:
+        raise HistoryError(
+            f"denominator column {spec.denominator!r} sums to a negative number; a ratio's "
+            "denominator counts something (orders, sessions)"
+        )
     sd = pairs.ratio_sd()
     if pairs.n < 2 or not sd > 0:
         raise HistoryError(
@@ -376,8 +424,12 @@ def _finish_ratio(spec: ColumnMap, tally: Tally, thresholds: dict | None) -> Met
         raw = tally.raw_pairs
         cap_values = Moments(raw.n, raw.ratio(), raw.ratio_sd() ** 2 * max(raw.n - 1, 0))
         cap = _cap(spec, cap_values, tally.capped, thresholds)
+    correlation = pairs.correlation  # nan when the denominator is constant: it plays no part
+    correlation = max(-1.0, min(1.0, correlation)) if math.isfinite(correlation) else 0.0
+    parts = {"denominator": pairs.x.mean, "numerator_sd": pairs.y.sd,
+             "denominator_sd": pairs.x.sd, "correlation": correlation}
     return MetricSummary(spec.name, spec.kind, pairs.n, tally.rows - pairs.n, pairs.ratio(),
-                         sd, None, 0, cap)
+                         sd, None, 0, cap, parts)
 
 
 def _cap(spec: ColumnMap, raw: Moments, capped: int, thresholds: dict | None):

@@ -72,6 +72,11 @@ class TailSketch:
         """How many values have been added."""
         return self._seen
 
+    @property
+    def sample(self) -> np.ndarray:
+        """A copy of the reservoir: every value seen while they fit, a uniform sample after."""
+        return self._sample.copy()
+
     def add(self, values) -> None:
         """Add a chunk of finite values."""
         x = np.asarray(values, dtype=np.float64).ravel()

@@ -44,10 +44,10 @@ def summary_table(summary: HistorySummary) -> str:
     >>> row = MetricSummary("spend", "mean", 1000, 3, 2.5, 9.25, rho=0.41, pairs=1000)
     >>> print(summary_table(HistorySummary("h.csv", 1003, (row,))))
     h.csv: 1,003 rows
-    metric  kind  plan row      n  missing  mean  sd    ρ
-    spend   mean  mean      1,000        3  2.5   9.25  0.41
+    metric  kind  plan row      n  missing  baseline  sd    ρ
+    spend   mean  mean      1,000        3  2.5       9.25  0.41
     """
-    header = ("metric", "kind", "plan row", "n", "missing", "mean", "sd", "ρ")
+    header = ("metric", "kind", "plan row", "n", "missing", "baseline", "sd", "ρ")
     rows = [
         (m.name, m.kind, m.plan_kind, f"{m.n:,}", f"{m.missing:,}", number(m.mean),
          number(m.sd), number(m.rho, 3))

@@ -104,6 +104,11 @@ def _check(mapping: Sequence[ColumnMap]) -> list[ColumnMap]:
     if not mapping:
         raise HistoryError("map at least one column to a metric")
     for spec in mapping:
+        if spec.kind == "quantile":
+            raise HistoryError(
+                f"quantile {spec.name!r}: a quantile and the density there need the values, "
+                "which do not merge across partitions; import a per-unit file instead"
+            )
         if spec.cap is not None:
             raise HistoryError(
                 f"column {spec.column!r}: caps are percentiles, which do not merge across "

@@ -35,6 +35,7 @@ from fourfold.plan.fields import (
     validate_field,
     validate_metric,
 )
+from fourfold.plan.kinds import guardrail_direction
 from fourfold.plan.model import Metric, Plan, new_row_id
 
 CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "rows_reordered",
@@ -207,6 +208,7 @@ class SetFields(Command):
                 if not self.name_rows:
                     raise
                 raise PlanError(f"row {row + 1}: {error}", error.field) from None
+        _guardrail_defaults(new, metrics, {(row, field) for row, field, _ in self.edits})
         return new
 
     def apply(self, plan: Plan) -> Change:
@@ -236,11 +238,43 @@ class SetFields(Command):
         return Change("cells", tuple(sorted({row for row, _ in values})), fields)
 
 
+def _guardrail_defaults(new: dict[tuple[int, str], Any], metrics: list[Metric],
+                        explicit: set[tuple[int, str]]) -> None:
+    """A row that becomes a guardrail, or a guardrail whose ``better`` changes, gets the
+    one-sided test of its direction (:func:`fourfold.plan.kinds.guardrail_direction`), unless
+    the same command sets its alternative or margin itself."""
+    rows = {row for row, field in new if field in ("role", "better")}
+    for row in sorted(rows):
+        metric = metrics[row]
+        if new.get((row, "role"), metric.role) != "guardrail":
+            continue
+        if (row, "alternative") in explicit or (row, "margin") in explicit:
+            continue
+        if (row, "role") in new and metric.role == "guardrail" and (row, "better") not in new:
+            continue
+        alternative, margin = guardrail_direction(new.get((row, "better"), metric.better),
+                                                  new.get((row, "margin"), metric.margin))
+        if alternative != metric.alternative:
+            new[(row, "alternative")] = alternative
+        if margin != metric.margin:
+            new[(row, "margin")] = margin
+
+
 class SetField(SetFields):
     """Set one metric cell: ``SetField(row, field, value)``.
 
-    Changing ``kind`` also clears a ``method`` that does not belong to the new kind (in the
-    same undo step).
+    Changing ``kind`` also clears a ``method`` that does not belong to the new kind, and
+    making a row a guardrail or changing a guardrail's ``better`` sets its one-sided
+    alternative and the side of its margin (in the same undo step).
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan
+    >>> stack = CommandStack(Plan(metrics=[Metric(name="Load time", margin=0.05)]))
+    >>> stack.do(SetField(0, "better", "lower")); stack.do(SetField(0, "role", "guardrail"))
+    >>> row = stack.plan.metrics[0]
+    >>> row.alternative, row.margin
+    ('less', 0.05)
     """
 
     name_rows = False  # one cell: the user is looking at it

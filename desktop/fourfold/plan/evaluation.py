@@ -10,7 +10,10 @@ Semantics
     plan's ``correction`` is not ``"none"``, primary rows test at
     ``adjusted_alpha(α, arms × number of primary rows, correction)`` and secondary and guardrail
     rows at ``adjusted_alpha(α, arms, correction)`` (each row is compared once per treatment
-    arm). Rows solving for the significance level report the α they achieve, uncorrected.
+    arm); Dunnett's correction splits α over the primary rows (Bonferroni) and covers the arms
+    by its critical value for the plan's allocation and the row's sidedness
+    (:func:`fourfold.plan.arms.row_alphas`). Rows solving for the significance level report
+    the α they achieve, uncorrected.
 Design factor
     ``variance_factor(rho, cluster_size, icc, cluster_cv)`` multiplies the units a row needs;
     rows that start from a number of units use ``n / factor`` effective units.
@@ -62,7 +65,8 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from fourfold import engine
-from fourfold.plan import sequential
+from fourfold.plan import kinds, sequential
+from fourfold.plan.arms import row_alphas, treatment_ratio
 from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Metric, Plan, Settings
 
@@ -72,7 +76,8 @@ if TYPE_CHECKING:
 DECIDING_ROLES = ("primary", "guardrail")
 
 _ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative", "margin",
-               "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n")
+               "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n",
+               *kinds.RATIO_FIELDS, *kinds.QUANTILE_FIELDS)
 """The metric fields a row's result depends on (with its corrected α and the settings)."""
 
 _ROW_KEY = operator.attrgetter(*_ROW_INPUTS)
@@ -190,20 +195,6 @@ def _ceil(value: float) -> float:
     return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
 
 
-def _row_alphas(plan: Plan) -> list[float]:
-    """Each row's α after the plan's correction (one engine call for all rows)."""
-    settings = plan.settings
-    alphas = [settings.alpha if metric.alpha is None else metric.alpha
-              for metric in plan.metrics]
-    if settings.correction == "none" or not alphas:
-        return alphas
-    primary = [metric.role == "primary" for metric in plan.metrics]
-    comparisons = settings.arms * np.where(primary, float(sum(primary)), 1.0)
-    adjusted = engine.adjusted_alpha(np.array(alphas, dtype=float), comparisons,
-                                     settings.correction)
-    return adjusted.tolist()
-
-
 def runtime_units(settings: Settings) -> float | None:
     """Control-arm units a fixed runtime provides, or ``None`` without runtime or traffic.
 
@@ -215,7 +206,7 @@ def runtime_units(settings: Settings) -> float | None:
     if settings.runtime_days is None or settings.daily_units is None:
         return None
     return (settings.runtime_days * settings.daily_units * settings.share
-            / (1.0 + settings.arms * settings.ratio))
+            / (1.0 + settings.arms * treatment_ratio(settings)))
 
 
 def _failed(solved: str, factor: float, alpha: float, power: float, reason: str) -> RowResult:
@@ -285,12 +276,19 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
     baseline = _column([metric.baseline for metric in metrics])
     alpha = _column([row.alpha for row in rows])
     power = _column([row.power for row in rows])
+    sd, own = kinds.unit_sds(metrics)  # a ratio's or quantile's sd, from its own inputs
     common = dict(
-        sd=_column([metric.sd for metric in metrics]) if has_sd else None,
-        alternative=alternative, ratio=plan.settings.ratio, method=method,
+        sd=None if sd is None else np.where(own == "", sd, 1.0), alternative=alternative,
+        ratio=treatment_ratio(plan.settings), method=method,
         relative=_column([metric.relative for metric in metrics], bool),
         margin=_column([metric.margin for metric in metrics]),
     )
+    values, reasons = _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common)
+    return np.where(own == "", values, np.nan), np.where(own == "", reasons, own)
+
+
+def _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common):
+    """The engine's values and reasons for a group (see :func:`_solve_group`)."""
     if solved == "detectable_effect":
         n_effective = _column([row.n_effective for row in rows])
         inflation = _column([sequential.inflation(row.staged) for row in rows])
@@ -317,7 +315,7 @@ def _evaluate_rows(plan: Plan, designs: dict,
     metrics = plan.metrics
     if not metrics:
         return ()
-    alphas = _row_alphas(plan)
+    alphas = row_alphas(plan)
     results: list[RowResult | None] = [None] * len(metrics)
     keys = changed = None
     missing = range(len(metrics))
@@ -385,7 +383,7 @@ def _solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[in
             continue
         pending[index] = prepared
         key = (metric.kind, metric.method, metric.alternative, prepared.solved,
-               metric.sd is not None)
+               kinds.has_sd(metric))
         groups.setdefault(key, []).append(index)
 
     solved_rows = []
@@ -450,7 +448,7 @@ def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
         effect_abs = effect
         effect_rel = effect / metric.baseline if metric.baseline != 0 else math.nan
     units_control = _ceil(n_control)
-    units_treatment = _ceil(settings.ratio * units_control)
+    units_treatment = _ceil(treatment_ratio(settings) * units_control)
     units_total = units_control + settings.arms * units_treatment
     return (units_control, units_treatment, units_total, float(effect_abs), float(effect_rel),
             power, alpha)
@@ -501,9 +499,12 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
         primaries = sum(1 for metric in plan.metrics if metric.role == "primary")
         notes.append(
             f"α corrected ({settings.correction}): primary rows for {settings.arms} arm(s) × "
-            f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)."
+            f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)"
+            + (" (Dunnett's critical value over the arms, Bonferroni over the metrics)."
+               if settings.correction == "dunnett" else ".")
         )
     notes.extend(sequential.plan_notes(plan, rows, designs))
+    notes.extend(kinds.tail_notes(plan.metrics, rows))
     deciding, secondary = [], []  # computed rows that solve for sample size, by role
     for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True)):
         if row.reason:
@@ -519,7 +520,8 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
         if any(metric.solve == "sample_size" for metric in plan.metrics):
             notes.append(f"Fixed runtime of {settings.runtime_days:g} days: rows that solve for "
                          "sample size show the effect they can detect instead.")
-        total = None if units is None else units * (1.0 + settings.arms * settings.ratio)
+        total = None if units is None else units * (1.0 + settings.arms
+                                                    * treatment_ratio(settings))
         return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
 
     if not deciding:

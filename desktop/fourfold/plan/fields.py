@@ -18,14 +18,17 @@ from collections.abc import Callable
 from typing import Any
 
 from fourfold.engine import ALTERNATIVES, KINDS, METHODS
-from fourfold.engine.design import CORRECTIONS
+from fourfold.engine.design import ALLOCATIONS, CORRECTIONS
 from fourfold.engine.sequential import SPENDING
 from fourfold.errors import FourfoldError
 from fourfold.plan.model import Metric, Settings
 
 ROLES = ("primary", "secondary", "guardrail")
 SOLVES = ("sample_size", "detectable_effect", "power", "significance_level")
-CORRECTION_LABELS = {"none": "none", "bonferroni": "Bonferroni", "sidak": "Šidák"}
+BETTER = ("higher", "lower")
+CORRECTION_LABELS = {"none": "none", "bonferroni": "Bonferroni", "sidak": "Šidák",
+                     "dunnett": "Dunnett"}
+ALLOCATION_LABELS = {"fixed": "as set", "sqrt-k": "√k rule"}
 
 CHOICES: dict[str, Any] = {
     "role": ROLES,
@@ -35,6 +38,8 @@ CHOICES: dict[str, Any] = {
     "solve": SOLVES,
     "correction": CORRECTIONS,
     "spending": SPENDING,
+    "better": BETTER,
+    "allocation": ALLOCATIONS,
 }
 """Allowed values of every choice field; ``CHOICES["method"]`` maps each kind to its methods
 (the first is the kind's default, used when a row's method is ``None``)."""
@@ -46,6 +51,7 @@ SETTINGS_FIELDS = tuple(f.name for f in dataclasses.fields(Settings))
 MAX_ARMS = 20
 MAX_LOOKS = 20
 MAX_TEXT = 200
+MAX_UNIT = 20
 
 
 class PlanError(FourfoldError, ValueError):
@@ -139,16 +145,23 @@ def _text(*, required: bool) -> Callable[[str, Any], str]:
     return check
 
 
-def _short_text(*, required: bool) -> Callable[[str, Any], str]:
+def _short_text(*, required: bool, limit: int = MAX_TEXT) -> Callable[[str, Any], str]:
     text = _text(required=required)
 
     def check(field: str, value: Any) -> str:
         value = text(field, value)
-        if len(value) > MAX_TEXT:
-            raise PlanError(f"{field} must be at most {MAX_TEXT} characters long", field)
+        if len(value) > limit:
+            raise PlanError(f"{field} must be at most {limit} characters long", field)
         return value
 
     return check
+
+
+def _unit(field: str, value: Any) -> str:
+    value = _short_text(required=False, limit=MAX_UNIT)(field, value).strip()
+    if any(not character.isprintable() for character in value):
+        raise PlanError(f"{field} must be printable text on one line", field)
+    return value
 
 
 def _method(field: str, value: Any, kind: str | None = None) -> str | None:
@@ -180,6 +193,16 @@ _METRIC_RULES: dict[str, Callable[[str, Any], Any]] = {
     "method": _method,
     "baseline": _ranged(None, None),
     "sd": _ranged(0.0, None, optional=True),
+    "unit": _unit,
+    "better": _choice(BETTER),
+    "denominator": _ranged(0.0, None, optional=True),
+    "numerator_sd": _ranged(0.0, None, low_open=False, optional=True),
+    "denominator_sd": _ranged(0.0, None, low_open=False, optional=True),
+    "correlation": _ranged(-1.0, 1.0, low_open=False, high_open=False, optional=True),
+    "quantile_level": _ranged(**_PROBABILITY, optional=True),
+    "density": _ranged(0.0, None, optional=True),
+    "second_level": _ranged(**_PROBABILITY, optional=True),
+    "second_value": _ranged(0.0, None, optional=True),
     "effect": _ranged(None, None, optional=True),
     "relative": _flag,
     "alternative": _choice(ALTERNATIVES),
@@ -203,6 +226,7 @@ _SETTINGS_RULES: dict[str, Callable[[str, Any], Any]] = {
     "power": _ranged(**_PROBABILITY),
     "arms": _integer(1, MAX_ARMS),
     "ratio": _ranged(0.01, 100.0, low_open=False, high_open=False),
+    "allocation": _choice(ALLOCATIONS),
     "correction": _choice(CORRECTIONS),
     "daily_units": _ranged(0.0, None, optional=True),
     "share": _ranged(0.0, 1.0, high_open=False),

@@ -42,9 +42,14 @@ class Settings:
     arms : int
         Number of treatment arms, each compared with the one control arm.
     ratio : float
-        Allocation per treatment arm: treatment units per control unit.
+        Allocation per treatment arm: treatment units per control unit (used when
+        ``allocation`` is ``"fixed"``).
+    allocation : str
+        ``"fixed"`` (``ratio`` as given) or ``"sqrt-k"``: the control gets √arms times the
+        units of each treatment arm (:func:`fourfold.engine.allocation_ratio`).
     correction : str
-        Multiple-comparison correction of α: ``"none"``, ``"bonferroni"`` or ``"sidak"``.
+        Multiple-comparison correction of α: ``"none"``, ``"bonferroni"``, ``"sidak"`` or
+        ``"dunnett"`` (many-to-one, for the treatment arms against the shared control).
     daily_units : float or None
         Eligible units (visitors, users) per day; ``None`` means durations are not computed.
     share : float
@@ -70,6 +75,7 @@ class Settings:
     power: float = 0.8
     arms: int = 1
     ratio: float = 1.0
+    allocation: str = "fixed"
     correction: str = "none"
     daily_units: float | None = None
     share: float = 1.0
@@ -91,13 +97,30 @@ class Metric:
     role : str
         ``"primary"``, ``"secondary"`` or ``"guardrail"``.
     kind : str
-        ``"mean"``, ``"proportion"`` or ``"rate"`` (see :mod:`fourfold.engine`).
+        ``"mean"``, ``"proportion"``, ``"rate"``, ``"ratio"`` or ``"quantile"`` (see
+        :mod:`fourfold.engine`).
     method : str or None
         Test statistic of the kind (``None``: the kind's default).
     baseline : float
-        Control-arm mean, proportion or mean count per unit.
+        Control-arm mean, proportion, mean count per unit, ratio of means or quantile.
     sd : float or None
-        Per-unit standard deviation (required for means; optional for rates).
+        Per-unit standard deviation (required for means; optional for rates; ratio and
+        quantile rows derive theirs, see :mod:`fourfold.plan.kinds`).
+    unit : str
+        The metric's unit as written after a value ("ms", "$", "items"); empty for none.
+    better : str
+        ``"higher"`` or ``"lower"``: which direction is good for the metric; it sets the
+        one-sided alternative of a guardrail row ("must not get worse").
+    denominator, numerator_sd, denominator_sd, correlation : float or None
+        Ratio rows: the denominator's mean per unit, the per-unit sds of numerator and
+        denominator and their correlation (the baseline is the ratio of the means).
+    quantile_level : float or None
+        Quantile rows: the level p of the quantile in the baseline (0.95 for the p95).
+    density : float or None
+        Quantile rows: the density at the quantile (from history); when empty, the density
+        of the log-normal through the baseline and ``second_level``/``second_value``.
+    second_level, second_value : float or None
+        Quantile rows: a second percentile of the metric (e.g. 0.5 and the median).
     effect : float or None
         Minimum detectable effect, treatment minus control (a fraction of the baseline when
         ``relative``); used by rows that solve for sample size, power or α.
@@ -139,6 +162,16 @@ class Metric:
     method: str | None = None
     baseline: float = 0.1
     sd: float | None = None
+    unit: str = ""
+    better: str = "higher"
+    denominator: float | None = None
+    numerator_sd: float | None = None
+    denominator_sd: float | None = None
+    correlation: float | None = None
+    quantile_level: float | None = None
+    density: float | None = None
+    second_level: float | None = None
+    second_value: float | None = None
     effect: float | None = 0.05
     relative: bool = True
     alternative: str = "two-sided"

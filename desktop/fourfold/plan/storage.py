@@ -2,7 +2,7 @@
 
 A plan file is one JSON object::
 
-    {"format": "fourfold-plan", "schema_version": 1,
+    {"format": "fourfold-plan", "schema_version": 2,
      "settings": {...every Settings field...},
      "metrics": [{...every Metric field...}, ...]}
 
@@ -17,6 +17,12 @@ A plan without scenarios is written as version 1, exactly as before scenarios ex
 older Fourfolds read it; its rows get fresh ids when it is read. Scenario values are checked
 as base values are (:func:`fourfold.plan.scenarios.from_dict`); a scenario change naming a row
 or field that does not exist is kept and reported, not dropped.
+
+A plan that uses what version 3 added — a row's unit or "better" direction, the ratio and
+quantile kinds and their inputs, the √k allocation or Dunnett's correction — is written as
+``"schema_version": 3``, with row ids and the scenario members as in version 2; a plan that
+uses none of it is written as before (version 1 or 2), so older Fourfolds still read it, and
+files of every earlier version open unchanged, the new fields at their defaults.
 
 On reading, every value goes through :func:`fourfold.plan.fields.validate_field`; a missing
 field takes its default (except a metric's ``name``, ``kind`` and ``baseline``), an unknown
@@ -52,8 +58,15 @@ PLAIN_VERSION = 1
 SCENARIOS_VERSION = 2
 """The version that added row ids, scenarios and the active scenario; written only for a plan
 with scenarios."""
-SCHEMA_VERSION = SCENARIOS_VERSION
+KINDS_VERSION = 3
+"""The version that added units, directions, the ratio and quantile kinds, the √k allocation
+and Dunnett's correction; written only for a plan that uses one of them."""
+SCHEMA_VERSION = KINDS_VERSION
 """The newest version this Fourfold reads."""
+KINDS_METRIC_FIELDS = ("unit", "better", "denominator", "numerator_sd", "denominator_sd",
+                       "correlation", "quantile_level", "density", "second_level",
+                       "second_value")
+KINDS_SETTINGS_FIELDS = ("allocation",)
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
 
 
@@ -68,18 +81,53 @@ def sample_path() -> pathlib.Path:
     return pathlib.Path(__file__).resolve().parents[3] / "samples" / "quillmoss-checkout.json"
 
 
+def _uses_kinds(plan: Plan) -> bool:
+    """Whether the plan (or a scenario of it) uses anything version 3 added."""
+    defaults, plain = Metric(), Settings()
+    if plan.settings.correction == "dunnett" or any(
+            getattr(plan.settings, name) != getattr(plain, name)
+            for name in KINDS_SETTINGS_FIELDS):
+        return True
+    for metric in plan.metrics:
+        if metric.kind in ("ratio", "quantile") or any(
+                getattr(metric, name) != getattr(defaults, name) for name in KINDS_METRIC_FIELDS):
+            return True
+    for scenario in plan.scenarios:
+        changed = dict(scenario.settings)
+        for fields in scenario.rows.values():
+            changed.update(fields)
+        if changed.get("correction") == "dunnett" or changed.get("kind") in ("ratio",
+                                                                             "quantile"):
+            return True
+        if any(name in changed for name in (*KINDS_METRIC_FIELDS, *KINDS_SETTINGS_FIELDS)):
+            return True
+    return False
+
+
 def to_dict(plan: Plan) -> dict[str, Any]:
     """The JSON object of a plan (every field written, in declaration order).
 
-    Version 2 (row ids, scenarios and the active one) only when the plan has scenarios.
+    Version 2 (row ids, scenarios and the active one) only when the plan has scenarios;
+    version 3 (and its fields) only when it uses what version 3 added.
     """
-    versioned = bool(plan.scenarios)
+    version = PLAIN_VERSION
+    if plan.scenarios:
+        version = SCENARIOS_VERSION
+    if _uses_kinds(plan):
+        version = KINDS_VERSION
+    versioned = version >= SCENARIOS_VERSION
+    metric_fields = [name for name in METRIC_FIELDS
+                     if version >= KINDS_VERSION or name not in KINDS_METRIC_FIELDS]
+    settings = dataclasses.asdict(plan.settings)
+    if version < KINDS_VERSION:
+        settings = {key: value for key, value in settings.items()
+                    if key not in KINDS_SETTINGS_FIELDS}
     data = {
         "format": FORMAT,
-        "schema_version": SCENARIOS_VERSION if versioned else PLAIN_VERSION,
-        "settings": dataclasses.asdict(plan.settings),
+        "schema_version": version,
+        "settings": settings,
         "metrics": [{**({"id": metric.id} if versioned else {}),
-                     **{name: copy.deepcopy(getattr(metric, name)) for name in METRIC_FIELDS}}
+                     **{name: copy.deepcopy(getattr(metric, name)) for name in metric_fields}}
                     for metric in plan.metrics],
     }
     if versioned:

@@ -57,7 +57,8 @@ import numpy as np
 from scipy.special import ndtri
 
 from fourfold import engine
-from fourfold.plan import sequential
+from fourfold.plan import kinds, sequential
+from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.evaluation import PlanResult, RowResult, compute, runtime_units
 from fourfold.plan.model import Metric, Plan, Settings
 
@@ -211,9 +212,13 @@ def _effect_units(metric: Metric) -> tuple[float, str, str]:
         return 100.0, "%", "% of baseline"
     if metric.kind == "proportion":
         return 100.0, "pp", "percentage points"
+    unit = f", {metric.unit}" if metric.unit else ""
     if metric.kind == "rate":
-        return 1.0, "", "difference in count per unit"
-    return 1.0, "", "difference in means"
+        return 1.0, metric.unit, f"difference in count per unit{unit}"
+    if metric.kind == "quantile":
+        return 1.0, metric.unit, f"difference in the {kinds.quantile_name(metric)}{unit}"
+    what = "ratios" if metric.kind == "ratio" else "means"
+    return 1.0, metric.unit, f"difference in {what}{unit}"
 
 
 def _row_effect(metric: Metric, row: RowResult) -> float:
@@ -262,7 +267,8 @@ class _Row:
     def __init__(self, plan: Plan, metric: Metric, row: RowResult) -> None:
         self.plan, self.metric, self.row = plan, metric, row
         settings = plan.settings
-        self.common = dict(sd=metric.sd, alternative=metric.alternative, ratio=settings.ratio,
+        sd = kinds.unit_sd(metric) if metric.kind in kinds.DERIVED_SD else metric.sd
+        self.common = dict(sd=sd, alternative=metric.alternative, ratio=treatment_ratio(settings),
                            relative=metric.relative, margin=metric.margin, method=metric.method)
 
     def inflation(self, alpha, power, design: float | None = None):
@@ -363,7 +369,8 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
     result = compute(plan) if result is None else result
     metric, row = plan.metrics[index], result.rows[index]
     scale, unit, effect_text = _effect_units(metric)
-    y_units = "units per arm" if plan.settings.ratio == 1.0 else "control-arm units"
+    y_units = ("units per arm" if treatment_ratio(plan.settings) == 1.0
+               else "control-arm units")
     sided = "two-sided" if metric.alternative == "two-sided" else "one-sided"
     per = ", per comparison" if plan.settings.correction != "none" else ""
     labels = {

@@ -39,7 +39,7 @@ def units(n, ratio, kind):
         raise ValueError(f"n must be positive (control-arm units), got {n!r}")
     n_c = math.ceil(n - 1e-9)
     n_t = math.ceil(n * ratio - 1e-9)
-    least = 2 if kind == "mean" else 1
+    least = 2 if kind in ("mean", "ratio", "quantile") else 1
     if min(n_c, n_t) < least:
         raise ValueError(
             f"n and ratio give {n_c} control and {n_t} treatment units; "

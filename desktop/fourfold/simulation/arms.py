@@ -9,6 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from fourfold.simulation.arguments import finite
+from fourfold.simulation.kind_arms import quantile_arms, ratio_arms
 from fourfold.simulation.models import BinomialArm, CountArm, NormalArm
 from fourfold.simulation.resample import DIRECT_MAX, EmpiricalArm, bin_history
 
@@ -16,9 +17,10 @@ from fourfold.simulation.resample import DIRECT_MAX, EmpiricalArm, bin_history
 def history_values(history, kind):
     if kind == "proportion":
         raise ValueError(
-            "history applies to mean and rate metrics; a proportion is fully described by its "
-            "baseline"
+            "history applies to mean, rate and quantile metrics; a proportion is fully "
+            "described by its baseline"
         )
+
     values = np.asarray(history, dtype=float).ravel()
     if values.size < 2:
         raise ValueError("history must hold at least 2 values")
@@ -29,8 +31,25 @@ def history_values(history, kind):
     return values
 
 
-def arms(kind, baseline, sd, history, history_effect, n_largest):
-    """Control arm and a function giving the treatment arm for a true difference."""
+def arms(kind, baseline, sd, history, history_effect, n_largest, kind_inputs=None):
+    """Control arm and a function giving the treatment arm for a true difference.
+
+    Ratio and quantile rows take their own inputs from ``kind_inputs`` (see
+    :mod:`fourfold.simulation.kind_arms`).
+    """
+    if kind == "ratio":
+        if history is not None:
+            raise ValueError(
+                "history applies to mean, rate and quantile metrics; a ratio row is simulated "
+                "from its numerator's and denominator's means, sds and correlation"
+            )
+        return ratio_arms(baseline, kind_inputs)
+    if kind == "quantile":
+        if history_effect != "shift":
+            raise ValueError("a quantile row's treatment shifts the values: history_effect "
+                             "must be 'shift'")
+        values = None if history is None else history_values(history, kind)
+        return quantile_arms(baseline, kind_inputs, values)
     if history is not None:
         values = history_values(history, kind)
         bins = bin_history(values)

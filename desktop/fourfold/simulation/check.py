@@ -20,7 +20,9 @@ from dataclasses import dataclass
 
 from fourfold.engine.catalog import METHODS
 from fourfold.errors import FourfoldError
+from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.evaluation import compute
+from fourfold.plan.kinds import RATIO_FIELDS
 from fourfold.plan.sequential import design_of_row
 from fourfold.simulation.intervals import wilson_interval
 from fourfold.simulation.power import simulate_power
@@ -30,7 +32,7 @@ WIDE_LEVEL = 0.999
 """Coverage of the interval beyond which a disagreement is called firm rather than borderline."""
 
 INPUT_FIELDS = ("kind", "method", "baseline", "sd", "effect", "alpha", "alternative", "margin",
-                "n_control", "ratio", "looks")
+                "n_control", "ratio", "looks", "kind_inputs")
 
 
 @dataclass(frozen=True)
@@ -110,6 +112,15 @@ def message(check):
         text = (f"{head} is below the closed form's {closed}: the normal approximation "
                 "overstates the power of this test at this size (few conversions per arm, or "
                 "a proportion near 0 or 1). Raise n.")
+    elif how in ("below", "above") and check.get("test", "").startswith("sample-quantile"):
+        text = (f"{head} is {how} the closed form's {closed}: the closed form of a quantile "
+                "needs many units beyond it, and this one is too far in the tail for this "
+                "many units (or its density is hard to estimate). Do not rely on the closed "
+                "form here: raise n, or test a less extreme quantile.")
+    elif how == "below" and check.get("model") == "bivariate normal":
+        text = (f"{head} is below the closed form's {closed}: the delta method overstates "
+                "the power here, where the denominator's mean is small against its noise. "
+                "Raise n.")
     elif how == "below":
         text = (f"{head} is below the closed form's {closed}: the normal approximation "
                 "overstates the power of this metric at this size (heavy tails or skew). "
@@ -160,8 +171,25 @@ def stored_method(inputs):
     return METHODS[kind][0] if kind in METHODS else None
 
 
+def kind_inputs(metric):
+    """The ratio's or quantile's own inputs for the simulation (``None`` for other kinds).
+
+    Examples
+    --------
+    >>> from fourfold.plan import Metric
+    >>> kind_inputs(Metric(kind="quantile", quantile_level=0.95, density=0.2))
+    {'level': 0.95, 'density': 0.2, 'second_level': None, 'second_value': None}
+    """
+    if metric.kind == "ratio":
+        return {name: getattr(metric, name) for name in RATIO_FIELDS}
+    if metric.kind == "quantile":
+        return {"level": metric.quantile_level, "density": metric.density,
+                "second_level": metric.second_level, "second_value": metric.second_value}
+    return None
+
+
 def _inputs(metric, settings, row, n_control, looks):
-    return {
+    inputs = {
         "kind": metric.kind,
         "method": _row_method(metric),
         "baseline": metric.baseline,
@@ -171,9 +199,13 @@ def _inputs(metric, settings, row, n_control, looks):
         "alternative": metric.alternative,
         "margin": metric.margin,
         "n_control": n_control,
-        "ratio": settings.ratio,
+        "ratio": treatment_ratio(settings),
         "looks": looks,
     }
+    extra = kind_inputs(metric)
+    if extra is not None:
+        inputs["kind_inputs"] = extra
+    return inputs
 
 
 def _row_setup(plan, index, result):
@@ -241,10 +273,11 @@ def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect
     try:
         outcome = simulate_power(
             metric.kind, metric.baseline, row.effect_abs, n_control, sd=metric.sd,
-            alpha=row.alpha, alternative=metric.alternative, ratio=plan.settings.ratio,
-            margin=margin, method=metric.method, reps=reps, seed=seed, history=history,
-            history_effect=history_effect, looks=looks, progress=progress,
-            cancelled=cancelled, workers=workers,
+            alpha=row.alpha, alternative=metric.alternative,
+            ratio=treatment_ratio(plan.settings), margin=margin, method=metric.method,
+            reps=reps, seed=seed, history=history, history_effect=history_effect, looks=looks,
+            progress=progress, cancelled=cancelled, workers=workers,
+            kind_inputs=kind_inputs(metric),
         )
     except ValueError as error:
         raise FourfoldError(f"{metric.name}: cannot be simulated — {error}") from None

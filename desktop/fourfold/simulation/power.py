@@ -11,6 +11,7 @@ from fourfold.simulation.arguments import finite, look_sizes, looks_design, unit
 from fourfold.simulation.arms import arms
 from fourfold.simulation.decide import fixed_rejections, sequential_rejections
 from fourfold.simulation.intervals import wilson_interval
+from fourfold.simulation.kind_arms import estimate_z
 from fourfold.simulation.streams import (
     block_sizes,
     default_workers,
@@ -19,7 +20,7 @@ from fourfold.simulation.streams import (
 )
 from fourfold.simulation.teststats import proportion_z, rate_z, welch_z
 
-KINDS = ("mean", "proportion", "rate")
+KINDS = ("mean", "proportion", "rate", "ratio", "quantile")
 ALTERNATIVES = ("two-sided", "greater", "less")
 HISTORY_EFFECTS = ("shift", "lift")
 MAX_REPS = 1_000_000
@@ -55,6 +56,10 @@ def describe_test(kind, method, margin, history=False):
     >>> describe_test("mean", "z", 0.0)
     'Welch t'
     """
+    if kind == "ratio":
+        return "delta-method z (ratio of means)"
+    if kind == "quantile":
+        return "sample-quantile z (Hall–Sheather sparsity)"
     if history or kind == "mean":
         return "Welch t"
     if kind == "rate":
@@ -86,7 +91,8 @@ class SimulationResult:
         Significance level of the test (overall level for interim looks).
     model : str
         How units were drawn: "normal", "binomial", "poisson", "negative binomial",
-        "normal counts", "bootstrap" or "bootstrap (binned)".
+        "normal counts", "bootstrap", "bootstrap (binned)", "bivariate normal" (ratios),
+        "log-normal (order statistics)" or "bootstrap (order statistics)" (quantiles).
     test : str
         The test run on each replicate.
     looks : int
@@ -139,6 +145,7 @@ def simulate_power(
     workers=None,
     progress=None,
     cancelled=None,
+    kind_inputs=None,
 ):
     """Simulate the experiment ``reps`` times and run its final test on each replicate.
 
@@ -158,6 +165,15 @@ def simulate_power(
       ``phi = sd**2 / baseline`` is kept in both arms (negative binomial counts above 1).
       The z-test for two rates with the pooled rate (unpooled with a margin), variance
       ``phi`` times the rate.
+    - ``"ratio"``: each unit's numerator and denominator bivariate normal with the means,
+      sds and correlation in ``kind_inputs``; the treatment adds the difference per unit of
+      the denominator. The delta-method z test on each replicate's own moments.
+    - ``"quantile"``: the sample quantile at ``kind_inputs["level"]`` of units from the
+      log-normal through the baseline and its ``density`` (or a second percentile,
+      ``second_level`` and ``second_value``), or from ``history``'s empirical distribution;
+      the treatment shifts every value. A z test with the sparsity estimated from the
+      replicate's order statistics (see :mod:`fourfold.simulation.kind_arms`). Fixed designs
+      only.
     - ``history`` given (mean and rate): units are bootstrapped from the historical values
       instead (see :mod:`fourfold.simulation.resample` for the binning above 5,000 units per
       arm); the treatment's values are shifted by the difference (``history_effect="shift"``)
@@ -165,10 +181,10 @@ def simulate_power(
 
     Parameters
     ----------
-    kind : {"mean", "proportion", "rate"}
+    kind : {"mean", "proportion", "rate", "ratio", "quantile"}
     baseline : float
-        Control mean, proportion or mean count per unit. With ``history`` it only converts a
-        relative effect or margin into an absolute one.
+        Control mean, proportion, mean count per unit, ratio of means or quantile. With
+        ``history`` it only converts a relative effect or margin into an absolute one.
     effect : float
         True difference treatment - control (a fraction of ``baseline`` if ``relative``).
     n : float
@@ -210,6 +226,9 @@ def simulate_power(
         ``progress(done, total)`` in replicates, both scenarios counted.
     cancelled : callable, optional
         ``cancelled() -> bool``, polled between chunks.
+    kind_inputs : dict, optional
+        Ratio rows: ``denominator``, ``numerator_sd``, ``denominator_sd``, ``correlation``;
+        quantile rows: ``level`` and ``density`` or ``second_level`` and ``second_value``.
 
     Returns
     -------
@@ -247,7 +266,7 @@ def simulate_power(
     design = looks_design(looks)
     fractions = np.ones(1) if design is None else design[0]
     control, treatment_for, model = arms(
-        kind, baseline, sd, history, history_effect, max(n_c, n_t)
+        kind, baseline, sd, history, history_effect, max(n_c, n_t), kind_inputs
     )
     test = describe_test(kind, checked.method, checked.margin, history is not None)
     scenarios = (treatment_for(checked.effect), treatment_for(checked.margin))
@@ -335,7 +354,10 @@ def _check(kind, baseline, effect, *, alpha, alternative, ratio, relative, margi
 def _statistic(kind, method, margin, history, phi):
     """The replicate's test statistic: ``z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t)``
     at every look, from the arms' running means and sums of squared deviations."""
-    if history or kind == "mean":
+    if kind in ("ratio", "quantile"):  # the arms give estimates and per-unit variances
+        def z(sizes_c, est_c, var_c, sizes_t, est_t, var_t):
+            return estimate_z(sizes_c, est_c, var_c, sizes_t, est_t, var_t, margin)
+    elif history or kind == "mean":
         def z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t):
             return welch_z(sizes_c, mean_c, m2_c, sizes_t, mean_t, m2_t, margin)
     elif kind == "proportion":

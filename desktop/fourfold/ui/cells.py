@@ -30,6 +30,9 @@ LABELS = {
 }
 
 EFFECT_KEYS = ("effect", "margin", "detectable")
+LEVEL_KEYS = ("quantile_level", "second_level")
+OWN_UNIT_KEYS = ("baseline", "sd", "effect", "margin", "detectable", "second_value")
+"""Cells in the metric's own unit: its unit text follows their number on screen."""
 
 def label(value: str) -> str:
     """A choice as the table shows it (``"sample_size"`` → ``"sample size"``)."""
@@ -50,6 +53,8 @@ def unit(metric: Metric, key: str) -> str | None:
     """
     if key == "baseline":
         return "%" if metric.kind == "proportion" else None
+    if key in LEVEL_KEYS:
+        return "%"
     if key in EFFECT_KEYS:
         if metric.relative:
             return "%"
@@ -57,8 +62,11 @@ def unit(metric: Metric, key: str) -> str | None:
     return None
 
 
-def show_value(metric: Metric, key: str, value: float | None) -> str:
+def show_value(metric: Metric, key: str, value: float | None, with_unit: bool = False) -> str:
     """Text of a number in a cell of ``metric``'s row (inputs and the detectable effect).
+
+    With ``with_unit`` a number in the metric's own unit is followed by the row's unit text
+    (what the table shows; an editor and the clipboard get the bare number).
 
     Examples
     --------
@@ -66,19 +74,22 @@ def show_value(metric: Metric, key: str, value: float | None) -> str:
     '+5.0 %'
     >>> show_value(Metric(kind="mean"), "baseline", 1234.6)
     '1,235'
+    >>> show_value(Metric(kind="mean", unit="ms", relative=False), "margin", 20.0, True)
+    '+20 ms'
     """
     if value is None or (isinstance(value, float) and math.isnan(value)):
         return "" if key not in ("detectable",) else DASH
     suffix = unit(metric, key)
     signed = key in EFFECT_KEYS
+    own = f" {metric.unit}" if with_unit and metric.unit and key in OWN_UNIT_KEYS else ""
     if value == 0 and key in EFFECT_KEYS:
-        return "0"
+        return "0" + (own if suffix is None else "")
     if suffix is not None:
         return format_percent(value, signed=signed and value != 0, suffix=suffix)
     if key in ("n",):
         return format_count(value)
     return format_number(value, sig=4 if key in ("baseline", "sd") else 3,
-                         signed=signed and value != 0)
+                         signed=signed and value != 0) + own
 
 
 def read_value(metric: Metric, key: str, text: str, header: str) -> float:
@@ -109,7 +120,7 @@ def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
         return format_number(row.days, sig=3)
     if key == "detectable":
         value = row.effect_rel if metric.relative else row.effect_abs
-        return show_value(metric, "detectable", value)
+        return show_value(metric, "detectable", value, with_unit=True)
     if key == "power_out":
         return format_number(row.power, sig=3)
     if key == "alpha_out":

@@ -42,6 +42,8 @@ class Column:
         Preferred width in average character widths.
     sequential : bool
         Shown only while the plan has interim looks.
+    kind : str or None
+        Shown only while the plan has a row of this kind (its own inputs).
     """
 
     key: str
@@ -52,6 +54,7 @@ class Column:
     optional: bool = False
     width: int = 9
     sequential: bool = False
+    kind: str | None = None
 
     @property
     def label(self) -> str:
@@ -70,13 +73,15 @@ COLUMNS: tuple[Column, ...] = (
     Column("role", "Role", "Primary: the metric the decision rests on. Secondary: also "
            "reported. Guardrail: must not get worse.", editor=CHOICE, width=8),
     Column("kind", "Kind", "Mean (a per-unit average), proportion (a share of units that do "
-           "something) or rate (a count per unit, such as contacts per visitor).", editor=CHOICE,
-           width=9),
+           "something), rate (a count per unit, such as contacts per visitor), ratio (of two "
+           "per-unit means, such as items per order) or quantile (such as the p95 of a load "
+           "time).", editor=CHOICE, width=9),
     Column("baseline", "Baseline", "The control arm's expected value: a mean, a proportion "
-           "(typed in percent, e.g. 3.1) or a mean count per unit.", width=7),
+           "(typed in percent, e.g. 3.1), a mean count per unit, a ratio of means or the "
+           "quantile itself.", width=7),
     Column("sd", "SD", "Standard deviation of one unit's value, from history. Required for "
-           "means; for rates, empty means the count's variance equals its mean.", optional=True,
-           width=6),
+           "means; for rates, empty means the count's variance equals its mean. Ratio and "
+           "quantile rows show the sd derived from their own inputs.", optional=True, width=6),
     Column("effect", "Effect", "The smallest change worth detecting (treatment minus control). "
            "In percent of the baseline when 'Relative' is ticked; in percentage points for an "
            "absolute change of a proportion.", optional=True, width=7),
@@ -87,6 +92,9 @@ COLUMNS: tuple[Column, ...] = (
     Column("margin", "Margin", "The difference assumed under the null hypothesis. Zero for an "
            "ordinary test; a negative margin with 'greater' tests that the treatment is not "
            "worse by more than it (non-inferiority).", width=7),
+    Column("better", "Better\nwhen", "Which way the metric improves. A guardrail tests that it "
+           "does not get worse: choosing this sets its direction and the side of its margin.",
+           editor=CHOICE, width=7),
     Column("solve", "Solve\nfor", "Which quantity this row computes from the others: sample "
            "size, detectable effect, power or α.", editor=CHOICE, width=12),
     Column("units_control", "Control\nunits", "Units the control arm needs (or has), rounded up "
@@ -115,6 +123,28 @@ COLUMNS: tuple[Column, ...] = (
            "average if the effect is real.", group=OUTPUT, width=6, sequential=True),
     Column("look_days", "Look\ndays", "With interim looks: the day of each analysis; the last "
            "one is the longest the test may run.", group=OUTPUT, width=12, sequential=True),
+    Column("unit", "Unit", "The metric's unit as written after a value (ms, $, items); shown "
+           "beside its numbers, on the plots' axes and in the report.", editor=TEXT, width=5),
+    Column("denominator", "Denom.\nmean", "Ratio rows: the denominator's mean per unit "
+           "(orders per visitor); the numerator's mean is the baseline times it.",
+           optional=True, width=7, kind="ratio"),
+    Column("numerator_sd", "Numer.\nSD", "Ratio rows: the sd of one unit's numerator (items "
+           "per visitor).", optional=True, width=6, kind="ratio"),
+    Column("denominator_sd", "Denom.\nSD", "Ratio rows: the sd of one unit's denominator "
+           "(orders per visitor).", optional=True, width=6, kind="ratio"),
+    Column("correlation", "Corr.", "Ratio rows: the correlation of a unit's numerator and "
+           "denominator. With the sds it gives the ratio's variance by the delta method.",
+           optional=True, width=5, kind="ratio"),
+    Column("quantile_level", "Quantile", "Quantile rows: which quantile the baseline is "
+           "(95 for the p95).", optional=True, width=6, kind="quantile"),
+    Column("density", "Density", "Quantile rows: the density at the quantile, per unit of the "
+           "metric (the history import estimates it). Empty: from the log-normal through the "
+           "baseline and the second percentile.", optional=True, width=6, kind="quantile"),
+    Column("second_level", "2nd\nquantile", "Quantile rows: a second percentile of the metric "
+           "(50 for the median) that fixes an assumed log-normal with the baseline.",
+           optional=True, width=6, kind="quantile"),
+    Column("second_value", "2nd\nvalue", "Quantile rows: the metric's value at the second "
+           "percentile (the median, say).", optional=True, width=6, kind="quantile"),
     Column("method", "Method", "The test statistic used for this kind. Empty: the usual one "
            "for the kind.", editor=CHOICE, width=7),
     Column("alpha", "α", "This row's significance level; empty uses the plan's default "
@@ -135,6 +165,8 @@ COLUMNS: tuple[Column, ...] = (
 )
 
 KEYS: tuple[str, ...] = tuple(column.key for column in COLUMNS)
+COLUMN_KINDS: dict[str, str] = {column.key: column.kind for column in COLUMNS if column.kind}
+"""The columns that only rows of one kind use, and that kind."""
 
 SOLVED_COLUMN: dict[str, tuple[str, ...]] = {
     "sample_size": ("units_control",),

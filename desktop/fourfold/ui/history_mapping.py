@@ -1,5 +1,6 @@
 """The history dialog's table of columns to read: one line per metric, with kind, ratio
-denominator, pre-period column and cap, read back as :class:`fourfold.history.ColumnMap`.
+denominator, pre-period column and cap (a quantile's percentile in the same cell), read back as
+:class:`fourfold.history.ColumnMap`.
 """
 
 from __future__ import annotations
@@ -10,7 +11,7 @@ from fourfold.history import HISTORY_KINDS, ColumnMap, HistoryError
 
 NONE = "—"
 CAP_CHOICES = ("no cap", "99", "99.5", "99.9", "99.99")
-MAP_COLUMNS = ("Column", "Kind", "Denominator", "Pre-period", "Cap at percentile")
+MAP_COLUMNS = ("Column", "Kind", "Denominator", "Pre-period", "Cap / quantile (percentile)")
 
 
 def combo(items, current: str | None = None, editable: bool = False) -> QComboBox:
@@ -35,8 +36,13 @@ class HistoryMapping:
                              editable=True)
         pre = combo([NONE, *self.columns], spec.pre if spec and spec.pre else NONE,
                      editable=True)
-        cap = combo(CAP_CHOICES, f"{spec.cap:g}" if spec and spec.cap else CAP_CHOICES[0],
-                     editable=True)
+        percentile = spec.cap if spec and spec.cap else None
+        if spec and spec.level is not None:
+            percentile = 100 * spec.level
+        cap = combo(CAP_CHOICES, CAP_CHOICES[0] if percentile is None else f"{percentile:g}",
+                    editable=True)
+        cap.setToolTip("A cap: winsorise the column at this percentile. For a quantile: "
+                       "which one (95 for the p95).")
         for index, widget in enumerate((column, kind, denominator, pre, cap)):
             self.map_table.setCellWidget(row, index, widget)
             if isinstance(widget, QComboBox):
@@ -53,9 +59,9 @@ class HistoryMapping:
 
     def _mapping_changed(self, *_args) -> None:
         for row in range(self.map_table.rowCount()):
-            ratio = self._cell_text(row, 1) == "ratio"
-            self.map_table.cellWidget(row, 2).setEnabled(ratio)
-            self.map_table.cellWidget(row, 3).setEnabled(not ratio)
+            kind = self._cell_text(row, 1)
+            self.map_table.cellWidget(row, 2).setEnabled(kind == "ratio")
+            self.map_table.cellWidget(row, 3).setEnabled(kind not in ("ratio", "quantile"))
             self.map_table.cellWidget(row, 4).setEnabled(self._cell_text(row, 1) != "proportion")
         self._update_buttons()
 
@@ -69,7 +75,7 @@ class HistoryMapping:
         for row in range(self.map_table.rowCount()):
             kind = self._cell_text(row, 1)
             denominator = self._cell_text(row, 2) if kind == "ratio" else NONE
-            pre = self._cell_text(row, 3) if kind != "ratio" else NONE
+            pre = self._cell_text(row, 3) if kind not in ("ratio", "quantile") else NONE
             cap_text = self._cell_text(row, 4) if kind != "proportion" else CAP_CHOICES[0]
             cap = None
             if cap_text and cap_text != CAP_CHOICES[0]:
@@ -82,9 +88,15 @@ class HistoryMapping:
                     ) from None
             if kind == "ratio" and denominator == NONE:
                 raise HistoryError(f"metric line {row + 1}: choose the ratio's denominator")
+            level = None
+            if kind == "quantile":
+                if cap is None:
+                    raise HistoryError(f"metric line {row + 1}: type the quantile's percentile "
+                                       "in the last cell (95 for the p95)")
+                level, cap = cap / 100.0, None
             specs.append(ColumnMap(
                 kind, self._cell_text(row, 0),
                 denominator=None if denominator == NONE else denominator,
-                pre=None if pre == NONE else pre, cap=cap,
+                pre=None if pre == NONE else pre, cap=cap, level=level,
             ))
         return specs

@@ -30,8 +30,9 @@ from PySide6.QtWidgets import (
 from fourfold.errors import FourfoldError
 from fourfold.formatting import format_count, format_number, format_percent, parse_number
 from fourfold.plan import CHOICES
+from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.commands import SetSetting
-from fourfold.plan.fields import CORRECTION_LABELS, MAX_ARMS, MAX_LOOKS
+from fourfold.plan.fields import ALLOCATION_LABELS, CORRECTION_LABELS, MAX_ARMS, MAX_LOOKS
 from fourfold.plan.scenarios import find
 from fourfold.ui.document import PlanDocument
 
@@ -204,14 +205,21 @@ class SettingsPanel(QWidget):
         self._number(grid, 0, 0, "alpha")
         self._number(grid, 0, 2, "power")
         self._choice(grid, 1, 0, "correction", "Correction",
-                     "Correction of α for several treatment arms and metrics.", CORRECTION_LABELS,
-                     span=3)
+                     "Correction of α for several treatment arms and metrics. Dunnett's, for "
+                     "arms that share one control, needs fewer units than Bonferroni or Šidák; "
+                     "the table's α column shows the level of each comparison.",
+                     CORRECTION_LABELS, span=3)
         layout.addWidget(frame, 2)
 
         frame, grid = _group("Arms")
         self._spin(grid, 0, "arms", "Treatment arms", MAX_ARMS,
                    "Treatment arms, each compared with the one control arm.")
         self._number(grid, 1, 0, "ratio")
+        self._choice(grid, 0, 2, "allocation", "Split",
+                     "As set: each treatment arm gets the allocation's units per control unit. "
+                     "√k rule: the control gets √k times the units of each of the k treatment "
+                     "arms, which needs the fewest units in all; the summary says what it saves "
+                     "against an equal split.", ALLOCATION_LABELS)
         layout.addWidget(frame, 1)
 
         frame, grid = _group("Traffic")
@@ -362,6 +370,9 @@ class SettingsPanel(QWidget):
                 widget.setCurrentIndex(max(widget.findData(value), 0))
             elif isinstance(widget, DescriptionEdit):
                 widget.show_text(value)
+            elif field == "ratio":
+                widget.setText(self.show_setting(field, treatment_ratio(settings)))
+                widget.setEnabled(settings.allocation == "fixed")
             elif field in NUMBER_FIELDS:
                 widget.setText(self.show_setting(field, value))
             else:

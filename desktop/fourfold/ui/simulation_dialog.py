@@ -161,7 +161,8 @@ class SimulationDialog(QDialog):
         history_layout.addRow("Effect:", self.effect_box)
         self.history_check.toggled.connect(self._update_buttons)
         can_bootstrap = self.rows is not None and len(self.rows) == 1 and any(
-            self.document.plan.metrics[row].kind in ("mean", "rate") for row in self.rows
+            self.document.plan.metrics[row].kind in ("mean", "rate", "quantile")
+            for row in self.rows
             if 0 <= row < len(self.document.plan.metrics))
         self.history_check.setVisible(can_bootstrap)
         self.history_widgets.setVisible(can_bootstrap)

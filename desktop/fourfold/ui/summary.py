@@ -14,6 +14,8 @@ from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import QComboBox, QFrame, QHBoxLayout, QLabel, QSizePolicy
 
 from fourfold.formatting import MINUS, format_count, format_number
+from fourfold.plan.arms import equal_allocation_saving
+from fourfold.plan.evaluation import RowCache
 from fourfold.plan.scenarios import BASE
 from fourfold.ui.document import PlanDocument
 
@@ -66,6 +68,7 @@ class SummaryBar(QFrame):
         super().__init__(parent)
         self.setObjectName("summaryBar")
         self.document = document
+        self._equal_cache = RowCache()
         layout = QHBoxLayout(self)
         layout.setContentsMargins(12, 6, 12, 6)
         layout.setSpacing(28)
@@ -96,6 +99,19 @@ class SummaryBar(QFrame):
         """The three items as plain text (for tests and the status of a shot)."""
         return tuple(label.text().replace("<b>", "").replace("</b>", "")
                      for label in (self.duration, self.units, self.binding))
+
+    def _saving_text(self, result) -> str:
+        """What a √k split saves against an equal one ("" for any other split)."""
+        plan = self.document.plan
+        if plan.settings.allocation != "sqrt-k":
+            return ""
+        saving = equal_allocation_saving(plan, result, self._equal_cache)
+        if saving is None:
+            return ""
+        text = f" (√k split: {format_count(saving.units_saved)} fewer units"
+        if math.isfinite(saving.days_saved):
+            text += f", {format_number(saving.days_saved, sig=3)} days sooner"
+        return text + " than an equal split)"
 
     def scenario_text(self) -> str:
         """The scenario on show as the drop-down names it ("" without scenarios)."""
@@ -145,7 +161,7 @@ class SummaryBar(QFrame):
                 text += f" at most, {format_number(expected, sig=2)} days expected"
         self.duration.setText(text)
         total = format_count(result.total_units) if result.total_units is not None else "—"
-        self.units.setText(f"Total units <b>{total}</b>")
+        self.units.setText(f"Total units <b>{total}</b>{self._saving_text(result)}")
         if result.binding_name:
             row = result.binding_index + 1
             self.binding.setText(f"Binding metric <b>▶ {result.binding_name}</b> (row {row})")
@@ -155,6 +171,6 @@ class SummaryBar(QFrame):
             self.binding.setText("No binding metric (no primary or guardrail row sized)")
         count = len(result.notes)
         self.notes.setText(f"{count} note{'s' if count != 1 else ''} (hover)" if count else "")
-        items = "".join(f"<li>{html.escape(note)}</li>" for note in result.notes)
+        items = "".join(f"<li>{html.escape(note, quote=False)}</li>" for note in result.notes)
         self.notes.setToolTip(f"<ul>{items}</ul>" if count else "")
         self.setToolTip("\n".join(result.notes))

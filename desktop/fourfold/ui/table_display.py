@@ -10,12 +10,19 @@ from __future__ import annotations
 
 from PySide6.QtCore import Qt
 
-from fourfold.plan import CHOICES
+from fourfold.plan import CHOICES, kinds
 from fourfold.plan.scenarios import find
 from fourfold.ui import cells, simulation_cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, TEXT
 
 ROLE = Qt.ItemDataRole
+
+DERIVED_SD_TIPS = {
+    "ratio": "Derived from the numerator's and denominator's means, sds and correlation by the "
+             "delta method (not typed)",
+    "quantile": "Derived from the quantile's level and the density there: √(p(1 − p)) / "
+                "density (not typed)",
+}
 
 
 class TableDisplay:
@@ -75,7 +82,14 @@ class TableDisplay:
             return self._default_text(key)
         if value is None and key == "sd" and metric.kind == "rate":
             return "= mean"
-        return cells.show_value(metric, key, value)
+        if key == "sd" and metric.kind in kinds.DERIVED_SD:
+            return cells.show_value(metric, key, kinds.unit_sd(metric), with_unit=True) \
+                or cells.DASH
+        if key == "density" and value is None and metric.kind == "quantile":
+            return cells.show_value(metric, key, float(kinds.quantile_densities([metric])[0][0]))
+        if col.kind is not None and metric.kind != col.kind:
+            return ""
+        return cells.show_value(metric, key, value, with_unit=True)
 
     def edit_text(self, row: int, column: int) -> str:
         """The text an editor starts with (empty for unset optional values)."""
@@ -111,6 +125,16 @@ class TableDisplay:
             return metric.notes
         if col.key == "method" and metric.method is None:
             return f"The usual method for a {metric.kind} (choose another to override it)"
+        if col.key == "sd" and metric.kind in kinds.DERIVED_SD:
+            return DERIVED_SD_TIPS[metric.kind]
+        if col.key == "density" and metric.kind == "quantile" and metric.density is None:
+            return ("From the log-normal through the baseline and the second percentile; type "
+                    "a density (the history import estimates one) to use it instead")
+        if col.kind is not None and metric.kind != col.kind:
+            return f"Used by {col.kind} rows only"
+        if col.key == "better" and metric.role == "guardrail":
+            margin = cells.show_value(metric, "margin", abs(metric.margin), True).lstrip("+")
+            return f"This guardrail {kinds.direction_words(metric, margin)}"
         if self.is_solved(row, column):
             return "The quantity this row solves for"
         if col.key == "name" and reason:
@@ -133,7 +157,7 @@ class TableDisplay:
             return self._tints.muted
         if col.key == "method" and metric.method is None:
             return self._tints.muted
-        if col.key == "sd" and metric.sd is None:
+        if col.key in ("sd", "density") and getattr(metric, col.key) is None:
             return self._tints.muted
         if self._is_unused(row, col.key):
             return self._tints.muted

@@ -16,6 +16,7 @@ from fourfold.formatting import format_number
 from fourfold.plan import CHOICES, Metric
 from fourfold.plan.commands import SetField
 from fourfold.plan.fields import validate_field
+from fourfold.plan.kinds import DERIVED_SD
 from fourfold.ui import cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, TEXT
 
@@ -100,6 +101,11 @@ class TableEditing:
             if col.optional:
                 return None
             raise FourfoldError(f"{col.label}: enter a number")
+        if col.key == "sd" and metric.kind in DERIVED_SD:
+            raise FourfoldError(f"SD of a {metric.kind} row is derived from its own inputs; "
+                                f"edit those instead")
+        if metric.unit and text.endswith(metric.unit) and col.key in cells.OWN_UNIT_KEYS:
+            text = text[: -len(metric.unit)].strip()  # "20 ms" as the cell shows it
         return cells.read_value(metric, col.key, text, col.label)
 
     def _parse_method(self, metric, text: str) -> str | None:
@@ -125,19 +131,24 @@ class TableEditing:
             return "" if value is None else value
         return self.edit_text(row, column)
 
-    def paste_edits(self, top: int, left: int, grid: list[list[str]]) -> PasteEdits:
+    def paste_edits(self, top: int, left: int, grid: list[list[str]],
+                    columns: list[int] | None = None) -> PasteEdits:
         """Read a block of pasted text at ``(top, left)`` into field edits.
 
         Lines below the last row become new rows (as Plan → Add metric makes them), to be
         appended in the same step. Each line's kind and "Relative" cells are read first, so
-        that its other cells are read in the units that row will have.
+        that its other cells are read in the units that row will have. ``columns`` are the
+        positions the cells of a line fall on, left to right (the shown columns from ``left``
+        on; by default every column from ``left`` on).
         """
         edits, errors, computed, dropped = [], [], 0, 0
         order = {key: rank for rank, key in enumerate(("kind", "relative"))}
+        if columns is None:
+            columns = list(range(left, len(COLUMNS)))
         for r, line in enumerate(grid):
             row = top + r
             metric = dataclasses.replace(self._rows[row]) if row < len(self._rows) else Metric()
-            inside = [(left + c, text) for c, text in enumerate(line) if left + c < len(COLUMNS)]
+            inside = [(columns[c], text) for c, text in enumerate(line) if c < len(columns)]
             dropped += len(line) - len(inside)
             inside.sort(key=lambda cell: order.get(COLUMNS[cell[0]].key, len(order)))
             for column, text in inside:

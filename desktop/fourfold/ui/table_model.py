@@ -16,8 +16,9 @@ from __future__ import annotations
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPointF, Qt
 from PySide6.QtGui import QColor, QFont, QIcon, QPainter, QPixmap, QPolygonF
 
+from fourfold.plan import kinds
 from fourfold.ui import theme
-from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, SOLVED_COLUMN
+from fourfold.ui.columns import CHECK, CHOICE, COLUMN_KINDS, COLUMNS, NUMBER, SOLVED_COLUMN
 from fourfold.ui.document import PlanDocument
 from fourfold.ui.table_display import TableDisplay
 from fourfold.ui.table_editing import TableEditing
@@ -248,7 +249,10 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         if key == "n":
             return (metric.solve == "sample_size"
                     or self.document.plan.settings.runtime_days is not None)
-        return key == "sd" and metric.kind == "proportion"
+        if key == "sd":
+            return metric.kind in ("proportion", *kinds.DERIVED_SD)
+        column = COLUMN_KINDS.get(key)
+        return column is not None and column != metric.kind
 
     def data(self, index, role=ROLE.DisplayRole):
         role = int(role)

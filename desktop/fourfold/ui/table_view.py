@@ -119,11 +119,16 @@ class PlanTableView(QTableView):
                                model.index(model.rowCount() - 1, model.columnCount() - 1), ())
 
     def follow_looks(self) -> None:
-        """Show the interim-look columns only while the plan has more than one look."""
-        hidden = self.plan_model().document.plan.settings.looks <= 1
+        """Show the interim-look columns only while the plan has more than one look, and a
+        kind's own columns only while the plan has a row of that kind."""
+        plan = self.plan_model().document.plan
+        hidden = plan.settings.looks <= 1
+        present = {metric.kind for metric in plan.metrics}
         for position, column in enumerate(COLUMNS):
             if column.sequential:
                 self.setColumnHidden(position, hidden)
+            elif column.kind is not None:
+                self.setColumnHidden(position, column.kind not in present)
 
     # -- sorting ------------------------------------------------------------------------
 
@@ -294,10 +299,16 @@ class PlanTableView(QTableView):
             return ""
         top, left, bottom, right = rect
         model = self.plan_model()
+        shown = [column for column in range(left, right + 1) if not self.isColumnHidden(column)]
         return "\n".join(
-            "\t".join(model.copy_text(row, column) for column in range(left, right + 1))
+            "\t".join(model.copy_text(row, column) for column in shown)
             for row in range(top, bottom + 1)
         ) + "\n"
+
+    def shown_columns(self, left: int) -> list[int]:
+        """The positions of the columns on screen from ``left`` on (hidden ones skipped)."""
+        return [column for column in range(left, len(COLUMNS))
+                if not self.isColumnHidden(column)]
 
     def copy_selection(self) -> None:
         """Copy the selected rectangle to the clipboard."""
@@ -340,7 +351,8 @@ class PlanTableView(QTableView):
         if len(grid) == 1 and len(grid[0]) == 1 and (bottom > top or right > left):
             grid = [[grid[0][0]] * (right - left + 1) for _ in range(bottom - top + 1)]
         model = self.plan_model()
-        block = model.paste_edits(top, left, grid)
+        columns = self.shown_columns(left)
+        block = model.paste_edits(top, left, grid, columns)
         errors = block.errors
         if errors:
             shown = "; ".join(errors[:MAX_ERRORS_SHOWN])
@@ -359,10 +371,10 @@ class PlanTableView(QTableView):
                                                  append=[Metric() for _ in range(block.new_rows)]))
         if applied:
             rows = max(row for row, _, _ in edits)
-            last = max(left + len(line) for line in grid) - 1
+            last = columns[min(max(len(line) for line in grid), len(columns)) - 1]
             selection = self.selectionModel()
             selection.select(
-                self._range(top, left, rows, min(last, len(COLUMNS) - 1)),
+                self._range(top, left, rows, last),
                 QItemSelectionModel.SelectionFlag.ClearAndSelect,
             )
             notes = [f"{count} cell(s) {where}" for count, where in (

@@ -213,6 +213,7 @@ def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> 
     if not plan.metrics:
         flow.paragraph("The plan has no metric rows yet.", font(9), INK)
     flow.table(report.inputs_table(plan))
+    _kinds(flow, plan)
 
     flow.heading("Results")
     flow.paragraph("Units are rounded up to whole units. The quantity each row solves for is in "
@@ -253,6 +254,21 @@ def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> 
         _entry(flow, [(method.name, font(8.5, bold=True), INK, 0, 1),
                       (method.text + used, font(8.5), INK, 10, 1),
                       (method.reference, font(8, italic=True), MUTED, 10, 6)])
+
+
+def _kinds(flow: Flow, plan) -> None:
+    """Ratio and quantile rows' own inputs, and each guardrail's test in words."""
+    own = report.kind_inputs_table(plan)
+    if own.rows:
+        flow.heading("Ratio and quantile rows", level=2)
+        flow.paragraph("Their per-unit sd comes from their own inputs: a ratio's by the delta "
+                       "method, a quantile's from the density at the quantile.", font(8), MUTED,
+                       spacing=1.25)
+        flow.table(own)
+    guardrails = report.direction_lines(plan)
+    if guardrails:
+        flow.heading("Guardrails in words", level=2)
+        flow.key_values(guardrails)
 
 
 def _simulation(flow: Flow, plan, result) -> None:
