@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import pytest
 from PySide6.QtGui import QGuiApplication
-from user_steps import click_cell, press, press_each_shortcut, show
+from user_steps import click_cell, press, press_each_shortcut, show, window_at
 
 from fourfold.plan import dumps
 from fourfold.ui.columns import column_index
@@ -17,9 +17,7 @@ from fourfold.ui.columns import column_index
 
 @pytest.mark.triggers("paste_action")
 def test_edit_paste_pastes_the_clipboard(make_window, qtbot):
-    window = make_window()
-    show(qtbot, window)
-    click_cell(qtbot, window, 1, "baseline")
+    window = window_at(make_window, qtbot, 1, "baseline")
     QGuiApplication.clipboard().setText("2.5\t16.0\n")
     window.paste_action.trigger()
     metric = window.document.plan.metrics[1]
@@ -30,9 +28,7 @@ def test_edit_paste_pastes_the_clipboard(make_window, qtbot):
 
 @pytest.mark.presses("paste_action")
 def test_ctrl_v_on_the_table_pastes_the_clipboard(make_window, qtbot):
-    window = make_window()
-    show(qtbot, window)
-    click_cell(qtbot, window, 0, "name")
+    window = window_at(make_window, qtbot, 0, "name")
     QGuiApplication.clipboard().setText("Checkout rate\tguardrail\n")
     press_each_shortcut(qtbot, window.paste_action)
     metric = window.document.plan.metrics[0]
@@ -68,13 +64,17 @@ def test_copy_cells_puts_the_selection_on_the_clipboard_and_pastes_back(make_win
     assert dumps(window.document.plan) == before
 
 
-@pytest.mark.triggers("undo_action", "redo_action")
-def test_undo_and_redo_from_the_menu(make_window, qtbot):
-    window = make_window()
-    show(qtbot, window)
-    click_cell(qtbot, window, 0, "baseline")
+def _pasted_baseline(make_window, qtbot):
+    """A window whose first row's baseline was pasted as 3.3 % (one undo step)."""
+    window = window_at(make_window, qtbot, 0, "baseline")
     QGuiApplication.clipboard().setText("3.3\n")
     press(qtbot, "Ctrl+V")
+    return window
+
+
+@pytest.mark.triggers("undo_action", "redo_action")
+def test_undo_and_redo_from_the_menu(make_window, qtbot):
+    window = _pasted_baseline(make_window, qtbot)
     assert window.undo_action.text() == "&Undo Paste 1 cells"
     window.undo_action.trigger()
     assert window.document.plan.metrics[0].baseline == 0.031
@@ -85,16 +85,12 @@ def test_undo_and_redo_from_the_menu(make_window, qtbot):
 
 @pytest.mark.presses("undo_action", "redo_action")
 def test_undo_and_redo_from_the_keyboard(make_window, qtbot):
-    window = make_window()
-    show(qtbot, window)
-    click_cell(qtbot, window, 0, "baseline")
-    QGuiApplication.clipboard().setText("3.3\n")
+    window = _pasted_baseline(make_window, qtbot)
     baselines = []
 
     def baseline():
         baselines.append(window.document.plan.metrics[0].baseline)
 
-    press(qtbot, "Ctrl+V")
     # Ctrl+Z, then each of redo's shortcuts (Ctrl+Y, Ctrl+Shift+Z) after an undo
     press_each_shortcut(qtbot, window.undo_action, baseline)
     for sequence in window.redo_action.shortcuts():

@@ -20,6 +20,7 @@ from user_steps import (
     press,
     press_each_shortcut,
     show,
+    window_at,
 )
 
 from fourfold.plan import Metric, load, sample_path
@@ -90,9 +91,7 @@ def test_move_rows_up_and_down(make_window, qtbot):
 
 
 def test_alt_down_in_an_open_drop_down_opens_its_list_and_moves_no_row(make_window, qtbot):
-    window = make_window()
-    show(qtbot, window)
-    click_cell(qtbot, window, 1, "role")
+    window = window_at(make_window, qtbot, 1, "role")
     press(qtbot, "F2")
     combo = cell_editor(window.table)
     assert isinstance(combo, QComboBox)

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication, QComboBox, QLineEdit
-from user_steps import cell_editor, click_cell, press, show, type_into_cell
+from user_steps import cell_editor, click_cell, press, show, type_into_cell, window_at
 
 from fourfold.plan import dumps
 from fourfold.ui.columns import column_index
@@ -57,9 +57,7 @@ def test_a_value_the_plan_refuses_names_row_column_and_range(make_window, qtbot)
 
 
 def test_tab_on_refused_text_stays_too_and_escape_gives_up(make_window, qtbot):
-    window = make_window()
-    show(qtbot, window)
-    click_cell(qtbot, window, 1, "sd")
+    window = window_at(make_window, qtbot, 1, "sd")
     press(qtbot, "Return")
     editor = cell_editor(window.table)
     qtbot.keyClicks(editor, "-3")

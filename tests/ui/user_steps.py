@@ -144,3 +144,11 @@ def drag_effect_marker(qtbot, window, to: float) -> None:
         return grid.mapFromScene(box.mapViewToScene(QPointF(x, height)))
 
     drag(qtbot, grid.viewport(), point(grid.handle.value()), point(to))
+
+
+def window_at(make_window, qtbot, row: int, key: str, plan=None):
+    """A shown window (on the sample plan by default) with the cell of ``row``, ``key`` clicked."""
+    window = make_window(plan)
+    show(qtbot, window)
+    click_cell(qtbot, window, row, key)
+    return window
