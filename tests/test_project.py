@@ -17,9 +17,19 @@ def test_readme_opens_with_the_job_then_two_commands():
     first_block = README.index("```")
     assert "A/B test" in README[:first_block]
     install_and_open, install_and_test = _readme_commands()[:2]
-    assert install_and_open.startswith("python3 -m pip install -e .")
-    assert install_and_open.endswith("fourfold")
+    assert install_and_open.startswith("python3 -m venv .venv && ")
+    assert "pip install -e ." in install_and_open
+    assert install_and_open.endswith(".venv/bin/fourfold")
     assert "pytest" in install_and_test
+
+
+def test_readme_commands_install_into_a_virtual_environment():
+    """A stock Debian/Ubuntu Python refuses pip outside a virtual environment (PEP 668,
+    "externally-managed-environment"): each command makes one and uses only its programs."""
+    for command in _readme_commands()[:2]:
+        steps = command.split(" && ")
+        assert steps[0] == "python3 -m venv .venv"
+        assert all(step.startswith(".venv/bin/") for step in steps[1:]), command
 
 
 def test_ci_runs_exactly_the_readme_test_command():

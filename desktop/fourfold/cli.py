@@ -56,6 +56,11 @@ def build_parser() -> argparse.ArgumentParser:
         "--scenario", metavar="NAME", default=None,
         help="export this scenario of the plan (default: the base)",
     )
+    p_export.add_argument(
+        "--allow-incomplete", action="store_true",
+        help="export a plan even when a primary or guardrail row cannot be computed (the "
+             "outputs then say \"incomplete\" and have no duration); refused by default",
+    )
 
     p_compare = sub.add_parser(
         "compare", help="compare the plan's base and scenarios side by side"
@@ -94,6 +99,16 @@ def _normalise(argv: Sequence[str]) -> list[str]:
     return argv
 
 
+def _warn_incomplete(plan_path: str, scenario: str | None) -> None:
+    """Say on stderr that an exported plan is incomplete (allowed by ``--allow-incomplete``)."""
+    from fourfold.plan import compute, effective, load
+
+    result = compute(effective(load(plan_path), scenario))
+    if result.incomplete:
+        print(f"fourfold: warning: the plan is incomplete: {result.incomplete_text()}",
+              file=sys.stderr)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     # One BLAS thread (unless the user chose otherwise), set before numpy loads: Fourfold's
     # arrays are small, and OpenBLAS's workers spin after each call, taking the second core
@@ -109,13 +124,21 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "shot":
             from fourfold.ui.app import run_shot
 
-            return run_shot(args.plan, args.output, size=args.size, row=args.row,
+            code = run_shot(args.plan, args.output, size=args.size, row=args.row,
                             scenario=args.scenario, tab=args.tab)
+            print(f"wrote {args.output}")
+            return code
         if args.command == "export":
             from fourfold.export import export_file
 
-            export_file(args.plan, args.output, page=args.page, scenario=args.scenario)
-            print(f"wrote {args.output}")
+            written = export_file(args.plan, args.output, page=args.page,
+                                  scenario=args.scenario,
+                                  allow_incomplete=args.allow_incomplete)
+            names = [str(path) for path in written]
+            print("wrote " + (", ".join(names[:-1]) + " and " if len(names) > 1 else "")
+                  + names[-1])
+            if args.allow_incomplete:
+                _warn_incomplete(args.plan, args.scenario)
             return 0
         if args.command == "compare":
             from fourfold.export import compare_file

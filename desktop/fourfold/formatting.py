@@ -98,6 +98,32 @@ def format_count(value: float | None) -> str:
     return f"{math.ceil(value - 1e-9):,d}"
 
 
+def whole_days(value: float | None) -> float:
+    """Days as Fourfold shows them everywhere: rounded up to a whole day (a test runs whole
+    days), forgiving floating-point dust just above a whole number; nan when missing.
+
+    Examples
+    --------
+    >>> whole_days(29.03), whole_days(28.000000001), whole_days(None)
+    (30.0, 28.0, nan)
+    """
+    if _missing(value):
+        return math.nan
+    return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
+
+
+def format_days(value: float | None) -> str:
+    """Days as a whole number, rounded up (:func:`whole_days`), with thousands separators.
+
+    Examples
+    --------
+    >>> format_days(29.03), format_days(35.0), format_days(float("nan"))
+    ('30', '35', '—')
+    """
+    days = whole_days(value)
+    return DASH if math.isnan(days) else f"{days:,.0f}"
+
+
 def format_percent(value: float | None, signed: bool = False, suffix: str = "%") -> str:
     """Format a fraction as a percentage, e.g. 0.05 → "+5.0 %".
 

@@ -29,8 +29,6 @@ from fourfold.plan.evaluation import evaluate
 NUMERIC = {
     "baseline": "baseline",
     "sd": "sd",
-    "effect_input": "effect",
-    "margin_input": "margin",
     "alpha_override_frac": "alpha_override",
     "power_override_frac": "power_override",
     "cuped_rho": "rho",
@@ -43,6 +41,9 @@ NUMERIC = {
     "power_frac": "power",
     "effect_abs": "effect_abs",
     "effect_rel_frac": "effect_rel",
+    "margin_abs": "margin_abs",
+    "margin_rel_frac": "margin_rel",
+    "power_at_duration_frac": "power_at_duration",
     "units_control": "units_control",
     "units_treatment_per_arm": "units_treatment",
     "units_total": "units_total",
@@ -81,7 +82,7 @@ def test_numbers_read_back_by_pandas_equal_evaluate_exactly(tmp_path):
     frame = evaluate(plan)
     assert len(back) == len(frame) == len(plan.metrics)
     for column, source in NUMERIC.items():
-        assert back[column].dtype.kind == "f", column
+        assert back[column].dtype.kind in "fi", column
         np.testing.assert_array_equal(back[column].to_numpy(), _floats(frame[source]),
                                       err_msg=column)
     assert list(back["row"]) == list(range(1, len(plan.metrics) + 1))
@@ -92,6 +93,44 @@ def test_numbers_read_back_by_pandas_equal_evaluate_exactly(tmp_path):
                 for k, m in zip(frame["kind"], frame["method"], strict=True)]
     assert list(back["method"]) == defaults
     assert list(back["relative_input"]) == list(frame["relative"])
+
+
+def test_effect_and_margin_as_entered_go_to_the_column_of_their_unit(tmp_path):
+    """A relative input is a fraction of the baseline, an absolute one in the metric's unit:
+    never both in one column (the sample's page-load row is absolute, the others relative)."""
+    plan = _sample()
+    path, *_ = write_csv(plan, tmp_path / "plan.csv")
+    rows = _read(path)
+    header = rows[0]
+    assert "effect_input" not in header and "margin_input" not in header
+    for metric, row in zip(plan.metrics, rows[1:], strict=True):
+        for field in ("effect", "margin"):
+            relative = row[header.index(f"{field}_input_rel_frac")]
+            absolute = row[header.index(f"{field}_input_abs")]
+            entered, other = (relative, absolute) if metric.relative else (absolute, relative)
+            assert (float(entered), other) == (getattr(metric, field), ""), (metric.name, field)
+    names = [row[header.index("name")] for row in rows[1:]]
+    load = rows[1 + names.index("Page load time (s)")]
+    assert (load[header.index("margin_input_abs")], load[header.index("margin_input_rel_frac")]) \
+        == ("0.02", "")
+
+
+def test_unit_counts_are_written_as_integers(tmp_path):
+    plan = _sample()
+    plan.settings.correction = "bonferroni"
+    plan.metrics[1].n = 5000.0
+    path, extra, *_ = write_csv(plan, tmp_path / "plan.csv")
+    rows = _read(path)
+    header = rows[0]
+    frame = evaluate(plan)
+    for column in ("units_control", "units_treatment_per_arm", "units_total", "units_max",
+                   "units_expected_h1"):
+        source = {"units_treatment_per_arm": "units_treatment"}.get(column, column)
+        assert [row[header.index(column)] for row in rows[1:]] == [
+            str(int(value)) for value in frame[source]], column
+    assert rows[2][header.index("n_input_control_units")] == "5000"
+    values = {key: value for key, value, _ in _read(extra)[1:]}
+    assert values["total_units"] == "730302" and values["daily_units"] == "42000"
 
 
 def test_results_are_not_rounded_away(tmp_path):
@@ -145,8 +184,8 @@ def test_formula_text_is_neutralised_and_numbers_untouched(tmp_path):
     for payload, row in zip(PAYLOADS, rows[1:], strict=True):
         assert row[header.index("name")] == "'" + payload
         assert row[header.index("notes")] == "'" + payload
-        assert row[header.index("effect_input")] == "-0.05"
-        assert row[header.index("margin_input")] == "-0.01"
+        assert row[header.index("effect_input_rel_frac")] == "-0.05"
+        assert row[header.index("margin_input_rel_frac")] == "-0.01"
     for row in rows[1:]:
         text_cells = [row[header.index(c)] for c in ("name", "notes", "role", "kind")]
         assert not any(c.startswith(("=", "+", "-", "@", "\t", "\r")) for c in text_cells)

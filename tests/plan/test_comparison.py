@@ -78,8 +78,9 @@ def test_an_incomplete_scenario_shows_no_duration_and_says_why():
     assert math.isnan(row["duration_days"]) and math.isnan(row["total_units"])
     assert pandas.isna(row["binding_metric"])
     assert "Checkout conversion: not computed — needs an effect" in row["notes"]
-    # evaluated alone, the other deciding rows would still give a duration: not shown here
-    assert compute(_by_hand(plan, rows={"conversion": {"effect": None}})).duration_days
+    # the evaluation itself gives no duration for it either
+    alone = compute(_by_hand(plan, rows={"conversion": {"effect": None}}))
+    assert alone.status == "incomplete" and alone.duration_days is None
 
 
 def test_the_changes_column_says_in_words_what_each_scenario_changes():

@@ -134,7 +134,8 @@ def test_correction_counts_arms_and_primary_rows():
     # Šidák: 1 − (1 − α)^(1/k) (Šidák 1967, JASA 62:626; from memory).
     assert alphas == pytest.approx([1 - 0.95 ** (1 / 6)] * 2 + [1 - 0.95 ** (1 / 3),
                                                                  1 - 0.9 ** (1 / 3)])
-    assert any("sidak" in note for note in compute(plan).notes)
+    assert ("α corrected (Šidák): primary rows for 3 arms × 2 primary metrics, other rows for "
+            "3 arms.") in compute(plan).notes
     plan.settings.correction = "none"
     assert [row.alpha for row in compute(plan).rows] == [0.05, 0.05, 0.05, 0.1]
     assert not any("corrected" in note for note in compute(plan).notes)
@@ -247,7 +248,9 @@ def test_rows_that_cannot_be_computed_get_reasons_not_exceptions():
     assert all(reasons[:5]) and reasons[5] == ""
     for row in result.rows[:5]:
         assert math.isnan(row.units_control) and math.isnan(row.days)
-    assert result.binding_name == "Fine"
+    assert (result.status, result.binding_name, result.duration_days) == ("incomplete", None,
+                                                                           None)
+    assert [item.name for item in result.incomplete] == [m.name for m in metrics[:5]]
     assert sum("not computed" in note for note in result.notes) == 5
 
 
@@ -302,7 +305,7 @@ _SETTINGS = st.builds(
     daily_units=st.one_of(st.none(), st.floats(10.0, 1e6)),
     share=st.floats(0.05, 1.0),
     whole_weeks=st.booleans(),
-    runtime_days=st.one_of(st.none(), st.floats(1.0, 90.0)),
+    runtime_days=st.one_of(st.none(), st.integers(1, 90).map(float)),
 )
 
 

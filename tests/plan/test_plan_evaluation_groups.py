@@ -10,9 +10,10 @@ import math
 import pytest
 
 from fourfold import engine
-from fourfold.plan import Plan, load, sample_path
+from fourfold.plan import Plan, arms, load, sample_path
 from fourfold.plan.evaluation import RowCache, compute
 from fourfold.plan.kinds import unit_sd
+from fourfold.plan.rules import is_margin_row
 
 SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")
 
@@ -54,12 +55,14 @@ def _count_engine_calls(monkeypatch) -> dict:
 def test_engine_calls_do_not_grow_with_the_number_of_rows(monkeypatch, looks):
     counts = _count_engine_calls(monkeypatch)
     every = 4 * len(load(sample_path()).metrics)  # each sample row with each of the 4 solves
+    arms._dunnett.cache_clear()  # Dunnett's α per (α, sides) is cached across evaluations
     compute(_mixed_plan(every, looks=looks))
     small = dict(counts)
     counts.clear()
+    arms._dunnett.cache_clear()
     result = compute(_mixed_plan(500, looks=looks))
     assert counts == small
-    assert sum(counts.values()) <= 30
+    assert sum(counts.values()) <= 40  # the solve groups, then one power call per group
     assert not any(counts.get(name) for name in SOLVES)
     assert sum(1 for row in result.rows if not row.reason) > 300
 
@@ -96,6 +99,13 @@ def test_grouped_rows_equal_direct_scalar_engine_calls():
         elif metric.solve == "power":
             assert row.power == float(engine.power(metric.kind, metric.baseline, metric.effect,
                                                    metric.n / factor, **common))
+        elif metric.solve == "detectable_effect" and is_margin_row(metric):
+            del common["margin"]
+            margin = float(engine.detectable_margin(metric.kind, metric.baseline,
+                                                    metric.effect, metric.n / factor,
+                                                    power=settings.power, **common))
+            assert (row.margin_rel if metric.relative else row.margin_abs) == margin
+            assert row.solved == "detectable_margin"
         elif metric.solve == "detectable_effect":
             effect = float(engine.detectable_effect(metric.kind, metric.baseline,
                                                     metric.n / factor, power=settings.power,
@@ -113,8 +123,10 @@ def _assert_same_result(a, b):
     for x, y in zip(a.rows, b.rows, strict=True):
         for name in (f.name for f in dataclasses.fields(x)):
             assert _same(getattr(x, name), getattr(y, name)), name
-    for name in ("duration_days", "total_units", "binding_index", "binding_name", "notes"):
+    for name in ("duration_days", "total_units", "binding_index", "binding_name", "notes",
+                 "incomplete"):
         assert _same(getattr(a, name), getattr(b, name)), name
+    assert all(_same(x, y) for x, y in zip(a.duration_powers, b.duration_powers, strict=True))
 
 
 @pytest.mark.parametrize("looks", [1, 3])
@@ -125,7 +137,8 @@ def test_a_cache_solves_only_changed_rows_and_changes_no_result(monkeypatch, loo
     counts = _count_engine_calls(monkeypatch)
     plan.metrics[7] = dataclasses.replace(plan.metrics[7], baseline=plan.metrics[7].baseline * 1.1)
     cached = compute(plan, cache=cache)
-    assert counts.get("values_and_reasons", 0) == 1
+    # the row, then (a complete plan having a duration) its power at the plan's duration
+    assert counts.get("values_and_reasons", 0) == 1 + (cached.status == "complete")
     _assert_same_result(cached, compute(plan))
     assert len(cache.rows) == len({(m.kind, m.baseline, m.solve, m.n) for m in plan.metrics})
 

@@ -55,6 +55,7 @@ def test_plan_error_is_a_user_error_and_a_value_error():
         ("arms", 0, True), ("arms", 21, True), ("arms", 1.5, True), ("looks", 0, True),
         ("ratio", 0.0, True), ("share", 0.0, True), ("share", 1.01, True),
         ("daily_units", 0.0, True), ("runtime_days", -7.0, True),
+        ("runtime_days", 10.5, True), ("runtime_days", 0.0, True), ("runtime_days", 3651, True),
         ("sd", 0.0, False), ("rho", 1.0, False), ("rho", -1.0, False),
         ("cluster_size", 0.5, False), ("icc", 1.5, False), ("icc", -0.1, False),
         ("cluster_cv", -0.1, False), ("n", 0.0, False),

@@ -200,6 +200,8 @@ def test_trade_off_axes_name_the_unit_and_the_quantile():
                                                _ratio_row(relative=False, effect=0.1)])
     assert quantile_name(plan.metrics[0]) == "p95"
     first = tradeoffs(plan, 0)
-    assert first.effect.x_label == "effect (difference in the p95, s)"
+    # a guardrail (one-sided, with a margin): its first figure is about the margin
+    assert first.quantity == "margin"
+    assert first.effect.x_label == "margin (difference in the p95, s)"
     assert first.effect_unit == "s" and first.reason == ""
     assert tradeoffs(plan, 1).effect.x_label == "effect (difference in ratios, items)"

@@ -163,10 +163,55 @@ def test_effect_span_is_kept_only_while_the_effect_is_inside_it():
     assert tradeoffs(plan, 0, effect_span=(0.6, 0.9)).effect_span == default
 
 
-def test_non_inferiority_range_is_measured_from_the_margin():
-    plan = mean_plan(effect=0.0, margin=-0.4, alternative="greater")
+def test_a_two_sided_range_with_a_margin_is_measured_from_the_margin():
+    plan = mean_plan(effect=0.0, margin=-0.4)
     low, high = tradeoffs(plan, 0).effect_span
     assert (low, high) == pytest.approx((-0.4 + 0.4 * 0.4, -0.4 + 2.5 * 0.4))
+
+
+def one_sided(delta, sd, alpha, power):
+    """σ²(1 + 1/r)(z₁₋α + z₁₋β)²/δ² with r = 1: a one-sided test against a margin (Chow, Shao &
+    Wang 2008, Sample Size Calculations in Clinical Research, 2nd ed., §3.2.1)."""
+    z = ndtri(1 - alpha) + ndtri(power)
+    return 2 * sd**2 * z**2 / np.asarray(delta) ** 2
+
+
+def test_a_margin_row_plots_units_against_the_margin():
+    """Non-inferiority: no true change (effect 0), the basket may not shrink by 0.4 or more."""
+    plan = mean_plan(effect=0.0, margin=-0.4, alternative="greater")
+    data = tradeoffs(plan, 0)
+    assert data.quantity == "margin" and data.effect_editable
+    figure = data.effect
+    assert figure.title == "Sample size against the margin"
+    assert figure.x_label == "margin (difference in means)"
+    # margins on the far side of the effect, 0.4 to 2.5 times its distance from it
+    assert data.effect_span == pytest.approx((-0.4 * 2.5, -0.4 * 0.4))
+    np.testing.assert_allclose(figure.curve.y, one_sided(figure.curve.x, 4.0, 0.05, 0.8),
+                               rtol=1e-9)
+    assert figure.point == (-0.4, compute(plan).rows[0].units_control)
+    assert figure.point[1] == math.ceil(one_sided(0.4, 4.0, 0.05, 0.8))
+
+
+def test_a_margin_rows_weeks_show_the_tightest_margin_ruled_out():
+    """After d days, n = d × 20,000 / 2 control units rule out −(z₁₋α + z₁₋β)·σ·√2/√n."""
+    plan = mean_plan(effect=0.0, margin=-0.4, alternative="greater")
+    figure = tradeoffs(plan, 0).runtime
+    assert (figure.title, figure.y_label) == ("What each week can rule out", "margin ruled out")
+    n = figure.marks.x * DAILY / 2
+    expected = -(ndtri(0.95) + ndtri(0.8)) * 4.0 * math.sqrt(2) / np.sqrt(n)
+    np.testing.assert_allclose(figure.marks.y, expected, rtol=1e-9)
+    assert figure.point[1] == -0.4
+
+
+def test_a_guardrail_with_a_runtime_plots_the_margin_it_rules_out():
+    plan = mean_plan(effect=0.0, margin=0.4, alternative="less")
+    plan.settings.runtime_days = 3.0
+    row = compute(plan).rows[0]
+    data = tradeoffs(plan, 0)
+    assert not data.effect_editable and row.solved == "detectable_margin"
+    n = 3.0 * DAILY / 2
+    expected = (ndtri(0.95) + ndtri(0.8)) * 4.0 * math.sqrt(2) / math.sqrt(n)
+    assert data.effect.point[0] == pytest.approx(expected, rel=1e-9) == row.margin_abs
 
 
 def test_effect_is_not_editable_on_rows_that_solve_for_it():

@@ -51,7 +51,7 @@ def test_fixed_design_shows_a_hint(qtbot):
 def test_three_pocock_looks_in_the_tooltip(qtbot):
     view = BoundariesView()
     qtbot.addWidget(view)
-    plan = _plan(looks=3, spending="pocock")
+    plan = _plan(looks=3, spending="pocock", whole_weeks=False)  # equally spaced looks
     view.show_row(plan, compute(plan), 0)
     lines = view.toolTip().splitlines()
     assert len(lines) == 3

@@ -33,7 +33,7 @@ def test_refused_text_stays_in_the_editor_and_the_message_names_the_cell(make_wi
     assert cell_editor(window.table) is editor and editor.text() == "2,35"
     assert editor.selectedText() == "2,35"  # typing replaces it
     message = window.statusBar().currentMessage()
-    assert message.startswith("Baseline of row 2 “Revenue per visitor”: '2,35' is not a number")
+    assert message.startswith("row 2 (Revenue per visitor), Baseline: '2,35' is not a number")
     assert dumps(window.document.plan) == before
     qtbot.keyClicks(editor, "2.4")
     press(qtbot, "Return", editor)
@@ -47,7 +47,7 @@ def test_a_value_the_plan_refuses_names_row_column_and_range(make_window, qtbot)
     show(qtbot, window)
     editor = _type_and_enter(qtbot, window, 0, "power", "90")
     message = window.statusBar().currentMessage()
-    assert message.startswith("Power of row 1 “Checkout conversion”: ")
+    assert message.startswith("row 1 (Checkout conversion), Power: ")
     assert "0 < power < 1" in message and message.endswith("for 90 percent, type 90 %")
     assert cell_editor(window.table) is editor and editor.text() == "90"
     qtbot.keyClicks(editor, "90 %")
@@ -63,7 +63,7 @@ def test_tab_on_refused_text_stays_too_and_escape_gives_up(make_window, qtbot):
     qtbot.keyClicks(editor, "-3")
     press(qtbot, "Tab", editor)
     assert cell_editor(window.table) is editor and editor.text() == "-3"
-    assert window.statusBar().currentMessage().startswith("SD of row 2 “Revenue per visitor”")
+    assert window.statusBar().currentMessage().startswith("row 2 (Revenue per visitor), SD")
     press(qtbot, "Escape", editor)
     assert cell_editor(window.table) is None
     assert window.document.plan.metrics[1].sd == 14.8

@@ -211,7 +211,7 @@ def test_computed_cells_are_read_only_and_the_solved_cell_stands_out(qtbot, mode
 
 
 def test_a_row_that_cannot_be_computed_shows_a_dash_with_the_reason(qtbot, model):
-    model.document.apply(SetField(0, "baseline", 1.5))  # a proportion above 1
+    model.document.apply(SetField(0, "kind", "mean"))  # a mean with no SD yet
     model.document.recompute_now()
     units = model.index(0, column_index("units_control"))
     assert model.data(units) == "—"

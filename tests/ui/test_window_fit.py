@@ -14,7 +14,7 @@ from PySide6.QtCore import QCoreApplication, QDate, QDateTime, QLocale, QTime
 from PySide6.QtWidgets import QMessageBox
 from user_steps import click_cell, press, show, type_into_cell
 
-from fourfold.plan import Plan
+from fourfold.plan import Plan, dumps, load, loads, sample_path
 from fourfold.plan.commands import SetField
 from fourfold.ui.columns import column_index
 from fourfold.ui.plots import EMPTY_TEXT
@@ -72,17 +72,18 @@ def test_no_row_shows_a_sentence_instead_of_empty_axes(make_window, qtbot):
 
 
 def test_a_row_that_cannot_be_computed_shows_its_reason_without_axes(make_window, qtbot):
-    window = make_window()
+    # a plan file whose first row has a proportion's baseline of 150 %: it opens, incomplete
+    text = dumps(load(sample_path())).replace('"baseline": 0.031', '"baseline": 1.5')
+    window = make_window(loads(text))
     show(qtbot, window)
-    click_cell(qtbot, window, 1, "sd")
-    press(qtbot, "Delete")  # a mean without its sd cannot be sized
-    qtbot.waitUntil(lambda: window.document.result.rows[1].reason != "")
-    reason = window.document.result.rows[1].reason
+    click_cell(qtbot, window, 0, "baseline")
+    reason = window.document.result.rows[0].reason
+    assert reason
     for plot in window.plots.grid.plots.values():
         qtbot.waitUntil(lambda plot=plot: plot.message.isVisible())
         assert plot.message.textItem.toPlainText() == reason
         assert not any(plot.item.getAxis(side).isVisible() for side in ("left", "bottom"))
-    window.undo_action.trigger()
+    type_into_cell(qtbot, window, 0, "baseline", "3.1")  # mended: the axes come back
     qtbot.waitUntil(lambda: window.plots.grid.plots["effect"].item.getAxis("left").isVisible())
 
 

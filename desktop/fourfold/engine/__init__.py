@@ -21,6 +21,7 @@ from .design import (
 )
 from .solve import (
     detectable_effect,
+    detectable_margin,
     power,
     problems,
     sample_size,
@@ -35,6 +36,7 @@ __all__ = [
     "adjusted_alpha",
     "allocation_ratio",
     "detectable_effect",
+    "detectable_margin",
     "dunnett",
     "duration_days",
     "power",

@@ -47,6 +47,22 @@ def critical(alpha, alternative, exact_t, df):
     return _normal.upper_quantile(p)
 
 
+def distance_search(room, s0, s1, alpha, power, n, alternative):
+    """Where a root search for a distance from H0 starts, on the log scale of the distance.
+
+    The normal approximation's distance (u·s₀ + z_power·s₁)/√n, kept within half the ``room``
+    there is (the distance to the edge of the possible values; inf when unbounded). Returns the
+    z critical value ``u`` and the start, lower and upper limit of the log distance.
+    """
+    u = critical(alpha, alternative, False, None)
+    guess = (u * s0 + _normal.quantile(power) * s1) / np.sqrt(n)
+    bounded = np.isfinite(room)
+    guess = np.where(bounded, np.minimum(guess, 0.5 * room), guess)
+    y0 = np.log(np.maximum(guess, 1e-300))
+    y_max = np.where(bounded, np.log(room) + np.log1p(-1e-12), y0 + 60.0)
+    return u, y0, np.minimum(y0, y_max) - 60.0, y_max
+
+
 def _no_correction(cc):
     """True when the continuity term is the plain number 0 (its terms then drop out exactly)."""
     return isinstance(cc, float) and cc == 0.0

@@ -19,7 +19,7 @@ METHODS = {
     "quantile": ("asymptotic",),
 }
 ALTERNATIVES = ("two-sided", "greater", "less")
-SOLVES = ("sample_size", "power", "detectable_effect", "significance_level")
+SOLVES = ("sample_size", "power", "detectable_effect", "significance_level", "detectable_margin")
 
 
 def quoted(values):

@@ -18,6 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import catalog, mean, proportion, quantile, rate, ratio
+from .margin import ONE_SIDED
 
 KIND_MODULES = {"mean": mean, "proportion": proportion, "rate": rate, "ratio": ratio,
                 "quantile": quantile}
@@ -27,6 +28,7 @@ _NEEDS = {
     "power": ("effect", "n", "alpha"),
     "detectable_effect": ("n", "alpha", "power"),
     "significance_level": ("effect", "n", "power"),
+    "detectable_margin": ("effect", "n", "alpha", "power"),
 }
 
 
@@ -205,8 +207,10 @@ def _checks(solve, kind, method, alternative, needs, flat, rel, eff, mar, not_fi
             checks.append((~(eff < mar), "effect must be less than the margin for a 'less' test"))
         else:
             checks.append((eff == mar, "effect must differ from the margin for a two-sided test"))
-    if solve in ("sample_size", "detectable_effect"):
+    if solve in ("sample_size", "detectable_effect", "detectable_margin"):
         checks.append((~(flat["power"] > flat["alpha"]), "power must be greater than alpha"))
+    if solve == "detectable_margin" and alternative == "two-sided":
+        checks.append((np.ones_like(b, dtype=bool), ONE_SIDED))
     shape = (b.size,)
     flags = np.concatenate((not_finite, np.array(
         [bad if bad.shape == shape else np.broadcast_to(bad, shape) for bad, _ in checks])))

@@ -39,10 +39,12 @@ from . import _normal, roots, tdist
 from ._power import (
     critical,
     degrees_of_freedom,
+    distance_search,
     limit_power_and_slope,
     power_of,
 )
 from .checks import KIND_MODULES, prepare
+from .margin import solve_margin
 
 _TAIL_SIGN = {"greater": 1.0, "less": -1.0, "two-sided": 1.0}
 _N_MIN_Z = 1e-9
@@ -210,13 +212,8 @@ def _detectable_effect(p):
     lo, hi = KIND_MODULES[p.kind].effect_bounds(p.baseline[i], margin, sign)
     room = (hi - margin) if sign > 0 else (margin - lo)
     _, s0, s1, _ = _moments(p, i, margin)
-    u = critical(p.alpha[i], p.alternative, False, None)
-    guess = (u * s0 + _normal.quantile(p.power[i]) * s1) / np.sqrt(p.n[i])
-    bounded = np.isfinite(room)
-    guess = np.where(bounded, np.minimum(guess, 0.5 * room), guess)
-    y0 = np.log(np.maximum(guess, 1e-300))
-    y_max = np.where(bounded, np.log(room) + np.log1p(-1e-12), y0 + 60.0)
-    y_min = np.minimum(y0, y_max) - 60.0
+    u, y0, y_min, y_max = distance_search(room, s0, s1, p.alpha[i], p.power[i], p.n[i],
+                                          p.alternative)
     target = p.power[i]
     exact_t = p.method == "t"
     n, ratio, baseline = p.n[i], p.ratio[i], p.baseline[i]
@@ -416,11 +413,44 @@ def significance_level(kind, baseline, effect, n, *, sd=None, power=0.8,
     return _finish(p, *_run(_significance_level, p))
 
 
+def detectable_margin(kind, baseline, effect, n, *, sd=None, alpha=0.05, power=0.8,
+                      alternative="greater", ratio=1.0, relative=False, method=None):
+    """The tightest margin a one-sided test of ``n`` units rules out with ``power``.
+
+    With the true difference held at ``effect`` (usually 0 for a guardrail), the margin
+    closest to it that the test still rejects with the given power: below the effect for
+    "greater" (non-inferiority: the treatment is not worse than the margin), above it for
+    "less" (a guardrail: the metric does not rise by the margin or more). With
+    ``relative=True`` effect and margin are fractions of the baseline. Other parameters as in
+    :func:`sample_size`; a two-sided test has no such margin.
+
+    Returns
+    -------
+    numpy.ndarray
+        The margin (treatment − control under H0); nan where impossible (array calls).
+
+    References
+    ----------
+    Chow, Shao & Wang (2008), §3.2 and §4.2; Farrington & Manning (1990).
+
+    Examples
+    --------
+    >>> round(float(detectable_margin("mean", 1.84, 0.0, 14_533.0, sd=0.61,
+    ...                               alternative="less")), 4)
+    0.0178
+    """
+    p = prepare("detectable_margin", kind, baseline, effect=effect, n=n, sd=sd, alpha=alpha,
+                power=power, alternative=alternative, ratio=ratio, relative=relative,
+                method=method)
+    return _finish(p, *_run(solve_margin, p))
+
+
 _SOLVERS = {
     "sample_size": _sample_size,
     "power": _power,
     "detectable_effect": _detectable_effect,
     "significance_level": _significance_level,
+    "detectable_margin": solve_margin,
 }
 
 
@@ -437,7 +467,8 @@ def values_and_reasons(solve, kind, baseline, *, effect=None, n=None, sd=None, a
 
     Parameters
     ----------
-    solve : {"sample_size", "power", "detectable_effect", "significance_level"}
+    solve : {"sample_size", "power", "detectable_effect", "significance_level", \
+"detectable_margin"}
     kind, baseline, effect, n, sd, alpha, power, alternative, ratio, relative, margin, method
         As for the solver; inputs the solve does not use are ignored.
 

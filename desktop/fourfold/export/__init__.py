@@ -18,17 +18,29 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
+from fourfold.errors import FourfoldError
 from fourfold.export.files import ExportError
 
 FORMATS = (".csv", ".pdf")
 PAGES = ("a4", "letter")
 
-__all__ = ["FORMATS", "PAGES", "ExportError", "compare_file", "export_file"]
+__all__ = ["FORMATS", "PAGES", "ExportError", "IncompletePlanError", "compare_file",
+           "export_file"]
+
+
+class IncompletePlanError(FourfoldError):
+    """An incomplete plan that the export was not allowed to write; the message names every
+    primary or guardrail row that cannot be computed, with its reason."""
 
 
 def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
-                page: str = "a4", scenario: str | None = None) -> list[Path]:
+                page: str = "a4", scenario: str | None = None, *,
+                allow_incomplete: bool = False) -> list[Path]:
     """Load a plan file and export it; the format comes from the output's extension.
+
+    An incomplete plan (a primary or guardrail row that cannot be computed, see
+    :mod:`fourfold.plan.evaluation`) is refused unless ``allow_incomplete``: its outputs would
+    have no duration. Allowed, every output says "incomplete" and names the rows.
 
     Parameters
     ----------
@@ -40,6 +52,8 @@ def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
         Paper size of a PDF.
     scenario : str, optional
         The scenario to export (default: the base).
+    allow_incomplete : bool
+        Write an incomplete plan too (its outputs say "incomplete").
 
     Returns
     -------
@@ -51,7 +65,8 @@ def export_file(plan_path: os.PathLike | str, output: os.PathLike | str,
     fourfold.errors.FourfoldError
         For an unknown extension or page size, a missing or malformed plan file
         (:class:`fourfold.plan.PlanError`) or an output that cannot be written
-        (:class:`ExportError`). No output file is created or changed then.
+        (:class:`ExportError`), or an incomplete plan without ``allow_incomplete``
+        (:class:`IncompletePlanError`). No output file is created or changed then.
 
     Examples
     --------
@@ -76,7 +91,18 @@ the output file must end in .csv or .pdf
     from fourfold.plan import effective, load
 
     plan = load(plan_path)
-    effective(plan, scenario)  # an unknown scenario is refused before any output
+    chosen = effective(plan, scenario)  # an unknown scenario is refused before any output
+    if not allow_incomplete:
+        from fourfold.plan.evaluation import compute
+
+        result = compute(chosen)
+        if result.incomplete:
+            which = "" if scenario is None else f" (scenario {scenario!r})"
+            raise IncompletePlanError(
+                f"{Path(plan_path).name}{which} is an incomplete plan: "
+                f"{result.incomplete_text()}. Every primary and guardrail row must be computed "
+                "for the plan to have a duration; mend these rows, or export anyway with "
+                "--allow-incomplete (every output then says \"incomplete\")")
     if suffix == ".csv":
         from fourfold.export.csv import write_csv
 

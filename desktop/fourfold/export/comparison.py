@@ -31,6 +31,7 @@ from fourfold.export import report
 from fourfold.export.csv import ENCODING, cell
 from fourfold.export.files import replacing
 from fourfold.plan.comparison import Outcome, deciding_rows
+from fourfold.plan.rules import is_margin_row
 
 MINUS = "\u2212"
 
@@ -104,10 +105,16 @@ def _plan_lines(found: list[Outcome]) -> list[Line]:
 
 
 def _effect(metric, row) -> tuple[str, float]:
-    """The detectable effect as the row shows it, and the number its difference uses."""
+    """The detectable effect as the row shows it, and the number its difference uses; for a
+    margin row (a guardrail, non-inferiority) the margin it tests or the tightest it rules out,
+    as "margin +10 %"."""
+    if is_margin_row(metric):
+        prefix, relative, absolute = "margin ", row.margin_rel, row.margin_abs
+    else:
+        prefix, relative, absolute = "", row.effect_rel, row.effect_abs
     if metric.relative:
-        return report.percent(row.effect_rel, signed=True), 100 * row.effect_rel
-    return report.effect_text(metric, row.effect_abs, relative=False), row.effect_abs
+        return prefix + report.percent(relative, signed=True), 100 * relative
+    return prefix + report.effect_text(metric, absolute, relative=False), absolute
 
 
 def _row_lines(found: list[Outcome], positions: list[dict[str, int]], row_id: str,

@@ -26,7 +26,8 @@ Names are ``snake_case``; a suffix names the unit of the numbers in the column:
 
 ``_units``
     a count of experiment units (visitors, users…); results are whole units as the evaluation
-    rounds them up, inputs (``n_input_control_units``, ``cluster_size_units``) as entered;
+    rounds them up, written as integers, inputs (``n_input_control_units``,
+    ``cluster_size_units``) as entered (whole numbers as integers);
 ``_days``
     days of traffic;
 ``_frac``
@@ -46,14 +47,29 @@ the computation used: the delta method's for a ratio, √(p(1 − p))/density fo
 ``sd`` otherwise. With the √k allocation the settings file adds what equal allocation would
 need: ``equal_allocation_total_units`` and ``equal_allocation_duration_days``.
 
-``effect_input`` and ``margin_input`` are the numbers as entered: fractions of the baseline when
-``relative_input`` is true, the metric's unit otherwise. ``units_control`` is the control arm,
+The effect and the margin as entered go to one of two columns each, by their unit:
+``effect_input_rel_frac`` and ``margin_input_rel_frac`` (fractions of the baseline) when
+``relative_input`` is true, ``effect_input_abs`` and ``margin_input_abs`` (the metric's unit)
+otherwise; the other column of the pair is empty. ``effect_abs`` / ``effect_rel_frac`` and
+``margin_abs`` / ``margin_rel_frac`` are the effect and the H0 margin the row was computed with,
+both ways: given, or solved (the detectable effect; for a margin row with ``solved`` =
+``detectable_margin`` the tightest margin it rules out). ``power_frac`` is the row's power (given
+or solved), ``power_at_duration_frac`` its power with the units of the plan's whole duration
+(empty when the plan has none). ``units_control`` is the control arm,
 ``units_treatment_per_arm`` each treatment arm, ``units_total`` all arms together. With interim
 looks, ``units_max`` and ``units_expected_h1`` are totals over all arms (the most the test can
 need, and what it needs on average if the effect is real) and ``look_days`` lists the day of
 each look, separated by ``;``; for a fixed design they repeat ``units_total`` and ``days``.
 An empty cell is a missing value (an input left to the plan's default, or a result that cannot
 be computed; ``reason`` then says why).
+
+Incomplete plans
+----------------
+A plan in which a primary or guardrail row cannot be computed is incomplete (see
+:mod:`fourfold.plan.evaluation`): every row's ``plan_status`` column says ``incomplete`` (else
+``complete``), the settings file's ``status`` row too, followed by one ``incomplete_k`` row per
+such row ("row 1 (Checkout conversion): …"), and ``duration_days``, ``total_units`` and the
+binding row are empty.
 
 Numbers are written in full precision (Python's shortest round-trip form), so reading the file
 back gives exactly the values of :func:`fourfold.plan.evaluation.evaluate`. Text cells that a
@@ -150,6 +166,25 @@ def cell(value: Any) -> str:
     return neutralise(str(value))
 
 
+def whole(value: Any) -> Any:
+    """A whole-numbered count as an ``int`` (written without ``.0``), anything else unchanged.
+
+    Examples
+    --------
+    >>> whole(1234.0), whole(2.5), whole(None)
+    (1234, 2.5, None)
+    """
+    if isinstance(value, numbers.Real) and not isinstance(value, bool) and \
+            math.isfinite(value) and value == int(value):
+        return int(value)
+    return value
+
+
+def _entered(metric, value, relative: bool) -> Any:
+    """``value`` when the row's effect and margin are entered relative (or not) as asked."""
+    return value if metric.relative == relative else None
+
+
 def _method(metric) -> str:
     return metric.method if metric.method is not None else CHOICES["method"][metric.kind][0]
 
@@ -181,32 +216,38 @@ COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
     ("quantile_second_level_frac", lambda i, m, r, p: m.second_level),
     ("quantile_second_value", lambda i, m, r, p: m.second_value),
     ("sd_used", lambda i, m, r, p: _sd_used(m)),
-    ("effect_input", lambda i, m, r, p: m.effect),
-    ("margin_input", lambda i, m, r, p: m.margin),
+    ("effect_input_rel_frac", lambda i, m, r, p: _entered(m, m.effect, True)),
+    ("effect_input_abs", lambda i, m, r, p: _entered(m, m.effect, False)),
+    ("margin_input_rel_frac", lambda i, m, r, p: _entered(m, m.margin, True)),
+    ("margin_input_abs", lambda i, m, r, p: _entered(m, m.margin, False)),
     ("relative_input", lambda i, m, r, p: m.relative),
     ("alternative", lambda i, m, r, p: m.alternative),
     ("alpha_override_frac", lambda i, m, r, p: m.alpha),
     ("power_override_frac", lambda i, m, r, p: m.power),
     ("cuped_rho", lambda i, m, r, p: m.rho),
-    ("cluster_size_units", lambda i, m, r, p: m.cluster_size),
+    ("cluster_size_units", lambda i, m, r, p: whole(m.cluster_size)),
     ("icc", lambda i, m, r, p: m.icc),
     ("cluster_cv", lambda i, m, r, p: m.cluster_cv),
     ("design_factor", lambda i, m, r, p: r.design_factor),
-    ("n_input_control_units", lambda i, m, r, p: m.n),
+    ("n_input_control_units", lambda i, m, r, p: whole(m.n)),
     ("solved", lambda i, m, r, p: r.solved),
     ("alpha_frac", lambda i, m, r, p: r.alpha),
     ("power_frac", lambda i, m, r, p: r.power),
+    ("power_at_duration_frac", lambda i, m, r, p: p.duration_powers[i]),
     ("effect_abs", lambda i, m, r, p: r.effect_abs),
     ("effect_rel_frac", lambda i, m, r, p: r.effect_rel),
-    ("units_control", lambda i, m, r, p: r.units_control),
-    ("units_treatment_per_arm", lambda i, m, r, p: r.units_treatment),
-    ("units_total", lambda i, m, r, p: r.units_total),
+    ("margin_abs", lambda i, m, r, p: r.margin_abs),
+    ("margin_rel_frac", lambda i, m, r, p: r.margin_rel),
+    ("units_control", lambda i, m, r, p: whole(r.units_control)),
+    ("units_treatment_per_arm", lambda i, m, r, p: whole(r.units_treatment)),
+    ("units_total", lambda i, m, r, p: whole(r.units_total)),
     ("days", lambda i, m, r, p: r.days),
-    ("units_max", lambda i, m, r, p: r.units_max),
-    ("units_expected_h1", lambda i, m, r, p: r.units_expected_h1),
+    ("units_max", lambda i, m, r, p: whole(r.units_max)),
+    ("units_expected_h1", lambda i, m, r, p: whole(r.units_expected_h1)),
     ("days_expected_h1", lambda i, m, r, p: r.days_expected_h1),
     ("look_days", lambda i, m, r, p: r.look_days),
     ("binding", lambda i, m, r, p: p.binding_index == i),
+    ("plan_status", lambda i, m, r, p: p.status),
     ("reason", lambda i, m, r, p: r.reason),
     ("notes", lambda i, m, r, p: m.notes),
 )
@@ -223,7 +264,7 @@ SETTINGS: tuple[tuple[str, str, Callable[[Any, Any], Any]], ...] = (
     ("treatment_ratio", "treatment units per control unit, each arm, as allocated",
      lambda s, p: treatment_ratio(s)),
     ("correction", "text", lambda s, p: s.correction),
-    ("daily_units", "units per day", lambda s, p: s.daily_units),
+    ("daily_units", "units per day", lambda s, p: whole(s.daily_units)),
     ("share", "fraction", lambda s, p: s.share),
     ("whole_weeks", "flag", lambda s, p: s.whole_weeks),
     ("runtime_days", "days", lambda s, p: s.runtime_days),
@@ -231,9 +272,10 @@ SETTINGS: tuple[tuple[str, str, Callable[[Any, Any], Any]], ...] = (
     ("spending", "text", lambda s, p: s.spending),
     ("futility", "flag", lambda s, p: s.futility),
     ("duration_days", "days", lambda s, p: p.duration_days),
-    ("total_units", "units", lambda s, p: p.total_units),
+    ("total_units", "units", lambda s, p: whole(p.total_units)),
     ("binding_row", "row number", lambda s, p: _row_number(p.binding_index)),
     ("binding_name", "text", lambda s, p: p.binding_name),
+    ("status", "text", lambda s, p: p.status),
 )
 
 
@@ -265,6 +307,8 @@ def settings_rows(plan, result) -> list[list[str]]:
     """The settings file as lists of cells, header ``key,value,unit`` first."""
     lines = [["key", "value", "unit"]]
     lines += [[key, cell(get(plan.settings, result)), unit] for key, unit, get in SETTINGS]
+    lines += [[f"incomplete_{k}", cell(f"row {item.index + 1} ({item.name}): {item.reason}"),
+               "text"] for k, item in enumerate(result.incomplete, 1)]
     lines += [[f"note_{i}", cell(note), "text"] for i, note in enumerate(result.notes, 1)]
     saving = equal_allocation_saving(plan, result)
     if saving is not None:
@@ -277,7 +321,7 @@ def settings_rows(plan, result) -> list[list[str]]:
 
 _LOOK_CELLS = (
     ("day", "days", lambda look: look.day),
-    ("units", "units", lambda look: look.units),
+    ("units", "units", lambda look: whole(look.units)),
     ("efficacy_z", "z", lambda look: look.z_efficacy),
     ("nominal_p", "p-value", lambda look: look.p_efficacy),
     ("futility_z", "z", lambda look: look.z_futility),

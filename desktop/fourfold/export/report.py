@@ -19,6 +19,7 @@ from fourfold.export.report_methods import (
     method_of,
     methods,
 )
+from fourfold.formatting import format_days
 from fourfold.plan import kinds
 from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
 from fourfold.plan.fields import CORRECTION_LABELS
@@ -67,17 +68,14 @@ def units(value) -> str:
 
 
 def days(value) -> str:
-    """Days to one decimal; whole days without one.
+    """Days as everywhere in Fourfold: whole days, rounded up.
 
     Examples
     --------
     >>> days(28.0), days(13.42), days(None)
-    ('28', '13.4', '—')
+    ('28', '14', '—')
     """
-    if not _finite(value):
-        return DASH
-    value = float(value)
-    return f"{value:,.0f}" if value == round(value) else f"{value:,.1f}"
+    return format_days(value if _finite(value) else None)
 
 
 def number(value, digits: int = 4) -> str:
@@ -235,6 +233,36 @@ def kind_inputs_table(plan) -> Table:
                  rows=tuple(rows), align=("r", "l", "l", "l", "r"))
 
 
+def both_ways(metric, value) -> str:
+    """An effect or margin (in the row's units) as entered, then the other way in brackets:
+    ``+10 % (+0.0018)`` for a relative row, ``+0.02 (+1.09 %)`` for an absolute one.
+
+    Examples
+    --------
+    >>> from fourfold.plan import Metric
+    >>> both_ways(Metric(kind="rate", baseline=0.018, relative=True), 0.1)
+    '+10 % (+0.0018)'
+    >>> both_ways(Metric(kind="mean", baseline=1.84, relative=False), 0.02)
+    '+0.02 (+1.09 %)'
+    """
+    if not _finite(value):
+        return DASH
+    if metric.relative:
+        return f"{effect_text(metric, value, relative=True)} (" \
+               f"{effect_text(metric, value * metric.baseline, relative=False)})"
+    other = value / metric.baseline if metric.baseline != 0 else math.nan
+    entered = effect_text(metric, value, relative=False)
+    return entered if not _finite(other) else f"{entered} ({percent(other, signed=True)})"
+
+
+def alpha_text(metric, alpha) -> str:
+    """α with its sidedness: ``0.025 (two-sided)``, ``0.05 (one-sided)``."""
+    if not _finite(alpha):
+        return DASH
+    sides = "two-sided" if metric.alternative == "two-sided" else "one-sided"
+    return f"{probability(alpha)} ({sides})"
+
+
 def alternative_text(metric) -> str:
     """The test's direction in words."""
     text = {"two-sided": "two-sided", "greater": "one-sided, >", "less": "one-sided, <"}
@@ -279,8 +307,23 @@ def duration_text(result) -> str:
 
 
 def summary(plan, result) -> list[tuple[str, str, str]]:
-    """The key figures at the top of the report: (label, value, a line of detail)."""
+    """The key figures at the top of the report: (label, value, a line of detail).
+
+    An incomplete plan's duration reads "incomplete" (:func:`incomplete_text` says why).
+    """
     s = plan.settings
+    treatment = "treatment arm" if s.arms == 1 else "treatment arms"
+    arms = ("Arms", f"{s.arms + 1} arms", f"control + {s.arms} {treatment}, "
+                                          f"split {split_text(s)}")
+    if result.incomplete:
+        rows = len(result.incomplete)
+        return [
+            ("Duration", "incomplete",
+             f"{rows} {'row' if rows == 1 else 'rows'} cannot be computed"),
+            ("Total units", DASH, "unknown while incomplete"),
+            ("Binding metric", DASH, "unknown while incomplete"),
+            arms,
+        ]
     if s.daily_units is None and s.runtime_days is None:
         duration_detail = "no daily traffic given"
     elif not _finite(result.duration_days):
@@ -298,14 +341,37 @@ def summary(plan, result) -> list[tuple[str, str, str]]:
         role = plan.metrics[result.binding_index].role
         binding = result.binding_name
         binding_detail = f"row {result.binding_index + 1}, {role}"
-    treatment = "treatment arm" if s.arms == 1 else "treatment arms"
     return [
         ("Duration", duration_text(result), duration_detail),
         ("Total units", units(result.total_units), "all arms together"),
         ("Binding metric", binding, binding_detail),
-        ("Arms", f"{s.arms + 1} arms", f"control + {s.arms} {treatment}, "
-                                         f"split {split_text(s)}"),
+        arms,
     ]
+
+
+def incomplete_text(result) -> str:
+    """Why an incomplete plan has no duration, naming each row ("" for a complete plan)."""
+    if not result.incomplete:
+        return ""
+    return ("Incomplete plan: it has no duration until every primary and guardrail row can be "
+            f"computed. Not computed: {result.incomplete_text()}.")
+
+
+def roles_text(plan) -> str:
+    """The rows by role: ``6 metric rows (1 primary, 3 secondaries, 2 guardrails)``.
+
+    Examples
+    --------
+    >>> from fourfold.plan import Metric, Plan
+    >>> roles_text(Plan(metrics=[Metric(role="guardrail"), Metric(role="guardrail")]))
+    '2 metric rows (2 guardrails)'
+    """
+    plurals = {"primary": "primaries", "secondary": "secondaries", "guardrail": "guardrails"}
+    counts = {role: sum(1 for m in plan.metrics if m.role == role) for role in ROLE_ORDER}
+    parts = [f"{count} {role if count == 1 else plurals[role]}"
+             for role, count in counts.items() if count]
+    rows = "metric row" if len(plan.metrics) == 1 else "metric rows"
+    return f"{len(plan.metrics)} {rows} ({', '.join(parts)})" if parts else f"0 {rows}"
 
 
 def assumptions(plan) -> list[tuple[str, str]]:
@@ -392,41 +458,61 @@ def inputs_table(plan) -> Table:
     )
 
 
-_SOLVED_COLUMN = {"sample_size": 6, "detectable_effect": 2, "power": 5, "significance_level": 4}
+_SOLVED_COLUMNS = {"detectable_effect": 2, "detectable_margin": 3, "power": 5,
+                   "significance_level": 4}
+
+
+def _marked(result) -> frozenset[int]:
+    return frozenset() if result.binding_index is None else frozenset({result.binding_index})
 
 
 def results_table(plan, result) -> Table:
-    """The computed rows: effect, α, power, units and days; the solved cell in bold."""
+    """What each row tests and reaches: effect and margin (both ways), α with its sides, power
+    (given or solved) and power at the plan's duration; the solved cell in bold.
+
+    A margin row's margin is the one it was computed with: its own, or the tightest it rules
+    out when it solves for what it can detect (``solved == "detectable_margin"``).
+    """
     rows = []
     bold = set()
+    powers = result.duration_powers or (math.nan,) * len(result.rows)
     for index, (m, r) in enumerate(zip(plan.metrics, result.rows, strict=True)):
-        absolute = effect_text(m, r.effect_abs, relative=False)
+        effect = r.effect_rel if m.relative else r.effect_abs
+        margin = r.margin_rel if m.relative else r.margin_abs
         rows.append((
             str(index + 1),
             m.name,
-            absolute,
-            percent(r.effect_rel, signed=True),
-            probability(r.alpha),
+            both_ways(m, effect),
+            DASH if margin == 0 else both_ways(m, margin),
+            alpha_text(m, r.alpha),
             probability(r.power),
-            units(r.units_control),
-            units(r.units_treatment),
-            units(r.units_total),
-            days(r.days),
+            probability(powers[index]),
             r.reason,
         ))
-        column = _SOLVED_COLUMN.get(r.solved)
-        if column is not None and not r.reason:
-            bold.add((index, column))
-            if column == 6:
-                bold.update({(index, 7), (index, 8)})
-    marked = frozenset() if result.binding_index is None else frozenset({result.binding_index})
-    header = ("#", "Metric", "Effect", "Effect, relative", "α", "Power", "Control units",
-              "Units per treatment arm", "Total units", "Days", "Why not computed")
-    align = ("r", "l", "r", "r", "r", "r", "r", "r", "r", "r", "l")
+        if not r.reason and r.solved in _SOLVED_COLUMNS:
+            bold.add((index, _SOLVED_COLUMNS[r.solved]))
+    header = ("#", "Metric", "Effect", "H0 margin", "α", "Power", "Power at duration",
+              "Why not computed")
+    align = ("r", "l", "r", "r", "r", "r", "r", "l")
     if not any(r.reason for r in result.rows):
         header, align, rows = header[:-1], align[:-1], [row[:-1] for row in rows]
     return Table(header=header, rows=tuple(rows), align=align, bold=frozenset(bold),
-                 marked=marked)
+                 marked=_marked(result))
+
+
+def units_table(plan, result) -> Table:
+    """The units and days of each row; in bold where the row solves for its sample size."""
+    rows = []
+    bold = set()
+    for index, (m, r) in enumerate(zip(plan.metrics, result.rows, strict=True)):
+        rows.append((str(index + 1), m.name, units(r.units_control), units(r.units_treatment),
+                     units(r.units_total), days(r.days)))
+        if not r.reason and r.solved == "sample_size":
+            bold.update({(index, 2), (index, 3), (index, 4)})
+    return Table(header=("#", "Metric", "Control units", "Units per treatment arm",
+                         "Total units", "Days"),
+                 rows=tuple(rows), align=("r", "l", "r", "r", "r", "r"), bold=frozenset(bold),
+                 marked=_marked(result))
 
 
 def sequential_table(plan, result) -> Table | None:

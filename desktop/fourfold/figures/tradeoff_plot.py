@@ -21,7 +21,7 @@ from fourfold.figures.axes import CompactAxis
 from fourfold.figures.layer import SERIES, SeriesLayer, Swatch
 from fourfold.figures.placement import first_clear, place_line_label, text_box
 from fourfold.figures.style import Style
-from fourfold.formatting import format_count, format_number
+from fourfold.formatting import format_count, format_days, format_number
 from fourfold.plan.tradeoffs import Figure
 
 TICK_POINTS = 9.0
@@ -69,7 +69,7 @@ def _point_text(figure: Figure, unit: str) -> str:
     x, y = figure.point
     if figure.name == "runtime":
         effect = format_number(y, signed=True) + (f" {unit}" if unit else "")
-        return f"{effect} needs {format_number(x)} d"
+        return f"{effect} needs {format_days(x)} d"
     return format_count(y)
 
 

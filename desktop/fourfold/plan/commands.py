@@ -37,6 +37,7 @@ from fourfold.plan.fields import (
 )
 from fourfold.plan.kinds import guardrail_direction
 from fourfold.plan.model import Metric, Plan, new_row_id
+from fourfold.plan.rules import check_edits, check_setting
 
 CHANGE_KINDS = ("cells", "rows_inserted", "rows_removed", "rows_moved", "rows_reordered",
                 "settings", "scenario", "reset")
@@ -215,6 +216,7 @@ class SetFields(Command):
         count = len(plan.metrics)
         added = [validate_metric(metric) for metric in self.append]  # fresh copies each time
         new = self._planned(plan, plan.metrics + added)
+        check_edits(plan, added, new, {(row, field) for row, field, _ in self.edits})
         self._ids = _identified(plan, added, self._ids)
         self._count = count
         self._old = {key: getattr(plan.metrics[key[0]], key[1]) for key in new
@@ -306,6 +308,7 @@ class SetSetting(Command):
         if self.field not in SETTINGS_FIELDS:
             raise PlanError(f"unknown setting {self.field!r}", self.field)
         value = validate_field(self.field, self.value, settings=True)
+        check_setting(plan, self.field, value)
         self._old = getattr(plan.settings, self.field)
         setattr(plan.settings, self.field, value)
         return Change("settings", fields=(self.field,))

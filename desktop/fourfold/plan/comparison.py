@@ -89,8 +89,7 @@ def complete(plan: Plan, result: PlanResult) -> bool:
     >>> complete(plan, compute(plan))
     False
     """
-    return all(not row.reason for metric, row in zip(plan.metrics, result.rows, strict=True)
-               if metric.role in DECIDING_ROLES)
+    return not result.incomplete
 
 
 @dataclass

@@ -21,7 +21,21 @@ Units from a runtime
     With ``settings.runtime_days`` set, every row gets the control units the runtime provides,
     ``runtime_days × daily_units × share / (1 + arms × ratio)``, and rows that would solve for
     sample size solve for the detectable effect instead. Without a runtime, rows that solve for
-    detectable effect, power or α use their own ``n``.
+    detectable effect, power or α use their own ``n``, or, without one, the control units of
+    the plan's duration (``duration_days × daily_units × share / (1 + arms × ratio)``; without
+    daily units the binding row's control units), and take that duration as their days.
+Margin rows
+    A one-sided row with a margin (:func:`fourfold.plan.rules.is_margin_row`: a guardrail, a
+    non-inferiority or superiority-by-margin test) is about its margin: its effect is the true
+    difference assumed (usually 0), and where another row would solve for the detectable
+    effect it solves for the tightest margin it rules out
+    (:func:`fourfold.engine.detectable_margin`; ``solved == "detectable_margin"``). Every row
+    reports the margin it was computed with in ``margin_abs`` and ``margin_rel``.
+Power at the plan's duration
+    Every computed row of a complete plan gets the power of its test — its α, its effect
+    (given or solved) and margin (given or solved) — with the control units of the plan's
+    duration (a fixed runtime's, or the binding row's whole days or weeks of traffic), in
+    ``PlanResult.duration_powers``: a secondary row's real chance in the test as planned.
 Rounding
     Unit counts are rounded up to whole units: control ``ceil(n)``, each treatment arm
     ``ceil(ratio × control)``, total ``control + arms × treatment``; days come from
@@ -32,6 +46,14 @@ Binding metric
     ``total_units``. Secondary rows are informational (a note names those that would need
     more). In runtime mode nothing binds; the duration is the runtime and the total is the
     traffic it brings.
+Incomplete plans
+    A plan in which a primary or guardrail row cannot be computed is *incomplete*: such a row
+    might need longer than every other, so the plan has no duration, total units or binding
+    metric (``None``), even with a fixed runtime, and ``PlanResult.incomplete`` names each
+    such row with its reason. A secondary row that cannot be computed leaves the plan
+    complete (a note names it). A plan file whose rows break the rules of
+    :mod:`fourfold.plan.rules` (written by hand, say) is loaded as it is and evaluated this
+    way, so that it can be opened and mended.
 Interim looks
     With ``settings.looks > 1`` every row's units and days are the maximum of its group
     sequential design (:mod:`fourfold.plan.sequential`): the fixed design's units times the
@@ -60,15 +82,21 @@ import dataclasses
 import math
 import operator
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
-import numpy as np
-
-from fourfold import engine
 from fourfold.plan import kinds, sequential
 from fourfold.plan.arms import row_alphas, treatment_ratio
-from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS
-from fourfold.plan.model import Metric, Plan, Settings
+from fourfold.plan.fields import CORRECTION_LABELS, METRIC_FIELDS, SETTINGS_FIELDS
+from fourfold.plan.model import Plan
+from fourfold.plan.results import PlanResult, RowResult, Unfinished
+from fourfold.plan.rows import (
+    AtDuration,
+    powers_at,
+    runtime_units,
+    solve_rows,
+    waits_for_duration,
+    without_duration,
+)
 
 if TYPE_CHECKING:
     import pandas
@@ -84,78 +112,8 @@ _ROW_KEY = operator.attrgetter(*_ROW_INPUTS)
 
 _SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
 
-
-@dataclass(frozen=True)
-class RowResult:
-    """The evaluation of one metric row (``nan`` where it cannot be computed).
-
-    Attributes
-    ----------
-    units_control, units_treatment, units_total : float
-        Whole units: the control arm, each treatment arm, all arms together.
-    days : float
-        Days of traffic for ``units_total`` (``nan`` without daily units).
-    effect_abs, effect_rel : float
-        The effect (given or solved) as a difference and as a fraction of the baseline.
-    power, alpha : float
-        Power and significance level of the row (given, corrected or solved).
-    reason : str
-        Why the row cannot be computed; ``""`` when it can.
-    solved : str
-        The quantity computed: ``"sample_size"``, ``"detectable_effect"``, ``"power"`` or
-        ``"significance_level"``.
-    design_factor : float
-        The variance factor applied to the row's units.
-    units_max, units_expected_h1, days_expected_h1 : float
-        With interim looks: the maximum total units, the expected total units and days when the
-        effect is real. Equal to ``units_total`` / ``days`` for a fixed design.
-    look_days : tuple of float or None
-        Day of each interim look; ``None`` for a fixed design.
-    """
-
-    units_control: float
-    units_treatment: float
-    units_total: float
-    days: float
-    effect_abs: float
-    effect_rel: float
-    power: float
-    alpha: float
-    reason: str
-    solved: str
-    design_factor: float
-    units_max: float
-    units_expected_h1: float
-    days_expected_h1: float
-    look_days: tuple[float, ...] | None
-
-
-@dataclass(frozen=True)
-class PlanResult:
-    """The evaluation of a plan.
-
-    Attributes
-    ----------
-    rows : tuple of RowResult
-        One per metric row, in the plan's order.
-    duration_days : float or None
-        Days the test runs (the binding row's, or the runtime); ``None`` when nothing decides.
-    total_units : float or None
-        Units the test needs over all arms (the binding row's, or the runtime's traffic).
-    binding_index : int or None
-        Index of the binding metric row.
-    binding_name : str or None
-        Its name.
-    notes : tuple of str
-        Plain-language remarks on how the plan was evaluated.
-    """
-
-    rows: tuple[RowResult, ...]
-    duration_days: float | None
-    total_units: float | None
-    binding_index: int | None
-    binding_name: str | None
-    notes: tuple[str, ...]
+__all__ = ["PlanResult", "RowCache", "RowResult", "Unfinished", "compute", "evaluate",
+           "runtime_units"]
 
 
 @dataclass
@@ -186,124 +144,8 @@ class RowCache:
     """The latest evaluation's row results, in the plan's order."""
     uses: dict = field(default_factory=dict)
     """How many rows of the latest evaluation have each key of ``rows``."""
-
-
-def _ceil(value: float) -> float:
-    """Round up to a whole number, forgiving floating-point dust just above an integer."""
-    if not math.isfinite(value):
-        return math.nan
-    return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
-
-
-def runtime_units(settings: Settings) -> float | None:
-    """Control-arm units a fixed runtime provides, or ``None`` without runtime or traffic.
-
-    Examples
-    --------
-    >>> runtime_units(Settings(runtime_days=14, daily_units=30_000, share=0.5, arms=2))
-    70000.0
-    """
-    if settings.runtime_days is None or settings.daily_units is None:
-        return None
-    return (settings.runtime_days * settings.daily_units * settings.share
-            / (1.0 + settings.arms * treatment_ratio(settings)))
-
-
-def _failed(solved: str, factor: float, alpha: float, power: float, reason: str) -> RowResult:
-    nan = math.nan
-    return RowResult(nan, nan, nan, nan, nan, nan, power, alpha, reason, solved, factor,
-                     nan, nan, nan, None)
-
-
-@dataclass(frozen=True)
-class _Pending:
-    """A row that passed the plan-level checks and waits for its group's engine call."""
-
-    solved: str
-    alpha: float
-    power: float
-    factor: float
-    staged: Any
-    n_control: float | None
-    n_effective: float | None
-
-
-def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float,
-                 designs: dict) -> RowResult | _Pending:
-    """The plan-level checks of a row: a failed :class:`RowResult` or what the engine needs."""
-    settings = plan.settings
-    runtime = settings.runtime_days is not None
-    solved = "detectable_effect" if runtime and metric.solve == "sample_size" else metric.solve
-    power = settings.power if metric.power is None else metric.power
-    shown_alpha = math.nan if solved == "significance_level" else alpha
-    shown_power = math.nan if solved == "power" else power
-
-    n_control = None
-    if solved != "sample_size":
-        n_control = runtime_units(settings) if runtime else metric.n
-        if n_control is None:
-            why = ("a fixed runtime needs the plan's daily units" if runtime else
-                   "needs n (control units) or a plan runtime to solve for "
-                   + solved.replace("_", " "))
-            return _failed(solved, factor, shown_alpha, shown_power, why)
-    try:
-        staged = sequential.row_design(settings, alpha, power, metric.alternative, designs)
-    except ValueError as error:
-        return _failed(solved, factor, shown_alpha, shown_power, str(error))
-    if staged is not None and solved == "significance_level":
-        return _failed(solved, factor, shown_alpha, shown_power, sequential.NO_ALPHA_SOLVE)
-    if solved != "detectable_effect" and metric.effect is None:
-        return _failed(solved, factor, shown_alpha, shown_power,
-                       "needs an effect to solve for " + solved.replace("_", " "))
-    n_effective = None if n_control is None else n_control / factor
-    return _Pending(solved, alpha, power, factor, staged, n_control, n_effective)
-
-
-def _column(values: list, dtype: type = float) -> np.ndarray:
-    return np.array(values, dtype=dtype)
-
-
-def _solve_group(plan: Plan, key: tuple, members: list[int],
-                 pending: dict[int, _Pending]) -> tuple[np.ndarray, np.ndarray]:
-    """One engine call for rows sharing kind, method, alternative, solve and sd-or-not.
-
-    Returns the solved values and the reasons, in the order of ``members``; the reasons are
-    those :func:`fourfold.engine.problems` gives for each row's own inputs.
-    """
-    kind, method, alternative, solved, has_sd = key
-    metrics = [plan.metrics[index] for index in members]
-    rows = [pending[index] for index in members]
-    baseline = _column([metric.baseline for metric in metrics])
-    alpha = _column([row.alpha for row in rows])
-    power = _column([row.power for row in rows])
-    sd, own = kinds.unit_sds(metrics)  # a ratio's or quantile's sd, from its own inputs
-    common = dict(
-        sd=None if sd is None else np.where(own == "", sd, 1.0), alternative=alternative,
-        ratio=treatment_ratio(plan.settings), method=method,
-        relative=_column([metric.relative for metric in metrics], bool),
-        margin=_column([metric.margin for metric in metrics]),
-    )
-    values, reasons = _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common)
-    return np.where(own == "", values, np.nan), np.where(own == "", reasons, own)
-
-
-def _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common):
-    """The engine's values and reasons for a group (see :func:`_solve_group`)."""
-    if solved == "detectable_effect":
-        n_effective = _column([row.n_effective for row in rows])
-        inflation = _column([sequential.inflation(row.staged) for row in rows])
-        values, reasons = engine.values_and_reasons(solved, kind, baseline,
-                                                    n=n_effective / inflation, alpha=alpha,
-                                                    power=power, **common)
-        if np.any(inflation != 1.0):
-            first = engine.problems(solved, kind, baseline, n=n_effective, alpha=alpha,
-                                    power=power, **common)
-            reasons = np.where(first != "", first, reasons)
-        return values, reasons
-    effect = _column([metric.effect for metric in metrics])
-    n_effective = None if solved == "sample_size" else _column([row.n_effective for row in rows])
-    return engine.values_and_reasons(solved, kind, baseline, effect=effect, n=n_effective,
-                                     alpha=alpha, power=power, **common)
+    powers: dict = field(default_factory=dict)
+    """The latest evaluation's powers at the plan's duration by (row key, units)."""
 
 
 def _evaluate_rows(plan: Plan, designs: dict,
@@ -333,7 +175,7 @@ def _evaluate_rows(plan: Plan, designs: dict,
             if results[index] is None:
                 missing.append(index)
     if missing:
-        _solve_rows(plan, designs, alphas, missing, results)
+        solve_rows(plan, designs, alphas, missing, results)
     if keys is not None:
         _remember(cache, keys, changed, results)
     return tuple(results)
@@ -360,98 +202,6 @@ def _remember(cache: RowCache, keys: list, changed, results: list) -> None:
         results[index] = cache.rows.setdefault(key, results[index])
         cache.uses[key] = cache.uses.get(key, 0) + 1
     cache.keys, cache.results = keys, tuple(results)
-
-
-def _solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int],
-                results: list) -> None:
-    """Fill ``results`` at the ``missing`` rows: one engine call per group of rows."""
-    settings = plan.settings
-    metrics = plan.metrics
-    todo = [metrics[index] for index in missing]
-    factors = engine.variance_factor(
-        _column([metric.rho for metric in todo]),
-        _column([metric.cluster_size for metric in todo]),
-        _column([metric.icc for metric in todo]),
-        _column([metric.cluster_cv for metric in todo]),
-    )
-    pending: dict[int, _Pending] = {}
-    groups: dict[tuple, list[int]] = {}
-    for index, metric, factor in zip(missing, todo, factors.tolist(), strict=True):
-        prepared = _prepare_row(plan, metric, alphas[index], factor, designs)
-        if isinstance(prepared, RowResult):
-            results[index] = prepared
-            continue
-        pending[index] = prepared
-        key = (metric.kind, metric.method, metric.alternative, prepared.solved,
-               kinds.has_sd(metric))
-        groups.setdefault(key, []).append(index)
-
-    solved_rows = []
-    for key, members in groups.items():
-        values, reasons = _solve_group(plan, key, members, pending)
-        for index, value, reason in zip(members, values.tolist(), reasons.tolist(),
-                                        strict=True):
-            row = pending[index]
-            outcome = _solved_row(plan.metrics[index], row, value, str(reason), settings)
-            if isinstance(outcome, RowResult):
-                results[index] = outcome
-            else:
-                solved_rows.append((index, outcome))
-
-    if solved_rows:
-        _finish_rows(settings, solved_rows, pending, results)
-
-
-def _finish_rows(settings: Settings, solved_rows: list, pending: dict[int, _Pending],
-                 results: list) -> None:
-    """Days (one engine call for all rows) and the sequential fields of the solved rows."""
-    totals = _column([outcome[2] for _, outcome in solved_rows])
-    if settings.runtime_days is not None:
-        days = [float(settings.runtime_days)] * len(solved_rows)
-    elif settings.daily_units is None:
-        days = [math.nan] * len(solved_rows)
-    else:
-        days = engine.duration_days(totals, settings.daily_units, settings.share,
-                                    settings.whole_weeks).tolist()
-    for (index, outcome), day in zip(solved_rows, days, strict=True):
-        row = pending[index]
-        units_total = outcome[2]
-        results[index] = RowResult(*outcome[:3], day, *outcome[3:], "", row.solved, row.factor,
-                                   *sequential.row_fields(row.staged, units_total, day))
-
-
-def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
-                settings: Settings) -> RowResult | tuple:
-    """A failed :class:`RowResult`, or the row's units, effect, power and α (days to come)."""
-    solved, factor = row.solved, row.factor
-    shown_alpha = math.nan if solved == "significance_level" else row.alpha
-    shown_power = math.nan if solved == "power" else row.power
-    if reason:
-        return _failed(solved, factor, shown_alpha, shown_power, reason)
-    n_control, effect, power, alpha = row.n_control, metric.effect, row.power, row.alpha
-    if solved == "sample_size":
-        n_control = value * (factor * sequential.inflation(row.staged))
-    elif solved == "detectable_effect":
-        effect = value
-    elif solved == "power":
-        power = value
-        if row.staged is not None:
-            power = sequential.power_of(row.staged, power)
-    else:
-        alpha = value
-    if not all(math.isfinite(number) for number in (n_control, effect, power, alpha)):
-        return _failed(solved, factor, shown_alpha, shown_power,
-                       f"the engine found no finite {solved.replace('_', ' ')} for this row")
-    if metric.relative:
-        effect_abs, effect_rel = effect * metric.baseline, effect
-    else:
-        effect_abs = effect
-        effect_rel = effect / metric.baseline if metric.baseline != 0 else math.nan
-    units_control = _ceil(n_control)
-    units_treatment = _ceil(treatment_ratio(settings) * units_control)
-    units_total = units_control + settings.arms * units_treatment
-    return (units_control, units_treatment, units_total, float(effect_abs), float(effect_rel),
-            power, alpha)
 
 
 def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
@@ -487,39 +237,119 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
         settings = tuple(getattr(plan.settings, name) for name in _SETTINGS_INPUTS)
         if settings != cache.settings:
             cache.settings, cache.rows, cache.designs = settings, {}, {}
-            cache.keys, cache.results, cache.uses = [], (), {}
+            cache.keys, cache.results, cache.uses, cache.powers = [], (), {}, {}
         designs = cache.designs
-    return _summarise(plan, _evaluate_rows(plan, designs, cache), designs)
+    rows = list(_evaluate_rows(plan, designs, cache))
+    waiting = frozenset(index for index, metric in enumerate(plan.metrics)
+                        if waits_for_duration(plan.settings, metric))
+    result = _summarise(plan, tuple(rows), designs, waiting)
+    at = _at_duration(plan, result)
+    if waiting:
+        result = _solve_waiting(plan, rows, designs, sorted(waiting), result, at)
+        at = at if result.status == "complete" else None
+    powers = (math.nan,) * len(rows)
+    if at is not None and rows:
+        powers = _duration_powers(plan, result.rows, at, designs, cache)
+    return dataclasses.replace(result, duration_powers=powers)
 
 
-def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = None) -> PlanResult:
+def _at_duration(plan: Plan, result: PlanResult) -> AtDuration | None:
+    """The control units and days the plan's duration brings (``None``: no duration)."""
+    settings = plan.settings
+    if result.incomplete:
+        return None
+    if settings.runtime_days is not None:
+        units = runtime_units(settings)
+        return None if units is None else AtDuration(units, float(settings.runtime_days))
+    if result.binding_index is None:
+        return None
+    if result.duration_days is None:  # no traffic: the binding row's units, no days
+        return AtDuration(result.rows[result.binding_index].units_control, math.nan)
+    days = result.duration_days
+    return AtDuration(runtime_units(dataclasses.replace(settings, runtime_days=days)), days)
+
+
+def _solve_waiting(plan: Plan, rows: list, designs: dict, waiting: list[int],
+                   result: PlanResult, at: AtDuration | None) -> PlanResult:
+    """Solve the rows without units of their own at the plan's duration, then summarise.
+
+    Without a duration they stay not computed; when one of them leaves the plan incomplete,
+    the others lose the duration they were solved at too.
+    """
+    if at is not None:
+        solve_rows(plan, designs, row_alphas(plan), waiting, rows, at)
+    elif result.incomplete:
+        for index in waiting:
+            rows[index] = without_duration(rows[index])
+    final = _summarise(plan, tuple(rows), designs)
+    if at is not None and final.incomplete:
+        for index in waiting:
+            if not rows[index].reason:
+                rows[index] = without_duration(rows[index])
+        final = _summarise(plan, tuple(rows), designs)
+    return final
+
+
+def _duration_powers(plan: Plan, rows: tuple[RowResult, ...], at: AtDuration, designs: dict,
+                     cache: RowCache | None) -> tuple[float, ...]:
+    """Each row's power at the plan's duration, from the cache where its inputs and the
+    duration's units are unchanged."""
+    keys = cache.keys if cache is not None and len(cache.keys) == len(rows) else None
+    known = {} if keys is None else cache.powers
+    powers = [known.get((keys[index], at.units)) if keys is not None else None
+              for index in range(len(rows))]
+    missing = [index for index, power in enumerate(powers) if power is None]
+    if missing:
+        for index, power in zip(missing, powers_at(plan, rows, missing, at, designs),
+                                strict=True):
+            powers[index] = power
+    if keys is not None:
+        cache.powers = {(key, at.units): power for key, power in zip(keys, powers, strict=True)}
+    return tuple(powers)
+
+
+def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = None,
+               waiting: frozenset[int] = frozenset()) -> PlanResult:
+    """The plan-level results; rows in ``waiting`` (still to be solved at the plan's duration)
+    neither count as not computed nor get a note."""
     settings = plan.settings
     notes = []
     if settings.correction != "none":
         primaries = sum(1 for metric in plan.metrics if metric.role == "primary")
-        notes.append(
-            f"α corrected ({settings.correction}): primary rows for {settings.arms} arm(s) × "
-            f"{primaries} primary metric(s), other rows for {settings.arms} arm(s)"
-            + (" (Dunnett's critical value over the arms, Bonferroni over the metrics)."
-               if settings.correction == "dunnett" else ".")
-        )
+        arms = f"{settings.arms} {'arm' if settings.arms == 1 else 'arms'}"
+        metrics = f"{primaries} primary {'metric' if primaries == 1 else 'metrics'}"
+        dunnett = (" (Dunnett's critical value over the arms, Bonferroni over the metrics)"
+                   if settings.correction == "dunnett" else "")
+        notes.append(f"α corrected ({CORRECTION_LABELS[settings.correction]}): primary rows for "
+                     f"{arms} × {metrics}, other rows for {arms}{dunnett}.")
     notes.extend(sequential.plan_notes(plan, rows, designs))
     notes.extend(kinds.tail_notes(plan.metrics, rows))
     deciding, secondary = [], []  # computed rows that solve for sample size, by role
+    unfinished = []
     for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True)):
+        if index in waiting:
+            continue
         if row.reason:
             notes.append(f"{metric.name}: not computed — {row.reason}.")
+            if metric.role in DECIDING_ROLES:
+                unfinished.append(Unfinished(index, metric.name, row.reason))
         elif row.solved == "sample_size":
             if metric.role in DECIDING_ROLES:
                 deciding.append(index)
             elif metric.role == "secondary":
                 secondary.append(index)
+    if unfinished:
+        roles = "primary or guardrail row" if len(unfinished) == 1 else "primary or guardrail rows"
+        notes.insert(0, f"Incomplete plan: {len(unfinished)} {roles} cannot be computed, so the "
+                        "plan has no duration until they can.")
+        return PlanResult(rows, None, None, None, None, tuple(notes), tuple(unfinished))
 
     if settings.runtime_days is not None:
         units = runtime_units(settings)
         if any(metric.solve == "sample_size" for metric in plan.metrics):
             notes.append(f"Fixed runtime of {settings.runtime_days:g} days: rows that solve for "
-                         "sample size show the effect they can detect instead.")
+                         "sample size show the effect they can detect instead (a margin row: "
+                         "the tightest margin it rules out).")
         total = None if units is None else units * (1.0 + settings.arms
                                                     * treatment_ratio(settings))
         return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
@@ -556,8 +386,11 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
 
     Inputs keep their field names, except the row overrides of α and power, which are
     ``alpha_override`` and ``power_override``; ``alpha`` and ``power`` are the values the row
-    was evaluated at (or solved). The plan-level results and the settings are in ``df.attrs``
-    (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``, ``notes``,
+    was evaluated at (or solved), ``power_at_duration`` its power at the plan's duration
+    (:attr:`PlanResult.duration_powers`). The plan-level results and the settings are in
+    ``df.attrs`` (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``,
+    ``notes``, ``status`` — ``"complete"`` or ``"incomplete"`` —, ``incomplete`` — one dict of
+    ``index``, ``name`` and ``reason`` per deciding row that cannot be computed — and
     ``settings``).
 
     Examples
@@ -577,9 +410,11 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
                   for name in METRIC_FIELDS if name != "simulation"}
         record.update(dataclasses.asdict(row))
         record["binding"] = index == result.binding_index
+        record["power_at_duration"] = result.duration_powers[index]
         records.append(record)
     columns = [renamed.get(name, name) for name in METRIC_FIELDS if name != "simulation"]
-    columns += [field.name for field in dataclasses.fields(RowResult)] + ["binding"]
+    columns += [field.name for field in dataclasses.fields(RowResult)]
+    columns += ["binding", "power_at_duration"]
     frame = pandas.DataFrame.from_records(records, columns=columns)
     frame.attrs.update(
         duration_days=result.duration_days,
@@ -587,6 +422,8 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
         binding_index=result.binding_index,
         binding_name=result.binding_name,
         notes=list(result.notes),
+        status=result.status,
+        incomplete=[dataclasses.asdict(item) for item in result.incomplete],
         settings={name: getattr(plan.settings, name) for name in SETTINGS_FIELDS},
     )
     return frame

@@ -51,6 +51,7 @@ SETTINGS_FIELDS = tuple(f.name for f in dataclasses.fields(Settings))
 MAX_ARMS = 20
 MAX_LOOKS = 20
 MAX_TEXT = 200
+MAX_DAYS = 3650
 MAX_UNIT = 20
 
 
@@ -115,6 +116,17 @@ def _integer(low: int, high: int) -> Callable[[str, Any], int]:
         return int(number)
 
     return check
+
+
+def _whole_days(field: str, value: Any) -> float | None:
+    """A whole number of days from 1 to MAX_DAYS, or empty (days are counted whole everywhere)."""
+    if value is None:
+        return None
+    number = _number(field, value)
+    if number != int(number) or not 1 <= number <= MAX_DAYS:
+        raise PlanError(f"{field} must be a whole number of days from 1 to {MAX_DAYS}, or empty; "
+                        f"got {number:g}", field)
+    return number
 
 
 def _choice(choices: tuple[str, ...]) -> Callable[[str, Any], str]:
@@ -231,7 +243,7 @@ _SETTINGS_RULES: dict[str, Callable[[str, Any], Any]] = {
     "daily_units": _ranged(0.0, None, optional=True),
     "share": _ranged(0.0, 1.0, high_open=False),
     "whole_weeks": _flag,
-    "runtime_days": _ranged(0.0, None, optional=True),
+    "runtime_days": _whole_days,
     "looks": _integer(1, MAX_LOOKS),
     "spending": _choice(SPENDING),
     "futility": _flag,

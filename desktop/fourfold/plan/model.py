@@ -57,8 +57,8 @@ class Settings:
     whole_weeks : bool
         Round durations up to whole weeks (weekday effects).
     runtime_days : float or None
-        Fixed runtime: when set, rows solve for detectable effect or power from the units the
-        runtime provides instead of for sample size.
+        Fixed runtime, a whole number of days: when set, rows solve for detectable effect or
+        power from the units the runtime provides instead of for sample size.
     looks, spending, futility
         Interim looks of a group-sequential design (``looks=1`` is a fixed design), the α
         spending function and whether a futility bound is used.

@@ -4,8 +4,13 @@ With ``settings.looks > 1`` a row's units are the *maximum* the test may need: t
 design's units times the design's inflation factor. Rows that start from a number of units
 (a runtime, or their own ``n``) treat it as the maximum, so they detect the effect a fixed
 design of ``n / inflation`` units detects, or reach the power of the boundaries at that size.
-Looks fall at equal shares of the maximum, hence on equally spaced days; expected units and
-days are those if the planned effect is real (H1), stopping at the first crossing.
+Looks fall at equal shares of the maximum, hence on equally spaced days, except in a plan that
+runs in whole weeks: there every look falls at the end of a week (:func:`week_timing`) and the
+boundaries are those of the design at those information fractions, a row's maximum units being
+the fixed design's units times that design's inflation (solved together with the row's weeks,
+which the inflation may lengthen). A run with fewer whole weeks than looks keeps equal spacing.
+Expected units and days are those if the planned effect is real (H1), stopping at the first
+crossing.
 
 The design of a row uses its α (after correction) and power, its direction and the plan's
 spending family; a futility bound uses the Lan–DeMets family of the same shape (the classic
@@ -41,12 +46,40 @@ NO_ALPHA_SOLVE = ("with interim looks the significance level cannot be solved fo
                   "to 1 or solve for power")
 
 
+def week_timing(settings, days: float) -> tuple[float, ...] | None:
+    """Information fractions of looks at week ends in a run of ``days`` days, or ``None``.
+
+    ``None`` (equal spacing) unless the plan has interim looks and runs in whole weeks, and the
+    run holds at least as many whole weeks as looks. Interim look k of K falls at the end of
+    week ⌈k·W/K⌉ of the run's W whole weeks, the last look at its end; traffic is constant, so
+    a look's share of the days is its share of the units.
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Settings
+    >>> week_timing(Settings(looks=3, whole_weeks=True), 28.0)
+    (0.5, 0.75, 1.0)
+    >>> week_timing(Settings(looks=3, whole_weeks=True), 14.0) is None  # 2 weeks, 3 looks
+    True
+    """
+    if settings.looks <= 1 or not settings.whole_weeks or not math.isfinite(days):
+        return None
+    weeks = int(math.floor(days / 7.0 + 1e-9))
+    if weeks < settings.looks:
+        return None
+    looks = settings.looks
+    ends = [7.0 * math.ceil(k * weeks / looks - 1e-9) / days for k in range(1, looks)]
+    return (*ends, 1.0)
+
+
 def row_design(settings, alpha: float, power: float, alternative: str,
-               designs: dict | None = None) -> SequentialDesign | None:
+               designs: dict | None = None, days: float = math.nan) -> SequentialDesign | None:
     """The group sequential design of a row, or ``None`` for a fixed design (one look).
 
     ``designs`` may be a dict the caller keeps for one evaluation, so that rows sharing α,
-    power and sidedness share one design ("greater" and "less" have the same boundaries).
+    power, sidedness and the timing of their looks share one design ("greater" and "less"
+    have the same boundaries). ``days`` is the row's run, for looks at week ends
+    (:func:`week_timing`).
 
     Raises
     ------
@@ -64,12 +97,13 @@ def row_design(settings, alpha: float, power: float, alternative: str,
     """
     if settings.looks <= 1:
         return None
-    key = (float(alpha), float(power), alternative == "two-sided")
+    timing = week_timing(settings, days)
+    key = (float(alpha), float(power), alternative == "two-sided", timing)
     if designs is not None and key in designs:
         return designs[key]
     made = sequential.design(
         settings.looks, alpha=alpha, power=power, alternative=alternative,
-        spending=settings.spending,
+        spending=settings.spending, timing=timing,
         futility=FUTILITY_FAMILY[settings.spending] if settings.futility else None,
     )
     if designs is not None:
@@ -129,7 +163,7 @@ def row_fields(made: SequentialDesign | None, units_total: float,
     share = made.expected_h1 / made.inflation
     expected_units = _ceil(units_total * share) if math.isfinite(units_total) else math.nan
     looks = look_days(made, days)
-    expected_days = math.nan if looks is None else float(np.dot(made.stop_h1, looks))
+    expected_days = math.nan if looks is None else _ceil(float(np.dot(made.stop_h1, looks)))
     return units_total, expected_units, expected_days, looks
 
 
@@ -170,6 +204,13 @@ def plan_notes(plan, rows, designs: dict | None = None) -> tuple[str, ...]:
             f"{made.expected_h1 / made.inflation * 100:.0f} % of them on average."
         )
         break
+    short = [plan.metrics[index].name for index, row in enumerate(rows)
+             if settings.whole_weeks and not row.reason and week_timing(settings, row.days) is None
+             and math.isfinite(row.days)]
+    if short:
+        names = ", ".join(short) if len(short) <= 3 else f"{len(short)} rows"
+        notes.append(f"Fewer whole weeks than looks ({names}): those looks are equally spaced, "
+                     "not at week ends.")
     notes.append(peeking_text(settings.looks, settings.alpha))
     return tuple(notes)
 
@@ -263,7 +304,7 @@ def _design_for(plan, row, index: int, designs: dict | None = None) -> Sequentia
     metric = plan.metrics[index]
     power = settings.power if metric.power is None else metric.power
     try:
-        return row_design(settings, row.alpha, power, metric.alternative, designs)
+        return row_design(settings, row.alpha, power, metric.alternative, designs, row.days)
     except ValueError:
         return None
 

@@ -14,6 +14,13 @@ For one row of a plan, four figures answer the questions a planning meeting asks
     week marked ("what each extra week buys"); beside it the neighbouring power. Needs the
     plan's daily units.
 
+A margin row (:func:`fourfold.plan.rules.is_margin_row`: a guardrail or non-inferiority row)
+is about its margin, its effect being the true difference assumed (usually 0): its ``effect``
+figure shows units against the margin, over a range on the far side of the effect, and its
+``runtime`` figure the tightest margin ruled out after each day and week
+(:func:`fourfold.engine.detectable_margin`). ``Tradeoffs.quantity`` is then ``"margin"``, and
+the ``effect_*`` attributes describe the margin.
+
 The six curves of the first three figures are one vectorised engine call, the runtime
 figure's three curves another. Every curve uses the row's own design, exactly as
 :func:`fourfold.plan.evaluation.compute` evaluates the row: its α (overridden and corrected for
@@ -57,10 +64,12 @@ import numpy as np
 from scipy.special import ndtri
 
 from fourfold import engine
+from fourfold.formatting import format_days
 from fourfold.plan import kinds, sequential
 from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.evaluation import PlanResult, RowResult, compute, runtime_units
 from fourfold.plan.model import Metric, Plan, Settings
+from fourfold.plan.rules import is_margin_row
 
 FIGURES = ("effect", "power", "alpha", "runtime")
 POINTS = 81
@@ -156,6 +165,10 @@ class Tradeoffs:
         The figures.
     reason : str
         Why the row cannot be computed; ``""`` when it can.
+    quantity : str
+        The field the effect figure's x axis is about and its marker drags: ``"effect"``, or
+        ``"margin"`` for a margin row (``effect_scale``, ``effect_unit``, ``effect_span`` and
+        ``effect_editable`` then describe the margin).
     """
 
     index: int
@@ -169,6 +182,7 @@ class Tradeoffs:
     alpha: Figure
     runtime: Figure
     reason: str
+    quantity: str = "effect"
 
     @property
     def figures(self) -> tuple[Figure, Figure, Figure, Figure]:
@@ -225,9 +239,15 @@ def _row_effect(metric: Metric, row: RowResult) -> float:
     return row.effect_rel if metric.relative else row.effect_abs
 
 
-def _default_span(metric: Metric, effect: float) -> tuple[float, float]:
-    distance = effect - metric.margin
-    ends = sorted((metric.margin + distance * SPAN[0], metric.margin + distance * SPAN[1]))
+def _row_margin(metric: Metric, row: RowResult) -> float:
+    return row.margin_rel if metric.relative else row.margin_abs
+
+
+def _default_span(anchor: float, value: float) -> tuple[float, float]:
+    """A range of ``value`` (effect or margin) at 0.4 to 2.5 times its distance from
+    ``anchor`` (the margin, or the effect) on its side."""
+    distance = value - anchor
+    ends = sorted((anchor + distance * SPAN[0], anchor + distance * SPAN[1]))
     return float(ends[0]), float(ends[1])
 
 
@@ -252,11 +272,13 @@ def _empty_figure(name: str, title: str, x_label: str, y_label: str, reason: str
 
 @functools.lru_cache(maxsize=256)
 def _inflation(looks: int, spending: str, futility: bool, alpha: float, power: float,
-               alternative: str) -> float:
-    """Maximum ÷ fixed units of the row design the evaluation uses (nan when impossible)."""
-    staged = Settings(looks=looks, spending=spending, futility=futility)
+               alternative: str, whole_weeks: bool, days: float) -> float:
+    """Maximum ÷ fixed units of the row design the evaluation uses (nan when impossible); its
+    looks fall on the week ends of a run of ``days`` in a plan of whole weeks."""
+    staged = Settings(looks=looks, spending=spending, futility=futility, whole_weeks=whole_weeks)
     try:
-        return sequential.inflation(sequential.row_design(staged, alpha, power, alternative))
+        return sequential.inflation(sequential.row_design(staged, alpha, power, alternative,
+                                                          days=days))
     except ValueError:
         return math.nan
 
@@ -267,9 +289,12 @@ class _Row:
     def __init__(self, plan: Plan, metric: Metric, row: RowResult) -> None:
         self.plan, self.metric, self.row = plan, metric, row
         settings = plan.settings
+        self.margin_row = is_margin_row(metric)
+        self.effect = _row_effect(metric, row)
+        self.margin = _row_margin(metric, row)
         sd = kinds.unit_sd(metric) if metric.kind in kinds.DERIVED_SD else metric.sd
         self.common = dict(sd=sd, alternative=metric.alternative, ratio=treatment_ratio(settings),
-                           relative=metric.relative, margin=metric.margin, method=metric.method)
+                           relative=metric.relative, method=metric.method)
 
     def inflation(self, alpha, power, design: float | None = None):
         """Interim-look inflation at α and power (1 for a fixed design).
@@ -279,7 +304,8 @@ class _Row:
         interpolated on the normal-quantile scale of α or power, where it is close to a
         straight line (within 0.2 % of the exact designs with five nodes, where linear
         interpolation in power missed by 1 % near power 0.99); each group sequential design
-        costs milliseconds.
+        costs milliseconds. In a plan of whole weeks the looks keep the week ends of the row's
+        own run along the curves.
         """
         settings = self.plan.settings
         if settings.looks <= 1:
@@ -287,7 +313,8 @@ class _Row:
 
         def at(a: float, p: float) -> float:
             return _inflation(settings.looks, settings.spending, settings.futility, float(a),
-                              float(p), self.metric.alternative)
+                              float(p), self.metric.alternative, settings.whole_weeks,
+                              float(self.row.days))
 
         alpha, power = np.asarray(alpha, dtype=float), np.asarray(power, dtype=float)
         if alpha.ndim == 0 and power.ndim == 0:
@@ -300,25 +327,40 @@ class _Row:
 
     def units(self, *curves: tuple) -> list[np.ndarray]:
         """Control-arm units (design factor and interim looks included), as the evaluation
-        computes them, for each ``(effect, alpha, power, design)`` of ``curves`` (one engine
-        call); ``design`` tells :meth:`inflation` the row's own value on the curve's grid."""
+        computes them, for each ``(x, alpha, power, design)`` of ``curves`` (one engine
+        call), ``x`` the effect, or for a margin row the margin; ``design`` tells
+        :meth:`inflation` the row's own value on the curve's grid."""
         metric = self.metric
+
+        def solve(x, a, p):
+            if self.margin_row:
+                return engine.sample_size(metric.kind, metric.baseline, self.effect, alpha=a,
+                                          power=p, margin=x, **self.common)
+            return engine.sample_size(metric.kind, metric.baseline, x, alpha=a, power=p,
+                                      margin=self.margin, **self.common)
+
         with np.errstate(all="ignore"):
-            n = _split(lambda e, a, p: engine.sample_size(metric.kind, metric.baseline, e,
-                                                          alpha=a, power=p, **self.common),
-                       [curve[:3] for curve in curves])
+            n = _split(solve, [curve[:3] for curve in curves])
         return [values * self.row.design_factor * self.inflation(alpha, power, design)
                 for values, (_, alpha, power, design) in zip(n, curves, strict=True)]
 
     def detectable(self, *curves: tuple) -> list[np.ndarray]:
-        """Detectable effect (row units) for each ``(n_control, alpha, power)`` of ``curves``
-        (control-arm units, the maximum with looks; one engine call)."""
+        """Detectable effect, or for a margin row the tightest margin ruled out (row units),
+        for each ``(n_control, alpha, power)`` of ``curves`` (control-arm units, the maximum
+        with looks; one engine call)."""
         metric = self.metric
         scaled = [(np.asarray(n) / (self.row.design_factor * self.inflation(alpha, power)),
                    alpha, power) for n, alpha, power in curves]
+
+        def solve(n, a, p):
+            if self.margin_row:
+                return engine.detectable_margin(metric.kind, metric.baseline, self.effect, n,
+                                                alpha=a, power=p, **self.common)
+            return engine.detectable_effect(metric.kind, metric.baseline, n, alpha=a, power=p,
+                                            margin=self.margin, **self.common)
+
         with np.errstate(all="ignore"):
-            return _split(lambda n, a, p: engine.detectable_effect(
-                metric.kind, metric.baseline, n, alpha=a, power=p, **self.common), scaled)
+            return _split(solve, scaled)
 
 
 def _split(solve, curves) -> list[np.ndarray]:
@@ -369,34 +411,48 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
     result = compute(plan) if result is None else result
     metric, row = plan.metrics[index], result.rows[index]
     scale, unit, effect_text = _effect_units(metric)
+    quantity = "margin" if is_margin_row(metric) else "effect"
+    labels = _labels(plan, metric, quantity, effect_text, unit)
+    editable = row.solved not in ("detectable_effect", "detectable_margin")
+    x = (_row_margin if quantity == "margin" else _row_effect)(metric, row)
+    if row.reason or not math.isfinite(x):
+        reason = row.reason or f"the row has no {quantity} to plot"
+        figures = [_empty_figure(name, *labels[name], reason, x_log=name == "alpha")
+                   for name in FIGURES]
+        return Tradeoffs(index, metric.name, scale, unit, (math.nan, math.nan), editable,
+                         *figures, reason, quantity)
+
+    engine_row = _Row(plan, metric, row)
+    anchor = engine_row.effect if quantity == "margin" else engine_row.margin
+    span = effect_span if _usable_span(effect_span, x) else _default_span(anchor, x)
+    figures = (
+        *_units_figures(engine_row, x, span, scale, labels, points),
+        _runtime_figure(engine_row, result, x, scale, labels["runtime"], points),
+    )
+    return Tradeoffs(index, metric.name, scale, unit, (float(span[0]), float(span[1])),
+                     editable, *figures, "", quantity)
+
+
+def _labels(plan: Plan, metric: Metric, quantity: str, effect_text: str,
+            unit: str) -> dict[str, tuple[str, str, str]]:
+    """Title, x label and y label of each figure."""
     y_units = ("units per arm" if treatment_ratio(plan.settings) == 1.0
                else "control-arm units")
     sided = "two-sided" if metric.alternative == "two-sided" else "one-sided"
     per = ", per comparison" if plan.settings.correction != "none" else ""
-    labels = {
-        "effect": ("Sample size against effect", f"effect ({effect_text})", y_units),
+    if quantity == "margin":
+        first = ("Sample size against the margin", f"margin ({effect_text})")
+        runtime = ("What each week can rule out",
+                   f"margin ruled out ({effect_text})" if unit else "margin ruled out")
+    else:
+        first = ("Sample size against effect", f"effect ({effect_text})")
+        runtime = ("What each week can detect", f"MDE ({effect_text})" if unit else "MDE")
+    return {
+        "effect": (*first, y_units),
         "power": ("Sample size against power", "power (%)", y_units),
         "alpha": ("Sample size against α", f"α ({sided}{per}, log scale)", y_units),
-        "runtime": ("What each week can detect", "days of runtime",
-                    f"MDE ({effect_text})" if unit else "MDE"),
+        "runtime": (runtime[0], "days of runtime", runtime[1]),
     }
-    editable = row.solved != "detectable_effect"
-    effect = _row_effect(metric, row)
-    if row.reason or not math.isfinite(effect):
-        reason = row.reason or "the row has no effect to plot"
-        figures = [_empty_figure(name, *labels[name], reason, x_log=name == "alpha")
-                   for name in FIGURES]
-        return Tradeoffs(index, metric.name, scale, unit, (math.nan, math.nan), editable,
-                         *figures, reason)
-
-    engine_row = _Row(plan, metric, row)
-    span = effect_span if _usable_span(effect_span, effect) else _default_span(metric, effect)
-    figures = (
-        *_units_figures(engine_row, effect, span, scale, labels, points),
-        _runtime_figure(engine_row, result, effect, scale, labels["runtime"], points),
-    )
-    return Tradeoffs(index, metric.name, scale, unit, (float(span[0]), float(span[1])),
-                     editable, *figures, "")
 
 
 def _units_figures(r: _Row, effect: float, span: tuple[float, float], scale: float,
@@ -461,7 +517,7 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
                                                   (units_after(week_days), row.alpha, row.power)))
     duration = result.duration_days
     guide = float(duration) if duration is not None and math.isfinite(duration) else math.nan
-    guide_label = f"test runs {guide:g} d" if math.isfinite(guide) else ""
+    guide_label = f"test runs {format_days(guide)} d" if math.isfinite(guide) else ""
     return Figure("runtime", *labels, False, False,
                   Curve(days, at_days, _power_label(row.power)),
                   Curve(days, at_days_other, _power_label(other)),

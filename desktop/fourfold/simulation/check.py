@@ -269,7 +269,7 @@ def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect
     """
     result = compute(plan) if result is None else result
     metric, row, looks, n_control = _row_setup(plan, index, result)
-    margin = metric.margin * metric.baseline if metric.relative else metric.margin
+    margin = row.margin_abs  # the row's own, or the tightest one it rules out
     try:
         outcome = simulate_power(
             metric.kind, metric.baseline, row.effect_abs, n_control, sd=metric.sd,

@@ -13,17 +13,20 @@ import math
 from fourfold.formatting import (
     DASH,
     format_count,
+    format_days,
     format_number,
     format_percent,
     parse_number,
 )
 from fourfold.plan import Metric, Settings
+from fourfold.plan.rules import is_margin_row
 
 LABELS = {
     "sample_size": "sample size",
     "detectable_effect": "detectable effect",
     "power": "power",
     "significance_level": "α",
+    "detectable_margin": "margin ruled out",
     "two-sided": "two-sided",
     "greater": "greater",
     "less": "less",
@@ -110,6 +113,11 @@ def read_value(metric: Metric, key: str, text: str, header: str) -> float:
     return parse_number(text, percent=unit(metric, key) is not None, label=header)
 
 
+def _margin(metric: Metric, row) -> float:
+    """The margin a row was computed with (its own, or the tightest it rules out)."""
+    return row.margin_rel if metric.relative else row.margin_abs
+
+
 def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
     """Text of a computed cell from the row's result (``row`` is a ``RowResult`` or None)."""
     if row is None:
@@ -117,8 +125,11 @@ def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
     if key in ("units_control", "units_treatment", "units_total"):
         return format_count(getattr(row, key))
     if key == "days":
-        return format_number(row.days, sig=3)
+        return format_days(row.days)
     if key == "detectable":
+        if is_margin_row(metric):
+            return "margin " + show_value(metric, "detectable", _margin(metric, row),
+                                          with_unit=True)
         value = row.effect_rel if metric.relative else row.effect_abs
         return show_value(metric, "detectable", value, with_unit=True)
     if key == "power_out":
@@ -128,11 +139,11 @@ def output_text(metric: Metric, settings: Settings, row, key: str) -> str:
     if key == "units_expected_h1":
         return format_count(row.units_expected_h1)
     if key == "days_expected_h1":
-        return format_number(row.days_expected_h1, sig=3)
+        return format_days(row.days_expected_h1)
     if key == "look_days":
         if not row.look_days:
             return DASH
-        return ", ".join(format_number(day, sig=3) for day in row.look_days)
+        return ", ".join(format_days(day) for day in row.look_days)
     raise KeyError(key)
 
 
@@ -142,6 +153,8 @@ def output_number(metric: Metric, row, key: str) -> float:
         return math.nan
     if key == "look_days":
         return float(row.look_days[0]) if row.look_days else math.nan
+    if key == "detectable" and is_margin_row(metric):
+        return _margin(metric, row)
     attribute = {
         "power_out": "power",
         "alpha_out": "alpha",

@@ -106,9 +106,16 @@ COLUMNS: tuple[Column, ...] = (
     Column("days", "Days", "Days of traffic the row needs at the plan's daily eligible units and "
            "share of traffic.", group=OUTPUT, width=4),
     Column("detectable", "Detectable\neffect", "The smallest effect this row can detect with its "
-           "units, α and power (in the row's own unit, like 'Effect').", group=OUTPUT, width=8),
+           "units, α and power (in the row's own unit, like 'Effect'). A guardrail or "
+           "non-inferiority row (one-sided, with a margin) shows the tightest margin it rules "
+           "out instead, 'margin +8 %': the margin closest to its effect that its units, α and "
+           "power can reject.", group=OUTPUT, width=8),
     Column("power_out", "Power\nreached", "The power this row reaches with its units and "
            "effect.", group=OUTPUT, width=6),
+    Column("power_at_duration", "Power at\nduration", "The chance this row's test detects its "
+           "effect (a guardrail or non-inferiority row: rules out its margin) with the traffic "
+           "of the plan's whole duration, at its α: a secondary row's real chance in the test "
+           "as planned. Empty while the plan has no duration.", group=OUTPUT, width=6),
     Column("simulated", "Simulated\npower", "Power found by simulating the experiment and "
            "running its test (Plan → Check by simulation): ✓ agrees with the closed form, ? "
            "just outside its 95 % interval (could be chance), ⚠ disagrees. Empty until the row "
@@ -171,6 +178,7 @@ COLUMN_KINDS: dict[str, str] = {column.key: column.kind for column in COLUMNS if
 SOLVED_COLUMN: dict[str, tuple[str, ...]] = {
     "sample_size": ("units_control",),
     "detectable_effect": ("detectable",),
+    "detectable_margin": ("detectable",),
     "power": ("power_out",),
     "significance_level": ("alpha_out",),
 }

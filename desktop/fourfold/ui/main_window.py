@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
 import fourfold
 from fourfold.plan import Metric, Plan
 from fourfold.plan.commands import InsertMetrics, MoveMetric, RemoveMetrics, SetField
+from fourfold.plan.rules import is_margin_row
 from fourfold.ui import theme
 from fourfold.ui.boundaries_plot import BoundariesView
 from fourfold.ui.document import PlanDocument
@@ -240,9 +241,11 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         return [found for found in self.document.outcomes
                 if found.name != self.document.scenario]
 
-    def _effect_dragged(self, row: int, effect: float) -> None:
+    def _effect_dragged(self, row: int, value: float) -> None:
+        """The effect marker or slider moved: the row's effect, or a margin row's margin."""
         if 0 <= row < self.model.rowCount():
-            self.document.apply(SetField(row, "effect", effect), merge=True)
+            field = "margin" if is_margin_row(self.model.metric(row)) else "effect"
+            self.document.apply(SetField(row, field, value), merge=True)
 
     def _follow_scheme(self, *_args) -> None:
         self.dark = theme.apply(QApplication.instance())

@@ -168,7 +168,8 @@ class PlotPanel(QWidget):
     timer. Dragging the effect marker on the first plot, or moving the slider below the plots,
     emits :attr:`effect_dragged` ``(row, effect)`` with the effect in the row's own units (a
     fraction of the baseline for relative rows), during the drag (at most every 40 ms) and on
-    release.
+    release; on a margin row (``Tradeoffs.quantity == "margin"``) the marker and the slider
+    move the margin instead, and the value is the margin.
     """
 
     effect_dragged = Signal(int, float)
@@ -183,6 +184,7 @@ class PlotPanel(QWidget):
         self._step = 1.0
         self.slider.setAccessibleName("Effect of the selected row")
         self.slider_label = QLabel("Effect", self)
+        self.slider_label.setMinimumWidth(self.fontMetrics().horizontalAdvance("Margin") + 4)
         self.slider_label.setBuddy(self.slider)
         self.slider_value = QLabel("", self)
         self.slider_value.setMinimumWidth(self.fontMetrics().horizontalAdvance("+00.00 % ") + 8)
@@ -358,6 +360,8 @@ class PlotPanel(QWidget):
 
     def _sync_slider(self, data: Tradeoffs) -> None:
         editable = data.effect_editable and not data.effect.reason
+        self.slider_label.setText(data.quantity.capitalize())  # "Margin" on a margin row
+        self.slider.setAccessibleName(f"{data.quantity.capitalize()} of the selected row")
         self._set_controls_enabled(editable)
         if not editable or self.slider.isSliderDown():
             return

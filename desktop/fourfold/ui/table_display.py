@@ -8,6 +8,8 @@ inputs it changes are tinted and their tooltips give the base's value.
 
 from __future__ import annotations
 
+import math
+
 from PySide6.QtCore import Qt
 
 from fourfold.plan import CHOICES, kinds
@@ -23,6 +25,17 @@ DERIVED_SD_TIPS = {
     "quantile": "Derived from the quantile's level and the density there: √(p(1 − p)) / "
                 "density (not typed)",
 }
+
+
+def _solve_tip(solved: str, chosen: str, runtime: bool) -> str:
+    """Why a row computes something other than its "Solve for" choice."""
+    if solved == "detectable_margin":
+        why = "a fixed runtime and a margin" if runtime and chosen == "sample_size" else \
+            "a margin"
+        return (f"With {why}, this row reports the tightest margin it rules out (the margin "
+                f"closest to its effect), not an effect (chosen: {cells.label(chosen)})")
+    return (f"The plan has a fixed runtime, so this row reports the {cells.label(solved)} "
+            f"those days allow (chosen: {cells.label(chosen)})")
 
 
 class TableDisplay:
@@ -67,6 +80,8 @@ class TableDisplay:
         if col.computed:
             if self._reason(row):
                 return cells.DASH
+            if key == "power_at_duration":
+                return cells.format_number(self.duration_power(row), sig=3)
             return cells.output_text(metric, self.document.plan.settings, self._results[row],
                                      key)
         value = getattr(metric, key)
@@ -77,6 +92,8 @@ class TableDisplay:
         if col.editor == CHOICE:
             if key == "method" and value is None:
                 return CHOICES["method"][metric.kind][0]
+            if key == "solve":  # what the row computes, which a runtime or a margin may change
+                return cells.label(self._solved(row))
             return cells.label(value)
         if value is None and key in ("alpha", "power"):
             return self._default_text(key)
@@ -115,10 +132,14 @@ class TableDisplay:
             return (f"Changed in scenario {self.document.scenario} "
                     f"(base: {self._base_text(row, col.key)})")
         if col.key == "solve" and self._solved(row) != metric.solve:
-            return (f"The plan has a fixed runtime, so this row reports the "
-                    f"{cells.label(self._solved(row))} those days allow")
+            return _solve_tip(self._solved(row), metric.solve,
+                              self.document.plan.settings.runtime_days is not None)
         if col.key == "effect" and self._is_unused(row, "effect"):
             return "Not used: this row computes the effect it can detect"
+        if col.key == "margin" and self._is_unused(row, "margin"):
+            return "Not used: this row computes the tightest margin it rules out"
+        if col.key == "power_at_duration" and not reason and math.isnan(self.duration_power(row)):
+            return "The plan has no duration yet: no row sets it, or the plan is incomplete"
         if col.key in ("alpha", "power") and getattr(metric, col.key) is None:
             return "Plan default (type a value to override it for this row)"
         if col.key == "notes" and metric.notes:

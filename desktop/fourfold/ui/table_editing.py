@@ -189,12 +189,14 @@ class TableEditing:
                                    explain=lambda text: self.refusal(row, column, text, parsed))
 
     def refusal(self, row: int, column: int, text: str, value=None) -> str:
-        """The message for a refused cell: its column and row, why, and a hint when a number
-        typed in percent was meant (``90`` for a power of 90 %)."""
+        """The message for a refused cell: its row and column ("row 1 (Checkout conversion),
+        Power: …", as the plan's rules word it), why, and a hint when a number typed in percent
+        was meant (``90`` for a power of 90 %)."""
         col = COLUMNS[column]
-        prefix = f"{col.label}: "
-        reason = text[len(prefix):] if text.startswith(prefix) else text
-        message = f"{col.label} of row {row + 1} “{self._rows[row].name}”: {reason}"
+        where = f"row {row + 1} ({self._rows[row].name}), "
+        # the plan's rules name the row and the column already; a reading error the column
+        message = text if text.startswith(where) else where + (
+            text if text.startswith(f"{col.label}: ") else f"{col.label}: {text}")
         if isinstance(value, float) and 1 < value <= 100 and cells.unit(
                 self._rows[row], col.key) is None:
             try:

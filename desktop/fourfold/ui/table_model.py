@@ -13,6 +13,8 @@ What the cells show is in :mod:`fourfold.ui.table_display`, sorting in
 
 from __future__ import annotations
 
+import math
+
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPointF, Qt
 from PySide6.QtGui import QColor, QFont, QIcon, QPainter, QPixmap, QPolygonF
 
@@ -62,6 +64,11 @@ def _marker_icon(colour: QColor) -> QIcon:
     return QIcon(pixmap)
 
 
+def _same(a, b) -> bool:
+    """Equal numbers, nan equal to nan."""
+    return a == b or (isinstance(a, float) and isinstance(b, float) and a != a and b != b)
+
+
 class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableModel):
     """One row per metric, one column per input and output (see :mod:`fourfold.ui.columns`).
 
@@ -100,10 +107,18 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         return 0 if parent.isValid() else len(COLUMNS)
 
     def _result_rows(self) -> list:
+        """The document's row results in table order; their powers at the plan's duration go
+        to ``_powers``, keyed by result (a row's result moves with it)."""
         result = self.document.result
         rows = list(result.rows) if result is not None else []
+        powers = result.duration_powers if result is not None else ()
+        self._powers = {id(row): (row, power) for row, power in zip(rows, powers, strict=True)}
         rows += [None] * (len(self._rows) - len(rows))
         return rows[: len(self._rows)]
+
+    def duration_power(self, row: int) -> float:
+        """The power of ``row`` at the plan's duration (nan when not known)."""
+        return self._powers.get(id(self._results[row]), (None, math.nan))[1]
 
     def _binding_index(self) -> int | None:
         result = self.document.result
@@ -181,7 +196,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         if len(self._rows) != len(self.document.plan.metrics):
             self._reset_rows()
             return
-        old = self._results
+        old, old_powers = self._results, self._powers
         self._rows = list(self.document.plan.metrics)
         self._results = self._result_rows()
         binding = self._binding_index()
@@ -196,7 +211,8 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         else:
             # the document's row cache hands back the same RowResult for an unchanged row
             touched.update(i for i, (a, b) in enumerate(zip(old, self._results, strict=True))
-                           if a is not b)
+                           if a is not b or not _same(old_powers.get(id(a), (None, None))[1],
+                                                      self._powers.get(id(b), (None, None))[1]))
             if not touched:
                 return
             first, last = min(touched), max(touched)
@@ -246,6 +262,8 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         metric = self._rows[row]
         if key == "effect":
             return self._solved(row) == "detectable_effect"
+        if key == "margin":
+            return self._solved(row) == "detectable_margin"
         if key == "n":
             return (metric.solve == "sample_size"
                     or self.document.plan.settings.runtime_days is not None)

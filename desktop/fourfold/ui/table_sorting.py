@@ -25,6 +25,8 @@ class TableSorting:
         col = COLUMNS[column]
         if col.key == simulation_cells.KEY:
             return simulation_cells.number(metric)
+        if col.key == "power_at_duration":
+            return self.duration_power(row) if not self._reason(row) else math.nan
         if col.computed:
             return cells.output_number(metric, self._results[row], col.key)
         value = getattr(metric, col.key)

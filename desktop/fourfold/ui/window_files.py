@@ -163,4 +163,9 @@ class WindowFiles:
         except (FourfoldError, OSError) as error:
             self.show_error("Cannot export", f"{path}\n\n{error}")
             return
-        self.show_message(f"Wrote {path}")
+        result = self.document.result
+        if result is not None and result.incomplete:
+            self.show_message(f"Wrote {path}: an incomplete plan, so it says \"incomplete\" and "
+                              f"gives no duration ({result.incomplete_text()})")
+        else:
+            self.show_message(f"Wrote {path}")

@@ -41,7 +41,18 @@ from PySide6.QtGui import (
 from fourfold import CAUTION, __version__
 from fourfold.export import report
 from fourfold.export.files import ExportError, replacing
-from fourfold.export.pdf.flow import ACCENT, INK, MUTED, RULE, Flow, Text, clean, font, hline
+from fourfold.export.pdf.flow import (
+    ACCENT,
+    INK,
+    MUTED,
+    RULE,
+    WARNING,
+    Flow,
+    Text,
+    clean,
+    font,
+    hline,
+)
 
 PAGES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}
 RESOLUTION = 300
@@ -142,11 +153,13 @@ def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.
     _content(flow, plan, result, when, reported)
     dated = f"{when.day} {when:%B %Y}"
     small = font(7.5)
+    split = 0.58 if result.incomplete else 0.7  # the right side says "incomplete" too
     title = QFontMetricsF(small, writer).elidedText(clean(plan.settings.title),
-                                                    Qt.TextElideMode.ElideRight, width * 0.68)
-    running = (Text(title, small, width * 0.7, writer),
-               Text(f"Sample-size plan · {dated}", small, width * 0.3, writer,
-                    Qt.AlignmentFlag.AlignRight))
+                                                    Qt.TextElideMode.ElideRight,
+                                                    width * (split - 0.02))
+    running = (Text(title, small, width * split, writer),
+               Text(f"{'Incomplete s' if result.incomplete else 'S'}ample-size plan · {dated}",
+                    small, width * (1 - split), writer, Qt.AlignmentFlag.AlignRight))
 
     def decorate(p: QPainter, index: int, count: int) -> None:
         rule_y = height - footer_height + pt(3)
@@ -158,23 +171,19 @@ def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.
         if index:
             left, right = running
             left.draw(p, 0, 0, MUTED)
-            right.draw(p, width * 0.7, 0, MUTED)
+            right.draw(p, width * split, 0, WARNING if result.incomplete else MUTED)
             hline(p, 0, width, max(left.height, right.height) + pt(3), RULE, pt(0.5))
 
     flow.paint(painter, writer.newPage, decorate)
 
 
-def _roles(plan) -> str:
-    counts = {role: sum(1 for m in plan.metrics if m.role == role) for role in report.ROLE_ORDER}
-    parts = [f"{count} {role}" for role, count in counts.items() if count]
-    rows = "metric row" if len(plan.metrics) == 1 else "metric rows"
-    return f"{len(plan.metrics)} {rows} ({', '.join(parts)})" if parts else f"0 {rows}"
-
-
 def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> None:
     s = plan.settings
     whole, scenario = reported
-    flow.paragraph("SAMPLE-SIZE PLAN", font(8, bold=True), ACCENT, after=2)
+    if result.incomplete:
+        flow.paragraph("SAMPLE-SIZE PLAN — INCOMPLETE", font(8, bold=True), WARNING, after=2)
+    else:
+        flow.paragraph("SAMPLE-SIZE PLAN", font(8, bold=True), ACCENT, after=2)
     flow.paragraph(s.title, font(19, bold=True), INK, spacing=1.1, after=5)
     if whole.scenarios:
         from fourfold.plan.scenarios import describe
@@ -183,10 +192,13 @@ def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> 
                  else f"Scenario {scenario}: {describe(whole, scenario)}")
         flow.paragraph(shown, font(10, bold=True), ACCENT, spacing=1.2, after=5)
     flow.paragraph(f"Prepared {when.day} {when:%B %Y} with Fourfold {__version__} · "
-                   f"{_roles(plan)}", font(8), MUTED, after=8)
+                   f"{report.roles_text(plan)}", font(8), MUTED, after=8)
     flow.paragraph(s.description, font(9.5), INK, spacing=1.3, after=10)
     flow.cards(report.summary(plan, result))
     flow.space(8)
+    if result.incomplete:
+        flow.paragraph(report.incomplete_text(result), font(9, bold=True), WARNING,
+                       spacing=1.25, after=6)
     for note in result.notes:
         flow.paragraph(f"• {note}", font(8.5), MUTED, indent=2, spacing=1.25, after=2)
 
@@ -216,11 +228,18 @@ def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> 
     _kinds(flow, plan)
 
     flow.heading("Results")
-    flow.paragraph("Units are rounded up to whole units. The quantity each row solves for is in "
-                   "bold; the binding row, which sets the duration, is highlighted. α is the "
-                   "level each comparison is tested at, after any correction.",
+    flow.paragraph("Units are rounded up to whole units, days to whole days. The quantity each "
+                   "row solves for is in bold; the binding row, which sets the duration, is "
+                   "highlighted. Effects and margins read as entered, then the other way in "
+                   "brackets. α is the level each comparison is tested at, after any "
+                   "correction, one- or two-sided as the row's test. “Power at duration” is the "
+                   "row's power with the traffic of the plan's whole duration. A guardrail or "
+                   "non-inferiority row that solves for what it can detect reports the tightest "
+                   "margin it rules out, its effect held as the true difference assumed.",
                    font(8), MUTED, spacing=1.25)
     flow.table(report.results_table(plan, result))
+    flow.space(6)
+    flow.table(report.units_table(plan, result))
 
     from fourfold.export.pdf.alternatives import alternatives, what_moves
 

@@ -33,6 +33,7 @@ ACCENT = QColor("#2b5c7e")
 RULE = QColor("#c3cad4")
 SHADE = QColor("#f0f3f6")
 MARK = QColor("#fdf1d2")
+WARNING = QColor("#a3341f")
 FAMILIES = ["DejaVu Sans", "Liberation Sans", "Arial", "Helvetica"]
 
 Op = Callable[[QPainter], None]
@@ -283,7 +284,11 @@ class Flow:
 
     def table(self, table: Table, *, size: float = 7.5, header: bool = True,
               stretch: bool = True, label_column: bool = False) -> None:
-        """Place a table; rows that do not fit start a new page under a repeated header."""
+        """Place a table; rows that do not fit start a new page under a repeated header.
+
+        A table never leaves one row alone on a page: its first row goes with the second
+        (under the header), its last with the one before.
+        """
         body, strong, head = font(size), font(size, bold=True), font(size - 0.5, bold=True)
         pad_x, pad_y = self.pt(3), self.pt(2.2)
         columns = len(table.align)
@@ -312,12 +317,15 @@ class Flow:
             self.add(draw)
             self.y += head_height
 
-        for r, row in enumerate(table.rows):
-            faces = [strong if (r, c) in table.bold or (label_column and c == 0) else body
-                     for c in range(columns)]
-            blocks, height = cells(row, faces)
+        laid = [cells(row, [strong if (r, c) in table.bold or (label_column and c == 0)
+                            else body for c in range(columns)])
+                for r, row in enumerate(table.rows)]
+        count = len(laid)
+        for r, (blocks, height) in enumerate(laid):
             first = r == 0
             need = height + (head_height if header and first else 0)
+            if r + 2 == count or (first and count > 1):
+                need += laid[r + 1][1]  # no row alone at the end or the start of a page
             if self.y + need > self.bottom and not self.at_top():
                 self.new_page()
                 first = True

@@ -1,0 +1,391 @@
+"""Solving metric rows through the engine: the plan-level checks of a row, one vectorised
+engine call per group of rows that share a solve, and the rounding of units into days.
+
+The rules are those of :mod:`fourfold.plan.evaluation`; :func:`solve_rows` is what its
+:func:`~fourfold.plan.evaluation.compute` calls for the rows it has not cached.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from fourfold import engine
+from fourfold.plan import kinds, sequential
+from fourfold.plan.arms import treatment_ratio
+from fourfold.plan.model import Metric, Plan, Settings
+from fourfold.plan.results import RowResult
+from fourfold.plan.rules import is_margin_row
+
+
+def _ceil(value: float) -> float:
+    """Round up to a whole number, forgiving floating-point dust just above an integer."""
+    if not math.isfinite(value):
+        return math.nan
+    return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
+
+
+def runtime_units(settings: Settings) -> float | None:
+    """Control-arm units a fixed runtime provides, or ``None`` without runtime or traffic.
+
+    Examples
+    --------
+    >>> runtime_units(Settings(runtime_days=14, daily_units=30_000, share=0.5, arms=2))
+    70000.0
+    """
+    if settings.runtime_days is None or settings.daily_units is None:
+        return None
+    return (settings.runtime_days * settings.daily_units * settings.share
+            / (1.0 + settings.arms * treatment_ratio(settings)))
+
+
+def _failed(solved: str, factor: float, alpha: float, power: float, reason: str) -> RowResult:
+    nan = math.nan
+    return RowResult(nan, nan, nan, nan, nan, nan, power, alpha, reason, solved, factor,
+                     nan, nan, nan, None)
+
+
+@dataclass(frozen=True)
+class _Pending:
+    """A row that passed the plan-level checks and waits for its group's engine call."""
+
+    solved: str
+    alpha: float
+    power: float
+    factor: float
+    staged: Any
+    n_control: float | None
+    n_effective: float | None
+    at_duration: bool = False
+
+
+@dataclass(frozen=True)
+class AtDuration:
+    """What the plan's duration brings: control-arm units and days (nan without traffic)."""
+
+    units: float
+    days: float
+
+
+def solved_for(settings: Settings, metric: Metric) -> str:
+    """What a row computes: its own "solve for", the detectable effect instead of the sample
+    size under a fixed runtime, and for a margin row the margin instead of the effect.
+
+    Examples
+    --------
+    >>> solved_for(Settings(runtime_days=14.0), Metric(alternative="less", margin=0.1))
+    'detectable_margin'
+    """
+    solved = metric.solve
+    if settings.runtime_days is not None and solved == "sample_size":
+        solved = "detectable_effect"
+    if solved == "detectable_effect" and is_margin_row(metric):
+        solved = "detectable_margin"
+    return solved
+
+
+def waits_for_duration(settings: Settings, metric: Metric) -> bool:
+    """Whether a row takes its units from the plan's duration: it does not solve for sample
+    size, gives no ``n`` and the plan has no fixed runtime."""
+    return settings.runtime_days is None and metric.solve != "sample_size" and metric.n is None
+
+
+def needs_units_text(solved: str) -> str:
+    """Why a row that waits for the plan's duration has none."""
+    return ("needs n (control units), a fixed runtime or a row that sets the plan's duration "
+            "to solve for " + solved.replace("_", " "))
+
+
+def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float, designs: dict,
+                 at_duration: AtDuration | None = None) -> RowResult | _Pending:
+    """The plan-level checks of a row: a failed :class:`RowResult` or what the engine needs."""
+    settings = plan.settings
+    runtime = settings.runtime_days is not None
+    solved = solved_for(settings, metric)
+    power = settings.power if metric.power is None else metric.power
+    shown_alpha = math.nan if solved == "significance_level" else alpha
+    shown_power = math.nan if solved == "power" else power
+
+    n_control = None
+    waiting = waits_for_duration(settings, metric)
+    if solved != "sample_size":
+        n_control = runtime_units(settings) if runtime else metric.n
+        if waiting and at_duration is not None:
+            n_control = at_duration.units
+        if n_control is None:
+            why = ("a fixed runtime needs the plan's daily units" if runtime else
+                   needs_units_text(solved))
+            return _failed(solved, factor, shown_alpha, shown_power, why)
+    days = math.nan  # the run of a row with units of its own: its looks may fall on week ends
+    if n_control is not None and settings.looks > 1 and settings.whole_weeks:
+        days = (float(settings.runtime_days) if runtime else
+                at_duration.days if waiting and at_duration is not None else
+                _days_of(settings, n_control))
+    try:
+        staged = sequential.row_design(settings, alpha, power, metric.alternative, designs,
+                                       days)
+    except ValueError as error:
+        return _failed(solved, factor, shown_alpha, shown_power, str(error))
+    if staged is not None and solved == "significance_level":
+        return _failed(solved, factor, shown_alpha, shown_power, sequential.NO_ALPHA_SOLVE)
+    if solved != "detectable_effect" and metric.effect is None:
+        return _failed(solved, factor, shown_alpha, shown_power,
+                       "needs an effect to solve for " + solved.replace("_", " "))
+    n_effective = None if n_control is None else n_control / factor
+    return _Pending(solved, alpha, power, factor, staged, n_control, n_effective,
+                    waiting and at_duration is not None)
+
+
+def _totals(settings: Settings, n_control: float) -> tuple[float, float, float]:
+    """Whole units: control, each treatment arm, all arms."""
+    units_control = _ceil(n_control)
+    units_treatment = _ceil(treatment_ratio(settings) * units_control)
+    return units_control, units_treatment, units_control + settings.arms * units_treatment
+
+
+def _days_of(settings: Settings, n_control: float) -> float:
+    """Days for ``n_control`` control units, as :func:`fourfold.engine.duration_days` counts
+    them (whole days, whole weeks when asked; nan without daily units)."""
+    if settings.daily_units is None:
+        return math.nan
+    days = _ceil(_totals(settings, n_control)[2] / (settings.daily_units * settings.share))
+    return 7.0 * math.ceil(days / 7.0) if settings.whole_weeks else days
+
+
+def _on_week_ends(plan: Plan, index: int, row: _Pending, fixed: float, day: float,
+                  designs: dict) -> tuple[tuple[float, float, float], float, Any]:
+    """A sample-size row with interim looks in a plan of whole weeks: the design with its looks
+    at the ends of the row's weeks, its units (``fixed`` × that design's inflation) and days.
+
+    The weeks come from the units and the units from the design at those weeks: from the
+    equally spaced design's days, the run grows by weeks until its traffic holds the units.
+    """
+    settings = plan.settings
+    alternative = plan.metrics[index].alternative
+    for _ in range(6):
+        made = sequential.row_design(settings, row.alpha, row.power, alternative, designs, day)
+        units = _totals(settings, fixed * made.inflation)
+        needed = _days_of(settings, fixed * made.inflation)
+        if needed <= day:
+            break
+        day = needed
+    return units, day, made
+
+
+def _column(values: list, dtype: type = float) -> np.ndarray:
+    return np.array(values, dtype=dtype)
+
+
+def _solve_group(plan: Plan, key: tuple, members: list[int],
+                 pending: dict[int, _Pending]) -> tuple[np.ndarray, np.ndarray]:
+    """One engine call for rows sharing kind, method, alternative, solve and sd-or-not.
+
+    Returns the solved values and the reasons, in the order of ``members``; the reasons are
+    those :func:`fourfold.engine.problems` gives for each row's own inputs.
+    """
+    kind, method, alternative, solved, has_sd = key
+    metrics = [plan.metrics[index] for index in members]
+    rows = [pending[index] for index in members]
+    baseline = _column([metric.baseline for metric in metrics])
+    alpha = _column([row.alpha for row in rows])
+    power = _column([row.power for row in rows])
+    sd, own = kinds.unit_sds(metrics)  # a ratio's or quantile's sd, from its own inputs
+    common = dict(
+        sd=None if sd is None else np.where(own == "", sd, 1.0), alternative=alternative,
+        ratio=treatment_ratio(plan.settings), method=method,
+        relative=_column([metric.relative for metric in metrics], bool),
+        margin=_column([metric.margin for metric in metrics]),
+    )
+    values, reasons = _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common)
+    return np.where(own == "", values, np.nan), np.where(own == "", reasons, own)
+
+
+def _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common):
+    """The engine's values and reasons for a group (see :func:`_solve_group`)."""
+    effect = _column([metric.effect for metric in metrics])
+    if solved in ("detectable_effect", "detectable_margin"):
+        if solved == "detectable_margin":
+            common = dict(common, effect=effect)
+        n_effective = _column([row.n_effective for row in rows])
+        inflation = _column([sequential.inflation(row.staged) for row in rows])
+        values, reasons = engine.values_and_reasons(solved, kind, baseline,
+                                                    n=n_effective / inflation, alpha=alpha,
+                                                    power=power, **common)
+        if np.any(inflation != 1.0):
+            first = engine.problems(solved, kind, baseline, n=n_effective, alpha=alpha,
+                                    power=power, **common)
+            reasons = np.where(first != "", first, reasons)
+        return values, reasons
+    n_effective = None if solved == "sample_size" else _column([row.n_effective for row in rows])
+    return engine.values_and_reasons(solved, kind, baseline, effect=effect, n=n_effective,
+                                     alpha=alpha, power=power, **common)
+
+
+def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int],
+               results: list, at_duration: AtDuration | None = None) -> None:
+    """Fill ``results`` at the ``missing`` rows: one engine call per group of rows.
+
+    With ``at_duration``, rows that wait for the plan's duration (:func:`waits_for_duration`)
+    take its units and days.
+    """
+    settings = plan.settings
+    metrics = plan.metrics
+    todo = [metrics[index] for index in missing]
+    factors = engine.variance_factor(
+        _column([metric.rho for metric in todo]),
+        _column([metric.cluster_size for metric in todo]),
+        _column([metric.icc for metric in todo]),
+        _column([metric.cluster_cv for metric in todo]),
+    )
+    pending: dict[int, _Pending] = {}
+    groups: dict[tuple, list[int]] = {}
+    for index, metric, factor in zip(missing, todo, factors.tolist(), strict=True):
+        prepared = _prepare_row(plan, metric, alphas[index], factor, designs, at_duration)
+        if isinstance(prepared, RowResult):
+            results[index] = prepared
+            continue
+        pending[index] = prepared
+        key = (metric.kind, metric.method, metric.alternative, prepared.solved,
+               kinds.has_sd(metric))
+        groups.setdefault(key, []).append(index)
+
+    solved_rows, fixed = [], {}
+    for key, members in groups.items():
+        values, reasons = _solve_group(plan, key, members, pending)
+        for index, value, reason in zip(members, values.tolist(), reasons.tolist(),
+                                        strict=True):
+            row = pending[index]
+            fixed[index] = value * row.factor  # the fixed design's units (sample-size rows)
+            outcome = _solved_row(plan.metrics[index], row, value, str(reason), settings)
+            if isinstance(outcome, RowResult):
+                results[index] = outcome
+            else:
+                solved_rows.append((index, outcome))
+
+    if solved_rows:
+        _finish_rows(plan, solved_rows, pending, results, at_duration, (fixed, designs))
+
+
+def _finish_rows(plan: Plan, solved_rows: list, pending: dict[int, _Pending], results: list,
+                 at_duration: AtDuration | None, weekly: tuple[dict, dict]) -> None:
+    """Days (one engine call for all rows) and the sequential fields of the solved rows;
+    ``weekly`` holds the fixed design's units per row and the evaluation's designs, for
+    looks at week ends."""
+    settings = plan.settings
+    totals = _column([outcome[2] for _, outcome in solved_rows])
+    if settings.runtime_days is not None:
+        days = [float(settings.runtime_days)] * len(solved_rows)
+    elif settings.daily_units is None:
+        days = [math.nan] * len(solved_rows)
+    else:
+        days = engine.duration_days(totals, settings.daily_units, settings.share,
+                                    settings.whole_weeks).tolist()
+    weeks = settings.looks > 1 and settings.whole_weeks and settings.runtime_days is None
+    for (index, outcome), day in zip(solved_rows, days, strict=True):
+        row = pending[index]
+        staged = row.staged
+        if row.at_duration:
+            day = at_duration.days
+        if weeks and row.solved == "sample_size" and math.isfinite(day):
+            units, day, staged = _on_week_ends(plan, index, row, weekly[0][index], day,
+                                               weekly[1])
+            outcome = (*units, *outcome[3:])
+        units_total = outcome[2]
+        results[index] = RowResult(*outcome[:3], day, *outcome[3:7], "", row.solved, row.factor,
+                                   *sequential.row_fields(staged, units_total, day),
+                                   *outcome[7:])
+
+
+def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
+                settings: Settings) -> RowResult | tuple:
+    """A failed :class:`RowResult`, or the row's units, effect, power and α (days to come)."""
+    solved, factor = row.solved, row.factor
+    shown_alpha = math.nan if solved == "significance_level" else row.alpha
+    shown_power = math.nan if solved == "power" else row.power
+    if reason:
+        return _failed(solved, factor, shown_alpha, shown_power, reason)
+    n_control, effect, power, alpha = row.n_control, metric.effect, row.power, row.alpha
+    margin = metric.margin
+    if solved == "sample_size":
+        n_control = value * (factor * sequential.inflation(row.staged))
+    elif solved == "detectable_effect":
+        effect = value
+    elif solved == "detectable_margin":
+        margin = value
+    elif solved == "power":
+        power = value
+        if row.staged is not None:
+            power = sequential.power_of(row.staged, power)
+    else:
+        alpha = value
+    if not all(math.isfinite(number) for number in (n_control, effect, power, alpha, margin)):
+        return _failed(solved, factor, shown_alpha, shown_power,
+                       f"the engine found no finite {solved.replace('_', ' ')} for this row")
+    return (*_totals(settings, n_control), *_both(metric, effect), power, alpha,
+            *_both(metric, margin))
+
+
+def _both(metric: Metric, value: float) -> tuple[float, float]:
+    """An effect or margin in the row's units as (difference, fraction of the baseline)."""
+    if metric.relative:
+        return float(value * metric.baseline), float(value)
+    return float(value), (float(value / metric.baseline) if metric.baseline != 0 else math.nan)
+
+
+
+
+def without_duration(row: RowResult) -> RowResult:
+    """``row`` as not computed because the plan, being incomplete, has no duration."""
+    solved = row.solved
+    return _failed(solved, row.design_factor,
+                   math.nan if solved == "significance_level" else row.alpha,
+                   math.nan if solved == "power" else row.power,
+                   "the plan is incomplete, so it has no duration to solve for "
+                   + solved.replace("_", " ") + " at")
+
+
+def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: AtDuration,
+              designs: dict) -> list[float]:
+    """The power of each row in ``indices`` with the control units ``at`` brings.
+
+    The row's test as computed: its α (corrected or solved), its effect (given or solved) and
+    margin (given or solved), its design factor; with interim looks the units are the maximum
+    of its group sequential design. ``nan`` for a row that was not computed. One engine call
+    per group of rows that share kind, method, direction and sd-or-not.
+    """
+    settings = plan.settings
+    powers = dict.fromkeys(indices, math.nan)
+    groups: dict[tuple, list[int]] = {}
+    for index in indices:
+        metric = plan.metrics[index]
+        if not rows[index].reason:
+            key = (metric.kind, metric.method, metric.alternative, kinds.has_sd(metric))
+            groups.setdefault(key, []).append(index)
+    for (kind, method, alternative, _), members in groups.items():
+        metrics = [plan.metrics[index] for index in members]
+        chosen = [rows[index] for index in members]
+        sd, own = kinds.unit_sds(metrics)
+        values, reasons = engine.values_and_reasons(
+            "power", kind, _column([metric.baseline for metric in metrics]),
+            effect=_column([row.effect_abs for row in chosen]),
+            n=at.units / _column([row.design_factor for row in chosen]),
+            sd=None if sd is None else np.where(own == "", sd, 1.0),
+            alpha=_column([row.alpha for row in chosen]), alternative=alternative,
+            ratio=treatment_ratio(settings), relative=False,
+            margin=_column([row.margin_abs for row in chosen]), method=method)
+        reasons = np.where(own == "", reasons, own)
+        for index, metric, row, value, reason in zip(members, metrics, chosen, values.tolist(),
+                                                     reasons.tolist(), strict=True):
+            if reason:
+                continue
+            target = settings.power if metric.power is None else metric.power
+            try:
+                staged = sequential.row_design(settings, row.alpha, target, alternative, designs,
+                                               at.days)
+            except ValueError:
+                continue
+            powers[index] = value if staged is None else sequential.power_of(staged, value)
+    return [powers[index] for index in indices]
