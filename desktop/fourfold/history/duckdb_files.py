@@ -102,7 +102,7 @@ class DuckDBQuery:
         self._cancelled = False
         self._lock = threading.Lock()
 
-    def run(self, progress: Callable[[float, int], None] | None = None,
+    def run(self, *, progress: Callable[[float, int], None] | None = None,
             cancel: Callable[[], bool] | None = None) -> HistorySummary:
         """Run the query; ``progress(fraction, 0)`` while it runs, ``cancel()`` polled."""
         duckdb = _duckdb()
@@ -191,4 +191,4 @@ def read_with_duckdb(data: str, mapping: Sequence[ColumnMap], **options) -> Hist
     :func:`fourfold.history.read_history`)."""
     progress = options.pop("progress", None)
     cancel = options.pop("cancel", None)
-    return DuckDBQuery(data, mapping, **options).run(progress, cancel)
+    return DuckDBQuery(data, mapping, **options).run(progress=progress, cancel=cancel)

@@ -7,8 +7,11 @@ and ρ need); with a unit and a time column also the reach curve and the windows
 warehouse — or let Fourfold run it (:mod:`fourfold.history.connect`, :mod:`fourfold.history
 .duckdb_files`) — and :func:`read_warehouse_result` or :func:`read_warehouse_rows` turn its
 result into the same :class:`HistorySummary` as the file import. Every result, pasted, saved or
-fetched, goes through the same cell checks. Rows of several partitions (``group_by``) are
-merged exactly with the same moment merges as the file import's chunks.
+fetched, and every section of it goes through :func:`summary_from_rows` and the same cell
+checks (:class:`_Part`): counts whole, at least 0 and at most the rows of their line; means,
+variances and covariances finite, variances not negative, and present wherever the line counts
+values for them; days whole and within the history. Rows of several partitions (``group_by``)
+are merged exactly with the same moment merges as the file import's chunks.
 
 Caps are percentiles, which do not merge across partitions; map capped metrics with the file
 import instead (or cap in the warehouse and map the capped column).
@@ -26,14 +29,14 @@ Deng, Knoblich & Lu (2018) for the delta method (see :mod:`fourfold.history.summ
 from __future__ import annotations
 
 import csv
-import io
 import math
 import os
+import re
 from collections.abc import Sequence
 from pathlib import Path
 
 from fourfold.history.errors import HistoryError
-from fourfold.history.exposure import ReachCurve, WindowSummary
+from fourfold.history.exposure import MAX_DAYS, ReachCurve, WindowSummary
 from fourfold.history.moments import CoMoments, Moments
 from fourfold.history.sql import (
     AT,
@@ -47,8 +50,7 @@ from fourfold.history.sql import (
 from fourfold.history.summary import ColumnMap, HistorySummary, Tally, finish
 
 _MAX_RESULT_BYTES = 1 << 20
-_check = check_mapping
-_alias = alias
+_EMPTY = ("", "NULL")
 
 
 def warehouse_sql(mapping: Sequence[ColumnMap], table: str | Sequence[str], *,
@@ -76,9 +78,15 @@ def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
                           source: str = "query result") -> HistorySummary:
     """Summaries from the result of :func:`warehouse_sql` (pasted text or a small CSV's text).
 
-    The result is a header line of the query's column names and one row per partition,
-    separated by commas, tabs, semicolons or ``|``; column names match case-insensitively and
-    empty or ``NULL`` cells mean no value.
+    The result is a header line of the query's column names and one row per partition or
+    section, separated by commas, tabs, semicolons or ``|``; column names match
+    case-insensitively and empty or ``NULL`` cells mean no value. Lines may end with ``\\n``,
+    ``\\r\\n`` or ``\\r``.
+
+    Raises
+    ------
+    HistoryError
+        With the column and line at fault (see :func:`summary_from_rows`).
 
     Examples
     --------
@@ -86,8 +94,13 @@ def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
     >>> spend = read_warehouse_result(text, [ColumnMap("mean", "spend")])["spend"]
     >>> spend.n, spend.missing, round(spend.mean, 6), round(spend.sd, 6)
     (14, 2, 3.142857, 1.769708)
+    >>> read_warehouse_result(text.replace("10,8", "10,13"), [ColumnMap("mean", "spend")])
+    Traceback (most recent call last):
+    ...
+    fourfold.history.errors.HistoryError: query result: column 'm1_spend_n' on line 2 counts \
+13 values, more than the 10 rows of that line
     """
-    mapping = _check(mapping)
+    mapping = check_mapping(mapping)
     header, rows = _table(text, source)
     return summary_from_rows(header, rows, mapping, source)
 
@@ -96,7 +109,9 @@ def read_warehouse_rows(columns: Sequence[str], records, mapping: Sequence[Colum
                         source: str = "query result") -> HistorySummary:
     """:func:`read_warehouse_result` of rows fetched from a database (SQLAlchemy, DuckDB).
 
-    Each value is written as the text a result file would hold and read with the same checks.
+    Each value is written as the text a result file would hold and read with the same checks;
+    messages name the row of the result (``result row 1`` is the first), and a cell that is
+    not finite asks whether the data holds such a value.
 
     Examples
     --------
@@ -104,12 +119,17 @@ def read_warehouse_rows(columns: Sequence[str], records, mapping: Sequence[Colum
     >>> names = ["section", "at", "rows", "m1_spend_n", "m1_spend_mean", "m1_spend_var"]
     >>> read_warehouse_rows(names, rows, [ColumnMap("mean", "spend")])["spend"].n
     14
+    >>> read_warehouse_rows(names, [("all", None, 10, 8, 2.5, -4.0)], [ColumnMap("mean", "spend")])
+    Traceback (most recent call last):
+    ...
+    fourfold.history.errors.HistoryError: query result: column 'm1_spend_var' on result row 1 \
+has '-4.0': a variance cannot be negative
     """
-    mapping = _check(mapping)
+    mapping = check_mapping(mapping)
     header = [str(name).strip().lower() for name in columns]
     rows = [(number, [_text(value) for value in record])
-            for number, record in enumerate(records, start=2)]
-    return summary_from_rows(header, rows, mapping, source)
+            for number, record in enumerate(records, start=1)]
+    return summary_from_rows(header, rows, mapping, source, fetched=True)
 
 
 def _text(value) -> str:
@@ -122,93 +142,218 @@ def _text(value) -> str:
         return repr(value)
     if hasattr(value, "isoformat"):
         return value.isoformat()
-    return str(value)
+    return str(value).strip()
 
 
 def summary_from_rows(header: list[str], rows: list[tuple[int, list[str]]],
-                      mapping: list[ColumnMap], source: str) -> HistorySummary:
-    """The summary of a result's rows (each with its line number), by section."""
+                      mapping: list[ColumnMap], source: str, *,
+                      fetched: bool = False) -> HistorySummary:
+    """The summary of a result's rows (each with its line number, or its row number when
+    ``fetched`` from a database), by section.
+
+    A result without a ``section`` column is all section ``all``. Every line of every section
+    is read through :class:`_Part`'s checks.
+
+    Raises
+    ------
+    HistoryError
+        In one line, naming the column and line (or result row) at fault: a line with fewer
+        cells than the header; an unknown section, or no ``all`` line; a count that is
+        missing, not a whole number or larger than the rows of its line; a mean, variance or
+        covariance that is missing although the line counts values for it, not a number,
+        infinite, or a negative variance; a proportion's or count's cells that are not 0/1
+        or counts (``bad``); a day that is not a whole number from 1, past the history's
+        length, or named twice; a history length without reach lines; a reach of more units
+        than the history has rows, a window of more units than the reach.
+    """
     if not rows:
         raise HistoryError(f"{source}: there is a header line but no result row")
-    sections: dict[str, list] = {"all": [], "reach": [], "window": []}
-    at_index = header.index(SECTION) if SECTION in header else None
+    sections: dict[str, list[_Part]] = {"all": [], "reach": [], "window": []}
+    position = header.index(SECTION) if SECTION in header else None
     for line, row in rows:
-        name = row[at_index].strip().lower() if at_index is not None and at_index < len(
-            row) else "all"
+        part = _Part(dict(zip(header, row, strict=False)), source, line, fetched)
+        if len(row) < len(header):
+            raise HistoryError(f"{source}: {part.place} has {len(row)} of the {len(header)} "
+                               "cells the header names")
+        name = row[position].strip().lower() if position is not None else "all"
         if name not in sections:
-            raise HistoryError(f"{source}: line {line} is of an unknown section {name!r}")
-        sections[name].append((line, dict(zip(header, row, strict=False))))
+            raise HistoryError(f"{source}: {part.place} is of an unknown section "
+                               f"{name[:40]!r}")
+        sections[name].append(part)
     if not sections["all"]:
         raise HistoryError(f"{source}: no line of the whole history (section 'all')")
     tallies = [Tally() for _ in mapping]
     total = 0
     length = first = None
-    for line, cells in sections["all"]:
-        def get(name: str, line=line, cells=cells) -> float:
-            return _cell(cells, name, source, line)
-
-        part_rows = get(ROWS)
-        total += int(part_rows)
-        if AT in cells and cells[AT].strip() not in ("", "NULL", "null"):
-            length = _day(get(AT), AT, source, line)
-            first = _date(cells.get(DAY_ONE, ""), source, line)
+    for part in sections["all"]:
+        part_rows = part.count(ROWS)
+        total += part_rows
+        if part.filled(AT):
+            length = part.day(AT)
+            first = part.date(DAY_ONE)
         for index, spec in enumerate(mapping):
-            _check_bad(index, spec, get, cells, source, line)
-            tallies[index] = tallies[index].merge(_part_tally(index, spec, get, part_rows))
+            _check_bad(index, spec, part, part_rows)
+            tallies[index] = tallies[index].merge(_part_tally(index, spec, part, part_rows))
     metrics = tuple(finish(spec, tally) for spec, tally in zip(mapping, tallies, strict=True))
+    if length is not None and total and not sections["reach"]:
+        raise HistoryError(f"{source}: the result gives the history's length (column 'at') "
+                           "but no reach line; paste the whole result of the query")
     if not sections["reach"] and not sections["window"]:
         return HistorySummary(source, total, metrics)
-    reach = _reach(sections["reach"], length, first, source)
-    windows = tuple(_window(line, cells, mapping, source)
-                    for line, cells in sorted(sections["window"],
-                                              key=lambda item: float(item[1].get(AT) or 0)))
+    reach = _reach(sections["reach"], length, first, total, source)
+    reached = reach.units[-1] if reach.units else total
+    windows = _windows(sections["window"], mapping, length, reached)
     return HistorySummary(source, total, metrics, reach, windows)
 
 
-def _check_bad(index: int, spec: ColumnMap, get, cells: dict, source: str, line: int) -> None:
+class _Part:
+    """One result line: its cells by lower-case column name, read with checks."""
+
+    def __init__(self, cells: dict[str, str], source: str, line: int,
+                 fetched: bool = False) -> None:
+        self.cells, self.source, self.fetched = cells, source, fetched
+        self.place = f"result row {line}" if fetched else f"line {line}"
+
+    def has(self, alias: str) -> bool:
+        """Whether the result has the column (a result of an older query may not)."""
+        return alias.lower() in self.cells
+
+    def filled(self, alias: str) -> bool:
+        """Whether the result has the column and this line a value in it."""
+        return self.has(alias) and self.cells[alias.lower()].upper() not in _EMPTY
+
+    def _text(self, alias: str) -> str:
+        key = alias.lower()
+        if key not in self.cells:
+            raise HistoryError(
+                f"{self.source}: no column {alias!r}; paste the whole result of the query "
+                "written for this same mapping"
+            )
+        return self.cells[key]
+
+    def fault(self, alias: str, what: str) -> HistoryError:
+        """The error for column ``alias`` of this line: ``what`` is wrong with it."""
+        return HistoryError(f"{self.source}: column {alias!r} on {self.place} {what}")
+
+    def _whole(self, alias: str, least: int, what: str) -> int:
+        text = self._text(alias)
+        try:
+            value = float(text)
+        except ValueError:
+            value = math.nan
+        if not (math.isfinite(value) and value >= least and value == math.floor(value)):
+            shown = "empty" if text.upper() in _EMPTY else repr(text[:40])
+            raise self.fault(alias, f"must be {what}, not {shown}")
+        return int(value)
+
+    def count(self, alias: str, most: int | None = None, of: str = "") -> int:
+        """A count cell: present, a whole number, at least 0 and at most ``most``."""
+        count = self._whole(alias, 0, "a count (a whole number, 0 or more)")
+        if most is not None and count > most:
+            raise self.fault(alias, f"counts {count:,} values, more than the {most:,} {of}")
+        return count
+
+    def day(self, alias: str, most: int | None = None) -> int:
+        """A day cell: a whole number from 1 to the history's length ``most`` (or
+        :data:`~fourfold.history.exposure.MAX_DAYS`)."""
+        day = self._whole(alias, 1, f"a day number (1, 2, …, up to {MAX_DAYS:,})")
+        if day > MAX_DAYS:
+            raise self.fault(alias, f"is day {day:,}; a history spans at most {MAX_DAYS:,} days")
+        if most is not None and day > most:
+            raise self.fault(alias, f"is day {day:,}, past the {most:,} days of the history")
+        return day
+
+    def date(self, alias: str) -> int | None:
+        """Days since 1970-01-01 of a ``YYYY-MM-DD`` cell (None when absent or empty)."""
+        import datetime as dt
+
+        if not self.filled(alias):
+            return None
+        text = self._text(alias)
+        try:
+            return (dt.date.fromisoformat(text[:10]) - dt.date(1970, 1, 1)).days
+        except ValueError:
+            raise self.fault(alias, f"must be a date (YYYY-MM-DD), not {text[:40]!r}") from None
+
+    def number(self, alias: str, needed: bool, *, variance: bool = False) -> float:
+        """A mean, variance or covariance cell; 0.0 when empty and not ``needed``."""
+        text = self._text(alias)
+        if text.upper() in _EMPTY:
+            if needed:
+                raise self.fault(alias, "is empty, but the line counts values for it")
+            return 0.0
+        try:
+            value = float(text)
+        except ValueError:
+            value = math.nan
+        hint = " (does the data hold such a value?)" if self.fetched else ""
+        if math.isnan(value):
+            raise self.fault(alias, f"has {text[:40]!r}, which is not a number{hint}")
+        if math.isinf(value):
+            raise self.fault(alias, f"has {text[:40]!r}, which is infinite or beyond the "
+                                    f"largest number a double holds (about ±1.8e308){hint}")
+        if variance and value < 0:
+            raise self.fault(alias, f"has {text[:40]!r}: a variance cannot be negative")
+        return value
+
+
+def _check_bad(index: int, spec: ColumnMap, part: _Part, rows: int) -> None:
+    """Refuse a proportion's or count's column with cells that are not 0/1 or counts."""
     if spec.kind not in ("proportion", "count"):
         return
     name = alias(index, spec, "bad")
-    if name not in cells:
+    if not part.has(name):
         return  # a result of a query written before these checks
-    bad = get(name)
-    if not math.isnan(bad) and bad > 0:
+    bad = part.count(name, rows, "rows of that line")
+    if bad:
         what = "0/1 (or true/false)" if spec.kind == "proportion" else "a count (0, 1, 2, …)"
-        raise HistoryError(f"{source}: column {spec.column!r} has {int(bad):,} values that are "
-                           f"not {what} (column {name!r} on line {line})")
+        raise HistoryError(f"{part.source}: column {spec.column!r} has {bad:,} values that "
+                           f"are not {what} (column {name!r} on {part.place})")
 
 
-def _day(value: float, name: str, source: str, line: int) -> int:
-    if math.isnan(value) or value < 1 or value != math.floor(value) or value > 1e5:
-        raise HistoryError(f"{source}: column {name!r} on line {line} must be a day (1, 2, …)")
-    return int(value)
+def _part_tally(index: int, spec: ColumnMap, part: _Part, rows: int) -> Tally:
+    """One line's moments of one metric, each count at most the line's ``rows``."""
+    def name(what: str) -> str:
+        return alias(index, spec, what)
+
+    values = Moments()
+    if spec.kind != "ratio":
+        n = part.count(name("n"), rows, "rows of that line")
+        values = Moments.from_summary(n, part.number(name("mean"), n > 0),
+                                      part.number(name("var"), n > 1, variance=True))
+    pairs = CoMoments()
+    if spec.kind == "ratio" or spec.pre is not None:
+        n = part.count(name("pairs"), rows, "rows of that line")
+        pairs = CoMoments.from_summary(
+            n, part.number(name("mean_x"), n > 0), part.number(name("mean_y"), n > 0),
+            part.number(name("var_x"), n > 1, variance=True),
+            part.number(name("var_y"), n > 1, variance=True),
+            part.number(name("cov"), n > 1),
+        )
+        if spec.kind == "ratio":
+            values = pairs.y
+    return Tally(rows, values, pairs)
 
 
-def _date(text: str, source: str, line: int) -> int | None:
-    """Days since 1970-01-01 of a ``YYYY-MM-DD`` cell (None when empty)."""
-    import datetime as dt
-
-    text = text.strip()
-    if text in ("", "NULL", "null"):
-        return None
-    try:
-        return (dt.date.fromisoformat(text[:10]) - dt.date(1970, 1, 1)).days
-    except ValueError:
-        raise HistoryError(f"{source}: column {DAY_ONE!r} on line {line} must be a date "
-                           f"(YYYY-MM-DD), not {text[:40]!r}") from None
-
-
-def _reach(lines, length: int | None, first: int | None, source: str) -> ReachCurve:
-    """The cumulative reach from the rows of new units per day."""
+def _reach(parts: list[_Part], length: int | None, first: int | None, total: int,
+           source: str) -> ReachCurve:
+    """The cumulative reach from the lines of new units per day."""
     new: dict[int, int] = {}
-    for line, cells in lines:
-        day = _day(_cell(cells, AT, source, line), AT, source, line)
+    for part in parts:
+        if not part.filled(AT):
+            raise part.fault(AT, "is empty: some units have no time in any row; leave rows "
+                                 "with an empty time out of the table (the file import "
+                                 "refuses them too)")
+        day = part.day(AT, length)
         if day in new:
-            raise HistoryError(f"{source}: day {day} appears twice in the reach (line {line})")
-        new[day] = int(_cell(cells, ROWS, source, line))
-    days = max([length or 0, *new])
-    if new and max(new) > days:
-        raise HistoryError(f"{source}: the reach goes past the history's {days} days")
+            raise HistoryError(f"{source}: day {day} appears twice in the reach "
+                               f"({part.place})")
+        new[day] = part.count(ROWS)
+    reached = sum(new.values())
+    if reached > total:
+        raise HistoryError(f"{source}: the reach counts {reached:,} units, more than the "
+                           f"{total:,} rows of the whole history")
+    days = length if length is not None else max(new, default=0)
     units, running = [], 0
     for day in range(1, days + 1):
         running += new.get(day, 0)
@@ -216,30 +361,42 @@ def _reach(lines, length: int | None, first: int | None, source: str) -> ReachCu
     return ReachCurve(first, tuple(units), True, 0.0, first is not None)
 
 
-def _window(line: int, cells: dict, mapping: list[ColumnMap], source: str) -> WindowSummary:
-    def get(name: str) -> float:
-        return _cell(cells, name, source, line)
-
-    days = _day(get(AT), AT, source, line)
-    units = int(get(ROWS))
-    metrics, problems = [], {}
-    for index, spec in enumerate(mapping):
-        try:
-            metrics.append(finish(spec, _part_tally(index, spec, get, units)))
-        except HistoryError as error:
-            problems[spec.name] = str(error)
-    return WindowSummary(days, units, tuple(metrics), problems)
+def _windows(parts: list[_Part], mapping: list[ColumnMap], length: int | None,
+             reached: int) -> tuple[WindowSummary, ...]:
+    """The windows, shortest first: cells are checked (and refused) as everywhere; a metric
+    whose checked figures cannot size a test becomes the window's problem."""
+    windows: dict[int, WindowSummary] = {}
+    for part in parts:
+        days = part.day(AT, length)
+        if days in windows:
+            raise HistoryError(f"{part.source}: the {days}-day window appears twice "
+                               f"({part.place})")
+        units = part.count(ROWS, reached, "units the reach counts")
+        tallies = [_part_tally(index, spec, part, units) for index, spec in enumerate(mapping)]
+        metrics, problems = [], {}
+        for spec, tally in zip(mapping, tallies, strict=True):
+            try:
+                metrics.append(finish(spec, tally))
+            except HistoryError as error:
+                problems[spec.name] = str(error)
+        windows[days] = WindowSummary(days, units, tuple(metrics), problems)
+    return tuple(windows[days] for days in sorted(windows))
 
 
 def read_warehouse_file(path: str | os.PathLike, mapping: Sequence[ColumnMap]) -> HistorySummary:
     """:func:`read_warehouse_result` of a small saved result file (up to 1 MB)."""
     path = Path(path)
+    if "\x00" in str(path):
+        raise HistoryError(f"{str(path)!r}: the file name holds a NUL character")
     try:
-        data = path.read_bytes()[: _MAX_RESULT_BYTES + 1]
+        with open(path, "rb") as handle:
+            data = handle.read(_MAX_RESULT_BYTES + 1)
     except OSError as error:
         raise HistoryError(f"{path}: cannot be read ({error.strerror})") from None
     if len(data) > _MAX_RESULT_BYTES:
         raise HistoryError(f"{path.name}: a query result should be a few lines, not over 1 MB")
+    if b"\x00" in data:
+        raise HistoryError(f"{path.name}: not a text file (it contains binary data)")
     try:
         text = data.decode("utf-8-sig")
     except UnicodeDecodeError:
@@ -247,66 +404,24 @@ def read_warehouse_file(path: str | os.PathLike, mapping: Sequence[ColumnMap]) -
     return read_warehouse_result(text, mapping, source=path.name)
 
 
-def _part_tally(index: int, spec: ColumnMap, get, rows: float) -> Tally:
-    def alias(what: str) -> str:
-        return _alias(index, spec, what)
-
-    values = Moments()
-    if spec.kind != "ratio":
-        values = Moments.from_summary(get(alias("n")), _or_zero(get(alias("mean"))),
-                                      _or_zero(get(alias("var"))))
-    pairs = CoMoments()
-    if spec.kind == "ratio" or spec.pre is not None:
-        pairs = CoMoments.from_summary(
-            get(alias("pairs")), _or_zero(get(alias("mean_x"))), _or_zero(get(alias("mean_y"))),
-            _or_zero(get(alias("var_x"))), _or_zero(get(alias("var_y"))),
-            _or_zero(get(alias("cov"))),
-        )
-        if spec.kind == "ratio":
-            values = pairs.y
-    return Tally(int(rows), values, pairs)
-
-
-def _or_zero(value: float) -> float:
-    return 0.0 if math.isnan(value) else value
+_LINE_BREAK = re.compile(r"\r\n|\r|\n")
 
 
 def _table(text: str, source: str) -> tuple[list[str], list[tuple[int, list[str]]]]:
-    lines = [line for line in text.replace("\r\n", "\n").split("\n") if line.strip()]
-    lines = [line for line in lines if not set(line.strip()) <= set("-+|= ")]
-    if not lines:
+    numbered = [(number, line) for number, line in enumerate(_LINE_BREAK.split(text), start=1)
+                if line.strip() and not set(line.strip()) <= set("-+|= ")]
+    if not numbered:
         raise HistoryError(f"{source}: paste the query's result, header line first")
-    first = lines[0]
+    first = numbered[0][1]
     delimiter = max(",\t;|", key=first.count)
     if first.count(delimiter) == 0:
         raise HistoryError(f"{source}: the first line should name the result's columns")
-    parsed = list(csv.reader(io.StringIO("\n".join(lines)), delimiter=delimiter))
-    header = [cell.strip().strip('"').lower() for cell in parsed[0]]
-    rows = [(number + 2, [cell.strip() for cell in row]) for number, row in
-            enumerate(parsed[1:]) if any(cell.strip() for cell in row)]
-    return header, rows
-
-
-def _cell(cells: dict, alias: str, source: str, line: int) -> float:
-    key = alias.lower()
-    if key not in cells:
-        raise HistoryError(
-            f"{source}: no column {alias!r}; paste the whole result of the query written for "
-            "this same mapping"
-        )
-    text = cells[key]
-    if text == "" or text.upper() == "NULL":
-        return math.nan
     try:
-        value = float(text)
-    except ValueError:
-        value = math.nan
-    if not math.isfinite(value):  # nan or inf cells make a mean or variance nan or inf
-        raise HistoryError(
-            f"{source}: column {alias!r} has {text[:40]!r} on line {line}, which is not a "
-            "finite number (an infinite or not-a-number cell in the data?)"
-        )
-    if key.endswith(("_n", "_pairs")) or key == "rows":
-        if value < 0 or value != math.floor(value):
-            raise HistoryError(f"{source}: column {alias!r} on line {line} must be a count")
-    return value
+        parsed = [(number, next(csv.reader([line], delimiter=delimiter)))
+                  for number, line in numbered]
+    except csv.Error as error:
+        raise HistoryError(f"{source}: cannot be read as a table ({error})") from None
+    header = [cell.strip().strip('"').lower() for cell in parsed[0][1]]
+    rows = [(number, [cell.strip() for cell in row]) for number, row in parsed[1:]
+            if any(cell.strip() for cell in row)]
+    return header, rows

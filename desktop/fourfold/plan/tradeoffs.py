@@ -500,8 +500,12 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
         return _empty_figure("runtime", *labels,
                              "set the plan's daily units to see days of runtime")
     per_day = runtime_units(dataclasses.replace(settings, runtime_days=1.0))
-    needed = row.units_control / per_day  # exact days (the table rounds up to days or weeks)
+    needed = row.units_control / per_day if per_day > 0 else math.inf  # exact days
     longest = max(needed, result.duration_days or 0.0)
+    if not math.isfinite(longest):
+        return _empty_figure("runtime", *labels,
+                             f"at {settings.daily_units:g} daily units the days cannot be "
+                             "counted")
     weeks = int(min(MAX_WEEKS, max(WEEKS, math.ceil(longest / 7.0) + 1)))
     first = min(1.0, needed / 2.0) if math.isfinite(needed) and needed > 0 else 1.0
     days = np.linspace(first, 7.0 * weeks, max(points, 2 * weeks + 1))
@@ -509,7 +513,8 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
     other = neighbour_power(row.power)
 
     def units_after(day_values):
-        return runtime_units(dataclasses.replace(settings, runtime_days=day_values))
+        with np.errstate(over="ignore"):  # inf units where the traffic is beyond a double
+            return runtime_units(dataclasses.replace(settings, runtime_days=day_values))
 
     at_days, at_days_other, at_weeks = (
         values * scale for values in r.detectable((units_after(days), row.alpha, row.power),

@@ -49,7 +49,7 @@ from fourfold.ui.history_warehouse import HistoryWarehouse
 from fourfold.ui.history_worker import FileJob, HistoryWorker, rate_text
 
 FILE_FILTER = "History files (*.csv *.parquet *.pq);;CSV (*.csv);;All files (*)"
-ENGINES = {"automatic (the faster)": "auto", "streaming reader": "stream", "DuckDB": "duckdb"}
+ENGINES = {"automatic": "auto", "streaming reader": "stream", "DuckDB": "duckdb"}
 
 
 class HistoryDialog(HistoryMapping, HistoryTraffic, HistoryWarehouse, HistoryResults, QDialog):
@@ -188,7 +188,9 @@ class HistoryDialog(HistoryMapping, HistoryTraffic, HistoryWarehouse, HistoryRes
         self.engine_box = QComboBox()
         self.engine_box.addItems(list(ENGINES))
         self.engine_box.setToolTip("DuckDB (optional extra 'duckdb') runs the same query over "
-                                   "the file; automatic takes the faster for the format")
+                                   "the file; automatic takes it for a Parquet file's "
+                                   "figures, and the streaming reader, which checks every "
+                                   "line, otherwise")
         row.addWidget(self.engine_box)
         row.setContentsMargins(6, 6, 6, 6)
         return tab
