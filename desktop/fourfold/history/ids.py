@@ -36,7 +36,9 @@ from fourfold.history.errors import HistoryError
 _M1 = np.uint64(0xBF58476D1CE4E5B9)
 _M2 = np.uint64(0x94D049BB133111EB)
 _SEED = np.uint64(0x9E3779B97F4A7C15)
-_ALL = np.uint64(0xFFFFFFFFFFFFFFFF)
+_S30, _S27, _S31 = np.uint64(30), np.uint64(27), np.uint64(31)
+_MASKS = np.array([(1 << (8 * k)) - 1 for k in range(8)] + [(1 << 64) - 1], dtype=np.uint64)
+"""``_MASKS[k]`` keeps the low k bytes of a little-endian word (all of it for k = 8)."""
 SAMPLE_SHIFT = np.uint64(32)
 
 
@@ -47,6 +49,27 @@ def mix64(h: np.ndarray) -> np.ndarray:
     h = h ^ (h >> np.uint64(27))
     h = h * _M2
     return h ^ (h >> np.uint64(31))
+
+
+def _mix_in_place(h: np.ndarray, spare: np.ndarray) -> np.ndarray:
+    """:func:`mix64` of ``h``, written over ``h`` (``spare``: scratch of its shape), so that
+    hashing a chunk makes no temporary arrays.
+
+    Examples
+    --------
+    >>> h = np.arange(5, dtype=np.uint64)
+    >>> bool((_mix_in_place(h.copy(), np.empty_like(h)) == mix64(h)).all())
+    True
+    """
+    np.right_shift(h, _S30, out=spare)
+    h ^= spare
+    h *= _M1
+    np.right_shift(h, _S27, out=spare)
+    h ^= spare
+    h *= _M2
+    np.right_shift(h, _S31, out=spare)
+    h ^= spare
+    return h
 
 
 def _texts(series):
@@ -164,24 +187,25 @@ def hash_ids(series, column: str, where) -> np.ndarray:
     if empty.any():
         i = int(np.argmax(empty))
         raise HistoryError(f"column {column!r} is empty on {where(i)}: every row needs a unit")
-    width = int(lengths.max())
+    width, shortest = int(lengths.max()), int(lengths.min())
     # Every byte offset of `padded` read as a little-endian 64-bit word (unaligned view).
     words = np.ndarray(shape=(padded.size - 7,), dtype="<u8", buffer=padded.data, strides=(1,))
-    h = mix64(lengths.astype(np.uint64) ^ _SEED)
-    shortest = int(lengths.min())
+    h = lengths.astype(np.uint64)
+    h ^= _SEED
+    spare = np.empty_like(h)
+    _mix_in_place(h, spare)
     for j in range(0, width, 8):
-        if j + 8 <= shortest:  # a whole word of every id: no masks, no choices
-            h = mix64(h ^ words[start + j])
-            continue
-        rest = np.clip(lengths - j, 0, 8).astype(np.uint64)
-        mask = np.where(rest >= 8, _ALL, (np.uint64(1) << (rest * np.uint64(8))) - np.uint64(1))
         if j < shortest:  # every id has bytes here
-            h = mix64(h ^ (words[start + j] & mask))
+            word = words[start + j]
+            if j + 8 > shortest:  # some ids end inside this word: keep only their bytes
+                word &= _MASKS[np.minimum(lengths - j, 8)]
+            h ^= word
+            _mix_in_place(h, spare)
             continue
-        live = lengths > j
-        word = np.zeros(n, np.uint64)
-        word[live] = words[start[live] + j]
-        h = np.where(live, mix64(h ^ (word & mask)), h)
+        live = np.flatnonzero(lengths > j)  # the ids that go on past byte j
+        part = h[live]
+        part ^= words[start[live] + j] & _MASKS[np.minimum(lengths[live] - j, 8)]
+        h[live] = _mix_in_place(part, np.empty_like(part))
     return h
 
 
@@ -297,6 +321,21 @@ class UnitTable:
         called before the table would hold more than :attr:`limit` units; it must raise the
         level (see :meth:`raise_level`) or stop.
         """
+        return self.locate(keys, days, add=add, on_full=on_full)[0]
+
+    def locate(self, keys: np.ndarray, days: np.ndarray, *, add: bool = True,
+               on_full=None) -> tuple[np.ndarray, np.ndarray]:
+        """:meth:`index`, and each row's days since its unit's first day as it stands once
+        the chunk is in (int32; 0 for a row outside the sample).
+
+        Examples
+        --------
+        >>> table = UnitTable(limit=1000)
+        >>> index, since = table.locate(np.array([7, 8, 7], dtype=np.uint64),
+        ...                             np.array([3, 4, 5]))
+        >>> index.tolist(), since.tolist()
+        ([0, 1, 0], [0, 0, 2])
+        """
         self._reserve()
         if self.level == 0:
             keep, found = None, self._find(keys)
@@ -304,47 +343,60 @@ class UnitTable:
             keep = self.sampled(keys)
             found = np.full(keys.size, -1, np.int64)
             found[keep] = self._find(keys[keep])
-        if not add:
-            return found
-        new = found < 0 if keep is None else keep & (found < 0)
-        if new.any():
-            unique, inverse = np.unique(keys[new], return_inverse=True)
-            while self.size + unique.size > self.limit:
-                if on_full is None:
-                    raise HistoryError(f"more than {self.limit:,} distinct units")
-                on_full()
-                keep = self.sampled(keys)
-                found[~keep] = -1
-                found[keep] = self._find(keys[keep])
-                new = keep & (found < 0)
+        if add:
+            new = found < 0 if keep is None else keep & (found < 0)
+            if new.any():
                 unique, inverse = np.unique(keys[new], return_inverse=True)
-            found[new] = self._insert(unique)[inverse]
-        held = found >= 0
-        if held.all():
-            at, code = found, earliest(days)
-        else:
-            at, code = found[held], earliest(np.asarray(days)[held])
-        known = self._first[at]
-        earlier = code > known  # new units (known 0) and rows before a unit's first day
-        if (earlier & (known > 0)).any():
-            self.out_of_order = True
-        np.maximum.at(self._first, at[earlier], code[earlier])
-        return found
+                while self.size + unique.size > self.limit:
+                    if on_full is None:
+                        raise HistoryError(f"more than {self.limit:,} distinct units")
+                    on_full()
+                    keep = self.sampled(keys)
+                    found[~keep] = -1
+                    found[keep] = self._find(keys[keep])
+                    new = keep & (found < 0)
+                    unique, inverse = np.unique(keys[new], return_inverse=True)
+                found[new] = self._insert(unique)[inverse]
+        held = None if keep is None and add else found >= 0
+        every = held is None or bool(held.all())
+        at = found if every else found[held]
+        code = earliest(days) if every else earliest(np.asarray(days)[held])
+        first = self._first[at]
+        if add:
+            earlier = code > first  # new units (first 0) and rows before a unit's first day
+            moved = bool((earlier & (first > 0)).any())
+            self.out_of_order |= moved
+            np.maximum.at(self._first, at[earlier], code[earlier])
+            if moved:  # a known unit's first day came earlier: read every row's again
+                first = self._first[at]
+            else:  # only new units' first days are new
+                first[earlier] = self._first[at[earlier]]
+        first -= code  # code difference = days since the first day
+        if every:
+            return found, first
+        since = np.zeros(keys.size, np.int32)
+        since[held] = first
+        return found, since
 
     def _find(self, keys: np.ndarray) -> np.ndarray:
         mask = self._slots.size - 1
-        slot = (keys & np.uint64(mask)).astype(np.int64)
-        # The first probe finds nearly every key (the table is at most half full).
+        slot = (keys & np.uint64(mask)).view(np.int64)
+        # The first probe finds nearly every key (the table is at most half full). An empty
+        # slot (−1) reads the last reserved key, which `filled` then sets aside.
         held = self._slots[slot]
-        out = np.where((held >= 0) & (self._keys[np.maximum(held, 0)] == keys), held, -1)
-        todo = np.flatnonzero((out < 0) & (held >= 0))
+        filled = held >= 0
+        same = self._keys[held] == keys
+        same &= filled
+        out = np.where(same, held, -1)
+        todo = np.flatnonzero(filled ^ same)
         while todo.size:
             slot[todo] = (slot[todo] + 1) & mask
             held = self._slots[slot[todo]]
-            empty = held < 0
-            hit = ~empty & (self._keys[np.maximum(held, 0)] == keys[todo])
-            out[todo[hit]] = held[hit]
-            todo = todo[~empty & ~hit]
+            filled = held >= 0
+            same = self._keys[held] == keys[todo]
+            same &= filled
+            out[todo[same]] = held[same]
+            todo = todo[filled ^ same]
         return out
 
     def _insert(self, keys: np.ndarray) -> np.ndarray:
