@@ -182,12 +182,14 @@ class Exposure:
         self.block = self.dense + self.sparse
         self._amounts: np.ndarray | None = None
         self._where: np.ndarray | None = None
+        self._sparse_used = False
         self.start = table.add_columns(BANDS * self.dense)
         self.sparse_start = table.add_columns(BANDS * self.sparse, matrix=1)
 
     def clear(self) -> None:
         """Forget every sum (before a second pass)."""
         self.table.clear_columns()
+        self._sparse_used = False
 
     def add(self, index: np.ndarray, offset: np.ndarray, value) -> None:
         """Add a chunk: ``index`` the unit of each row (−1: not followed), ``offset`` its
@@ -202,9 +204,12 @@ class Exposure:
             x = value(column, kind)
             return x if every else x[rows]
 
-        band = np.minimum(offset // BAND_DAYS, BANDS - 1)
-        width = self.table.rows.shape[1]
-        base = index * width + self.start + band * self.dense
+        band = offset // BAND_DAYS
+        np.minimum(band, BANDS - 1, out=band)
+        base = index.astype(np.int64)
+        base *= self.table.rows.shape[1]
+        base += self.start
+        base += band * self.dense
         amounts, where = self._buffers(index.size)
         amounts[:, 0] = 1.0
         empty: list[tuple[int, np.ndarray]] = []
@@ -214,29 +219,33 @@ class Exposure:
             x = numbers(spec.column, "mean" if spec.kind == "ratio" else spec.kind)
             if spec.kind == "ratio":
                 d = numbers(spec.denominator, "mean")
-                present = ~(np.isnan(x) | np.isnan(d))
-                amounts[:, place["num"]] = np.where(present, x, 0.0)
-                amounts[:, place["den"]] = np.where(present, d, 0.0)
+                missing = np.isnan(x)
+                missing |= np.isnan(d)
+                _put(amounts[:, place["num"]], x, missing)
+                _put(amounts[:, place["den"]], d, missing)
+            elif spec.kind == "proportion":
+                missing = np.isnan(x)
+                np.equal(x, 1.0, out=amounts[:, place["true"]])
             else:
-                present = ~np.isnan(x)
-                if spec.kind == "proportion":
-                    amounts[:, place["true"]] = x == 1.0
-                else:
-                    amounts[:, place["sum"]] = np.where(present, x, 0.0)
-            empty.append((place["miss"], ~present))
+                missing = np.isnan(x)
+                _put(amounts[:, place["sum"]], x, missing)
+            empty.append((place["miss"], missing))
             if spec.pre is not None:
                 pre = numbers(spec.pre, spec.kind)
-                has = ~np.isnan(pre)
-                amounts[:, place["pre"]] = np.where(has, pre, 0.0)
-                empty.append((place["pre_miss"], ~has))
+                missing = np.isnan(pre)
+                _put(amounts[:, place["pre"]], pre, missing)
+                empty.append((place["pre_miss"], missing))
         flat = self.table.rows.reshape(-1)
         np.add(base[:, None], np.arange(self.dense), out=where)
         np.add.at(flat, where.reshape(-1), amounts.reshape(-1))
-        if not any(mask.any() for _, mask in empty):
+        empty = [(column, mask) for column, mask in empty if mask.any()]
+        if not empty:
             return
+        self._sparse_used = True
         sparse = self.table.matrix(1)
-        base = index * sparse.shape[1] + self.sparse_start + band * self.sparse - self.dense
-        cells = [base[mask] + column for column, mask in empty if mask.any()]
+        base = index.astype(np.int64) * sparse.shape[1] + self.sparse_start \
+            + band * self.sparse - self.dense
+        cells = [base[mask] + column for column, mask in empty]
         np.add.at(sparse.reshape(-1), np.concatenate(cells), 1.0)
 
     def _buffers(self, rows: int) -> tuple[np.ndarray, np.ndarray]:
@@ -261,31 +270,30 @@ class Exposure:
         tallies = [[Tally() for _ in self.mapping] for _ in plan]
         kept: list[list[list]] = [[[] for _ in self.mapping] for _ in plan]
         rows, sparse = self.table.rows, self.table.matrix(1)
-        # One slice of units at a time, band by band, in buffers kept for the whole call.
-        part = np.empty((BANDS, min(_UNITS_AT_ONCE, start.size), self.block))
-        running = np.empty_like(part)
-        for a in range(0, start.size, _UNITS_AT_ONCE):
-            end = min(a + _UNITS_AT_ONCE, start.size)
-            here, cum = part[:, :end - a], running[:, :end - a]
-            here[:, :, :self.dense] = rows[a:end, self.start:self.start + BANDS * self.dense
-                                           ].reshape(-1, BANDS, self.dense).transpose(1, 0, 2)
-            if self.sparse:
-                here[:, :, self.dense:] = sparse[
-                    a:end, self.sparse_start:self.sparse_start + BANDS * self.sparse
-                ].reshape(-1, BANDS, self.sparse).transpose(1, 0, 2)
-            cum[0] = here[0]
+        dense = rows[:, self.start:self.start + BANDS * self.dense]
+        sparse = sparse[:, self.sparse_start:self.sparse_start + BANDS * self.sparse]
+        width = self.block if self._sparse_used else self.dense  # the columns ever added to
+        step = max(1, min(_UNITS_AT_ONCE, start.size))
+        # A slice of units' sums cumulated over the bands, as (band, column, unit): each
+        # column of a band is one contiguous array. Columns never added to stay zero.
+        cum = np.zeros((BANDS, self.block, step))
+        for a in range(0, start.size, step):
+            end = min(a + step, start.size)
+            here = cum[:, :, :end - a]
+            here[:, :self.dense] = dense[a:end].reshape(-1, BANDS, self.dense).transpose(1, 2, 0)
+            if width > self.dense:
+                here[:, self.dense:] = sparse[a:end].reshape(-1, BANDS, self.sparse
+                                                             ).transpose(1, 2, 0)
             for band in range(1, BANDS):
-                np.add(cum[band - 1], here[band], out=cum[band])
+                here[band, :width] += here[band - 1, :width]
             for w, (_, complete, bands) in enumerate(plan):
-                chosen = np.flatnonzero(complete[a:a + _UNITS_AT_ONCE])
-                if not chosen.size:
+                chosen = complete[a:end]
+                if not chosen.any():
                     continue
-                inside = cum[bands - 1].take(chosen, axis=0)
-                whole = cum[-1].take(chosen, axis=0)
                 for i, (spec, place) in enumerate(zip(self.mapping, self.places, strict=True)):
                     if place is None:
                         continue
-                    values = _values(spec, place, inside, whole)
+                    values = _values(spec, place, here[bands - 1], here[-1], chosen)
                     if spec.cap is None:
                         tallies[w][i] = tallies[w][i].merge(_tally(spec, *values))
                     else:
@@ -313,26 +321,36 @@ class Exposure:
         return tuple(out)
 
 
-_UNITS_AT_ONCE = 1 << 17
+_UNITS_AT_ONCE = 1 << 15
 
 
-def _values(spec: ColumnMap, place: dict[str, int], inside: np.ndarray, whole: np.ndarray):
+def _put(column: np.ndarray, x: np.ndarray, missing: np.ndarray) -> None:
+    """Write ``x`` into ``column``, 0 where ``missing``."""
+    column[...] = x
+    if missing.any():
+        column[missing] = 0.0
+
+
+def _values(spec: ColumnMap, place: dict[str, int], inside: np.ndarray, whole: np.ndarray,
+            chosen: np.ndarray):
     """The metric's per-unit values in a window (units with a value only) and its other
     column: the denominator of a ratio, the pre-period value (nan where none), or None.
     ``inside`` holds the units' sums over the window's bands, ``whole`` over all bands (the
-    pre-period value is a unit attribute); column 0 is the unit's rows."""
-    present = inside[:, 0] - inside[:, place["miss"]] > 0
+    pre-period value is a unit attribute), a row per column (row 0: the unit's rows);
+    ``chosen`` marks the units whose window lies inside the history."""
+    present = inside[0] > inside[place["miss"]]
+    present &= chosen
     if spec.kind == "ratio":
-        return inside[present, place["num"]], inside[present, place["den"]]
+        return inside[place["num"]][present], inside[place["den"]][present]
     if spec.kind == "proportion":
-        x = (inside[present, place["true"]] > 0).astype(np.float64)
+        x = (inside[place["true"]][present] > 0).astype(np.float64)
     else:
-        x = inside[present, place["sum"]]
+        x = inside[place["sum"]][present]
     if spec.pre is None:
         return x, None
-    pre_n = whole[present, 0] - whole[present, place["pre_miss"]]
+    pre_n = whole[0][present] - whole[place["pre_miss"]][present]
     with np.errstate(invalid="ignore", divide="ignore"):
-        pre = np.where(pre_n > 0, whole[present, place["pre"]] / pre_n, np.nan)
+        pre = np.where(pre_n > 0, whole[place["pre"]][present] / pre_n, np.nan)
     return x, pre
 
 

@@ -75,26 +75,22 @@ class TrafficPass:
         keys = hash_ids(chunk.columns[self.unit], self.unit, where)
         days = self.days(chunk.columns[self.time], where)
         self._span(days)
-        index = self.table.index(keys, days, on_full=self._thin)
+        index, since = self.table.locate(keys, days, on_full=self._thin)
         if self.sketch is not None:
             self.sketch.add(days, keys)
         self.rows += len(keys)
         if not self.table.out_of_order:
-            self._sum(index, days, value)
+            self.exposure.add(index, since, value)
 
     def add_again(self, chunk, value, where) -> None:
         """Sum the chunk's windows with the final first days (second pass)."""
         keys = hash_ids(chunk.columns[self.unit], self.unit, where)
         days = self.days(chunk.columns[self.time], where)
-        self._sum(self.table.index(keys, days, add=False), days, value)
+        self.exposure.add(*self.table.locate(keys, days, add=False), value)
 
     def restart(self) -> None:
         """Clear the window sums before the second pass."""
         self.exposure.clear()
-
-    def _sum(self, index: np.ndarray, days: np.ndarray, value) -> None:
-        offset = days - self.table.first_days(np.maximum(index, 0))
-        self.exposure.add(index, offset, value)
 
     def _span(self, days: np.ndarray) -> None:
         if days.size == 0:
