@@ -211,34 +211,32 @@ class Exposure:
         base += self.start
         base += band * self.dense
         amounts, where = self._buffers(index.size)
-        amounts[:, 0] = 1.0
-        empty: list[tuple[int, np.ndarray]] = []
+        empty: list[tuple[int, np.ndarray | None]] = []
         for spec, place in zip(self.mapping, self.places, strict=True):
             if place is None:
                 continue
             x = numbers(spec.column, "mean" if spec.kind == "ratio" else spec.kind)
             if spec.kind == "ratio":
                 d = numbers(spec.denominator, "mean")
-                missing = np.isnan(x)
-                missing |= np.isnan(d)
+                missing = _missing(x, d)
                 _put(amounts[:, place["num"]], x, missing)
                 _put(amounts[:, place["den"]], d, missing)
             elif spec.kind == "proportion":
-                missing = np.isnan(x)
+                missing = _missing(x)
                 np.equal(x, 1.0, out=amounts[:, place["true"]])
             else:
-                missing = np.isnan(x)
+                missing = _missing(x)
                 _put(amounts[:, place["sum"]], x, missing)
             empty.append((place["miss"], missing))
             if spec.pre is not None:
                 pre = numbers(spec.pre, spec.kind)
-                missing = np.isnan(pre)
+                missing = _missing(pre)
                 _put(amounts[:, place["pre"]], pre, missing)
                 empty.append((place["pre_miss"], missing))
         flat = self.table.rows.reshape(-1)
         np.add(base[:, None], np.arange(self.dense), out=where)
         np.add.at(flat, where.reshape(-1), amounts.reshape(-1))
-        empty = [(column, mask) for column, mask in empty if mask.any()]
+        empty = [(column, mask) for column, mask in empty if mask is not None]
         if not empty:
             return
         self._sparse_used = True
@@ -253,6 +251,7 @@ class Exposure:
         arrays would be fresh pages of memory, each written for the first time)."""
         if self._amounts is None or len(self._amounts) < rows:
             self._amounts = np.empty((rows, self.dense))
+            self._amounts[:, 0] = 1.0  # column 0 counts rows; nothing writes over it
             self._where = np.empty((rows, self.dense), np.int64)
         return self._amounts[:rows], self._where[:rows]
 
@@ -324,10 +323,21 @@ class Exposure:
 _UNITS_AT_ONCE = 1 << 15
 
 
-def _put(column: np.ndarray, x: np.ndarray, missing: np.ndarray) -> None:
+def _missing(*columns: np.ndarray) -> np.ndarray | None:
+    """Where any of the columns is empty (nan), or None when none is: a sum reads each
+    column once, and is nan only when a value is (the values are finite)."""
+    if not any(np.isnan(np.add.reduce(x)) for x in columns):
+        return None
+    missing = np.isnan(columns[0])
+    for x in columns[1:]:
+        missing |= np.isnan(x)
+    return missing if missing.any() else None
+
+
+def _put(column: np.ndarray, x: np.ndarray, missing: np.ndarray | None) -> None:
     """Write ``x`` into ``column``, 0 where ``missing``."""
     column[...] = x
-    if missing.any():
+    if missing is not None:
         column[missing] = 0.0
 
 

@@ -360,17 +360,19 @@ class UnitTable:
         held = None if keep is None and add else found >= 0
         every = held is None or bool(held.all())
         at = found if every else found[held]
-        code = earliest(days) if every else earliest(np.asarray(days)[held])
+        code = earliest(days if every else np.asarray(days)[held])
         first = self._first[at]
         if add:
-            earlier = code > first  # new units (first 0) and rows before a unit's first day
-            moved = bool((earlier & (first > 0)).any())
+            # New units (first 0) and rows before a unit's first day lower first days.
+            earlier = np.flatnonzero(code > first)
+            moved = bool((first[earlier] > 0).any())
             self.out_of_order |= moved
-            np.maximum.at(self._first, at[earlier], code[earlier])
+            units = at[earlier]
+            np.maximum.at(self._first, units, code[earlier])
             if moved:  # a known unit's first day came earlier: read every row's again
                 first = self._first[at]
             else:  # only new units' first days are new
-                first[earlier] = self._first[at[earlier]]
+                first[earlier] = self._first[units]
         first -= code  # code difference = days since the first day
         if every:
             return found, first
@@ -458,7 +460,9 @@ def earliest(days: np.ndarray) -> np.ndarray:
     >>> latest(np.maximum(earliest(np.array([5])), earliest(np.array([3])))).tolist()
     [3]
     """
-    return (_EARLY - np.asarray(days, dtype=np.int64)).astype(np.int32)
+    days = np.asarray(days, dtype=np.int64)
+    return np.subtract(np.int64(_EARLY), days, out=np.empty(days.shape, np.int32),
+                       casting="same_kind")
 
 
 def latest(codes: np.ndarray) -> np.ndarray:
