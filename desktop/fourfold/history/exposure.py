@@ -152,13 +152,15 @@ rows without a value (so that its rows with one are the unit's rows less those).
 class Exposure:
     """Per-unit sums of each metric by band of days since the unit's first day.
 
-    The sums are columns of the :class:`~fourfold.history.ids.UnitTable`'s rows (they grow,
-    shrink and are sampled with it), one block per band holding the unit's rows in the band
-    and every quantity the mapping adds up (see ``_QUANTITIES``; a pre-period column adds its
-    sum and its empty cells), so that a file row's updates are side by side in memory and one
-    ``np.add.at`` call makes them all; empty cells, usually few, are counted by a second call
-    over those rows only. :meth:`add` takes a chunk's rows with their unit and day offset;
-    :meth:`windows` turns the sums into one :class:`WindowSummary` per window.
+    The sums are matrices of the :class:`~fourfold.history.ids.UnitTable` (they grow,
+    shrink and are sampled with it), one per band, whose row for a unit holds the unit's rows
+    in the band and every quantity the mapping adds up (see ``_QUANTITIES``; a pre-period
+    column adds its sum and its empty cells), so that a file row's updates are side by side
+    in memory and one ``np.add.at`` call makes them all; empty cells, usually few, are counted
+    by a second call over those rows only, in a matrix of their own. A band no row reaches
+    (days 29 on, in a history of four weeks) takes no memory. :meth:`add` takes a chunk's
+    rows with their unit and day offset; :meth:`windows` turns the sums into one
+    :class:`WindowSummary` per window.
     """
 
     def __init__(self, mapping: list[ColumnMap], table) -> None:
@@ -183,8 +185,8 @@ class Exposure:
         self._amounts: np.ndarray | None = None
         self._where: np.ndarray | None = None
         self._sparse_used = False
-        self.start = table.add_columns(BANDS * self.dense)
-        self.sparse_start = table.add_columns(BANDS * self.sparse, matrix=1)
+        self.bands = [table.add_matrix(self.dense) for _ in range(BANDS)]
+        self.sparse_matrix = table.add_matrix(BANDS * self.sparse)
 
     def clear(self) -> None:
         """Forget every sum (before a second pass)."""
@@ -206,10 +208,10 @@ class Exposure:
 
         band = offset // BAND_DAYS
         np.minimum(band, BANDS - 1, out=band)
+        starts = np.array([self.table.offset(number) for number in self.bands])
         base = index.astype(np.int64)
-        base *= self.table.rows.shape[1]
-        base += self.start
-        base += band * self.dense
+        base *= self.dense
+        base += starts[band]
         amounts, where = self._buffers(index.size)
         empty: list[tuple[int, np.ndarray | None]] = []
         for spec, place in zip(self.mapping, self.places, strict=True):
@@ -233,16 +235,14 @@ class Exposure:
                 missing = _missing(pre)
                 _put(amounts[:, place["pre"]], pre, missing)
                 empty.append((place["pre_miss"], missing))
-        flat = self.table.rows.reshape(-1)
         np.add(base[:, None], np.arange(self.dense), out=where)
-        np.add.at(flat, where.reshape(-1), amounts.reshape(-1))
+        np.add.at(self.table.flat, where.reshape(-1), amounts.reshape(-1))
         empty = [(column, mask) for column, mask in empty if mask is not None]
         if not empty:
             return
         self._sparse_used = True
-        sparse = self.table.matrix(1)
-        base = index.astype(np.int64) * sparse.shape[1] + self.sparse_start \
-            + band * self.sparse - self.dense
+        sparse = self.table.matrix(self.sparse_matrix)
+        base = index.astype(np.int64) * sparse.shape[1] + band * self.sparse - self.dense
         cells = [base[mask] + column for column, mask in empty]
         np.add.at(sparse.reshape(-1), np.concatenate(cells), 1.0)
 
@@ -268,9 +268,8 @@ class Exposure:
                 for d in window_days(days)]
         tallies = [[Tally() for _ in self.mapping] for _ in plan]
         kept: list[list[list]] = [[[] for _ in self.mapping] for _ in plan]
-        rows, sparse = self.table.rows, self.table.matrix(1)
-        dense = rows[:, self.start:self.start + BANDS * self.dense]
-        sparse = sparse[:, self.sparse_start:self.sparse_start + BANDS * self.sparse]
+        by_band = [self.table.matrix(number) for number in self.bands]
+        sparse = self.table.matrix(self.sparse_matrix)
         width = self.block if self._sparse_used else self.dense  # the columns ever added to
         step = max(1, min(_UNITS_AT_ONCE, start.size))
         # A slice of units' sums cumulated over the bands, as (band, column, unit): each
@@ -279,7 +278,8 @@ class Exposure:
         for a in range(0, start.size, step):
             end = min(a + step, start.size)
             here = cum[:, :, :end - a]
-            here[:, :self.dense] = dense[a:end].reshape(-1, BANDS, self.dense).transpose(1, 2, 0)
+            for sums, rows in zip(here, by_band, strict=True):
+                sums[:self.dense] = rows[a:end].T
             if width > self.dense:
                 here[:, self.dense:] = sparse[a:end].reshape(-1, BANDS, self.sparse
                                                              ).transpose(1, 2, 0)

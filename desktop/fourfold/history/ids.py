@@ -210,14 +210,16 @@ def hash_ids(series, column: str, where) -> np.ndarray:
 
 
 class UnitTable:
-    """Distinct unit hashes with a dense index, each unit's first day and a row of numbers.
+    """Distinct unit hashes with a dense index, each unit's first day and matrices of numbers.
 
-    The columns of the rows are its users' (:meth:`add_columns`); a unit's numbers sit side
-    by side, so the updates a file row makes to its unit touch one place in memory.
+    The matrices are its users' (:meth:`add_matrix`): a row of numbers per unit in each, so
+    the updates a file row makes to its unit's row touch one place in memory.
 
-    The keys and rows are reserved for ``limit`` units at once, as zero pages that the system
-    backs with memory only where units are written (rows are filled from the top), so growing
-    never copies them; the slots of the hash table double as units arrive.
+    The keys and matrices are reserved for ``limit`` units at once, as zero pages that the
+    system backs with memory only where units are written (rows are filled from the top), so
+    growing never copies them and a matrix no row writes to takes no memory; the slots of the
+    hash table double as units arrive. The matrices lie one after another in one array
+    (:attr:`flat`), so that one ``np.add.at`` call can update several of them.
 
     Parameters
     ----------
@@ -240,51 +242,67 @@ class UnitTable:
         self.level = 0
         self.size = 0
         self.out_of_order = False
-        self._widths = [0, 0]
+        self._widths: list[int] = []
         self._first: np.ndarray | None = None
         self._keys: np.ndarray | None = None
-        self._matrices: list[np.ndarray] | None = None
+        self._flat: np.ndarray | None = None
+        self._matrices: list[np.ndarray] = []
         self._slots = np.full(_slots_for(1 << 15), -1, np.int32)
 
     # -- per-unit numbers ------------------------------------------------------------------
 
-    def add_columns(self, count: int, matrix: int = 0) -> int:
-        """Add ``count`` columns of zeros to every unit's row of ``matrix`` (0: the numbers
-        every file row updates; 1: numbers few rows update, kept apart so that they do not
-        thin out the others in memory); the first new column's number.
+    def add_matrix(self, width: int) -> int:
+        """Add a matrix of ``width`` zeros per unit; its number.
 
-        Every column starts at zero, so fresh memory is not written before it is used.
+        Every number starts at zero, so fresh memory is not written before it is used.
+
+        Examples
+        --------
+        >>> table = UnitTable(limit=4)
+        >>> table.add_matrix(2), table.add_matrix(3)
+        (0, 1)
+        >>> table.matrix(1).shape, table.offset(1)
+        ((4, 3), 8)
         """
-        if self._matrices is not None:
-            raise RuntimeError("add columns before the first unit")
-        start = self._widths[matrix]
-        self._widths[matrix] += count
-        return start
+        if self._flat is not None:
+            raise RuntimeError("add matrices before the first unit")
+        self._widths.append(int(width))
+        return len(self._widths) - 1
 
     def clear_columns(self) -> None:
-        """Set every added column back to zero (first days stay)."""
-        for values in self._all():
+        """Set every matrix back to zero (first days stay)."""
+        self._reserve()
+        for values in self._matrices:
             values[:self.size] = 0.0
 
-    @property
-    def rows(self) -> np.ndarray:
-        """The units' rows of matrix 0, shape (limit, width); the first :attr:`size` are in
-        use."""
-        return self.matrix(0)
-
     def matrix(self, number: int) -> np.ndarray:
-        """The units' rows of matrix ``number`` (see :meth:`add_columns`)."""
-        return self._all()[number]
-
-    def _all(self) -> list[np.ndarray]:
+        """The units' rows of matrix ``number``, shape (limit, width); the first
+        :attr:`size` rows are in use."""
         self._reserve()
-        return self._matrices
+        return self._matrices[number]
+
+    @property
+    def flat(self) -> np.ndarray:
+        """Every matrix, one after another, as one array."""
+        self._reserve()
+        return self._flat
+
+    def offset(self, number: int) -> int:
+        """Where matrix ``number`` starts in :attr:`flat`."""
+        self._reserve()
+        return self.limit * sum(self._widths[:number])
 
     def _reserve(self) -> None:
-        if self._matrices is None:
+        if self._flat is None:
             self._keys = np.zeros(self.limit, np.uint64)
             self._first = np.zeros(self.limit, np.int32)
-            self._matrices = [np.zeros((self.limit, width)) for width in self._widths]
+            self._flat = np.zeros(self.limit * sum(self._widths))
+            self._matrices = []
+            start = 0
+            for width in self._widths:
+                end = start + self.limit * width
+                self._matrices.append(self._flat[start:end].reshape(self.limit, width))
+                start = end
 
     @property
     def bytes_per_unit(self) -> int:
@@ -385,12 +403,12 @@ class UnitTable:
         slot = (keys & np.uint64(mask)).view(np.int64)
         # The first probe finds nearly every key (the table is at most half full). An empty
         # slot (−1) reads the last reserved key, which `filled` then sets aside.
-        held = self._slots[slot]
-        filled = held >= 0
-        same = self._keys[held] == keys
+        out = self._slots[slot]
+        filled = out >= 0
+        same = self._keys[out] == keys
         same &= filled
-        out = np.where(same, held, -1)
         todo = np.flatnonzero(filled ^ same)
+        out[todo] = -1  # a slot held by another key: probe on
         while todo.size:
             slot[todo] = (slot[todo] + 1) & mask
             held = self._slots[slot[todo]]
