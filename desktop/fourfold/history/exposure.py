@@ -45,6 +45,8 @@ BAND_DAYS = 7
 BANDS = 5
 MAX_DAYS = 3660
 """The longest history the reach curve and windows follow (ten years of days)."""
+_BAND_OF_DAY = np.minimum(np.arange(MAX_DAYS) // BAND_DAYS, BANDS - 1)
+"""The band of each number of days since a unit's first day."""
 
 
 def window_days(days: int) -> tuple[int, ...]:
@@ -206,12 +208,10 @@ class Exposure:
             x = value(column, kind)
             return x if every else x[rows]
 
-        band = offset // BAND_DAYS
-        np.minimum(band, BANDS - 1, out=band)
+        # Where each row's band starts in the table, looked up by days since the first day.
         starts = np.array([self.table.offset(number) for number in self.bands])
-        base = index.astype(np.int64)
-        base *= self.dense
-        base += starts[band]
+        base = starts[_BAND_OF_DAY][offset]
+        base += np.multiply(index, self.dense, dtype=np.int64)
         amounts, where = self._buffers(index.size)
         empty: list[tuple[int, np.ndarray | None]] = []
         for spec, place in zip(self.mapping, self.places, strict=True):
@@ -242,6 +242,7 @@ class Exposure:
             return
         self._sparse_used = True
         sparse = self.table.matrix(self.sparse_matrix)
+        band = _BAND_OF_DAY[offset]
         base = index.astype(np.int64) * sparse.shape[1] + band * self.sparse - self.dense
         cells = [base[mask] + column for column, mask in empty]
         np.add.at(sparse.reshape(-1), np.concatenate(cells), 1.0)
