@@ -16,6 +16,7 @@ from history_frames import VISIT_MAPPING as MAPPING
 from fourfold import cli
 from fourfold.history import ColumnMap, HistoryError, read_history
 from fourfold.history.exposure import window_days
+from fourfold.history.ids import hash_ids
 
 
 def _day_index(frame):
@@ -268,3 +269,83 @@ def test_a_quantile_alone_has_reach_but_no_windows(visits_csv, visits):
     assert list(summary.reach.units) == _pandas_reach(visits)
     assert all(w.get("spend p90") is None and "quantile" in w.problems["spend p90"]
                for w in summary.windows)
+
+
+@pytest.mark.parametrize("chunk_rows, units_at_once", [(13, 5), (97, 64), (1_000, 1 << 15)])
+def test_windows_do_not_depend_on_where_chunks_and_slices_cut(visits_csv, visits, monkeypatch,
+                                                             chunk_rows, units_at_once):
+    # Chunks cut inside units' visits; the window sums are read a slice of units at a time.
+    monkeypatch.setattr("fourfold.history.exposure._UNITS_AT_ONCE", units_at_once)
+    summary = read_history(visits_csv, MAPPING, unit="visitor", time="time",
+                           chunk_rows=chunk_rows)
+    assert list(summary.reach.units) == _pandas_reach(visits)
+    _check_windows(summary, visits)
+
+
+def test_ids_and_times_of_many_widths_read_as_their_units_and_days(tmp_path, visits):
+    # Ids of several lengths (some not ASCII) and times written three ways, so that no chunk
+    # has cells of one width; the units and days are the visits' own.
+    number = visits["visitor"].str.slice(10).astype(int)
+    ids = np.where(number % 3 == 0, "é" + number.astype(str), "u" + number.astype(str))
+    when = visits["time"].str.slice(0, 10)
+    times = np.select([number % 4 == 0, number % 4 == 1],
+                      [when, when + "T" + visits["time"].str.slice(11)],
+                      when + " " + visits["time"].str.slice(11, 16))
+    path = tmp_path / "widths.csv"
+    visits.assign(visitor=ids, time=times).to_csv(path, index=False)
+    summary = read_history(path, MAPPING, unit="visitor", time="time", chunk_rows=300)
+    assert list(summary.reach.units) == _pandas_reach(visits)
+    _check_windows(summary, visits)
+
+
+@pytest.mark.parametrize("bad, words", [
+    ("2026-03-02x08:00:00", "'2026-03-02x08:00:00' on line 4"),
+    ("2026-02-30 08:00:00", "'2026-02-30 08:00:00' on line 4"),
+])
+def test_a_bad_cell_among_timestamps_of_one_width_names_its_line(tmp_path, bad, words):
+    path = tmp_path / "bad.csv"
+    path.write_text(f"u,t,x\na,2026-03-01 08:00:00,1\nb,2026-03-01 09:30:00,2\nc,{bad},3\n"
+                    "d,2026-03-03 10:00:00,4\n")
+    with pytest.raises(HistoryError, match=words):
+        read_history(path, [ColumnMap("mean", "x")], unit="u", time="t")
+
+
+def test_past_the_memory_budget_the_unit_table_stays_within_it(tmp_path, monkeypatch):
+    from fourfold.history import importer
+    from fourfold.history.traffic import TrafficPass
+
+    passes = []
+
+    class Recorded(TrafficPass):
+        def __init__(self, *args, **kwargs):
+            super().__init__(*args, **kwargs)
+            passes.append(self)
+
+    monkeypatch.setattr(importer, "TrafficPass", Recorded)
+    rng = np.random.default_rng(6)
+    who = rng.integers(0, 40_000, 100_000)
+    frame = pd.DataFrame({"u": [f"synthetic-{i}" for i in who],
+                          "day": np.sort(rng.integers(1, 40, 100_000)),
+                          "x": rng.gamma(2.0, 1.0, 100_000),
+                          "before": rng.gamma(2.0, 1.0, 40_000)[who]})
+    path = tmp_path / "many.csv"
+    frame.to_csv(path, index=False)
+    budget = 300_000
+    summary = read_history(path, [ColumnMap("mean", "x", pre="before")], unit="u", time="day",
+                           unit_memory=budget, chunk_rows=7_000)
+    table = passes[0].table
+    assert not summary.reach.exact and table.level >= 2
+    assert table.size <= table.limit and table.nbytes <= 1.5 * budget  # see traffic.py
+    # Windows of the sampled units equal pandas' over the same units (each followed from its
+    # first row); the sample is by id, so the same units whatever the chunks.
+    sampled = table.sampled(hash_ids(frame["u"], "u", str))
+    kept = frame[sampled].rename(columns={"u": "visitor"})
+    day = kept["day"]
+    first = day.groupby(kept["visitor"]).transform("min")
+    for window in summary.windows:
+        complete = first + window.days - 1 <= day.max()
+        inside = kept[complete & (day - first < window.days)]
+        values = inside.groupby("visitor")["x"].sum()
+        assert window.units == kept.loc[complete, "visitor"].nunique() == len(values)
+        assert window["x"].mean == pytest.approx(values.mean(), rel=1e-12)
+        assert window["x"].sd == pytest.approx(values.std(), rel=1e-12)

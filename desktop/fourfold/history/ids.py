@@ -309,6 +309,14 @@ class UnitTable:
         """Bytes held per unit at most: hash, first day, slots and the unit's rows."""
         return 8 + 4 + 16 + 8 * sum(self._widths)
 
+    @property
+    def nbytes(self) -> int:
+        """Bytes the table holds now: the keys, first days and matrices reserved for
+        :attr:`limit` units (the system backs only the pages written) and the slots."""
+        reserved = 0 if self._flat is None else \
+            self._keys.nbytes + self._first.nbytes + self._flat.nbytes
+        return reserved + self._slots.nbytes
+
     def keys(self) -> np.ndarray:
         """The hashes of the units held."""
         return self._keys[:self.size] if self._keys is not None else np.empty(0, np.uint64)
