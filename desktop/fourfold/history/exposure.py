@@ -321,7 +321,7 @@ class Exposure:
         return tuple(out)
 
 
-_UNITS_AT_ONCE = 1 << 15
+_UNITS_AT_ONCE = 1 << 14
 
 
 def _missing(*columns: np.ndarray) -> np.ndarray | None:
