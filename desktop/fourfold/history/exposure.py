@@ -22,6 +22,8 @@ day, slots), and :class:`Exposure` keeps, for each of five bands of days since t
 two numbers per metric (three for a ratio, two more for a pre-period column): 40 bytes, plus
 80 per mean, count or proportion metric, 120 per ratio and 80 per pre-period column. One mean
 with its pre-period column takes 224 bytes a unit; the six metrics of the sample history 744.
+That is reserved; the system backs a band's memory only once a row reaches it, so a history
+of four weeks or less (nothing from day 29 on) takes a fifth less.
 Past the memory budget (:data:`fourfold.history.traffic.DEFAULT_UNIT_MEMORY`) the windows come
 from a hashed sample of units (one in 2ᵏ, chosen by id, so never a unit's partial history)
 and the report says so.
