@@ -84,7 +84,7 @@ import operator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
-from fourfold.plan import kinds, sequential
+from fourfold.plan import kinds, sequential, traffic
 from fourfold.plan.arms import row_alphas, treatment_ratio
 from fourfold.plan.fields import CORRECTION_LABELS, METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Plan
@@ -391,7 +391,8 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
     ``df.attrs`` (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``,
     ``notes``, ``status`` — ``"complete"`` or ``"incomplete"`` —, ``incomplete`` — one dict of
     ``index``, ``name`` and ``reason`` per deciding row that cannot be computed — and
-    ``settings``).
+    ``settings``, whose traffic model fields — :data:`fourfold.plan.traffic.TRAFFIC_SETTINGS`
+    — are there only for a plan that uses them).
 
     Examples
     --------
@@ -424,6 +425,7 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
         notes=list(result.notes),
         status=result.status,
         incomplete=[dataclasses.asdict(item) for item in result.incomplete],
-        settings={name: getattr(plan.settings, name) for name in SETTINGS_FIELDS},
+        settings={name: getattr(plan.settings, name) for name in SETTINGS_FIELDS
+                  if name not in traffic.TRAFFIC_SETTINGS or traffic.uses_model(plan.settings)},
     )
     return frame

@@ -27,7 +27,7 @@ figure's three curves another. Every curve uses the row's own design, exactly as
 multiple comparisons) and power come from the row's result, units are multiplied by the row's
 design factor and, with interim looks, by the inflation of the group sequential design the
 evaluation gives the row at that α and power (:mod:`fourfold.plan.sequential`), and days turn
-into units through :func:`fourfold.plan.evaluation.runtime_units`.
+into units through the plan's traffic model (:func:`fourfold.plan.traffic.control_units`).
 Each figure carries the row's design point, which lies on its solid curve. Effects are shown in
 display units: percent of the baseline for relative rows, percentage points for absolute
 proportions, the metric's own units otherwise (``Tradeoffs.effect_scale`` converts back).
@@ -55,7 +55,6 @@ Examples
 
 from __future__ import annotations
 
-import dataclasses
 import functools
 import math
 from dataclasses import dataclass
@@ -65,9 +64,9 @@ from scipy.special import ndtri
 
 from fourfold import engine
 from fourfold.formatting import format_days
-from fourfold.plan import kinds, sequential
+from fourfold.plan import kinds, sequential, traffic
 from fourfold.plan.arms import treatment_ratio
-from fourfold.plan.evaluation import PlanResult, RowResult, compute, runtime_units
+from fourfold.plan.evaluation import PlanResult, RowResult, compute
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.plan.rules import is_margin_row
 
@@ -496,12 +495,10 @@ def _units_figures(r: _Row, effect: float, span: tuple[float, float], scale: flo
 def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
                     labels: tuple[str, str, str], points: int) -> Figure:
     row, settings = r.row, r.plan.settings
-    if settings.daily_units is None:
-        return _empty_figure("runtime", *labels,
-                             "set the plan's daily units to see days of runtime")
-    per_day = runtime_units(dataclasses.replace(settings, runtime_days=1.0))
-    needed = row.units_control / per_day  # exact days (the table rounds up to days or weeks)
-    longest = max(needed, result.duration_days or 0.0)
+    if not traffic.has_traffic(settings):
+        return _empty_figure("runtime", *labels, traffic.missing_text(settings))
+    needed = traffic.control_days(settings, row.units_control)  # the table rounds this up
+    longest = max(needed if math.isfinite(needed) else 0.0, result.duration_days or 0.0)
     weeks = int(min(MAX_WEEKS, max(WEEKS, math.ceil(longest / 7.0) + 1)))
     first = min(1.0, needed / 2.0) if math.isfinite(needed) and needed > 0 else 1.0
     days = np.linspace(first, 7.0 * weeks, max(points, 2 * weeks + 1))
@@ -509,7 +506,7 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
     other = neighbour_power(row.power)
 
     def units_after(day_values):
-        return runtime_units(dataclasses.replace(settings, runtime_days=day_values))
+        return traffic.control_units(settings, day_values)
 
     at_days, at_days_other, at_weeks = (
         values * scale for values in r.detectable((units_after(days), row.alpha, row.power),
