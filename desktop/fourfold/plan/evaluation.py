@@ -84,13 +84,14 @@ import operator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
-from fourfold.plan import kinds, sequential, traffic
+from fourfold.plan import kinds, sequential, traffic, windows
 from fourfold.plan.arms import row_alphas, treatment_ratio
 from fourfold.plan.fields import CORRECTION_LABELS, METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Plan
 from fourfold.plan.results import PlanResult, RowResult, Unfinished
 from fourfold.plan.rows import (
     AtDuration,
+    not_settled,
     powers_at,
     runtime_units,
     solve_rows,
@@ -231,6 +232,55 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
     >>> result.rows[0].units_control, result.binding_name
     (1570.0, 'Spend')
     """
+    if windows.uses_windows(plan):
+        return _settle(plan, cache)
+    return _compute(plan, cache)
+
+
+def _settle(plan: Plan, cache: RowCache | None) -> PlanResult:
+    """Rows that follow their history windows: the fixed point of duration and figures
+    (:mod:`fourfold.plan.windows`)."""
+    runtime = plan.settings.runtime_days
+    if runtime is not None:
+        result = _compute(windows.at_days(plan, runtime), cache)
+        return dataclasses.replace(result, window_days=float(runtime), notes=(
+            *result.notes, *windows.notes(plan, runtime, "the fixed runtime")))
+    days = windows.start(plan)
+    tried: list[float] = []
+    found: list[float] = []
+    for _ in range(windows.MAX_ROUNDS):
+        shown = windows.at_days(plan, days)
+        result = _compute(shown, cache)
+        duration = result.duration_days
+        if duration is None or windows.is_settled(days, duration):
+            why = ("the plan's duration" if duration is not None else
+                   "the plan has no duration to match; the shortest window")
+            return dataclasses.replace(result, window_days=days, notes=(
+                *result.notes, *windows.notes(plan, days, why)))
+        tried.append(days)
+        found.append(duration)
+        if duration in tried:
+            break
+        days = duration
+    return _unsettled(shown, result, windows.rounds_text(tried, found))
+
+
+def _unsettled(shown: Plan, result: PlanResult, reason: str) -> PlanResult:
+    """The plan as incomplete: its windowed deciding rows' duration does not settle."""
+    rows = list(result.rows)
+    for index, metric in enumerate(shown.metrics):
+        if rows[index].reason:
+            continue
+        if metric.role in DECIDING_ROLES and windows.follows(metric):
+            rows[index] = not_settled(rows[index], reason)
+        elif waits_for_duration(shown.settings, metric):
+            rows[index] = without_duration(rows[index])
+    final = _summarise(shown, tuple(rows))
+    return dataclasses.replace(final, duration_powers=(math.nan,) * len(rows))
+
+
+def _compute(plan: Plan, cache: RowCache | None) -> PlanResult:
+    """:func:`compute` of a plan whose rows' figures are fixed."""
     if cache is None:
         designs: dict = {}
     else:

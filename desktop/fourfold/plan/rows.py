@@ -369,6 +369,14 @@ def without_duration(row: RowResult) -> RowResult:
                    + solved.replace("_", " ") + " at")
 
 
+def not_settled(row: RowResult, reason: str) -> RowResult:
+    """``row`` as not computed because the duration its figures depend on does not settle."""
+    solved = row.solved
+    return _failed(solved, row.design_factor,
+                   math.nan if solved == "significance_level" else row.alpha,
+                   math.nan if solved == "power" else row.power, reason)
+
+
 def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: AtDuration,
               designs: dict) -> list[float]:
     """The power of each row in ``indices`` with the control units ``at`` brings.
