@@ -19,6 +19,15 @@ spreadsheets detect the encoding), and a third for a plan with scenarios:
 ``checkout-scenarios.csv``
     Only for a plan with scenarios: one row per scenario, base first — see
     :func:`fourfold.export.comparison.write_comparison`.
+``checkout-traffic.csv``
+    Only for a plan that uses the traffic model beyond constant daily units (a reach curve, a
+    ramp-up, a burn-in) or rows that follow their history windows: the day-by-day traffic
+    (:mod:`fourfold.export.traffic`); the settings file then adds the model's rows
+    (``traffic``, ``traffic_model``, ``ramp``, ``burn_in_days``, ``reach_days``,
+    ``reach_units``, ``reach_fit``, ``reach_fit_error_frac``, ``duration_extrapolated``,
+    ``duration_stated_error_frac``, ``window_days``). ``window_days`` in the metric file is
+    the window whose figures a row that follows its history windows used (its ``baseline``
+    and ``sd`` are those figures).
 
 Column names
 ------------
@@ -108,6 +117,7 @@ from fourfold.export.files import replacing
 from fourfold.plan import CHOICES
 from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
 from fourfold.plan.kinds import DERIVED_SD, unit_sd
+from fourfold.plan.windows import evaluated, follows
 
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 ENCODING = "utf-8-sig"
@@ -216,6 +226,7 @@ COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
     ("quantile_second_level_frac", lambda i, m, r, p: m.second_level),
     ("quantile_second_value", lambda i, m, r, p: m.second_value),
     ("sd_used", lambda i, m, r, p: _sd_used(m)),
+    ("window_days", lambda i, m, r, p: p.window_days if follows(m) else None),
     ("effect_input_rel_frac", lambda i, m, r, p: _entered(m, m.effect, True)),
     ("effect_input_abs", lambda i, m, r, p: _entered(m, m.effect, False)),
     ("margin_input_rel_frac", lambda i, m, r, p: _entered(m, m.margin, True)),
@@ -305,8 +316,11 @@ def metric_rows(plan, result) -> list[list[str]]:
 
 def settings_rows(plan, result) -> list[list[str]]:
     """The settings file as lists of cells, header ``key,value,unit`` first."""
+    from fourfold.export import traffic
+
     lines = [["key", "value", "unit"]]
     lines += [[key, cell(get(plan.settings, result)), unit] for key, unit, get in SETTINGS]
+    lines += [[key, cell(value), unit] for key, value, unit in traffic.settings_rows(plan, result)]
     lines += [[f"incomplete_{k}", cell(f"row {item.index + 1} ({item.name}): {item.reason}"),
                "text"] for k, item in enumerate(result.incomplete, 1)]
     lines += [[f"note_{i}", cell(note), "text"] for i, note in enumerate(result.notes, 1)]
@@ -368,7 +382,9 @@ def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tup
     Returns
     -------
     tuple of pathlib.Path
-        The metric file, the settings file and, for a plan with scenarios, the comparison.
+        The metric file, the settings file, for a plan with scenarios the comparison and, for a
+        plan that uses the traffic model, its day-by-day table
+        (:mod:`fourfold.export.traffic`).
 
     Raises
     ------
@@ -389,16 +405,20 @@ def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tup
     >>> [p.name for p in write_csv(load(sample_path()), out)]
     ['plan.csv', 'plan-settings.csv', 'plan-scenarios.csv']
     """
+    from fourfold.export import traffic
     from fourfold.export.comparison import scenario_rows, scenarios_path
     from fourfold.plan.evaluation import compute
     from fourfold.plan.scenarios import BASE, effective
 
     shown = effective(plan, scenario)
     result = compute(shown)
+    shown = evaluated(shown, result)  # rows that follow their windows: the figures used
     path = Path(path)
     targets = [path, settings_path(path)]
     if plan.scenarios:
         targets.append(scenarios_path(path))
+    if traffic.uses(shown):
+        targets.append(traffic.traffic_path(path))
     with replacing(*targets) as parts:
         _write(parts[0], metric_rows(shown, result))
         settings = settings_rows(shown, result)
@@ -406,4 +426,6 @@ def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tup
             settings.insert(3, ["scenario", cell(scenario or BASE), "text"])
             _write(parts[2], scenario_rows(plan))
         _write(parts[1], settings)
+        if traffic.uses(shown):
+            _write(parts[-1], traffic.table_rows(shown, result))
     return tuple(targets)

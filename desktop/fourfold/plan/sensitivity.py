@@ -31,7 +31,7 @@ import dataclasses
 import math
 from dataclasses import dataclass
 
-from fourfold.plan import traffic
+from fourfold.plan import traffic, windows
 from fourfold.plan.evaluation import DECIDING_ROLES, PlanResult, RowCache, compute
 from fourfold.plan.model import Plan, Settings
 
@@ -183,6 +183,7 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
     if not (isinstance(amount, (int, float)) and 0 < amount < 1):
         raise ValueError(f"amount must satisfy 0 < amount < 1; got {amount!r}")
     result = compute(plan) if result is None else result
+    plan = windows.frozen(plan, result)  # windowed rows keep the figures of the duration
     settings = plan.settings
     days = math.nan if result.duration_days is None else float(result.duration_days)
     if settings.runtime_days is not None:

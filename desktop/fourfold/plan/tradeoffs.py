@@ -64,7 +64,7 @@ from scipy.special import ndtri
 
 from fourfold import engine
 from fourfold.formatting import format_days
-from fourfold.plan import kinds, sequential, traffic
+from fourfold.plan import kinds, sequential, traffic, windows
 from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.evaluation import PlanResult, RowResult, compute
 from fourfold.plan.model import Metric, Plan, Settings
@@ -408,6 +408,7 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
     if points < 5:
         raise ValueError(f"points must be at least 5, got {points!r}")
     result = compute(plan) if result is None else result
+    plan = windows.frozen(plan, result)  # rows that follow their windows: as evaluated
     metric, row = plan.metrics[index], result.rows[index]
     scale, unit, effect_text = _effect_units(metric)
     quantity = "margin" if is_margin_row(metric) else "effect"

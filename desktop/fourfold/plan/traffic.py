@@ -81,6 +81,9 @@ class Model:
         ``"constant"`` or ``"reach"``.
     analysed : numpy.ndarray
         A(t) for t = 0, 1, …, T: analysed units of all arms after day t.
+    eligible, joined : numpy.ndarray
+        R(t), the distinct eligible units after day t (the curve, then its extrapolation),
+        and C(t), the units in the test (burn-in included), for t = 0, 1, …, T.
     rate : float
         Analysed units a day after day T (a constant model's daily units × share); nan when
         the days after T are not known.
@@ -96,6 +99,8 @@ class Model:
 
     kind: str
     analysed: np.ndarray
+    eligible: np.ndarray
+    joined: np.ndarray
     rate: float
     observed: float
     fit: ReachFit | None
@@ -215,12 +220,29 @@ def _model(kind: str, daily: float | None, share: float, reach: tuple, ramp: tup
         shift = start - 1
         if shift < eligible.size:
             joined[shift:] += width * eligible[:eligible.size - shift]
+    analysed = joined
     if burn_in:
         before = joined[min(burn_in, joined.size - 1)]
-        joined = np.where(days[:joined.size] > burn_in, joined - before, 0.0)
+        analysed = np.where(days[:joined.size] > burn_in, joined - before, 0.0)
     if kind == "reach" and why:
         why = f"{why} (it ends on day {observed:g})"
-    return Model(kind, joined, rate, observed, fit, why, capped)
+    return Model(kind, analysed, eligible, joined, rate, observed, fit, why, capped)
+
+
+def share_on(settings: Settings, days) -> np.ndarray:
+    """The share of traffic in the test on each of ``days`` (the ramp-up's, capped at the
+    plan's share, then the plan's).
+
+    Examples
+    --------
+    >>> share_on(Settings(share=0.6, ramp=((2, 0.05), (4, 0.25))), [1, 2, 3, 5]).tolist()
+    [0.05, 0.05, 0.25, 0.6]
+    """
+    d = np.asarray(days, dtype=float)
+    out = np.full(d.shape, settings.share)
+    for day, step in reversed(settings.ramp):
+        out = np.where(d <= day, min(step, settings.share), out)
+    return out
 
 
 def units_after(settings: Settings, days):
@@ -373,3 +395,61 @@ def _days_with(found: Model, total: float, sign: float) -> float:
     scaled = np.maximum.accumulate(found.analysed * (1.0 + sign * error))
     day = int(np.searchsorted(scaled, total * (1.0 - _DUST), side="left"))
     return float(day) if day <= found.last else math.nan
+
+
+def _percent(value: float) -> str:
+    return f"{value * 100:.3g} %"
+
+
+def ramp_text(settings: Settings) -> str:
+    """The ramp-up in words ("" without one).
+
+    Examples
+    --------
+    >>> ramp_text(Settings(share=0.6, ramp=((2, 0.05), (4, 0.25))))
+    'days 1–2 at 5 %, days 3–4 at 25 %, then 60 %'
+    >>> ramp_text(Settings(share=0.5, ramp=((1, 0.1),)))
+    'day 1 at 10 %, then 50 %'
+    """
+    parts, first = [], 1
+    for day, step in settings.ramp:
+        days = f"day {first}" if day == first else f"days {first}–{day:g}"
+        parts.append(f"{days} at {_percent(min(step, settings.share))}")
+        first = int(day) + 1
+    return ", ".join(parts) + f", then {_percent(settings.share)}" if parts else ""
+
+
+def describe(settings: Settings) -> str:
+    """The traffic model in one sentence, for the summary, the report and the settings.
+
+    Examples
+    --------
+    >>> describe(Settings(daily_units=42_000, share=0.6))
+    'Constant traffic: 42,000 new eligible units a day, 60 % in the test.'
+    >>> print(describe(Settings(traffic="reach", share=0.6, burn_in=1,
+    ...                         reach=((1, 1_000.0), (7, 3_000.0)), reach_source="typed")))
+    Reach curve (typed): 3,000 distinct eligible units by day 7, read linearly between its \
+days; 60 % in the test; the first day's units not analysed (burn-in).
+    """
+    if settings.traffic == "reach":
+        if not settings.reach:
+            text = "Reach curve: none entered yet"
+        else:
+            day, units = settings.reach[-1]
+            source = f" ({settings.reach_source})" if settings.reach_source else ""
+            text = (f"Reach curve{source}: {units:,.0f} distinct eligible units by day {day:g}, "
+                    "read linearly between its days")
+            found = model(settings)
+            if found is not None and found.fit is not None:
+                text += f", extrapolated beyond by {found.fit.describe()}"
+    elif settings.daily_units is None:
+        text = "Constant traffic: no daily units yet"
+    else:
+        text = f"Constant traffic: {settings.daily_units:,.0f} new eligible units a day"
+    text += "; " if settings.traffic == "reach" else ", "
+    text += ("in the test " + ramp_text(settings) if settings.ramp else
+             f"{_percent(settings.share)} in the test")
+    if settings.burn_in:
+        days = "day's" if settings.burn_in == 1 else f"{settings.burn_in} days'"
+        text += f"; the first {days} units not analysed (burn-in)"
+    return text + "."
