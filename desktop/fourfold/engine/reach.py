@@ -131,7 +131,9 @@ class ReachFit:
         'a pool of 50,000 units reached at gamma-spread rates (k 0.6, β 3 d) plus 2,000 new \
 units a day'
         """
-        pool = (f"a pool of {self.pool:,.0f} units reached at gamma-spread rates "
+        first = float(-np.expm1(-self.shape * np.log1p(1.0 / self.scale)))
+        pool = (f"a pool of {self.pool:,.0f} units seen by day 1" if first > 0.99 else
+                f"a pool of {self.pool:,.0f} units reached at gamma-spread rates "
                 f"(k {self.shape:.3g}, β {self.scale:.3g} d)")
         inflow = f"{self.inflow:,.0f} new units a day"
         if self.pool <= 0:

@@ -95,6 +95,52 @@ def settings_rows(plan, result) -> list[tuple[str, object, str]]:
     return rows
 
 
+def assumptions(plan, result=None) -> list[tuple[str, str]]:
+    """The traffic model's assumptions (a plan that uses more than constant daily units):
+    the model, the ramp-up, the burn-in and, for a reach curve, its extrapolation."""
+    from fourfold.formatting import format_days
+
+    s = plan.settings
+    rows = [("Traffic model", traffic.describe(s))]
+    if s.ramp:
+        rows.append(("Ramp-up", traffic.ramp_text(s).capitalize()))
+    if s.burn_in:
+        rows.append(("Burn-in", f"the units of the first {s.burn_in} "
+                                f"{'day' if s.burn_in == 1 else 'days'} are not analysed"))
+    if s.ramp or s.traffic == "reach":
+        rows.append(("How the days follow", "a unit joins on its first visit while its share "
+                     "of traffic is open; shares only rise; any run of d days reaches the "
+                     "distinct units of the curve's first d days (stationary traffic)"))
+    found = traffic.model(s) if s.traffic == "reach" else None
+    if found is not None and found.fit is not None:
+        fit = found.fit
+        text = (f"after day {fit.last_day:g}: {fit.describe()}, fitted to days "
+                f"{fit.first_day:g}–{fit.last_day:g} (fit error {fit.rms * 100:.2g} %); "
+                f"stated error 3 × {fit.growth * 100:.2g} % per day beyond")
+        duration = None if result is None else result.duration_days
+        if duration is not None and traffic.extrapolated(s, duration):
+            text += (f"; the duration of {format_days(duration)} days is extrapolated "
+                     f"(±{float(fit.error(duration)) * 100:.2g} %)")
+        rows.append(("Reach curve extrapolated", text))
+    elif found is not None:
+        rows.append(("Reach curve extrapolated", f"no: {found.why}"))
+    return rows
+
+
+def figure_caption(plan) -> str:
+    """The words under the report's traffic figure."""
+    settings = plan.settings
+    text = ("Eligible units by day and the units the test analyses (all arms, after the "
+            "share of traffic")
+    text += ", its ramp-up" if settings.ramp else ""
+    text += " and the burn-in" if settings.burn_in else ""
+    text += "); the duration is the first day the analysed units reach what the binding row needs."
+    if settings.traffic == "reach":
+        text += (" The dots are the reach curve's own points; beyond its last day the dashed "
+                 "line is the fitted model and the band its stated error.")
+    return text
+
+
 def table_days(plan, result) -> int:
     """The days the day-by-day table covers: the duration, at least the curve's days."""
     settings = plan.settings

@@ -402,6 +402,7 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
                          "the tightest margin it rules out).")
         total = None if units is None else units * (1.0 + settings.arms
                                                     * treatment_ratio(settings))
+        notes.extend(_traffic_notes(settings, float(settings.runtime_days)))
         return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
 
     if not deciding:
@@ -427,8 +428,22 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
             else:
                 gap = f"{row.units_total:,.0f} units for its power; the test has {total:,.0f}"
             notes.append(f"{metric.name} (secondary) would need {gap}.")
+    notes.extend(_traffic_notes(settings, duration, total))
     return PlanResult(rows, None if math.isnan(duration) else duration, total, binding, name,
                       tuple(notes))
+
+
+def _traffic_notes(settings, days: float, total: float | None = None) -> list[str]:
+    """The traffic model's flags: a duration beyond the reach curve, a capped ramp-up."""
+    notes = []
+    flag = traffic.extrapolation_note(settings, days, total)
+    if flag:
+        notes.append(flag)
+    found = traffic.model(settings) if traffic.uses_model(settings) else None
+    if found is not None and found.capped:
+        notes.append(f"Ramp-up steps above the plan's share ({settings.share * 100:.3g} %) are "
+                     "capped at it.")
+    return notes
 
 
 def evaluate(plan: Plan) -> pandas.DataFrame:

@@ -381,10 +381,13 @@ extrapolated (...; fit error ...; stated error ±... on day 42).
     if total is not None and math.isfinite(total) and error > 0:
         low, high = (_days_with(found, total, sign) for sign in (1.0, -1.0))
         if settings.whole_weeks:
-            low, high = 7.0 * math.ceil(low / 7.0), 7.0 * math.ceil(high / 7.0)
-        if math.isfinite(low) and (low, high) != (days, days):
-            upper = f"{high:g}" if math.isfinite(high) else "more than the curve's ten years of"
-            text += f"; within that error the test needs {low:g} to {upper} days"
+            low, high = (7.0 * math.ceil(x / 7.0) if math.isfinite(x) else x
+                         for x in (low, high))
+        if math.isfinite(high) and (low, high) != (days, days):
+            text += f"; within that error the test needs {low:g} to {high:g} days"
+        elif math.isfinite(low):
+            text += (f"; within that error the test needs at least {low:g} days, with no upper "
+                     "bound")
     return text + "."
 
 
