@@ -182,7 +182,7 @@ def curve(plan, result) -> dict:
     found = traffic.model(settings)
     if found is None:
         return {}
-    last = min(max(table_days(plan, result), 14), found.last)
+    last = min(max(table_days(plan, result) + 7, 14), found.last)
     days = np.arange(0, last + 1, dtype=float)
     error = found.fit.error(days) if found.fit is not None else np.zeros(days.size)
     eligible = found.eligible[:last + 1]
