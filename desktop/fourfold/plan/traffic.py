@@ -422,6 +422,22 @@ def ramp_text(settings: Settings) -> str:
     return ", ".join(parts) + f", then {_percent(settings.share)}" if parts else ""
 
 
+def short_text(settings: Settings) -> str:
+    """The traffic model in a few words (the settings' button).
+
+    Examples
+    --------
+    >>> short_text(Settings()), short_text(Settings(traffic="reach", ramp=((2, 0.1),), burn_in=1))
+    ('Constant', 'Reach curve, ramp-up, burn-in 1 d')
+    """
+    parts = ["Reach curve" if settings.traffic == "reach" else "Constant"]
+    if settings.ramp:
+        parts.append("ramp-up")
+    if settings.burn_in:
+        parts.append(f"burn-in {settings.burn_in} d")
+    return ", ".join(parts)
+
+
 def describe(settings: Settings) -> str:
     """The traffic model in one sentence, for the summary, the report and the settings.
 
