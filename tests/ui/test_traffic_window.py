@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import dataclasses
 
-import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication, QDialog, QFileDialog, QLineEdit
