@@ -173,12 +173,12 @@ class SummaryBar(QFrame):
             duration = ("— (enter the reach curve)" if settings.traffic == "reach" else
                         "— (set daily units)")
         text = f"Duration <b>{duration}</b>"
-        text += self._extrapolated(settings, result.duration_days)
         outcomes = self.document.outcomes
         if self.document.scenario is not None and outcomes and outcomes[0].complete:
             delta = base_delta(result.duration_days, outcomes[0].result.duration_days)
             if delta:
                 text += f" ({delta})"
+        text += self._extrapolated(settings, result.duration_days)
         if settings.looks > 1 and result.binding_index is not None:
             expected = result.rows[result.binding_index].days_expected_h1
             if math.isfinite(expected):
