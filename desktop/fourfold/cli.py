@@ -10,7 +10,9 @@ sub-command's work lives in its own package and is imported only when it runs, s
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
+import signal
 import sys
 from collections.abc import Sequence
 
@@ -99,6 +101,24 @@ def _normalise(argv: Sequence[str]) -> list[str]:
     return argv
 
 
+@contextlib.contextmanager
+def _stop_on_terminate(headless: bool):
+    """While a headless command runs, a terminate signal ends it like Ctrl+C does, so that its
+    ``finally`` blocks remove the temporary files of an unfinished export."""
+    def stop(signum, frame):
+        raise KeyboardInterrupt
+
+    previous = None
+    if headless:
+        with contextlib.suppress(ValueError, OSError, AttributeError):  # not the main thread
+            previous = signal.signal(signal.SIGTERM, stop)
+    try:
+        yield
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
+
+
 def _warn_incomplete(plan_path: str, scenario: str | None) -> None:
     """Say on stderr that an exported plan is incomplete (allowed by ``--allow-incomplete``)."""
     from fourfold.plan import compute, effective, load
@@ -116,6 +136,11 @@ def main(argv: Sequence[str] | None = None) -> int:
     os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
     parser = build_parser()
     args = parser.parse_args(_normalise(sys.argv[1:] if argv is None else argv))
+    with _stop_on_terminate(args.command != "open"):
+        return _run(parser, args)
+
+
+def _run(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:
     try:
         if args.command == "open":
             from fourfold.ui.app import run_window
@@ -152,5 +177,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     except FourfoldError as error:
         print(f"fourfold: error: {error}", file=sys.stderr)
         return 2
+    except KeyboardInterrupt:
+        print("fourfold: interrupted; nothing was written", file=sys.stderr)
+        return 130
     parser.error(f"unknown command {args.command!r}")
     return 2

@@ -11,14 +11,20 @@ from __future__ import annotations
 
 import math
 import re
+import sys
+import unicodedata
+from decimal import Decimal
 
 from fourfold.errors import FourfoldError
 
 DASH = "—"
 MINUS = "\u2212"
 
-_GROUPED = re.compile(r"^\d{1,3}(,\d{3})+(\.\d*)?$")
-_SUFFIX = {"k": 1e3, "m": 1e6}
+_GROUPED = re.compile(r"^[0-9]{1,3}(,[0-9]{3})+(\.[0-9]*)?$")
+_DECIMAL = re.compile(r"([0-9]+\.?[0-9]*|\.[0-9]+)([eE][+-]?[0-9]+)?")
+_ONE, _HUNDREDTH = Decimal(1), Decimal("0.01")
+_SUFFIX = {"k": Decimal(1000), "m": Decimal(1_000_000)}
+_ARABIC_MARKS = {"\u066b": ".", "\u066c": ","}
 
 
 class ParseError(FourfoldError, ValueError):
@@ -159,8 +165,32 @@ def format_percent(value: float | None, signed: bool = False, suffix: str = "%")
     return f"{_signed(text, percent, signed)} {suffix}"
 
 
+def _plain_digits(text: str) -> str:
+    """Full-width forms as their ASCII letters, and every decimal digit (Arabic-Indic,
+    Devanagari, full-width …) as its ASCII digit; the Arabic decimal and thousands separators
+    as a point and a comma. Other characters (superscripts, fractions) are left as they are."""
+    out = []
+    for character in text:
+        code = ord(character)
+        if 0xFF01 <= code <= 0xFF5E:
+            character = chr(code - 0xFEE0)
+        elif not character.isascii() and character.isdecimal():
+            character = str(unicodedata.decimal(character))
+        out.append(_ARABIC_MARKS.get(character, character))
+    return "".join(out)
+
+
 def parse_number(text: str, percent: bool = False, label: str = "value") -> float:
     """Read a number typed or pasted by a person.
+
+    Rules: a point for decimals; commas only between groups of three digits ("1,234.5");
+    a thin or no-break space may group digits too; an underscore may not ("1_000" is
+    refused, with a hint). Digits of any script — full-width "１２３", Arabic-Indic
+    "١٢٣" — read as the same digits, and full-width signs, point and percent ("－", "．",
+    "％") as theirs. A number that is not finite, or so close to 0 that a double cannot hold
+    it in full precision (below about 2.23e-308, e.g. "1e-320" in a percent cell), is refused
+    rather than stored as 0 or a rounded-off value. The decimal number typed is scaled exactly
+    (``decimal``), so "3.1%" is the double nearest 0.031.
 
     Parameters
     ----------
@@ -179,7 +209,7 @@ def parse_number(text: str, percent: bool = False, label: str = "value") -> floa
     Raises
     ------
     ParseError
-        When the text is empty or not a number.
+        When the text is empty, not a number, not finite or too close to 0.
 
     Examples
     --------
@@ -191,14 +221,24 @@ def parse_number(text: str, percent: bool = False, label: str = "value") -> floa
     0.05
     >>> parse_number("42k")
     42000.0
+    >>> parse_number("１２３"), parse_number("١٢٣٫٥")
+    (123.0, 123.5)
+    >>> parse_number("1e-320", percent=True, label="Effect")
+    Traceback (most recent call last):
+    ...
+    fourfold.formatting.ParseError: Effect: '1e-320' is too close to 0 to be held (the smallest \
+number kept in full precision is about 2.23e-308); enter 0 or a larger number
     """
     raw = text
-    text = text.strip().replace("\u2009", "").replace("\u00a0", "").replace(MINUS, "-")
-    scale = 0.01 if percent else 1.0
+    shown = raw.strip()
+    text = _plain_digits(text.strip().replace("\u2009", "").replace("\u00a0", ""))
+    text = text.replace(MINUS, "-")
+    scale = _HUNDREDTH if percent else _ONE
     lowered = text.lower()
     for tail in ("%", "pp"):
         if lowered.endswith(tail):
-            text, lowered, scale = text[: -len(tail)].strip(), lowered[: -len(tail)].strip(), 0.01
+            text, lowered = text[: -len(tail)].strip(), lowered[: -len(tail)].strip()
+            scale = _HUNDREDTH
             break
     else:
         if lowered[-1:] in _SUFFIX and not percent:
@@ -207,20 +247,36 @@ def parse_number(text: str, percent: bool = False, label: str = "value") -> floa
     sign = ""
     if text[:1] in "+-" and text:
         sign, text = text[0], text[1:].strip()
+    if "_" in text:
+        raise ParseError(f"{label}: {shown!r} is not a number (write 1,000 or 1000; an "
+                         "underscore does not group digits here)")
     if "," in text:
         if not _GROUPED.match(text):
             raise ParseError(
-                f"{label}: {raw.strip()!r} is not a number (use a point for decimals; "
+                f"{label}: {shown!r} is not a number (use a point for decimals; "
                 "commas only between thousands, e.g. 1,234.5)"
             )
         text = text.replace(",", "")
-    try:
-        number = float(sign + text)
-    except ValueError:
-        shown = raw.strip()
+    if not _DECIMAL.fullmatch(text):
         if not shown:
-            raise ParseError(f"{label}: enter a number") from None
-        raise ParseError(f"{label}: {shown!r} is not a number") from None
+            raise ParseError(f"{label}: enter a number")
+        if text.lower().lstrip("+-") in ("inf", "infinity", "nan"):
+            raise ParseError(f"{label}: {shown!r} is not a finite number")
+        raise ParseError(f"{label}: {_cut(shown)!r} is not a number")
+    typed = Decimal(sign + text)
+    try:
+        number = float(typed * scale)
+    except (ArithmeticError, ValueError):  # an exponent beyond what decimal computes
+        number = math.inf if typed.adjusted() > 0 else 0.0
     if not math.isfinite(number):
-        raise ParseError(f"{label}: {raw.strip()!r} is not a finite number")
-    return round(number * scale, 15) if scale != 1.0 else number
+        raise ParseError(f"{label}: {_cut(shown)!r} is not a finite number (beyond about "
+                         "1.8e308)")
+    if typed != 0 and abs(number) < sys.float_info.min:
+        raise ParseError(f"{label}: {_cut(shown)!r} is too close to 0 to be held (the smallest "
+                         "number kept in full precision is about 2.23e-308); enter 0 or a "
+                         "larger number")
+    return number
+
+
+def _cut(text: str, limit: int = 40) -> str:
+    return text if len(text) <= limit else text[: limit - 1] + "…"

@@ -8,6 +8,7 @@ import math
 
 import numpy as np
 import pytest
+from stored_checks import STORED_CHECK
 
 from fourfold import engine
 from fourfold.engine import sequential
@@ -108,11 +109,10 @@ def test_method_is_checked_against_the_kind():
         validate_metric(Metric(kind="rate", method="arcsine"))
 
 
-def test_simulation_is_copied_as_plain_json():
-    stored = {"power": 0.81, "draws": 2000, "seed": [1, 2]}
-    checked = validate_field("simulation", stored)
-    assert checked == stored
-    assert checked is not stored
+def test_a_stored_simulation_check_is_checked_and_copied():
+    checked = validate_field("simulation", STORED_CHECK)
+    assert checked == STORED_CHECK
+    assert checked is not STORED_CHECK
 
 
 def test_validate_metric_and_settings_return_normalised_copies():

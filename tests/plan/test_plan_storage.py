@@ -6,6 +6,7 @@ import json
 import os
 
 import pytest
+from stored_checks import STORED_CHECK
 
 from fourfold.plan import (
     METRIC_FIELDS,
@@ -39,7 +40,7 @@ def _full_plan() -> Plan:
         correlation=0.8, quantile_level=0.95, density=0.09, second_level=0.5, second_value=1.7,
         effect=-0.5, relative=False, alternative="less", margin=0.75, alpha=0.02, power=0.85,
         rho=0.4, cluster_size=3.5, icc=0.01, cluster_cv=0.6, solve="power", n=9000.0,
-        notes="ünïcode “quotes” and\nnewlines", simulation={"power": 0.84, "draws": 4000},
+        notes="ünïcode “quotes” and\nnewlines", simulation=dict(STORED_CHECK),
         windowed=True, windows=({"days": 7, "baseline": 40.0, "sd": 11.5},),
     )
     return Plan(settings, [metric, Metric()])

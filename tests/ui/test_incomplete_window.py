@@ -10,8 +10,8 @@ tests/plan.
 from __future__ import annotations
 
 import pytest
+from cell_typing import type_in_cell
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QLineEdit
 
 from fourfold.plan import compute, dumps, load, loads, sample_path
 from fourfold.plan.commands import SetField
@@ -19,24 +19,6 @@ from fourfold.ui import theme
 from fourfold.ui.columns import column_index
 
 pytestmark = pytest.mark.qt
-
-
-def _editor(table):
-    editors = [child for child in table.viewport().findChildren(QLineEdit) if child.isVisible()]
-    return editors[0] if len(editors) == 1 else None
-
-
-def _type(qtbot, window, row: int, key: str, text: str) -> None:
-    """Open the cell's editor with Enter, type ``text`` key by key and commit with Enter."""
-    table = window.table
-    table.setCurrentIndex(window.model.index(row, column_index(key)))
-    table.setFocus()
-    qtbot.keyClick(table, Qt.Key.Key_Return)
-    editor = _editor(table)
-    editor.selectAll()
-    qtbot.keyClicks(editor, text)
-    qtbot.keyClick(editor, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: _editor(table) is None)
 
 
 @pytest.mark.parametrize(("row", "key", "text", "message"), [
@@ -51,7 +33,7 @@ def test_an_impossible_value_typed_in_a_cell_is_refused_and_the_old_value_kept(
     window = make_window()
     window.show()
     before = dumps(window.document.plan)
-    _type(qtbot, window, row, key, text)
+    type_in_cell(qtbot, window, row, key, text)
     assert window.statusBar().currentMessage() == message
     assert dumps(window.document.plan) == before and not window.document.stack.can_undo
     assert window.summary.texts()[0] == "Duration 35 days (5 weeks)"
@@ -69,8 +51,8 @@ def test_an_incomplete_plan_says_so_in_the_warning_colour_naming_each_row(make_w
         "(Page load time (s)): effect must be less than the margin for a 'less' test")
     assert shown[1:] == ("", "")
     assert theme.tints().problem.name() in window.summary.duration.text()
-    _type(qtbot, window, 0, "baseline", "3.1")  # mend the first row
-    _type(qtbot, window, 5, "margin", "0.02")  # and the second: a duration again
+    type_in_cell(qtbot, window, 0, "baseline", "3.1")  # mend the first row
+    type_in_cell(qtbot, window, 5, "margin", "0.02")  # and the second: a duration again
     qtbot.waitUntil(lambda: window.summary.texts()[0] == "Duration 35 days (5 weeks)")
 
 

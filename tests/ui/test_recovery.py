@@ -86,16 +86,19 @@ def test_copies_of_crashed_windows_are_offered_newest_first_and_only_once(tmp_pa
     assert running.path.exists()
 
 
-def test_the_old_shared_file_is_offered_and_an_unreadable_copy_is_kept(tmp_path):
+def test_the_old_shared_file_is_offered_and_an_unreadable_copy_is_set_aside(tmp_path):
     legacy = tmp_path / LEGACY_NAME
     payload = {"format": "fourfold-recovery", "source": None,
                "plan": json.loads(dumps(_plan("Before windows had their own")))}
     legacy.write_text(json.dumps(payload), encoding="utf-8")
     broken = tmp_path / "recovery-broken.json"
     broken.write_text("{not json", encoding="utf-8")
-    found = Recovery(tmp_path).leftovers()
+    recovery = Recovery(tmp_path)
+    found = recovery.leftovers()
     assert [item.path for item in found] == [legacy]
-    assert broken.exists()
+    aside = tmp_path / "recovery-broken.json.damaged"
+    assert not broken.exists() and aside.read_text(encoding="utf-8") == "{not json"
+    assert [(path, "not valid JSON" in why) for path, why in recovery.set_aside] == [(aside, True)]
 
 
 def test_a_window_offers_each_copy_restores_one_and_keeps_the_rest(make_window, tmp_path):
@@ -132,6 +135,6 @@ def test_a_failed_write_keeps_the_previous_copy(tmp_path, monkeypatch):
     with pytest.raises(OSError, match="disk full"):
         recovery.write(_plan("Never written"), None)
     assert _title(recovery.path) == "Good"
-    assert [path.name for path in tmp_path.iterdir() if path.suffix == ".tmp"] == []
+    assert [path.name for path in tmp_path.iterdir() if path.suffix in (".tmp", ".part")] == []
     monkeypatch.undo()
     recovery.discard()

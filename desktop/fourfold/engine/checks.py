@@ -38,7 +38,9 @@ class Prepared:
 
     ``effect`` and ``margin`` are absolute (already multiplied by the baseline when the
     call was relative); arrays not needed by the solve hold nan.  ``ok`` marks the elements
-    that can be computed (those whose reason is ``""``).
+    that can be computed (those whose reason is ``""``).  ``unit``, when not None, gives per
+    element the power of two that a mean row's baseline, sd, effect and margin were divided
+    by (see :func:`_unit_exponents`); an absolute effect solved for is multiplied back.
     """
 
     solve: str
@@ -58,6 +60,7 @@ class Prepared:
     relative: np.ndarray
     reasons: np.ndarray
     ok: np.ndarray
+    unit: np.ndarray | None = None
 
 
 _SD_REQUIRED = {
@@ -146,6 +149,9 @@ def prepare(
     nothing = np.full(size, np.nan)
 
     with np.errstate(all="ignore"):
+        unit = _unit_exponents(kind, flat, rel) if kind == "mean" else None
+        if unit is not None:
+            flat = _in_units(flat, rel, unit)
         b = flat["baseline"]
         scale = np.where(rel, b, 1.0)
         effect_abs = flat["effect"] * scale if "effect" in needs else nothing
@@ -171,7 +177,44 @@ def prepare(
         relative=rel,
         reasons=reasons,
         ok=ok,
+        unit=unit,
     )
+
+
+_SAFE_EXPONENT = 100
+"""A mean row whose numbers all lie within 2^±100 of 1 is solved as it is."""
+
+
+def _unit_exponents(kind, flat, rel):
+    """Per element, the power of two a mean row's numbers are measured in (None: all 0).
+
+    A mean row is scale-free: baseline, sd and absolute effect and margin can all be divided
+    by one number without changing units, power or α. Rows whose numbers reach beyond 2^±100
+    (e.g. a baseline and sd of 1e308, whose products overflow on the way) are solved in units
+    of the power of two nearest their largest number; the division is exact, and rows within
+    the range are not touched.
+    """
+    sizes = [np.abs(flat["baseline"])]
+    if "sd" in flat:
+        sizes.append(np.abs(flat["sd"]))
+    for name in ("effect", "margin"):
+        if name in flat:
+            sizes.append(np.where(rel, 0.0, np.abs(flat[name])))
+    top = np.max(np.nan_to_num(np.array(sizes), nan=0.0, posinf=0.0), axis=0)
+    exponent = np.frexp(top)[1]
+    far = (top > 0) & (np.abs(exponent) > _SAFE_EXPONENT)
+    return np.where(far, exponent, 0) if far.any() else None
+
+
+def _in_units(flat, rel, unit):
+    """``flat`` with baseline, sd and absolute effect and margin divided by 2^unit."""
+    scaled = dict(flat, baseline=np.ldexp(flat["baseline"], -unit))
+    if "sd" in flat:
+        scaled["sd"] = np.ldexp(flat["sd"], -unit)
+    for name in ("effect", "margin"):
+        if name in flat:
+            scaled[name] = np.where(rel, flat[name], np.ldexp(flat[name], -unit))
+    return scaled
 
 
 def _checks(solve, kind, method, alternative, needs, flat, rel, eff, mar, not_finite, used):

@@ -161,7 +161,7 @@ def variance_factor(rho=0.0, cluster_size=1.0, icc=0.0, cluster_cv=0.0):
     for name, good, message in checks:
         _check(name, good, message, scalar)
         ok = ok & good
-    with np.errstate(invalid="ignore"):
+    with np.errstate(invalid="ignore", over="ignore"):  # inf for factors beyond a double
         out = (1.0 - r * r) * (1.0 + ((cv * cv + 1.0) * m - 1.0) * icc_)
     return _scalar_or_array(np.where(ok, out, np.nan), r, m, icc_, cv)
 
@@ -179,7 +179,7 @@ def total_units(n_control, ratio, arms):
     _check("n_control", n >= 0, "must be at least 0", scalar)
     _check("ratio", r > 0, "must be greater than 0", scalar)
     _check("arms", k >= 1, "must be at least 1", scalar)
-    with np.errstate(invalid="ignore"):
+    with np.errstate(invalid="ignore", over="ignore"):
         out = np.where((n >= 0) & (r > 0) & (k >= 1), n + k * r * n, np.nan)
     return _scalar_or_array(out, n, r, k)
 
@@ -201,17 +201,25 @@ def duration_days(total_units, daily_units, share=1.0, whole_weeks=False):
     whole_weeks : bool
         Round the days up to a multiple of 7.
 
+    Returns
+    -------
+    numpy.ndarray
+        Days; nan where an array element is out of range or the days are beyond a double
+        (e.g. a daily traffic of 1e-320 units).
+
     Examples
     --------
     >>> duration_days([100.0, 1000.0], 42.0, share=0.5).tolist()
     [5.0, 48.0]
+    >>> duration_days([1000.0], 1e-320).tolist()
+    [nan]
     """
     t, d, s = (np.asarray(v, dtype=float) for v in (total_units, daily_units, share))
     scalar = t.ndim == 0 and d.ndim == 0 and s.ndim == 0
     _check("total_units", t >= 0, "must be at least 0", scalar)
     _check("daily_units", d > 0, "must be greater than 0", scalar)
     _check("share", (s > 0) & (s <= 1), "must be greater than 0 and at most 1", scalar)
-    with np.errstate(invalid="ignore", divide="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore", under="ignore"):
         raw = t / (d * s)
         days = np.ceil(raw * (1.0 - 1e-12))
         if whole_weeks:

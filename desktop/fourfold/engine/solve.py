@@ -232,6 +232,8 @@ def _detectable_effect(p):
     effect = margin + sign * np.exp(y)
     scale = np.where(p.relative[i], p.baseline[i], 1.0)
     values[i] = effect / scale
+    if p.unit is not None:  # back from the units a far-from-1 mean row was solved in
+        values[i] = np.where(p.relative[i], values[i], np.ldexp(values[i], p.unit[i]))
     _record(reasons, i, status, "detectable_effect")
     return values, reasons
 

@@ -20,7 +20,6 @@ Examples
 
 from __future__ import annotations
 
-import csv
 import math
 import os
 from collections.abc import Callable
@@ -28,8 +27,8 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from fourfold.export import report
-from fourfold.export.csv import ENCODING, cell
-from fourfold.export.files import replacing
+from fourfold.export.csv import cell, encoded
+from fourfold.export.files import write_parts
 from fourfold.plan import traffic
 from fourfold.plan.comparison import Outcome, deciding_rows
 from fourfold.plan.rules import is_margin_row
@@ -225,12 +224,6 @@ def scenario_rows(plan) -> list[list[str]]:
     return lines
 
 
-def write_rows(path: os.PathLike | str, lines: list[list[str]]) -> None:
-    """Write CSV cells to ``path`` (UTF-8 with a byte-order mark, CRLF, as the plan CSV)."""
-    with open(path, "w", encoding=ENCODING, newline="") as handle:
-        csv.writer(handle, lineterminator="\r\n").writerows(lines)
-
-
 def write_comparison(plan, path: os.PathLike | str) -> Path:
     """Write the comparison of ``plan``'s scenarios to ``path`` (all or nothing).
 
@@ -245,6 +238,5 @@ def write_comparison(plan, path: os.PathLike | str) -> Path:
         When the file cannot be written; it is then left as it was.
     """
     path = Path(path)
-    with replacing(path) as (part,):
-        write_rows(part, scenario_rows(plan))
+    write_parts({path: encoded(path, scenario_rows(plan))})
     return path

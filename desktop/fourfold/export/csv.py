@@ -82,9 +82,10 @@ binding row are empty.
 
 Numbers are written in full precision (Python's shortest round-trip form), so reading the file
 back gives exactly the values of :func:`fourfold.plan.evaluation.evaluate`. Text cells that a
-spreadsheet would run as a formula — beginning with ``=``, ``+``, ``-``, ``@``, a tab or a
-carriage return — are prefixed with a single quote (OWASP, "CSV Injection"); numeric cells are
-never altered.
+spreadsheet would run as a formula — beginning with ``=``, ``+``, ``-``, ``@``, ``|``, a tab or
+a line break, also after white space or invisible characters or in full-width form — are
+prefixed with a single quote (OWASP, "CSV Injection", see :func:`neutralise`); numeric cells
+are never altered.
 
 References
 ----------
@@ -103,9 +104,11 @@ Examples
 from __future__ import annotations
 
 import csv
+import io
 import math
 import numbers
 import os
+import unicodedata
 from collections.abc import Callable, Iterable, Sequence
 from pathlib import Path
 from typing import Any
@@ -113,14 +116,21 @@ from typing import Any
 import numpy as np
 
 from fourfold import __version__
-from fourfold.export.files import replacing
+from fourfold.export.files import ExportError, write_parts
 from fourfold.plan import CHOICES
 from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
 from fourfold.plan.kinds import DERIVED_SD, unit_sd
 from fourfold.plan.windows import evaluated, follows
 
-FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+FORMULA_STARTS = ("=", "+", "-", "@", "|", "\t", "\r", "\n")
 ENCODING = "utf-8-sig"
+_RUNS = frozenset("=+-@|")
+
+
+def _skipped(character: str) -> bool:
+    """Characters a spreadsheet may drop before it looks for a formula: white space (space,
+    no-break space, line breaks) and invisible format characters (zero-width space, BOM)."""
+    return character.isspace() or unicodedata.category(character) == "Cf"
 
 
 def neutralise(text: str) -> str:
@@ -134,8 +144,11 @@ def neutralise(text: str) -> str:
     Returns
     -------
     str
-        ``"'" + text`` when ``text`` begins with ``=``, ``+``, ``-``, ``@``, a tab or a carriage
-        return; ``text`` unchanged otherwise.
+        ``"'" + text`` when ``text`` begins with ``=``, ``+``, ``-``, ``@``, ``|``, a tab, a
+        carriage return or a line feed — also when that sign comes after white space or
+        invisible characters (space, no-break space, zero-width space, byte-order mark) or in
+        a compatibility form that reads as it (full-width ``＝ ＋ － ＠``, small ``﹦``);
+        ``text`` unchanged otherwise.
 
     References
     ----------
@@ -145,8 +158,16 @@ def neutralise(text: str) -> str:
     --------
     >>> neutralise("-2+3"), neutralise("@SUM(A1:A2)"), neutralise("a-b")
     ("'-2+3", "'@SUM(A1:A2)", 'a-b')
+    >>> neutralise("\u00a0=1+1"), neutralise("＝1+1"), neutralise("|calc")
+    ("'\xa0=1+1", "'＝1+1", "'|calc")
     """
-    return "'" + text if text.startswith(FORMULA_STARTS) else text
+    if text.startswith(FORMULA_STARTS):
+        return "'" + text
+    for character in text:
+        if _skipped(character):
+            continue
+        return "'" + text if unicodedata.normalize("NFKC", character)[:1] in _RUNS else text
+    return text
 
 
 def cell(value: Any) -> str:
@@ -359,9 +380,22 @@ def _look_rows(plan, result) -> list[list[str]]:
     return lines
 
 
-def _write(path: Path, lines: Iterable[Sequence[str]]) -> None:
-    with open(path, "w", encoding=ENCODING, newline="") as handle:
-        csv.writer(handle, lineterminator="\r\n").writerows(lines)
+def encoded(path: Path, lines: Iterable[Sequence[str]]) -> bytes:
+    """The CSV file's bytes (UTF-8 with a byte-order mark, CRLF line ends).
+
+    Raises
+    ------
+    fourfold.export.files.ExportError
+        When a text cell is not valid Unicode (an unpaired surrogate), naming the file.
+    """
+    buffer = io.StringIO()
+    csv.writer(buffer, lineterminator="\r\n").writerows(lines)
+    try:
+        return buffer.getvalue().encode(ENCODING)
+    except UnicodeEncodeError as error:
+        bad = error.object[error.start:error.end].encode("unicode_escape").decode("ascii")
+        raise ExportError(f"cannot write {path}: its text holds {bad}, which is not a "
+                          "character (an unpaired surrogate)") from None
 
 
 def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tuple[Path, ...]:
@@ -415,17 +449,17 @@ def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tup
     shown = evaluated(shown, result)  # rows that follow their windows: the figures used
     path = Path(path)
     targets = [path, settings_path(path)]
+    settings = settings_rows(shown, result)
     if plan.scenarios:
+        settings.insert(3, ["scenario", cell(scenario or BASE), "text"])
         targets.append(scenarios_path(path))
     if traffic.uses(shown):
         targets.append(traffic.traffic_path(path))
-    with replacing(*targets) as parts:
-        _write(parts[0], metric_rows(shown, result))
-        settings = settings_rows(shown, result)
-        if plan.scenarios:
-            settings.insert(3, ["scenario", cell(scenario or BASE), "text"])
-            _write(parts[2], scenario_rows(plan))
-        _write(parts[1], settings)
-        if traffic.uses(shown):
-            _write(parts[-1], traffic.table_rows(shown, result))
+    contents = {targets[0]: encoded(targets[0], metric_rows(shown, result)),
+                targets[1]: encoded(targets[1], settings)}
+    if plan.scenarios:
+        contents[targets[2]] = encoded(targets[2], scenario_rows(plan))
+    if traffic.uses(shown):
+        contents[targets[-1]] = encoded(targets[-1], traffic.table_rows(shown, result))
+    write_parts(contents)
     return tuple(targets)

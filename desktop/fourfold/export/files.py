@@ -1,59 +1,27 @@
-"""Write export files all-or-nothing: a temporary file beside each target, renamed on success.
+"""Write export files all-or-nothing (see :mod:`fourfold.atomic`).
 
 An export either replaces its output files completely or leaves them exactly as they were; a
-failed export removes its temporary files. Problems the user can act on (a missing folder, no
-permission, a full disk) become :class:`ExportError` with the path in the message.
+failed or interrupted export removes its temporary files. Problems the user can act on (a
+missing folder, no permission, a full disk, a target that is a device) become
+:class:`ExportError` with the path in the message.
 """
 
 from __future__ import annotations
 
-import contextlib
 import os
-import tempfile
-from collections.abc import Iterator
+from contextlib import AbstractContextManager
 from pathlib import Path
 
-from fourfold.errors import FourfoldError
+from fourfold import atomic
 
 
-class ExportError(FourfoldError):
+class ExportError(atomic.WriteError):
     """An export could not be written; the message names the file and the reason."""
 
 
-def _mode_for(target: Path) -> int:
-    """Permission bits for a new output: those of the file it replaces, else 0o666 less umask."""
-    try:
-        return target.stat().st_mode & 0o777
-    except OSError:
-        mask = os.umask(0)
-        os.umask(mask)
-        return 0o666 & ~mask
-
-
-def _reason(error: OSError) -> str:
-    return error.strerror or str(error)
-
-
-@contextlib.contextmanager
-def replacing(*targets: os.PathLike | str) -> Iterator[list[Path]]:
-    """Yield temporary paths to write; on success rename each over its target.
-
-    Parameters
-    ----------
-    *targets : path-like
-        The output files. Their folders must exist.
-
-    Yields
-    ------
-    list of pathlib.Path
-        One empty temporary file per target, in the same folder (so the rename is atomic).
-
-    Raises
-    ------
-    ExportError
-        When a folder is missing or not writable, or writing or renaming fails. The targets are
-        then unchanged and the temporary files are gone. Any other exception raised inside the
-        block also removes the temporary files and propagates unchanged.
+def replacing(*targets: os.PathLike | str,
+              verify: atomic.Verify | None = None) -> AbstractContextManager[list[Path]]:
+    """:func:`fourfold.atomic.replacing` raising :class:`ExportError`.
 
     Examples
     --------
@@ -61,38 +29,46 @@ def replacing(*targets: os.PathLike | str) -> Iterator[list[Path]]:
     >>> folder = pathlib.Path(tempfile.mkdtemp())
     >>> with replacing(folder / "a.txt") as (part,):
     ...     _ = part.write_text("done", encoding="utf-8")
-    >>> (folder / "a.txt").read_text(encoding="utf-8")
-    'done'
     >>> sorted(p.name for p in folder.iterdir())
     ['a.txt']
+    >>> with replacing("/dev/null") as (part,):
+    ...     pass
+    Traceback (most recent call last):
+    ...
+    fourfold.export.files.ExportError: cannot write /dev/null: it is a device, not a regular file
     """
-    paths = [Path(target) for target in targets]
-    parts: list[Path] = []
-    try:
-        for path in paths:
-            if not path.parent.is_dir():
-                problem = "is not a folder" if path.parent.exists() else "does not exist"
-                raise ExportError(f"cannot write {path}: {path.parent} {problem}")
-            if path.is_dir():
-                raise ExportError(f"cannot write {path}: it is a folder")
+    return atomic.replacing(*targets, error=ExportError, verify=verify)
+
+
+def write_parts(contents: dict[os.PathLike | str, bytes]) -> list[Path]:
+    """Replace each target with its bytes, all-or-nothing, checking every size written.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> [p.name for p in write_parts({folder / "a.csv": b"x", folder / "b.csv": b"y"})]
+    ['a.csv', 'b.csv']
+    """
+    targets = list(contents)
+    expected: dict[Path, int] = {}
+
+    def complete(part: Path) -> str | None:
+        size = part.stat().st_size
+        if size != expected[part]:
+            return (f"{atomic.incomplete('file', part.parent)} "
+                    f"({size:,} of {expected[part]:,} bytes)")
+        return None
+
+    with replacing(*targets, verify=complete) as parts:
+        for part, data in zip(parts, contents.values(), strict=True):
+            expected[part] = len(data)
+            handle = os.open(part, os.O_WRONLY | os.O_TRUNC)
             try:
-                handle, name = tempfile.mkstemp(
-                    prefix=f".{path.name}.", suffix=".part", dir=path.parent
-                )
-            except OSError as error:
-                raise ExportError(f"cannot write {path}: {_reason(error)}") from error
-            os.close(handle)
-            parts.append(Path(name))
-        yield list(parts)
-        for path, part in zip(paths, parts, strict=True):
-            try:
-                os.chmod(part, _mode_for(path))
-                os.replace(part, path)
-            except OSError as error:
-                raise ExportError(f"cannot write {path}: {_reason(error)}") from error
-    except OSError as error:
-        raise ExportError(f"cannot write {paths[0]}: {_reason(error)}") from error
-    finally:
-        for part in parts:
-            with contextlib.suppress(FileNotFoundError):
-                part.unlink()
+                atomic.write_all(handle, data)
+            finally:
+                os.close(handle)
+    return [Path(target) for target in targets]
+
+
+__all__ = ["ExportError", "replacing", "write_parts"]

@@ -6,6 +6,12 @@ pairwise update of Chan, Golub & LeVeque. Merging one value at a time is Welford
 naive ``Σx² − (Σx)²/n`` is never used: it cancels catastrophically when the mean is large
 compared with the spread.
 
+Values far from 1 (beyond 2^±400, e.g. near 1e308 or 1e-300) are summed in a power-of-two
+scale kept beside the moments (``exponent``), so that squares neither overflow nor underflow
+and the sd is finite wherever the true one is: the sd of ``[1e308, -1e308]`` is 1.41e308.
+Scaling by a power of two is exact; ordinary values (the scale 2⁰) give the same bits as an
+unscaled computation.
+
 References
 ----------
 Welford, B. P. (1962). Note on a method for calculating corrected sums of squares and
@@ -22,10 +28,37 @@ from dataclasses import dataclass
 
 import numpy as np
 
+SAFE_EXPONENT = 400
+"""Values whose largest magnitude lies within 2^±SAFE_EXPONENT are summed unscaled."""
+
+
+_NO_SIZE = -1100
+"""The size of a set of zeros (below any double's power of two)."""
+
+
+def _scale_of(power: int) -> int:
+    """The power-of-two scale for values of size 2^power (0: none needed)."""
+    return power if SAFE_EXPONENT < abs(power) and power > _NO_SIZE else 0
+
+
+def _exponent(top: float) -> int:
+    """The power-of-two scale for values whose largest magnitude is ``top`` (0: none)."""
+    if top == 0 or not math.isfinite(top):
+        return 0
+    return _scale_of(math.frexp(top)[1])
+
+
+def _rescale(value: float, exponent: int, target: int) -> float:
+    """A value in units of 2^exponent, in units of 2^target."""
+    return value if exponent == target else math.ldexp(value, exponent - target)
+
 
 @dataclass(frozen=True)
 class Moments:
     """Count, mean and sum of squared deviations (``m2``) of a set of values.
+
+    ``m2`` is in units of ``4**exponent`` (``exponent`` is 0 unless the values are far from 1,
+    see the module docstring); ``mean`` is always the plain mean.
 
     Examples
     --------
@@ -34,11 +67,14 @@ class Moments:
     >>> both = left.merge(right)
     >>> both.n, both.mean, both.variance
     (5, 3.0, 2.5)
+    >>> f"{Moments.of([1e308, -1e308]).sd:.6g}"  # √2 · 1e308
+    '1.41421e+308'
     """
 
     n: int = 0
     mean: float = 0.0
     m2: float = 0.0
+    exponent: int = 0
 
     @classmethod
     def of(cls, values) -> Moments:
@@ -47,9 +83,12 @@ class Moments:
         n = int(x.size)
         if n == 0:
             return cls()
+        exponent = _exponent(max(float(x.max()), -float(x.min())))
+        if exponent:
+            x = np.ldexp(x, -exponent)
         mean = float(x.mean())
         dev = x - mean
-        return cls(n, mean, float(np.sum(dev * dev)))
+        return cls(n, math.ldexp(mean, exponent), float(np.sum(dev * dev)), exponent)
 
     @classmethod
     def from_summary(cls, n: int, mean: float, variance: float) -> Moments:
@@ -57,7 +96,30 @@ class Moments:
         n = int(n)
         if n <= 0:
             return cls()
-        return cls(n, float(mean), float(variance) * (n - 1) if n > 1 else 0.0)
+        if n == 1:
+            return cls(n, float(mean), 0.0)
+        variance = float(variance)
+        m2 = variance * (n - 1)
+        if math.isfinite(m2) or not math.isfinite(variance):
+            return cls(n, float(mean), m2)
+        exponent = math.frexp(math.sqrt(variance))[1]
+        return cls(n, float(mean), math.ldexp(variance, -2 * exponent) * (n - 1), exponent)
+
+    def _size(self) -> int:
+        """The power of two of the values' size: of the larger of |mean| and the rms
+        deviation (:data:`_NO_SIZE` when every value is 0)."""
+        sizes = [math.frexp(self.mean)[1]] if self.mean else []
+        if self.m2 > 0:
+            sizes.append(self.exponent + math.frexp(math.sqrt(self.m2 / self.n))[1])
+        return max(sizes, default=_NO_SIZE)
+
+    def scaled_mean(self, exponent: int) -> float:
+        """The mean in units of 2^exponent."""
+        return math.ldexp(self.mean, -exponent) if exponent else self.mean
+
+    def scaled_m2(self, exponent: int) -> float:
+        """``m2`` in units of 4^exponent."""
+        return _rescale(self.m2, 2 * self.exponent, 2 * exponent)
 
     def merge(self, other: Moments) -> Moments:
         """Moments of the union of the two sets of values (Chan, Golub & LeVeque 1983)."""
@@ -66,20 +128,48 @@ class Moments:
         if self.n == 0:
             return other
         n = self.n + other.n
-        delta = other.mean - self.mean
-        mean = self.mean + delta * (other.n / n)
-        m2 = self.m2 + other.m2 + delta * delta * (self.n * other.n / n)
-        return Moments(n, mean, m2)
+        e = _scale_of(max(self._size(), other._size()))
+        if e == 0 and self.exponent == other.exponent:
+            delta = other.mean - self.mean
+            mean = self.mean + delta * (other.n / n)
+            m2 = self.m2 + other.m2 + delta * delta * (self.n * other.n / n)
+            return Moments(n, mean, m2)
+        left, right = self.scaled_mean(e), other.scaled_mean(e)
+        delta = right - left
+        mean = math.ldexp(left + delta * (other.n / n), e)
+        m2 = (self.scaled_m2(e) + other.scaled_m2(e) + delta * delta * (self.n * other.n / n))
+        return Moments(n, mean, m2, e)
 
     @property
     def variance(self) -> float:
-        """Sample variance (divisor n − 1); nan for fewer than two values."""
-        return self.m2 / (self.n - 1) if self.n > 1 else math.nan
+        """Sample variance (divisor n − 1); nan for fewer than two values (inf beyond the
+        largest double even where the sd is finite)."""
+        if self.n < 2:
+            return math.nan
+        scaled = self.m2 / (self.n - 1)
+        return _ldexp(scaled, 2 * self.exponent)
 
     @property
     def sd(self) -> float:
         """Sample standard deviation; nan for fewer than two values."""
-        return math.sqrt(self.variance) if self.n > 1 else math.nan
+        if self.n < 2:
+            return math.nan
+        return _ldexp(math.sqrt(self.m2 / (self.n - 1)), self.exponent)
+
+    @property
+    def scaled_variance(self) -> float:
+        """The sample variance in units of 4^exponent (nan for fewer than two values)."""
+        return self.m2 / (self.n - 1) if self.n > 1 else math.nan
+
+
+def _ldexp(value: float, exponent: int) -> float:
+    """``value · 2^exponent``, inf instead of an OverflowError."""
+    if not exponent:
+        return value
+    try:
+        return math.ldexp(value, exponent)
+    except OverflowError:
+        return math.copysign(math.inf, value)
 
 
 @dataclass(frozen=True)
@@ -116,11 +206,17 @@ class CoMoments:
             raise ValueError(f"x and y must have the same length, not {x.size} and {y.size}")
         if x.size == 0:
             return cls()
+        ex = _exponent(max(float(x.max()), -float(x.min())))
+        ey = _exponent(max(float(y.max()), -float(y.min())))
+        if ex:
+            x = np.ldexp(x, -ex)
+        if ey:
+            y = np.ldexp(y, -ey)
         mx, my = float(x.mean()), float(y.mean())
         dx, dy = x - mx, y - my
         return cls(
-            Moments(int(x.size), mx, float(np.sum(dx * dx))),
-            Moments(int(y.size), my, float(np.sum(dy * dy))),
+            Moments(int(x.size), math.ldexp(mx, ex), float(np.sum(dx * dx)), ex),
+            Moments(int(y.size), math.ldexp(my, ey), float(np.sum(dy * dy)), ey),
             float(np.sum(dx * dy)),
         )
 
@@ -132,12 +228,11 @@ class CoMoments:
         n = int(n)
         if n <= 0:
             return cls()
+        x = Moments.from_summary(n, mean_x, var_x)
+        y = Moments.from_summary(n, mean_y, var_y)
         scale = n - 1 if n > 1 else 0.0
-        return cls(
-            Moments.from_summary(n, mean_x, var_x),
-            Moments.from_summary(n, mean_y, var_y),
-            float(cov) * scale,
-        )
+        cxy = _rescale(float(cov), 0, x.exponent + y.exponent) * scale
+        return cls(x, y, cxy)
 
     def merge(self, other: CoMoments) -> CoMoments:
         """Joint moments of the union of the two sets of pairs (Chan, Golub & LeVeque 1983)."""
@@ -146,15 +241,23 @@ class CoMoments:
         if self.n == 0:
             return other
         n = self.n + other.n
-        dx = other.x.mean - self.x.mean
-        dy = other.y.mean - self.y.mean
-        cxy = self.cxy + other.cxy + dx * dy * (self.n * other.n / n)
-        return CoMoments(self.x.merge(other.x), self.y.merge(other.y), cxy)
+        x, y = self.x.merge(other.x), self.y.merge(other.y)
+        ex, ey = x.exponent, y.exponent
+        dx = other.x.scaled_mean(ex) - self.x.scaled_mean(ex)
+        dy = other.y.scaled_mean(ey) - self.y.scaled_mean(ey)
+        cxy = (self._scaled_cxy(ex + ey) + other._scaled_cxy(ex + ey)
+               + dx * dy * (self.n * other.n / n))
+        return CoMoments(x, y, cxy)
+
+    def _scaled_cxy(self, exponent: int) -> float:
+        return _rescale(self.cxy, self.x.exponent + self.y.exponent, exponent)
 
     @property
     def covariance(self) -> float:
         """Sample covariance (divisor n − 1); nan for fewer than two pairs."""
-        return self.cxy / (self.n - 1) if self.n > 1 else math.nan
+        if self.n < 2:
+            return math.nan
+        return _ldexp(self.cxy / (self.n - 1), self.x.exponent + self.y.exponent)
 
     @property
     def correlation(self) -> float:
@@ -164,7 +267,12 @@ class CoMoments:
 
     def ratio(self) -> float:
         """Ratio of sums Σy / Σx (= mean y / mean x); nan when Σx is zero."""
-        return self.y.mean / self.x.mean if self.x.mean != 0 else math.nan
+        if self.x.mean == 0:
+            return math.nan
+        try:
+            return self.y.mean / self.x.mean
+        except OverflowError:
+            return math.copysign(math.inf, self.y.mean) * math.copysign(1.0, self.x.mean)
 
     def ratio_sd(self) -> float:
         """Per-unit standard deviation of the ratio of sums Σy / Σx by the delta method.
@@ -172,7 +280,8 @@ class CoMoments:
         With R = ȳ / x̄, Var(R̂) ≈ (s_y² − 2R s_xy + R² s_x²) / (n x̄²); the value returned is
         the square root of ``n · Var(R̂)``, so that ``sd² / n`` is the variance of the ratio
         estimate, as a mean row with that sd expects (Deng, Knoblich & Lu 2018, eq. for the
-        ratio of two means; Kohavi, Tang & Xu 2020, ch. 18).
+        ratio of two means; Kohavi, Tang & Xu 2020, ch. 18). Computed in the scales of x and y,
+        so it is finite wherever the true value is.
 
         Examples
         --------
@@ -182,6 +291,9 @@ class CoMoments:
         """
         if self.x.mean == 0 or self.n < 2:
             return math.nan
-        r = self.ratio()
-        var = self.y.variance - 2.0 * r * self.covariance + r * r * self.x.variance
-        return math.sqrt(max(var, 0.0)) / abs(self.x.mean)
+        ex, ey = self.x.exponent, self.y.exponent
+        mean_x = self.x.scaled_mean(ex)
+        r = self.y.scaled_mean(ey) / mean_x
+        var = (self.y.scaled_variance - 2.0 * r * (self.cxy / (self.n - 1))
+               + r * r * self.x.scaled_variance)
+        return _ldexp(math.sqrt(max(var, 0.0)) / abs(mean_x), ey - ex)

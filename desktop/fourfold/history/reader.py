@@ -15,12 +15,14 @@ from __future__ import annotations
 import csv
 import io
 import os
+import re
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
+from fourfold.history.blocks import MAX_LINE_BYTES, blocks, first_line, line_break
 from fourfold.history.errors import HistoryError
 
 PARQUET_SUFFIXES = (".parquet", ".pq")
@@ -55,9 +57,13 @@ def read_columns(path: str | os.PathLike) -> list[str]:
     Raises
     ------
     HistoryError
-        When the file is missing, empty, binary, not UTF-8 text, or ends mid-line.
+        When the file is missing, empty, binary, not UTF-8 text, names a column twice, has a
+        first line longer than :data:`~fourfold.history.blocks.MAX_LINE_BYTES`, or ends
+        mid-line.
     """
     path = Path(path)
+    if "\x00" in str(path):
+        raise HistoryError(f"{str(path)!r}: the file name holds a NUL character")
     if not path.is_file():
         raise HistoryError(f"{path}: no such file")
     if is_parquet(path):
@@ -68,27 +74,50 @@ def read_columns(path: str | os.PathLike) -> list[str]:
         raise HistoryError(f"{path.name}: the file is empty")
     if b"\x00" in head:
         raise HistoryError(f"{path.name}: not a CSV text file (it contains binary data)")
-    first = head.split(b"\n", 1)[0]
+    first = first_line(head)
+    if len(first) >= MAX_LINE_BYTES:
+        raise HistoryError(f"{path.name}: the first line is longer than "
+                           f"{MAX_LINE_BYTES >> 20} MB; it should name the columns")
     try:
         text = first.decode("utf-8-sig")
     except UnicodeDecodeError:
         raise HistoryError(f"{path.name}: not a UTF-8 CSV text file") from None
-    header = next(csv.reader(io.StringIO(text)), [])
+    try:
+        header = next(csv.reader([text]), [])
+    except csv.Error as error:
+        raise HistoryError(f"{path.name}: the first line cannot be read as CSV ({error})") \
+            from None
     if not any(name.strip() for name in header):
         raise HistoryError(f"{path.name}: the first line must name the columns")
-    _check_last_line(path, len(header))
+    _check_unique(path, header)
+    _check_last_line(path, len(header), line_break(head))
     return header
 
 
-def _check_last_line(path: Path, fields: int) -> None:
+def _check_unique(path: Path, header: list[str]) -> None:
+    seen: dict[str, int] = {}
+    for number, name in enumerate(header, start=1):
+        if name.strip() and name in seen:
+            raise HistoryError(
+                f"{path.name}: the first line names column {name!r} twice (columns "
+                f"{seen[name]} and {number}); give each column its own name"
+            )
+        seen.setdefault(name, number)
+
+
+def _check_last_line(path: Path, fields: int, newline: bytes) -> None:
     size = path.stat().st_size
     with open(path, "rb") as handle:
         handle.seek(max(0, size - _PROBE_BYTES))
         tail = handle.read()
-    if tail.endswith((b"\n", b"\r")) or b"\n" not in tail:
+    if tail.endswith((b"\n", b"\r")) or newline not in tail:
         return
-    last = tail.rsplit(b"\n", 1)[1].decode("utf-8", errors="replace")
-    seen = len(next(csv.reader(io.StringIO(last)), []))
+    last = tail.rsplit(newline, 1)[1].decode("utf-8", errors="replace")
+    try:
+        seen = len(next(csv.reader(last.splitlines()[-1:]), []))
+    except csv.Error:
+        return  # the reader names the line
+
     if seen < fields:
         raise HistoryError(
             f"{path.name}: the file ends in the middle of a line (its last line has {seen} of "
@@ -122,46 +151,61 @@ def iter_chunks(path: str | os.PathLike, columns: list[str], chunk_rows: int) ->
 
 
 def _csv_chunks(path: Path, columns: list[str], chunk_rows: int) -> Iterator[Chunk]:
+    """The file in blocks of whole lines (:mod:`fourfold.history.blocks`), each parsed by
+    pandas under the header line, ``chunk_rows`` rows at a time."""
     import pandas as pd
 
     size = max(path.stat().st_size, 1)
     start = 0
     with open(path, "rb") as handle:
+        head = handle.read(_PROBE_BYTES)
+        newline = line_break(head)
+        first = first_line(head)
+        rest = head[len(first):]
+        header = first + (b"\r\n" if rest.startswith(b"\r\n") else rest[:1])
+        handle.seek(len(header))
+        for block in blocks(handle, path.name, newline=newline, line=2, offset=len(header)):
+            for frame in _frames(pd, path, header, block, columns, chunk_rows, newline):
+                rows = len(frame)
+                yield Chunk({name: frame[name] for name in columns}, start, rows,
+                            min(block.end / size, 1.0))
+                start += rows
+
+
+def _frames(pd, path: Path, header: bytes, block, columns: list[str], chunk_rows: int,
+            newline: bytes):
+    """pandas' frames of one block, parsed under the file's header line."""
+    try:
+        reader = pd.read_csv(io.BytesIO(header + block.data), usecols=columns,
+                             chunksize=chunk_rows, skip_blank_lines=False, encoding="utf-8-sig")
+        with reader:
+            yield from reader
+    except pd.errors.ParserError as error:
+        raise HistoryError(f"{path.name}: {_parser_message(error, block.first_line - 2)}") \
+            from None
+    except UnicodeDecodeError:
         try:
-            reader = pd.read_csv(
-                handle,
-                usecols=columns,
-                chunksize=chunk_rows,
-                skip_blank_lines=False,
-                encoding="utf-8-sig",
-            )
-            with reader:
-                for frame in reader:
-                    rows = len(frame)
-                    yield Chunk(
-                        {name: frame[name] for name in columns},
-                        start,
-                        rows,
-                        min(handle.tell() / size, 1.0),
-                    )
-                    start += rows
-        except pd.errors.ParserError as error:
-            raise HistoryError(f"{path.name}: {_parser_message(error)}") from None
-        except UnicodeDecodeError:
-            raise HistoryError(
-                f"{path.name}: not a UTF-8 CSV text file (undecodable bytes after "
-                f"{location(path, start)})"
-            ) from None
-        except pd.errors.EmptyDataError:
-            raise HistoryError(f"{path.name}: the file is empty") from None
-        except ValueError as error:  # pandas' remaining complaints about the file's layout
-            raise HistoryError(f"{path.name}: cannot be read as CSV ({error})") from None
+            block.data.decode("utf-8")
+            line = block.first_line
+        except UnicodeDecodeError as error:
+            line = block.first_line + block.data[: error.start].count(newline)
+        raise HistoryError(
+            f"{path.name}: not a UTF-8 CSV text file (undecodable bytes on line {line})"
+        ) from None
+    except pd.errors.EmptyDataError:
+        raise HistoryError(f"{path.name}: the file is empty") from None
+    except ValueError as error:  # pandas' remaining complaints about the file's layout
+        raise HistoryError(f"{path.name}: cannot be read as CSV ({error})") from None
 
 
-def _parser_message(error: Exception) -> str:
+def _parser_message(error: Exception, lines_before: int = 0) -> str:
+    """pandas' parser message without its prefix, its line number counted in the file."""
     text = str(error).strip()
     marker = "C error: "
-    return text.split(marker, 1)[1] if marker in text else text
+    text = text.split(marker, 1)[1] if marker in text else text
+    if lines_before:
+        text = re.sub(r"line (\d+)", lambda m: f"line {int(m.group(1)) + lines_before}", text)
+    return text
 
 
 def _parquet_chunks(path: Path, columns: list[str], chunk_rows: int) -> Iterator[Chunk]:
@@ -187,26 +231,33 @@ def numbers(series, column: str, *, proportion: bool, path, start: int) -> np.nd
     ------
     HistoryError
         On the first cell that is not a number (or, for a proportion, not 0/1 or true/false),
-        naming the column and its line.
+        or is infinite or beyond the largest double (about 1.8e308), naming the column and its
+        line.
     """
     values = series.to_numpy()
+    text = None
     if values.dtype.kind in "biuf":
         out = values.astype(np.float64, copy=False)
     else:
-        out = _parse_cells(values, column, proportion=proportion, path=path, start=start)
+        out, text = _parse_cells(values, column, proportion=proportion, path=path, start=start)
     if not proportion:
         bad = np.isinf(out)
         if bad.any():
-            raise _cell_error(path, column, start, int(np.argmax(bad)), out, "is infinite")
+            raise _cell_error(path, column, start, int(np.argmax(bad)), out, text, _HUGE)
         return out
     bad = ~(np.isnan(out) | (out == 0.0) | (out == 1.0))
     if bad.any():
-        raise _cell_error(path, column, start, int(np.argmax(bad)), out,
+        raise _cell_error(path, column, start, int(np.argmax(bad)), out, text,
                           "is not 0/1 or true/false, as a proportion needs")
     return out
 
 
+_HUGE = "is infinite or beyond the largest number a double holds (about ±1.8e308)"
+_NUMERAL = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?")
+
+
 def _parse_cells(values: np.ndarray, column: str, *, proportion: bool, path, start: int):
+    """The cells as float64 (nan where empty) and as stripped text."""
     import pandas as pd
 
     cells = pd.Series(values, dtype=object)
@@ -222,15 +273,18 @@ def _parse_cells(values: np.ndarray, column: str, *, proportion: bool, path, sta
     bad = np.isnan(out) & ~missing
     if bad.any():
         i = int(np.argmax(bad))
-        raise HistoryError(
-            f"{Path(path).name}: column {column!r} has {text.iloc[i][:40]!r} on "
-            f"{location(path, start + i)}, which is not a number"
-        )
-    return out
+        what = _HUGE if _NUMERAL.fullmatch(text.iloc[i]) else "is not a number"
+        raise _cell_error(path, column, start, i, out, text, what)
+    return out, text
 
 
-def _cell_error(path, column: str, start: int, index: int, values, what: str) -> HistoryError:
-    shown = f"{float(values[index]):g}"
+def _cell_error(path, column: str, start: int, index: int, values, text, what: str
+                ) -> HistoryError:
+    if text is not None:
+        cell = text.iloc[index]
+        shown = repr(cell if len(cell) <= 40 else cell[:39] + "…")
+    else:
+        shown = f"{float(values[index]):g}"
     return HistoryError(
         f"{Path(path).name}: column {column!r} has {shown} on "
         f"{location(path, start + index)}, which {what}"

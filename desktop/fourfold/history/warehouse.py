@@ -24,7 +24,6 @@ Deng, Knoblich & Lu (2018) for the delta method (see :mod:`fourfold.history.summ
 from __future__ import annotations
 
 import csv
-import io
 import math
 import os
 import re
@@ -161,7 +160,14 @@ def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
 
     The result is a header line of the query's column names and one row per partition,
     separated by commas, tabs, semicolons or ``|``; column names match case-insensitively and
-    empty or ``NULL`` cells mean no value.
+    empty or ``NULL`` cells mean no value. Lines may end with ``\\n``, ``\\r\\n`` or ``\\r``.
+
+    Raises
+    ------
+    HistoryError
+        With the column and line at fault: a count that is missing, not a whole number or
+        larger than the row count; a mean, variance or covariance that is missing although
+        there are values, not a number, infinite, or a negative variance.
 
     Examples
     --------
@@ -169,6 +175,11 @@ def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
     >>> spend = read_warehouse_result(text, [ColumnMap("mean", "spend")])["spend"]
     >>> spend.n, spend.missing, round(spend.mean, 6), round(spend.sd, 6)
     (14, 2, 3.142857, 1.769708)
+    >>> read_warehouse_result(text.replace("10,8", "10,13"), [ColumnMap("mean", "spend")])
+    Traceback (most recent call last):
+    ...
+    fourfold.history.errors.HistoryError: query result: column 'm1_spend_n' on line 2 counts \
+13 values, more than the 10 rows of that line
     """
     mapping = _check(mapping)
     header, rows = _table(text, source)
@@ -177,15 +188,14 @@ def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
     tallies = [Tally() for _ in mapping]
     total = 0
     for line, row in rows:
-        cells = dict(zip(header, row, strict=False))
-
-        def get(alias: str, line=line, cells=cells) -> float:
-            return _cell(cells, alias, source, line)
-
-        part_rows = get("rows")
-        total += int(part_rows)
+        if len(row) < len(header):
+            raise HistoryError(f"{source}: line {line} has {len(row)} of the {len(header)} "
+                               "cells the header names")
+        part = _Part(dict(zip(header, row, strict=False)), source, line)
+        part_rows = part.count("rows")
+        total += part_rows
         for index, spec in enumerate(mapping):
-            tallies[index] = tallies[index].merge(_part_tally(index, spec, get, part_rows))
+            tallies[index] = tallies[index].merge(_part_tally(index, spec, part, part_rows))
     metrics = tuple(finish(spec, tally) for spec, tally in zip(mapping, tallies, strict=True))
     return HistorySummary(source, total, metrics)
 
@@ -193,12 +203,17 @@ def read_warehouse_result(text: str, mapping: Sequence[ColumnMap], *,
 def read_warehouse_file(path: str | os.PathLike, mapping: Sequence[ColumnMap]) -> HistorySummary:
     """:func:`read_warehouse_result` of a small saved result file (up to 1 MB)."""
     path = Path(path)
+    if "\x00" in str(path):
+        raise HistoryError(f"{str(path)!r}: the file name holds a NUL character")
     try:
-        data = path.read_bytes()[: _MAX_RESULT_BYTES + 1]
+        with open(path, "rb") as handle:
+            data = handle.read(_MAX_RESULT_BYTES + 1)
     except OSError as error:
         raise HistoryError(f"{path}: cannot be read ({error.strerror})") from None
     if len(data) > _MAX_RESULT_BYTES:
         raise HistoryError(f"{path.name}: a query result should be a few lines, not over 1 MB")
+    if b"\x00" in data:
+        raise HistoryError(f"{path.name}: not a text file (it contains binary data)")
     try:
         text = data.decode("utf-8-sig")
     except UnicodeDecodeError:
@@ -206,63 +221,101 @@ def read_warehouse_file(path: str | os.PathLike, mapping: Sequence[ColumnMap]) -
     return read_warehouse_result(text, mapping, source=path.name)
 
 
-def _part_tally(index: int, spec: ColumnMap, get, rows: float) -> Tally:
+class _Part:
+    """One result row: its cells by lower-case column name, read with checks."""
+
+    def __init__(self, cells: dict[str, str], source: str, line: int) -> None:
+        self.cells, self.source, self.line = cells, source, line
+
+    def _text(self, alias: str) -> str:
+        key = alias.lower()
+        if key not in self.cells:
+            raise HistoryError(
+                f"{self.source}: no column {alias!r}; paste the whole result of the query "
+                "written for this same mapping"
+            )
+        return self.cells[key]
+
+    def _fault(self, alias: str, what: str) -> HistoryError:
+        return HistoryError(f"{self.source}: column {alias!r} on line {self.line} {what}")
+
+    def count(self, alias: str, most: int | None = None, of: str = "") -> int:
+        """A count cell: present, a whole number, at least 0 and at most ``most``."""
+        text = self._text(alias)
+        try:
+            value = float(text)
+        except ValueError:
+            value = math.nan
+        if not (math.isfinite(value) and value >= 0 and value == math.floor(value)):
+            shown = "empty" if text == "" else repr(text[:40])
+            raise self._fault(alias, f"must be a count (a whole number, 0 or more), not {shown}")
+        count = int(value)
+        if most is not None and count > most:
+            raise self._fault(alias, f"counts {count:,} values, more than the {most:,} {of}")
+        return count
+
+    def number(self, alias: str, needed: bool, *, variance: bool = False) -> float:
+        """A mean, variance or covariance cell; 0.0 when empty and not ``needed``."""
+        text = self._text(alias)
+        if text == "" or text.upper() == "NULL":
+            if needed:
+                raise self._fault(alias, "is empty, but the line counts values for it")
+            return 0.0
+        try:
+            value = float(text)
+        except ValueError:
+            value = math.nan
+        if math.isnan(value):
+            raise self._fault(alias, f"has {text[:40]!r}, which is not a number")
+        if math.isinf(value):
+            raise self._fault(alias, f"has {text[:40]!r}, which is infinite or beyond the "
+                                     "largest number a double holds (about ±1.8e308)")
+        if variance and value < 0:
+            raise self._fault(alias, f"has {text[:40]!r}: a variance cannot be negative")
+        return value
+
+
+def _part_tally(index: int, spec: ColumnMap, part: _Part, rows: int) -> Tally:
     def alias(what: str) -> str:
         return _alias(index, spec, what)
 
     values = Moments()
     if spec.kind != "ratio":
-        values = Moments.from_summary(get(alias("n")), _or_zero(get(alias("mean"))),
-                                      _or_zero(get(alias("var"))))
+        n = part.count(alias("n"), rows, "rows of that line")
+        values = Moments.from_summary(n, part.number(alias("mean"), n > 0),
+                                      part.number(alias("var"), n > 1, variance=True))
     pairs = CoMoments()
     if spec.kind == "ratio" or spec.pre is not None:
+        n = part.count(alias("pairs"), rows, "rows of that line")
         pairs = CoMoments.from_summary(
-            get(alias("pairs")), _or_zero(get(alias("mean_x"))), _or_zero(get(alias("mean_y"))),
-            _or_zero(get(alias("var_x"))), _or_zero(get(alias("var_y"))),
-            _or_zero(get(alias("cov"))),
+            n, part.number(alias("mean_x"), n > 0), part.number(alias("mean_y"), n > 0),
+            part.number(alias("var_x"), n > 1, variance=True),
+            part.number(alias("var_y"), n > 1, variance=True),
+            part.number(alias("cov"), n > 1),
         )
         if spec.kind == "ratio":
             values = pairs.y
-    return Tally(int(rows), values, pairs)
+    return Tally(rows, values, pairs)
 
 
-def _or_zero(value: float) -> float:
-    return 0.0 if math.isnan(value) else value
+_LINE_BREAK = re.compile(r"\r\n|\r|\n")
 
 
 def _table(text: str, source: str) -> tuple[list[str], list[tuple[int, list[str]]]]:
-    lines = [line for line in text.replace("\r\n", "\n").split("\n") if line.strip()]
-    lines = [line for line in lines if not set(line.strip()) <= set("-+|= ")]
-    if not lines:
+    numbered = [(number, line) for number, line in enumerate(_LINE_BREAK.split(text), start=1)
+                if line.strip() and not set(line.strip()) <= set("-+|= ")]
+    if not numbered:
         raise HistoryError(f"{source}: paste the query's result, header line first")
-    first = lines[0]
+    first = numbered[0][1]
     delimiter = max(",\t;|", key=first.count)
     if first.count(delimiter) == 0:
         raise HistoryError(f"{source}: the first line should name the result's columns")
-    parsed = list(csv.reader(io.StringIO("\n".join(lines)), delimiter=delimiter))
-    header = [cell.strip().strip('"').lower() for cell in parsed[0]]
-    rows = [(number + 2, [cell.strip() for cell in row]) for number, row in
-            enumerate(parsed[1:]) if any(cell.strip() for cell in row)]
-    return header, rows
-
-
-def _cell(cells: dict, alias: str, source: str, line: int) -> float:
-    key = alias.lower()
-    if key not in cells:
-        raise HistoryError(
-            f"{source}: no column {alias!r}; paste the whole result of the query written for "
-            "this same mapping"
-        )
-    text = cells[key]
-    if text == "" or text.upper() == "NULL":
-        return math.nan
     try:
-        value = float(text)
-    except ValueError:
-        raise HistoryError(
-            f"{source}: column {alias!r} has {text[:40]!r} on line {line}, which is not a number"
-        ) from None
-    if key.endswith(("_n", "_pairs")) or key == "rows":
-        if value < 0 or value != math.floor(value):
-            raise HistoryError(f"{source}: column {alias!r} on line {line} must be a count")
-    return value
+        parsed = [(number, next(csv.reader([line], delimiter=delimiter)))
+                  for number, line in numbered]
+    except csv.Error as error:
+        raise HistoryError(f"{source}: cannot be read as a table ({error})") from None
+    header = [cell.strip().strip('"').lower() for cell in parsed[0][1]]
+    rows = [(number, [cell.strip() for cell in row]) for number, row in parsed[1:]
+            if any(cell.strip() for cell in row)]
+    return header, rows

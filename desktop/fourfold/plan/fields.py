@@ -11,9 +11,9 @@ The one cross-field rule enforced here is that a row's method belongs to its kin
 from __future__ import annotations
 
 import dataclasses
-import json
 import math
 import numbers
+import re
 from collections.abc import Callable
 from typing import Any
 
@@ -57,6 +57,7 @@ SETTINGS_FIELDS = tuple(f.name for f in dataclasses.fields(Settings))
 MAX_ARMS = 20
 MAX_LOOKS = 20
 MAX_TEXT = 200
+_SURROGATE = re.compile("[\ud800-\udfff]")
 MAX_DAYS = 3650
 MAX_UNIT = 20
 MAX_WINDOWS = 64
@@ -78,12 +79,80 @@ class PlanError(FourfoldError, ValueError):
         self.field = field
 
 
+def shown(value: Any, limit: int = 60) -> str:
+    """``repr(value)`` cut to about ``limit`` characters, for one-line messages.
+
+    Examples
+    --------
+    >>> shown("x" * 100, limit=10)
+    "'xxxxxxxx…"
+    """
+    if isinstance(value, (list, dict)) and len(value) > limit:
+        return f"a {type(value).__name__} of {len(value):,} items"
+    try:
+        text = repr(value)
+    except (RecursionError, ValueError):
+        text = f"a {type(value).__name__}"
+    return text if len(text) <= limit else text[:limit - 1] + "…"
+
+
+def key_name(key: str) -> str:
+    """A key as a message names its place: on one line, cut to about 40 characters.
+
+    Examples
+    --------
+    >>> key_name("colour"), key_name("a\\nb")
+    ('colour', 'a\\\\nb')
+    """
+    text = shown(key, 42)
+    return text[1:-1] if text[:1] in "'\"" and text[-1:] == text[:1] else text[1:]
+
+
+def check_text(field: str, text: str) -> str:
+    """``text`` if it is valid Unicode; PlanError for an unpaired surrogate (which no file
+    can hold).
+
+    Examples
+    --------
+    >>> check_text("notes", "ok ✓")
+    'ok ✓'
+    >>> check_text("notes", "bad " + chr(0xD800))
+    Traceback (most recent call last):
+    ...
+    fourfold.plan.fields.PlanError: notes holds an unpaired surrogate (\\ud800) at character 5, \
+which is not a character; remove it
+    """
+    found = _SURROGATE.search(text)
+    if found is not None:
+        code = found.group().encode("unicode_escape").decode("ascii")
+        raise PlanError(f"{field} holds an unpaired surrogate ({code}) at character "
+                        f"{found.start() + 1}, which is not a character; remove it", field)
+    return text
+
+
+def _magnitude(value: Any) -> str:
+    """An infinite or too large number as a message shows it (as written in a file)."""
+    if hasattr(value, "text"):
+        return shown(value.text, 30)[1:-1] if len(value.text) < 30 else \
+            f"a number of {len(value.text):,} characters ({value.text[:12]}…)"
+    if isinstance(value, numbers.Integral):
+        digits = len(str(abs(int(value)))) if abs(int(value)).bit_length() < 14000 else None
+        return f"a whole number of {digits:,} digits" if digits else "a whole number"
+    return str(float(value))
+
+
 def _number(field: str, value: Any) -> float:
     if isinstance(value, bool) or not isinstance(value, numbers.Real):
-        raise PlanError(f"{field} must be a number, not {value!r}", field)
-    number = float(value)
-    if not math.isfinite(number):
-        raise PlanError(f"{field} must be a finite number, not {number}", field)
+        raise PlanError(f"{field} must be a number, not {shown(value)}", field)
+    try:
+        number = float(value)
+    except OverflowError:  # a whole number beyond the largest float
+        number = math.inf if value > 0 else -math.inf
+    if math.isnan(number):
+        raise PlanError(f"{field} must be a finite number, not nan", field)
+    if math.isinf(number):
+        raise PlanError(f"{field} must be a finite number, at most about 1.8e308 in size; "
+                        f"got {_magnitude(value)}", field)
     return number
 
 
@@ -140,7 +209,7 @@ def _choice(choices: tuple[str, ...]) -> Callable[[str, Any], str]:
     def check(field: str, value: Any) -> str:
         if not isinstance(value, str) or value not in choices:
             raise PlanError(
-                f"{field} must be one of {', '.join(choices)}; got {value!r}", field
+                f"{field} must be one of {', '.join(choices)}; got {shown(value)}", field
             )
         return value
 
@@ -149,14 +218,15 @@ def _choice(choices: tuple[str, ...]) -> Callable[[str, Any], str]:
 
 def _flag(field: str, value: Any) -> bool:
     if not isinstance(value, bool):
-        raise PlanError(f"{field} must be true or false, not {value!r}", field)
+        raise PlanError(f"{field} must be true or false, not {shown(value)}", field)
     return value
 
 
 def _text(*, required: bool) -> Callable[[str, Any], str]:
     def check(field: str, value: Any) -> str:
         if not isinstance(value, str):
-            raise PlanError(f"{field} must be text, not {value!r}", field)
+            raise PlanError(f"{field} must be text, not {shown(value)}", field)
+        check_text(field, value)
         if required and not value.strip():
             raise PlanError(f"{field} must not be empty", field)
         return value.strip() if required else value
@@ -193,14 +263,9 @@ def _method(field: str, value: Any, kind: str | None = None) -> str | None:
 
 
 def _simulation(field: str, value: Any) -> dict | None:
-    if value is None:
-        return None
-    if not isinstance(value, dict):
-        raise PlanError(f"{field} must be an object or empty, not {value!r}", field)
-    try:
-        return json.loads(json.dumps(value, allow_nan=False))
-    except (TypeError, ValueError) as error:
-        raise PlanError(f"{field} must hold plain JSON values only ({error})", field) from None
+    from fourfold.plan.simulation_record import validate_record
+
+    return validate_record(field, value)
 
 
 def _pairs(field: str, value: Any, what: str) -> list[tuple[float, float]]:

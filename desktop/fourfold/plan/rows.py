@@ -307,6 +307,10 @@ def _finish_rows(plan: Plan, solved_rows: list, pending: dict[int, _Pending], re
         staged = row.staged
         if row.at_duration:
             day = at_duration.days
+        if settings.daily_units is not None and not math.isfinite(day):  # 1e-320 a day
+            why = f"needs more days than can be counted at {settings.daily_units:g} daily units"
+            results[index] = _failed(row.solved, row.factor, outcome[6], outcome[5], why)
+            continue
         if weeks and row.solved == "sample_size" and math.isfinite(day):
             units, day, staged = _on_week_ends(plan, index, row, weekly[0][index], day,
                                                weekly[1])
@@ -343,6 +347,10 @@ def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
             power = sequential.power_of(row.staged, power)
     else:
         alpha = value
+    if math.isfinite(value) and not math.isfinite(
+            n_control * (1 + settings.arms * treatment_ratio(settings))):
+        return _failed(solved, factor, shown_alpha, shown_power, "needs more units than can be "
+                       "counted" + (f" (variance factor {factor:g})" if factor != 1 else ""))
     if not all(math.isfinite(number) for number in (n_control, effect, power, alpha, margin)):
         return _failed(solved, factor, shown_alpha, shown_power,
                        f"the engine found no finite {solved.replace('_', ' ')} for this row")

@@ -42,21 +42,22 @@ moves it into place with :func:`os.replace`, so the old file survives any failur
 
 from __future__ import annotations
 
-import contextlib
 import copy
 import dataclasses
 import json
+import math
 import os
 import pathlib
-import stat
-import tempfile
 from typing import Any
 
+from fourfold import atomic
 from fourfold.plan import scenarios, traffic
 from fourfold.plan.fields import (
     METRIC_FIELDS,
     SETTINGS_FIELDS,
     PlanError,
+    key_name,
+    shown,
     validate_field,
 )
 from fourfold.plan.model import Metric, Plan, Settings
@@ -82,6 +83,9 @@ KINDS_SETTINGS_FIELDS = ("allocation",)
 TRAFFIC_METRIC_FIELDS = ("windowed", "windows")
 TRAFFIC_SETTINGS_FIELDS = traffic.TRAFFIC_SETTINGS
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
+MAX_DIGITS = 4000
+"""Longest JSON integer read exactly (below Python's 4,300-digit limit; any integer past 309
+digits is beyond a double and refused by the field's check)."""
 
 
 def sample_path() -> pathlib.Path:
@@ -194,8 +198,9 @@ def _fields(data: dict, names: tuple[str, ...], where: str, *, settings: bool,
             kind: str | None = None) -> dict[str, Any]:
     unknown = [key for key in data if key not in names]
     if unknown:
-        key = unknown[0]
-        raise PlanError(f"{where}.{key}: unknown field {key!r}", f"{where}.{key}")
+        key = key_name(unknown[0])
+        raise PlanError(f"{where}.{key}: unknown field {shown(unknown[0], 40)}",
+                        f"{where}.{key}")
     values = {}
     for name in names:
         if name in data:
@@ -219,16 +224,18 @@ def from_dict(data: Any) -> Plan:
     if data.get("format") != FORMAT:
         found = data.get("format")
         raise PlanError(
-            f"format: not a Fourfold plan (expected \"format\": \"{FORMAT}\", found {found!r})",
+            f"format: not a Fourfold plan (expected \"format\": \"{FORMAT}\", found "
+            f"{shown(found)})",
             "format",
         )
     version = data.get("schema_version")
     if isinstance(version, bool) or not isinstance(version, int):
-        raise PlanError(f"schema_version must be a whole number, not {version!r}",
+        raise PlanError(f"schema_version must be a whole number, not {shown(version)}",
                         "schema_version")
     if version > SCHEMA_VERSION:
         raise PlanError(
-            f"schema_version {version} is newer than this Fourfold reads ({SCHEMA_VERSION}); "
+            f"schema_version {shown(version)} is newer than this Fourfold reads "
+            f"({SCHEMA_VERSION}); "
             "open it with a newer Fourfold",
             "schema_version",
         )
@@ -239,7 +246,8 @@ def from_dict(data: Any) -> Plan:
         members += ("scenarios", "active")
     unknown = [key for key in data if key not in members]
     if unknown:
-        raise PlanError(f"{unknown[0]}: unknown field {unknown[0]!r}", unknown[0])
+        key = key_name(unknown[0])
+        raise PlanError(f"{key}: unknown field {shown(unknown[0], 40)}", key)
     settings = Settings(**_fields(_object(data.get("settings", {}), "settings"),
                                   SETTINGS_FIELDS, "settings", settings=True))
     rows = data.get("metrics", [])
@@ -283,13 +291,86 @@ def _scenarios(plan: Plan, data: dict) -> None:
     plan.active = active
 
 
+class _Duplicate(ValueError):
+    """A key that appears twice in one JSON object."""
+
+
+def _unique(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
+    seen: dict[str, Any] = {}
+    for key, value in pairs:
+        if key in seen:
+            raise _Duplicate(key)
+        seen[key] = value
+    return seen
+
+
+class Beyond(float):
+    """A JSON number beyond a double: ±inf that remembers how the file wrote it, so that the
+    field's check refuses it by name and shows it (instead of Python's digit limit failing the
+    whole file, or a message about "inf" the file never said)."""
+
+    text: str
+
+    def __new__(cls, text: str) -> Beyond:
+        number = super().__new__(cls, -math.inf if text.startswith("-") else math.inf)
+        number.text = text
+        return number
+
+
+def _whole_number(text: str) -> int | float:
+    """A JSON integer: exact up to :data:`MAX_DIGITS` digits, beyond that :class:`Beyond`."""
+    return int(text) if len(text) <= MAX_DIGITS else Beyond(text)
+
+
+def _real_number(text: str) -> float:
+    """A JSON number with a fraction or exponent; :class:`Beyond` past ±1.8e308."""
+    number = float(text)
+    return Beyond(text) if math.isinf(number) else number
+
+
+def parse_json(text: str) -> Any:
+    """Parse JSON text strictly: a key twice in one object, nesting deeper than the reader can
+    follow, or any syntax error is a :class:`PlanError` with a one-line message.
+
+    Examples
+    --------
+    >>> parse_json('{"metrics": [], "metrics": [1]}')
+    Traceback (most recent call last):
+    ...
+    fourfold.plan.fields.PlanError: the field 'metrics' appears twice in one object; a plan \
+file names each field once
+    >>> parse_json("[" * 100_000)
+    Traceback (most recent call last):
+    ...
+    fourfold.plan.fields.PlanError: not valid JSON: nested too deeply (a plan file is a few \
+levels deep)
+    """
+    try:
+        return json.loads(text, object_pairs_hook=_unique, parse_int=_whole_number,
+                          parse_float=_real_number)
+    except json.JSONDecodeError as error:
+        raise PlanError(
+            f"not valid JSON: {error.msg} at line {error.lineno}, column {error.colno}", None
+        ) from None
+    except _Duplicate as error:
+        key = shown(error.args[0])
+        raise PlanError(f"the field {key} appears twice in one object; a plan file names "
+                        "each field once", None) from None
+    except RecursionError:
+        raise PlanError("not valid JSON: nested too deeply (a plan file is a few levels deep)",
+                        None) from None
+    except ValueError as error:
+        raise PlanError(f"not valid JSON: {error}", None) from None
+
+
 def loads(text: str) -> Plan:
     """Parse plan JSON text.
 
     Raises
     ------
     PlanError
-        For text that is not JSON (with line and column) or not a valid plan.
+        For text that is not JSON (with line and column), a field named twice in one object,
+        or text that is not a valid plan.
 
     Examples
     --------
@@ -300,13 +381,7 @@ def loads(text: str) -> Plan:
     ...
     fourfold.plan.fields.PlanError: settings.alpha: alpha must satisfy 0 < alpha < 0.5; got 2
     """
-    try:
-        data = json.loads(text)
-    except json.JSONDecodeError as error:
-        raise PlanError(
-            f"not valid JSON: {error.msg} at line {error.lineno}, column {error.colno}", None
-        ) from None
-    return from_dict(data)
+    return from_dict(parse_json(text))
 
 
 def load(path: str | os.PathLike) -> Plan:
@@ -318,6 +393,8 @@ def load(path: str | os.PathLike) -> Plan:
         For an unreadable file (naming it) or any fault :func:`loads` reports.
     """
     path = pathlib.Path(path)
+    if "\x00" in str(path):
+        raise PlanError(f"cannot read {str(path)!r}: the file name holds a NUL character")
     try:
         text = path.read_text(encoding="utf-8-sig")
     except (OSError, UnicodeDecodeError) as error:
@@ -331,38 +408,19 @@ def load(path: str | os.PathLike) -> Plan:
 def save(plan: Plan, path: str | os.PathLike) -> None:
     """Write a plan file atomically: the old file stays intact if anything fails.
 
-    The text is written to a temporary file in the target's folder, flushed to disk and moved
-    over the target with :func:`os.replace`; an existing file's permissions are kept, and a
-    symbolic link is followed (its target is replaced, the link stays).
+    The text is written to a temporary file in the target's folder, flushed to disk, checked
+    and moved over the target with :func:`os.replace` (see :mod:`fourfold.atomic`); an
+    existing file's permissions are kept, and a symbolic link is followed (its target is
+    replaced, the link stays). Temporary files of earlier saves that were killed are removed.
 
     Raises
     ------
     PlanError
-        When the plan cannot be written (the message names the file and the reason).
+        When the plan cannot be written (the message names the file and the reason), or the
+        target is not a regular file (a folder or a device).
     """
-    path = pathlib.Path(os.path.realpath(path))
     try:
-        mode = stat.S_IMODE(path.stat().st_mode)
-    except FileNotFoundError:
-        umask = os.umask(0)
-        os.umask(umask)
-        mode = 0o666 & ~umask
-    except OSError as error:
-        raise PlanError(f"cannot save {path}: {error}") from None
-    temporary = None
-    try:
-        handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp",
-                                             dir=path.parent)
-        with os.fdopen(handle, "w", encoding="utf-8") as stream:
-            stream.write(dumps(plan))
-            stream.flush()
-            os.fsync(stream.fileno())
-        os.chmod(temporary, mode)
-        os.replace(temporary, path)
-        temporary = None
-    except (OSError, TypeError, ValueError) as error:
-        raise PlanError(f"cannot save {path}: {error}") from None
-    finally:
-        if temporary is not None:
-            with contextlib.suppress(OSError):
-                os.unlink(temporary)
+        data = dumps(plan).encode("utf-8")
+    except (TypeError, ValueError) as error:
+        raise PlanError(f"cannot save {os.fspath(path)!r}: {error}") from None
+    atomic.write_bytes(path, data, error=PlanError, verb="save")

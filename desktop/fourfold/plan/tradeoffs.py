@@ -499,6 +499,11 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
     if not traffic.has_traffic(settings):
         return _empty_figure("runtime", *labels, traffic.missing_text(settings))
     needed = traffic.control_days(settings, row.units_control)  # the table rounds this up
+    if math.isinf(needed):
+        return _empty_figure("runtime", *labels, "at this traffic the days cannot be counted"
+                             if not traffic.is_plain(settings) else
+                             f"at {settings.daily_units:g} daily units the days cannot be "
+                             "counted")
     longest = max(needed if math.isfinite(needed) else 0.0, result.duration_days or 0.0)
     weeks = int(min(MAX_WEEKS, max(WEEKS, math.ceil(longest / 7.0) + 1)))
     first = min(1.0, needed / 2.0) if math.isfinite(needed) and needed > 0 else 1.0
@@ -507,7 +512,8 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
     other = neighbour_power(row.power)
 
     def units_after(day_values):
-        return traffic.control_units(settings, day_values)
+        with np.errstate(over="ignore"):  # inf units where the traffic is beyond a double
+            return traffic.control_units(settings, day_values)
 
     at_days, at_days_other, at_weeks = (
         values * scale for values in r.detectable((units_after(days), row.alpha, row.power),

@@ -325,7 +325,8 @@ def control_days(settings: Settings, n_control: float) -> float:
     if is_plain(settings):
         if settings.daily_units is None:
             return math.nan
-        return n_control / control_units(settings, 1.0)
+        per_day = control_units(settings, 1.0)
+        return n_control / per_day if per_day > 0 else math.inf
     arms = 1.0 + settings.arms * treatment_ratio(settings)
     return float(exact_days(settings, n_control * arms))
 

@@ -24,6 +24,7 @@ from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.evaluation import compute
 from fourfold.plan.kinds import RATIO_FIELDS
 from fourfold.plan.sequential import design_of_row
+from fourfold.plan.simulation_record import INPUT_FIELDS
 from fourfold.plan.windows import evaluated
 from fourfold.simulation.intervals import wilson_interval
 from fourfold.simulation.power import simulate_power
@@ -32,8 +33,6 @@ from fourfold.simulation.streams import SimulationCancelled
 WIDE_LEVEL = 0.999
 """Coverage of the interval beyond which a disagreement is called firm rather than borderline."""
 
-INPUT_FIELDS = ("kind", "method", "baseline", "sd", "effect", "alpha", "alternative", "margin",
-                "n_control", "ratio", "looks", "kind_inputs")
 
 
 @dataclass(frozen=True)

@@ -7,9 +7,10 @@ import pathlib
 import sys
 import tempfile
 
-from PySide6.QtCore import QCoreApplication, QSettings
+from PySide6.QtCore import QBuffer, QByteArray, QCoreApplication, QIODevice, QSettings
 from PySide6.QtWidgets import QApplication
 
+from fourfold import atomic
 from fourfold.errors import FourfoldError
 from fourfold.plan import effective, load, sample_path
 from fourfold.ui import theme
@@ -92,10 +93,11 @@ def run_shot(plan_path: str | None, output: str, size: tuple[int, int] = (1400, 
     ------
     FourfoldError
         When the plan cannot be read, ``row`` is out of range, the plan has no such scenario
-        or the PNG cannot be written.
+        or the PNG cannot be written (then an existing file at ``output`` is left as it was).
     """
     os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
     plan, path = _load(plan_path)
+    atomic.target_path(output)  # refuse a device or a missing folder before rendering
     if scenario is not None:
         from fourfold.plan.scenarios import BASE, find
 
@@ -119,8 +121,34 @@ def run_shot(plan_path: str | None, output: str, size: tuple[int, int] = (1400, 
         window.lower_tabs.setCurrentIndex(1 if tab == "scenarios" else 0)
         window.show()
         app.processEvents()
-        ok = window.grab().toImage().save(output, "PNG")
+        image = window.grab().toImage()
         _close(window, app)
-    if not ok:
-        raise FourfoldError(f"cannot write the PNG {output}")
+    encoded = QByteArray()
+    buffer = QBuffer(encoded)
+    buffer.open(QIODevice.OpenModeFlag.WriteOnly)
+    if not image.save(buffer, "PNG"):
+        raise atomic.WriteError(f"cannot write {output}: the window could not be encoded as PNG")
+    buffer.close()
+    data = encoded.data()
+    if png_problem(data):
+        raise atomic.WriteError(f"cannot write {output}: {png_problem(data)}")
+    atomic.write_bytes(output, data)
     return 0
+
+
+_PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
+_PNG_END = b"IEND\xaeB`\x82"
+
+
+def png_problem(data: bytes) -> str | None:
+    """What is wrong with encoded PNG bytes (no PNG signature at the start, or no end chunk
+    at the end), or None.
+
+    Examples
+    --------
+    >>> png_problem(_PNG_SIGNATURE + b"IHDR")
+    'the PNG came out incomplete'
+    """
+    if not (data.startswith(_PNG_SIGNATURE) and data.endswith(_PNG_END)):
+        return "the PNG came out incomplete"
+    return None

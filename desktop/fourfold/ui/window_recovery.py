@@ -34,10 +34,13 @@ class WindowRecovery:
 
         ``ask(recovered)`` decides for each (default: a dialog): True restores it here (then
         no more are offered: the rest wait for another window), False deletes it, None keeps
-        it for later. Copies of windows still running are never offered. Returns whether a
-        plan was restored.
+        it for later. Copies of windows still running are never offered; damaged copies are
+        set aside and named in the status line. Returns whether a plan was restored.
         """
         leftovers = self.recovery.leftovers()
+        aside = self._set_aside_note()
+        if aside:
+            self.show_message(aside)
         for number, found in enumerate(leftovers, start=1):
             answer = ask(found) if ask is not None else self._ask_recover(
                 found, number, len(leftovers))
@@ -58,9 +61,19 @@ class WindowRecovery:
                 self.recovery.keep(rest)
             waiting = len(leftovers) - number
             more = (f"; {waiting} more kept for the next Fourfold window" if waiting else "")
-            self.show_message(f"Restored the unsaved plan from the last session{more}")
+            self.show_message(f"Restored the unsaved plan from the last session{more}"
+                              + (f". {aside}" if aside else ""))
             return True
         return False
+
+    def _set_aside_note(self) -> str:
+        """The status line's words on recovery copies set aside as damaged ("" for none)."""
+        found = self.recovery.set_aside
+        if not found:
+            return ""
+        path, why = found[-1]
+        more = f" (and {len(found) - 1} more)" if len(found) > 1 else ""
+        return f"A damaged recovery copy was set aside as {path}{more}: {why}"
 
     def _ask_recover(self, found, number: int = 1, total: int = 1) -> bool | None:
         source = found.source.name if found.source else "an unsaved plan"

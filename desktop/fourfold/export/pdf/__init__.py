@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import datetime
 import os
+import re
 from pathlib import Path
 
 from PySide6.QtCore import QMarginsF, Qt
@@ -38,7 +39,7 @@ from PySide6.QtGui import (
     QPdfWriter,
 )
 
-from fourfold import CAUTION, __version__
+from fourfold import CAUTION, __version__, atomic
 from fourfold.export import report
 from fourfold.export.files import ExportError, replacing
 from fourfold.export.pdf.flow import (
@@ -58,6 +59,8 @@ PAGES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}
 RESOLUTION = 300
 MARGINS_MM = QMarginsF(18.0, 15.0, 18.0, 12.0)
 _APPLICATIONS: list[QGuiApplication] = []
+_STARTXREF = re.compile(rb"startxref\s+(\d+)\s+%%EOF\s*$")
+_OBJECT = re.compile(rb"\d+\s+\d+\s+obj")
 
 
 def application() -> QGuiApplication:
@@ -121,7 +124,7 @@ def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
     application()
     path = Path(path)
     when = today or datetime.date.today()
-    with replacing(path) as (part,):
+    with replacing(path, verify=pdf_problem) as (part,):
         writer = QPdfWriter(str(part))
         writer.setPageSize(QPageSize(PAGES[page]))
         writer.setPageOrientation(QPageLayout.Orientation.Portrait)
@@ -130,14 +133,54 @@ def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
         writer.setTitle(plan.settings.title)
         writer.setCreator(f"Fourfold {__version__}")
         painter = QPainter()
-        if not painter.begin(writer):
-            raise ExportError(f"cannot write {path}: the PDF writer could not open the file")
         try:
+            if not painter.begin(writer):
+                raise ExportError(f"cannot write {path}: the PDF writer could not open the file")
             _render(painter, writer, plan, result, when, (whole, scenario))
-        finally:
-            painter.end()
-        del painter, writer
+        finally:  # also when interrupted: a writer must not outlive its active painter
+            ended = painter.end() if painter.isActive() else False
+            del painter, writer
+        if not ended:
+            raise ExportError(f"cannot write {path}: "
+                              f"{atomic.incomplete('PDF', part.parent)}")
     return path
+
+
+def pdf_problem(path: Path) -> str | None:
+    """What is wrong with a written PDF file, or None when it is complete.
+
+    A complete file starts with ``%PDF-``, ends with ``%%EOF``, and the byte offset after
+    its last ``startxref`` points at its cross-reference table: a file cut off by a full disk
+    (or missing bytes anywhere before the table) fails one of these.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> broken = pathlib.Path(tempfile.mkdtemp()) / "cut.pdf"
+    >>> _ = broken.write_bytes(b"%PDF-1.4 1 0 obj")
+    >>> pdf_problem(broken)
+    'the PDF came out incomplete (it does not end with %%EOF)'
+    """
+    size = path.stat().st_size
+    with open(path, "rb") as handle:
+        head = handle.read(8)
+        handle.seek(max(0, size - 2048))
+        tail = handle.read()
+        found = _STARTXREF.search(tail)
+        offset = int(found.group(1)) if found else -1
+        if 0 <= offset < size:
+            handle.seek(offset)
+            table = handle.read(32)
+        else:
+            table = b""
+    cut = atomic.incomplete("PDF", path.parent)
+    if not head.startswith(b"%PDF-"):
+        return f"{cut} (it does not start with %PDF-)"
+    if not tail.rstrip().endswith(b"%%EOF"):
+        return f"{cut} (it does not end with %%EOF)"
+    if not (table.startswith(b"xref") or _OBJECT.match(table)):
+        return f"{cut} (its cross-reference table is not where the file says)"
+    return None
 
 
 def _render(painter: QPainter, writer: QPdfWriter, plan, result, when: datetime.date,

@@ -38,6 +38,7 @@ FAMILIES = ["DejaVu Sans", "Liberation Sans", "Arial", "Helvetica"]
 
 Op = Callable[[QPainter], None]
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f]")
+_WORDS = re.compile(r"[\s\u200b]+")
 
 
 def font(points: float, *, bold: bool = False, italic: bool = False) -> QFont:
@@ -54,10 +55,29 @@ def font(points: float, *, bold: bool = False, italic: bool = False) -> QFont:
 
 
 def clean(text: str) -> str:
-    """Text safe to lay out: line breaks kept as line separators, other control characters
-    (tabs, carriage returns) as spaces."""
+    r"""Text safe to lay out: line breaks kept as line separators, other control characters
+    (tabs, carriage returns) as spaces, and a break opportunity (a zero-width space) every
+    :data:`WORD_PIECE` characters of a word longer than that, so that one long unbroken word
+    wraps in linear time (Qt's line breaking searches a long word quadratically).
+
+    Examples
+    --------
+    >>> clean("a\tb\nc")
+    'a b\u2028c'
+    >>> clean("x" * 70).count("\u200b")
+    2
+    """
     text = text.replace("\r\n", "\n").replace("\n", "\u2028").replace("\t", " ")
-    return _CONTROL.sub(" ", text)
+    return _LONG_WORD.sub(_pieces, _CONTROL.sub(" ", text))
+
+
+WORD_PIECE = 32
+_LONG_WORD = re.compile(rf"[^\s\u200b]{{{WORD_PIECE + 1},}}")
+
+
+def _pieces(found: re.Match) -> str:
+    word = found.group()
+    return "\u200b".join(word[i:i + WORD_PIECE] for i in range(0, len(word), WORD_PIECE))
 
 
 class Text:
@@ -354,8 +374,8 @@ class Flow:
                         for part in clean(text).split("\u2028")), default=0.0)
 
         def longest_word(face, text):
-            return max((metrics[id(face)].horizontalAdvance(w) for w in clean(text).split()),
-                       default=0.0)
+            return max((metrics[id(face)].horizontalAdvance(w)
+                        for w in _WORDS.split(clean(text)) if w), default=0.0)
 
         natural, minimum = [], []
         for c, align in enumerate(table.align):
@@ -382,13 +402,12 @@ class Flow:
         for index, ops in enumerate(self.pages):
             if index:
                 next_page()
-            for op in ops:
+            for op in (*ops, lambda p, index=index: decorate(p, index, count)):
                 painter.save()
-                op(painter)
-                painter.restore()
-            painter.save()
-            decorate(painter, index, count)
-            painter.restore()
+                try:
+                    op(painter)
+                finally:  # also when interrupted, so the painter can end cleanly
+                    painter.restore()
 
 
 def hline(painter: QPainter, x0: float, x1: float, y: float, color: QColor,
