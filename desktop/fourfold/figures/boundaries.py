@@ -15,13 +15,13 @@ from dataclasses import dataclass
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
 
+from fourfold.figures.style import begin_painting
 from fourfold.formatting import MINUS
 from fourfold.plan.sequential import Look
 
 Z_CAP = 6.0
 """Highest z drawn; earlier boundaries above it are drawn at the cap with their value."""
 MAX_LABELS = 10
-SCREEN_DPI = 96.0
 
 FIXED_TEXT = ("One look: a fixed design. Set looks above 1 to plan interim analyses and see "
               "their stopping boundaries here.")
@@ -74,12 +74,7 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     Text is sized in points; lines, markers and gaps in screen pixels scaled to the device's
     resolution, so the figure looks alike on the screen and on a 300 dpi PDF page.
     """
-    px = max(1.0, painter.device().logicalDpiX() / SCREEN_DPI)
-    painter.save()
-    painter.setRenderHint(QPainter.RenderHint.Antialiasing)
-    font = QFont(painter.font())
-    font.setPointSizeF(style.points)
-    painter.setFont(font)
+    px, font = begin_painting(painter, style.points)
     metrics = painter.fontMetrics()
     line = metrics.height()
     painter.setPen(style.foreground)

@@ -19,8 +19,7 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
 
 from fourfold.figures.axes import compact
-
-SCREEN_DPI = 96.0
+from fourfold.figures.style import begin_painting
 
 
 @dataclass(frozen=True)
@@ -58,12 +57,7 @@ def paint_traffic(painter: QPainter, rect: QRectF, curve: dict, style: TrafficSt
 
     Text is sized in points, lines in screen pixels scaled to the device's resolution.
     """
-    px = max(1.0, painter.device().logicalDpiX() / SCREEN_DPI)
-    painter.save()
-    painter.setRenderHint(QPainter.RenderHint.Antialiasing)
-    font = QFont(painter.font())
-    font.setPointSizeF(style.points)
-    painter.setFont(font)
+    px, font = begin_painting(painter, style.points)
     metrics = painter.fontMetrics()
     line = metrics.height()
     top = rect.top()
