@@ -16,8 +16,11 @@ def editor_of(table):
     return editors[0] if len(editors) == 1 else None
 
 
-def type_in_cell(qtbot, window, row: int, key: str, text: str) -> None:
+def type_in_cell(qtbot, window, row: int, key: str, text: str, refused: bool = False) -> None:
     """Open the cell's editor with Enter, type ``text`` key by key and commit with Enter.
+
+    Refused text stays in the editor for correction (``refused=True`` checks that it did); the
+    user then gives up with Escape.
 
     Each character is sent as the key event a keyboard layout or input method sends for it
     (``QTest.keyClicks`` takes Latin-1 only), so full-width or Arabic-Indic digits arrive as
@@ -36,4 +39,7 @@ def type_in_cell(qtbot, window, row: int, key: str, text: str) -> None:
                                                      Qt.KeyboardModifier.NoModifier, character))
     assert editor.text() == text
     qtbot.keyClick(editor, Qt.Key.Key_Return)
+    if refused:
+        assert editor_of(table) is editor and editor.text() == text
+        qtbot.keyClick(editor, Qt.Key.Key_Escape)
     qtbot.waitUntil(lambda: editor_of(table) is None)

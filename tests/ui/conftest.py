@@ -3,8 +3,9 @@
 from __future__ import annotations
 
 import pytest
-from PySide6.QtCore import QSettings
-from PySide6.QtWidgets import QMessageBox
+from PySide6.QtCore import QEvent, QObject, QSettings
+from PySide6.QtGui import QAction
+from PySide6.QtWidgets import QApplication, QMessageBox
 
 from fourfold.plan import load, sample_path
 
@@ -49,3 +50,57 @@ def panel(qtbot):
     widget.resize(720, 640)
     widget.show()
     return widget
+
+
+
+class _ShortcutWatch(QObject):
+    """Records the shortcuts that reach actions, and each such action's shortcuts."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.pressed: dict[str, set[str]] = {}
+        self.shortcuts: dict[str, set[str]] = {}
+
+    def eventFilter(self, watched, event):  # noqa: N802 (Qt's name)
+        if event.type() == QEvent.Type.Shortcut and isinstance(watched, QAction):
+            name = watched.objectName()
+            self.pressed.setdefault(name, set()).add(event.key().toString())
+            self.shortcuts[name] = {key.toString() for key in watched.shortcuts()}
+        return False
+
+
+@pytest.fixture(autouse=True)
+def claimed_actions_are_used(request, monkeypatch):
+    """Hold a test marked ``triggers(...)`` or ``presses(...)`` to its word.
+
+    ``triggers("paste_action")``: the test calls ``trigger()`` on an action of that object
+    name; ``presses("paste_action")``: every shortcut of that action reaches it from a key
+    event. ``tests/ui/test_action_registry.py`` checks that every action of the window is
+    claimed by some test.
+    """
+    triggers = {name for mark in request.node.iter_markers("triggers") for name in mark.args}
+    presses = {name for mark in request.node.iter_markers("presses") for name in mark.args}
+    if not (triggers or presses):
+        yield
+        return
+    triggered: set[str] = set()
+    trigger = QAction.trigger
+
+    def recording_trigger(action):
+        triggered.add(action.objectName())
+        return trigger(action)
+
+    monkeypatch.setattr(QAction, "trigger", recording_trigger)
+    watch = _ShortcutWatch()
+    app = QApplication.instance() or QApplication([])
+    app.installEventFilter(watch)
+    try:
+        yield
+    finally:
+        app.removeEventFilter(watch)
+    assert triggers <= triggered, f"never triggered: {sorted(triggers - triggered)}"
+    for name in sorted(presses):
+        pressed = watch.pressed.get(name, set())
+        assert pressed and watch.shortcuts[name] <= pressed, (
+            f"{name}: shortcuts {sorted(watch.shortcuts.get(name, ()))}, "
+            f"pressed {sorted(pressed)}")

@@ -50,7 +50,7 @@ def test_a_refused_number_keeps_the_old_value_and_says_why(make_window, qtbot, t
     window.show()
     row = 1
     before = getattr(window.document.plan.metrics[row], key)
-    type_in_cell(qtbot, window, row, key, text)
+    type_in_cell(qtbot, window, row, key, text, refused=True)
     assert getattr(window.document.plan.metrics[row], key) == before
     assert words in window.statusBar().currentMessage()
 

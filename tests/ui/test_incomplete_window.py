@@ -33,7 +33,7 @@ def test_an_impossible_value_typed_in_a_cell_is_refused_and_the_old_value_kept(
     window = make_window()
     window.show()
     before = dumps(window.document.plan)
-    type_in_cell(qtbot, window, row, key, text)
+    type_in_cell(qtbot, window, row, key, text, refused=True)
     assert window.statusBar().currentMessage() == message
     assert dumps(window.document.plan) == before and not window.document.stack.can_undo
     assert window.summary.texts()[0] == "Duration 35 days (5 weeks)"

@@ -211,7 +211,7 @@ def test_new_plan_asks_before_losing_changes(make_window):
     window.ask_to_save = lambda: QMessageBox.StandardButton.Discard
     window.new_action.trigger()
     assert dumps(window.document.plan) == dumps(Plan.empty())
-    assert window.windowTitle().startswith("untitled.json")
+    assert window.windowTitle().startswith("Untitled plan")
 
 
 def test_an_invalid_plan_file_raises_before_any_window(tmp_path):

@@ -92,9 +92,12 @@ def test_dragging_the_effect_marker_emits_the_effect(qtbot, panel):
         handle.sigDragged.emit(handle)
     assert during.args == [0, pytest.approx(0.065)]
     with qtbot.waitSignal(panel.effect_dragged, timeout=1000) as released:
-        handle.setValue(7.25)
+        handle.setValue(7.26)
         handle.sigPositionChangeFinished.emit(handle)
-    assert released.args == [0, pytest.approx(0.0725)]
+    # snapped to the slider's steps of 0.1 %: the marker, its label and the value agree
+    assert released.args == [0, 0.073]
+    assert handle.value() == pytest.approx(7.3) and handle.label.toPlainText().startswith(
+        "+7.3 %")
     with qtbot.waitSignal(panel.effect_dragged, timeout=1000) as tidy:
         handle.setValue(100 * 0.07000000000000001 + 1e-7)
         handle.sigPositionChangeFinished.emit(handle)

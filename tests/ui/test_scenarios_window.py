@@ -52,6 +52,7 @@ def _cell(window, row: int, key: str) -> str:
     return window.model.data(window.model.index(row, column_index(key)))
 
 
+@pytest.mark.presses("scenarios_tab_action")
 def test_clicking_a_scenario_in_the_comparison_shows_it_everywhere(qtbot, make_window):
     window = _shown(qtbot, make_window)
     qtbot.keyClick(window.table, Qt.Key.Key_2, Qt.KeyboardModifier.ControlModifier)
@@ -101,6 +102,7 @@ def test_an_edit_in_the_table_goes_to_the_scenario_on_show(qtbot, make_window):
     assert window.undo_action.text() == "&Undo Set sd of Page load time (s) in Cheaper page"
 
 
+@pytest.mark.triggers("new_scenario_action", "delete_scenario_action")
 def test_new_delete_and_undo_through_the_actions(qtbot, make_window):
     window = _shown(qtbot, make_window)
     names = lambda: [s.name for s in window.document.whole.scenarios]  # noqa: E731
@@ -130,6 +132,8 @@ def test_a_taken_name_is_refused_in_the_status_line(qtbot, make_window):
     assert len(window.document.whole.scenarios) == 4 and not window.document.dirty
 
 
+@pytest.mark.triggers("rename_scenario_action", "duplicate_scenario_action",
+                       "apply_scenario_action")
 def test_rename_duplicate_and_apply_to_base_through_the_actions(qtbot, make_window):
     window = _shown(qtbot, make_window)
     window.switch_scenario(ARM_B)
@@ -149,6 +153,7 @@ def test_rename_duplicate_and_apply_to_base_through_the_actions(qtbot, make_wind
     assert window.settings_panel.fields["arms"].value() == 1
 
 
+@pytest.mark.presses("next_scenario_action", "previous_scenario_action", "show_base_action")
 def test_shortcuts_and_the_summary_drop_down_switch_scenarios(qtbot, make_window):
     window = _shown(qtbot, make_window)
     modifiers = Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.AltModifier
@@ -177,6 +182,7 @@ def test_adding_a_row_in_a_scenario_is_refused_where_the_user_looks(qtbot, make_
     assert "rows are added to the base" in window.statusBar().currentMessage()
 
 
+@pytest.mark.triggers("restore_rows_action")
 def test_leaving_out_a_row_in_a_scenario_and_bringing_it_back(qtbot, make_window):
     window = _shown(qtbot, make_window)
     window.switch_scenario(ARM_B)
@@ -196,6 +202,8 @@ def test_leaving_out_a_row_in_a_scenario_and_bringing_it_back(qtbot, make_window
     assert window.model.rowCount() == rows - 1
 
 
+@pytest.mark.triggers("overlay_action")
+@pytest.mark.presses("overlay_action")
 def test_the_overlay_toggle_draws_and_hides_the_other_scenarios_curves(qtbot, make_window):
     window = _shown(qtbot, make_window)
     layer = window.plots.grid.plots["effect"].layer
@@ -210,6 +218,7 @@ def test_the_overlay_toggle_draws_and_hides_the_other_scenarios_curves(qtbot, ma
     qtbot.waitUntil(lambda: layer.points("others")[0].size > 0)
 
 
+@pytest.mark.triggers("scenarios_tab_action")
 def test_the_bars_show_what_moves_the_scenarios_duration_and_follow_the_amount(qtbot,
                                                                                make_window):
     window = _shown(qtbot, make_window)
@@ -246,6 +255,7 @@ def test_an_incomplete_scenario_says_so_in_the_comparison(qtbot, make_window, tm
                                             Qt.ItemDataRole.ToolTipRole)
 
 
+@pytest.mark.triggers("forget_stale_action")
 def test_stale_changes_are_reported_when_the_plan_opens(qtbot, make_window, tmp_path):
     data = json.loads((sample_path()).read_text(encoding="utf-8"))
     data["scenarios"][0]["rows"] = {"gone": {"effect": 0.1}}

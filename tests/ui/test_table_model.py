@@ -140,7 +140,7 @@ def test_paste_with_a_bad_cell_changes_nothing_and_names_it(qtbot, model):
     view.setModel(model)
     before = dumps(model.document.plan)
     view.setCurrentIndex(model.index(0, column_index("baseline")))
-    with qtbot.waitSignal(view.message) as blocker:
+    with qtbot.waitSignal(view.problem) as blocker:
         assert not view.paste("0.1\t0.2\nlots\t0.3\n")
     assert "row 2" in blocker.args[0] and "lots" in blocker.args[0]
     assert dumps(model.document.plan) == before

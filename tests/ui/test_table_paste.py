@@ -75,6 +75,7 @@ def test_a_refused_cell_in_a_new_row_refuses_the_whole_paste(qtbot, view, key, t
     _at(view, rows - 1, key)
     messages = []
     view.message.connect(messages.append)
+    view.problem.connect(messages.append)
     document.message.connect(messages.append)
     assert not view.paste(text)
     assert dumps(document.plan) == before and model.rowCount() == rows

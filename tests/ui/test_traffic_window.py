@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import dataclasses
 
+import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication, QDialog, QFileDialog, QLineEdit
@@ -64,6 +65,7 @@ def _user(qtbot, steps):
     return run, seen
 
 
+@pytest.mark.triggers("traffic_action")
 def test_a_reach_curve_loaded_from_a_file_ramp_and_burn_in_are_one_undo_step(
         qtbot, make_window, monkeypatch, tmp_path):
     window = _shown(qtbot, make_window)
@@ -104,6 +106,7 @@ def test_a_reach_curve_loaded_from_a_file_ramp_and_burn_in_are_one_undo_step(
     assert window.document.plan.settings == before
 
 
+@pytest.mark.presses("traffic_action")
 def test_the_shortcut_and_the_settings_button_open_the_dialog(qtbot, make_window, monkeypatch):
     window = _shown(qtbot, make_window)
     opened = []

@@ -1,6 +1,7 @@
 """Keyboard use of the window: Enter/Tab in the table, editors, shortcuts, light start-up.
 
-Conventions checked here are common practice of desktop spreadsheets, no source.
+Conventions checked here are common practice of desktop spreadsheets, no source; that Enter
+keeps the edited cell current, so that the plots stay on its row, is the project's own rule.
 """
 
 from __future__ import annotations
@@ -22,7 +23,7 @@ def _editor(table):
     return editors[0] if len(editors) == 1 else None
 
 
-def test_enter_edits_and_moves_down_tab_moves_right(make_window, qtbot):
+def test_enter_edits_and_stays_on_the_row_tab_moves_right(make_window, qtbot):
     window = make_window()
     window.show()
     table = window.table
@@ -34,9 +35,13 @@ def test_enter_edits_and_moves_down_tab_moves_right(make_window, qtbot):
     assert editor is not None and editor.text() == "3.1 %"
     editor.setText("3.3")
     qtbot.keyClick(editor, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: _editor(table) is None)  # the delegate commits on a queued call
+    qtbot.waitUntil(lambda: _editor(table) is None)
     assert window.document.plan.metrics[0].baseline == pytest.approx(0.033)
-    assert (table.currentIndex().row(), table.currentIndex().column()) == (1, column)
+    # the cell stays current, so the plots stay on the row just edited
+    assert (table.currentIndex().row(), table.currentIndex().column()) == (0, column)
+    qtbot.waitUntil(lambda: window.plots.tradeoffs is not None)
+    assert window.plots.tradeoffs.index == 0
+    qtbot.keyClick(table, Qt.Key.Key_Down)
     qtbot.keyClick(table, Qt.Key.Key_Return)
     editor = _editor(table)
     editor.setText("14.9")

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
 
+from fourfold.figures.placement import first_clear
 from fourfold.figures.style import begin_painting
 from fourfold.formatting import MINUS
 from fourfold.plan.sequential import Look
@@ -66,15 +67,30 @@ def _x_values(looks: tuple[Look, ...]) -> tuple[list[float], str, list[str]]:
 
 
 def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
-                     style: BoundaryStyle, title: str = "", caption: str = "") -> None:
+                     style: BoundaryStyle, title: str = "",
+                     caption: str = "") -> list[tuple[str, QRectF]]:
     """Draw the boundaries of ``looks`` into ``rect``; a short text when there are none.
 
     ``caption`` is a line of muted text under the figure (the price of unadjusted peeking).
 
     Text is sized in points; lines, markers and gaps in screen pixels scaled to the device's
-    resolution, so the figure looks alike on the screen and on a 300 dpi PDF page.
+    resolution, so the figure looks alike on the screen and on a 300 dpi PDF page. Each look's
+    nominal p sits beside its point inside the axes, where it overlaps no other text (a label
+    with no such place is left out).
+
+    Returns
+    -------
+    list of (str, QRectF)
+        What was drawn where, by kind: "plot" (the axes' box), "title", "legend", "tick",
+        "axis", "label" (a look's p) and "caption".
     """
     px, font = begin_painting(painter, style.points)
+    drawn: list[tuple[str, QRectF]] = []
+
+    def text(kind: str, box: QRectF, flags, words: str) -> None:
+        painter.drawText(box, flags, words)
+        drawn.append((kind, painter.boundingRect(box, flags, words)))
+
     metrics = painter.fontMetrics()
     line = metrics.height()
     painter.setPen(style.foreground)
@@ -82,15 +98,15 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
         bold = QFont(font)
         bold.setBold(True)
         painter.setFont(bold)
-        painter.drawText(QRectF(rect.left(), rect.top(), rect.width(), line),
-                         Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter, title)
+        text("title", QRectF(rect.left(), rect.top(), rect.width(), line),
+             Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter, title)
         painter.setFont(font)
     if not looks:
         painter.setPen(style.muted)
-        painter.drawText(rect.adjusted(line, 2 * line, -line, -line),
-                         Qt.AlignmentFlag.AlignCenter | Qt.TextFlag.TextWordWrap, FIXED_TEXT)
+        text("caption", rect.adjusted(line, 2 * line, -line, -line),
+             Qt.AlignmentFlag.AlignCenter | Qt.TextFlag.TextWordWrap, FIXED_TEXT)
         painter.restore()
-        return
+        return drawn
 
     xs, x_label, x_ticks = _x_values(looks)
     futile = [look.z_futility for look in looks if math.isfinite(look.z_futility)]
@@ -99,17 +115,19 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     labelled = set(range(len(looks) - 1, -1, -max(1, math.ceil(len(looks) / MAX_LABELS))))
     labels = [f"z {z_text(look.z_efficacy)}" if look.z_efficacy > z_high
               else p_text(look.p_efficacy) for look in looks]
-    widest = max(metrics.horizontalAdvance(text) for text in labels)
     items = _legend_items(style, bool(futile))
-    stacked = (sum(30 * px + metrics.horizontalAdvance(text) for _, text in items)
+    stacked = (sum(30 * px + metrics.horizontalAdvance(words) for _, words in items)
                > rect.width())
     legend_lines = len(items) if stacked else 1
     caption_lines = 0
     if caption:
         caption_lines = 1 if metrics.horizontalAdvance(caption) <= rect.width() else 2
     bottom = 2.6 + 1.1 * caption_lines
+    # the last tick's text is centred on the axes' right end
+    right_room = max(8 * px, metrics.horizontalAdvance(x_ticks[-1]) / 2 + 2 * px)
     plot = rect.adjusted(4.0 * metrics.horizontalAdvance("0") + 6 * px,
-                         (2.8 + 1.1 * legend_lines) * line, -widest - 8 * px, -bottom * line)
+                         (2.8 + 1.1 * legend_lines) * line, -right_room, -bottom * line)
+    drawn.append(("plot", QRectF(plot)))
 
     def at(x: float, z: float) -> QPointF:
         zx = plot.left() + plot.width() * x / xs[-1]
@@ -123,9 +141,10 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
         painter.setPen(QPen(style.grid, px))
         painter.drawLine(QPointF(plot.left(), y), QPointF(plot.right(), y))
         painter.setPen(style.muted)
-        painter.drawText(QRectF(rect.left(), y - line / 2, gutter, line), right,
-                         str(z).replace("-", MINUS))
-    painter.drawText(QRectF(rect.left(), plot.top() - 1.15 * line, gutter, line), right, "z")
+        text("tick", QRectF(rect.left(), y - line / 2, gutter, line), right,
+             str(z).replace("-", MINUS))
+    # the axis' name above its top tick, clear of that tick's number
+    text("axis", QRectF(rect.left(), plot.top() - 1.65 * line, gutter, line), right, "z")
     efficacy = [at(x, look.z_efficacy) for x, look in zip(xs, looks, strict=True)]
     _shade(painter, efficacy, plot.top(), plot.right(), style.efficacy, 0.12)
     if futile:
@@ -135,11 +154,21 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
 
     _curve(painter, efficacy, style.efficacy, Qt.PenStyle.SolidLine, px)
     painter.setPen(style.foreground)
-    for k in sorted(labelled):
+    dots = [QRectF(point.x() - 3 * px, point.y() - 3 * px, 6 * px, 6 * px)
+            for point in efficacy]
+    taken = list(dots)
+    for k in sorted(labelled, reverse=True):  # the last look's label first: it matters most
+        width = metrics.horizontalAdvance(labels[k]) + 2 * px
         point = efficacy[k]
-        box = QRectF(point.x() + 5 * px, point.y() - line - 2 * px, widest + 4 * px, line)
-        painter.drawText(box, Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
-                         labels[k])
+        # above and right of a falling boundary first, then below and left (clear of it)
+        places = [QRectF(point.x() + dx, point.y() + dy, width, line)
+                  for dx, dy in ((5 * px, -line - 2 * px), (-5 * px - width, 2 * px),
+                                 (-5 * px - width, -line - 2 * px), (5 * px, 2 * px))]
+        found = first_clear(places, plot, taken)
+        if found is not None:
+            taken.append(places[found])
+            text("label", places[found],
+                 Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter, labels[k])
 
     painter.setPen(QPen(style.foreground, px))
     painter.drawLine(plot.bottomLeft(), plot.bottomRight())
@@ -147,18 +176,20 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     painter.setPen(style.muted)
     for k in sorted(labelled):
         x, tick = at(xs[k], z_low).x(), x_ticks[k]
-        painter.drawText(QRectF(x - 40 * px, plot.bottom() + 2 * px, 80 * px, line),
-                         Qt.AlignmentFlag.AlignCenter, tick)
-    painter.drawText(QRectF(plot.left(), plot.bottom() + 1.2 * line, plot.width(), line),
-                     Qt.AlignmentFlag.AlignCenter, x_label)
+        text("tick", QRectF(x - 40 * px, plot.bottom() + 2 * px, 80 * px, line),
+             Qt.AlignmentFlag.AlignCenter, tick)
+    text("axis", QRectF(plot.left(), plot.bottom() + 1.2 * line, plot.width(), line),
+         Qt.AlignmentFlag.AlignCenter, x_label)
     if caption:
         height = 1.1 * caption_lines * line
-        painter.drawText(QRectF(rect.left(), rect.bottom() - height, rect.width(), height),
-                         Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignBottom
-                         | Qt.TextFlag.TextWordWrap, caption)
+        text("caption", QRectF(rect.left(), rect.bottom() - height, rect.width(), height),
+             Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignBottom
+             | Qt.TextFlag.TextWordWrap, caption)
     painter.setPen(style.foreground)
-    _legend(painter, QPointF(rect.left(), rect.top() + 1.7 * line), items, stacked, px)
+    drawn += [("legend", box) for box in _legend(
+        painter, QPointF(rect.left(), rect.top() + 1.7 * line), items, stacked, px)]
     painter.restore()
+    return drawn
 
 
 def _shade(painter, points, edge, right, colour, alpha):
@@ -194,14 +225,20 @@ def _legend_items(style: BoundaryStyle, futility: bool) -> list[tuple[QColor, st
 
 
 def _legend(painter: QPainter, origin: QPointF, items: list[tuple[QColor, str]],
-            stacked: bool, px: float) -> None:
-    """Legend items under the title: in one line, or one per line when narrow."""
+            stacked: bool, px: float) -> list[QRectF]:
+    """Legend items under the title: in one line, or one per line when narrow; returns the
+    boxes of their texts."""
     metrics = painter.fontMetrics()
     x, middle = origin.x(), origin.y()
+    boxes = []
     for colour, text in items:
         painter.fillRect(QRectF(x, middle - 4 * px, 14 * px, 8 * px), colour)
-        painter.drawText(QPointF(x + 18 * px, middle + metrics.ascent() / 2 - px), text)
+        baseline = QPointF(x + 18 * px, middle + metrics.ascent() / 2 - px)
+        painter.drawText(baseline, text)
+        boxes.append(QRectF(baseline.x(), baseline.y() - metrics.ascent(),
+                            metrics.horizontalAdvance(text), metrics.height()))
         if stacked:
             middle += 1.1 * metrics.height()
         else:
             x += 30 * px + metrics.horizontalAdvance(text)
+    return boxes

@@ -48,6 +48,8 @@ class _Labels:
     font: QFont = field(default_factory=QFont)
     colour: QColor = field(default_factory=QColor)
     anchor: tuple[float, float] = (0.0, 0.0)
+    offset: tuple[float, float] = (0.0, 0.0)
+    places: list = field(default_factory=list)  # per label: (anchor, offset), or None
     fill: QBrush | None = None
     texts: list[str] = field(default_factory=list)
     shown: list[bool] = field(default_factory=list)
@@ -105,15 +107,18 @@ class SeriesLayer(pg.GraphicsObject):
         """
         labels = self._labels[_dot(name)]
         labels.font, labels.colour, labels.anchor = QFont(font), QColor(colour), anchor
+        labels.offset = (0.0, 0.0)
         labels.fill = None if fill is None else QBrush(fill)
         labels.metrics = QFontMetricsF(labels.font)
         labels.laid_out.clear()
         self.update()
 
-    def set_labels(self, name: str, texts, shown=None) -> None:
-        """Label the markers of ``name`` on show, in order (``shown``: which to draw)."""
+    def set_labels(self, name: str, texts, shown=None, places=None) -> None:
+        """Label the markers of ``name`` on show, in order (``shown``: which to draw;
+        ``places``: see :meth:`set_label_places`)."""
         labels = self._labels[_dot(name)]
         labels.texts = list(texts)
+        labels.places = [] if places is None else list(places)
         labels.shown = [True] * len(labels.texts) if shown is None else [bool(v) for v in shown]
         if len(labels.shown) != len(labels.texts):
             raise ValueError(f"shown must have one flag per label ({len(labels.texts)}), got "
@@ -124,6 +129,34 @@ class SeriesLayer(pg.GraphicsObject):
         """The labels of the markers of ``name`` that are drawn."""
         labels = self._labels[_dot(name)]
         return [text for text, shown in zip(labels.texts, labels.shown, strict=True) if shown]
+
+    def set_label_anchor(self, name: str, anchor: tuple[float, float],
+                         offset: tuple[float, float] = (0.0, 0.0)) -> None:
+        """Put the labels of ``name`` elsewhere around their markers: ``anchor`` as in
+        :meth:`set_label_style`, then moved by ``offset`` (scene pixels)."""
+        labels = self._labels[_dot(name)]
+        if (labels.anchor, labels.offset) != (anchor, offset):
+            labels.anchor, labels.offset = anchor, offset
+            self.update()
+
+    def set_label_places(self, name: str, places) -> None:
+        """Put each label of ``name`` at its own ``(anchor, offset)`` around its marker (see
+        :meth:`set_label_anchor`); ``None`` for one keeps the series' place."""
+        labels = self._labels[_dot(name)]
+        labels.places = list(places)
+        self.update()
+
+    def label_boxes(self, name: str) -> list[QRectF | None]:
+        """Where each label of ``name`` is drawn, in scene coordinates (``None`` for one not
+        drawn), in the order of :meth:`set_labels`."""
+        labels = self._labels[_dot(name)]
+        scene = self.sceneTransform()
+        boxes: list[QRectF | None] = []
+        for number, (x, y, text, shown) in enumerate(zip(*self._view[name], labels.texts,
+                                                         labels.shown, strict=False)):
+            boxes.append(_label_box(labels, scene.map(QPointF(float(x), float(y))), text,
+                                    number) if shown and text else None)
+        return boxes
 
     def label_width(self, name: str) -> float:
         """Width of the widest label of ``name``, box included (scene pixels; 0 without any)."""
@@ -242,15 +275,11 @@ class SeriesLayer(pg.GraphicsObject):
             if not any(labels.shown):
                 continue
             painter.setFont(labels.font)
-            across, down = labels.anchor
-            height = labels.metrics.height() + 2 * LABEL_PAD
-            for x, y, text, shown in zip(*self._view[name], labels.texts, labels.shown,
-                                         strict=False):
+            for number, (x, y, text, shown) in enumerate(zip(
+                    *self._view[name], labels.texts, labels.shown, strict=False)):
                 if not shown or not text:
                     continue
-                at = scene.map(QPointF(float(x), float(y)))
-                width = labels.metrics.horizontalAdvance(text) + 2 * LABEL_PAD
-                box = QRectF(at.x() - across * width, at.y() - down * height, width, height)
+                box = _label_box(labels, scene.map(QPointF(float(x), float(y))), text, number)
                 if labels.fill is not None:
                     painter.fillRect(box, labels.fill)
                 painter.setPen(labels.colour)
@@ -286,6 +315,16 @@ class Swatch(pg.ItemSample):
 
     def mouseClickEvent(self, event) -> None:  # noqa: N802 (pyqtgraph's name)
         event.ignore()
+
+
+def _label_box(labels: _Labels, at: QPointF, text: str, number: int) -> QRectF:
+    """The box of label ``number`` whose marker is at ``at`` (scene coordinates)."""
+    place = labels.places[number] if number < len(labels.places) else None
+    (across, down), offset = place if place is not None else (labels.anchor, labels.offset)
+    width = labels.metrics.horizontalAdvance(text) + 2 * LABEL_PAD
+    height = labels.metrics.height() + 2 * LABEL_PAD
+    return QRectF(at.x() - across * width + offset[0], at.y() - down * height + offset[1],
+                  width, height)
 
 
 def _line(name: str) -> str:

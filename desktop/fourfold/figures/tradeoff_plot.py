@@ -13,12 +13,13 @@ import math
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QFontMetricsF
 from PySide6.QtWidgets import QGraphicsItem
 
 from fourfold.figures.axes import CompactAxis
 from fourfold.figures.layer import SERIES, SeriesLayer, Swatch
+from fourfold.figures.placement import first_clear, place_line_label, text_box
 from fourfold.figures.style import Style
 from fourfold.formatting import format_count, format_days, format_number
 from fourfold.plan.tradeoffs import Figure
@@ -39,6 +40,20 @@ LEGEND_RIGHT = (-8, 8)
 LEGEND_LOW_RIGHT = (-8, -8)
 _POINT_ANCHOR = {"effect": (1.08, -0.15), "power": (-0.08, -0.15), "alpha": (1.08, -0.15),
                  "runtime": (0.0, 0.0)}
+_AROUND = {"left below": ((1.0, 0.0), (-1, 1)), "right below": ((0.0, 0.0), (1, 1)),
+           "left above": ((1.0, 1.0), (-1, -1)), "right above": ((0.0, 1.0), (1, -1))}
+_FIRST = {"effect": "left below", "power": "right below", "alpha": "left below",
+          "runtime": "left below"}
+POINT_PLACES = {name: (_AROUND[first], *(place for key, place in _AROUND.items()
+                                         if key != first))
+                for name, first in _FIRST.items()}
+"""Places of the design point's label, the usual one first: the label's corner at the marker
+(anchor) and the direction it is moved by the marker's radius, left or right, below or
+above."""
+HANDLE_POSITIONS = (0.97, 0.85, 0.72, 0.6, 0.48, 0.36, 0.24, 0.12)
+HANDLE_ANCHORS = ((0.0, 0.0), (1.0, 0.0))
+GUIDE_POSITIONS = (0.45, 0.3, 0.6, 0.15, 0.75, 0.9)
+GUIDE_ANCHORS = ((0.0, 0.5), (1.0, 0.5))
 
 
 def _view(values: np.ndarray | float, log: bool) -> np.ndarray:
@@ -100,6 +115,8 @@ class FigurePlot:
         self._range: tuple[tuple[float, float], tuple[float, float]] | None = None
         self._log = (False, False)
         self._corner: tuple[int, int] | None = None
+        self._pen_scale = 1.0
+        self._legend_wanted = False
 
     def cache_static_items(self) -> None:
         """Keep the axes (with their grid lines), the title and the legend as screen pixmaps.
@@ -117,6 +134,7 @@ class FigurePlot:
         # Whole device pixels: the window draws without anti-aliasing (it would cost a few
         # milliseconds a frame), where a 2.6 px line comes out 2 or 3 px wide by position.
         scale = style.pen_scale
+        self._pen_scale = scale
         faint = QColor(style.foreground)
         faint.setAlpha(80)
         self.layer.set_line_style("others", pg.mkPen(faint, width=2.0 * scale))
@@ -191,6 +209,9 @@ class FigurePlot:
             for axis in self.axes.values():  # centre the new label (pyqtgraph does on resize)
                 axis.resizeEvent()
         empty = bool(figure.reason)
+        for side in self.axes:  # a figure that cannot be drawn shows its reason, no axes
+            if self.item.getAxis(side).isVisible() == empty:
+                self.item.showAxis(side, not empty)
         log = (figure.x_log and not empty, figure.y_log and not empty)
         if log != self._log:
             self._log = log
@@ -261,6 +282,7 @@ class FigurePlot:
         self.layer.clear()
         for item in (self.guide, self.message, self.legend):
             item.hide()
+        self._legend_wanted = False
         self.item.setTitle(None)
         self._texts = None
         self._range = None
@@ -281,7 +303,8 @@ class FigurePlot:
             if label.text != text:
                 label.setText(text)
                 changed = True
-        self.legend.setVisible(not figure.reason and bool(figure.curve.label))
+        self._legend_wanted = not figure.reason and bool(figure.curve.label)
+        self.legend.setVisible(self._legend_wanted)
         if changed:  # re-measuring the legend moves every label: only for new texts
             self.legend.updateSize()
         finite = figure.curve.y[np.isfinite(figure.curve.y)]
@@ -314,8 +337,8 @@ class FigurePlot:
 
     def thin_marks(self) -> None:
         """Label every week, or every second or third one when the plot is too narrow."""
-        xs, values = self.layer.points("marks")
-        texts = [format_number(float(value)) for value in values]
+        xs, _ = self.layer.points("marks")
+        texts = self._mark_texts()
         self.layer.set_labels("marks", texts)
         count, step = len(texts), 1
         figure = self._figure
@@ -325,6 +348,103 @@ class FigurePlot:
             step = max(1, math.ceil(self.layer.label_width("marks") * 1.15 / max(spacing, 1.0)))
         self.layer.set_labels("marks", texts, [(count - 1 - i) % step == 0
                                                for i in range(count)])
+
+    def label_boxes(self) -> dict[str, list[QRectF]]:
+        """The boxes of the texts and markers on show, in scene coordinates, by kind: "area"
+        (the plot area), "legend", "point label", "guide label", "mark labels" and "markers"
+        (the effect marker's label is :meth:`TradeoffFigures.label_boxes`')."""
+        boxes: dict[str, list[QRectF]] = {"area": [self.item.vb.sceneBoundingRect()]}
+        boxes["legend"] = [self.legend.sceneBoundingRect()] if self.legend.isVisible() else []
+        boxes["point label"] = [box for box in self.layer.label_boxes("point") if box]
+        boxes["mark labels"] = [box for box in self.layer.label_boxes("marks") if box]
+        label = self.guide.label
+        boxes["guide label"] = ([text_box(label)]
+                                if self.guide.isVisible() and label.isVisible() else [])
+        boxes["markers"] = self._marker_boxes()
+        return boxes
+
+    def _marker_boxes(self) -> list[QRectF]:
+        """The round markers (weeks and the design point) as boxes in scene coordinates."""
+        boxes = []
+        scene = self.layer.sceneTransform()
+        for name in ("marks", "point"):
+            radius = self.layer.dot_style(name)[0] / 2.0 / self._pen_scale
+            for x, y in zip(*self.layer.view_points(name), strict=True):
+                at = scene.map(QPointF(float(x), float(y)))
+                boxes.append(QRectF(at.x() - radius, at.y() - radius, 2 * radius, 2 * radius))
+        return boxes
+
+    def place_labels(self, line: pg.InfiniteLine | None = None) -> None:
+        """Put the texts where they overlap neither each other nor a marker, inside the plot
+        area; a text with no such place is left out.
+
+        In order: the design point's label (below or above it, left or right), the label of
+        ``line`` (the effect marker, moved along it and to either side), the guide's label,
+        then the week labels (those in the way are left out).
+        """
+        box = self.item.vb
+        box.updateMatrix()  # the view range set since the last paint, as the paint will use
+        area = box.sceneBoundingRect()
+        taken = self._marker_boxes()
+        legend = self.legend.sceneBoundingRect()
+        # a plot too small for its legend shows none rather than one spilling out of it
+        self.legend.setVisible(self._legend_wanted and area.contains(legend))
+        if self.legend.isVisible():
+            taken.append(legend)
+        self._place_point_label(area, taken)
+        for moving, positions, anchors in ((line, HANDLE_POSITIONS, HANDLE_ANCHORS),
+                                           (self.guide, GUIDE_POSITIONS, GUIDE_ANCHORS)):
+            if moving is not None and moving.isVisible():
+                box = place_line_label(moving.label, positions, anchors, area, taken)
+                if box is not None:
+                    taken.append(box)
+        self._place_mark_labels(area, taken)
+
+    def _place_mark_labels(self, area: QRectF, taken: list[QRectF]) -> None:
+        """Each week's label in its first clear place around its marker, or left out."""
+        wanted = [bool(box) for box in self.layer.label_boxes("marks")]
+        if not any(wanted):
+            return
+        texts = self._mark_texts()
+        clearance = self.layer.dot_style("marks")[0] / 2.0 / self._pen_scale + 1.0
+        around = [(anchor, (step_x * clearance, step_y * clearance * 0.4))
+                  for anchor, (step_x, step_y) in _AROUND.values()]
+        chosen: list = [None] * len(texts)
+        candidates = []
+        for place in around:  # every label in each place, measured once per place
+            self.layer.set_labels("marks", texts, wanted, [place] * len(texts))
+            candidates.append(self.layer.label_boxes("marks"))
+        for number, want in enumerate(wanted):
+            if not want:
+                continue
+            found = first_clear([boxes[number] for boxes in candidates], area, taken)
+            if found is not None:
+                chosen[number] = around[found]
+                taken.append(candidates[found][number])
+        self.layer.set_labels("marks", texts, [place is not None for place in chosen], chosen)
+
+    def _place_point_label(self, area: QRectF, taken: list[QRectF]) -> None:
+        """The design point's label in its first clear place, or left out."""
+        figure = self._figure
+        if (figure is None or figure.reason or self.name == "runtime"
+                or len(self.layer.points("point")[0]) != 1):
+            return
+        self.layer.set_labels("point", [_point_text(figure, self._unit)])
+        clearance = self.layer.dot_style("point")[0] / 2.0 / self._pen_scale + 1.0
+        places = [(anchor, (step_x * clearance, step_y * clearance * 0.4))
+                  for anchor, (step_x, step_y) in POINT_PLACES[self.name]]
+        boxes = []
+        for anchor, offset in places:
+            self.layer.set_label_anchor("point", anchor, offset)
+            boxes.append(self.layer.label_boxes("point")[0])
+        found = first_clear(boxes, area, taken)
+        self.layer.set_label_anchor("point", *places[0 if found is None else found])
+        self.layer.set_labels("point", [_point_text(figure, self._unit)], [found is not None])
+        if found is not None:
+            taken.append(boxes[found])
+
+    def _mark_texts(self) -> list[str]:
+        return [format_number(float(value)) for value in self.layer.points("marks")[1]]
 
     def _set_guide(self, figure: Figure) -> None:
         shown = not figure.reason and math.isfinite(figure.guide)

@@ -20,14 +20,43 @@ from PySide6.QtCore import QEvent, QRectF, Qt
 from PySide6.QtGui import QPainter, QPalette
 from PySide6.QtWidgets import QApplication
 
+from fourfold.figures.placement import text_box
 from fourfold.figures.simulation_marks import show_simulation
 from fourfold.figures.style import Style, paper, style_from_palette
 from fourfold.figures.tradeoff_plot import TICK_POINTS, FigurePlot
+from fourfold.formatting import format_number, format_percent
 from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import Tradeoffs, tradeoffs
 
 SCREEN_DPI = 96.0
 _GRID = ((0, 0), (0, 1), (1, 0), (1, 1))
+HANDLE_ARROW = "  ⟷"
+
+
+def effect_text(effect: float, unit: str) -> str:
+    """An effect as the plan table shows it: "+3.0 %", "−0.15 pp", "+0.12" (display units:
+    percent or percentage points when ``unit`` says so, the metric's own units otherwise).
+
+    Examples
+    --------
+    >>> effect_text(3.0, "%"), effect_text(-0.155, "pp"), effect_text(0.12, ""), effect_text(0, "%")
+    ('+3.0 %', '−0.155 pp', '+0.12', '0')
+    """
+    if effect == 0:
+        return "0"
+    if unit:
+        return format_percent(effect / 100.0, signed=True, suffix=unit)
+    return format_number(effect, sig=3, signed=True)
+
+
+class _MarkerLabel:
+    """The effect marker's text: pyqtgraph calls ``format(value=...)`` as on a format string."""
+
+    def __init__(self, unit: str) -> None:
+        self.unit = unit
+
+    def format(self, value: float) -> str:
+        return effect_text(value, self.unit) + HANDLE_ARROW
 
 
 class TradeoffFigures(pg.GraphicsLayout):
@@ -81,6 +110,23 @@ class TradeoffFigures(pg.GraphicsLayout):
             plot.item.layout.activate()
         self.layout.activate()
         self.plots["runtime"].fit()
+        self.place_labels()
+
+    def place_labels(self) -> None:
+        """Put every figure's texts clear of each other, of the markers and of the plot's
+        edges (:meth:`FigurePlot.place_labels`; the effect figure's include the marker's)."""
+        for name, plot in self.plots.items():
+            plot.place_labels(self.handle if name == "effect" else None)
+
+    def label_boxes(self) -> dict[str, dict[str, list]]:
+        """Each figure's :meth:`FigurePlot.label_boxes`; the effect figure's include the
+        effect marker's label as "marker label"."""
+        found = {name: plot.label_boxes() for name, plot in self.plots.items()}
+        label = self.handle.label
+        found["effect"]["marker label"] = ([text_box(label)]
+                                           if self.handle.isVisible() and label.isVisible()
+                                           else [])
+        return found
 
     def blank(self) -> None:
         """Show empty plots (no row selected)."""
@@ -109,15 +155,14 @@ class TradeoffFigures(pg.GraphicsLayout):
         if visible:
             low, high = (v * data.effect_scale for v in data.effect_span)
             self.handle.setBounds((low, high))
-            unit = f" {data.effect_unit}" if data.effect_unit else ""
-            self.handle.label.setFormat("{value:+.3g}" + unit + "  ⟷")
+            self.handle.label.setFormat(_MarkerLabel(data.effect_unit))
             if not keep_handle:
                 self.handle.setValue(x)
 
 
 def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *,
                     dpi: float | None = None, text_scale: float = 1.0,
-                    palette: QPalette | None = None) -> None:
+                    palette: QPalette | None = None, inspect=None) -> None:
     """Paint row ``index``'s four trade-off figures into ``rect`` with ``painter``.
 
     The figures are built offscreen at the physical size of ``rect`` (so that fonts keep their
@@ -141,6 +186,9 @@ def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *
         Text size relative to the window's normal size.
     palette : QPalette, optional
         Colours; default a light palette (paper).
+    inspect : callable, optional
+        Called with the built :class:`TradeoffFigures` just before they are painted (tests
+        read where the texts went).
 
     Examples
     --------
@@ -182,6 +230,10 @@ def paint_tradeoffs(painter: QPainter, rect: QRectF, plan, result, index: int, *
         grid.settle()
         for plot in grid.plots.values():
             plot.legend.updateSize()
+        QApplication.sendPostedEvents()
+        grid.place_labels()  # the legends have their final size now
+        if inspect is not None:
+            inspect(grid)
         for item in host.scene().items():
             if isinstance(item, pg.ScatterPlotItem):  # markers are sized in device pixels
                 item.setExportMode(True, {"antialias": True, "resolutionScale": scale})

@@ -14,6 +14,7 @@ Every recompute evaluates the base and each scenario with a row cache of its own
 from __future__ import annotations
 
 import pathlib
+import re
 
 from PySide6.QtCore import QObject, QTimer, Signal
 
@@ -22,6 +23,25 @@ from fourfold.plan import Plan
 from fourfold.plan.commands import CommandStack
 from fourfold.plan.comparison import Caches, Outcome, outcomes
 from fourfold.plan.evaluation import compute
+
+UNTITLED = "Untitled plan"
+_NOT_IN_FILE_NAMES = re.compile(r'[\\/:*?"<>|\x00-\x1f]+')
+MAX_NAME_CHARS = 80
+
+
+def file_name_for(title: str) -> str:
+    """A plan file's name made from its title: characters that file systems refuse become
+    spaces, runs of spaces one, and the name stays short enough for any file system.
+
+    Examples
+    --------
+    >>> file_name_for("Quillmoss Garden Supply — checkout redesign")
+    'Quillmoss Garden Supply — checkout redesign.json'
+    >>> file_name_for("Q3: price test / EU"), file_name_for("  ")
+    ('Q3 price test EU.json', 'Untitled plan.json')
+    """
+    name = " ".join(_NOT_IN_FILE_NAMES.sub(" ", title).split())[:MAX_NAME_CHARS].strip(" .")
+    return f"{name or UNTITLED}.json"
 
 
 class PlanDocument(QObject):
@@ -87,8 +107,15 @@ class PlanDocument(QObject):
 
     @property
     def file_name(self) -> str:
-        """The file's name for the window title ("untitled.json" before the first save)."""
-        return self.path.name if self.path is not None else "untitled.json"
+        """The file's name; before the first save, a name made from the plan's title."""
+        return self.path.name if self.path is not None else file_name_for(self.plan.settings.title)
+
+    @property
+    def display_name(self) -> str:
+        """What the window's title calls the plan: its file's name, or its title until saved."""
+        if self.path is not None:
+            return self.path.name
+        return " ".join(self.plan.settings.title.split()) or UNTITLED
 
     def stale_changes(self) -> tuple[str, ...]:
         """The scenarios' changes of rows or fields that no longer exist, in words."""
@@ -115,16 +142,17 @@ class PlanDocument(QObject):
         self.stack.mark_clean()
         self.history.emit()
 
-    def apply(self, command, *, merge: bool = False) -> bool:
+    def apply(self, command, *, merge: bool = False, explain=None) -> bool:
         """Run a command; a refused value is reported on ``message`` and changes nothing.
 
         ``merge=True`` folds a repeated edit of the same cell (a dragged effect) into one
-        undo step.
+        undo step. ``explain(text)``, when given, turns the refusal into the message shown
+        (naming the cell, say).
         """
         try:
             self.stack.do(command, merge=merge)
         except FourfoldError as error:
-            self.message.emit(str(error))
+            self.message.emit(explain(str(error)) if explain is not None else str(error))
             return False
         return True
 

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import dataclasses
 
-from PySide6.QtCore import QSettings, Qt, QTimer
+from PySide6.QtCore import QItemSelectionModel, QSettings, Qt, QTimer
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import (
     QApplication,
@@ -120,13 +120,19 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         self.scenario_panel.comparison.chosen.connect(self.switch_scenario)
         self.summary.chosen.connect(self.switch_scenario)
         self.settings_panel.traffic_requested.connect(lambda: self.traffic_action.trigger())
-        for source in (self.document.message, self.settings_panel.message, self.table.message):
-            source.connect(self.show_message)
+        self._problem: str | None = None
+        for source in (self.document.message, self.settings_panel.message, self.table.problem):
+            source.connect(self.show_problem)
+        self.table.message.connect(self.show_message)
+        self.document.changed.connect(self._clear_problem)
+        # a redraw queued before the change would pair the changed plan with the old result
+        self.document.changed.connect(self.plots.cancel_pending)
         self.document.history.connect(self._after_change)
         self.document.replaced.connect(self._after_replace)
         self.document.computed.connect(self._show_computed)
         self.table.selectionModel().currentRowChanged.connect(self._show_row)
         self.plots.effect_dragged.connect(self._effect_dragged)
+        self.model.rowsInserted.connect(self._rows_added)
         hints = QGuiApplication.styleHints()
         hints.colorSchemeChanged.connect(self._follow_scheme)
 
@@ -142,14 +148,27 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         if self.model.rowCount():
             self.table.setCurrentIndex(self.model.index(0, 0))
         self.table.setFocus()
+        self.name_actions()
 
     # -- document state -----------------------------------------------------------------
 
     def show_message(self, text: str) -> None:
-        """Show ``text`` in the status line (refused edits, paste reports, saves)."""
+        """Show ``text`` in the status line (paste reports, saves)."""
+        self._problem = None
         self.statusBar().showMessage(text, 12_000)
 
+    def show_problem(self, text: str) -> None:
+        """Show why something was refused; it stays until the plan next changes."""
+        self.statusBar().showMessage(text, 30_000)
+        self._problem = text
+
+    def _clear_problem(self, _change) -> None:
+        if self._problem is not None and self.statusBar().currentMessage() == self._problem:
+            self.statusBar().clearMessage()
+        self._problem = None
+
     def _after_change(self) -> None:
+        self.show_title()
         stack = self.document.stack
         self.undo_action.setEnabled(stack.can_undo)
         self.redo_action.setEnabled(stack.can_redo)
@@ -169,10 +188,20 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
     def fit_table(self) -> None:
         """Fit columns to the font and give the table the height of its rows (up to 12)."""
         self.table.fit_columns()
+        self._fit_table_height()
+
+    def _fit_table_height(self, grow_only: bool = False) -> None:
+        """The table's height for its rows: 3 to 12 of them, at most 55 % of the splitter."""
         rows = min(max(self.model.rowCount(), 3), 12)
         total = sum(self.splitter.sizes()) or self.height()
         table = min(self.table.wanted_height(rows), int(total * 0.55))
-        self.splitter.setSizes([table, max(total - table, 1)])
+        if not grow_only or table > self.splitter.sizes()[0]:
+            self.splitter.setSizes([table, max(total - table, 1)])
+
+    def _rows_added(self, *_args) -> None:
+        """The table grows with added rows (up to 12), so that the first stays in view."""
+        if self.isVisible():
+            self._fit_table_height(grow_only=True)
 
     def current_row(self) -> int | None:
         """The row of the current cell (None when the table is empty)."""
@@ -186,8 +215,8 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         self._show_row(now=True)
 
     def _show_row(self, *_args, now: bool = False) -> None:
-        if self.model.rowCount() != len(self.document.plan.metrics):
-            return  # mid row insertion/removal: the recompute that follows shows the row
+        if self.model.rowCount() != len(self.document.plan.metrics) or self.document.pending():
+            return  # the plan changed: the recompute that follows shows the row
         row = self.current_row()
         if row is None and self.model.rowCount():
             self.table.setCurrentIndex(self.model.index(0, 0))  # calls back with row 0
@@ -234,16 +263,23 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
             rows = {current.row()}
         return sorted(rows)
 
-    def _select_row(self, row: int) -> None:
-        column = max(self.table.currentIndex().column(), 0)
-        self.table.setCurrentIndex(self.model.index(row, column))
+    def select_cell(self, row: int, column: int | None = None) -> None:
+        """Make a cell current and the only one selected (in the current column by default).
+
+        Not ``setCurrentIndex``: run from a shortcut such as Ctrl+D, it would read the held
+        Ctrl as "add to the selection", and a following Ctrl+Del would delete both rows.
+        """
+        if column is None:
+            column = max(self.table.currentIndex().column(), 0)
+        self.table.selectionModel().setCurrentIndex(
+            self.model.index(row, column), QItemSelectionModel.SelectionFlag.ClearAndSelect)
 
     def add_metric(self) -> None:
         """Insert a new metric row below the current one."""
         rows = self.selected_rows()
         row = rows[-1] + 1 if rows else self.model.rowCount()
         if self.document.apply(InsertMetrics(row, [Metric()])):
-            self._select_row(row)
+            self.select_cell(row)
             self.table.edit(self.model.index(row, 0))
 
     def duplicate_metrics(self) -> None:
@@ -256,14 +292,14 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
             metric = self.document.plan.metrics[row]
             copies.append(dataclasses.replace(metric, name=f"{metric.name} (copy)"[:200]))
         if self.document.apply(InsertMetrics(rows[-1] + 1, copies)):
-            self._select_row(rows[-1] + 1)
+            self.select_cell(rows[-1] + 1)
 
     def delete_metrics(self) -> None:
         """Remove the selected rows (undo brings them back)."""
         rows = self.selected_rows()
         if rows and self.document.apply(RemoveMetrics(rows)):
             if self.model.rowCount():
-                self._select_row(min(rows[0], self.model.rowCount() - 1))
+                self.select_cell(min(rows[0], self.model.rowCount() - 1))
             self.show_message(f"Removed {len(rows)} row(s); Undo brings them back")
 
     def move_metric(self, step: int) -> None:
@@ -274,7 +310,7 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         target = current.row() + step
         if 0 <= target < self.model.rowCount() and self.document.apply(
                 MoveMetric(current.row(), target)):
-            self.table.setCurrentIndex(self.model.index(target, current.column()))
+            self.select_cell(target, current.column())
 
     # -- events and dialogs ---------------------------------------------------------------
 

@@ -14,17 +14,28 @@ import math
 
 import pyqtgraph as pg
 from PySide6.QtCore import QEvent, Qt, QTimer, Signal
-from PySide6.QtWidgets import QHBoxLayout, QLabel, QSlider, QVBoxLayout, QWidget
+from PySide6.QtGui import QFontMetrics
+from PySide6.QtWidgets import (
+    QHBoxLayout,
+    QLabel,
+    QSizePolicy,
+    QSlider,
+    QStackedLayout,
+    QVBoxLayout,
+    QWidget,
+)
 
 from fourfold.figures.simulation_marks import show_simulation
 from fourfold.figures.style import Style, style_from_palette
-from fourfold.figures.tradeoffs import TradeoffFigures
-from fourfold.formatting import format_number
+from fourfold.figures.tradeoffs import TradeoffFigures, effect_text
 from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import Tradeoffs, tradeoffs
 
 DRAG_INTERVAL_MS = 40
 SLIDER_STEPS = 200
+HEADING_POINTS = 10.5
+EMPTY_TEXT = ("No metric row to plot. Add one with Plan → Add metric (Ctrl+Shift+N), or "
+              "paste rows from a spreadsheet.")
 KEPT_OVERLAYS = 64
 
 
@@ -39,6 +50,12 @@ class FigureGrid(pg.GraphicsView):
         self.figures = TradeoffFigures(style or style_from_palette(self.palette()))
         self.setCentralItem(self.figures)
         self.setBackground(self.figures.style.background)
+        # pyqtgraph's scene offers "Export..." in the context menus of its items; the figures
+        # have none, so it could never be reached (the PDF report exports the figures)
+        scene = self.scene()
+        for action in scene.contextMenu:
+            action.setParent(None)
+        scene.contextMenu = []
 
     @property
     def plots(self) -> dict:
@@ -85,7 +102,7 @@ class FigureGrid(pg.GraphicsView):
         # emptied the scene.
         figures = getattr(self, "figures", None)
         if figures is not None and not self.closed:
-            figures.plots["runtime"].fit()
+            figures.settle()  # the new size lays out the figures, then places their texts
 
 
 def slider_step(low: float, high: float) -> float:
@@ -100,6 +117,20 @@ def slider_step(low: float, high: float) -> float:
     raw = (high - low) / SLIDER_STEPS
     power = 10.0 ** math.floor(math.log10(raw))
     return next(m * power for m in (1, 2, 5, 10) if m * power >= raw * (1 - 1e-9))
+
+
+def snap_effect(effect: float, step: float) -> float:
+    """A dragged effect as it is stored: on the grid of round steps, then to the three
+    significant digits that the table and the marker show, so that what is shown is what is
+    stored.
+
+    Examples
+    --------
+    >>> snap_effect(0.02995, 0.001), snap_effect(0.12349, 0.0005), snap_effect(-0.00731, 0.0005)
+    (0.03, 0.123, -0.0075)
+    """
+    on_grid = round(round(effect / step) * step, 12)
+    return float(f"{on_grid:.3g}")
 
 
 def _comparable(metric, others) -> list[tuple]:
@@ -162,10 +193,23 @@ class PlotPanel(QWidget):
         controls.addWidget(self.slider_label)
         controls.addWidget(self.slider, 1)
         controls.addWidget(self.slider_value)
+        # names the row on show; shortened rather than widening the panel
+        self.heading = QLabel("", self)
+        self.heading.setObjectName("plotHeading")
+        self.heading.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Fixed)
+        self.heading.setContentsMargins(8, 2, 8, 0)
+        # no row: a sentence where the plots would be, not four empty axes
+        self.empty = QLabel(EMPTY_TEXT, self)
+        self.empty.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        self.empty.setWordWrap(True)
+        self.pages = QStackedLayout()
+        self.pages.addWidget(self.grid)
+        self.pages.addWidget(self.empty)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.setSpacing(2)
-        layout.addWidget(self.grid, 1)
+        layout.addWidget(self.heading)
+        layout.addLayout(self.pages, 1)
         layout.addLayout(controls)
 
         self._pending: tuple | None = None
@@ -187,6 +231,7 @@ class PlotPanel(QWidget):
         self.slider.valueChanged.connect(self._slider_moved)
         self.slider.sliderReleased.connect(self._flush)
         self._set_controls_enabled(False)
+        self._style_texts(self.grid.style)
 
     @property
     def tradeoffs(self) -> Tradeoffs | None:
@@ -218,6 +263,11 @@ class PlotPanel(QWidget):
         else:
             self._redraw_timer.start()
 
+    def cancel_pending(self, *_args) -> None:
+        """Forget a queued redraw (its plan changed; the caller shows the row again)."""
+        self._redraw_timer.stop()
+        self._pending = None
+
     def set_text_scale(self, factor: float) -> None:
         """Scale every text of the plots (1.0 = normal; e.g. 1.5 on a projector)."""
         if not 0.5 <= factor <= 4.0:
@@ -233,7 +283,17 @@ class PlotPanel(QWidget):
         super().changeEvent(event)
 
     def _restyle(self) -> None:
-        self.grid.apply_style(style_from_palette(self.palette(), self._text_scale))
+        style = style_from_palette(self.palette(), self._text_scale)
+        self.grid.apply_style(style)
+        self._style_texts(style)
+
+    def _style_texts(self, style: Style) -> None:
+        heading = style.font(HEADING_POINTS)
+        heading.setBold(True)
+        self.heading.setFont(heading)
+        # the same height with or without a row: the plots below never shift
+        self.heading.setFixedHeight(QFontMetrics(heading).height() + 4)
+        self.empty.setFont(style.font(HEADING_POINTS))
 
     def _redraw(self) -> None:
         if self._pending is None:
@@ -245,9 +305,13 @@ class PlotPanel(QWidget):
             self.grid.blank()
             show_simulation(self.grid, plan, result, None)
             self._set_controls_enabled(False)
+            self.heading.setText("")
+            self.pages.setCurrentWidget(self.empty)
             return
+        self.pages.setCurrentWidget(self.grid)
         result = compute(plan) if result is None else result
         metric = plan.metrics[index]
+        self._set_heading(metric, index)
         dragging = self.grid.handle.moving or self.slider.isSliderDown()
         # an edit of another row leaves this row's inputs, result and settings as drawn
         overlaid = _comparable(metric, others)
@@ -270,6 +334,12 @@ class PlotPanel(QWidget):
         show_simulation(self.grid, plan, result, index)
         self.grid.settle()
         self._sync_slider(data)
+
+    def _set_heading(self, metric, index: int) -> None:
+        text = f"{metric.name} — row {index + 1}, {metric.role}"
+        if self.heading.text() != text:
+            self.heading.setText(text)
+            self.heading.setToolTip(text)
 
     def _overlay(self, other, row: int, span: tuple[float, float]) -> Tradeoffs:
         """The curves of ``row`` in scenario ``other`` on the shown effect span (kept)."""
@@ -306,14 +376,13 @@ class PlotPanel(QWidget):
 
     @staticmethod
     def _effect_text(effect: float, data: Tradeoffs) -> str:
-        shown = format_number(effect * data.effect_scale, signed=True)
-        return f"{shown} {data.effect_unit}" if data.effect_unit else shown
+        return effect_text(effect * data.effect_scale, data.effect_unit)
 
     def _slider_moved(self, position: int) -> None:
         data = self.grid.shown
         if data is None:
             return
-        effect = round(position * self._step, 12)
+        effect = snap_effect(position * self._step, self._step)
         self.slider_value.setText(self._effect_text(effect, data))
         self._queue(effect)
         if not self.slider.isSliderDown():
@@ -321,18 +390,20 @@ class PlotPanel(QWidget):
 
     def _handle_dragged(self, line: pg.InfiniteLine) -> None:
         data = self.grid.shown
-        if data is not None:
-            self._queue(float(line.value()) / data.effect_scale)
+        if data is None:
+            return
+        effect = snap_effect(float(line.value()) / data.effect_scale, self._step)
+        shown = effect * data.effect_scale
+        if float(line.value()) != shown:  # the marker and its label sit on the stored value
+            line.setValue(shown)
+        self.slider_value.setText(self._effect_text(effect, data))
+        self._queue(effect)
 
     def _handle_released(self, line: pg.InfiniteLine) -> None:
         self._handle_dragged(line)
         self._flush()
 
     def _queue(self, effect: float) -> None:
-        data = self.grid.shown
-        if data is not None:  # a pixel's worth of precision: 0.072, not 0.07200000000000001
-            low, high = data.effect_span
-            effect = round(effect, max(0, math.ceil(-math.log10((high - low) / 1000.0))))
         self._queued = effect
         if not self._drag_timer.isActive():
             self._drag_timer.start()

@@ -12,8 +12,10 @@ import dataclasses
 from PySide6.QtCore import Qt
 
 from fourfold.errors import FourfoldError
+from fourfold.formatting import format_number
 from fourfold.plan import CHOICES, Metric
 from fourfold.plan.commands import SetField
+from fourfold.plan.fields import validate_field
 from fourfold.plan.kinds import DERIVED_SD
 from fourfold.plan.windows import follows
 from fourfold.ui import cells
@@ -184,10 +186,29 @@ class TableEditing:
         try:
             parsed = self.parse(row, column, value)
         except FourfoldError as error:
-            self.document.message.emit(str(error))
+            self.document.message.emit(self.refusal(row, column, str(error)))
             return False
         if parsed == getattr(self._rows[row], col.key) and type(parsed) is type(
             getattr(self._rows[row], col.key)
         ):
             return True
-        return self.document.apply(SetField(row, col.key, parsed))
+        return self.document.apply(SetField(row, col.key, parsed),
+                                   explain=lambda text: self.refusal(row, column, text, parsed))
+
+    def refusal(self, row: int, column: int, text: str, value=None) -> str:
+        """The message for a refused cell: its row and column ("row 1 (Checkout conversion),
+        Power: …", as the plan's rules word it), why, and a hint when a number typed in percent
+        was meant (``90`` for a power of 90 %)."""
+        col = COLUMNS[column]
+        where = f"row {row + 1} ({self._rows[row].name}), "
+        # the plan's rules name the row and the column already; a reading error the column
+        message = text if text.startswith(where) else where + (
+            text if text.startswith(f"{col.label}: ") else f"{col.label}: {text}")
+        if isinstance(value, float) and 1 < value <= 100 and cells.unit(
+                self._rows[row], col.key) is None:
+            try:
+                validate_field(col.key, value / 100, kind=self._rows[row].kind)
+            except FourfoldError:
+                return message
+            return f"{message} — for {format_number(value)} percent, type {format_number(value)} %"
+        return message

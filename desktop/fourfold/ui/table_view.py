@@ -1,14 +1,14 @@
 """The plan table's view: keyboard navigation, copy and paste of rectangular ranges.
 
-Enter edits the current cell and, once typed, moves down a row; Tab moves right; Delete empties
-the selected optional cells (back to "not set" or the plan default). Copy puts the
-selected rectangle on the clipboard as tab-separated text (what spreadsheets exchange). Paste
-reads tab-separated text at the current cell as one undo step, all or nothing: if any cell of
-the block cannot be read or is refused by the plan's rules, nothing changes and the status line
-says which cells are at fault. Lines that run past the last row become new metric rows (in the
-same undo step); cells on computed columns are skipped and cells right of the last column are
-dropped (both counted in the status line). A single copied value pasted onto a larger selection
-fills the selection.
+Enter edits the current cell and, once typed, keeps it current (the plots stay on its row); Tab
+moves right; Delete empties the selected optional cells (back to "not set" or the plan default).
+Copy puts the selected rectangle on the clipboard as tab-separated text (what spreadsheets
+exchange). Paste reads tab-separated text at the current cell as one undo step, all or nothing:
+if any cell of the block cannot be read or is refused by the plan's rules, nothing changes and
+the status line says which cells are at fault. Lines that run past the last row become new
+metric rows (in the same undo step); cells on computed columns are skipped and cells right of
+the last column are dropped (both counted in the status line). A single copied value pasted onto
+a larger selection fills the selection.
 
 A click on a column header sorts the rows by that column (ascending, a second click
 descending) as one undo step; the header shows the sort only while the rows still hold that
@@ -58,9 +58,12 @@ class PlanTableView(QTableView):
     -------
     message(str)
         Something to show in the status line (a paste report).
+    problem(str)
+        Why nothing was done (a paste refused), for the status line until the next change.
     """
 
     message = Signal(str)
+    problem = Signal(str)
 
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
@@ -104,13 +107,16 @@ class PlanTableView(QTableView):
         model.document.computed.connect(self.follow_looks)
         model.document.computed.connect(self._check_sort)
         model.dataChanged.connect(self.widen_columns)
+        for signal in (model.rowsAboutToBeRemoved, model.rowsAboutToBeMoved,
+                       model.layoutAboutToBeChanged, model.modelAboutToBeReset):
+            signal.connect(self._drop_editor)
         self.follow_looks()
 
     def _widen_shown(self, *_args) -> None:
         model = self.model()
         if model is not None and model.rowCount():
             self.widen_columns(model.index(0, 0),
-                               model.index(model.rowCount() - 1, model.columnCount() - 1))
+                               model.index(model.rowCount() - 1, model.columnCount() - 1), ())
 
     def follow_looks(self) -> None:
         """Show the interim-look columns only while the plan has more than one look, a kind's
@@ -185,8 +191,9 @@ class PlanTableView(QTableView):
             wanted = max(title, min(content, MAX_COLUMN_CHARS * char), column.width * char)
             self.setColumnWidth(position, wanted)
 
-    def widen_columns(self, top_left, bottom_right, roles=()) -> None:
-        """Widen the number and result columns whose changed cells no longer fit.
+    def widen_columns(self, top_left, bottom_right, roles) -> None:
+        """Widen the name, number and result columns whose changed cells no longer fit (the
+        name up to the width :meth:`fit_columns` allows it).
 
         Connected to the model's ``dataChanged``: only the announced cells in rows on screen
         are measured (scrolling measures the rows it brings into view), and a column only ever
@@ -207,9 +214,11 @@ class PlanTableView(QTableView):
                                                self) + 1) + 6
         base = self.font()
         measures: dict[tuple[bool, bool], QFontMetrics] = {}
+        widest_name = MAX_COLUMN_CHARS * self.fontMetrics().averageCharWidth()
         for position in range(top_left.column(), bottom_right.column() + 1):
             column = COLUMNS[position]
-            if not (column.computed or column.editor == NUMBER) or self.isColumnHidden(position):
+            if not (column.computed or column.editor == NUMBER or column.key == "name") \
+                    or self.isColumnHidden(position):
                 continue
             widest = 0
             for row in rows:
@@ -224,6 +233,8 @@ class PlanTableView(QTableView):
                     measure = measures[key] = QFontMetrics(
                         base if font is None else font.resolve(base))
                 widest = max(widest, measure.horizontalAdvance(text))
+            if column.key == "name":
+                widest = min(widest, widest_name)
             if widest + margin > self.columnWidth(position):
                 self.setColumnWidth(position, widest + margin)
 
@@ -232,17 +243,27 @@ class PlanTableView(QTableView):
         return (self.horizontalHeader().height() + rows * self.verticalHeader().defaultSectionSize()
                 + self.horizontalScrollBar().sizeHint().height() + 2 * self.frameWidth() + 2)
 
-    # -- navigation ---------------------------------------------------------------------
+    # -- editing and navigation -----------------------------------------------------------
 
-    def closeEditor(self, editor, hint):
-        moved_down = hint == QAbstractItemDelegate.EndEditHint.SubmitModelCache
-        super().closeEditor(editor, QAbstractItemDelegate.EndEditHint.NoHint if moved_down
-                            else hint)
-        if moved_down:
-            current = self.currentIndex()
-            below = current.sibling(current.row() + 1, current.column())
-            if below.isValid():
-                self.setCurrentIndex(below)
+    def finish_editing(self, commit: bool = True) -> bool:
+        """Close the open cell editor, if any, before a command changes the plan.
+
+        ``commit`` puts its text into the plan first; when the plan refuses it, the editor
+        stays open (the status line says why) and False is returned: the command must wait.
+        Without ``commit`` the text is dropped, as Escape does (before Undo, say).
+        """
+        delegate = self.itemDelegate()
+        editor, _index = delegate.open_editor()
+        if editor is None:
+            return True
+        if commit and not delegate.submit(editor):
+            return False
+        self.closeEditor(editor, QAbstractItemDelegate.EndEditHint.NoHint)
+        return True
+
+    def _drop_editor(self, *_args) -> None:
+        """Rows are about to move or go: an editor left open would edit a stale cell."""
+        self.finish_editing(commit=False)
 
     def keyPressEvent(self, event):
         if event.matches(QKeySequence.StandardKey.Copy):
@@ -256,7 +277,8 @@ class PlanTableView(QTableView):
             self.clear_selection()
             return
         if (event.key() in (Qt.Key.Key_Return, Qt.Key.Key_Enter)
-                and self.state() != QAbstractItemView.State.EditingState):
+                and self.state() != QAbstractItemView.State.EditingState
+                and self.itemDelegate().open_editor()[0] is None):
             current = self.currentIndex()
             if current.isValid() and current.flags() & Qt.ItemFlag.ItemIsEditable:
                 self.edit(current)
@@ -312,7 +334,7 @@ class PlanTableView(QTableView):
             elif column.key == "notes":
                 edits.append((index.row(), column.key, ""))
         if not edits:
-            self.message.emit("Only optional numbers and notes can be emptied")
+            self.problem.emit("Only optional numbers and notes can be emptied")
             return False
         return self.plan_model().document.apply(
             SetFields(edits, text=f"Clear {len(edits)} cells"))
@@ -327,7 +349,7 @@ class PlanTableView(QTableView):
         grid = parse_grid(text)
         rect = self._selected_rect()
         if not grid or rect is None:
-            self.message.emit("Nothing to paste")
+            self.problem.emit("Nothing to paste")
             return False
         top, left, bottom, right = rect
         if len(grid) == 1 and len(grid[0]) == 1 and (bottom > top or right > left):
@@ -340,12 +362,12 @@ class PlanTableView(QTableView):
             shown = "; ".join(errors[:MAX_ERRORS_SHOWN])
             extra = len(errors) - MAX_ERRORS_SHOWN
             more = f" (and {extra} more)" if extra > 0 else ""
-            self.message.emit(f"Nothing pasted — {len(errors)} cell(s) cannot be read: "
+            self.problem.emit(f"Nothing pasted — {len(errors)} cell(s) cannot be read: "
                               f"{shown}{more}")
             return False
         edits = block.edits
         if not edits:
-            self.message.emit("Nothing pasted: the block falls on computed columns only")
+            self.problem.emit("Nothing pasted: the block falls on computed columns only")
             return False
         added = f" ({block.new_rows} new row{'s' if block.new_rows != 1 else ''})" \
             if block.new_rows else ""

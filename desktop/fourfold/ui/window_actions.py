@@ -4,7 +4,8 @@ File (new, open, recent, save, export, quit), Edit (undo/redo mirrored from the 
 stack, copy, paste), Plan (row actions, the history import, the traffic model, the simulation
 checks), View (text
 size) and Help (about). Every action has a keyboard shortcut; the table's context menu holds
-the row actions.
+the row actions. An action kept as ``self.<name>_action`` gets that attribute's name as its
+object name (:meth:`WindowActions.name_actions`), by which the tests find it.
 """
 
 from __future__ import annotations
@@ -16,7 +17,14 @@ from PySide6.QtGui import QAction, QKeySequence
 class WindowActions:
     """Builds the actions and menus of :class:`fourfold.ui.main_window.MainWindow`."""
 
-    def _action(self, text: str, slot, shortcut=None, tip: str = "") -> QAction:
+    def _action(self, text: str, slot, shortcut=None, tip: str = "", *,
+                keep_edit: bool = True) -> QAction:
+        """An action of the window that runs ``slot()``.
+
+        An open cell editor is closed first: its text is put into the plan (``keep_edit``;
+        when the plan refuses it the editor stays open and the action does not run) or
+        dropped, as Escape would (Undo and Redo act on what was in the plan).
+        """
         action = QAction(text, self)
         if shortcut is not None:
             keys = shortcut if isinstance(shortcut, list) else [shortcut]
@@ -27,9 +35,18 @@ class WindowActions:
                     sequences.setdefault(sequence.toString(), sequence)
             action.setShortcuts(list(sequences.values()))
         action.setStatusTip(tip)
-        action.triggered.connect(slot)
+        # triggered(bool) would hand its "checked" flag to a slot's first optional parameter
+        # (Edit → Paste once pasted ``False``): the slot is called without arguments
+        action.triggered.connect(
+            lambda _checked=False: self.table.finish_editing(commit=keep_edit) and slot())
         self.addAction(action)
         return action
+
+    def name_actions(self) -> None:
+        """Name every action kept as an attribute after that attribute (``paste_action``)."""
+        for name, value in vars(self).items():
+            if isinstance(value, QAction) and not value.objectName():
+                value.setObjectName(name)
 
     def _build_actions(self) -> None:
         key = QKeySequence.StandardKey
@@ -44,8 +61,10 @@ class WindowActions:
                                        "Write the plan as a PDF report")
         self.quit_action = self._action("&Quit", self.close, [key.Quit, "Ctrl+Q"],
                                         "Close Fourfold")
-        self.undo_action = self._action("&Undo", self.document.undo, key.Undo)
-        self.redo_action = self._action("&Redo", self.document.redo, [key.Redo, "Ctrl+Y"])
+        self.undo_action = self._action("&Undo", self.document.undo, key.Undo,
+                                        keep_edit=False)
+        self.redo_action = self._action("&Redo", self.document.redo,
+                                        [key.Redo, "Ctrl+Shift+Z", "Ctrl+Y"], keep_edit=False)
         self.copy_action = self._action("&Copy cells", self.table.copy_selection, key.Copy,
                                         "Copy the selected cells as tab-separated text")
         self.paste_action = self._action("&Paste cells", self.table.paste, key.Paste,

@@ -25,7 +25,7 @@ class WindowFiles:
         """Ask whether to save unsaved changes: Save, Discard or Cancel."""
         return QMessageBox.question(
             self, "Unsaved changes",
-            f"Save the changes to {self.document.file_name} first?",
+            f"Save the changes to {self.document.display_name} first?",
             QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard
             | QMessageBox.StandardButton.Cancel, QMessageBox.StandardButton.Save)
 
@@ -94,7 +94,6 @@ class WindowFiles:
         self.document.mark_saved(path)
         self.recovery.discard()
         self.remember_recent(path)
-        self.show_title()
         self.show_message(f"Saved {path}")
         return True
 
@@ -120,15 +119,18 @@ class WindowFiles:
         recent = self.recent_files()
         for number, path in enumerate(recent, start=1):
             action = self.recent_menu.addAction(f"&{number} {pathlib.Path(path).name}")
+            action.setObjectName("recent_file_action")
             action.setToolTip(path)
             action.triggered.connect(lambda _=False, p=path: self.may_discard()
                                      and self.open_path(p))
         if not recent:
-            self.recent_menu.addAction("No recent plans").setEnabled(False)
+            placeholder = self.recent_menu.addAction("No recent plans")
+            placeholder.setObjectName("no_recent_action")
+            placeholder.setEnabled(False)
 
     def _export_path(self, suffix: str, title: str) -> str:
         base = self.document.path.with_suffix(suffix) if self.document.path else \
-            pathlib.Path.home() / f"plan{suffix}"
+            pathlib.Path.home() / pathlib.Path(self.document.file_name).with_suffix(suffix)
         path, _ = QFileDialog.getSaveFileName(self, title, str(base),
                                               f"{suffix[1:].upper()} (*{suffix})")
         if path and not path.lower().endswith(suffix):

@@ -8,14 +8,32 @@ from __future__ import annotations
 
 import pathlib
 
-from PySide6.QtCore import QDateTime, QLocale, QStandardPaths
+from PySide6.QtCore import QCoreApplication, QDateTime, QLocale, QStandardPaths
 from PySide6.QtWidgets import QMessageBox
 
 
 def data_directory() -> pathlib.Path:
-    """The folder of the windows' recovery copies (the platform's application data location)."""
-    location = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation)
-    return pathlib.Path(location)
+    """The folder of the windows' recovery copies: ``Fourfold`` in the platform's data
+    location (``~/.local/share/Fourfold`` on Linux).
+
+    Not Qt's application data location: it joins organisation and application name, both
+    "Fourfold", into ``Fourfold/Fourfold``.
+    """
+    location = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.GenericDataLocation)
+    return pathlib.Path(location) / (QCoreApplication.applicationName() or "Fourfold")
+
+
+def when_text(seconds: float, locale: QLocale | None = None) -> str:
+    """A moment as the system's locale writes a short date and time.
+
+    The bare C locale has no date conventions of its own (Qt writes "4 12 2026 15:20"):
+    there the moment reads as ISO 8601, "2026-12-04 15:20".
+    """
+    locale = QLocale.system() if locale is None else locale
+    moment = QDateTime.fromSecsSinceEpoch(int(seconds))
+    if locale.language() == QLocale.Language.C:
+        return moment.toString("yyyy-MM-dd HH:mm")
+    return locale.toString(moment, QLocale.FormatType.ShortFormat)
 
 
 class WindowRecovery:
@@ -76,9 +94,9 @@ class WindowRecovery:
         return f"A damaged recovery copy was set aside as {path}{more}: {why}"
 
     def _ask_recover(self, found, number: int = 1, total: int = 1) -> bool | None:
-        source = found.source.name if found.source else "an unsaved plan"
-        when = QLocale().toString(QDateTime.fromSecsSinceEpoch(int(found.saved_at)),
-                                  QLocale.FormatType.ShortFormat)
+        title = " ".join(found.plan.settings.title.split())
+        source = found.source.name if found.source else f"the unsaved plan “{title}”"
+        when = when_text(found.saved_at)
         count = f" ({number} of {total})" if total > 1 else ""
         box = QMessageBox(QMessageBox.Icon.Question, f"Restore unsaved changes?{count}",
                           f"A Fourfold window closed without saving changes to {source} "

@@ -181,7 +181,7 @@ class WindowScenarios:
         """The window title: the file and the scenario on show."""
         scenario = self.document.scenario
         shown = f" — scenario {scenario}" if scenario is not None else ""
-        self.setWindowTitle(f"{self.document.file_name}[*]{shown} — Fourfold")
+        self.setWindowTitle(f"{self.document.display_name}[*]{shown} — Fourfold")
 
     def _scenario_state(self) -> None:
         """Enable the scenario actions that apply, and name the scenario in the title."""
