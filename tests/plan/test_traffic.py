@@ -14,7 +14,16 @@ import pytest
 from scipy.special import ndtri
 
 from fourfold import engine
-from fourfold.plan import Metric, Plan, Settings, compute, load, sample_path, traffic
+from fourfold.plan import (
+    Metric,
+    Plan,
+    Settings,
+    compute,
+    effective,
+    load,
+    sample_path,
+    traffic,
+)
 from fourfold.plan.rows import runtime_units
 from fourfold.plan.sensitivity import sensitivity
 from fourfold.plan.sequential import look_days, row_design, week_timing
@@ -166,9 +175,20 @@ def test_sensitivity_scales_a_reach_curve_and_caps_the_ramp_at_the_share():
 def test_a_scenario_can_change_the_traffic_model():
     plan = load(sample_path())
     name = "Returning visitors, ramp-up to all traffic"
-    from fourfold.plan import effective
-
     shown = effective(plan, name)
     assert shown.settings.traffic == "reach" and len(shown.settings.reach) == 28
     assert compute(shown).duration_days > compute(plan).duration_days
     assert plan.settings.traffic == "constant"
+
+
+def test_the_runtime_figure_reads_the_model_and_says_when_it_extrapolates():
+    from fourfold.plan.tradeoffs import tradeoffs
+
+    shown = effective(load(sample_path()), "Returning visitors, ramp-up to all traffic")
+    result = compute(shown)
+    runtime = tradeoffs(shown, 0, result).runtime
+    assert runtime.guide_label == f"test runs {result.duration_days:g} d, extrapolated"
+    # the design point sits where the analysed units reach the binding row's control units
+    control = result.rows[0].units_control
+    day = runtime.point[0]
+    assert float(traffic.control_units(shown.settings, day)) == pytest.approx(control)

@@ -522,6 +522,8 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
     duration = result.duration_days
     guide = float(duration) if duration is not None and math.isfinite(duration) else math.nan
     guide_label = f"test runs {format_days(guide)} d" if math.isfinite(guide) else ""
+    if traffic.extrapolated(settings, guide):  # past the reach curve: the fitted model's days
+        guide_label += ", extrapolated"
     return Figure("runtime", *labels, False, False,
                   Curve(days, at_days, _power_label(row.power)),
                   Curve(days, at_days_other, _power_label(other)),
