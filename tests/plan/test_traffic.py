@@ -192,3 +192,16 @@ def test_the_runtime_figure_reads_the_model_and_says_when_it_extrapolates():
     control = result.rows[0].units_control
     day = runtime.point[0]
     assert float(traffic.control_units(shown.settings, day)) == pytest.approx(control)
+
+
+def test_a_fixed_runtime_takes_its_units_from_the_curve():
+    # Read linearly: R(10) = 700 + 3/7 × 300; half of it in the test, half of that in control.
+    reach = ((1, 100.0), (7, 700.0), (14, 1_000.0))
+    settings = Settings(traffic="reach", reach=reach, share=0.5, runtime_days=10.0)
+    control = (700.0 + 3.0 / 7.0 * 300.0) * 0.5 / 2.0
+    assert runtime_units(settings) == pytest.approx(control)
+    result = compute(Plan(settings, [spend(solve="detectable_effect")]))
+    assert result.rows[0].units_control == math.ceil(control)
+    assert result.rows[0].effect_abs == pytest.approx(
+        float(engine.detectable_effect("mean", 10.0, control, sd=5.0)))
+    assert result.total_units == pytest.approx(2 * control)
