@@ -66,6 +66,10 @@ NUMBER_FIELDS = {
 }
 
 
+WIDE_FIELDS = {"daily_units": "000,000", "share": "100.0 %", "runtime_days": "none"}
+"""Fields that keep room for their usual text when the traffic group is narrow."""
+
+
 class DescriptionEdit(QPlainTextEdit):
     """The plan's description: word-wrapped, as tall as its text up to three lines, then scrolls.
 
@@ -270,7 +274,8 @@ class SettingsPanel(QWidget):
         edit = QLineEdit()
         edit.setToolTip(tooltip)
         edit.setAlignment(Qt.AlignmentFlag.AlignRight)
-        edit.setMinimumWidth(44)
+        edit.setMinimumWidth(44 if field not in WIDE_FIELDS else
+                             edit.fontMetrics().horizontalAdvance(WIDE_FIELDS[field]) + 14)
         edit.setMaximumWidth(110)
         if optional:
             edit.setPlaceholderText("none")
