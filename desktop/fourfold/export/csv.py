@@ -25,9 +25,9 @@ spreadsheets detect the encoding), and a third for a plan with scenarios:
     (:mod:`fourfold.export.traffic`); the settings file then adds the model's rows
     (``traffic``, ``traffic_model``, ``ramp``, ``burn_in_days``, ``reach_days``,
     ``reach_units``, ``reach_fit``, ``reach_fit_error_frac``, ``duration_extrapolated``,
-    ``duration_stated_error_frac``, ``window_days``). ``window_days`` in the metric file is
-    the window whose figures a row that follows its history windows used (its ``baseline``
-    and ``sd`` are those figures).
+    ``duration_stated_error_frac``, ``window_days``). A plan with rows that follow their
+    history windows has a ``window_days`` column after ``sd_used``: the window whose figures
+    such a row used (its ``baseline`` and ``sd`` are those figures).
 
 Column names
 ------------
@@ -120,7 +120,7 @@ from fourfold.export.files import ExportError, write_parts
 from fourfold.plan import CHOICES
 from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
 from fourfold.plan.kinds import DERIVED_SD, unit_sd
-from fourfold.plan.windows import evaluated, follows
+from fourfold.plan.windows import evaluated, follows, uses_windows
 
 FORMULA_STARTS = ("=", "+", "-", "@", "|", "\t", "\r", "\n")
 ENCODING = "utf-8-sig"
@@ -247,7 +247,6 @@ COLUMNS: tuple[tuple[str, Callable[[int, Any, Any, Any], Any]], ...] = (
     ("quantile_second_level_frac", lambda i, m, r, p: m.second_level),
     ("quantile_second_value", lambda i, m, r, p: m.second_value),
     ("sd_used", lambda i, m, r, p: _sd_used(m)),
-    ("window_days", lambda i, m, r, p: p.window_days if follows(m) else None),
     ("effect_input_rel_frac", lambda i, m, r, p: _entered(m, m.effect, True)),
     ("effect_input_abs", lambda i, m, r, p: _entered(m, m.effect, False)),
     ("margin_input_rel_frac", lambda i, m, r, p: _entered(m, m.margin, True)),
@@ -327,11 +326,25 @@ def settings_path(path: os.PathLike | str) -> Path:
     return path.with_name(f"{path.stem}-settings{path.suffix or '.csv'}")
 
 
+WINDOW_COLUMN = ("window_days", lambda i, m, r, p: p.window_days if follows(m) else None)
+"""After ``sd_used``, only for a plan with rows that follow their history windows."""
+
+
+def _columns(plan) -> tuple:
+    """The metric file's columns: :data:`COLUMNS`, with ``window_days`` for a plan that
+    uses history windows (a plan without them is written as before)."""
+    if not uses_windows(plan):
+        return COLUMNS
+    place = [name for name, _ in COLUMNS].index("sd_used") + 1
+    return (*COLUMNS[:place], WINDOW_COLUMN, *COLUMNS[place:])
+
+
 def metric_rows(plan, result) -> list[list[str]]:
     """The metric file as lists of cells, header first (see the module docstring)."""
-    lines = [[name for name, _ in COLUMNS]]
+    columns = _columns(plan)
+    lines = [[name for name, _ in columns]]
     for index, (metric, row) in enumerate(zip(plan.metrics, result.rows, strict=True)):
-        lines.append([cell(get(index, metric, row, result)) for _, get in COLUMNS])
+        lines.append([cell(get(index, metric, row, result)) for _, get in columns])
     return lines
 
 

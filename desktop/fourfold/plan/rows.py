@@ -44,13 +44,17 @@ def runtime_units(settings: Settings) -> float | None:
 
 
 def _runtime_reason(settings: Settings, units: float) -> str:
-    """Why a fixed runtime gives a row no units ("" when it gives some)."""
+    """Why a fixed runtime gives a row no units under a traffic model beyond constant daily
+    units ("" when it gives some, and always for plain constant traffic: the engine explains
+    its own edge cases)."""
+    if traffic.is_plain(settings):
+        return ""
     if math.isnan(units):
-        days = float(settings.runtime_days)
         known = traffic.model(settings)
-        return (f"the traffic model does not know the units of a {days:g}-day runtime"
+        return (f"the traffic model does not know the units of a "
+                f"{float(settings.runtime_days):g}-day runtime"
                 + (f": {known.why}" if known is not None and known.why else ""))
-    if units <= 0:
+    if units <= 0 and settings.burn_in >= settings.runtime_days:
         return (f"the burn-in ({settings.burn_in} days) takes the whole fixed runtime "
                 f"({settings.runtime_days:g} days): no units are analysed")
     return ""
@@ -130,8 +134,8 @@ def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float, design
         if waiting and at_duration is not None:
             n_control = at_duration.units
         if n_control is None:
-            why = (f"a fixed runtime needs the plan's traffic: {traffic.missing_text(settings)}"
-                   if runtime else needs_units_text(solved))
+            why = (f"a fixed runtime needs {traffic.needs_text(settings)}" if runtime else
+                   needs_units_text(solved))
             return _failed(solved, factor, shown_alpha, shown_power, why)
         if runtime and _runtime_reason(settings, n_control):
             return _failed(solved, factor, shown_alpha, shown_power,

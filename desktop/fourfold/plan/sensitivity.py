@@ -195,8 +195,9 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
     index = result.binding_index
     if index is None or not traffic.has_traffic(settings):
         why = ("No primary or guardrail row solves for sample size: nothing sets the duration."
-               if index is None else "Without traffic the plan has no duration: "
-               + traffic.missing_text(settings) + ".")
+               if index is None else "Without daily units the plan has no duration."
+               if settings.traffic == "constant" else
+               "Without a reach curve the plan has no duration.")
         return Sensitivity(amount, days, None, (), why)
     cache = RowCache() if cache is None else cache
     metric = plan.metrics[index]

@@ -497,7 +497,8 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
                     labels: tuple[str, str, str], points: int) -> Figure:
     row, settings = r.row, r.plan.settings
     if not traffic.has_traffic(settings):
-        return _empty_figure("runtime", *labels, traffic.missing_text(settings))
+        return _empty_figure("runtime", *labels,
+                             traffic.missing_text(settings, "days of runtime"))
     needed = traffic.control_days(settings, row.units_control)  # the table rounds this up
     if math.isinf(needed):
         return _empty_figure("runtime", *labels, "at this traffic the days cannot be counted"

@@ -165,17 +165,28 @@ def has_traffic(settings: Settings) -> bool:
     return settings.daily_units is not None
 
 
-def missing_text(settings: Settings) -> str:
-    """What the plan needs before units become days.
+def missing_text(settings: Settings, what: str = "days") -> str:
+    """What the plan needs before units become days (``what``: of what they are days).
 
     Examples
     --------
-    >>> missing_text(Settings(traffic="reach"))
-    'enter the reach curve (distinct units by day) to see days'
+    >>> missing_text(Settings(traffic="reach"), "days of runtime")
+    'enter the reach curve (distinct units by day) to see days of runtime'
     """
     if settings.traffic == "reach":
-        return "enter the reach curve (distinct units by day) to see days"
-    return "set the plan's daily units to see days"
+        return f"enter the reach curve (distinct units by day) to see {what}"
+    return f"set the plan's daily units to see {what}"
+
+
+def needs_text(settings: Settings) -> str:
+    """What a fixed runtime needs to give units.
+
+    Examples
+    --------
+    >>> needs_text(Settings()), needs_text(Settings(traffic="reach"))
+    ("the plan's daily units", "the plan's reach curve")
+    """
+    return "the plan's reach curve" if settings.traffic == "reach" else "the plan's daily units"
 
 
 def model(settings: Settings) -> Model | None:
