@@ -20,7 +20,7 @@ from hypothesis import strategies as st
 
 from fourfold.history import ColumnMap, read_history
 from fourfold.history.errors import HistoryError
-from fourfold.history.warehouse import read_warehouse_result, warehouse_sql
+from fourfold.history.warehouse import read_warehouse_result, read_warehouse_rows, warehouse_sql
 
 FUZZ = settings(deadline=5000, suppress_health_check=[HealthCheck.too_slow,
                                                       HealthCheck.function_scoped_fixture])
@@ -211,3 +211,90 @@ def test_the_query_names_the_columns_the_fuzzed_results_use():
         assert f'"{alias}"' in sql
     with pytest.raises(HistoryError):
         read_warehouse_result("rows\n", [ColumnMap("mean", "x")])
+
+
+DAMAGE = ["nan", "NULL", "", "inf", "-1", "0", "1e400", "x", "2.5", "-inf", "1" * 500, "reach",
+          "window", "9999", "2026-13-01"]
+
+
+@st.composite
+def sectioned_results(draw):
+    """A result with the reach and window sections: the whole history's line, new units on
+    some days, and windows with the moments a warehouse reports for drawn values; perhaps one
+    cell damaged, or the text cut."""
+    length = draw(st.integers(1, 40))
+    new = draw(st.dictionaries(st.integers(1, length), st.integers(1, 50), min_size=1,
+                               max_size=6))
+    reached = sum(new.values())
+    fits = sorted({days for days in (7, 14, 21, 28, length) if days <= length})
+    windows = {days: draw(st.lists(values, max_size=min(6, reached)))
+               for days in draw(st.lists(st.sampled_from(fits), unique=True, max_size=3))}
+    lines = ["section,at,day_one,rows,m1_x_n,m1_x_mean,m1_x_var",
+             f"all,{length},2026-03-01,{max(reached, 10)},10,2.5,4.0"]
+    lines += [f"reach,{day},,{units},,," for day, units in new.items()]
+    reported = {}
+    for days, part in windows.items():
+        n, mean, var = reported[days] = _reported(part)
+        units = min(reached, n + draw(st.integers(0, 3)))
+        cells = ["NULL" if v is None else repr(v) for v in (mean, var)]
+        lines.append(f"window,{days},,{units},{n},{cells[0]},{cells[1]}")
+    order = draw(st.permutations(range(2, len(lines))))
+    lines = lines[:2] + [lines[i] for i in order]
+    damage = draw(st.sampled_from(["none", "none", "cell", "cut"]))
+    if damage == "cell":
+        row = draw(st.integers(1, len(lines) - 1))
+        cells = lines[row].split(",")
+        cells[draw(st.integers(0, 6))] = draw(st.sampled_from(DAMAGE))
+        lines[row] = ",".join(cells)
+    text = "\n".join(lines)
+    if damage == "cut":
+        text = text[: draw(st.integers(0, len(text)))]
+    return text, length, new, reported, damage == "none"
+
+
+@FUZZ
+@given(sectioned_results())
+def test_a_sectioned_result_reads_right_or_is_refused_in_one_line(drawn):
+    text, length, new, reported, intact = drawn
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        try:
+            summary = read_warehouse_result(text, [ColumnMap("mean", "x")])
+        except HistoryError as error:
+            message = str(error)
+            assert "\n" not in message and len(message) < 600, message
+            infinite = any(v is not None and math.isinf(v) for _, _, v in reported.values())
+            assert not intact or infinite, message
+            return
+    assume(intact)
+    running, reach = 0, []
+    for day in range(1, length + 1):
+        running += new.get(day, 0)
+        reach.append(running)
+    assert summary.reach.units == tuple(reach)
+    assert [window.days for window in summary.windows] == sorted(reported)
+    for window in summary.windows:
+        n, mean, var = reported[window.days]
+        metric = window.get("x")
+        if n < 2 or not var:
+            assert metric is None and "x" in window.problems
+            continue
+        assert metric.n == n and math.isclose(metric.mean, mean, rel_tol=1e-12)
+        assert math.isclose(metric.sd, math.sqrt(var), rel_tol=1e-9), (metric.sd, var)
+
+
+fetched = st.one_of(st.none(), st.booleans(), st.integers(-10**20, 10**20), st.floats(),
+                    st.decimals(), st.dates(), st.text(max_size=12),
+                    st.sampled_from(["all", "reach", "window", "2026-03-01"]))
+
+
+@FUZZ
+@given(st.lists(st.lists(fetched, min_size=5, max_size=8), max_size=5))
+def test_fetched_rows_of_any_values_are_read_or_refused_in_one_line(records):
+    names = ["section", "at", "day_one", "rows", "m1_x_n", "m1_x_mean", "m1_x_var"]
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        try:
+            read_warehouse_rows(names, records, [ColumnMap("mean", "x")])
+        except HistoryError as error:
+            assert "\n" not in str(error) and len(str(error)) < 600

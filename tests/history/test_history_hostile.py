@@ -208,3 +208,120 @@ def test_huge_warehouse_moments_keep_a_finite_sd(tmp_path, capsys):
     # pooled: within m2 = 2·7·1e300, between 2·8·(1e308)² → variance ≈ 16e616/15
     assert json.loads(out)["spend"]["sd"] == pytest.approx(math.sqrt(16 / 15) * 1e308,
                                                            rel=1e-12)
+
+
+# -- warehouse results with the reach and window sections -------------------------------------
+
+SECTIONED = ["section,at,day_one,rows,m1_spend_n,m1_spend_mean,m1_spend_var",
+             "all,5,2026-03-01,12,10,2.5,4.0",
+             "reach,1,,3,,,",
+             "reach,2,,2,,,",
+             "reach,4,,1,,,",
+             "window,5,,6,6,3.0,2.0"]
+
+
+def test_a_sectioned_query_result_reads_its_reach_and_window(tmp_path, capsys):
+    path = tmp_path / "result.csv"
+    path.write_text("\r".join(SECTIONED) + "\r", newline="")
+    code, out, err = _history(capsys, "--query-result", path, "--mean", "spend", "--json")
+    assert code == 0 and err == ""
+    result = json.loads(out)
+    assert [day["units"] for day in result["reach"]] == [3, 5, 5, 6, 6]
+    (window,) = result["spend"]["windows"]
+    assert (window["days"], window["units"], window["n"]) == (5, 6, 6)
+    assert window["sd"] == pytest.approx(math.sqrt(2.0), rel=1e-15)
+
+
+@pytest.mark.parametrize("line, row, words", [
+    (1, "all,0,2026-03-01,12,10,2.5,4.0", "column 'at' on line 2 must be a day number"),
+    (1, "all,5,yesterday,12,10,2.5,4.0", "column 'day_one' on line 2 must be a date"),
+    (1, "all,9999,2026-03-01,12,10,2.5,4.0", "is day 9,999; a history spans at most 3,660"),
+    (2, "reach,,,3,,,", "column 'at' on line 3 is empty: some units have no time"),
+    (2, "reach,1.5,,3,,,", "column 'at' on line 3 must be a day number (1, 2, …"),
+    (2, "reach,8,,3,,,", "column 'at' on line 3 is day 8, past the 5 days of the history"),
+    (2, "reach,2,,3,,,", "day 2 appears twice in the reach (line 4)"),
+    (2, "reach,1,,nan,,,", "column 'rows' on line 3 must be a count"),
+    (2, "reach,1,,-3,,,", "column 'rows' on line 3 must be a count"),
+    (2, "reach,1,,30,,,", "the reach counts 33 units, more than the 12 rows of the whole"),
+    (2, "leak,1,,3,,,", "line 3 is of an unknown section 'leak'"),
+    (2, "", "gives the history's length (column 'at') but no reach line"),
+    (2, "reach,1", "line 3 has 2 of the 7 cells the header names"),
+    (5, "window,x,,6,6,3.0,2.0", "column 'at' on line 6 must be a day number"),
+    (5, "window,7,,6,6,3.0,2.0", "is day 7, past the 5 days of the history"),
+    (5, "window,5,,9,6,3.0,2.0", "column 'rows' on line 6 counts 9 values, more than the 6 "
+                                 "units the reach counts"),
+    (5, "window,5,,6,7,3.0,2.0", "column 'm1_spend_n' on line 6 counts 7 values, more than the "
+                                 "6 rows of that line"),
+    (5, "window,5,,6,6,3.0,-2.0", "'m1_spend_var' on line 6 has '-2.0': a variance cannot be"),
+    (5, "window,5,,6,6,inf,2.0", "'m1_spend_mean' on line 6 has 'inf', which is infinite"),
+    (5, "window,5,,6,6,NaN,2.0", "'m1_spend_mean' on line 6 has 'NaN', which is not a number"),
+    (5, "window,5,,6,6,3.0,", "'m1_spend_var' on line 6 is empty, but the line counts values"),
+    (5, "window,5,,6,6.5,3.0,2", "'m1_spend_n' on line 6 must be a count"),
+])
+def test_a_faulty_reach_or_window_line_is_refused_naming_the_cell(tmp_path, capsys, line, row,
+                                                                  words):
+    lines = list(SECTIONED)
+    lines[line] = row
+    if "appears twice" in words:
+        lines.insert(line, SECTIONED[3])
+    if "no reach line" in words:
+        del lines[2:5]
+    path = tmp_path / "result.csv"
+    path.write_text("\n".join(lines) + "\n")
+    err = _refused(capsys, "--query-result", path, "--mean", "spend")
+    assert words in err
+
+
+def test_a_second_window_of_the_same_days_is_refused(tmp_path, capsys):
+    path = tmp_path / "result.csv"
+    path.write_text("\n".join([*SECTIONED, "window,5,,6,6,3.0,2.0"]) + "\n")
+    assert "the 5-day window appears twice (line 7)" in _refused(
+        capsys, "--query-result", path, "--mean", "spend")
+
+
+def test_a_window_whose_figures_cannot_size_a_test_is_a_problem_not_a_refusal():
+    from fourfold.history.warehouse import read_warehouse_result
+
+    lines = [*SECTIONED[:-1], "window,5,,6,1,3.0,NULL"]  # one value: no sd, but no bad cell
+    summary = read_warehouse_result("\n".join(lines), [ColumnMap("mean", "spend")])
+    (window,) = summary.windows
+    assert window.get("spend") is None and "same value" in window.problems["spend"]
+
+
+NAMES = ["section", "at", "day_one", "rows", "m1_spend_n", "m1_spend_mean", "m1_spend_var"]
+GOOD = [("all", 5, "2026-03-01", 12, 10, 2.5, 4.0), ("reach", 1, None, 3, None, None, None),
+        ("reach", 2, None, 2, None, None, None), ("window", 2, None, 4, 4, 3.0, 2.0)]
+
+
+@pytest.mark.parametrize("row, value, words", [
+    (0, ("all", 5, "2026-03-01", None, 10, 2.5, 4.0),
+     "column 'rows' on result row 1 must be a count (a whole number, 0 or more), not empty"),
+    (0, ("all", 5, "2026-03-01", 12, 13, 2.5, 4.0), "counts 13 values, more than the 12 rows"),
+    (0, ("all", 5, "2026-03-01", 12, 10, math.inf, 4.0),
+     "'m1_spend_mean' on result row 1 has 'inf', which is infinite or beyond the largest "
+     "number a double holds (about ±1.8e308) (does the data hold such a value?)"),
+    (0, ("all", 5, "2026-03-01", 12, 10, 2.5, math.nan),
+     "'m1_spend_var' on result row 1 has 'nan', which is not a number (does the data hold"),
+    (0, ("all", 5, "2026-03-01", 12, 10, 2.5, -1e-3), "a variance cannot be negative"),
+    (1, ("reach", None, None, 3, None, None, None), "column 'at' on result row 2 is empty"),
+    (1, ("reach", 6, None, 3, None, None, None), "is day 6, past the 5 days of the history"),
+    (3, ("window", 2, None, 9, 4, 3.0, 2.0), "more than the 5 units the reach counts"),
+    (3, ("window", 2, None, 4, 4, None, 2.0), "'m1_spend_mean' on result row 4 is empty"),
+    (3, ("window", 2, None, 4, True, 3.0, 2.0), None),  # a boolean count is 1: no sd, a problem
+    (3, ("window", 2), "result row 4 has 2 of the 7 cells the header names"),
+])
+def test_fetched_rows_get_the_same_checks_naming_the_result_row(row, value, words):
+    from fourfold.history.errors import HistoryError
+    from fourfold.history.warehouse import read_warehouse_rows
+
+    rows = list(GOOD)
+    rows[row] = value
+    mapping = [ColumnMap("mean", "spend")]
+    if words is None:
+        assert read_warehouse_rows(NAMES, rows, mapping).windows[0].get("spend") is None
+        return
+    with pytest.raises(HistoryError) as caught:
+        read_warehouse_rows(NAMES, rows, mapping, source="warehouse")
+    message = str(caught.value)
+    assert message.startswith("warehouse: ") and "\n" not in message
+    assert words in message

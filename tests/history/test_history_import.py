@@ -164,7 +164,7 @@ def test_the_bundled_sample_reads_with_every_metric_of_the_demo_plan():
         ColumnMap("count", "support_contacts"),
         ColumnMap("mean", "page_load_s", pre="pre_page_load_s"),
     ])
-    assert result.rows == 20_000
+    assert result.rows == 19_814
     assert result["page_load_s"].missing > 0
     # Invented scenario: the generator aims near the demo plan's 3.1 % and 11.4 % (loose).
     assert 0.02 < result["converted"].mean < 0.045

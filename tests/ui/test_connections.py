@@ -31,9 +31,11 @@ def _defaulted(function: ast.FunctionDef) -> list[str]:
 
 
 def _connections(tree: ast.Module):
+    """Calls of ``connect`` with a slot: a database's ``connect(":memory:")`` is not one."""
     for node in ast.walk(tree):
         if (isinstance(node, ast.Call) and isinstance(node.func, ast.Attribute)
-                and node.func.attr == "connect" and node.args):
+                and node.func.attr == "connect" and node.args
+                and not isinstance(node.args[0], ast.Constant)):
             yield node, node.args[0]
 
 

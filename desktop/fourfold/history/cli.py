@@ -1,4 +1,4 @@
-"""``fourfold history``: baselines and variances from a per-unit history file.
+"""``fourfold history``: baselines and variances from a per-unit history file or a warehouse.
 
 Only argparse at import time; the reader is imported when the command runs.
 """
@@ -10,8 +10,9 @@ import argparse
 
 def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("data", nargs="?",
-                        help="per-unit history: CSV (or Parquet with pyarrow installed); with "
-                             "--query-result, the saved result of the --sql query")
+                        help="per-unit history: CSV (or Parquet with pyarrow installed), or a "
+                             "quoted glob of files with --engine duckdb; with --query-result, "
+                             "the saved result of the --sql query")
     parser.add_argument("--mean", action="append", default=[], metavar="COL",
                         help="numeric column: mean and standard deviation")
     parser.add_argument("--proportion", action="append", default=[], metavar="COL",
@@ -27,10 +28,26 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help="pre-period column of a metric, for CUPED's correlation")
     parser.add_argument("--cap", type=float, default=None, metavar="PERCENTILE",
                         help="cap heavy tails at this percentile (e.g. 99.9)")
+    parser.add_argument("--unit", metavar="COL",
+                        help="unit id column: rows are visits or days of units; with --time, "
+                             "adds the reach curve and each unit's first 7/14/21/28 days")
+    parser.add_argument("--time", metavar="COL",
+                        help="date or timestamp column (or whole day numbers), with --unit")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
+    parser.add_argument("--engine", choices=("auto", "stream", "duckdb"), default="auto",
+                        help="who reads a local file: the streaming reader, DuckDB (optional "
+                             "extra 'duckdb'), or the faster of the two for the format (auto)")
     parser.add_argument("--sql", metavar="TABLE",
-                        help="print a standard-SQL query of the same figures for a warehouse "
-                             "table instead of reading a file")
+                        help="print the query of the same figures for a warehouse table "
+                             "instead of reading a file (or run it, with --connect)")
+    parser.add_argument("--dialect", metavar="NAME",
+                        help="with --sql: the warehouse's SQL dialect (ansi, postgres, "
+                             "snowflake, bigquery, spark, databricks, redshift, trino, duckdb, "
+                             "mysql; default ansi)")
+    parser.add_argument("--connect", metavar="URL",
+                        help="with --sql: run the query over this SQLAlchemy URL (optional "
+                             "extra 'warehouse'; the dialect comes from the URL), or env:NAME "
+                             "to take the URL from environment variable NAME")
     parser.add_argument("--group-by", metavar="COL",
                         help="with --sql: one result row per value of COL (e.g. the day)")
     parser.add_argument("--query-result", action="store_true",
@@ -78,28 +95,62 @@ def mapping_from_args(args: argparse.Namespace) -> list:
 
 
 def run(args: argparse.Namespace) -> int:
-    """Read the history file and print the summary (or JSON); errors are FourfoldError."""
+    """Read the history and print the summary (or JSON); errors are FourfoldError."""
     import json
 
     from fourfold.history.errors import HistoryError
-    from fourfold.history.importer import read_history
     from fourfold.history.text import summary_table
-    from fourfold.history.warehouse import read_warehouse_file, warehouse_sql
 
     mapping = mapping_from_args(args)
     if args.sql is not None:
-        print(warehouse_sql(mapping, args.sql, group_by=args.group_by) + ";")
-        return 0
-    if args.group_by is not None:
-        raise HistoryError("--group-by goes with --sql")
-    if args.data is None:
-        raise HistoryError("give a history file (or --sql TABLE to write a warehouse query)")
-    if args.query_result:
-        summary = read_warehouse_file(args.data, mapping)
+        summary = _warehouse(args, mapping)
+        if summary is None:
+            return 0
     else:
-        summary = read_history(args.data, mapping)
+        for option, value in (("--group-by", args.group_by), ("--dialect", args.dialect),
+                              ("--connect", args.connect)):
+            if value is not None:
+                raise HistoryError(f"{option} goes with --sql")
+        if args.data is None:
+            raise HistoryError("give a history file (or --sql TABLE to write a warehouse "
+                               "query)")
+        if args.query_result:
+            from fourfold.history.warehouse import read_warehouse_file
+
+            summary = read_warehouse_file(args.data, mapping)
+        else:
+            from fourfold.history.sources import summarise
+
+            summary = summarise(args.data, mapping, engine=args.engine, unit=args.unit,
+                                time=args.time)
     if args.json:
         print(json.dumps(summary.to_dict(), indent=2, ensure_ascii=False))
     else:
         print(summary_table(summary))
     return 0
+
+
+def _warehouse(args: argparse.Namespace, mapping):
+    """Print the query for ``--sql`` (None), or run it with ``--connect`` (the summary)."""
+    import os
+
+    from fourfold.history.errors import HistoryError
+
+    options = {"group_by": args.group_by, "unit": args.unit, "time": args.time}
+    if args.data is not None:
+        raise HistoryError("--sql writes a query for a warehouse table; leave out the file")
+    if args.connect is None:
+        from fourfold.history.warehouse import warehouse_sql
+
+        print(warehouse_sql(mapping, args.sql, dialect=args.dialect, **options) + ";")
+        return None
+    if args.dialect is not None:
+        raise HistoryError("--dialect comes from the --connect URL; leave it out")
+    url = args.connect
+    if url.startswith("env:"):
+        url = os.environ.get(url[4:], "")
+        if not url:
+            raise HistoryError(f"environment variable {args.connect[4:]!r} holds no URL")
+    from fourfold.history.connect import query_warehouse
+
+    return query_warehouse(url, mapping, args.sql, **options)

@@ -18,7 +18,7 @@ from fourfold.history.errors import HistoryError
 from fourfold.history.reader import iter_chunks, numbers, read_columns
 from fourfold.history.summary import ColumnMap
 
-SAMPLE_ROWS = 2000
+SAMPLE_ROWS = 20_000
 
 
 def _kind(values: np.ndarray) -> str:
@@ -100,3 +100,49 @@ def guess_mapping(path: str | os.PathLike) -> tuple[list[str], list[ColumnMap]]:
             continue
         mapping.append(ColumnMap(kind, column, pre=pre.get(column)))
     return header, mapping
+
+
+_ID_WORDS = ("visitor", "user", "unit", "customer", "client", "account", "member", "device",
+             "id")
+
+
+def guess_units(path: str | os.PathLike, mapping: list[ColumnMap]) -> tuple[str | None,
+                                                                             str | None]:
+    """A unit column and a time column for the reach curve and windows, or (None, None).
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> text = "visitor,time,spend\\nu1,2026-03-01 08:00:00,1.5\\nu2,2026-03-02 09:00:00,0\\n"
+    >>> _ = (folder / "h.csv").write_text(text)
+    >>> guess_units(folder / "h.csv", [ColumnMap("mean", "spend")])
+    ('visitor', 'time')
+    """
+    from fourfold.history.days import DATES, DayReader
+
+    path = Path(path)
+    header = list(dict.fromkeys(read_columns(path)))
+    chunk = next(iter_chunks(path, header, SAMPLE_ROWS), None)
+    if chunk is None or chunk.rows == 0:
+        return None, None
+    used = {column for spec in mapping for column in spec.columns}
+    time = None
+    for column in header:
+        if column in used:
+            continue
+        reader = DayReader(column)
+        try:
+            reader(chunk.columns[column], str)
+        except HistoryError:
+            continue
+        if reader.form == DATES:
+            time = column
+            break
+    if time is None:
+        return None, None
+    candidates = [c for c in header if c not in used and c != time
+                  and chunk.columns[c].dtype.kind not in "fb"]
+    named = [c for c in candidates if any(word in c.lower() for word in _ID_WORDS)]
+    unit = (named or candidates or [None])[0]
+    return (unit, time) if unit is not None else (None, None)

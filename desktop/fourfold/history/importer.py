@@ -29,6 +29,7 @@ from fourfold.history.summary import (
     finish,
 )
 from fourfold.history.tail import TailSketch
+from fourfold.history.traffic import DEFAULT_UNIT_MEMORY, TrafficPass
 
 DEFAULT_CHUNK_ROWS = 200_000
 
@@ -44,6 +45,9 @@ def read_history(
     progress: Progress | None = None,
     cancel: Callable[[], bool] | None = None,
     tail_capacity: int = 1 << 20,
+    unit: str | None = None,
+    time: str | None = None,
+    unit_memory: int = DEFAULT_UNIT_MEMORY,
 ) -> HistorySummary:
     """Baselines and per-unit variances of the mapped metrics of a history file.
 
@@ -63,6 +67,15 @@ def read_history(
     tail_capacity : int
         How many of the largest values of a capped column are kept exactly (see
         :mod:`fourfold.history.tail`).
+    unit, time : str, optional
+        A unit id column and a time column (both or neither): rows are then visits or days
+        of units, and the summary also carries the reach curve and the metrics over each
+        unit's first 7, 14, 21, 28 days and the history's length (see
+        :mod:`fourfold.history.exposure`). A second pass is made when the rows are not in
+        time order.
+    unit_memory : int
+        Bytes of per-unit arrays before the reach is estimated and the windows sampled (see
+        :mod:`fourfold.history.traffic`).
 
     Returns
     -------
@@ -95,9 +108,12 @@ def read_history(
     path = Path(path)
     mapping = list(mapping)
     header = read_columns(path)
-    check_mapping(mapping, header, path.name)
+    check_mapping(mapping, header, path.name, unit=unit, time=time)
     columns = list(dict.fromkeys(c for spec in mapping for c in spec.columns))
     capped = list(dict.fromkeys(c for spec in mapping for c in spec.capped_columns))
+    traffic = TrafficPass(mapping, unit, time, unit_memory) if unit is not None else None
+    if traffic is not None:
+        columns = list(dict.fromkeys([*columns, *traffic.columns]))
     levels = {spec.name: spec for spec in mapping if spec.kind == "quantile"}
     passes = 2 if capped or levels else 1
     counter = _Counter(progress, passes)
@@ -127,11 +143,32 @@ def read_history(
         for i, spec in enumerate(mapping):
             tallies[i] = tallies[i].merge(_tally(spec, chunk, path, cache, thresholds,
                                                  quantiles))
+        if traffic is not None:
+            traffic.add(chunk, _values(chunk, path, cache), _where(path, chunk))
     metrics = tuple(
         finish(spec, tally, thresholds=thresholds, quantiles=quantiles)
         for spec, tally in zip(mapping, tallies, strict=True)
     )
-    return HistorySummary(str(path), tallies[0].rows if tallies else 0, metrics)
+    rows = tallies[0].rows if tallies else 0
+    if traffic is None:
+        return HistorySummary(str(path), rows, metrics)
+    if traffic.second_pass:
+        counter.passes += 1
+        traffic.restart()
+        for chunk in _chunks(path, columns, chunk_rows, cancel, counter, passes):
+            traffic.add_again(chunk, _values(chunk, path, {}), _where(path, chunk))
+    reach, windows = traffic.result()
+    return HistorySummary(str(path), rows, metrics, reach, windows)
+
+
+def _values(chunk, path, cache):
+    """``value(column, kind)``: a chunk's column as numbers (parsed once per chunk)."""
+    return lambda column, kind: _column(chunk, column, kind, path, cache)
+
+
+def _where(path, chunk):
+    """``where(i)``: the line (CSV) or row (Parquet) of the chunk's row ``i``."""
+    return lambda i: location(path, chunk.start + i)
 
 
 class _Counter:

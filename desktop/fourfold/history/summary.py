@@ -303,13 +303,24 @@ class MetricSummary:
         return out
 
 
+RESERVED_KEYS = ("reach", "traffic")
+"""Keys of the JSON output that are not metric names (with a unit and a time column)."""
+
+
 @dataclass(frozen=True)
 class HistorySummary:
-    """The result of one import: the source, its row count and one summary per metric."""
+    """The result of one import: the source, its row count and one summary per metric.
+
+    With a unit and a time column, ``reach`` is the reach curve
+    (:class:`~fourfold.history.exposure.ReachCurve`) and ``windows`` the metrics over each
+    unit's first days (:class:`~fourfold.history.exposure.WindowSummary`, shortest first).
+    """
 
     source: str
     rows: int
     metrics: tuple[MetricSummary, ...] = field(default_factory=tuple)
+    reach: object | None = None
+    windows: tuple = ()
 
     def __getitem__(self, name: str) -> MetricSummary:
         for metric in self.metrics:
@@ -317,17 +328,56 @@ class HistorySummary:
                 return metric
         raise KeyError(name)
 
-    def to_dict(self) -> dict[str, dict[str, object]]:
-        """One JSON object keyed by metric name."""
-        return {metric.name: metric.to_dict() for metric in self.metrics}
+    def window(self, name: str, days: int) -> MetricSummary | None:
+        """Metric ``name`` over each unit's first ``days`` days (None: no usable figures);
+        KeyError when there is no such window."""
+        for window in self.windows:
+            if window.days == days:
+                return window.get(name)
+        raise KeyError(days)
+
+    def to_dict(self) -> dict[str, object]:
+        """One JSON object keyed by metric name; with a reach curve, also ``"reach"`` (the
+        cumulative units by day) and ``"traffic"`` (how it was counted), and each metric's
+        ``"windows"``."""
+        out: dict[str, object] = {metric.name: metric.to_dict() for metric in self.metrics}
+        if self.reach is None:
+            return out
+        for metric in self.metrics:
+            out[metric.name]["windows"] = [_window_dict(w, metric.name) for w in self.windows]
+        reach = self.reach
+        out["reach"] = reach.to_list()
+        out["traffic"] = {
+            "first_day": reach.start,
+            "days": reach.days,
+            "units": reach.units[-1] if reach.units else 0,
+            "reach_exact": reach.exact,
+            "reach_relative_error": reach.relative_error,
+            "window_share": self.windows[0].share if self.windows else 1.0,
+        }
+        return out
+
+
+def _window_dict(window, name: str) -> dict[str, object]:
+    metric = window.get(name)
+    out: dict[str, object] = {"days": window.days, "units": window.units}
+    if metric is None:
+        out["problem"] = window.problems.get(name, "no figures")
+        return out
+    out.update(metric.to_dict())
+    for key in ("kind", "plan_kind"):
+        out.pop(key, None)
+    return out
 
 
 def _plain(value: float) -> float | None:
     return float(value) if math.isfinite(value) else None
 
 
-def check_mapping(mapping: list[ColumnMap], header: list[str], source: str) -> None:
-    """Check that every mapped column is in the file and no metric is mapped twice."""
+def check_mapping(mapping: list[ColumnMap], header: list[str], source: str, *,
+                  unit: str | None = None, time: str | None = None) -> None:
+    """Check that every mapped column (and the unit and time columns) is in the file and no
+    metric is mapped twice."""
     if not mapping:
         raise HistoryError(
             f"{source}: map at least one column to a metric; the file's columns are "
@@ -337,6 +387,18 @@ def check_mapping(mapping: list[ColumnMap], header: list[str], source: str) -> N
     for name in names:
         if names.count(name) > 1:
             raise HistoryError(f"column {name!r} is mapped to more than one metric")
+    for column in (unit, time):
+        if column is not None and column not in header:
+            raise HistoryError(
+                f"{source}: no column {column!r}; the file's columns are {_listing(header)}"
+            )
+    if (unit is None) != (time is None):
+        raise HistoryError("reach and windows need both a unit column and a time column")
+    if unit is not None:
+        clash = [name for name in names if name in RESERVED_KEYS]
+        if clash:
+            raise HistoryError(f"a metric called {clash[0]!r} cannot go with a unit and a "
+                               "time column (the output uses that name for the reach curve)")
     known = set(header)
     for spec in mapping:
         for column in spec.columns:

@@ -53,8 +53,20 @@ def summary_table(summary: HistorySummary) -> str:
          number(m.sd), number(m.rho, 3))
         for m in summary.metrics
     ]
+    lines = [f"{Path(summary.source).name}: {summary.rows:,} rows"]
+    table = _aligned(header, rows, right={3, 4})
+    lines.append(table[0])
+    for metric, row in zip(summary.metrics, table[1:], strict=True):
+        lines.append(row)
+        if metric.cap is not None:
+            lines.append(f"  {metric.name}: {cap_line(metric)}")
+    if summary.reach is not None:
+        lines += ["", *traffic_lines(summary)]
+    return "\n".join(lines)
+
+
+def _aligned(header, rows, right) -> list[str]:
     widths = [max(len(str(r[i])) for r in [header, *rows]) for i in range(len(header))]
-    right = {3, 4}
 
     def line(cells) -> str:
         parts = [
@@ -63,9 +75,37 @@ def summary_table(summary: HistorySummary) -> str:
         ]
         return "  ".join(parts).rstrip()
 
-    lines = [f"{Path(summary.source).name}: {summary.rows:,} rows", line(header)]
-    for metric, row in zip(summary.metrics, rows, strict=True):
-        lines.append(line(row))
-        if metric.cap is not None:
-            lines.append(f"  {metric.name}: {cap_line(metric)}")
-    return "\n".join(lines)
+    return [line(header), *(line(row) for row in rows)]
+
+
+def reach_line(summary: HistorySummary) -> str:
+    """The reach curve in one line: units after a week, two, … and the whole history."""
+    reach = summary.reach
+    how = "exact" if reach.exact else (
+        f"HyperLogLog estimate, ±{100 * reach.relative_error:.2g} % (one standard error)")
+    marks = sorted({d for d in (1, 7, 14, 21, 28) if d <= reach.days} | {reach.days})
+    points = " · ".join(f"day {d}: {reach.units[d - 1]:,}" for d in marks)
+    return f"Reach from {reach.start} ({how}): {points}"
+
+
+def traffic_lines(summary: HistorySummary) -> list[str]:
+    """The reach curve and the windowed metrics as text (after the whole-history table)."""
+    lines = [reach_line(summary)]
+    share = summary.windows[0].share if summary.windows else 1.0
+    sample = "" if share == 1.0 else f"; from a hashed sample of 1 in {round(1 / share):,} units"
+    lines.append("each unit's first d days (units whose whole window is in the history"
+                 f"{sample}):")
+    header = ("metric", "days", "units", "n", "missing", "mean", "sd", "ρ")
+    rows, problems = [], {}
+    for metric in summary.metrics:
+        for window in summary.windows:
+            m = window.get(metric.name)
+            if m is None:
+                why = window.problems.get(metric.name, "no figures")
+                problems.setdefault((metric.name, why), []).append(str(window.days))
+                continue
+            rows.append((metric.name, window.days, f"{window.units:,}", f"{m.n:,}",
+                         f"{m.missing:,}", number(m.mean), number(m.sd), number(m.rho, 3)))
+    lines += _aligned(header, rows, right={1, 2, 3, 4})
+    return lines + [f"  {name}, {', '.join(days)} days: {why}"
+                    for (name, why), days in problems.items()]

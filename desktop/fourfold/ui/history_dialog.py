@@ -1,12 +1,15 @@
-"""Plan → Import history…: baselines and variances from a per-unit history file.
+"""Plan → Import history…: baselines and variances from a history file or a warehouse.
 
-The dialog maps file columns to metrics (kind, ratio denominator, pre-period column, cap),
-reads the file on a worker thread with a progress bar, a rows-per-second figure and Cancel,
-shows what it found per metric, and applies it to new or existing metric rows as one undoable
-command. All the reading and statistics are :func:`fourfold.history.read_history`'s; this
-module only collects choices and shows results. Cancel or a bad file leaves the plan as it was.
+The dialog maps columns to metrics (kind, ratio denominator, pre-period column, cap), and
+optionally a unit and a time column; it reads the file (streaming reader or DuckDB) or runs the
+query in a warehouse on a worker thread with a progress bar and Cancel, shows what it found per
+metric — over the whole history or over each unit's first days, with the reach curve — and
+applies it to new or existing metric rows as one undoable command. All the reading and
+statistics are :mod:`fourfold.history`'s; this module only collects choices and shows results.
+Cancel or a bad file leaves the plan as it was.
 
-The mapping table (:mod:`fourfold.ui.history_mapping`), the warehouse page
+The mapping table (:mod:`fourfold.ui.history_mapping`), the unit and time columns with the
+windows (:mod:`fourfold.ui.history_traffic`), the warehouse page
 (:mod:`fourfold.ui.history_warehouse`), the results and the command that applies them
 (:mod:`fourfold.ui.history_results`) and the worker thread (:mod:`fourfold.ui.history_worker`)
 each have a module of their own.
@@ -20,6 +23,7 @@ import time
 from PySide6.QtCore import Qt, QThread, Slot
 from PySide6.QtWidgets import (
     QAbstractItemView,
+    QComboBox,
     QDialog,
     QFileDialog,
     QFrame,
@@ -37,16 +41,18 @@ from PySide6.QtWidgets import (
 
 from fourfold.errors import FourfoldError
 from fourfold.history import HistorySummary
-from fourfold.history.guess import guess_mapping
+from fourfold.history.guess import guess_mapping, guess_units
 from fourfold.ui.history_mapping import MAP_COLUMNS, HistoryMapping
 from fourfold.ui.history_results import RESULT_COLUMNS, HistoryResults
+from fourfold.ui.history_traffic import HistoryTraffic
 from fourfold.ui.history_warehouse import HistoryWarehouse
-from fourfold.ui.history_worker import HistoryWorker, rate_text
+from fourfold.ui.history_worker import FileJob, HistoryWorker, rate_text
 
 FILE_FILTER = "History files (*.csv *.parquet *.pq);;CSV (*.csv);;All files (*)"
+ENGINES = {"automatic": "auto", "streaming reader": "stream", "DuckDB": "duckdb"}
 
 
-class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
+class HistoryDialog(HistoryMapping, HistoryTraffic, HistoryWarehouse, HistoryResults, QDialog):
     """Import baselines and variances from history into the plan.
 
     Parameters
@@ -62,11 +68,12 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
         self.document = document
         self.setWindowTitle("Import history")
         self.setObjectName("historyDialog")
-        self.resize(1000, 780)
+        self.resize(1040, 860)
         self.columns: list[str] = []
         self.summary: HistorySummary | None = None
         self._thread: QThread | None = None
         self._worker: HistoryWorker | None = None
+        self._job = None
         self._stop = threading.Event()
         self._started = 0.0
         self._build()
@@ -80,9 +87,10 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
     def _build(self) -> None:
         layout = QVBoxLayout(self)
         intro = QLabel(
-            "Fill in baselines, standard deviations and the pre-period correlation ρ from one "
-            "row per unit of a pre-period: read a file (CSV, or Parquet with pyarrow), or run "
-            "the query written here in your warehouse and paste its result."
+            "Fill in baselines, standard deviations and the pre-period correlation ρ from a "
+            "pre-period: read a file (CSV, or Parquet with pyarrow), or run the query written "
+            "here in your warehouse. With a unit and a time column, rows are visits of units: "
+            "the reach curve and each unit's first days come too."
         )
         intro.setWordWrap(True)
         layout.addWidget(intro)
@@ -98,6 +106,7 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
         for page in self.source_pages:
             page.setObjectName("historySource")
             layout.addWidget(page)
+        layout.addWidget(self._units_row())
 
         layout.addWidget(QLabel("Columns to read (one line per metric):"))
         self.map_table = QTableWidget(0, len(MAP_COLUMNS))
@@ -134,7 +143,11 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
         progress_row.addWidget(self.cancel_button)
         layout.addLayout(progress_row)
 
-        layout.addWidget(QLabel("What the history says (check before applying):"))
+        layout.addWidget(self._results_header())
+        self.reach_label = QLabel("")
+        self.reach_label.setWordWrap(True)
+        self.reach_label.setVisible(False)
+        layout.addWidget(self.reach_label)
         self.result_table = QTableWidget(0, len(RESULT_COLUMNS))
         self.result_table.setHorizontalHeaderLabels(RESULT_COLUMNS)
         header = self.result_table.horizontalHeader()
@@ -171,14 +184,20 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
         self.choose_button = QPushButton("Choose…")
         self.choose_button.clicked.connect(self.choose_file)
         row.addWidget(self.choose_button)
+        row.addWidget(QLabel("Read with:"))
+        self.engine_box = QComboBox()
+        self.engine_box.addItems(list(ENGINES))
+        self.engine_box.setToolTip("DuckDB (optional extra 'duckdb') runs the same query over "
+                                   "the file; automatic takes it for a Parquet file's "
+                                   "figures, and the streaming reader, which checks every "
+                                   "line, otherwise")
+        row.addWidget(self.engine_box)
         row.setContentsMargins(6, 6, 6, 6)
         return tab
 
     def _source_changed(self, index: int) -> None:
         for page_index, page in enumerate(self.source_pages):
             page.setVisible(page_index == index)
-        for widget in (self.progress, self.speed_label, self.cancel_button):
-            widget.setVisible(index == 0)
         self._update_buttons()
 
     # -- file --------------------------------------------------------------------------
@@ -195,14 +214,21 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
         except FourfoldError as error:
             self.show_status(str(error), error=True)
             return False
+        try:
+            unit, time = guess_units(path, mapping)
+        except FourfoldError:
+            unit = time = None
         self.path_edit.setText(str(path))
         self.columns = columns
+        self._fill_unit_choices(columns, unit, time)
         self.map_table.setRowCount(0)
         for spec in mapping:
             self.add_mapping_row(spec)
         self._clear_results()
-        self.show_status(f"{len(columns)} columns; {len(mapping)} mapped as a first guess. "
-                         "Set a ratio's denominator, pre-period columns and caps as needed.")
+        found = f" Rows are visits of {unit!r} over {time!r}." if unit else ""
+        self.show_status(f"{len(columns)} columns; {len(mapping)} mapped as a first guess."
+                         f"{found} Set a ratio's denominator, pre-period columns and caps as "
+                         "needed.")
         self._update_buttons()
         return True
 
@@ -220,24 +246,34 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
             self.start_reading()
 
     def start_reading(self) -> None:
-        if self.reading:
-            return
+        """Read the chosen file on the worker thread."""
         try:
             mapping = self.mapping()
+            unit, time_column = self.units()
         except FourfoldError as error:
             self.show_status(str(error), error=True)
             return
         if not mapping:
             self.show_status("Map at least one column to a metric.", error=True)
             return
+        engine = ENGINES[self.engine_box.currentText()]
+        job = FileJob(self.path_edit.text(), mapping, engine=engine, unit=unit,
+                      time=time_column)
+        self.start_job(job, "Reading the history file…")
+
+    def start_job(self, job, message: str) -> None:
+        """Run a reading job (file or warehouse) on the worker thread."""
+        if self.reading:
+            return
         self._clear_results()
         self._stop.clear()
         self._started = time.monotonic()
         self.progress.setValue(0)
         self.speed_label.setText("starting…")
-        self.show_status("Reading the history file…")
+        self.show_status(message)
         thread = QThread(self)
-        worker = HistoryWorker(self.path_edit.text(), mapping, self._stop)
+        worker = HistoryWorker(job, self._stop)
+        self._job = job
         worker.moveToThread(thread)
         thread.started.connect(worker.run)
         worker.progress.connect(self._on_progress)
@@ -253,9 +289,11 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
         thread.start()
 
     def cancel_reading(self) -> None:
-        """Stop the import after the chunk being read; nothing is applied."""
+        """Stop the import (after the chunk being read, or the query); nothing is applied."""
         if self.reading:
             self._stop.set()
+            if self._job is not None:
+                self._job.cancel()
             self.show_status("Cancelling…")
 
     def wait(self, timeout_ms: int = 30_000) -> bool:
@@ -268,7 +306,10 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
     def _on_progress(self, fraction: float, rows: int) -> None:
         self.progress.setValue(int(round(1000 * min(max(fraction, 0.0), 1.0))))
         elapsed = max(time.monotonic() - self._started, 1e-6)
-        self.speed_label.setText(f"{rows:,} rows read · {rate_text(rows, elapsed)}")
+        if rows:
+            self.speed_label.setText(f"{rows:,} rows read · {rate_text(rows, elapsed)}")
+        else:
+            self.speed_label.setText(f"{100 * fraction:.0f} % · {elapsed:.1f} s")
 
     @Slot(object)
     def _on_finished(self, summary: HistorySummary) -> None:
@@ -276,6 +317,7 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
         self.progress.setValue(1000)
         elapsed = max(time.monotonic() - self._started, 1e-6)
         self.speed_label.setText(f"{summary.rows:,} rows in {elapsed:.2f} s")
+        self._fill_windows(summary)
         self._fill_results(summary)
         self.show_status(f"Read {summary.rows:,} rows. Choose a plan row for each metric "
                          "(or a new row) and apply; one Undo takes it back.")
@@ -298,7 +340,8 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
             self._thread.deleteLater()
         if self._worker is not None:
             self._worker.deleteLater()
-        self._thread = self._worker = None
+        self._thread = self._worker = self._job = None
+        self.progress.setRange(0, 1000)
         self._update_buttons()
 
     # -- state ---------------------------------------------------------------------------
@@ -314,12 +357,14 @@ class HistoryDialog(HistoryMapping, HistoryWarehouse, HistoryResults, QDialog):
         ready = bool(self.result_edit.toPlainText().strip()) if warehouse else bool(
             self.path_edit.text())
         for widget in (self.source_tabs, *self.source_pages, self.add_button, self.remove_button,
-                       self.map_table):
+                       self.map_table, self.unit_box, self.time_box):
             widget.setEnabled(not busy)
         self.read_button.setText("Read query result" if warehouse else "Read history file")
         self.read_button.setEnabled(not busy and ready and self.map_table.rowCount() > 0)
         self.cancel_button.setEnabled(busy)
         self.apply_button.setEnabled(not busy and self.summary is not None)
+        self.run_button.setEnabled(not busy and bool(self.url_edit.text().strip())
+                                   and self.map_table.rowCount() > 0)
 
     def done(self, result: int) -> None:
         """Close (also Esc): a running import is stopped first; the plan is left as it was."""

@@ -17,6 +17,7 @@ from fourfold.history.text import number
 from fourfold.plan import Metric
 from fourfold.plan.commands import InsertMetrics, SetFields
 from fourfold.ui.history_mapping import combo
+from fourfold.ui.history_traffic import WHOLE
 
 NEW_ROW = "new row"
 RESULT_COLUMNS = ("Metric", "n", "Missing", "Mean", "sd", "ρ", "Cap value", "Capped",
@@ -33,36 +34,52 @@ class HistoryResults:
     def _clear_results(self) -> None:
         self.summary = None
         self.result_table.setRowCount(0)
+        self.window_box.clear()
+        self.window_box.addItem(WHOLE)
+        self.window_box.setEnabled(False)
+        self.reach_label.setVisible(False)
         self._update_buttons()
 
-    def _fill_results(self, summary: HistorySummary) -> None:
+    def _fill_results(self, summary: HistorySummary, keep_targets: bool = False) -> None:
         names = [metric.name for metric in self.document.plan.metrics]
-        self.result_table.setRowCount(len(summary.metrics))
-        for row, metric in enumerate(summary.metrics):
-            cap = metric.cap
-            cells = [
-                f"{display_name(metric.name)} ({metric.kind})",
-                f"{metric.n:,}",
-                f"{metric.missing:,}",
-                number(metric.mean),
-                "–" if metric.kind == "proportion" else number(metric.sd),
-                number(metric.rho, 3),
-                "–" if cap is None else number(cap.threshold) + ("" if cap.exact else " ≈"),
-                "–" if cap is None else f"{cap.capped:,}",
-                "–" if cap is None else number(cap.variance_ratio(metric.sd), 3),
-            ]
+        targets = self.targets() if keep_targets else []
+        shown = self.shown()
+        self.result_table.setRowCount(0)  # drops the old rows' plan-row boxes
+        self.result_table.setRowCount(len(shown))
+        for row, (name, metric, why) in enumerate(shown):
+            kind = summary[name].kind
+            if metric is None:
+                cells = [f"{display_name(name)} ({kind})", "–", "–", "–", "–", "–", "–", "–",
+                         "–"]
+            else:
+                cap = metric.cap
+                cells = [
+                    f"{display_name(name)} ({kind})",
+                    f"{metric.n:,}",
+                    f"{metric.missing:,}",
+                    number(metric.mean),
+                    "–" if metric.kind == "proportion" else number(metric.sd),
+                    number(metric.rho, 3),
+                    "–" if cap is None else number(cap.threshold) + ("" if cap.exact else " ≈"),
+                    "–" if cap is None else f"{cap.capped:,}",
+                    "–" if cap is None else number(cap.variance_ratio(metric.sd), 3),
+                ]
             for column, text in enumerate(cells):
                 item = QTableWidgetItem(text)
                 if column:
                     item.setTextAlignment(Qt.AlignmentFlag.AlignRight
                                           | Qt.AlignmentFlag.AlignVCenter)
-                if cap is not None and column >= 6:
+                if metric is None:
+                    item.setToolTip(why)
+                elif metric.cap is not None and column >= 6:
                     item.setToolTip(
-                        f"sd {number(cap.sd_uncapped)} → {number(metric.sd)}; mean "
-                        f"{number(cap.mean_uncapped)} → {number(metric.mean)}"
+                        f"sd {number(metric.cap.sd_uncapped)} → {number(metric.sd)}; mean "
+                        f"{number(metric.cap.mean_uncapped)} → {number(metric.mean)}"
                     )
                 self.result_table.setItem(row, column, item)
             target = combo([NEW_ROW, *names])
+            if row < len(targets) and targets[row] is not None:
+                target.setCurrentIndex(targets[row] + 1)
             target.currentTextChanged.connect(self._update_buttons)
             self.result_table.setCellWidget(row, len(RESULT_COLUMNS) - 1, target)
         self._update_buttons()
@@ -82,19 +99,28 @@ class HistoryResults:
         box.setCurrentIndex(0 if plan_row is None else plan_row + 1)
 
     def command(self):
-        """The one command that applies the results; HistoryError when targets are mixed."""
+        """The one command that applies the shown figures; HistoryError when targets are
+        mixed or a metric has no figures for the chosen window."""
         if self.summary is None:
             raise HistoryError("read the history file first")
         targets = self.targets()
         source = Path(self.summary.source).name
+        chosen = self.window()
+        where = "" if chosen is None else f", over each unit's first {chosen.days} days"
+        metrics = []
+        for name, metric, why in self.shown():
+            if metric is None:
+                raise HistoryError(f"{display_name(name)} has no figures for "
+                                   f"{self.window_box.currentText()}: {why}")
+            metrics.append(metric)
         if all(target is None for target in targets):
-            metrics = []
-            for metric in self.summary.metrics:
+            rows = []
+            for metric in metrics:
                 fields = metric.plan_fields()
-                metrics.append(Metric(name=display_name(metric.name)[:200],
-                                      notes=f"{metric.describe()} ({source})", **fields))
-            command = InsertMetrics(len(self.document.plan.metrics), metrics)
-            command.text = f"Import history into {len(metrics)} new rows"
+                notes = f"{metric.describe()[:-1]}{where}. ({source})"
+                rows.append(Metric(name=display_name(metric.name)[:200], notes=notes, **fields))
+            command = InsertMetrics(len(self.document.plan.metrics), rows)
+            command.text = f"Import history into {len(rows)} new rows"
             return command
         if any(target is None for target in targets):
             raise HistoryError(
@@ -105,7 +131,7 @@ class HistoryResults:
             raise HistoryError("two metrics are sent to the same plan row")
         edits = [
             (target, field, value)
-            for metric, target in zip(self.summary.metrics, targets, strict=True)
+            for metric, target in zip(metrics, targets, strict=True)
             for field, value in metric.plan_fields().items()
         ]
         return SetFields(edits, text=f"Import history into {len(targets)} rows")
