@@ -55,7 +55,7 @@ from fourfold.plan.commands import (
 )
 from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS, PlanError, validate_field
 from fourfold.plan.model import Plan, Scenario
-from fourfold.plan.settings_commands import SetSettings, checked_settings
+from fourfold.plan.settings_commands import SetSettings, WithSettings, checked_settings
 
 _MISSING = object()
 
@@ -391,7 +391,12 @@ def _prune(scenario: Scenario) -> None:
 
 def routed(plan: Plan, command: Command) -> Command:
     """``command`` as the stack runs it: wrapped in :class:`InScenario` while a scenario is
-    active (scenario commands run as they are)."""
+    active (scenario commands run as they are; both parts of a :class:`WithSettings`
+    wrapped)."""
     if plan.active is None or isinstance(command, ScenarioCommand):
         return command
+    if isinstance(command, WithSettings):
+        return WithSettings(InScenario(command.rows, plan.active),
+                            InScenario(command.settings, plan.active),
+                            f"{command.text} in {plan.active}")
     return InScenario(command, plan.active)

@@ -4,6 +4,8 @@
 (:func:`fourfold.plan.fields.validate_field`) and checked against the rows' rules
 (:func:`fourfold.plan.rules.check_setting`) before the plan is touched. While a scenario is
 active, :class:`fourfold.plan.scenario_commands.InScenario` stores the values as its changes.
+:class:`WithSettings` makes an edit of rows and a :class:`SetSettings` one undo step (a
+history import that brings its reach curve as the plan's traffic).
 
 Examples
 --------
@@ -20,6 +22,7 @@ Examples
 
 from __future__ import annotations
 
+import dataclasses
 from typing import Any
 
 from fourfold.plan.commands import Change, Command
@@ -59,3 +62,41 @@ class SetSettings(Command):
         for field, value in self._old.items():
             setattr(plan.settings, field, value)
         return Change("settings", fields=tuple(self._old))
+
+
+class WithSettings(Command):
+    """An edit of rows (``rows``) and settings (``settings``, a :class:`SetSettings`) as one
+    undo step: both are applied or neither.
+
+    The :class:`Change` is the rows' with the settings fields in ``settings``. While a scenario
+    is active each part is stored as its change (:func:`fourfold.plan.scenario_commands.routed`).
+
+    Examples
+    --------
+    >>> from fourfold.plan.commands import CommandStack, SetField
+    >>> from fourfold.plan.model import Plan
+    >>> stack = CommandStack(Plan.empty())
+    >>> stack.do(WithSettings(SetField(0, "baseline", 0.2), SetSettings({"burn_in": 2}),
+    ...                       "Import history"))
+    >>> stack.plan.metrics[0].baseline, stack.plan.settings.burn_in
+    (0.2, 2)
+    >>> stack.undo()
+    >>> stack.plan.metrics[0].baseline, stack.plan.settings.burn_in
+    (0.1, 0)
+    """
+
+    def __init__(self, rows: Command, settings: Command, text: str) -> None:
+        self.rows, self.settings, self.text = rows, settings, text
+
+    def apply(self, plan: Plan) -> Change:
+        change = self.rows.apply(plan)
+        try:
+            settings = self.settings.apply(plan)
+        except PlanError:
+            self.rows.revert(plan)
+            raise
+        return dataclasses.replace(change, settings=settings.fields)
+
+    def revert(self, plan: Plan) -> Change:
+        settings = self.settings.revert(plan)
+        return dataclasses.replace(self.rows.revert(plan), settings=settings.fields)
