@@ -1,12 +1,16 @@
 """Reach curves and history windows from files: a history import's JSON, or a typed table.
 
-``fourfold history DATA --unit COL --time COL … --json`` writes the reach curve as
+``fourfold history DATA --unit COL --time COL … --json`` (a file, DuckDB or a warehouse's
+``--query-result``; :meth:`fourfold.history.HistorySummary.to_dict`) writes the reach curve as
 ``"reach": [{"day": 1, "units": N1}, …]`` beside each metric's figures over each unit's first
-days (``"windows": [{"days": 7, "units": …, "mean": …, "sd": …, "rho": …}, …]``);
-:func:`read_reach` takes the curve from such a file, or from a table of two columns — day and
-distinct units — as a spreadsheet writes it (comma, semicolon or tab separated, an optional
-header); :func:`history_windows` turns a metric's windows into a row's
-:attr:`fourfold.plan.Metric.windows`. No Qt.
+days (``"windows": [{"days": 7, "units": …, "n": …, "mean": …, "sd": …, "rho": …}, …]``, a
+ratio's inputs too; a window without figures has a ``"problem"`` instead).
+:func:`read_reach` takes the curve from such a file (:func:`history_reach` from the parsed
+object), or from a table of two columns — day and distinct units — as a spreadsheet writes it
+(comma, semicolon or tab separated, an optional header); :func:`history_windows` turns a
+metric's windows into a row's :attr:`fourfold.plan.Metric.windows`. The traffic dialog's
+*Load file…* and the history import dialog (which reads the same object from its result) go
+through these functions, so the JSON is the one format between history and plan. No Qt.
 
 Examples
 --------
@@ -57,18 +61,7 @@ def parse_reach(text: str, source: str) -> tuple[tuple[float, float], ...]:
         except json.JSONDecodeError as error:
             raise PlanError(f"{source}: not valid JSON ({error.msg}, line {error.lineno})",
                             "reach") from None
-        reach = data.get("reach") if isinstance(data, dict) else None
-        if not isinstance(reach, list) or not reach:
-            raise PlanError(f"{source}: no reach curve in it (a history import with unit and "
-                            "time columns writes one: fourfold history DATA --unit COL --time "
-                            "COL … --json)", "reach")
-        pairs = []
-        for place, point in enumerate(reach):
-            if not isinstance(point, dict) or "day" not in point or "units" not in point:
-                raise PlanError(f"{source}: reach[{place}] must hold a day and its units",
-                                "reach")
-            pairs.append([point["day"], point["units"]])
-        return _checked(pairs, source)
+        return history_reach(data, source)
     pairs = []
     for number, line in enumerate(stripped.splitlines(), start=1):
         cells = [cell.strip() for cell in re.split(r"[,;\t]", line) if cell.strip()]
@@ -88,6 +81,29 @@ def parse_reach(text: str, source: str) -> tuple[tuple[float, float], ...]:
     if not pairs:
         raise PlanError(f"{source}: no days in it (one line per day: day, distinct units)",
                         "reach")
+    return _checked(pairs, source)
+
+
+def history_reach(data: Any, source: str) -> tuple[tuple[float, float], ...]:
+    """The reach curve of a history import's JSON (parsed): its ``"reach"`` list of
+    ``{"day": d, "units": N}``, as the plan's ``reach`` pairs; PlanError naming ``source``.
+
+    Examples
+    --------
+    >>> history_reach({"reach": [{"day": 1, "units": 5}, {"day": 2, "units": 8}]}, "h.json")
+    ((1, 5.0), (2, 8.0))
+    """
+    reach = data.get("reach") if isinstance(data, dict) else None
+    if not isinstance(reach, list) or not reach:
+        raise PlanError(f"{source}: no reach curve in it (a history import with unit and "
+                        "time columns writes one: fourfold history DATA --unit COL --time "
+                        "COL … --json)", "reach")
+    pairs = []
+    for place, point in enumerate(reach):
+        if not isinstance(point, dict) or "day" not in point or "units" not in point:
+            raise PlanError(f"{source}: reach[{place}] must hold a day and its units",
+                            "reach")
+        pairs.append([point["day"], point["units"]])
     return _checked(pairs, source)
 
 
