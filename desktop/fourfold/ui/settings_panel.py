@@ -334,7 +334,7 @@ class SettingsPanel(QWidget):
             self.refresh()
 
     def _on_change(self, change) -> None:
-        if change.kind in ("settings", "scenario", "reset"):
+        if change.kind in ("settings", "scenario", "reset") or change.settings:
             self.refresh()
 
     @staticmethod
