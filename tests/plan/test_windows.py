@@ -5,7 +5,8 @@ Worked by hand: a mean row, δ = 0.5, α = 0.05 two-sided, power 0.8, n per arm 
 scipy.special.ndtri), two arms, 400 units a day, whole weeks:
 σ = 5 → 1,570 per arm, 3,140 in all → 7.85 days → 14;
 σ = 7 → 3,077 per arm, 6,154 → 15.4 days → 21;
-σ = 8 → 4,019 per arm, 8,038 → 20.1 days → 21.
+σ = 8 → 4,019 per arm, 8,038 → 20.1 days → 21;
+σ = 8.5 → 4,537 per arm, 9,074 → 22.7 days → 28.
 """
 
 import dataclasses
@@ -61,6 +62,17 @@ def test_a_duration_that_does_not_settle_makes_the_plan_incomplete():
     assert "those of 21 days 14 days" in reason
     assert "incomplete" in result.rows[1].reason  # waits for a duration that is not there
     assert all(math.isnan(power) for power in result.duration_powers)
+
+
+def test_figures_that_shorten_the_duration_settle_between_the_days_tried():
+    # σ 8.5 over 7 and 14 days → 28 days; σ 8 over 21 → 21; σ 5 over 28 → 14. Plain rounds go
+    # 7 → 28 → 14 → 28 (a cycle); the duration lies between 14 days (whose figures need more)
+    # and 28 (whose figures need fewer): at 21 days its own window gives 21.
+    plan = Plan(SETTINGS, [row((7, 8.5), (14, 8.5), (21, 8.0), (28, 5.0))])
+    assert [per_arm(sd) for sd in (8.5, 8.0, 5.0)] == [4537, 4019, 1570]
+    result = compute(plan)
+    assert result.duration_days == 21.0 and result.window_days == 21.0
+    assert result.rows[0].units_control == per_arm(8.0)
 
 
 def test_a_secondary_row_takes_the_window_of_the_duration_others_set():

@@ -262,6 +262,20 @@ def _settle(plan: Plan, cache: RowCache | None) -> PlanResult:
         if duration in tried:
             break
         days = duration
+    # A cycle: longer windows' figures shorten the duration. Halve the days between the
+    # longest tried whose figures need more and the shortest whose figures need fewer.
+    step = 7.0 if plan.settings.whole_weeks else 1.0
+    bracket = windows.bracket(tried, found)
+    while bracket is not None and (days := windows.between(*bracket, step)) is not None:
+        shown = windows.at_days(plan, days)
+        result = _compute(shown, cache)
+        duration = result.duration_days
+        if duration is None or windows.is_settled(days, duration):
+            return dataclasses.replace(result, window_days=days, notes=(
+                *result.notes, *windows.notes(plan, days, "the plan's duration")))
+        tried.append(days)
+        found.append(duration)
+        bracket = (days, bracket[1]) if duration > days else (bracket[0], days)
     return _unsettled(shown, result, windows.rounds_text(tried, found))
 
 

@@ -21,10 +21,15 @@ figures on the duration. :func:`fourfold.plan.evaluation.compute` solves it by i
 starting from the shortest window of the windowed rows, it evaluates the plan with the figures
 of the current days, takes the duration that gives, and repeats until the duration is the one
 its figures came from. Days are whole (or whole weeks), so it either settles or comes back to
-days it tried (a cycle) — then, or after :data:`MAX_ROUNDS` rounds, the plan is incomplete:
-its windowed primary and guardrail rows say that the duration does not settle and list the
-rounds, and no duration is shown. Starting from the shortest window, a duration that grows
-with the window settles on the shortest duration consistent with its own window. With a fixed
+days it tried (a cycle). Starting from the shortest window, a duration that grows with the
+window settles on the shortest duration consistent with its own window. A cycle comes from
+figures that shorten the duration as the window grows (a conversion over 28 days is higher,
+hence easier to move by 5 %): then the duration lies between the longest days tried whose
+figures need more days and the shortest longer days whose figures need fewer, and halving
+that interval (on whole days, or whole weeks) finds it (:func:`bracket`, :func:`between`).
+When no duration between them is its own window's — or the rounds go on past
+:data:`MAX_ROUNDS` — the plan is incomplete: its windowed primary and guardrail rows say that
+the duration does not settle and list the rounds, and no duration is shown. With a fixed
 runtime the figures are those of the runtime, without iteration.
 
 Examples
@@ -154,6 +159,38 @@ those of 21 days 14 days'
     if len(steps) > 4:
         steps = [*steps[:2], "…", *steps[-2:]]
     return "the duration does not settle: " + ", ".join(steps)
+
+
+def bracket(tried: list[float], found: list[float]) -> tuple[float, float] | None:
+    """The longest days tried whose figures need more days, and the shortest longer ones
+    whose figures need fewer (None when the rounds give no such pair).
+
+    Examples
+    --------
+    >>> bracket([7.0, 28.0, 14.0], [28.0, 14.0, 28.0])
+    (14.0, 28.0)
+    """
+    more = [days for days, needs in zip(tried, found, strict=True) if needs > days]
+    fewer = [days for days, needs in zip(tried, found, strict=True) if needs < days]
+    if not more or not fewer or max(more) >= min(fewer):
+        return None
+    return max(more), min(fewer)
+
+
+def between(low: float, high: float, step: float) -> float | None:
+    """The middle of the durations (multiples of ``step`` days) strictly between ``low`` and
+    ``high`` (None when there is none).
+
+    Examples
+    --------
+    >>> between(14.0, 28.0, 7.0), between(14.0, 21.0, 7.0), between(10.0, 20.0, 1.0)
+    (21.0, None, 15.0)
+    """
+    first = (math.floor(low / step) + 1) * step
+    last = (math.ceil(high / step) - 1) * step
+    if first > last:
+        return None
+    return first + step * ((last - first) // step // 2)
 
 
 def is_settled(days: float, found: float | None) -> bool:
