@@ -1,6 +1,7 @@
 """The traffic model out of the program: ``fourfold export`` to CSV and PDF and
-``fourfold compare`` on the sample's returning-visitors scenario (a reach curve and a ramp-up),
-a plain plan's files as before, rows that follow their history windows. CSV read back with
+``fourfold compare`` on the sample's returning-visitors scenario (a reach curve, a ramp-up and
+rows that follow their history windows; on per-visit figures, a duration past the curve), a
+plain plan's files as before, rows that follow their history windows. CSV read back with
 pandas and checked against the plan layer's own evaluation (fourfold.plan.traffic, tested by
 hand in tests/plan); PDF text read back with pypdf. No outside source."""
 
@@ -25,6 +26,7 @@ from fourfold.plan import (
     save,
     traffic,
 )
+from fourfold.plan.windows import figures
 
 RETURNING = "Returning visitors, ramp-up to all traffic"
 
@@ -35,16 +37,27 @@ def _run(capsys, *argv) -> tuple[int, str, str]:
     return code, captured.out, captured.err
 
 
+def _per_visit(tmp_path):
+    """The sample with its returning visitors on the rows' per-visit figures (they do not
+    follow their windows): a duration past the reach curve's 28 days."""
+    plan = load(sample_path())
+    scenario = next(s for s in plan.scenarios if s.name == RETURNING)
+    for fields in scenario.rows.values():
+        fields.pop("windowed")
+    save(plan, tmp_path / "per-visit.json")
+    return tmp_path / "per-visit.json"
+
+
 def _settings(path) -> dict:
     frame = pd.read_csv(path, keep_default_na=False, dtype=str)
     return dict(zip(frame["key"], frame["value"], strict=True))
 
 
 def test_the_csv_export_of_a_reach_curve_writes_the_day_by_day_traffic(capsys, tmp_path):
-    code, out, _ = _run(capsys, "export", sample_path(), "-o", tmp_path / "plan.csv",
+    code, out, _ = _run(capsys, "export", _per_visit(tmp_path), "-o", tmp_path / "plan.csv",
                         "--scenario", RETURNING)
     assert code == 0 and "plan-traffic.csv" in out
-    shown = effective(load(sample_path()), RETURNING)
+    shown = effective(load(_per_visit(tmp_path)), RETURNING)
     result = compute(shown)
     settings = _settings(tmp_path / "plan-settings.csv")
     assert settings["traffic"] == "reach" and settings["reach_days"] == "28"
@@ -63,6 +76,23 @@ def test_the_csv_export_of_a_reach_curve_writes_the_day_by_day_traffic(capsys, t
     assert list(rows["days"]) == [row.days for row in result.rows]
 
 
+def test_the_samples_returning_visitors_are_written_over_their_own_window(capsys, tmp_path):
+    code, _, _ = _run(capsys, "export", sample_path(), "-o", tmp_path / "plan.csv",
+                      "--scenario", RETURNING)
+    assert code == 0
+    shown = effective(load(sample_path()), RETURNING)
+    result = compute(shown)
+    settings = _settings(tmp_path / "plan-settings.csv")
+    assert settings["duration_extrapolated"] == "false"
+    assert float(settings["window_days"]) == result.window_days == result.duration_days
+    rows = pd.read_csv(tmp_path / "plan.csv", keep_default_na=False)
+    following = [metric.windowed for metric in shown.metrics]
+    assert following == [True] * 5 + [False] * 2  # page load is per visit
+    assert list(rows["window_days"]) == [f"{result.window_days}"] * 5 + ["", ""]
+    conversion = figures(shown.metrics[0], result.window_days)[0]["baseline"]
+    assert rows["baseline"][0] == pytest.approx(conversion, rel=1e-12)
+
+
 def test_a_plain_plan_has_no_traffic_file_and_no_traffic_settings(capsys, tmp_path):
     plan = load(sample_path())
     plan.scenarios = []
@@ -74,14 +104,14 @@ def test_a_plain_plan_has_no_traffic_file_and_no_traffic_settings(capsys, tmp_pa
 
 
 def test_compare_sets_the_reach_curve_beside_constant_traffic(capsys, tmp_path):
-    code, out, _ = _run(capsys, "compare", sample_path(), "-o", tmp_path / "c.csv")
+    code, out, _ = _run(capsys, "compare", _per_visit(tmp_path), "-o", tmp_path / "c.csv")
     assert code == 0
     table = pd.read_csv(tmp_path / "c.csv", keep_default_na=False)
     returning = table[table["scenario"] == RETURNING].iloc[0]
     everything = table[table["scenario"] == "All eligible traffic"].iloc[0]
     assert float(returning["duration_days"]) > float(everything["duration_days"])
     assert "beyond the reach curve's 28 days" in returning["notes"]
-    code, out, _ = _run(capsys, "compare", sample_path())
+    code, out, _ = _run(capsys, "compare", _per_visit(tmp_path))
     traffic_line = next(line for line in out.splitlines() if line.startswith("Traffic"))
     assert traffic_line.split()[1] == "Constant"
     assert "Reach curve, ramp-up (extrapolated ±" in traffic_line
@@ -96,11 +126,11 @@ def _pdf_text(path) -> str:
 
 @pytest.mark.qt
 def test_the_report_names_the_model_shows_the_curve_and_flags_the_duration(capsys, tmp_path):
-    code, _, _ = _run(capsys, "export", sample_path(), "-o", tmp_path / "r.pdf", "--scenario",
-                      RETURNING)
+    code, _, _ = _run(capsys, "export", _per_visit(tmp_path), "-o", tmp_path / "r.pdf",
+                      "--scenario", RETURNING)
     assert code == 0
     text = _pdf_text(tmp_path / "r.pdf")
-    assert "Traffic model Reach curve (quillmoss-history.csv" in text
+    assert "Traffic model Reach curve (quillmoss-history.json" in text
     assert "Ramp-up Days 1–2 at 5 %, days 3–4 at 25 %, then 100 %" in text
     assert "Traffic over the test" in text and "curve ends, day 28" in text
     assert "beyond the reach curve (extrapolated)" in text

@@ -6,17 +6,21 @@ gets the duration they give.
 Reference figures: pandas 3.x ``nunique`` of units by first day (the reach curve); units per
 arm n = ⌈2σ²(1 − ρ²)(z₀.₉₇₅ + z₀.₈)²/δ²⌉ (Lehr 1992, Statistics in Medicine 11:1099, with
 CUPED's (1 − ρ²) of Deng, Xu, Kohavi & Walker 2013; z from scipy.special.ndtri), and the first
-day whose share of the curve holds both arms, by hand.
+day whose share of the curve holds both arms, by hand. The sample plan's scenario: its curve
+scaled by the plan's daily visitors over pandas' distinct visitors per day of the sample history.
 """
 
+import importlib.util
 import json
 import math
+from pathlib import Path
 
+import pandas as pd
 import pytest
 from scipy.special import ndtri
 
 from fourfold import cli
-from fourfold.plan import Metric, Plan, Settings, compute
+from fourfold.plan import Metric, Plan, Settings, compute, effective, load
 from fourfold.plan.traffic_files import history_windows, read_reach
 
 Z2 = float(ndtri(0.975) + ndtri(0.8)) ** 2
@@ -119,3 +123,30 @@ def test_a_warehouse_result_gives_the_plan_the_same_curve_and_windows(visits, vi
     row = _spend(windows[0]["sd"] / 2.45, windowed=True, windows=windows)
     same = _spend(row.effect, windowed=True, windows=history_windows(file_data, "spend"))
     assert compute(_plan(reach, row)).duration_days == compute(_plan(reach, same)).duration_days
+
+
+def test_the_sample_plans_returning_visitors_are_the_sample_historys_json():
+    samples = Path(__file__).resolve().parents[2] / "samples"
+    spec = importlib.util.spec_from_file_location("make_sample_traffic",
+                                                  samples / "make_sample_traffic.py")
+    make = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(make)
+    # The shipped JSON is what the command line prints for the sample history today.
+    shipped = samples / "quillmoss-history.json"
+    data = json.loads(make.history_json())
+    assert json.loads(shipped.read_text(encoding="utf-8")) == data
+    plan = load(samples / "quillmoss-checkout.json")
+    shown = effective(plan, make.SCENARIO)
+    # Scaled to the plan's daily visitors: pandas' distinct visitors per calendar day.
+    visits = pd.read_csv(samples / "quillmoss-history.csv", usecols=["visitor", "time"])
+    per_day = visits.groupby(visits["time"].str[:10])["visitor"].nunique().mean()
+    factor = round(plan.settings.daily_units / per_day, 2)
+    assert shown.settings.reach == tuple((day, float(round(units * factor)))
+                                         for day, units in read_reach(shipped))
+    assert f"× {factor:g}" in shown.settings.reach_source
+    for metric in shown.metrics:
+        name = make.ROWS.get(metric.id)
+        assert metric.windowed == (name is not None)
+        if name is not None:
+            assert metric.windows == history_windows(data, name)
+    assert plan.settings.traffic == "constant" and not any(m.windows for m in plan.metrics)

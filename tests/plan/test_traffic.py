@@ -172,19 +172,25 @@ def test_sensitivity_scales_a_reach_curve_and_caps_the_ramp_at_the_share():
     assert any("capped" in note for note in capped.notes)
 
 
+def _per_visit(plan: Plan) -> Plan:
+    """``plan`` with its rows on their own (per-visit) figures, not following windows."""
+    return Plan(plan.settings, [dataclasses.replace(m, windowed=False) for m in plan.metrics])
+
+
 def test_a_scenario_can_change_the_traffic_model():
     plan = load(sample_path())
     name = "Returning visitors, ramp-up to all traffic"
     shown = effective(plan, name)
     assert shown.settings.traffic == "reach" and len(shown.settings.reach) == 28
-    assert compute(shown).duration_days > compute(plan).duration_days
+    assert compute(_per_visit(shown)).duration_days > compute(plan).duration_days
     assert plan.settings.traffic == "constant"
 
 
 def test_the_runtime_figure_reads_the_model_and_says_when_it_extrapolates():
     from fourfold.plan.tradeoffs import tradeoffs
 
-    shown = effective(load(sample_path()), "Returning visitors, ramp-up to all traffic")
+    shown = _per_visit(effective(load(sample_path()),
+                                 "Returning visitors, ramp-up to all traffic"))
     result = compute(shown)
     runtime = tradeoffs(shown, 0, result).runtime
     assert runtime.guide_label == f"test runs {result.duration_days:g} d, extrapolated"
