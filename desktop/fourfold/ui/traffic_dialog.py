@@ -2,9 +2,10 @@
 
 The dialog edits the plan's traffic settings (:mod:`fourfold.plan.traffic`) as one undo step
 (:class:`fourfold.plan.settings_commands.SetSettings`; in a scenario, that scenario's change).
-The reach curve is a table of days and distinct units: typed, pasted from a spreadsheet,
-loaded from a file (a day/units table, or the JSON a history import writes) or taken from the
-history import of this session, and scaled when the history holds a sample of the units. A
+The reach curve is a table of days and distinct units: typed, pasted from a spreadsheet or
+loaded from a file (a day/units table, or the JSON ``fourfold history … --json`` writes, read
+by :mod:`fourfold.plan.traffic_files`), and scaled when the history holds a sample of the
+units (Plan → Import history… can set the curve too, with the figures it applies). A
 figure shows the eligible and analysed units by day with the duration the plan would get, and
 a line the fitted extrapolation with its error; a cell that is not a number, or a curve that
 falls, is named under the tables and OK keeps the dialog open.
@@ -110,14 +111,9 @@ class TrafficDialog(QDialog):
     ----------
     document : fourfold.ui.document.PlanDocument
         The open plan; OK applies the values with ``document.apply`` (one undo step).
-    reach : tuple of (day, units), optional
-        A reach curve to start from (the history import's), instead of the plan's.
-    source : str
-        Where ``reach`` comes from.
     """
 
-    def __init__(self, document, parent: QWidget | None = None, *, reach=None,
-                 source: str = "") -> None:
+    def __init__(self, document, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.document = document
         self.setObjectName("trafficDialog")
@@ -129,10 +125,8 @@ class TrafficDialog(QDialog):
         self._timer.timeout.connect(self.preview)
         self._build()
         settings = document.plan.settings
-        self._fill(settings.traffic if reach is None else "reach",
-                   settings.reach if reach is None else reach,
-                   settings.reach_source if reach is None else source,
-                   settings.ramp, settings.burn_in)
+        self._fill(settings.traffic, settings.reach, settings.reach_source, settings.ramp,
+                   settings.burn_in)
         self.preview()
 
     # -- layout ------------------------------------------------------------------------------
