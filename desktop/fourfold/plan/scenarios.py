@@ -379,6 +379,12 @@ def describe(plan: Plan, name: str) -> str:
     >>> describe(plan, "S")
     'Differs from the base in treatment arms 1 (base 2), share of traffic in the test 100 % \
 (base 60 %), Conversion: effect 7 % (base 5 %); leaves out Page load.'
+
+    Rows with the same changes are named together:
+
+    >>> plan.scenarios.append(Scenario("T", rows={"c": {"effect": 0.07}, "p": {"effect": 0.07}}))
+    >>> describe(plan, "T")
+    'Differs from the base in Conversion, Page load: effect 7 % (base 5 %).'
     """
     scenario = find(plan, name)
     view = effective(plan, name)
@@ -387,15 +393,18 @@ def describe(plan: Plan, name: str) -> str:
              f"(base {_shown(field, getattr(plan.settings, field))})"
              for field in SETTINGS_FIELDS if field in scenario.settings]
     changed = {metric.id: metric for metric in view.metrics}
+    rows: dict[tuple[str, ...], list[str]] = {}  # rows with the same changes named together
     for metric in plan.metrics:
         fields = scenario.rows.get(metric.id, {})
         if metric.id not in changed or not fields:
             continue
         mine = changed[metric.id]
-        parts += [f"{metric.name}: {_LABELS.get(field, field.replace('_', ' '))} "
-                  f"{_shown(field, getattr(mine, field), mine)} "
-                  f"(base {_shown(field, getattr(metric, field), metric)})"
-                  for field in METRIC_FIELDS if field in fields]
+        clauses = tuple(f"{_LABELS.get(field, field.replace('_', ' '))} "
+                        f"{_shown(field, getattr(mine, field), mine)} "
+                        f"(base {_shown(field, getattr(metric, field), metric)})"
+                        for field in METRIC_FIELDS if field in fields)
+        rows.setdefault(clauses, []).append(metric.name)
+    parts += [f"{', '.join(names)}: {', '.join(clauses)}" for clauses, names in rows.items()]
     left_out = [metric.name for metric in plan.metrics if metric.id in scenario.omitted]
     if not parts and not left_out:
         return "Same as the base."
