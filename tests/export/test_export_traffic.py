@@ -149,3 +149,16 @@ def test_rows_that_follow_their_windows_are_written_with_the_figures_used(capsys
     rows = pd.read_csv(tmp_path / "w.csv")
     assert (rows["window_days"][0], rows["sd"][0], rows["baseline"][0]) == (21, 8.0, 10.0)
     assert _settings(tmp_path / "w-settings.csv")["window_days"] == "21.0"
+
+
+@pytest.mark.qt
+def test_the_report_says_which_rows_show_their_windows_figures(capsys, tmp_path):
+    code, _, _ = _run(capsys, "export", sample_path(), "-o", tmp_path / "w.pdf", "--scenario",
+                      RETURNING)
+    assert code == 0
+    text = _pdf_text(tmp_path / "w.pdf")
+    assert ("As entered (rows that follow their history windows: their figures over each "
+            "unit's first 21 days)") in text
+    assert ("Checkout conversion, Revenue per visitor, Add-to-cart rate, Items per order, "
+            "Support contacts per visitor: figures by window yes (base no)") in text
+    assert "Metrics over the test's own window" in text and "fixed point" in text

@@ -39,7 +39,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from fourfold.plan import CHOICES, traffic
+from fourfold.plan import CHOICES, traffic, windows
 
 SPENDING_LABELS = {
     "ld-obrien-fleming": "Lan–DeMets, O'Brien–Fleming type",
@@ -276,3 +276,15 @@ def _plan_methods(plan, add) -> None:
         text = "Days = total units ÷ (eligible units per day × share of traffic in the test)"
         text += ", rounded up to whole weeks." if s.whole_weeks else "."
         add("days", "From units to days", text, "Common practice; no single source.")
+    for m in plan.metrics:
+        if windows.follows(m):
+            add("windows", "Metrics over the test's own window",
+                "The row's baseline and sd (ρ, a ratio's inputs) are its figures over each "
+                "unit's first d days in the history, d the plan's duration (read linearly "
+                "between the windows imported, the nearest window's outside them), every unit "
+                "taken to be watched for the whole duration. Since the duration depends on "
+                "them, it is the fixed point of duration and window: rounds from the shortest "
+                "window, and when they cycle, halving the days between the longest that needs "
+                "more and the shortest that needs fewer.",
+                "Common practice; no single source (the fixed point is this program's rule).",
+                m.name)

@@ -264,10 +264,13 @@ def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> 
                        "nor clustering (variance factor 1).", font(8), MUTED)
 
     flow.heading("Metric rows")
-    flow.paragraph("As entered. Effects are treatment minus control: “%” is relative to the "
-                   "baseline, “pp” percentage points. “H0 margin” is the difference under the "
-                   "null hypothesis of a non-inferiority or superiority-by-margin test.",
-                   font(8), MUTED, spacing=1.25)
+    window = ("" if result.window_days is None else
+              f" (rows that follow their history windows: their figures over each unit's "
+              f"first {result.window_days:g} days)")
+    flow.paragraph(f"As entered{window}. Effects are treatment minus control: “%” is relative "
+                   "to the baseline, “pp” percentage points. “H0 margin” is the difference "
+                   "under the null hypothesis of a non-inferiority or superiority-by-margin "
+                   "test.", font(8), MUTED, spacing=1.25)
     if not plan.metrics:
         flow.paragraph("The plan has no metric rows yet.", font(9), INK)
     flow.table(report.inputs_table(plan))
