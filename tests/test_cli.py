@@ -54,3 +54,18 @@ def test_one_blas_thread_unless_the_user_chose(monkeypatch):
     with pytest.raises(SystemExit):
         cli.main(["--version"])
     assert os.environ["OPENBLAS_NUM_THREADS"] == "2"
+
+
+def test_a_reader_that_left_stops_the_output_quietly():
+    # `fourfold history --sql … | head`: the pipe closes before the query is printed. Common
+    # practice (no source): a command line tool stops without a traceback on a broken pipe.
+    read_end, write_end = os.pipe()
+    os.close(read_end)
+    try:
+        done = subprocess.run([sys.executable, "-m", "fourfold", "history", "--sql", "visits",
+                               "--mean", "revenue"], stdout=write_end, stderr=subprocess.PIPE,
+                              text=True, timeout=60)
+    finally:
+        os.close(write_end)
+    assert done.stderr == ""
+    assert done.returncode == 1

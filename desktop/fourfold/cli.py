@@ -136,8 +136,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
     parser = build_parser()
     args = parser.parse_args(_normalise(sys.argv[1:] if argv is None else argv))
-    with _stop_on_terminate(args.command != "open"):
-        return _run(parser, args)
+    try:
+        with _stop_on_terminate(args.command != "open"):
+            return _run(parser, args)
+    except BrokenPipeError:
+        # The reader of the output left (``fourfold compare PLAN | head``): stop quietly, and
+        # point stdout at the null device so that the flush at exit finds no pipe either.
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 1
 
 
 def _run(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:

@@ -177,3 +177,22 @@ def test_sqrt_k_allocation_minimises_the_total_units(kind, kw, k):
     if kind == "mean":
         assert at_rule / equal == pytest.approx((1 + np.sqrt(k)) ** 2 / (2 * (1 + k)),
                                                 rel=1e-9)
+
+
+@pytest.mark.parametrize("alternative", ["two-sided", "greater"])
+@pytest.mark.parametrize("arms,ratio", [(2, 1.0), (3, 1.0), (3, 1 / np.sqrt(3))])
+def test_a_t_row_at_the_normal_limits_level_is_on_the_safe_side(arms, ratio, alternative):
+    # The plan gives a Student's t row the per-comparison level of the normal limit and takes
+    # its t quantile (README, "Dunnett's correction"): that critical value must not fall below
+    # the multivariate-t one, and must meet it as the degrees of freedom grow. Reference: scipy
+    # (stats.t.ppf) for the t quantile; the multivariate-t values are checked against Dunnett
+    # (1955, 1964) above.
+    level = float(dunnett.per_comparison_alpha(0.05, arms, ratio, alternative))
+    tails = 2 if alternative == "two-sided" else 1
+    gaps = []
+    for df in (10, 20, 60, 200, 2000):
+        row = stats.t.ppf(1 - level / tails, df)
+        exact = float(dunnett.critical_value(0.05, arms, ratio, alternative, df=df))
+        assert row >= exact - 1e-9
+        gaps.append(row - exact)
+    assert gaps == sorted(gaps, reverse=True) and gaps[-1] < 1e-3

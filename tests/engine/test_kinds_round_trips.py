@@ -33,7 +33,7 @@ CASES = [
 
 
 @pytest.mark.parametrize("kind", ["ratio", "quantile"])
-@pytest.mark.parametrize("case,split", itertools.product(CASES, [1.0, 0.5, 2.0]))
+@pytest.mark.parametrize("case,split", list(itertools.product(CASES, [1.0, 0.5, 2.0])))
 def test_every_solver_round_trips(kind, case, split):
     alternative, effect, margin, relative = case
     baseline = BASELINES[kind]

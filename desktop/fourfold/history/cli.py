@@ -36,7 +36,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     parser.add_argument("--engine", choices=("auto", "stream", "duckdb"), default="auto",
                         help="who reads a local file: the streaming reader, DuckDB (optional "
-                             "extra 'duckdb'), or the faster of the two for the format (auto)")
+                             "extra 'duckdb'), or auto: DuckDB for a Parquet file without "
+                             "--unit/--time when installed, else the streaming reader, "
+                             "which checks every line")
     parser.add_argument("--sql", metavar="TABLE",
                         help="print the query of the same figures for a warehouse table "
                              "instead of reading a file (or run it, with --connect)")
