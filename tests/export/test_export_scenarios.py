@@ -125,7 +125,7 @@ def test_scenario_and_metric_names_that_look_like_formulas_are_neutralised(tmp_p
 
 def test_an_incomplete_scenario_has_no_duration_in_the_csv_or_the_table(tmp_path, capsys):
     data = json.loads(dumps(load(sample_path())))
-    data["scenarios"][2]["rows"] = {"conversion": {"effect": None}}
+    data["scenarios"][-1]["rows"] = {"conversion": {"effect": None}}
     path = tmp_path / "plan.json"
     path.write_text(json.dumps(data), encoding="utf-8")
     code, out, _ = _run(capsys, "compare", path)

@@ -13,6 +13,7 @@ from fourfold.plan.commands import CommandStack, SetField, SetSetting
 from fourfold.plan.comparison import Caches, outcomes
 from fourfold.plan.model import Scenario
 from fourfold.plan.scenario_commands import SwitchScenario
+from fourfold.plan.windows import uses_windows
 
 
 def _by_hand(plan, settings=None, rows=None, omitted=()):
@@ -120,6 +121,13 @@ def test_an_unchanged_row_is_reused_from_its_scenario_cache():
     first = outcomes(plan, caches)
     plan.metrics[1].sd = 15.0  # a secondary row of the base: every scenario re-solves only it
     second = outcomes(plan, caches)
-    for before, after in zip(first, second, strict=True):
+    windowed = [uses_windows(each.plan) for each in second]
+    assert windowed == [False] * 4 + [True, False]  # the sample's returning visitors
+    for before, after, rounds in zip(first, second, windowed, strict=True):
+        if rounds:
+            # Rows that follow their windows are solved again in each round of the fixed
+            # point (each round's figures are other inputs); the result is the same.
+            assert after.result.rows[0] == before.result.rows[0]
+            continue
         assert after.result.rows[0] is before.result.rows[0]
         assert after.result.rows[1] is not before.result.rows[1]

@@ -293,3 +293,28 @@ def test_any_sequence_undoes_and_redoes_exactly(edits):
         stack.redo()
         assert dumps(stack.plan) == state
 
+
+
+def test_rows_and_settings_together_are_one_step_or_nothing(recorded):
+    from fourfold.plan.settings_commands import SetSettings, WithSettings
+
+    stack, after, before = recorded(_plan())
+    saved = dumps(stack.plan)
+    together = WithSettings(InsertMetrics(4, [Metric(name="E")]),
+                            SetSettings({"traffic": "reach", "reach": [[1, 500], [2, 800]]}),
+                            "Import history into 1 new row and use its reach curve")
+    stack.do(together)
+    assert _names(stack)[-1] == "E" and stack.plan.settings.traffic == "reach"
+    assert after[-1] == before[-1] == Change("rows_inserted", (4,),
+                                             settings=("traffic", "reach"))
+    stack.undo()
+    assert dumps(stack.plan) == saved
+    assert after[-1] == Change("rows_removed", (4,), settings=("traffic", "reach"))
+    # Settings the plan refuses (units that fall) take the rows' edit back with them (a
+    # stack without "before" subscribers applies to the plan itself, no trial copy first).
+    plain = CommandStack(_plan())
+    refused = WithSettings(SetField(0, "baseline", 6.0),
+                           SetSettings({"reach": [[1, 500], [2, 400]]}), "Import")
+    with pytest.raises(PlanError, match="never fall"):
+        plain.do(refused)
+    assert dumps(plain.plan) == saved and not plain.can_undo

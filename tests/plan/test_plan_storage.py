@@ -14,6 +14,7 @@ from fourfold.plan import (
     Metric,
     Plan,
     PlanError,
+    Scenario,
     Settings,
     dumps,
     load,
@@ -30,7 +31,8 @@ def _full_plan() -> Plan:
         title="Seed-packet test", description="Invented.\nTwo lines.", alpha=0.01, power=0.9,
         arms=3, ratio=1.5, allocation="sqrt-k", correction="sidak", daily_units=1234.5,
         share=0.25, whole_weeks=False, runtime_days=21.0, looks=3, spending="hsd",
-        futility=True,
+        futility=True, traffic="reach", reach=((1, 900.0), (2, 1500.0)), reach_source="typed",
+        ramp=((2, 0.1),), burn_in=1,
     )
     metric = Metric(
         name="Basket value", role="guardrail", kind="mean", method="t", baseline=41.5, sd=12.25,
@@ -39,6 +41,7 @@ def _full_plan() -> Plan:
         effect=-0.5, relative=False, alternative="less", margin=0.75, alpha=0.02, power=0.85,
         rho=0.4, cluster_size=3.5, icc=0.01, cluster_cv=0.6, solve="power", n=9000.0,
         notes="ünïcode “quotes” and\nnewlines", simulation=dict(STORED_CHECK),
+        windowed=True, windows=({"days": 7, "baseline": 40.0, "sd": 11.5},),
     )
     return Plan(settings, [metric, Metric()])
 
@@ -78,14 +81,14 @@ def _fields(plan: Plan) -> dict:
 def test_file_header_and_all_fields_written():
     data = json.loads(dumps(_full_plan()))
     assert data["format"] == "fourfold-plan"
-    assert data["schema_version"] == storage.SCHEMA_VERSION == storage.KINDS_VERSION == 3
+    assert data["schema_version"] == storage.SCHEMA_VERSION == storage.TRAFFIC_VERSION == 4
     assert list(data["settings"]) == list(SETTINGS_FIELDS)
     assert list(data["metrics"][0]) == ["id", *METRIC_FIELDS]
 
 
 def test_a_plan_without_what_version_3_added_is_written_as_before():
     # What an older Fourfold reads: version 1, none of the version-3 fields.
-    plan = _full_plan()
+    plan = _without_traffic(_full_plan())
     plan.settings.allocation = "fixed"
     plan.metrics[0] = dataclasses.replace(
         plan.metrics[0], unit="", better="higher", denominator=None, numerator_sd=None,
@@ -98,6 +101,37 @@ def test_a_plan_without_what_version_3_added_is_written_as_before():
     assert loads(dumps(plan)) == plan
     plan.settings.correction = "dunnett"  # Dunnett alone needs version 3
     assert json.loads(dumps(plan))["schema_version"] == 3
+
+
+def _without_traffic(plan: Plan) -> Plan:
+    """``plan`` without anything version 4 added."""
+    plan.settings = dataclasses.replace(plan.settings, **{
+        name: getattr(Settings(), name) for name in storage.TRAFFIC_SETTINGS_FIELDS})
+    plan.metrics = [dataclasses.replace(metric, windowed=False, windows=())
+                    for metric in plan.metrics]
+    return plan
+
+
+def test_a_plan_without_what_version_4_added_is_written_as_before():
+    plan = _without_traffic(_full_plan())
+    data = json.loads(dumps(plan))
+    assert data["schema_version"] == storage.KINDS_VERSION == 3
+    assert not set(storage.TRAFFIC_METRIC_FIELDS) & set(data["metrics"][0])
+    assert not set(storage.TRAFFIC_SETTINGS_FIELDS) & set(data["settings"])
+    assert loads(dumps(plan)) == plan
+    for changed in ({"burn_in": 2}, {"ramp": ((3, 0.5),)}, {"traffic": "reach"}):
+        moved = dataclasses.replace(plan.settings, **changed)
+        assert json.loads(dumps(Plan(moved, plan.metrics)))["schema_version"] == 4, changed
+    windowed = [dataclasses.replace(plan.metrics[0], windowed=True), *plan.metrics[1:]]
+    assert json.loads(dumps(Plan(plan.settings, windowed)))["schema_version"] == 4
+
+
+def test_a_scenario_that_changes_the_traffic_needs_version_4():
+    plan = _without_traffic(_full_plan())
+    plan.scenarios.append(Scenario("Returning visitors", settings={"traffic": "reach"}))
+    data = json.loads(dumps(plan))
+    assert data["schema_version"] == 4 and data["settings"]["traffic"] == "constant"
+    assert loads(dumps(plan)) == plan
 
 
 def test_missing_optional_fields_take_defaults():
@@ -118,7 +152,7 @@ def test_missing_optional_fields_take_defaults():
         (json.dumps({"format": "some-other-tool", "schema_version": 1}), "format"),
         (json.dumps({"format": "fourfold-plan"}), "schema_version"),
         (json.dumps({"format": "fourfold-plan", "schema_version": "1"}), "schema_version"),
-        (json.dumps({"format": "fourfold-plan", "schema_version": 4}), "newer"),
+        (json.dumps({"format": "fourfold-plan", "schema_version": 5}), "newer"),
         (json.dumps({"format": "fourfold-plan", "schema_version": 1, "extra": 1}), "extra"),
         (json.dumps({"format": "fourfold-plan", "schema_version": 1, "metrics": {}}),
          "metrics must be a JSON list"),

@@ -7,7 +7,7 @@ import json
 
 import pytest
 
-from fourfold.plan import PlanError, dumps, load, loads, sample_path, save
+from fourfold.plan import PlanError, compute, dumps, load, loads, sample_path, save
 from fourfold.plan import scenarios as sc
 from fourfold.plan.model import Metric, Plan, Scenario, Settings
 
@@ -132,13 +132,20 @@ def test_changes_to_missing_rows_and_unknown_fields_are_kept_and_reported_not_dr
     assert json.loads(dumps(plan)) == json.loads(text)  # saved again as they were
 
 
-def test_the_sample_plan_ships_three_scenarios_that_change_its_duration():
+def test_the_sample_plan_ships_four_scenarios_that_change_its_duration():
     from fourfold.plan import compare
 
     plan = load(sample_path())
-    assert len(plan.scenarios) == 3 and plan.active is None
+    assert len(plan.scenarios) == 4 and plan.active is None
     assert sc.problems(plan) == ()
     table = compare(plan)
-    assert list(table["status"]) == ["complete"] * 4
-    base, *others = table["duration_days"]
-    assert all(days < base for days in others)
+    assert list(table["status"]) == ["complete"] * 5
+    base, *shorter, returning = table["duration_days"]
+    assert all(days < base for days in shorter)
+    # Returning visitors: over the visitors' own window conversion is higher than per visit,
+    # and the test shorter; on the rows' per-visit figures, fewer distinct visitors than
+    # days × daily visitors make it longer than the base.
+    assert returning < base
+    shown = sc.effective(plan, "Returning visitors, ramp-up to all traffic")
+    per_visit = [dataclasses.replace(metric, windowed=False) for metric in shown.metrics]
+    assert compute(Plan(shown.settings, per_visit)).duration_days > base

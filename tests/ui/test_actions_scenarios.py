@@ -2,7 +2,7 @@
 tests/ui/test_scenarios_window.py reaches only one way (menu or shortcut) are gone through the
 other here, each checked for its effect on the plan or the window.
 
-Expected names and states follow from the bundled sample plan's three scenarios and the
+Expected names and states follow from the bundled sample plan's four scenarios and the
 actions' own documentation (README, "Scenarios"); no outside source.
 """
 
@@ -15,7 +15,8 @@ from user_steps import click_cell, press, press_each_shortcut, show
 
 from fourfold.plan import sample_path
 
-ARM_B, TRAFFIC, LIFT = "Without arm B", "All eligible traffic", "Accept +7 % conversion lift"
+ARM_B, TRAFFIC = "Without arm B", "All eligible traffic"
+RETURNING = "Returning visitors, ramp-up to all traffic"
 
 
 def _window(make_window, qtbot, answers=()):
@@ -44,8 +45,8 @@ def test_next_previous_and_base_from_the_menu(make_window, qtbot):
                    window.previous_scenario_action):
         action.trigger()
         shown.append(window.document.scenario)
-    assert shown == [ARM_B, TRAFFIC, ARM_B, None, LIFT]
-    assert LIFT in window.windowTitle()
+    assert shown == [ARM_B, TRAFFIC, ARM_B, None, RETURNING]
+    assert RETURNING in window.windowTitle()
 
 
 @pytest.mark.presses("new_scenario_action", "duplicate_scenario_action",

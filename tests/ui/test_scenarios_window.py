@@ -16,6 +16,7 @@ from fourfold.plan.sensitivity import sensitivity
 from fourfold.ui.columns import column_index
 
 ARM_B = "Without arm B"
+RETURNING = "Returning visitors, ramp-up to all traffic"
 
 
 def _settle(qtbot, window) -> None:
@@ -106,21 +107,21 @@ def test_new_delete_and_undo_through_the_actions(qtbot, make_window):
     window = _shown(qtbot, make_window)
     names = lambda: [s.name for s in window.document.whole.scenarios]  # noqa: E731
     window.new_scenario_action.trigger()
-    assert window.asked == ["Scenario 4"] and names()[-1] == "Scenario 4"
+    assert window.asked == ["Scenario 5"] and names()[-1] == "Scenario 5"
     window.answers = [None]  # cancelled: nothing happens
     window.new_scenario_action.trigger()
-    assert len(names()) == 4
+    assert len(names()) == 5
     window.delete_scenario_action.trigger()
     _settle(qtbot, window)
-    assert names() == [ARM_B, "All eligible traffic", "Accept +7 % conversion lift"]
+    assert names() == [ARM_B, "All eligible traffic", "Accept +7 % conversion lift", RETURNING]
     assert window.document.scenario is None
     assert "Undo brings it back" in window.statusBar().currentMessage()
     assert not window.delete_scenario_action.isEnabled()  # nothing to delete on the base
     window.undo_action.trigger()
     _settle(qtbot, window)
-    assert names()[-1] == "Scenario 4" and window.document.scenario == "Scenario 4"
+    assert names()[-1] == "Scenario 5" and window.document.scenario == "Scenario 5"
     window.redo_action.trigger()
-    assert len(names()) == 3
+    assert len(names()) == 4
 
 
 def test_a_taken_name_is_refused_in_the_status_line(qtbot, make_window):
@@ -128,7 +129,7 @@ def test_a_taken_name_is_refused_in_the_status_line(qtbot, make_window):
     window.answers = ["without ARM b"]
     window.new_scenario_action.trigger()
     assert "exists already" in window.statusBar().currentMessage()
-    assert len(window.document.whole.scenarios) == 3 and not window.document.dirty
+    assert len(window.document.whole.scenarios) == 4 and not window.document.dirty
 
 
 @pytest.mark.triggers("rename_scenario_action", "duplicate_scenario_action",
@@ -161,7 +162,7 @@ def test_shortcuts_and_the_summary_drop_down_switch_scenarios(qtbot, make_window
     qtbot.keyClick(window.table, Qt.Key.Key_PageUp, modifiers)
     assert window.document.scenario is None
     qtbot.keyClick(window.table, Qt.Key.Key_PageUp, modifiers)  # round to the last one
-    assert window.document.scenario == "Accept +7 % conversion lift"
+    assert window.document.scenario == RETURNING
     qtbot.keyClick(window.table, Qt.Key.Key_0, modifiers)
     assert window.document.scenario is None
     choice = window.summary.scenario
@@ -208,7 +209,7 @@ def test_the_overlay_toggle_draws_and_hides_the_other_scenarios_curves(qtbot, ma
     layer = window.plots.grid.plots["effect"].layer
     qtbot.waitUntil(lambda: layer.points("others")[0].size > 0)
     curves = sum(1 for value in layer.points("others")[0] if value != value)  # nan ends
-    assert curves == 3
+    assert curves == 4
     qtbot.keyClick(window.table, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier
                    | Qt.KeyboardModifier.AltModifier)
     assert not window.overlay_action.isChecked()
@@ -277,9 +278,9 @@ def test_save_writes_the_scenarios_and_the_one_on_show(qtbot, make_window, tmp_p
     path = tmp_path / "saved.json"
     assert window.save_to(path)
     data = json.loads(path.read_text(encoding="utf-8"))
-    # Version 3: the sample has ratio and quantile rows, units and Dunnett's correction.
-    assert data["schema_version"] == 3 and data["active"] == ARM_B
-    assert len(data["scenarios"]) == 3
+    # Version 4: a scenario of the sample uses a reach curve and a ramp-up.
+    assert data["schema_version"] == 4 and data["active"] == ARM_B
+    assert len(data["scenarios"]) == 4
     assert ARM_B in window.windowTitle() and "saved.json" in window.windowTitle()
 
 

@@ -138,7 +138,7 @@ def compare_file(plan_path: os.PathLike | str, output: os.PathLike | str | None 
     --------
     >>> from fourfold.plan import sample_path
     >>> compare_file(sample_path()).splitlines()[0].split("   ")[-1]
-    'Accept +7 % conversion lift'
+    'Returning visitors, ramp-up to all traffic'
     """
     if output is not None and Path(output).suffix.lower() != ".csv":
         raise ExportError(f"cannot tell which format to write for {Path(output).name}: the "

@@ -29,6 +29,7 @@ from pathlib import Path
 from fourfold.export import report
 from fourfold.export.csv import cell, encoded
 from fourfold.export.files import write_parts
+from fourfold.plan import traffic
 from fourfold.plan.comparison import Outcome, deciding_rows
 from fourfold.plan.rules import is_margin_row
 
@@ -100,7 +101,25 @@ def _plan_lines(found: list[Outcome]) -> list[Line]:
              _deltas(found, totals, report.units)),
         Line("Binding metric", tuple(each.binding_name or report.DASH for each in found),
              ("",) * len(found)),
+        *_traffic_line(found),
     ]
+
+
+def _traffic_line(found: list[Outcome]) -> list[Line]:
+    """The traffic model of each scenario, when one of them uses more than constant daily
+    units; a duration past a reach curve says "extrapolated" with its stated error."""
+    if not any(traffic.uses_model(each.plan.settings) for each in found):
+        return []
+    cells = []
+    for each in found:
+        settings = each.plan.settings
+        text = traffic.short_text(settings)
+        days = each.duration_days
+        if each.complete and traffic.extrapolated(settings, days):
+            error = float(traffic.model(settings).fit.error(days))
+            text += f" (extrapolated ±{error * 100:.2g} %)"
+        cells.append(text)
+    return [Line("Traffic", tuple(cells), ("",) * len(found))]
 
 
 def _effect(metric, row) -> tuple[str, float]:
@@ -170,7 +189,7 @@ def text_table(found: list[Outcome]) -> str:
     >>> from fourfold.plan.comparison import outcomes
     >>> duration = text_table(outcomes(load(sample_path()))).splitlines()[2]
     >>> " ".join(duration.split())
-    'Duration 35 days 21 days (−14 d) 21 days (−14 d) 21 days (−14 d)'
+    'Duration 35 days 21 days (−14 d) 21 days (−14 d) 21 days (−14 d) 21 days (−14 d)'
     """
     header = ["", *(each.label for each in found)]
     rows = [header]

@@ -19,6 +19,15 @@ spreadsheets detect the encoding), and a third for a plan with scenarios:
 ``checkout-scenarios.csv``
     Only for a plan with scenarios: one row per scenario, base first — see
     :func:`fourfold.export.comparison.write_comparison`.
+``checkout-traffic.csv``
+    Only for a plan that uses the traffic model beyond constant daily units (a reach curve, a
+    ramp-up, a burn-in) or rows that follow their history windows: the day-by-day traffic
+    (:mod:`fourfold.export.traffic`); the settings file then adds the model's rows
+    (``traffic``, ``traffic_model``, ``ramp``, ``burn_in_days``, ``reach_days``,
+    ``reach_units``, ``reach_fit``, ``reach_fit_error_frac``, ``duration_extrapolated``,
+    ``duration_stated_error_frac``, ``window_days``). A plan with rows that follow their
+    history windows has a ``window_days`` column after ``sd_used``: the window whose figures
+    such a row used (its ``baseline`` and ``sd`` are those figures).
 
 Column names
 ------------
@@ -111,6 +120,7 @@ from fourfold.export.files import ExportError, write_parts
 from fourfold.plan import CHOICES
 from fourfold.plan.arms import equal_allocation_saving, treatment_ratio
 from fourfold.plan.kinds import DERIVED_SD, unit_sd
+from fourfold.plan.windows import evaluated, follows, uses_windows
 
 FORMULA_STARTS = ("=", "+", "-", "@", "|", "\t", "\r", "\n")
 ENCODING = "utf-8-sig"
@@ -316,18 +326,35 @@ def settings_path(path: os.PathLike | str) -> Path:
     return path.with_name(f"{path.stem}-settings{path.suffix or '.csv'}")
 
 
+WINDOW_COLUMN = ("window_days", lambda i, m, r, p: p.window_days if follows(m) else None)
+"""After ``sd_used``, only for a plan with rows that follow their history windows."""
+
+
+def _columns(plan) -> tuple:
+    """The metric file's columns: :data:`COLUMNS`, with ``window_days`` for a plan that
+    uses history windows (a plan without them is written as before)."""
+    if not uses_windows(plan):
+        return COLUMNS
+    place = [name for name, _ in COLUMNS].index("sd_used") + 1
+    return (*COLUMNS[:place], WINDOW_COLUMN, *COLUMNS[place:])
+
+
 def metric_rows(plan, result) -> list[list[str]]:
     """The metric file as lists of cells, header first (see the module docstring)."""
-    lines = [[name for name, _ in COLUMNS]]
+    columns = _columns(plan)
+    lines = [[name for name, _ in columns]]
     for index, (metric, row) in enumerate(zip(plan.metrics, result.rows, strict=True)):
-        lines.append([cell(get(index, metric, row, result)) for _, get in COLUMNS])
+        lines.append([cell(get(index, metric, row, result)) for _, get in columns])
     return lines
 
 
 def settings_rows(plan, result) -> list[list[str]]:
     """The settings file as lists of cells, header ``key,value,unit`` first."""
+    from fourfold.export import traffic
+
     lines = [["key", "value", "unit"]]
     lines += [[key, cell(get(plan.settings, result)), unit] for key, unit, get in SETTINGS]
+    lines += [[key, cell(value), unit] for key, value, unit in traffic.settings_rows(plan, result)]
     lines += [[f"incomplete_{k}", cell(f"row {item.index + 1} ({item.name}): {item.reason}"),
                "text"] for k, item in enumerate(result.incomplete, 1)]
     lines += [[f"note_{i}", cell(note), "text"] for i, note in enumerate(result.notes, 1)]
@@ -402,7 +429,9 @@ def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tup
     Returns
     -------
     tuple of pathlib.Path
-        The metric file, the settings file and, for a plan with scenarios, the comparison.
+        The metric file, the settings file, for a plan with scenarios the comparison and, for a
+        plan that uses the traffic model, its day-by-day table
+        (:mod:`fourfold.export.traffic`).
 
     Raises
     ------
@@ -423,21 +452,27 @@ def write_csv(plan, path: os.PathLike | str, scenario: str | None = None) -> tup
     >>> [p.name for p in write_csv(load(sample_path()), out)]
     ['plan.csv', 'plan-settings.csv', 'plan-scenarios.csv']
     """
+    from fourfold.export import traffic
     from fourfold.export.comparison import scenario_rows, scenarios_path
     from fourfold.plan.evaluation import compute
     from fourfold.plan.scenarios import BASE, effective
 
     shown = effective(plan, scenario)
     result = compute(shown)
+    shown = evaluated(shown, result)  # rows that follow their windows: the figures used
     path = Path(path)
     targets = [path, settings_path(path)]
     settings = settings_rows(shown, result)
     if plan.scenarios:
         settings.insert(3, ["scenario", cell(scenario or BASE), "text"])
         targets.append(scenarios_path(path))
+    if traffic.uses(shown):
+        targets.append(traffic.traffic_path(path))
     contents = {targets[0]: encoded(targets[0], metric_rows(shown, result)),
                 targets[1]: encoded(targets[1], settings)}
     if plan.scenarios:
         contents[targets[2]] = encoded(targets[2], scenario_rows(plan))
+    if traffic.uses(shown):
+        contents[targets[-1]] = encoded(targets[-1], traffic.table_rows(shown, result))
     write_parts(contents)
     return tuple(targets)

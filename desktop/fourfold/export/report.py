@@ -324,7 +324,9 @@ def summary(plan, result) -> list[tuple[str, str, str]]:
             ("Binding metric", DASH, "unknown while incomplete"),
             arms,
         ]
-    if s.daily_units is None and s.runtime_days is None:
+    from fourfold.plan import traffic
+
+    if not traffic.has_traffic(s) and s.runtime_days is None:
         duration_detail = "no daily traffic given"
     elif not _finite(result.duration_days):
         duration_detail = "nothing sets the duration"
@@ -335,6 +337,8 @@ def summary(plan, result) -> list[tuple[str, str, str]]:
         whole = weeks == round(weeks) and s.whole_weeks
         duration_detail = (f"{weeks:.0f} whole {'week' if weeks == 1 else 'weeks'}" if whole
                            else "at the planned traffic")
+        if traffic.extrapolated(s, float(result.duration_days)):
+            duration_detail += ", beyond the reach curve (extrapolated)"
     if result.binding_index is None:
         binding, binding_detail = DASH, "no row binds"
     else:
@@ -374,8 +378,11 @@ def roles_text(plan) -> str:
     return f"{len(plan.metrics)} {rows} ({', '.join(parts)})" if parts else f"0 {rows}"
 
 
-def assumptions(plan) -> list[tuple[str, str]]:
-    """The plan-wide assumptions, as label and value."""
+def assumptions(plan, result=None) -> list[tuple[str, str]]:
+    """The plan-wide assumptions, as label and value (``result`` for the traffic model's
+    extrapolation flag)."""
+    from fourfold.plan import traffic as model
+
     s = plan.settings
     traffic = DASH if s.daily_units is None else f"{units(s.daily_units)} eligible units per day"
     runtime = DASH if s.runtime_days is None else f"{days(s.runtime_days)} days"
@@ -385,13 +392,17 @@ def assumptions(plan) -> list[tuple[str, str]]:
         if s.futility:
             looks += ", with a futility bound"
     overrides = [m.name for m in plan.metrics if m.alpha is not None or m.power is not None]
+    flow = [("Traffic", traffic), ("Share of traffic in the test", percent(s.share))]
+    if model.uses_model(s):
+        from fourfold.export.traffic import assumptions as traffic_assumptions
+
+        flow = traffic_assumptions(plan, result)
     rows = [
         ("Significance level α", probability(s.alpha)),
         ("Power", probability(s.power)),
         ("Multiple-comparison correction", CORRECTION_LABELS[s.correction]),
         ("Split between the arms", split_text(s)),
-        ("Traffic", traffic),
-        ("Share of traffic in the test", percent(s.share)),
+        *flow,
         ("Duration rounded to whole weeks", "yes" if s.whole_weeks else "no"),
         ("Fixed runtime", runtime),
         ("Interim looks", looks),

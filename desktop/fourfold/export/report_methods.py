@@ -39,7 +39,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from fourfold.plan import CHOICES
+from fourfold.plan import CHOICES, traffic, windows
 
 SPENDING_LABELS = {
     "ld-obrien-fleming": "Lan–DeMets, O'Brien–Fleming type",
@@ -253,7 +253,38 @@ def _plan_methods(plan, add) -> None:
             "quoted in the notes, is that of repeated significance tests on accumulating data.",
             "Armitage, P., McPherson, C. K. & Rowe, B. C. (1969). Repeated significance tests "
             "on accumulating data. Journal of the Royal Statistical Society A 132, 235–244.")
-    if s.daily_units is not None:
+    if traffic.uses_model(s) and traffic.has_traffic(s):
+        add("days", "From units to days: the traffic model",
+            "Days = the first whole day by which the test's analysed units reach the total: "
+            "after d days the test holds Σⱼ wⱼ·R(d − oⱼ + 1) units, band j of the ramp-up "
+            "(its rise wⱼ in share, opened on day oⱼ) taking the units seen from day oⱼ on, "
+            "R(d) the distinct eligible units of d days (daily units × d for constant "
+            "traffic), less those that joined in the burn-in"
+            + (", rounded up to whole weeks." if s.whole_weeks else "."),
+            "Common practice; no single source (the stationary reach of any d days is an "
+            "assumption of this model).")
+        if s.traffic == "reach":
+            add("reach", "Reach beyond the curve",
+                "R(d) = N·(1 − (1 + d/β)^−k) + c·d: a pool of N units reached at gamma-spread "
+                "rates (the negative binomial reach) plus c new units a day, fitted to the "
+                "curve's tail by relative least squares (N and c solved exactly for each k and "
+                "β); continued from the curve's last point; backtested on the curve itself.",
+                "Ehrenberg, A. S. C. (1959). The pattern of consumer purchases. Applied "
+                "Statistics 8, 26–41. Golub, G. H. & Pereyra, V. (1973). SIAM Journal on "
+                "Numerical Analysis 10, 413–432.")
+    elif s.daily_units is not None:
         text = "Days = total units ÷ (eligible units per day × share of traffic in the test)"
         text += ", rounded up to whole weeks." if s.whole_weeks else "."
         add("days", "From units to days", text, "Common practice; no single source.")
+    for m in plan.metrics:
+        if windows.follows(m):
+            add("windows", "Metrics over the test's own window",
+                "The row's baseline and sd (ρ, a ratio's inputs) are its figures over each "
+                "unit's first d days in the history, d the plan's duration (read linearly "
+                "between the windows imported, the nearest window's outside them), every unit "
+                "taken to be watched for the whole duration. Since the duration depends on "
+                "them, it is the fixed point of duration and window: rounds from the shortest "
+                "window, and when they cycle, halving the days between the longest that needs "
+                "more and the shortest that needs fewer.",
+                "Common practice; no single source (the fixed point is this program's rule).",
+                m.name)

@@ -16,13 +16,13 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
 
 from fourfold.figures.placement import first_clear
+from fourfold.figures.style import begin_painting
 from fourfold.formatting import MINUS
 from fourfold.plan.sequential import Look
 
 Z_CAP = 6.0
 """Highest z drawn; earlier boundaries above it are drawn at the cap with their value."""
 MAX_LABELS = 10
-SCREEN_DPI = 96.0
 
 FIXED_TEXT = ("One look: a fixed design. Set looks above 1 to plan interim analyses and see "
               "their stopping boundaries here.")
@@ -84,18 +84,13 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
         What was drawn where, by kind: "plot" (the axes' box), "title", "legend", "tick",
         "axis", "label" (a look's p) and "caption".
     """
-    px = max(1.0, painter.device().logicalDpiX() / SCREEN_DPI)
+    px, font = begin_painting(painter, style.points)
     drawn: list[tuple[str, QRectF]] = []
 
     def text(kind: str, box: QRectF, flags, words: str) -> None:
         painter.drawText(box, flags, words)
         drawn.append((kind, painter.boundingRect(box, flags, words)))
 
-    painter.save()
-    painter.setRenderHint(QPainter.RenderHint.Antialiasing)
-    font = QFont(painter.font())
-    font.setPointSizeF(style.points)
-    painter.setFont(font)
     metrics = painter.fontMetrics()
     line = metrics.height()
     painter.setPen(style.foreground)

@@ -47,7 +47,7 @@ def value_text(swing: Swing, value: float) -> str:
     """
     if swing.percent:
         return format_percent(value)
-    if swing.field == "daily_units":
+    if swing.field in ("daily_units", "reach"):
         return format_count(value)
     return format_number(value)
 

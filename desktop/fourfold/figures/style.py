@@ -114,3 +114,25 @@ def paper() -> QPalette:
     palette.setColor(QPalette.ColorRole.WindowText, QColor("#1c2126"))
     palette.setColor(QPalette.ColorRole.Highlight, QColor("#2d6a6f"))
     return palette
+
+
+SCREEN_DPI = 96.0
+"""The resolution a pixel of the screen figures is drawn at; a page scales lines by its own."""
+
+
+def begin_painting(painter, points: float) -> tuple[float, QFont]:
+    """Start a plain-QPainter figure: save the painter, antialias, set its font to ``points``.
+
+    Returns the screen pixel's size on the painter's device (≥ 1; lines and gaps are sized in
+    it, so a figure looks alike on the screen and on a 300 dpi page) and the font. The caller
+    restores the painter when done.
+    """
+    from PySide6.QtGui import QPainter
+
+    px = max(1.0, painter.device().logicalDpiX() / SCREEN_DPI)
+    painter.save()
+    painter.setRenderHint(QPainter.RenderHint.Antialiasing)
+    font = QFont(painter.font())
+    font.setPointSizeF(points)
+    painter.setFont(font)
+    return px, font

@@ -68,11 +68,14 @@ class Change:
         A :class:`SetFields` that also appends rows (a paste running past the last row)
         reports ``"rows_inserted"`` (undone: ``"rows_removed"``) for the new rows, with the
         fields it set in ``fields``; cells of the rows above may have changed too.
+    settings : tuple of str
+        Settings fields changed besides the rows (a history import with its reach curve).
     """
 
     kind: str
     rows: tuple[int, ...] = ()
     fields: tuple[str, ...] = ()
+    settings: tuple[str, ...] = ()
 
     def blocks(self) -> tuple[tuple[int, int], ...]:
         """``rows`` as contiguous ``(first, last)`` ranges, ascending.

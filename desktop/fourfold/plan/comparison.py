@@ -26,7 +26,7 @@ import math
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
-from fourfold.plan import scenarios
+from fourfold.plan import scenarios, traffic
 from fourfold.plan.evaluation import DECIDING_ROLES, PlanResult, RowCache, compute
 from fourfold.plan.model import Plan
 
@@ -173,7 +173,7 @@ def records(found: list[Outcome], base: Plan) -> list[dict]:
             "total_units": each.total_units,
             "binding_metric": each.binding_name,
             "changes": ("" if each.name is None else scenarios.describe(base, each.name)),
-            "notes": " ".join([*each.problems, *_failures(each)]),
+            "notes": " ".join([*each.problems, *_failures(each), *_flags(each)]),
         }
         index = {metric.id: row for row, metric in enumerate(each.plan.metrics)}
         for row_id, label in rows:
@@ -189,6 +189,15 @@ def _failures(each: Outcome) -> list[str]:
     return [f"{metric.name}: not computed — {row.reason}."
             for metric, row in zip(each.plan.metrics, each.result.rows, strict=True)
             if row.reason and metric.role in DECIDING_ROLES]
+
+
+def _flags(each: Outcome) -> list[str]:
+    """A duration past the scenario's reach curve, flagged with its stated error."""
+    if not each.complete or not math.isfinite(each.duration_days):
+        return []
+    flag = traffic.extrapolation_note(each.plan.settings, each.duration_days,
+                                      each.total_units)
+    return [flag] if flag else []
 
 
 def _row_cells(row) -> list[tuple[str, float]]:

@@ -84,13 +84,14 @@ import operator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
-from fourfold.plan import kinds, sequential
+from fourfold.plan import kinds, sequential, traffic, windows
 from fourfold.plan.arms import row_alphas, treatment_ratio
 from fourfold.plan.fields import CORRECTION_LABELS, METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Plan
 from fourfold.plan.results import PlanResult, RowResult, Unfinished
 from fourfold.plan.rows import (
     AtDuration,
+    not_settled,
     powers_at,
     runtime_units,
     solve_rows,
@@ -231,6 +232,69 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
     >>> result.rows[0].units_control, result.binding_name
     (1570.0, 'Spend')
     """
+    if windows.uses_windows(plan):
+        return _settle(plan, cache)
+    return _compute(plan, cache)
+
+
+def _settle(plan: Plan, cache: RowCache | None) -> PlanResult:
+    """Rows that follow their history windows: the fixed point of duration and figures
+    (:mod:`fourfold.plan.windows`)."""
+    runtime = plan.settings.runtime_days
+    if runtime is not None:
+        result = _compute(windows.at_days(plan, runtime), cache)
+        return dataclasses.replace(result, window_days=float(runtime), notes=(
+            *result.notes, *windows.notes(plan, runtime, "the fixed runtime")))
+    days = windows.start(plan)
+    tried: list[float] = []
+    found: list[float] = []
+    for _ in range(windows.MAX_ROUNDS):
+        shown = windows.at_days(plan, days)
+        result = _compute(shown, cache)
+        duration = result.duration_days
+        if duration is None or windows.is_settled(days, duration):
+            why = ("the plan's duration" if duration is not None else
+                   "the plan has no duration to match; the shortest window")
+            return dataclasses.replace(result, window_days=days, notes=(
+                *result.notes, *windows.notes(plan, days, why)))
+        tried.append(days)
+        found.append(duration)
+        if duration in tried:
+            break
+        days = duration
+    # A cycle: longer windows' figures shorten the duration. Halve the days between the
+    # longest tried whose figures need more and the shortest whose figures need fewer.
+    step = 7.0 if plan.settings.whole_weeks else 1.0
+    bracket = windows.bracket(tried, found)
+    while bracket is not None and (days := windows.between(*bracket, step)) is not None:
+        shown = windows.at_days(plan, days)
+        result = _compute(shown, cache)
+        duration = result.duration_days
+        if duration is None or windows.is_settled(days, duration):
+            return dataclasses.replace(result, window_days=days, notes=(
+                *result.notes, *windows.notes(plan, days, "the plan's duration")))
+        tried.append(days)
+        found.append(duration)
+        bracket = (days, bracket[1]) if duration > days else (bracket[0], days)
+    return _unsettled(shown, result, windows.rounds_text(tried, found))
+
+
+def _unsettled(shown: Plan, result: PlanResult, reason: str) -> PlanResult:
+    """The plan as incomplete: its windowed deciding rows' duration does not settle."""
+    rows = list(result.rows)
+    for index, metric in enumerate(shown.metrics):
+        if rows[index].reason:
+            continue
+        if metric.role in DECIDING_ROLES and windows.follows(metric):
+            rows[index] = not_settled(rows[index], reason)
+        elif waits_for_duration(shown.settings, metric):
+            rows[index] = without_duration(rows[index])
+    final = _summarise(shown, tuple(rows))
+    return dataclasses.replace(final, duration_powers=(math.nan,) * len(rows))
+
+
+def _compute(plan: Plan, cache: RowCache | None) -> PlanResult:
+    """:func:`compute` of a plan whose rows' figures are fixed."""
     if cache is None:
         designs: dict = {}
     else:
@@ -352,6 +416,7 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
                          "the tightest margin it rules out).")
         total = None if units is None else units * (1.0 + settings.arms
                                                     * treatment_ratio(settings))
+        notes.extend(_traffic_notes(settings, float(settings.runtime_days)))
         return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
 
     if not deciding:
@@ -377,8 +442,22 @@ def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = N
             else:
                 gap = f"{row.units_total:,.0f} units for its power; the test has {total:,.0f}"
             notes.append(f"{metric.name} (secondary) would need {gap}.")
+    notes.extend(_traffic_notes(settings, duration, total))
     return PlanResult(rows, None if math.isnan(duration) else duration, total, binding, name,
                       tuple(notes))
+
+
+def _traffic_notes(settings, days: float, total: float | None = None) -> list[str]:
+    """The traffic model's flags: a duration beyond the reach curve, a capped ramp-up."""
+    notes = []
+    flag = traffic.extrapolation_note(settings, days, total)
+    if flag:
+        notes.append(flag)
+    found = traffic.model(settings) if traffic.uses_model(settings) else None
+    if found is not None and found.capped:
+        notes.append(f"Ramp-up steps above the plan's share ({settings.share * 100:.3g} %) are "
+                     "capped at it.")
+    return notes
 
 
 def evaluate(plan: Plan) -> pandas.DataFrame:
@@ -391,7 +470,8 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
     ``df.attrs`` (``duration_days``, ``total_units``, ``binding_index``, ``binding_name``,
     ``notes``, ``status`` — ``"complete"`` or ``"incomplete"`` —, ``incomplete`` — one dict of
     ``index``, ``name`` and ``reason`` per deciding row that cannot be computed — and
-    ``settings``).
+    ``settings``, whose traffic model fields — :data:`fourfold.plan.traffic.TRAFFIC_SETTINGS`
+    — are there only for a plan that uses them).
 
     Examples
     --------
@@ -424,6 +504,7 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
         notes=list(result.notes),
         status=result.status,
         incomplete=[dataclasses.asdict(item) for item in result.incomplete],
-        settings={name: getattr(plan.settings, name) for name in SETTINGS_FIELDS},
+        settings={name: getattr(plan.settings, name) for name in SETTINGS_FIELDS
+                  if name not in traffic.TRAFFIC_SETTINGS or traffic.uses_model(plan.settings)},
     )
     return frame

@@ -29,6 +29,11 @@ BETTER = ("higher", "lower")
 CORRECTION_LABELS = {"none": "none", "bonferroni": "Bonferroni", "sidak": "Šidák",
                      "dunnett": "Dunnett"}
 ALLOCATION_LABELS = {"fixed": "as set", "sqrt-k": "√k rule"}
+TRAFFIC_MODELS = ("constant", "reach")
+TRAFFIC_LABELS = {"constant": "constant daily units", "reach": "reach curve"}
+WINDOW_FIELDS = ("baseline", "sd", "rho", "denominator", "numerator_sd", "denominator_sd",
+                 "correlation")
+"""The row fields a history window may set (:mod:`fourfold.plan.windows`)."""
 
 CHOICES: dict[str, Any] = {
     "role": ROLES,
@@ -40,6 +45,7 @@ CHOICES: dict[str, Any] = {
     "spending": SPENDING,
     "better": BETTER,
     "allocation": ALLOCATIONS,
+    "traffic": TRAFFIC_MODELS,
 }
 """Allowed values of every choice field; ``CHOICES["method"]`` maps each kind to its methods
 (the first is the kind's default, used when a row's method is ``None``)."""
@@ -54,6 +60,7 @@ MAX_TEXT = 200
 _SURROGATE = re.compile("[\ud800-\udfff]")
 MAX_DAYS = 3650
 MAX_UNIT = 20
+MAX_WINDOWS = 64
 
 
 class PlanError(FourfoldError, ValueError):
@@ -261,6 +268,80 @@ def _simulation(field: str, value: Any) -> dict | None:
     return validate_record(field, value)
 
 
+def _pairs(field: str, value: Any, what: str) -> list[tuple[float, float]]:
+    """A list of ``[day, number]`` pairs, days whole from 1 to MAX_DAYS and increasing."""
+    if not isinstance(value, (list, tuple)):
+        raise PlanError(f"{field} must be a list of [day, {what}] pairs", field)
+    if len(value) > MAX_DAYS:
+        raise PlanError(f"{field} must have at most {MAX_DAYS} days", field)
+    pairs = []
+    for place, pair in enumerate(value):
+        if not isinstance(pair, (list, tuple)) or len(pair) != 2:
+            raise PlanError(f"{field}[{place}] must be a [day, {what}] pair", field)
+        day = _number(f"{field}[{place}] day", pair[0])
+        number = _number(f"{field}[{place}] {what}", pair[1])
+        if day != int(day) or not 1 <= day <= MAX_DAYS:
+            raise PlanError(f"{field}[{place}]: the day must be a whole number from 1 to "
+                            f"{MAX_DAYS}; got {day:g}", field)
+        if pairs and day <= pairs[-1][0]:
+            raise PlanError(f"{field}[{place}]: days must increase (day {day:g} after day "
+                            f"{pairs[-1][0]:g})", field)
+        pairs.append((int(day), number))
+    return pairs
+
+
+def _reach(field: str, value: Any) -> tuple[tuple[float, float], ...]:
+    """A reach curve: distinct units after each day, never falling, the first above 0."""
+    pairs = _pairs(field, value, "units")
+    for place, (day, units) in enumerate(pairs):
+        low = 0.0 if not place else pairs[place - 1][1]
+        if units < low or (not place and units <= 0):
+            raise PlanError(f"{field}: units after day {day:g} must be "
+                            + ("above 0" if not place else
+                               f"at least those after day {pairs[place - 1][0]:g} "
+                               f"({low:,.10g}; distinct units never fall)")
+                            + f"; got {units:,.10g}", field)
+    return tuple(pairs)
+
+
+def _ramp(field: str, value: Any) -> tuple[tuple[float, float], ...]:
+    """A ramp-up: the share of traffic up to each day, in (0, 1] and never falling."""
+    pairs = _pairs(field, value, "share")
+    for place, (day, share) in enumerate(pairs):
+        if not 0 < share <= 1:
+            raise PlanError(f"{field}: the share up to day {day:g} must satisfy 0 < share ≤ 1; "
+                            f"got {share:g}", field)
+        if place and share < pairs[place - 1][1]:
+            raise PlanError(f"{field}: the share up to day {day:g} ({share:g}) is below the "
+                            f"one before ({pairs[place - 1][1]:g}); a ramp-up only rises", field)
+    return tuple(pairs)
+
+
+def _windows(field: str, value: Any) -> tuple[dict, ...]:
+    """A row's history windows: objects with whole ``days`` (increasing) and row fields."""
+    if not isinstance(value, (list, tuple)) or len(value) > MAX_WINDOWS:
+        raise PlanError(f"{field} must be a list of at most {MAX_WINDOWS} windows", field)
+    windows: list[dict] = []
+    for place, window in enumerate(value):
+        where = f"{field}[{place}]"
+        if not isinstance(window, dict) or "days" not in window:
+            raise PlanError(f"{where} must be an object with its days", field)
+        days = _number(f"{where}.days", window["days"])
+        if days != int(days) or not 1 <= days <= MAX_DAYS:
+            raise PlanError(f"{where}.days must be a whole number from 1 to {MAX_DAYS}", field)
+        if windows and days <= windows[-1]["days"]:
+            raise PlanError(f"{where}.days must be longer than the window before", field)
+        checked: dict[str, Any] = {"days": int(days)}
+        for name, number in window.items():
+            if name == "days":
+                continue
+            if name not in WINDOW_FIELDS:
+                raise PlanError(f"{where}.{name}: unknown field {name!r}", field)
+            checked[name] = _METRIC_RULES[name](f"{where}.{name}", number)
+        windows.append(checked)
+    return tuple(windows)
+
+
 _PROBABILITY = dict(low=0.0, high=1.0)
 
 _METRIC_RULES: dict[str, Callable[[str, Any], Any]] = {
@@ -294,6 +375,8 @@ _METRIC_RULES: dict[str, Callable[[str, Any], Any]] = {
     "n": _ranged(0.0, None, optional=True),
     "notes": _text(required=False),
     "simulation": _simulation,
+    "windowed": _flag,
+    "windows": _windows,
 }
 
 _SETTINGS_RULES: dict[str, Callable[[str, Any], Any]] = {
@@ -312,6 +395,11 @@ _SETTINGS_RULES: dict[str, Callable[[str, Any], Any]] = {
     "looks": _integer(1, MAX_LOOKS),
     "spending": _choice(SPENDING),
     "futility": _flag,
+    "traffic": _choice(TRAFFIC_MODELS),
+    "reach": _reach,
+    "reach_source": _short_text(required=False),
+    "ramp": _ramp,
+    "burn_in": _integer(0, MAX_DAYS - 1),
 }
 
 

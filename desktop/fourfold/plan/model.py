@@ -62,6 +62,19 @@ class Settings:
     looks, spending, futility
         Interim looks of a group-sequential design (``looks=1`` is a fixed design), the α
         spending function and whether a futility bound is used.
+    traffic : str
+        The traffic model (:mod:`fourfold.plan.traffic`): ``"constant"`` (``daily_units`` new
+        units every day) or ``"reach"`` (the distinct units of ``reach``).
+    reach : tuple of (day, units) pairs
+        The reach curve: distinct eligible units after each day listed (cumulative; linear
+        between the days, extrapolated by a fitted model beyond the last).
+    reach_source : str
+        Where the reach curve comes from (a history file, typed), for the report.
+    ramp : tuple of (day, share) pairs
+        The ramp-up: up to and including each day, the share of traffic in the test (rising);
+        after the last, ``share``.
+    burn_in : int
+        Days at the start whose units are not analysed (0: none).
 
     Examples
     --------
@@ -84,6 +97,11 @@ class Settings:
     looks: int = 1
     spending: str = "ld-obrien-fleming"
     futility: bool = False
+    traffic: str = "constant"
+    reach: tuple[tuple[float, float], ...] = ()
+    reach_source: str = ""
+    ramp: tuple[tuple[float, float], ...] = ()
+    burn_in: int = 0
 
 
 @dataclass
@@ -145,6 +163,13 @@ class Metric:
         Free text (where the numbers come from).
     simulation : dict or None
         A stored Monte Carlo check of the row (JSON-compatible).
+    windowed : bool
+        Take the row's figures from ``windows``, for the window as long as the plan's duration
+        (:mod:`fourfold.plan.windows`) instead of ``baseline``, ``sd`` and the others.
+    windows : tuple of dict
+        The row's figures over each unit's first days, from a history import: one dict per
+        window with ``"days"`` and the fields it sets (``baseline``, ``sd``, ``rho``, a ratio's
+        inputs), shortest window first.
     id : str
         The row's stable identity, which scenarios use to name the row (not a field a user
         edits, and not compared: two rows with the same values are equal). A new row gets a
@@ -186,6 +211,8 @@ class Metric:
     n: float | None = None
     notes: str = ""
     simulation: dict | None = None
+    windowed: bool = False
+    windows: tuple[dict, ...] = ()
     id: str = field(default_factory=new_row_id, compare=False, repr=False)
 
 

@@ -84,6 +84,10 @@ class PlanResult:
         Each row's power at the plan's duration: the chance its test detects its effect (a
         margin row: rules out its margin) with the units the plan's duration brings, at its
         α; ``nan`` where the row or the plan's duration is not known.
+    window_days : float or None
+        The days whose history windows gave the figures of the rows that follow them
+        (:mod:`fourfold.plan.windows`); None when no row does, or the duration did not
+        settle.
     """
 
     rows: tuple[RowResult, ...]
@@ -94,6 +98,7 @@ class PlanResult:
     notes: tuple[str, ...]
     incomplete: tuple[Unfinished, ...] = ()
     duration_powers: tuple[float, ...] = ()
+    window_days: float | None = None
 
     @property
     def status(self) -> str:

@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 
 from fourfold import engine
-from fourfold.plan import kinds, sequential
+from fourfold.plan import kinds, sequential, traffic
 from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.plan.results import RowResult
@@ -29,17 +29,35 @@ def _ceil(value: float) -> float:
 
 
 def runtime_units(settings: Settings) -> float | None:
-    """Control-arm units a fixed runtime provides, or ``None`` without runtime or traffic.
+    """Control-arm units a fixed runtime provides, or ``None`` without runtime or traffic
+    (the traffic model's :func:`fourfold.plan.traffic.control_units`; nan where its days are
+    not known).
 
     Examples
     --------
     >>> runtime_units(Settings(runtime_days=14, daily_units=30_000, share=0.5, arms=2))
     70000.0
     """
-    if settings.runtime_days is None or settings.daily_units is None:
+    if settings.runtime_days is None or not traffic.has_traffic(settings):
         return None
-    return (settings.runtime_days * settings.daily_units * settings.share
-            / (1.0 + settings.arms * treatment_ratio(settings)))
+    return float(traffic.control_units(settings, settings.runtime_days))
+
+
+def _runtime_reason(settings: Settings, units: float) -> str:
+    """Why a fixed runtime gives a row no units under a traffic model beyond constant daily
+    units ("" when it gives some, and always for plain constant traffic: the engine explains
+    its own edge cases)."""
+    if traffic.is_plain(settings):
+        return ""
+    if math.isnan(units):
+        known = traffic.model(settings)
+        return (f"the traffic model does not know the units of a "
+                f"{float(settings.runtime_days):g}-day runtime"
+                + (f": {known.why}" if known is not None and known.why else ""))
+    if units <= 0 and settings.burn_in >= settings.runtime_days:
+        return (f"the burn-in ({settings.burn_in} days) takes the whole fixed runtime "
+                f"({settings.runtime_days:g} days): no units are analysed")
+    return ""
 
 
 def _failed(solved: str, factor: float, alpha: float, power: float, reason: str) -> RowResult:
@@ -116,9 +134,12 @@ def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float, design
         if waiting and at_duration is not None:
             n_control = at_duration.units
         if n_control is None:
-            why = ("a fixed runtime needs the plan's daily units" if runtime else
+            why = (f"a fixed runtime needs {traffic.needs_text(settings)}" if runtime else
                    needs_units_text(solved))
             return _failed(solved, factor, shown_alpha, shown_power, why)
+        if runtime and _runtime_reason(settings, n_control):
+            return _failed(solved, factor, shown_alpha, shown_power,
+                           _runtime_reason(settings, n_control))
     days = math.nan  # the run of a row with units of its own: its looks may fall on week ends
     if n_control is not None and settings.looks > 1 and settings.whole_weeks:
         days = (float(settings.runtime_days) if runtime else
@@ -149,8 +170,10 @@ def _totals(settings: Settings, n_control: float) -> tuple[float, float, float]:
 def _days_of(settings: Settings, n_control: float) -> float:
     """Days for ``n_control`` control units, as :func:`fourfold.engine.duration_days` counts
     them (whole days, whole weeks when asked; nan without daily units)."""
-    if settings.daily_units is None:
+    if not traffic.has_traffic(settings):
         return math.nan
+    if not traffic.is_plain(settings):
+        return float(traffic.days_for(settings, _totals(settings, n_control)[2]))
     days = _ceil(_totals(settings, n_control)[2] / (settings.daily_units * settings.share))
     return 7.0 * math.ceil(days / 7.0) if settings.whole_weeks else days
 
@@ -278,11 +301,10 @@ def _finish_rows(plan: Plan, solved_rows: list, pending: dict[int, _Pending], re
     totals = _column([outcome[2] for _, outcome in solved_rows])
     if settings.runtime_days is not None:
         days = [float(settings.runtime_days)] * len(solved_rows)
-    elif settings.daily_units is None:
+    elif not traffic.has_traffic(settings):
         days = [math.nan] * len(solved_rows)
     else:
-        days = engine.duration_days(totals, settings.daily_units, settings.share,
-                                    settings.whole_weeks).tolist()
+        days = np.asarray(traffic.days_for(settings, totals)).tolist()
     weeks = settings.looks > 1 and settings.whole_weeks and settings.runtime_days is None
     for (index, outcome), day in zip(solved_rows, days, strict=True):
         row = pending[index]
@@ -298,8 +320,12 @@ def _finish_rows(plan: Plan, solved_rows: list, pending: dict[int, _Pending], re
                                                weekly[1])
             outcome = (*units, *outcome[3:])
         units_total = outcome[2]
+        if row.solved == "sample_size" and math.isnan(day) and traffic.has_traffic(settings):
+            results[index] = _failed(row.solved, row.factor, row.alpha, row.power,
+                                     traffic.unknown_text(settings, units_total))
+            continue
         results[index] = RowResult(*outcome[:3], day, *outcome[3:7], "", row.solved, row.factor,
-                                   *sequential.row_fields(staged, units_total, day),
+                                   *sequential.row_fields(staged, units_total, day, settings),
                                    *outcome[7:])
 
 
@@ -353,6 +379,14 @@ def without_duration(row: RowResult) -> RowResult:
                    math.nan if solved == "power" else row.power,
                    "the plan is incomplete, so it has no duration to solve for "
                    + solved.replace("_", " ") + " at")
+
+
+def not_settled(row: RowResult, reason: str) -> RowResult:
+    """``row`` as not computed because the duration its figures depend on does not settle."""
+    solved = row.solved
+    return _failed(solved, row.design_factor,
+                   math.nan if solved == "significance_level" else row.alpha,
+                   math.nan if solved == "power" else row.power, reason)
 
 
 def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: AtDuration,

@@ -61,6 +61,7 @@ LABELS = {
     "better": "Better when", "denominator": "Denom. mean", "numerator_sd": "Numer. SD",
     "denominator_sd": "Denom. SD", "correlation": "Corr.", "quantile_level": "Quantile",
     "density": "Density", "second_level": "2nd quantile", "second_value": "2nd value",
+    "windowed": "By window", "windows": "History windows",
 }
 """How the table names each metric field (its column header on one line)."""
 

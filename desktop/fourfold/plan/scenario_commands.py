@@ -55,6 +55,7 @@ from fourfold.plan.commands import (
 )
 from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS, PlanError, validate_field
 from fourfold.plan.model import Plan, Scenario
+from fourfold.plan.settings_commands import SetSettings, WithSettings, checked_settings
 
 _MISSING = object()
 
@@ -275,7 +276,7 @@ class InScenario(Command):
     Parameters
     ----------
     inner : Command
-        A :class:`SetFields` (or :class:`SetField`), :class:`SetSetting` or
+        A :class:`SetFields` (or :class:`SetField`), :class:`SetSetting`, :class:`SetSettings` or
         :class:`RemoveMetrics`; other commands are refused when applied.
     name : str
         The scenario.
@@ -324,6 +325,12 @@ class InScenario(Command):
             self._set(scenario.settings, (None, inner.field), value,
                       getattr(plan.settings, inner.field))
             return Change("settings", fields=(inner.field,))
+        if isinstance(inner, SetSettings):
+            values = checked_settings(inner.values)
+            self._old = {}
+            for field, value in values.items():
+                self._set(scenario.settings, (None, field), value, getattr(plan.settings, field))
+            return Change("settings", fields=tuple(values))
         if isinstance(inner, RemoveMetrics):
             rows = sorted(_check_row(view, row) for row in inner.rows)
             if not rows or len(set(rows)) != len(rows):
@@ -367,6 +374,8 @@ class InScenario(Command):
         _prune(scenario)
         if isinstance(self.inner, SetSetting):
             return Change("settings", fields=(self.inner.field,))
+        if isinstance(self.inner, SetSettings):
+            return Change("settings", fields=tuple(self.inner.values))
         view = scenarios.effective(plan, self.name)
         index = {metric.id: row for row, metric in enumerate(view.metrics)}
         fields = tuple(dict.fromkeys(field for _, field in self._old))
@@ -382,7 +391,12 @@ def _prune(scenario: Scenario) -> None:
 
 def routed(plan: Plan, command: Command) -> Command:
     """``command`` as the stack runs it: wrapped in :class:`InScenario` while a scenario is
-    active (scenario commands run as they are)."""
+    active (scenario commands run as they are; both parts of a :class:`WithSettings`
+    wrapped)."""
     if plan.active is None or isinstance(command, ScenarioCommand):
         return command
+    if isinstance(command, WithSettings):
+        return WithSettings(InScenario(command.rows, plan.active),
+                            InScenario(command.settings, plan.active),
+                            f"{command.text} in {plan.active}")
     return InScenario(command, plan.active)

@@ -38,8 +38,15 @@ from dataclasses import dataclass
 from typing import Any
 
 from fourfold.engine import METHODS
-from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS, PlanError, validate_field
+from fourfold.plan.fields import (
+    METRIC_FIELDS,
+    SETTINGS_FIELDS,
+    TRAFFIC_LABELS,
+    PlanError,
+    validate_field,
+)
 from fourfold.plan.model import Metric, Plan, Scenario
+from fourfold.plan.traffic import TRAFFIC_SETTINGS
 
 BASE = "Base"
 """The base's name in the comparison and the window (no scenario may take it)."""
@@ -319,12 +326,34 @@ _LABELS = {
     "share": "share of traffic in the test", "whole_weeks": "whole weeks",
     "runtime_days": "fixed runtime (days)", "looks": "looks", "rho": "CUPED ρ",
     "n": "n (control units)", "icc": "ICC", "sd": "sd", "cluster_cv": "cluster-size cv",
+    "traffic": "traffic model", "reach": "reach curve", "reach_source": "reach curve's source",
+    "ramp": "ramp-up", "burn_in": "burn-in", "windowed": "figures by window",
+    "windows": "history windows",
 }
 _FRACTIONS = ("alpha", "power", "share")
 
 
+def _traffic_shown(field: str, value: Any) -> str:
+    """A traffic model field in a sentence (a curve or a ramp-up in brief)."""
+    if field == "traffic":
+        return TRAFFIC_LABELS[value]
+    if field == "reach":
+        return (f"{value[-1][1]:,.0f} distinct units by day {value[-1][0]:g} "
+                f"({len(value)} points)") if value else "none"
+    if field == "ramp":
+        return ", ".join(f"up to day {day:g} at {100 * share:.3g} %"
+                         for day, share in value) or "none"
+    if field == "windows":
+        return ", ".join(f"{window['days']} d" for window in value) or "none"
+    if field == "burn_in":
+        return f"{value} {'day' if value == 1 else 'days'}"
+    return f"“{value}”" if value else "none"
+
+
 def _shown(field: str, value: Any, metric: Metric | None = None) -> str:
     """A value in a sentence: fractions and relative effects as percentages."""
+    if field in (*TRAFFIC_SETTINGS, "windows"):
+        return _traffic_shown(field, value)
     if value is None:
         return "none" if field in ("daily_units", "runtime_days", "n", "sd") else "default"
     if isinstance(value, bool):
@@ -350,6 +379,12 @@ def describe(plan: Plan, name: str) -> str:
     >>> describe(plan, "S")
     'Differs from the base in treatment arms 1 (base 2), share of traffic in the test 100 % \
 (base 60 %), Conversion: effect 7 % (base 5 %); leaves out Page load.'
+
+    Rows with the same changes are named together:
+
+    >>> plan.scenarios.append(Scenario("T", rows={"c": {"effect": 0.07}, "p": {"effect": 0.07}}))
+    >>> describe(plan, "T")
+    'Differs from the base in Conversion, Page load: effect 7 % (base 5 %).'
     """
     scenario = find(plan, name)
     view = effective(plan, name)
@@ -358,15 +393,18 @@ def describe(plan: Plan, name: str) -> str:
              f"(base {_shown(field, getattr(plan.settings, field))})"
              for field in SETTINGS_FIELDS if field in scenario.settings]
     changed = {metric.id: metric for metric in view.metrics}
+    rows: dict[tuple[str, ...], list[str]] = {}  # rows with the same changes named together
     for metric in plan.metrics:
         fields = scenario.rows.get(metric.id, {})
         if metric.id not in changed or not fields:
             continue
         mine = changed[metric.id]
-        parts += [f"{metric.name}: {_LABELS.get(field, field.replace('_', ' '))} "
-                  f"{_shown(field, getattr(mine, field), mine)} "
-                  f"(base {_shown(field, getattr(metric, field), metric)})"
-                  for field in METRIC_FIELDS if field in fields]
+        clauses = tuple(f"{_LABELS.get(field, field.replace('_', ' '))} "
+                        f"{_shown(field, getattr(mine, field), mine)} "
+                        f"(base {_shown(field, getattr(metric, field), metric)})"
+                        for field in METRIC_FIELDS if field in fields)
+        rows.setdefault(clauses, []).append(metric.name)
+    parts += [f"{', '.join(names)}: {', '.join(clauses)}" for clauses, names in rows.items()]
     left_out = [metric.name for metric in plan.metrics if metric.id in scenario.omitted]
     if not parts and not left_out:
         return "Same as the base."

@@ -9,9 +9,11 @@ input that makes the plan incomplete gives no duration for that side. The assump
 sorted by swing — the spread of their two durations — largest first: the plan is most fragile
 to the first.
 
-Daily units and share change every row's days alike and no row's units, so their durations
-come from the binding row's units directly (:func:`fourfold.engine.duration_days`, as the
-evaluation computes days); the row inputs are re-solved through
+The traffic — the daily units of a constant model, or every point of a reach curve scaled
+alike ("Reach") — and the share change every row's days alike and no row's units, so their
+durations come from the binding row's units directly through the plan's traffic model
+(:func:`fourfold.plan.traffic.days_for`, as the evaluation computes days; ramp-up steps above a
+lowered share are capped at it); the row inputs are re-solved through
 :func:`fourfold.plan.evaluation.compute` with a scratch :class:`RowCache`, which keeps the
 cost at one row per perturbation.
 
@@ -29,9 +31,9 @@ import dataclasses
 import math
 from dataclasses import dataclass
 
-from fourfold import engine
+from fourfold.plan import traffic, windows
 from fourfold.plan.evaluation import DECIDING_ROLES, PlanResult, RowCache, compute
-from fourfold.plan.model import Plan
+from fourfold.plan.model import Plan, Settings
 
 DEFAULT_AMOUNT = 0.2
 
@@ -122,7 +124,25 @@ def _duration(plan: Plan, cache: RowCache) -> tuple[float, float]:
 
 
 def _exact(settings, total: float) -> float:
-    return total / (settings.daily_units * settings.share)
+    return float(traffic.exact_days(settings, total))
+
+
+def _traffic_value(settings: Settings, field: str) -> float:
+    """The traffic input as a number: the daily units, the share, or a reach curve's units
+    by its last day."""
+    if field == "reach":
+        return float(settings.reach[-1][1])
+    return getattr(settings, field)
+
+
+def _traffic_moved(settings: Settings, field: str, factor: float,
+                   high: float | None) -> Settings:
+    """``settings`` with the traffic input scaled (a reach curve: every point alike)."""
+    if field == "reach":
+        reach = tuple((day, _scaled(units, factor, None, None)) for day, units in settings.reach)
+        return dataclasses.replace(settings, reach=reach)
+    return dataclasses.replace(settings, **{field: _scaled(getattr(settings, field), factor,
+                                                           None, high)})
 
 
 def _row_inputs(metric) -> list[tuple[str, str, float | None, float | None]]:
@@ -163,6 +183,7 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
     if not (isinstance(amount, (int, float)) and 0 < amount < 1):
         raise ValueError(f"amount must satisfy 0 < amount < 1; got {amount!r}")
     result = compute(plan) if result is None else result
+    plan = windows.frozen(plan, result)  # windowed rows keep the figures of the duration
     settings = plan.settings
     days = math.nan if result.duration_days is None else float(result.duration_days)
     if settings.runtime_days is not None:
@@ -172,9 +193,11 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
         return Sensitivity(amount, math.nan, None, (), "The plan is incomplete: a primary or "
                            "guardrail row cannot be computed, so there is no duration to move.")
     index = result.binding_index
-    if index is None or settings.daily_units is None:
+    if index is None or not traffic.has_traffic(settings):
         why = ("No primary or guardrail row solves for sample size: nothing sets the duration."
-               if index is None else "Without daily units the plan has no duration.")
+               if index is None else "Without daily units the plan has no duration."
+               if settings.traffic == "constant" else
+               "Without a reach curve the plan has no duration.")
         return Sensitivity(amount, days, None, (), why)
     cache = RowCache() if cache is None else cache
     metric = plan.metrics[index]
@@ -192,15 +215,16 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
                    or (field in ("effect", "margin") and metric.relative))
         swings.append(_swing(label, field, value, sides, percent=percent))
     total = result.rows[index].units_total
-    for label, field, high in (("Daily units", "daily_units", None),
-                               ("Traffic share", "share", 1.0)):
-        value = getattr(settings, field)
+    volume = ((f"Reach by day {settings.reach[-1][0]:g}", "reach", None)
+              if settings.traffic == "reach" else
+              ("Daily units", "daily_units", None))
+    for label, field, high in (volume, ("Traffic share", "share", 1.0)):
+        value = _traffic_value(settings, field)
         sides = []
         for factor in (1 - amount, 1 + amount):
-            moved = dataclasses.replace(settings, **{field: _scaled(value, factor, None, high)})
-            sides.append((getattr(moved, field), float(engine.duration_days(
-                total, moved.daily_units, moved.share, moved.whole_weeks)),
-                _exact(moved, total)))
+            moved = _traffic_moved(settings, field, factor, high)
+            sides.append((_traffic_value(moved, field),
+                          float(traffic.days_for(moved, total)), _exact(moved, total)))
         capped = field == "share" and value * (1 + amount) > 1.0
         swings.append(_swing(label, field, value, sides,
                              "the share is at most 100 %" if capped else "",

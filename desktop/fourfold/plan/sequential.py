@@ -32,6 +32,7 @@ from scipy.special import ndtri
 
 from fourfold.engine import sequential
 from fourfold.engine.sequential import SequentialDesign
+from fourfold.plan import traffic
 
 FUTILITY_FAMILY = {
     "ld-obrien-fleming": "ld-obrien-fleming",
@@ -51,8 +52,9 @@ def week_timing(settings, days: float) -> tuple[float, ...] | None:
 
     ``None`` (equal spacing) unless the plan has interim looks and runs in whole weeks, and the
     run holds at least as many whole weeks as looks. Interim look k of K falls at the end of
-    week ⌈k·W/K⌉ of the run's W whole weeks, the last look at its end; traffic is constant, so
-    a look's share of the days is its share of the units.
+    week ⌈k·W/K⌉ of the run's W whole weeks, the last look at its end; its information
+    fraction is its share of the run's analysed units (:mod:`fourfold.plan.traffic`), which
+    for constant traffic without ramp-up or burn-in is its share of the days.
 
     Examples
     --------
@@ -68,6 +70,13 @@ def week_timing(settings, days: float) -> tuple[float, ...] | None:
     if weeks < settings.looks:
         return None
     looks = settings.looks
+    if not traffic.is_plain(settings):
+        ends = np.array([7.0 * math.ceil(k * weeks / looks - 1e-9) for k in range(1, looks)])
+        whole = float(traffic.units_after(settings, days))
+        fractions = traffic.units_after(settings, ends) / whole
+        if not (whole > 0 and np.all(np.diff(np.concatenate([[0.0], fractions, [1.0]])) > 0)):
+            return None
+        return (*(float(f) for f in fractions), 1.0)
     ends = [7.0 * math.ceil(k * weeks / looks - 1e-9) / days for k in range(1, looks)]
     return (*ends, 1.0)
 
@@ -136,18 +145,30 @@ def _ceil(value: float) -> float:
     return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
 
 
-def look_days(made: SequentialDesign, days: float) -> tuple[float, ...] | None:
-    """Calendar day of each look (rounded up to whole days; the last is ``days``)."""
+def look_days(made: SequentialDesign, days: float,
+              settings=None) -> tuple[float, ...] | None:
+    """Calendar day of each look (rounded up to whole days; the last is ``days``).
+
+    With ``settings`` whose traffic is not plain constant (a reach curve, a ramp-up, a
+    burn-in; :mod:`fourfold.plan.traffic`), look k falls on the first day by which the
+    share t_k of the run's analysed units is in.
+    """
     if not math.isfinite(days):
         return None
+    if settings is not None and not traffic.is_plain(settings):
+        run = float(traffic.units_after(settings, days))
+        found = traffic.days_for(settings, np.asarray(made.fractions[:-1]) * run,
+                                 whole_weeks=False)
+        return tuple(float(min(day, days)) for day in np.atleast_1d(found)) + (float(days),)
     return tuple(_ceil(t * days) for t in made.fractions[:-1]) + (float(days),)
 
 
-def row_fields(made: SequentialDesign | None, units_total: float,
-               days: float) -> tuple[float, float, float, tuple[float, ...] | None]:
+def row_fields(made: SequentialDesign | None, units_total: float, days: float,
+               settings=None) -> tuple[float, float, float, tuple[float, ...] | None]:
     """``(units_max, units_expected_h1, days_expected_h1, look_days)`` of a computed row.
 
     ``units_total`` and ``days`` are the row's maximum; a fixed design returns them unchanged.
+    ``settings`` give the traffic model for the look days (:func:`look_days`).
 
     Examples
     --------
@@ -162,7 +183,7 @@ def row_fields(made: SequentialDesign | None, units_total: float,
         return units_total, units_total, days, None
     share = made.expected_h1 / made.inflation
     expected_units = _ceil(units_total * share) if math.isfinite(units_total) else math.nan
-    looks = look_days(made, days)
+    looks = look_days(made, days, settings)
     expected_days = math.nan if looks is None else _ceil(float(np.dot(made.stop_h1, looks)))
     return units_total, expected_units, expected_days, looks
 
@@ -251,8 +272,10 @@ LOOK_HEADERS = {
 """Column headers of a looks table, keyed by :class:`Look` field."""
 
 
-def looks_of(made: SequentialDesign, units_total: float, days: float) -> tuple[Look, ...]:
-    """The looks table of a row with maximum ``units_total`` and ``days``.
+def looks_of(made: SequentialDesign, units_total: float, days: float,
+             settings=None) -> tuple[Look, ...]:
+    """The looks table of a row with maximum ``units_total`` and ``days`` (``settings``: the
+    traffic model for the look days, :func:`look_days`).
 
     Examples
     --------
@@ -261,7 +284,7 @@ def looks_of(made: SequentialDesign, units_total: float, days: float) -> tuple[L
     ...  looks_of(made, 1000.0, 14.0)]
     [(7.0, 500.0, 2.178), (14.0, 1000.0, 2.178)]
     """
-    days_at = look_days(made, days) or (math.nan,) * made.looks
+    days_at = look_days(made, days, settings) or (math.nan,) * made.looks
     lower = made.lower if made.lower is not None else np.full(made.looks, math.nan)
     return tuple(
         Look(k + 1, float(t), days_at[k],
@@ -289,7 +312,7 @@ def row_looks(plan, result, index: int) -> tuple[Look, ...]:
     if made is None:
         return ()
     row = result.rows[index]
-    return looks_of(made, row.units_total, row.days)
+    return looks_of(made, row.units_total, row.days, plan.settings)
 
 
 def design_of_row(plan, result, index: int) -> SequentialDesign | None:

@@ -24,6 +24,15 @@ quantile kinds and their inputs, the √k allocation or Dunnett's correction —
 uses none of it is written as before (version 1 or 2), so older Fourfolds still read it, and
 files of every earlier version open unchanged, the new fields at their defaults.
 
+A plan that uses the traffic model beyond constant daily units — a reach curve, a ramp-up, a
+burn-in (:mod:`fourfold.plan.traffic`) — or rows that follow their history windows
+(:mod:`fourfold.plan.windows`) is written as ``"schema_version": 4`` with every field of
+version 3; a plan that uses none of it is written as before::
+
+    "traffic": "reach", "reach": [[1, 41500.0], [2, 46200.0], ...], "reach_source": "...",
+    "ramp": [[2, 0.05], [4, 0.25]], "burn_in": 1                          (settings)
+    "windowed": true, "windows": [{"days": 7, "baseline": 2.3, "sd": 14.1}, ...]  (rows)
+
 On reading, every value goes through :func:`fourfold.plan.fields.validate_field`; a missing
 field takes its default (except a metric's ``name``, ``kind`` and ``baseline``), an unknown
 field, a wrong type or an out-of-range value is a :class:`~fourfold.plan.fields.PlanError` that
@@ -42,7 +51,7 @@ import pathlib
 from typing import Any
 
 from fourfold import atomic
-from fourfold.plan import scenarios
+from fourfold.plan import scenarios, traffic
 from fourfold.plan.fields import (
     METRIC_FIELDS,
     SETTINGS_FIELDS,
@@ -62,12 +71,17 @@ with scenarios."""
 KINDS_VERSION = 3
 """The version that added units, directions, the ratio and quantile kinds, the √k allocation
 and Dunnett's correction; written only for a plan that uses one of them."""
-SCHEMA_VERSION = KINDS_VERSION
+TRAFFIC_VERSION = 4
+"""The version that added the traffic model (reach curve, ramp-up, burn-in) and rows that
+follow their history windows; written only for a plan that uses them."""
+SCHEMA_VERSION = TRAFFIC_VERSION
 """The newest version this Fourfold reads."""
 KINDS_METRIC_FIELDS = ("unit", "better", "denominator", "numerator_sd", "denominator_sd",
                        "correlation", "quantile_level", "density", "second_level",
                        "second_value")
 KINDS_SETTINGS_FIELDS = ("allocation",)
+TRAFFIC_METRIC_FIELDS = ("windowed", "windows")
+TRAFFIC_SETTINGS_FIELDS = traffic.TRAFFIC_SETTINGS
 REQUIRED_METRIC_FIELDS = ("name", "kind", "baseline")
 MAX_DIGITS = 4000
 """Longest JSON integer read exactly (below Python's 4,300-digit limit; any integer past 309
@@ -108,24 +122,47 @@ def _uses_kinds(plan: Plan) -> bool:
     return False
 
 
+def _uses_traffic(plan: Plan) -> bool:
+    """Whether the plan (or a scenario of it) uses anything version 4 added."""
+    if traffic.uses_model(plan.settings) or any(
+            metric.windowed or metric.windows for metric in plan.metrics):
+        return True
+    for scenario in plan.scenarios:
+        changed = set(scenario.settings)
+        for fields in scenario.rows.values():
+            changed.update(fields)
+        if changed & {*TRAFFIC_SETTINGS_FIELDS, *TRAFFIC_METRIC_FIELDS}:
+            return True
+    return False
+
+
+def _written(names, version: int, fields: dict[int, tuple[str, ...]]) -> list[str]:
+    """The names a file of ``version`` holds: those of later versions left out."""
+    return [name for name in names
+            if not any(name in added for since, added in fields.items() if version < since)]
+
+
 def to_dict(plan: Plan) -> dict[str, Any]:
     """The JSON object of a plan (every field written, in declaration order).
 
     Version 2 (row ids, scenarios and the active one) only when the plan has scenarios;
-    version 3 (and its fields) only when it uses what version 3 added.
+    version 3 (and its fields) only when it uses what version 3 added; version 4 (and its
+    fields) only when it uses what version 4 added.
     """
     version = PLAIN_VERSION
     if plan.scenarios:
         version = SCENARIOS_VERSION
     if _uses_kinds(plan):
         version = KINDS_VERSION
+    if _uses_traffic(plan):
+        version = TRAFFIC_VERSION
     versioned = version >= SCENARIOS_VERSION
-    metric_fields = [name for name in METRIC_FIELDS
-                     if version >= KINDS_VERSION or name not in KINDS_METRIC_FIELDS]
-    settings = dataclasses.asdict(plan.settings)
-    if version < KINDS_VERSION:
-        settings = {key: value for key, value in settings.items()
-                    if key not in KINDS_SETTINGS_FIELDS}
+    metric_fields = _written(METRIC_FIELDS, version, {KINDS_VERSION: KINDS_METRIC_FIELDS,
+                                                      TRAFFIC_VERSION: TRAFFIC_METRIC_FIELDS})
+    kept = _written(SETTINGS_FIELDS, version, {KINDS_VERSION: KINDS_SETTINGS_FIELDS,
+                                              TRAFFIC_VERSION: TRAFFIC_SETTINGS_FIELDS})
+    settings = {key: value for key, value in dataclasses.asdict(plan.settings).items()
+                if key in kept}
     data = {
         "format": FORMAT,
         "schema_version": version,

@@ -27,7 +27,7 @@ figure's three curves another. Every curve uses the row's own design, exactly as
 multiple comparisons) and power come from the row's result, units are multiplied by the row's
 design factor and, with interim looks, by the inflation of the group sequential design the
 evaluation gives the row at that α and power (:mod:`fourfold.plan.sequential`), and days turn
-into units through :func:`fourfold.plan.evaluation.runtime_units`.
+into units through the plan's traffic model (:func:`fourfold.plan.traffic.control_units`).
 Each figure carries the row's design point, which lies on its solid curve. Effects are shown in
 display units: percent of the baseline for relative rows, percentage points for absolute
 proportions, the metric's own units otherwise (``Tradeoffs.effect_scale`` converts back).
@@ -55,7 +55,6 @@ Examples
 
 from __future__ import annotations
 
-import dataclasses
 import functools
 import math
 from dataclasses import dataclass
@@ -65,9 +64,9 @@ from scipy.special import ndtri
 
 from fourfold import engine
 from fourfold.formatting import format_days
-from fourfold.plan import kinds, sequential
+from fourfold.plan import kinds, sequential, traffic, windows
 from fourfold.plan.arms import treatment_ratio
-from fourfold.plan.evaluation import PlanResult, RowResult, compute, runtime_units
+from fourfold.plan.evaluation import PlanResult, RowResult, compute
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.plan.rules import is_margin_row
 
@@ -409,6 +408,7 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
     if points < 5:
         raise ValueError(f"points must be at least 5, got {points!r}")
     result = compute(plan) if result is None else result
+    plan = windows.frozen(plan, result)  # rows that follow their windows: as evaluated
     metric, row = plan.metrics[index], result.rows[index]
     scale, unit, effect_text = _effect_units(metric)
     quantity = "margin" if is_margin_row(metric) else "effect"
@@ -496,16 +496,16 @@ def _units_figures(r: _Row, effect: float, span: tuple[float, float], scale: flo
 def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
                     labels: tuple[str, str, str], points: int) -> Figure:
     row, settings = r.row, r.plan.settings
-    if settings.daily_units is None:
+    if not traffic.has_traffic(settings):
         return _empty_figure("runtime", *labels,
-                             "set the plan's daily units to see days of runtime")
-    per_day = runtime_units(dataclasses.replace(settings, runtime_days=1.0))
-    needed = row.units_control / per_day if per_day > 0 else math.inf  # exact days
-    longest = max(needed, result.duration_days or 0.0)
-    if not math.isfinite(longest):
-        return _empty_figure("runtime", *labels,
+                             traffic.missing_text(settings, "days of runtime"))
+    needed = traffic.control_days(settings, row.units_control)  # the table rounds this up
+    if math.isinf(needed):
+        return _empty_figure("runtime", *labels, "at this traffic the days cannot be counted"
+                             if not traffic.is_plain(settings) else
                              f"at {settings.daily_units:g} daily units the days cannot be "
                              "counted")
+    longest = max(needed if math.isfinite(needed) else 0.0, result.duration_days or 0.0)
     weeks = int(min(MAX_WEEKS, max(WEEKS, math.ceil(longest / 7.0) + 1)))
     first = min(1.0, needed / 2.0) if math.isfinite(needed) and needed > 0 else 1.0
     days = np.linspace(first, 7.0 * weeks, max(points, 2 * weeks + 1))
@@ -514,7 +514,7 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
 
     def units_after(day_values):
         with np.errstate(over="ignore"):  # inf units where the traffic is beyond a double
-            return runtime_units(dataclasses.replace(settings, runtime_days=day_values))
+            return traffic.control_units(settings, day_values)
 
     at_days, at_days_other, at_weeks = (
         values * scale for values in r.detectable((units_after(days), row.alpha, row.power),
@@ -523,6 +523,8 @@ def _runtime_figure(r: _Row, result: PlanResult, effect: float, scale: float,
     duration = result.duration_days
     guide = float(duration) if duration is not None and math.isfinite(duration) else math.nan
     guide_label = f"test runs {format_days(guide)} d" if math.isfinite(guide) else ""
+    if traffic.extrapolated(settings, guide):  # past the reach curve: the fitted model's days
+        guide_label += ", extrapolated"
     return Figure("runtime", *labels, False, False,
                   Curve(days, at_days, _power_label(row.power)),
                   Curve(days, at_days_other, _power_label(other)),

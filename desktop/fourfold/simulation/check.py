@@ -25,6 +25,7 @@ from fourfold.plan.evaluation import compute
 from fourfold.plan.kinds import RATIO_FIELDS
 from fourfold.plan.sequential import design_of_row
 from fourfold.plan.simulation_record import INPUT_FIELDS
+from fourfold.plan.windows import evaluated
 from fourfold.simulation.intervals import wilson_interval
 from fourfold.simulation.power import simulate_power
 from fourfold.simulation.streams import SimulationCancelled
@@ -267,6 +268,7 @@ def check_metric(plan, index, *, reps=2000, seed=0, history=None, history_effect
     ('agrees', 400)
     """
     result = compute(plan) if result is None else result
+    plan = evaluated(plan, result)  # rows that follow their windows: the figures used
     metric, row, looks, n_control = _row_setup(plan, index, result)
     margin = row.margin_abs  # the row's own, or the tightest one it rules out
     try:
@@ -304,6 +306,7 @@ def is_stale(plan, index, result=None):
     True
     """
     result = compute(plan) if result is None else result
+    plan = evaluated(plan, result)
     return row_is_stale(plan.metrics[index], plan.settings, result.rows[index])
 
 
@@ -364,6 +367,7 @@ def check_plan(plan, *, rows=None, reps=2000, seed=0, history=None, history_effe
     ([0], [1])
     """
     result = compute(plan)
+    plan = evaluated(plan, result)
     wanted = range(len(plan.metrics)) if rows is None else sorted(set(rows))
     todo, skipped = [], []
     for index in wanted:

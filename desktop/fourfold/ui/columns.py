@@ -44,6 +44,8 @@ class Column:
         Shown only while the plan has interim looks.
     kind : str or None
         Shown only while the plan has a row of this kind (its own inputs).
+    windows : bool
+        Shown only while the plan has a row with history windows.
     """
 
     key: str
@@ -55,6 +57,7 @@ class Column:
     width: int = 9
     sequential: bool = False
     kind: str | None = None
+    windows: bool = False
 
     @property
     def label(self) -> str:
@@ -152,6 +155,11 @@ COLUMNS: tuple[Column, ...] = (
            optional=True, width=6, kind="quantile"),
     Column("second_value", "2nd\nvalue", "Quantile rows: the metric's value at the second "
            "percentile (the median, say).", optional=True, width=6, kind="quantile"),
+    Column("windowed", "By\nwindow", "The row's baseline and sd (and ρ, a ratio's inputs) are "
+           "its history figures over each unit's first days as long as the plan's duration — "
+           "revenue per visitor over 21 days for a 21-day test — and follow the duration; the "
+           "row's own figures are not used. Needs the windows of a history import with unit "
+           "and time columns.", editor=CHECK, width=6, windows=True),
     Column("method", "Method", "The test statistic used for this kind. Empty: the usual one "
            "for the kind.", editor=CHOICE, width=7),
     Column("alpha", "α", "This row's significance level; empty uses the plan's default "

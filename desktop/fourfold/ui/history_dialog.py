@@ -4,7 +4,8 @@ The dialog maps columns to metrics (kind, ratio denominator, pre-period column, 
 optionally a unit and a time column; it reads the file (streaming reader or DuckDB) or runs the
 query in a warehouse on a worker thread with a progress bar and Cancel, shows what it found per
 metric — over the whole history or over each unit's first days, with the reach curve — and
-applies it to new or existing metric rows as one undoable command. All the reading and
+applies it to new or existing metric rows as one undoable command (with the reach curve as the
+plan's traffic and rows following their windows when the user asks). All the reading and
 statistics are :mod:`fourfold.history`'s; this module only collects choices and shows results.
 Cancel or a bad file leaves the plan as it was.
 
@@ -148,6 +149,7 @@ class HistoryDialog(HistoryMapping, HistoryTraffic, HistoryWarehouse, HistoryRes
         self.reach_label.setWordWrap(True)
         self.reach_label.setVisible(False)
         layout.addWidget(self.reach_label)
+        layout.addWidget(self._plan_traffic_row())
         self.result_table = QTableWidget(0, len(RESULT_COLUMNS))
         self.result_table.setHorizontalHeaderLabels(RESULT_COLUMNS)
         header = self.result_table.horizontalHeader()

@@ -16,6 +16,7 @@ from fourfold.history import HistoryError, HistorySummary
 from fourfold.history.text import number
 from fourfold.plan import Metric
 from fourfold.plan.commands import InsertMetrics, SetFields
+from fourfold.plan.settings_commands import SetSettings, WithSettings
 from fourfold.ui.history_mapping import combo
 from fourfold.ui.history_traffic import WHOLE
 
@@ -38,6 +39,7 @@ class HistoryResults:
         self.window_box.addItem(WHOLE)
         self.window_box.setEnabled(False)
         self.reach_label.setVisible(False)
+        self.plan_traffic_row.setVisible(False)
         self._update_buttons()
 
     def _fill_results(self, summary: HistorySummary, keep_targets: bool = False) -> None:
@@ -99,8 +101,9 @@ class HistoryResults:
         box.setCurrentIndex(0 if plan_row is None else plan_row + 1)
 
     def command(self):
-        """The one command that applies the shown figures; HistoryError when targets are
-        mixed or a metric has no figures for the chosen window."""
+        """The one command that applies the shown figures (with the rows' windows, and the
+        reach curve as the plan's traffic when asked); HistoryError when targets are mixed
+        or a metric has no figures for the chosen window."""
         if self.summary is None:
             raise HistoryError("read the history file first")
         targets = self.targets()
@@ -113,15 +116,18 @@ class HistoryResults:
                 raise HistoryError(f"{display_name(name)} has no figures for "
                                    f"{self.window_box.currentText()}: {why}")
             metrics.append(metric)
+        traffic = self.plan_traffic()
+        windows = self.row_windows()
+        fields = [{**metric.plan_fields(), **self._window_fields(windows, metric.name)}
+                  for metric in metrics]
         if all(target is None for target in targets):
             rows = []
-            for metric in metrics:
-                fields = metric.plan_fields()
+            for metric, values in zip(metrics, fields, strict=True):
                 notes = f"{metric.describe()[:-1]}{where}. ({source})"
-                rows.append(Metric(name=display_name(metric.name)[:200], notes=notes, **fields))
+                rows.append(Metric(name=display_name(metric.name)[:200], notes=notes, **values))
             command = InsertMetrics(len(self.document.plan.metrics), rows)
             command.text = f"Import history into {len(rows)} new rows"
-            return command
+            return self._with_traffic(command, traffic)
         if any(target is None for target in targets):
             raise HistoryError(
                 "send every metric to an existing row, or every metric to a new row, so that "
@@ -129,12 +135,29 @@ class HistoryResults:
             )
         if len(set(targets)) != len(targets):
             raise HistoryError("two metrics are sent to the same plan row")
+        plan = self.document.plan
         edits = [
             (target, field, value)
-            for metric, target in zip(metrics, targets, strict=True)
-            for field, value in metric.plan_fields().items()
+            for values, target in zip(fields, targets, strict=True)
+            for field, value in values.items()
+            if field not in ("windows", "windowed") or value or plan.metrics[target].windows
         ]
-        return SetFields(edits, text=f"Import history into {len(targets)} rows")
+        command = SetFields(edits, text=f"Import history into {len(targets)} rows")
+        return self._with_traffic(command, traffic)
+
+    def _window_fields(self, windows: dict | None, name: str) -> dict:
+        """A row's windows and whether it follows them: this import's (none without a unit
+        and time column: a row's windows from another history would not match its figures)."""
+        found = (windows or {}).get(name, ())
+        follow = bool(found) and self.follow_box.isEnabled() and self.follow_box.isChecked()
+        return {"windows": found, "windowed": follow}
+
+    @staticmethod
+    def _with_traffic(command, traffic: dict | None):
+        if traffic is None:
+            return command
+        text = f"{command.text} and use its reach curve"
+        return WithSettings(command, SetSettings(traffic, "Use the reach curve"), text)
 
     def apply_to_plan(self) -> None:
         try:

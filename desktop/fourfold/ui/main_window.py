@@ -119,6 +119,7 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         self.scenario_panel.tools.addActions(self.scenario_tool_actions())
         self.scenario_panel.comparison.chosen.connect(self.switch_scenario)
         self.summary.chosen.connect(self.switch_scenario)
+        self.settings_panel.traffic_requested.connect(lambda: self.traffic_action.trigger())
         self._problem: str | None = None
         for source in (self.document.message, self.settings_panel.message, self.table.problem):
             source.connect(self.show_problem)
@@ -331,6 +332,12 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         from fourfold.ui.history_dialog import HistoryDialog
 
         HistoryDialog(self.document, self).exec()
+
+    def edit_traffic(self) -> None:
+        """Plan → Traffic model…: the traffic dialog on the plan on show (lazily)."""
+        from fourfold.ui.traffic_dialog import TrafficDialog
+
+        TrafficDialog(self.document, self).exec()
 
     def check_by_simulation(self) -> None:
         """Plan → Check by simulation: the selected rows (the dialog's own module, lazily)."""

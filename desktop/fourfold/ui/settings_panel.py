@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QLineEdit,
     QPlainTextEdit,
+    QPushButton,
     QSizePolicy,
     QSpinBox,
     QVBoxLayout,
@@ -29,7 +30,7 @@ from PySide6.QtWidgets import (
 
 from fourfold.errors import FourfoldError
 from fourfold.formatting import format_count, format_number, format_percent, parse_number
-from fourfold.plan import CHOICES
+from fourfold.plan import CHOICES, traffic
 from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.commands import SetSetting
 from fourfold.plan.fields import ALLOCATION_LABELS, CORRECTION_LABELS, MAX_ARMS, MAX_LOOKS
@@ -63,6 +64,10 @@ NUMBER_FIELDS = {
                      "the effect or power those days allow. Empty: rows solve for units.",
                      False, True),
 }
+
+
+WIDE_FIELDS = {"daily_units": "000,000", "share": "100.0 %", "runtime_days": "none"}
+"""Fields that keep room for their usual text when the traffic group is narrow."""
 
 
 class DescriptionEdit(QPlainTextEdit):
@@ -167,9 +172,12 @@ class SettingsPanel(QWidget):
     -------
     message(str)
         A refused value, for the status line.
+    traffic_requested()
+        The traffic model's button was pressed (the window opens Plan → Traffic model…).
     """
 
     message = Signal(str)
+    traffic_requested = Signal()
 
     def __init__(self, document: PlanDocument, parent=None) -> None:
         super().__init__(parent)
@@ -231,6 +239,10 @@ class SettingsPanel(QWidget):
         weeks.toggled.connect(lambda value: self._commit("whole_weeks", value))
         self.fields["whole_weeks"] = weeks
         grid.addWidget(weeks, 1, 2, 1, 2)
+        self.traffic_button = QPushButton()
+        self.traffic_button.setObjectName("trafficModel")
+        self.traffic_button.clicked.connect(lambda _checked=False: self.traffic_requested.emit())
+        grid.addWidget(self.traffic_button, 0, 4, 2, 1)
         layout.addWidget(frame, 2)
 
         frame, grid = _group("Interim looks")
@@ -262,7 +274,8 @@ class SettingsPanel(QWidget):
         edit = QLineEdit()
         edit.setToolTip(tooltip)
         edit.setAlignment(Qt.AlignmentFlag.AlignRight)
-        edit.setMinimumWidth(44)
+        edit.setMinimumWidth(44 if field not in WIDE_FIELDS else
+                             edit.fontMetrics().horizontalAdvance(WIDE_FIELDS[field]) + 14)
         edit.setMaximumWidth(110)
         if optional:
             edit.setPlaceholderText("none")
@@ -321,7 +334,7 @@ class SettingsPanel(QWidget):
             self.refresh()
 
     def _on_change(self, change) -> None:
-        if change.kind in ("settings", "scenario", "reset"):
+        if change.kind in ("settings", "scenario", "reset") or change.settings:
             self.refresh()
 
     @staticmethod
@@ -342,6 +355,21 @@ class SettingsPanel(QWidget):
         if isinstance(value, str):
             return {**CORRECTION_LABELS, **SPENDING_LABELS}.get(value, value) or "empty"
         return self.show_setting(field, value) or "none"
+
+    def _show_traffic(self, settings, changed: dict) -> None:
+        """The traffic model's button, and the daily units only a constant model uses."""
+        button = self.traffic_button
+        button.setText(traffic.short_text(settings).replace(", ", ",\n", 1) + "…")
+        button.setToolTip(traffic.describe(settings) + "\nPlan → Traffic model… (Ctrl+Shift+T)")
+        mark = any(field in changed for field in traffic.TRAFFIC_SETTINGS)
+        if bool(button.property("changed")) != mark:
+            button.setProperty("changed", mark)
+            button.style().unpolish(button)
+            button.style().polish(button)
+        daily = self.fields["daily_units"]
+        daily.setEnabled(settings.traffic == "constant")
+        if settings.traffic != "constant":
+            daily.setToolTip("The reach curve gives the traffic (Plan → Traffic model…)")
 
     def refresh(self) -> None:
         """Show the plan's current settings (without sending commands); while a scenario is
@@ -379,3 +407,4 @@ class SettingsPanel(QWidget):
                 widget.setText(value)
                 widget.setCursorPosition(0)
             widget.blockSignals(False)
+        self._show_traffic(settings, changed)

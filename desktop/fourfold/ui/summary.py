@@ -16,6 +16,7 @@ from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import QComboBox, QFrame, QHBoxLayout, QLabel, QSizePolicy
 
 from fourfold.formatting import MINUS, format_count, format_days, format_number, whole_days
+from fourfold.plan import traffic
 from fourfold.plan.arms import equal_allocation_saving
 from fourfold.plan.evaluation import RowCache
 from fourfold.plan.scenarios import BASE
@@ -168,14 +169,16 @@ class SummaryBar(QFrame):
         self._wrap(False)
         settings = self.document.plan.settings
         duration = duration_text(result.duration_days)
-        if result.duration_days is None and settings.daily_units is None:
-            duration = "— (set daily units)"
+        if result.duration_days is None and not traffic.has_traffic(settings):
+            duration = ("— (enter the reach curve)" if settings.traffic == "reach" else
+                        "— (set daily units)")
         text = f"Duration <b>{duration}</b>"
         outcomes = self.document.outcomes
         if self.document.scenario is not None and outcomes and outcomes[0].complete:
             delta = base_delta(result.duration_days, outcomes[0].result.duration_days)
             if delta:
                 text += f" ({delta})"
+        text += self._extrapolated(settings, result.duration_days)
         if settings.looks > 1 and result.binding_index is not None:
             expected = result.rows[result.binding_index].days_expected_h1
             if math.isfinite(expected):
@@ -190,6 +193,18 @@ class SummaryBar(QFrame):
             self.binding.setText("Fixed runtime: rows report what it allows")
         else:
             self.binding.setText("No binding metric (no primary or guardrail row sized)")
+
+    @staticmethod
+    def _extrapolated(settings, days: float | None) -> str:
+        """A duration past the reach curve's days, flagged in the warning colour with the
+        stated error ("" otherwise; the notes and the duration's tooltip say more)."""
+        if days is None or not traffic.extrapolated(settings, days):
+            return ""
+        found = traffic.model(settings)
+        error = float(found.fit.error(days)) * 100
+        colour = theme.tints().problem.name()
+        return f' <span style="color:{colour}">extrapolated ±{error:.2g} %</span>'
+
 
     def _wrap(self, wide: bool) -> None:
         """Let the duration item take the line's free width and wrap (an incomplete plan's

@@ -12,7 +12,7 @@ import math
 
 from PySide6.QtCore import Qt
 
-from fourfold.plan import CHOICES, kinds
+from fourfold.plan import CHOICES, kinds, traffic, windows
 from fourfold.plan.scenarios import find
 from fourfold.ui import cells, simulation_cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, TEXT
@@ -66,6 +66,27 @@ class TableDisplay:
             return cells.label(value) if value is not None else "empty"
         return cells.show_value(base, key, value)
 
+    def window_value(self, row: int, key: str):
+        """The figure a row that follows its history windows uses for ``key`` (the window as
+        long as the plan's duration), or None when it takes its own field."""
+        metric = self._rows[row]
+        if not windows.follows(metric) or not any(key in w for w in metric.windows):
+            return None
+        result = self.document.result
+        days = None if result is None else result.window_days
+        return None if days is None else windows.figures(metric, days)[0].get(key)
+
+    def _days_flag(self, row: int) -> str:
+        """Why a row's days are a flagged number: past the reach curve ("" otherwise)."""
+        settings = self.document.plan.settings
+        result = self._results[row]
+        if result is None or not traffic.extrapolated(settings, result.days):
+            return ""
+        found = traffic.model(settings)
+        return (f"Extrapolated: past the reach curve's {found.observed:g} days, where the "
+                f"fitted model gives the units (stated error ±"
+                f"{float(found.fit.error(result.days)) * 100:.2g} %)")
+
     def _default_text(self, key: str) -> str:
         settings = self.document.plan.settings
         return cells.format_number(getattr(settings, key), sig=3)
@@ -85,6 +106,9 @@ class TableDisplay:
             return cells.output_text(metric, self.document.plan.settings, self._results[row],
                                      key)
         value = getattr(metric, key)
+        shown = self.window_value(row, key)
+        if shown is not None:
+            return cells.show_value(metric, key, shown, with_unit=True)
         if col.editor == TEXT:
             return value
         if col.editor == CHECK:
@@ -148,6 +172,12 @@ class TableDisplay:
             return f"The usual method for a {metric.kind} (choose another to override it)"
         if col.key == "sd" and metric.kind in kinds.DERIVED_SD:
             return DERIVED_SD_TIPS[metric.kind]
+        if self.window_value(row, col.key) is not None:
+            days = self.document.result.window_days
+            return (f"From the history: each unit's first {days:g} days, the plan's duration "
+                    "(untick 'By window' to type the row's own)")
+        if col.key == "days" and self._days_flag(row):
+            return self._days_flag(row)
         if col.key == "density" and metric.kind == "quantile" and metric.density is None:
             return ("From the log-normal through the baseline and the second percentile; type "
                     "a density (the history import estimates one) to use it instead")
@@ -175,6 +205,10 @@ class TableDisplay:
         if col.key == "name" and self._reason(row):
             return self._tints.problem
         if col.key in ("alpha", "power") and getattr(metric, col.key) is None:
+            return self._tints.muted
+        if col.key == "days" and self._days_flag(row):
+            return self._tints.problem
+        if self.window_value(row, col.key) is not None:
             return self._tints.muted
         if col.key == "method" and metric.method is None:
             return self._tints.muted

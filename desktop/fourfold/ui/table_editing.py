@@ -17,6 +17,7 @@ from fourfold.plan import CHOICES, Metric
 from fourfold.plan.commands import SetField
 from fourfold.plan.fields import validate_field
 from fourfold.plan.kinds import DERIVED_SD
+from fourfold.plan.windows import follows
 from fourfold.ui import cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, TEXT
 
@@ -78,7 +79,10 @@ class TableEditing:
                          "false": False, "no": False, "0": False, "": False}
                 if lowered not in truth:
                     raise FourfoldError(f"{col.label}: type yes or no, not {value!r}")
-                return truth[lowered]
+                value = truth[lowered]
+            if col.key == "windowed" and value and not metric.windows:
+                raise FourfoldError(f"{metric.name} has no history windows: import them with "
+                                    "unit and time columns (Plan → Import history…)")
             return bool(value)
         if col.editor == CHOICE:
             if not isinstance(value, str):
@@ -104,6 +108,9 @@ class TableEditing:
         if col.key == "sd" and metric.kind in DERIVED_SD:
             raise FourfoldError(f"SD of a {metric.kind} row is derived from its own inputs; "
                                 f"edit those instead")
+        if follows(metric) and any(col.key in window for window in metric.windows):
+            raise FourfoldError(f"{col.label} of {metric.name} comes from its history window as "
+                                "long as the plan's duration; untick 'By window' to type one")
         if metric.unit and text.endswith(metric.unit) and col.key in cells.OWN_UNIT_KEYS:
             text = text[: -len(metric.unit)].strip()  # "20 ms" as the cell shows it
         return cells.read_value(metric, col.key, text, col.label)

@@ -135,7 +135,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
     def _on_change(self, change) -> None:
         kind = change.kind
         self._changes = self.scenario_changes()
-        if kind == "cells" and self._touched is not None:
+        if kind == "cells" and self._touched is not None and not change.settings:
             self._touched.update(change.rows)
             self._forget(change.rows)
         else:

@@ -119,16 +119,20 @@ class PlanTableView(QTableView):
                                model.index(model.rowCount() - 1, model.columnCount() - 1), ())
 
     def follow_looks(self) -> None:
-        """Show the interim-look columns only while the plan has more than one look, and a
-        kind's own columns only while the plan has a row of that kind."""
+        """Show the interim-look columns only while the plan has more than one look, a kind's
+        own columns only while the plan has a row of that kind, and "By window" only while a
+        row has history windows."""
         plan = self.plan_model().document.plan
         hidden = plan.settings.looks <= 1
         present = {metric.kind for metric in plan.metrics}
+        windows = any(metric.windows for metric in plan.metrics)
         for position, column in enumerate(COLUMNS):
             if column.sequential:
                 self.setColumnHidden(position, hidden)
             elif column.kind is not None:
                 self.setColumnHidden(position, column.kind not in present)
+            elif column.windows:
+                self.setColumnHidden(position, not windows)
 
     # -- sorting ------------------------------------------------------------------------
 

@@ -1,7 +1,8 @@
 """The main window's actions, with their shortcuts, and its menus.
 
 File (new, open, recent, save, export, quit), Edit (undo/redo mirrored from the plan's command
-stack, copy, paste), Plan (row actions, the history import, the simulation checks), View (text
+stack, copy, paste), Plan (row actions, the history import, the traffic model, the simulation
+checks), View (text
 size) and Help (about). Every action has a keyboard shortcut; the table's context menu holds
 the row actions. An action kept as ``self.<name>_action`` gets that attribute's name as its
 object name (:meth:`WindowActions.name_actions`), by which the tests find it.
@@ -122,6 +123,10 @@ class WindowActions:
             "Import &history…", self.import_history, "Ctrl+Shift+H",
             "Fill baselines, sds and ρ from a per-unit history file (one undo step)")
         self.plan_menu.addAction(self.history_action)
+        self.traffic_action = self._action(
+            "&Traffic model…", self.edit_traffic, "Ctrl+Shift+T",
+            "Constant daily units or a reach curve, a ramp-up and a burn-in (one undo step)")
+        self.plan_menu.addAction(self.traffic_action)
         self.simulate_action = self._action(
             "Check by &simulation…", self.check_by_simulation, "Ctrl+Shift+K",
             "Simulate the selected rows' tests and compare with the closed-form power")

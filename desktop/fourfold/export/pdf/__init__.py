@@ -116,9 +116,11 @@ def write_pdf(plan, path: os.PathLike | str, page: str = "a4",
         raise ExportError(f"page must be one of {', '.join(PAGES)}; got {page!r}")
     from fourfold.plan.evaluation import compute
     from fourfold.plan.scenarios import effective
+    from fourfold.plan.windows import evaluated
 
     whole, plan = plan, effective(plan, scenario)
     result = compute(plan)
+    plan = evaluated(plan, result)  # rows that follow their windows: the figures used
     application()
     path = Path(path)
     when = today or datetime.date.today()
@@ -246,7 +248,8 @@ def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> 
         flow.paragraph(f"• {note}", font(8.5), MUTED, indent=2, spacing=1.25, after=2)
 
     flow.heading("Assumptions")
-    flow.key_values(report.assumptions(plan))
+    flow.key_values(report.assumptions(plan, result))
+    _traffic(flow, plan, result)
     flow.heading("Variance reduction and clustering per row", level=2)
     flow.paragraph("The variance factor multiplies the units a row needs: (1 − ρ²) from CUPED "
                    "times the design effect of clustered units.", font(8), MUTED, spacing=1.25)
@@ -261,10 +264,13 @@ def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> 
                        "nor clustering (variance factor 1).", font(8), MUTED)
 
     flow.heading("Metric rows")
-    flow.paragraph("As entered. Effects are treatment minus control: “%” is relative to the "
-                   "baseline, “pp” percentage points. “H0 margin” is the difference under the "
-                   "null hypothesis of a non-inferiority or superiority-by-margin test.",
-                   font(8), MUTED, spacing=1.25)
+    window = ("" if result.window_days is None else
+              f" (rows that follow their history windows: their figures over each unit's "
+              f"first {result.window_days:g} days)")
+    flow.paragraph(f"As entered{window}. Effects are treatment minus control: “%” is relative "
+                   "to the baseline, “pp” percentage points. “H0 margin” is the difference "
+                   "under the null hypothesis of a non-inferiority or superiority-by-margin "
+                   "test.", font(8), MUTED, spacing=1.25)
     if not plan.metrics:
         flow.paragraph("The plan has no metric rows yet.", font(9), INK)
     flow.table(report.inputs_table(plan))
@@ -316,6 +322,24 @@ def _content(flow: Flow, plan, result, when: datetime.date, reported: tuple) -> 
         _entry(flow, [(method.name, font(8.5, bold=True), INK, 0, 1),
                       (method.text + used, font(8.5), INK, 10, 1),
                       (method.reference, font(8, italic=True), MUTED, 10, 6)])
+
+
+def _traffic(flow: Flow, plan, result) -> None:
+    """The traffic model's curve, for a plan that uses more than constant daily units."""
+    from fourfold.export import traffic
+
+    if not traffic.uses(plan):
+        return
+    curve = traffic.curve(plan, result)
+    if not curve:
+        return
+    from fourfold.figures.traffic import TrafficStyle, paint_traffic
+
+    flow.heading("Traffic over the test", level=2)
+    flow.paragraph(traffic.figure_caption(plan), font(8), MUTED, spacing=1.25)
+    style = TrafficStyle(INK, MUTED, RULE, ACCENT, QColor("#b0532c"), points=8.0)
+    flow.space(4)
+    flow.figure(flow.width * 0.36, lambda p, rect: paint_traffic(p, rect, curve, style))
 
 
 def _kinds(flow: Flow, plan) -> None:

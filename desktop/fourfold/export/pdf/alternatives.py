@@ -77,10 +77,12 @@ def what_moves(flow: Flow, plan, result, label: str) -> None:
     height = flow.width * (0.16 + 0.075 * max(len(found.swings), 1))
     flow.keep(height + flow.pt(80))  # the heading and its words stay with the figure
     flow.heading("What moves the duration")
+    volume = ("the reach curve (every point alike)" if plan.settings.traffic == "reach"
+              else "the daily units")
     flow.paragraph(f"Days the test needs ({label}) when one assumption is "
                    f"{report.number(100 * found.amount, 3)} % lower or higher than planned and "
                    "everything else stays: the binding row's baseline, sd, effect (or margin) "
-                   "and CUPED ρ, and the daily units and traffic share. The plan is most "
+                   f"and CUPED ρ, and {volume} and traffic share. The plan is most "
                    "fragile to the assumptions at the top.", font(8), MUTED, spacing=1.25)
     style = SensitivityStyle(INK, MUTED, RULE, LOWER, HIGHER, points=8.0)
     binding = f"binding: {found.binding}" if found.binding else ""
