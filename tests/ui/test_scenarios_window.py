@@ -322,3 +322,23 @@ def test_the_inputs_a_scenario_changes_are_marked_with_the_base_value(qtbot, mak
     assert arms.property("changed") is True
     assert arms.toolTip().endswith(f"Changed in scenario {ARM_B} (base: 2)")
     assert not window.settings_panel.fields["share"].property("changed")
+
+
+def test_the_scenario_put_on_show_is_scrolled_into_the_comparisons_view(qtbot, make_window):
+    window = _shown(qtbot, make_window)
+    qtbot.keyClick(window.table, Qt.Key.Key_2, Qt.KeyboardModifier.ControlModifier)
+    view = window.scenario_panel.comparison
+    modifiers = Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.AltModifier
+    qtbot.keyClick(window.table, Qt.Key.Key_PageUp, modifiers)  # round to the last one
+    _settle(qtbot, window)
+    assert window.document.scenario == RETURNING
+
+    def visible(name) -> bool:
+        left = view.columnViewportPosition(view.column_of(name))
+        return left >= 0 and left + view.columnWidth(view.column_of(name)) <= (
+            view.viewport().width())
+
+    qtbot.waitUntil(lambda: visible(RETURNING))
+    qtbot.keyClick(window.table, Qt.Key.Key_0, modifiers)  # back to the base
+    _settle(qtbot, window)
+    qtbot.waitUntil(lambda: visible(None))

@@ -185,9 +185,14 @@ class ComparisonView(QTableView):
             self.chosen.emit(names[column])
 
     def show_outcomes(self, found: list[Outcome], active: str | None, whole) -> None:
-        """Fill the table with the comparison of ``found`` (``active``: the one on show)."""
+        """Fill the table with the comparison of ``found`` (``active``: the one on show);
+        when another scenario comes on show, its column is scrolled into view."""
+        moved = active != self.comparison.active
         self.comparison.set_outcomes(found, active, whole)
         self._fit()
+        if moved and active in self.names:
+            top = max(self.rowAt(0), 0)  # the visible top row: only the columns scroll
+            self.scrollTo(self.comparison.index(top, self.column_of(active)))
 
     def _fit(self) -> None:
         model = self.comparison
