@@ -213,3 +213,5 @@ def test_describe_names_each_change_in_words():
         "Differs from the base in treatment arms 1 (base 2).")
     assert "Checkout conversion: effect 7 % (base 5 %)" in sc.describe(
         plan, "Accept +7 % conversion lift")
+    assert "ramp-up days 1–2 at 5 %, days 3–4 at 25 % (base none)" in sc.describe(
+        plan, "Returning visitors, ramp-up to all traffic")

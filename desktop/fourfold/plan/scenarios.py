@@ -46,7 +46,7 @@ from fourfold.plan.fields import (
     validate_field,
 )
 from fourfold.plan.model import Metric, Plan, Scenario
-from fourfold.plan.traffic import TRAFFIC_SETTINGS
+from fourfold.plan.traffic import TRAFFIC_SETTINGS, steps_text
 
 BASE = "Base"
 """The base's name in the comparison and the window (no scenario may take it)."""
@@ -341,8 +341,7 @@ def _traffic_shown(field: str, value: Any) -> str:
         return (f"{value[-1][1]:,.0f} distinct units by day {value[-1][0]:g} "
                 f"({len(value)} points)") if value else "none"
     if field == "ramp":
-        return ", ".join(f"up to day {day:g} at {100 * share:.3g} %"
-                         for day, share in value) or "none"
+        return steps_text(value) or "none"
     if field == "windows":
         return ", ".join(f"{window['days']} d" for window in value) or "none"
     if field == "burn_in":

@@ -426,12 +426,24 @@ def ramp_text(settings: Settings) -> str:
     >>> ramp_text(Settings(share=0.5, ramp=((1, 0.1),)))
     'day 1 at 10 %, then 50 %'
     """
+    steps = tuple((day, min(step, settings.share)) for day, step in settings.ramp)
+    return f"{steps_text(steps)}, then {_percent(settings.share)}" if steps else ""
+
+
+def steps_text(ramp) -> str:
+    """The steps of a ramp-up, ``((last day, share), ...)``, in words.
+
+    Examples
+    --------
+    >>> steps_text(((2, 0.05), (4, 0.25)))
+    'days 1–2 at 5 %, days 3–4 at 25 %'
+    """
     parts, first = [], 1
-    for day, step in settings.ramp:
+    for day, step in ramp:
         days = f"day {first}" if day == first else f"days {first}–{day:g}"
-        parts.append(f"{days} at {_percent(min(step, settings.share))}")
+        parts.append(f"{days} at {_percent(step)}")
         first = int(day) + 1
-    return ", ".join(parts) + f", then {_percent(settings.share)}" if parts else ""
+    return ", ".join(parts)
 
 
 def short_text(settings: Settings) -> str:
