@@ -84,6 +84,8 @@ import operator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
+import numpy as np
+
 from fourfold.plan import kinds, sequential, traffic, windows
 from fourfold.plan.arms import row_alphas, treatment_ratio
 from fourfold.plan.fields import CORRECTION_LABELS, METRIC_FIELDS, SETTINGS_FIELDS
@@ -112,6 +114,13 @@ _ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "altern
 _ROW_KEY = operator.attrgetter(*_ROW_INPUTS)
 
 _SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
+
+_RENAMED = {"alpha": "alpha_override", "power": "power_override"}
+"""The row overrides' columns in :func:`evaluate` (``alpha`` and ``power`` are the results')."""
+_FRAME_METRIC_FIELDS = tuple(name for name in METRIC_FIELDS if name != "simulation")
+_RESULT_FIELDS = tuple(item.name for item in dataclasses.fields(RowResult))
+_FLOAT_RESULT_FIELDS = frozenset(item.name for item in dataclasses.fields(RowResult)
+                                 if item.type == "float")
 
 __all__ = ["PlanResult", "RowCache", "RowResult", "Unfinished", "compute", "evaluate",
            "runtime_units"]
@@ -469,19 +478,21 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
     import pandas
 
     result = compute(plan)
-    renamed = {"alpha": "alpha_override", "power": "power_override"}
-    records = []
-    for index, (metric, row) in enumerate(zip(plan.metrics, result.rows, strict=True)):
-        record = {renamed.get(name, name): getattr(metric, name)
-                  for name in METRIC_FIELDS if name != "simulation"}
-        record.update(dataclasses.asdict(row))
-        record["binding"] = index == result.binding_index
-        record["power_at_duration"] = result.duration_powers[index]
-        records.append(record)
-    columns = [renamed.get(name, name) for name in METRIC_FIELDS if name != "simulation"]
-    columns += [field.name for field in dataclasses.fields(RowResult)]
-    columns += ["binding", "power_at_duration"]
-    frame = pandas.DataFrame.from_records(records, columns=columns)
+    # Column by column, without copying a row into a dict: a float field is a float array
+    # (what pandas makes of the same numbers), every other field a list pandas reads as before.
+    data = {_RENAMED.get(name, name): list(map(operator.attrgetter(name), plan.metrics))
+            for name in _FRAME_METRIC_FIELDS}
+    for name in _RESULT_FIELDS:
+        values = map(operator.attrgetter(name), result.rows)
+        data[name] = (np.fromiter(values, float, count=len(result.rows))
+                      if name in _FLOAT_RESULT_FIELDS else list(values))
+    binding = np.zeros(len(result.rows), dtype=bool)
+    if result.binding_index is not None:
+        binding[result.binding_index] = True
+    data["binding"] = binding
+    data["power_at_duration"] = np.array(result.duration_powers, dtype=float)
+    frame = (pandas.DataFrame(data, columns=list(data)) if plan.metrics else
+             pandas.DataFrame(columns=list(data), dtype=object))  # no rows: no types to read
     frame.attrs.update(
         duration_days=result.duration_days,
         total_units=result.total_units,
