@@ -54,3 +54,21 @@ def test_one_blas_thread_unless_the_user_chose(monkeypatch):
     with pytest.raises(SystemExit):
         cli.main(["--version"])
     assert os.environ["OPENBLAS_NUM_THREADS"] == "2"
+
+
+def test_opening_the_window_does_not_import_the_history_reader():
+    code = (
+        "import sys; from fourfold import cli; cli.build_parser('open'); "
+        "print(sorted(m for m in sys.modules if m.startswith('fourfold.history')))"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "[]"
+
+
+def test_history_help_lists_its_options(capsys):
+    with pytest.raises(SystemExit) as stop:
+        cli.main(["history", "--help"])
+    assert stop.value.code == 0
+    out = capsys.readouterr().out
+    for option in ("--mean", "--proportion", "--sql", "--query-result"):
+        assert option in out
