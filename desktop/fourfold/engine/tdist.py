@@ -97,21 +97,18 @@ def _chi_weights(df, nodes, weights):
     its terms of order ν z² and ν z³ cancel and it stays within a few units of 0 (no
     overflow guard is needed)."""
     third = 2.0 / (9.0 * df)[:, None]
-    step = np.sqrt(third) * nodes - third  # w − 1, where V/ν = w³
+    log_w = np.sqrt(third) * nodes
+    log_w -= third
+    np.log1p(log_w, out=log_w)  # w = 1 − 2/(9ν) + z·√(2/(9ν)), V/ν = w³
     half = 0.5 * df[:, None]
-    cube = step + 3.0  # then step·(3 + step·(3 + step)), ν(w³ − 1)/2 over ν/2, in place
-    cube *= step
-    cube += 3.0
-    cube *= step
-    cube *= half
-    found = np.log1p(step)
-    found *= 3.0 * half - 1.0
-    found -= cube
+    found = np.expm1(3.0 * log_w)  # w³ − 1
+    found *= -half
+    found += (3.0 * half - 1.0) * log_w
     found += 0.5 * nodes * nodes
     np.exp(found, out=found)
     found *= weights
-    step += 1.0  # w
-    return step * np.sqrt(step), found, found.sum(axis=1)
+    log_w *= 1.5
+    return np.exp(log_w, out=log_w), found, found.sum(axis=1)
 
 
 def _quadrature_tails(df, nc, t, both: bool):
