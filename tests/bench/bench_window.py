@@ -110,9 +110,14 @@ def startup() -> None:
           f"{statistics.median(plots):.3f} s, ratio {statistics.median(plots) / ref:.2f}")
 
 
-def edits(traffic: str = "constant") -> None:
+def _rows(sample, count: int) -> list:
     import dataclasses
 
+    return [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
+            for i in range(count)]
+
+
+def edits(traffic: str = "constant", rows: int = 500) -> None:
     from windows import close_window, open_window, paired, report
 
     from fourfold.plan import Plan, effective, load, sample_path
@@ -123,21 +128,110 @@ def edits(traffic: str = "constant") -> None:
     if traffic == "reach":
         returning = next(s.name for s in sample.scenarios if "reach" in s.settings)
         settings = effective(sample, returning).settings
-    metrics = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
-               for i in range(500)]
-    app, window = open_window(Plan(settings, metrics))
+    app, window = open_window(Plan(settings, _rows(sample, rows)))
     model = window.model
     column = column_index("sd")
     row = 1
     window.table.setCurrentIndex(model.index(row, column))
     app.processEvents()
+    count = EDITS if rows <= 5_000 else EDITS // 2
     reference, timings = paired(app, window, lambda step: model.setData(
-        model.index(row, column), f"{14.0 + 0.01 * step:.2f}"), EDITS)
-    report(f"edit of a 500-row plan ({traffic} traffic) → table and plots", reference, timings)
+        model.index(row, column), f"{14.0 + 0.01 * step:.2f}"), count)
+    report(f"edit of a {rows:,}-row plan ({traffic} traffic) → table and plots", reference,
+           timings)
+    close_window(app, window)
+
+
+LOOKS = (2, 3, 4, 5)
+LOOK_RUNS = 5
+
+
+def _forget_designs() -> None:
+    """Empty every cache of group sequential designs, so that each run meets them first."""
+    from fourfold.engine import sequential as engine_sequential
+    from fourfold.plan import sequential, tradeoffs
+
+    for cached in (engine_sequential._boundaries, sequential.shared_design,
+                   sequential._power_of, tradeoffs._inflation, tradeoffs._node_inflations):
+        cached.cache_clear()
+
+
+def looks(rows: int | None = None) -> None:
+    """The number of interim looks changed (1 → 2 → 3 → 4 → 5, each met for the first time:
+    the design caches are emptied before each run) on the sample plan (7 rows, 4 scenarios;
+    ``rows`` None) or a plan of ``rows`` of its rows without scenarios: the time from the
+    change to the table's first repaint with the new looks (target ≤ 16 ms) and to the end of
+    its recompute and redraw. Reference: ``compute`` of the plan before the change, without a
+    cache, measured before each change."""
+    import statistics
+
+    from PySide6.QtCore import QEvent, QObject
+    from windows import close_window, open_window
+
+    from fourfold.plan import Plan, load, sample_path
+    from fourfold.plan.evaluation import compute
+
+    sample = load(sample_path())
+    plan = sample if rows is None else Plan(sample.settings, _rows(sample, rows))
+    app, window = open_window(plan)
+    spin = window.settings_panel.fields["looks"]
+    window.table.setCurrentIndex(window.model.index(0, 0))
+    app.processEvents()
+
+    class Painted(QObject):
+        at = None
+
+        def eventFilter(self, obj, event):  # noqa: N802 (Qt's name)
+            if event.type() == QEvent.Type.Paint and self.at is None and computed:
+                self.at = time.perf_counter()
+            return False
+
+    painted, computed = Painted(), []
+    window.table.viewport().installEventFilter(painted)
+    window.document.computed.connect(lambda: computed.append(True))
+    first = {k: [] for k in LOOKS}
+    settled = {k: [] for k in LOOKS}
+    reference = []
+    for _ in range(LOOK_RUNS):
+        spin.setValue(1)
+        for _ in range(5):
+            app.processEvents()
+        _forget_designs()
+        for k in LOOKS:
+            start = time.perf_counter()
+            compute(window.document.plan)
+            reference.append(time.perf_counter() - start)
+            computed.clear()
+            painted.at = None
+            start = time.perf_counter()
+            spin.setValue(k)
+            while painted.at is None:
+                app.processEvents()
+            first[k].append(painted.at - start)
+            while window.document.pending() or window.plots._redraw_timer.isActive():
+                app.processEvents()
+            app.processEvents()
+            settled[k].append(time.perf_counter() - start)
+    ref = statistics.median(reference) * 1e3
+    name = (f"the sample plan ({len(sample.metrics)} rows, {len(sample.scenarios)} scenarios)"
+            if rows is None else f"a {rows}-row plan")
+    print(f"looks changed, {name}: compute alone {ref:.1f} ms")
+    for k in LOOKS:
+        shown, done = statistics.median(first[k]) * 1e3, statistics.median(settled[k]) * 1e3
+        print(f"  to {k} looks: first repaint {shown:.1f} ms (target ≤ 16 ms; ratio "
+              f"{shown / ref:.2f}); all redrawn {done:.1f} ms")
     close_window(app, window)
 
 
 if __name__ == "__main__":
-    startup()
-    edits()
-    edits("reach")
+    chosen = sys.argv[1:] or ["startup", "edits", "looks"]
+    if "startup" in chosen:
+        startup()
+    if "edits" in chosen:
+        edits()
+        edits("reach")
+        edits(rows=5_000)
+        edits(rows=20_000)
+    if "looks" in chosen:
+        looks()
+        looks(500)
