@@ -69,3 +69,21 @@ def test_a_reader_that_left_stops_the_output_quietly():
         os.close(write_end)
     assert done.stderr == ""
     assert done.returncode == 1
+
+
+def test_opening_the_window_does_not_import_the_history_reader():
+    code = (
+        "import sys; from fourfold import cli; cli.build_parser('open'); "
+        "print(sorted(m for m in sys.modules if m.startswith('fourfold.history')))"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "[]"
+
+
+def test_history_help_lists_its_options(capsys):
+    with pytest.raises(SystemExit) as stop:
+        cli.main(["history", "--help"])
+    assert stop.value.code == 0
+    out = capsys.readouterr().out
+    for option in ("--mean", "--proportion", "--sql", "--query-result"):
+        assert option in out

@@ -32,7 +32,10 @@ def _size(text: str) -> tuple[int, int]:
     return width, height
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(command: str | None = None) -> argparse.ArgumentParser:
+    """The parser; ``command`` (the sub-command about to run, when known) leaves out the
+    options of the others that need imports of their own (``history``'s come from
+    :mod:`fourfold.history`, which opening the window never needs)."""
     parser = argparse.ArgumentParser(
         prog="fourfold",
         description=(
@@ -85,11 +88,11 @@ def build_parser() -> argparse.ArgumentParser:
     p_shot.add_argument("--tab", choices=("plots", "scenarios"), default="plots",
                         help="the tab under the table (default: plots)")
 
-    from fourfold.history.cli import configure as configure_history
+    p_history = sub.add_parser("history", help="baselines and variances from per-unit history")
+    if command in (None, "history"):
+        from fourfold.history.cli import configure as configure_history
 
-    configure_history(
-        sub.add_parser("history", help="baselines and variances from per-unit history")
-    )
+        configure_history(p_history)
     return parser
 
 
@@ -134,8 +137,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     # arrays are small, and OpenBLAS's workers spin after each call, taking the second core
     # of a laptop from the window (an edit's frame took about 1 ms longer).
     os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
-    parser = build_parser()
-    args = parser.parse_args(_normalise(sys.argv[1:] if argv is None else argv))
+    arguments = _normalise(sys.argv[1:] if argv is None else argv)
+    parser = build_parser(arguments[0])
+    args = parser.parse_args(arguments)
     try:
         with _stop_on_terminate(args.command != "open"):
             return _run(parser, args)

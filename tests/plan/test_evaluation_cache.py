@@ -2,8 +2,10 @@
 
 The reference is :func:`fourfold.plan.evaluation.compute` without a cache on the same plan
 (a consistency check; no outside source is involved). Edits are drawn by hypothesis: a cell
-changed in place, two rows swapped, a row's inputs copied onto another (equal inputs share
-one result), rows inserted and removed, a row override of α, the plan's correction.
+changed by replacing its row, two rows swapped, a row's inputs copied onto another (equal inputs
+share one result), rows inserted and removed, a row override of α, the plan's correction; and,
+as the command stack makes them, assignments to a row in place: a cell, a name (no input), a
+role (which moves every primary row's α) and a row that comes to wait for the plan's duration.
 """
 
 import dataclasses
@@ -53,11 +55,19 @@ def _apply(plan: Plan, edit: tuple) -> None:
         metrics[first] = dataclasses.replace(metrics[first], solve="power")
     elif what == "correction":
         plan.settings = dataclasses.replace(plan.settings, correction="bonferroni")
+    elif what == "in_place":
+        metrics[first].baseline = metrics[first].baseline * scale
+    elif what == "rename":
+        metrics[first].name = f"Renamed {scale}"
+    elif what == "role":
+        metrics[first].role = "secondary" if metrics[first].role == "primary" else "primary"
+    elif what == "waits":
+        metrics[first].solve, metrics[first].n = "power", None
 
 
 EDITS = st.tuples(
     st.sampled_from(["cell", "swap", "copy", "insert", "remove", "alpha", "solve",
-                     "correction"]),
+                     "correction", "in_place", "rename", "role", "waits"]),
     st.integers(0, 40), st.integers(0, 40), st.sampled_from([0.5, 0.9, 1.1, 1.5]),
 )
 
@@ -76,12 +86,16 @@ def test_cached_results_equal_uncached_ones_after_any_edits(edits):
         for x, y in zip(cached.rows, fresh.rows, strict=True):
             for name in (f.name for f in dataclasses.fields(x)):
                 assert _same(getattr(x, name), getattr(y, name)), (edit, name)
-        for name in ("duration_days", "total_units", "binding_index", "binding_name", "notes"):
+        for name in ("duration_days", "total_units", "binding_index", "binding_name", "notes",
+                     "incomplete"):
             assert _same(getattr(cached, name), getattr(fresh, name)), (edit, name)
+        assert all(_same(x, y) for x, y in zip(cached.duration_powers, fresh.duration_powers,
+                                               strict=True))
         # a row's key: the α it is tested at (after the correction) and its inputs
         keys = [(row.alpha, *(getattr(metric, name) for name in INPUTS))
                 for row, metric in zip(fresh.rows, plan.metrics, strict=True)]
         assert len(cache.rows) == len(set(keys))
-        for i, key in enumerate(keys):  # equal inputs share one result
-            j = keys.index(key)
-            assert cached.rows[i] is cached.rows[j]
+        for i, key in enumerate(keys):  # equal inputs share one result (rows solved at
+            j = keys.index(key)           # the plan's duration are solved anew each time)
+            if plan.metrics[i].solve == "sample_size" or plan.metrics[i].n is not None:
+                assert cached.rows[i] is cached.rows[j]

@@ -113,3 +113,40 @@ def test_a_recompute_redraws_the_plots_in_the_same_pass(make_window):
     assert shown is not before
     effect = window.plots.grid.plots["effect"]
     assert effect.points("point")[1][0] == compute(window.document.plan).rows[1].units_control
+
+
+def test_an_edit_of_one_row_of_20000_reads_solves_and_announces_that_row_only(qtbot,
+                                                                               monkeypatch):
+    # What an edit costs grows with what it changes, not with the plan: the row's key is
+    # built, the row solved, the summary's facts read and the table told for that row alone.
+    import fourfold.plan.evaluation as evaluation
+    from fourfold.plan.summary import RowFacts
+
+    document = PlanDocument(_big_plan(20_000))
+    model = PlanTableModel(document)
+    solved, keyed, read = [], [], []
+    real_solve, real_key, real_read = evaluation.solve_rows, evaluation.row_inputs, RowFacts._read
+    monkeypatch.setattr(evaluation, "solve_rows", lambda plan, designs, alphas, missing, *rest:
+                        solved.append(list(missing)) or real_solve(plan, designs, alphas,
+                                                                  missing, *rest))
+    monkeypatch.setattr(evaluation, "row_inputs",
+                        lambda metric: keyed.append(metric.name) or real_key(metric))
+    monkeypatch.setattr(RowFacts, "_read", lambda facts, index, *rest:
+                        read.append(index) or real_read(facts, index, *rest))
+    ranges = _recorded(model)
+    row = _mean_row(document.plan, 12_345)
+    before = document.result
+    assert document.apply(SetField(row, "sd", document.plan.metrics[row].sd * 1.5))
+    qtbot.waitUntil(lambda: not document.pending())
+    assert solved == [[row]]
+    assert keyed == [document.plan.metrics[row].name]
+    assert read == [row]
+    assert ranges == [(row, 0, row, len(COLUMNS) - 1)]
+    after = document.result
+    assert [i for i, (a, b) in enumerate(zip(before.rows, after.rows, strict=True))
+            if a is not b] == [row]
+    fresh = compute(document.plan)
+    assert after.rows == fresh.rows
+    for name in ("duration_days", "total_units", "binding_index", "notes", "incomplete"):
+        assert getattr(after, name) == getattr(fresh, name), name
+    assert after.duration_powers == fresh.duration_powers

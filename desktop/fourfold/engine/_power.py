@@ -75,12 +75,8 @@ def power_of(distance, s0, s1, cc, n, u, alternative, exact_t, ratio):
     total = None
     if exact_t:
         df = degrees_of_freedom(n, ratio)
-        if alternative == "two-sided":  # both tails in one call: (df, ±δ, u) end to end
-            df, nc, u = np.broadcast_arrays(df, dx / s0, u)
-            tails = tdist.nct_sf(np.concatenate((df.ravel(), df.ravel())),
-                                 np.concatenate((nc.ravel(), -nc.ravel())),
-                                 np.concatenate((u.ravel(), u.ravel())))
-            total = (tails[:nc.size] + tails[nc.size:]).reshape(nc.shape)
+        if alternative == "two-sided":  # both tails in one call
+            total = tdist.nct_sf_both(df, dx / s0, u)
         else:
             total = tdist.nct_sf(df, (dx if alternative == "greater" else -dx) / s0, u)
     else:

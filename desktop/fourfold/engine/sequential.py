@@ -241,8 +241,10 @@ def _lower_for(
     return _illinois(gap, lo, ceiling, g_lo, gap(ceiling))
 
 
-def _efficacy(t: np.ndarray, side_alpha: float, two_sided: bool, spending: str, gamma: float):
-    """Efficacy boundaries under H0, each side spending ``side_alpha`` in all.
+def _efficacy(t: np.ndarray, side_alpha: float, two_sided: bool, spending: str, gamma: float,
+              r: int = grid.GRID_SIZE):
+    """Efficacy boundaries under H0, each side spending ``side_alpha`` in all (``r``: the
+    grid's points per unit, :data:`~fourfold.engine._sequential_grid.GRID_SIZE`).
 
     Returns the boundaries and the probability of a first crossing of the upper one per look.
     """
@@ -251,7 +253,7 @@ def _efficacy(t: np.ndarray, side_alpha: float, two_sided: bool, spending: str, 
 
         def crossed(c: float) -> np.ndarray:
             low = -c * shape if two_sided else np.full(t.size, -np.inf)
-            return grid.crossings(t, c * shape, low, 0.0)[0]
+            return grid.crossings(t, c * shape, low, 0.0, r)[0]
 
         def gap(c: float) -> float:
             return math.log(max(crossed(c).sum(), _LOG_FLOOR)) - math.log(side_alpha)
@@ -268,22 +270,24 @@ def _efficacy(t: np.ndarray, side_alpha: float, two_sided: bool, spending: str, 
         upper[k] = _upper_for(state, t_k, 0.0, increments[k])
         up[k] = grid.exceed(state, t_k, 0.0, upper[k])
         if k + 1 < t.size:
-            state = grid.advance(state, t_k, 0.0, -upper[k] if two_sided else -np.inf, upper[k])
+            state = grid.advance(state, t_k, 0.0, -upper[k] if two_sided else -np.inf, upper[k],
+                                 r)
     return upper, up
 
 
 @functools.lru_cache(maxsize=64)
 def _boundaries(fractions: tuple[float, ...], side_alpha: float, two_sided: bool, spending: str,
-                gamma: float | None) -> tuple[np.ndarray, np.ndarray]:
+                gamma: float | None, r: int = grid.GRID_SIZE) -> tuple[np.ndarray, np.ndarray]:
     """:func:`_efficacy`, remembered (read-only arrays): the boundaries depend on α and the
     looks, not on the power, and are most of a design's cost, so that designs along a power
     curve — or at two powers for one α — compute them once."""
-    upper, up = _efficacy(np.array(fractions), side_alpha, two_sided, spending, gamma)
+    upper, up = _efficacy(np.array(fractions), side_alpha, two_sided, spending, gamma, r)
     return _frozen(upper), _frozen(up)
 
 
 def _with_futility(
-    t: np.ndarray, upper: np.ndarray, floor: np.ndarray, drift: float, beta_steps: np.ndarray
+    t: np.ndarray, upper: np.ndarray, floor: np.ndarray, drift: float, beta_steps: np.ndarray,
+    r: int = grid.GRID_SIZE,
 ):
     """Futility boundaries by β-spending under ``drift``, the crossing probabilities and the
     slope of the power in the drift with these boundaries held fixed."""
@@ -302,8 +306,26 @@ def _with_futility(
         lower[k] = max(level, floor[k])
         down[k] = grid.below(state, t_k, drift, lower[k])
         if k + 1 < t.size:
-            state = grid.advance(state, t_k, drift, lower[k], upper[k])
+            state = grid.advance(state, t_k, drift, lower[k], upper[k], r)
     return lower, up, down, slope
+
+
+def solve_drift(t: np.ndarray, upper: np.ndarray, floor: np.ndarray, power: float,
+                beta_steps: np.ndarray | None, start: float, r: int = grid.GRID_SIZE):
+    """The drift at which the boundaries reach ``power`` (futility boundaries by
+    ``beta_steps`` when given), searched from ``start``, and its pass: the lower boundaries
+    and the per-look probabilities of crossing up and down, and the slope."""
+    passes: dict[float, tuple[np.ndarray, np.ndarray, np.ndarray, float]] = {}
+
+    def shortfall(drift: float) -> tuple[float, float]:
+        if beta_steps is None:
+            passes[drift] = (floor, *grid.crossings(t, upper, floor, drift, r))
+        else:
+            passes[drift] = _with_futility(t, upper, floor, drift, beta_steps, r)
+        return float(passes[drift][1].sum()) - power, passes[drift][3]
+
+    drift = _drift_root(shortfall, start, secant=beta_steps is not None)
+    return drift, passes[drift]
 
 
 def _stops(up: np.ndarray, down: np.ndarray) -> np.ndarray:
@@ -456,17 +478,7 @@ def design(
     fixed = float(ndtri(1.0 - side_alpha) + ndtri(power))
     beta_steps = (None if futility is None
                   else np.diff(spent(futility, t, 1.0 - power, gamma), prepend=0.0))
-    passes: dict[float, tuple[np.ndarray, np.ndarray, np.ndarray, float]] = {}
-
-    def shortfall(drift: float) -> tuple[float, float]:
-        if beta_steps is None:
-            passes[drift] = (floor, *grid.crossings(t, upper, floor, drift))
-        else:
-            passes[drift] = _with_futility(t, upper, floor, drift, beta_steps)
-        return float(passes[drift][1].sum()) - power, passes[drift][3]
-
-    drift = _drift_root(shortfall, fixed, secant=beta_steps is not None)
-    lower, eff_h1, down_h1, _ = passes[drift]
+    drift, (lower, eff_h1, down_h1, _) = solve_drift(t, upper, floor, power, beta_steps, fixed)
     stop_h1 = _stops(eff_h1, down_h1)
     if futility is None:
         stop_h0 = _stops(up_h0, up_h0 if two_sided else np.zeros(looks))

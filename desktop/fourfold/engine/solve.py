@@ -33,9 +33,11 @@ Examples
 0.8
 """
 
+import dataclasses
+
 import numpy as np
 
-from . import _normal, roots, tdist
+from . import _normal, _t_family, roots, tdist
 from ._power import (
     critical,
     degrees_of_freedom,
@@ -145,7 +147,7 @@ def _sample_size(p):
     u = critical(alpha, p.alternative, False, None)
     k = u * s0 + _normal.quantile(target) * s1
     x0 = (k + np.sqrt(k * k + 4.0 * main * cc)) / (2.0 * main)
-    n0 = np.where(x0 > 0, x0 * x0, 1.0)
+    n0 = normal = np.where(x0 > 0, x0 * x0, 1.0)
     if exact_t:
         n0 = n0 + u * u / (2.0 * (1.0 + ratio))
         n_min = np.maximum(np.maximum(1.0, 1.0 / ratio), 3.0 / (1.0 + ratio)) * (1.0 + 1e-12)
@@ -153,6 +155,16 @@ def _sample_size(p):
         n_min = np.full(i.size, _N_MIN_Z)
     y_min = np.log(n_min)
     y = np.log(np.minimum(np.maximum(n0, n_min), _N_MAX))
+    covered = np.zeros(i.size, dtype=bool)
+    if exact_t and i.size >= _t_family.FAMILY_ROWS:  # many rows: most start at their root
+        def exact(rows):
+            values, reasons = _sample_size(_rows_of(p, i[rows]))
+            return np.where(reasons == "", values[: rows.size], np.nan)
+
+        with np.errstate(all="ignore"):
+            normal = _normal_units(moments, normal, u, target, ratio, p.alternative)
+        found, covered = _t_family.start(normal, alpha, target, ratio, exact)
+        y = np.where(covered, np.log(np.minimum(np.maximum(found, n_min), _N_MAX)), y)
 
     series = tdist.cornish_fisher_terms(u) if exact_t else None
 
@@ -165,10 +177,12 @@ def _sample_size(p):
         return limit_power_and_slope(dj, s0j, s1j, ccj, n, uj, p.alternative, exact_t, rj)
 
     every = np.arange(i.size)
-    for _ in range(3):
-        level, slope = limit(y, every)
-        y_new = y - (level - target) / slope
-        y = np.where(np.isfinite(y_new), np.minimum(np.maximum(y_new, y_min), _LOG_N_MAX), y)
+    rest = np.flatnonzero(~covered) if covered.any() else every
+    for _ in range(3 if rest.size else 0):
+        level, slope = limit(y[rest], rest)
+        y_new = y[rest] - (level - target[rest]) / slope
+        y[rest] = np.where(np.isfinite(y_new),
+                           np.minimum(np.maximum(y_new, y_min[rest]), _LOG_N_MAX), y[rest])
     # The model's fixed slope: the last Newton step's for z; for the exact t a central
     # difference at the start, computed once, only if some element is searched.
     start, slopes = y, [] if exact_t else [slope]
@@ -191,6 +205,24 @@ def _sample_size(p):
     if _record(reasons, i, status, "sample_size").any() and exact_t:
         reasons[i[status == roots.BELOW]] = _T_TOO_SMALL
     return values, reasons
+
+
+def _normal_units(moments, n, u, target, ratio, alternative):
+    """The normal approximation's units (z critical value ``u``), near enough for a smooth
+    base: one Newton step in log n from its closed form ``n``, which leaves out a two-sided
+    test's far tail (the step takes in most of it)."""
+    level, slope = limit_power_and_slope(*moments, n, u, alternative, False, ratio)
+    return n * np.exp(-(level - target) / slope)
+
+
+def _rows_of(p, rows):
+    """The prepared inputs of the elements ``rows`` of ``p`` alone (a one-dimensional call)."""
+    return dataclasses.replace(
+        p, shape=(rows.size,), scalar=False, baseline=p.baseline[rows], effect=p.effect[rows],
+        n=p.n[rows], sd=None if p.sd is None else p.sd[rows], alpha=p.alpha[rows],
+        power=p.power[rows], ratio=p.ratio[rows], margin=p.margin[rows],
+        relative=p.relative[rows], reasons=p.reasons[rows], ok=p.ok[rows],
+        unit=None if p.unit is None else p.unit[rows])
 
 
 def _power(p):

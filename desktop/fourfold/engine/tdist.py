@@ -2,7 +2,8 @@
 
 ``scipy.special.nctdtr`` silently returns nan for some large-df, large-noncentrality
 inputs (for instance df ≈ 2·10⁶, noncentrality 6.4, t = −2.9, the far tail of a two-sided
-test), and loses digits at large df.  The tail here is computed in four layers:
+test), loses digits at large df, and costs a few microseconds a value.  The tail here is
+computed in five layers:
 
 1. df ≥ ``NORMAL_LIMIT_DF`` (10⁴) and |t| ≤ 0.1·√df: the normal limit of T = (Z + δ)/S,
    S = √(χ²_ν/ν), with the exact mean and variance of S and the Edgeworth term for its
@@ -13,8 +14,17 @@ test), and loses digits at large df.  The tail here is computed in four layers:
 2. |δ| > ``LARGE_NONCENTRALITY`` (10³), where ``nctdtr`` turns slow, returns nan or never
    returns (δ ≈ 10⁸): 64-point Gauss–Hermite over Z of the χ² tail,
    P(T > t) = E_Z[P(t·S < Z + δ)], smooth in Z there;
-3. otherwise ``nctdtr`` on the side that keeps small tails precise, then its complement;
-4. where both are non-finite, Gauss–Legendre quadrature of E[Φ(δ − t·S)] over the
+3. ``QUADRATURE_DF`` (50) ≤ df < 10⁴, |δ| ≤ 40, |t| ≤ 10 (every A/B test's critical value):
+   P(T > t) = E[Φ(δ − t·S)] by Gauss–Hermite quadrature (24 points below ν = 100, 16 below
+   300, 12 above) in the Wilson–Hilferty
+   variable z of the χ²: V/ν = (1 − 2/(9ν) + z·√(2/(9ν)))³ is nearly normal in z, so the
+   integrand is the smooth Φ(δ − t·S) times the ratio of V's density to φ(z), and the
+   weights are normalised to sum to one (which cancels the constant of the density). Its
+   absolute error is below 10⁻¹⁵ there (checked against 30-digit quadrature in the tests),
+   a tail below that is not relatively precise; five times faster than ``nctdtr``, and the
+   two tails of a two-sided test share the weights (:func:`nct_sf_both`);
+4. otherwise ``nctdtr`` on the side that keeps small tails precise, then its complement;
+5. where both are non-finite, Gauss–Legendre quadrature of E[Φ(δ − t·S)] over the
    quantiles of χ²_ν (absolute error below 10⁻⁴, only reached at tiny ν and far tails).
 
 Central t quantiles use the Cornish–Fisher expansion (Abramowitz & Stegun 26.7.5, four
@@ -26,6 +36,7 @@ References
 Johnson, N. L., Kotz, S. & Balakrishnan, N. (1995) *Continuous Univariate Distributions*,
 vol. 2, 2nd ed., ch. 31 (noncentral t and its normal approximation).
 Abramowitz, M. & Stegun, I. A. (1964) *Handbook of Mathematical Functions*, 26.7.5.
+Wilson, E. B. & Hilferty, M. M. (1931) The distribution of chi-square. *PNAS* 17:684–688.
 
 Examples
 --------
@@ -43,9 +54,17 @@ _CORNISH_FISHER_Z = 7.0
 _INV_SQRT_2PI = 1.0 / np.sqrt(2.0 * np.pi)
 
 LARGE_NONCENTRALITY = 1.0e3
+QUADRATURE_DF = 50.0
+_QUADRATURE_NC = 40.0
+_QUADRATURE_T = 10.0
+_BLOCK = 4096
 
 _HERMITE_NODES, _HERMITE_WEIGHTS = np.polynomial.hermite_e.hermegauss(64)
 _HERMITE_WEIGHTS = _HERMITE_WEIGHTS / _HERMITE_WEIGHTS.sum()
+_WH_BANDS = tuple((low, *np.polynomial.hermite_e.hermegauss(points))
+                  for low, points in ((QUADRATURE_DF, 24), (100.0, 16), (300.0, 12)))
+"""(lowest ν, nodes, weights) of the quadrature's bands: fewer nodes where ν is larger and
+the integrand smoother (each band's error is below 10⁻¹⁵ on the checks' grid)."""
 _NODES, _WEIGHTS = np.polynomial.legendre.leggauss(96)
 _NODES = 0.5 * (_NODES + 1.0)
 _WEIGHTS = 0.5 * _WEIGHTS
@@ -68,6 +87,54 @@ def _quadrature_sf(df, nc, t):
     v = special.chdtri(df[:, None], _NODES[None, :])
     s = np.sqrt(v / df[:, None])
     return (special.ndtr(nc[:, None] - t[:, None] * s) * _WEIGHTS).sum(axis=1)
+
+
+def _chi_weights(df, nodes, weights):
+    """S = √(V/ν) at the Wilson–Hilferty ``nodes`` of each ν, the nodes' weights and each
+    row's sum of them: E[g(S)] ≈ Σ weights · g(S) / sum; see the module notes (layer 3).
+
+    The log of the density ratio is the z²/2 of φ less the same square from V's density, so
+    its terms of order ν z² and ν z³ cancel and it stays within a few units of 0 (no
+    overflow guard is needed)."""
+    third = 2.0 / (9.0 * df)[:, None]
+    log_w = np.sqrt(third) * nodes
+    log_w -= third
+    np.log1p(log_w, out=log_w)  # w = 1 − 2/(9ν) + z·√(2/(9ν)), V/ν = w³
+    half = 0.5 * df[:, None]
+    found = np.expm1(3.0 * log_w)  # w³ − 1
+    found *= -half
+    found += (3.0 * half - 1.0) * log_w
+    found += 0.5 * nodes * nodes
+    np.exp(found, out=found)
+    found *= weights
+    log_w *= 1.5
+    return np.exp(log_w, out=log_w), found, found.sum(axis=1)
+
+
+def _quadrature_tails(df, nc, t, both: bool):
+    """Layer 3 of the module notes for every element: P(T_{ν,δ} > t), plus P(T_{ν,−δ} > t)
+    when ``both`` (each tail clipped to [0, 1]); a few thousand rows at a time, so that the
+    arrays of nodes stay in the processor's cache."""
+    out = np.empty(df.shape)
+    upper = np.inf
+    for low, nodes, weights in reversed(_WH_BANDS):
+        band = np.flatnonzero((df >= low) & (df < upper))
+        upper = low
+        for start in range(0, band.size, _BLOCK):
+            rows = band[start:start + _BLOCK]
+            s, found, total = _chi_weights(df[rows], nodes, weights)
+            ts, c = t[rows, None] * s, nc[rows, None]
+            tail = np.clip(np.einsum("ij,ij->i", found, special.ndtr(c - ts)) / total, 0.0, 1.0)
+            if both:
+                tail += np.clip(np.einsum("ij,ij->i", found, special.ndtr(-c - ts)) / total,
+                                0.0, 1.0)
+            out[rows] = tail
+    return out
+
+
+def _in_quadrature(df, nc, t):
+    return ((df >= QUADRATURE_DF) & (df < NORMAL_LIMIT_DF) & (np.abs(nc) <= _QUADRATURE_NC)
+            & (np.abs(t) <= _QUADRATURE_T))
 
 
 def _large_nc_sf(df, nc, t):
@@ -114,10 +181,14 @@ def nct_sf(df, nc, t):
         return np.clip(_limit_sf(df, nc, t), 0.0, 1.0).reshape(shape)
     out = np.empty(df.shape)
     out[limit] = _limit_sf(df[limit], nc[limit], t[limit])
-    huge = ~limit & (np.abs(nc) > LARGE_NONCENTRALITY)
+    quadrature = _in_quadrature(df, nc, t)
+    if quadrature.any():
+        out[quadrature] = _quadrature_tails(df[quadrature], nc[quadrature], t[quadrature],
+                                            False)
+    huge = ~limit & ~quadrature & (np.abs(nc) > LARGE_NONCENTRALITY)
     if huge.any():
         out[huge] = _large_nc_sf(df[huge], nc[huge], t[huge])
-    rest = ~limit & ~huge
+    rest = ~limit & ~quadrature & ~huge
     if rest.any():
         d, c, x = df[rest], nc[rest], t[rest]
         r = special.nctdtr(d, -c, -x)
@@ -130,6 +201,34 @@ def nct_sf(df, nc, t):
                 r[usable] = _quadrature_sf(d[usable], c[usable], x[usable])
         out[rest] = r
     return np.clip(out, 0.0, 1.0).reshape(shape)
+
+
+def nct_sf_both(df, nc, t):
+    """P(T_{ν,δ} > t) + P(T_{ν,−δ} > t): the two tails of a two-sided test's power.
+
+    Each tail is :func:`nct_sf`'s; where both fall in its quadrature layer they share the
+    weights of ν (half the work).
+
+    Examples
+    --------
+    >>> both = float(nct_sf_both(200.0, 2.8, 1.97))
+    >>> both == float(nct_sf(200.0, 2.8, 1.97) + nct_sf(200.0, -2.8, 1.97))
+    True
+    """
+    df, nc, t = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (df, nc, t)))
+    shape = df.shape
+    df, nc, t = df.ravel(), nc.ravel(), t.ravel()
+    shared = _in_quadrature(df, nc, t) & ~((df >= NORMAL_LIMIT_DF)
+                                           & (np.abs(t) <= 0.1 * np.sqrt(df)))
+    out = np.empty(df.shape)
+    if shared.any():
+        out[shared] = _quadrature_tails(df[shared], nc[shared], t[shared], True)
+    rest = ~shared
+    if rest.any():
+        d, c, x = df[rest], nc[rest], t[rest]
+        tails = nct_sf(np.concatenate((d, d)), np.concatenate((c, -c)), np.concatenate((x, x)))
+        out[rest] = tails[:d.size] + tails[d.size:]
+    return out.reshape(shape)
 
 
 def t_sf(df, t):
@@ -181,9 +280,12 @@ def t_upper_quantile(df, p):
     2.228139
     """
     df, p = np.broadcast_arrays(np.asarray(df, dtype=float), np.asarray(p, dtype=float))
+    large = df >= NORMAL_LIMIT_DF
+    if not large.any():
+        return -special.stdtrit(df, p)
     z = -special.ndtri(p)
     series = cornish_fisher(df, z)
-    use = (df >= NORMAL_LIMIT_DF) & (np.abs(z) <= _CORNISH_FISHER_Z)
+    use = large & (np.abs(z) <= _CORNISH_FISHER_Z)
     if use.all():
         return series
     out = np.where(use, series, 0.0)

@@ -39,12 +39,14 @@ def treatment_ratio(settings: Settings) -> float:
     return settings.ratio
 
 
-def row_alphas(plan: Plan) -> list[float]:
+def row_alphas(plan: Plan, rows=None, primaries: int | None = None) -> list[float]:
     """Each row's α after the plan's correction (one engine call for all rows).
 
     Primary rows share α over arms × primary metrics, other rows over the arms; Dunnett's
     correction takes the primary metrics by Bonferroni and the arms by its critical value at
-    the plan's allocation and each row's sidedness.
+    the plan's allocation and each row's sidedness. ``rows`` (indices) asks for those rows
+    only, ``primaries`` gives the plan's number of primary rows when the caller knows it
+    (an edit that leaves the roles alone changes no other row's α).
 
     Examples
     --------
@@ -54,18 +56,19 @@ def row_alphas(plan: Plan) -> list[float]:
     [0.02696]
     """
     settings = plan.settings
-    alphas = [settings.alpha if metric.alpha is None else metric.alpha
-              for metric in plan.metrics]
+    metrics = plan.metrics if rows is None else [plan.metrics[index] for index in rows]
+    alphas = [settings.alpha if metric.alpha is None else metric.alpha for metric in metrics]
     if settings.correction == "none" or not alphas:
         return alphas
-    primary = [metric.role == "primary" for metric in plan.metrics]
-    metrics = np.where(primary, float(sum(primary)), 1.0)
+    if primaries is None:
+        primaries = sum(metric.role == "primary" for metric in plan.metrics)
+    primary = [metric.role == "primary" for metric in metrics]
+    counts = np.where(primary, float(primaries), 1.0)
     if settings.correction == "dunnett":  # Bonferroni over primary metrics, Dunnett over arms
         ratio = treatment_ratio(settings)
         return [_dunnett(alpha / count, settings.arms, ratio, metric.alternative)
-                for alpha, count, metric in zip(alphas, metrics.tolist(), plan.metrics,
-                                                strict=True)]
-    adjusted = engine.adjusted_alpha(np.array(alphas, dtype=float), settings.arms * metrics,
+                for alpha, count, metric in zip(alphas, counts.tolist(), metrics, strict=True)]
+    adjusted = engine.adjusted_alpha(np.array(alphas, dtype=float), settings.arms * counts,
                                      settings.correction)
     return adjusted.tolist()
 

@@ -107,6 +107,8 @@ def _identified(plan: Plan, metrics: list[Metric], ids: list[str] | None) -> lis
     A copied row (duplicate, paste) arrives with its original's id; it gets a fresh one. The
     ids are set on ``metrics`` (fresh copies) and returned, so that a redo reuses them.
     """
+    if ids is None and not metrics:
+        return []
     if ids is None:
         taken = {metric.id for metric in plan.metrics}
         for scenario in plan.scenarios:

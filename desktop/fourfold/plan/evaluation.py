@@ -81,14 +81,16 @@ from __future__ import annotations
 import dataclasses
 import math
 import operator
-from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
-from fourfold.plan import kinds, sequential, traffic, windows
-from fourfold.plan.arms import row_alphas, treatment_ratio
-from fourfold.plan.fields import CORRECTION_LABELS, METRIC_FIELDS, SETTINGS_FIELDS
+import numpy as np
+
+from fourfold.plan import traffic, windows
+from fourfold.plan.arms import row_alphas
+from fourfold.plan.fields import METRIC_FIELDS, SETTINGS_FIELDS
 from fourfold.plan.model import Plan
 from fourfold.plan.results import PlanResult, RowResult, Unfinished
+from fourfold.plan.row_cache import RowCache, row_inputs
 from fourfold.plan.rows import (
     AtDuration,
     not_settled,
@@ -98,91 +100,70 @@ from fourfold.plan.rows import (
     waits_for_duration,
     without_duration,
 )
+from fourfold.plan.summary import DECIDING_ROLES, RowFacts, summarise
 
 if TYPE_CHECKING:
     import pandas
 
-DECIDING_ROLES = ("primary", "guardrail")
-
-_ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative", "margin",
-               "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n",
-               *kinds.RATIO_FIELDS, *kinds.QUANTILE_FIELDS)
-"""The metric fields a row's result depends on (with its corrected α and the settings)."""
-
-_ROW_KEY = operator.attrgetter(*_ROW_INPUTS)
-
-_SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
+_RENAMED = {"alpha": "alpha_override", "power": "power_override"}
+"""The row overrides' columns in :func:`evaluate` (``alpha`` and ``power`` are the results')."""
+_FRAME_METRIC_FIELDS = tuple(name for name in METRIC_FIELDS if name != "simulation")
+_RESULT_FIELDS = tuple(item.name for item in dataclasses.fields(RowResult))
+_FLOAT_RESULT_FIELDS = frozenset(item.name for item in dataclasses.fields(RowResult)
+                                 if item.type == "float")
 
 __all__ = ["PlanResult", "RowCache", "RowResult", "Unfinished", "compute", "evaluate",
            "runtime_units"]
 
 
-@dataclass
-class RowCache:
-    """Row results of earlier evaluations, so that :func:`compute` solves only changed rows.
+def _evaluate_rows(plan: Plan, designs: dict, cache: RowCache | None = None,
+                   dirty: list[int] | None = None) -> tuple[tuple[RowResult, ...], list]:
+    """Every row of the plan, with one engine call per group of rows that share a solve, and
+    the rows whose key changed (all of them without a cache).
 
-    One cache belongs to one open document (the window's); pass it to every :func:`compute`
-    of that document. A row is reused when its inputs, its corrected α and the plan's settings
-    are those it was computed with, so the result is the same as without the cache; rows with
-    the same inputs share one :class:`RowResult`. Only the rows of the latest evaluation are
-    kept.
-
-    Examples
-    --------
-    >>> from fourfold.plan.model import Plan
-    >>> plan, cache = Plan.empty(), RowCache()
-    >>> first = compute(plan, cache=cache)
-    >>> compute(plan, cache=cache).rows[0] is first.rows[0], len(cache.rows)
-    (True, 1)
-    """
-
-    settings: tuple | None = None
-    rows: dict = field(default_factory=dict)
-    designs: dict = field(default_factory=dict)
-    keys: list = field(default_factory=list)
-    """The latest evaluation's row keys, in the plan's order."""
-    results: tuple = ()
-    """The latest evaluation's row results, in the plan's order."""
-    uses: dict = field(default_factory=dict)
-    """How many rows of the latest evaluation have each key of ``rows``."""
-    powers: dict = field(default_factory=dict)
-    """The latest evaluation's powers at the plan's duration by (row key, units)."""
-
-
-def _evaluate_rows(plan: Plan, designs: dict,
-                   cache: RowCache | None = None) -> tuple[RowResult, ...]:
-    """Every row of the plan, with one engine call per group of rows that share a solve.
-
-    Rows found in ``cache`` are reused; the cache is left holding this plan's rows.
+    Rows found in ``cache`` are reused; the cache is left holding this plan's rows. ``dirty``
+    (from :meth:`RowCache.sync`) names the only rows that may have changed; ``None``: any.
     """
     metrics = plan.metrics
     if not metrics:
-        return ()
-    alphas = row_alphas(plan)
-    results: list[RowResult | None] = [None] * len(metrics)
-    keys = changed = None
-    missing = range(len(metrics))
-    if cache is not None:
-        keys = list(zip(alphas, map(_ROW_KEY, metrics), strict=True))
+        return (), []
+    if cache is None:
+        results: list[RowResult | None] = [None] * len(metrics)
+        solve_rows(plan, designs, row_alphas(plan), range(len(metrics)), results)
+        return tuple(results), list(range(len(metrics)))
+    primaries = int(np.count_nonzero(cache.primary))
+    if dirty is None or primaries != cache.primaries or len(cache.keys) != len(metrics):
+        alphas = row_alphas(plan, primaries=primaries)
+        keys = list(zip(alphas, map(row_inputs, metrics), strict=True))
         if len(keys) == len(cache.keys):  # an edit in place: look up only the rows that differ
             changed = [index for index, (key, before)
                        in enumerate(zip(keys, cache.keys, strict=True)) if key != before]
             results = list(cache.results)
         else:
-            changed = range(len(keys))
-        missing = []
-        for index in changed:
-            results[index] = cache.rows.get(keys[index])
-            if results[index] is None:
-                missing.append(index)
+            changed = list(range(len(keys)))
+            results = [None] * len(keys)
+    else:  # only the rows in ``dirty`` may differ, and no other row's α moved
+        alphas, keys, results = list(cache.alphas), list(cache.keys), list(cache.results)
+        changed = []
+        for index, alpha in zip(dirty, row_alphas(plan, dirty, primaries), strict=True):
+            alphas[index] = alpha
+            key = (alpha, row_inputs(metrics[index]))
+            if key != keys[index]:
+                keys[index] = key
+                changed.append(index)
+    missing = []
+    for index in changed:
+        results[index] = cache.rows.get(keys[index])
+        if results[index] is None:
+            missing.append(index)
     if missing:
         solve_rows(plan, designs, alphas, missing, results)
-    if keys is not None:
-        _remember(cache, keys, changed, results)
-    return tuple(results)
+    _remember(cache, keys, changed, results)
+    cache.alphas, cache.primaries = alphas, primaries
+    return tuple(results), changed
 
 
-def _remember(cache: RowCache, keys: list, changed, results: list) -> None:
+def _remember(cache: RowCache, keys: list, changed: list, results: list) -> None:
     """Leave ``cache`` holding exactly the rows of this evaluation.
 
     Rows with the same inputs share one result, now and next time; only the rows in
@@ -232,9 +213,12 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
     >>> result.rows[0].units_control, result.binding_name
     (1570.0, 'Spend')
     """
-    if windows.uses_windows(plan):
+    if cache is None:
+        return _settle(plan, None) if windows.uses_windows(plan) else _compute(plan, None)
+    dirty = cache.sync(plan)
+    if cache.follows.any():
         return _settle(plan, cache)
-    return _compute(plan, cache)
+    return _compute(plan, cache, dirty)
 
 
 def _settle(plan: Plan, cache: RowCache | None) -> PlanResult:
@@ -289,31 +273,48 @@ def _unsettled(shown: Plan, result: PlanResult, reason: str) -> PlanResult:
             rows[index] = not_settled(rows[index], reason)
         elif waits_for_duration(shown.settings, metric):
             rows[index] = without_duration(rows[index])
-    final = _summarise(shown, tuple(rows))
+    final = summarise(shown, tuple(rows), RowFacts(shown.metrics, rows))
     return dataclasses.replace(final, duration_powers=(math.nan,) * len(rows))
 
 
-def _compute(plan: Plan, cache: RowCache | None) -> PlanResult:
-    """:func:`compute` of a plan whose rows' figures are fixed."""
+class _Summary:
+    """:func:`fourfold.plan.summary.summarise` of one evaluation's rows, through the cache's
+    facts (refreshed where the rows changed) or facts of its own."""
+
+    def __init__(self, plan: Plan, designs: dict, cache: RowCache | None) -> None:
+        self.plan, self.designs, self.cache = plan, designs, cache
+
+    def __call__(self, rows, waiting: np.ndarray | None = None) -> PlanResult:
+        rows = tuple(rows)
+        facts = (RowFacts(self.plan.metrics, rows) if self.cache is None
+                 else self.cache.summary_facts(self.plan, rows))
+        return summarise(self.plan, rows, facts, self.designs, waiting)
+
+
+def _compute(plan: Plan, cache: RowCache | None, dirty: list[int] | None = None) -> PlanResult:
+    """:func:`compute` of a plan whose rows' figures are fixed (``dirty``: the rows
+    :meth:`RowCache.sync` found changed, when the caller has synced the cache already)."""
     if cache is None:
         designs: dict = {}
+        waits = np.array([waits_for_duration(plan.settings, metric) for metric in plan.metrics],
+                         dtype=bool)
     else:
-        settings = tuple(getattr(plan.settings, name) for name in _SETTINGS_INPUTS)
-        if settings != cache.settings:
-            cache.settings, cache.rows, cache.designs = settings, {}, {}
-            cache.keys, cache.results, cache.uses, cache.powers = [], (), {}, {}
-        designs = cache.designs
-    rows = list(_evaluate_rows(plan, designs, cache))
-    waiting = frozenset(index for index, metric in enumerate(plan.metrics)
-                        if waits_for_duration(plan.settings, metric))
-    result = _summarise(plan, tuple(rows), designs, waiting)
+        if dirty is None:
+            dirty = cache.sync(plan)
+        designs, waits = cache.designs, cache.waits
+    rows, changed = _evaluate_rows(plan, designs, cache, dirty)
+    rows = list(rows)
+    summary = _Summary(plan, designs, cache)
+    result = summary(rows, waits)
     at = _at_duration(plan, result)
+    waiting = np.flatnonzero(waits).tolist()
     if waiting:
-        result = _solve_waiting(plan, rows, designs, sorted(waiting), result, at)
+        alphas = cache.alphas if cache is not None else row_alphas(plan)
+        result = _solve_waiting(plan, rows, designs, alphas, waiting, result, at, summary)
         at = at if result.status == "complete" else None
     powers = (math.nan,) * len(rows)
     if at is not None and rows:
-        powers = _duration_powers(plan, result.rows, at, designs, cache)
+        powers = _duration_powers(plan, result.rows, at, designs, cache, changed)
     return dataclasses.replace(result, duration_powers=powers)
 
 
@@ -333,131 +334,44 @@ def _at_duration(plan: Plan, result: PlanResult) -> AtDuration | None:
     return AtDuration(runtime_units(dataclasses.replace(settings, runtime_days=days)), days)
 
 
-def _solve_waiting(plan: Plan, rows: list, designs: dict, waiting: list[int],
-                   result: PlanResult, at: AtDuration | None) -> PlanResult:
+def _solve_waiting(plan: Plan, rows: list, designs: dict, alphas: list[float],
+                   waiting: list[int], result: PlanResult, at: AtDuration | None,
+                   summary: _Summary) -> PlanResult:
     """Solve the rows without units of their own at the plan's duration, then summarise.
 
     Without a duration they stay not computed; when one of them leaves the plan incomplete,
     the others lose the duration they were solved at too.
     """
     if at is not None:
-        solve_rows(plan, designs, row_alphas(plan), waiting, rows, at)
+        solve_rows(plan, designs, alphas, waiting, rows, at)
     elif result.incomplete:
         for index in waiting:
             rows[index] = without_duration(rows[index])
-    final = _summarise(plan, tuple(rows), designs)
+    final = summary(rows)
     if at is not None and final.incomplete:
         for index in waiting:
             if not rows[index].reason:
                 rows[index] = without_duration(rows[index])
-        final = _summarise(plan, tuple(rows), designs)
+        final = summary(rows)
     return final
 
 
 def _duration_powers(plan: Plan, rows: tuple[RowResult, ...], at: AtDuration, designs: dict,
-                     cache: RowCache | None) -> tuple[float, ...]:
-    """Each row's power at the plan's duration, from the cache where its inputs and the
-    duration's units are unchanged."""
-    keys = cache.keys if cache is not None and len(cache.keys) == len(rows) else None
-    known = {} if keys is None else cache.powers
-    powers = [known.get((keys[index], at.units)) if keys is not None else None
-              for index in range(len(rows))]
-    missing = [index for index, power in enumerate(powers) if power is None]
+                     cache: RowCache | None, changed: list[int]) -> tuple[float, ...]:
+    """Each row's power at the plan's duration; with a cache, only the rows whose key
+    changed (``changed``) are solved again while the duration's units and days stay."""
+    where = (at.units, at.days)
+    if cache is not None and cache.powers_at == where and len(cache.powers) == len(rows):
+        powers, missing = list(cache.powers), changed
+    else:
+        powers, missing = [math.nan] * len(rows), range(len(rows))
     if missing:
-        for index, power in zip(missing, powers_at(plan, rows, missing, at, designs),
+        for index, power in zip(missing, powers_at(plan, rows, list(missing), at, designs),
                                 strict=True):
             powers[index] = power
-    if keys is not None:
-        cache.powers = {(key, at.units): power for key, power in zip(keys, powers, strict=True)}
+    if cache is not None:
+        cache.powers, cache.powers_at = powers, where
     return tuple(powers)
-
-
-def _summarise(plan: Plan, rows: tuple[RowResult, ...], designs: dict | None = None,
-               waiting: frozenset[int] = frozenset()) -> PlanResult:
-    """The plan-level results; rows in ``waiting`` (still to be solved at the plan's duration)
-    neither count as not computed nor get a note."""
-    settings = plan.settings
-    notes = []
-    if settings.correction != "none":
-        primaries = sum(1 for metric in plan.metrics if metric.role == "primary")
-        arms = f"{settings.arms} {'arm' if settings.arms == 1 else 'arms'}"
-        metrics = f"{primaries} primary {'metric' if primaries == 1 else 'metrics'}"
-        dunnett = (" (Dunnett's critical value over the arms, Bonferroni over the metrics)"
-                   if settings.correction == "dunnett" else "")
-        notes.append(f"α corrected ({CORRECTION_LABELS[settings.correction]}): primary rows for "
-                     f"{arms} × {metrics}, other rows for {arms}{dunnett}.")
-    notes.extend(sequential.plan_notes(plan, rows, designs))
-    notes.extend(kinds.tail_notes(plan.metrics, rows))
-    deciding, secondary = [], []  # computed rows that solve for sample size, by role
-    unfinished = []
-    for index, (metric, row) in enumerate(zip(plan.metrics, rows, strict=True)):
-        if index in waiting:
-            continue
-        if row.reason:
-            notes.append(f"{metric.name}: not computed — {row.reason}.")
-            if metric.role in DECIDING_ROLES:
-                unfinished.append(Unfinished(index, metric.name, row.reason))
-        elif row.solved == "sample_size":
-            if metric.role in DECIDING_ROLES:
-                deciding.append(index)
-            elif metric.role == "secondary":
-                secondary.append(index)
-    if unfinished:
-        roles = "primary or guardrail row" if len(unfinished) == 1 else "primary or guardrail rows"
-        notes.insert(0, f"Incomplete plan: {len(unfinished)} {roles} cannot be computed, so the "
-                        "plan has no duration until they can.")
-        return PlanResult(rows, None, None, None, None, tuple(notes), tuple(unfinished))
-
-    if settings.runtime_days is not None:
-        units = runtime_units(settings)
-        if any(metric.solve == "sample_size" for metric in plan.metrics):
-            notes.append(f"Fixed runtime of {settings.runtime_days:g} days: rows that solve for "
-                         "sample size show the effect they can detect instead (a margin row: "
-                         "the tightest margin it rules out).")
-        total = None if units is None else units * (1.0 + settings.arms
-                                                    * treatment_ratio(settings))
-        notes.extend(_traffic_notes(settings, float(settings.runtime_days)))
-        return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
-
-    if not deciding:
-        notes.append("No primary or guardrail row solves for sample size: nothing sets the "
-                     "duration.")
-        return PlanResult(rows, None, None, None, None, tuple(notes))
-
-    def need(index: int) -> tuple[float, float]:
-        days = rows[index].days
-        return (0.0 if math.isnan(days) else days, rows[index].units_total)
-
-    binding = max(deciding, key=need)
-    name = plan.metrics[binding].name
-    notes.append(f"{name} needs the most traffic among primary and guardrail rows and sets "
-                 "the duration; secondary rows are informational.")
-    duration = rows[binding].days
-    total = rows[binding].units_total
-    for index in secondary:
-        metric, row = plan.metrics[index], rows[index]
-        if row.units_total > total:
-            if math.isfinite(duration):
-                gap = f"{row.days:g} days for its power; the test runs {duration:g}"
-            else:
-                gap = f"{row.units_total:,.0f} units for its power; the test has {total:,.0f}"
-            notes.append(f"{metric.name} (secondary) would need {gap}.")
-    notes.extend(_traffic_notes(settings, duration, total))
-    return PlanResult(rows, None if math.isnan(duration) else duration, total, binding, name,
-                      tuple(notes))
-
-
-def _traffic_notes(settings, days: float, total: float | None = None) -> list[str]:
-    """The traffic model's flags: a duration beyond the reach curve, a capped ramp-up."""
-    notes = []
-    flag = traffic.extrapolation_note(settings, days, total)
-    if flag:
-        notes.append(flag)
-    found = traffic.model(settings) if traffic.uses_model(settings) else None
-    if found is not None and found.capped:
-        notes.append(f"Ramp-up steps above the plan's share ({settings.share * 100:.3g} %) are "
-                     "capped at it.")
-    return notes
 
 
 def evaluate(plan: Plan) -> pandas.DataFrame:
@@ -483,19 +397,21 @@ def evaluate(plan: Plan) -> pandas.DataFrame:
     import pandas
 
     result = compute(plan)
-    renamed = {"alpha": "alpha_override", "power": "power_override"}
-    records = []
-    for index, (metric, row) in enumerate(zip(plan.metrics, result.rows, strict=True)):
-        record = {renamed.get(name, name): getattr(metric, name)
-                  for name in METRIC_FIELDS if name != "simulation"}
-        record.update(dataclasses.asdict(row))
-        record["binding"] = index == result.binding_index
-        record["power_at_duration"] = result.duration_powers[index]
-        records.append(record)
-    columns = [renamed.get(name, name) for name in METRIC_FIELDS if name != "simulation"]
-    columns += [field.name for field in dataclasses.fields(RowResult)]
-    columns += ["binding", "power_at_duration"]
-    frame = pandas.DataFrame.from_records(records, columns=columns)
+    # Column by column, without copying a row into a dict: a float field is a float array
+    # (what pandas makes of the same numbers), every other field a list pandas reads as before.
+    data = {_RENAMED.get(name, name): list(map(operator.attrgetter(name), plan.metrics))
+            for name in _FRAME_METRIC_FIELDS}
+    for name in _RESULT_FIELDS:
+        values = map(operator.attrgetter(name), result.rows)
+        data[name] = (np.fromiter(values, float, count=len(result.rows))
+                      if name in _FLOAT_RESULT_FIELDS else list(values))
+    binding = np.zeros(len(result.rows), dtype=bool)
+    if result.binding_index is not None:
+        binding[result.binding_index] = True
+    data["binding"] = binding
+    data["power_at_duration"] = np.array(result.duration_powers, dtype=float)
+    frame = (pandas.DataFrame(data, columns=list(data)) if plan.metrics else
+             pandas.DataFrame(columns=list(data), dtype=object))  # no rows: no types to read
     frame.attrs.update(
         duration_days=result.duration_days,
         total_units=result.total_units,

@@ -146,8 +146,8 @@ def quantile_name(metric: Metric) -> str:
     return f"p{100 * metric.quantile_level:.6g}"
 
 
-def tail_notes(metrics: list[Metric], rows) -> list[str]:
-    """A caution for each quantile row with few units beyond its quantile.
+def tail_note(metric: Metric, row) -> str | None:
+    """A caution for a quantile row with few units beyond its quantile (else ``None``).
 
     The closed form of a quantile rests on the sample quantile being nearly normal, which
     needs many units per arm beyond it: fewer than ``MIN_TAIL_UNITS`` expected in the smaller
@@ -158,25 +158,22 @@ def tail_notes(metrics: list[Metric], rows) -> list[str]:
     >>> from types import SimpleNamespace
     >>> from fourfold.plan.model import Metric
     >>> row = Metric(name="Load p99.9", kind="quantile", quantile_level=0.999)
-    >>> print(*tail_notes([row], [SimpleNamespace(units_control=2000.0,
-    ...                                           units_treatment=2000.0)]))
+    >>> print(tail_note(row, SimpleNamespace(units_control=2000.0, units_treatment=2000.0)))
     ... # doctest: +NORMALIZE_WHITESPACE
     Load p99.9: about 2 units per arm lie beyond its p99.9; the closed form needs about 100,
     so check this row by simulation.
     """
-    notes = []
-    for metric, row in zip(metrics, rows, strict=True):
-        if metric.kind != "quantile" or metric.quantile_level is None:
-            continue
-        n = min(row.units_control, row.units_treatment)
-        if not np.isfinite(n):
-            continue
-        beyond = n * min(metric.quantile_level, 1.0 - metric.quantile_level)
-        if beyond < engine.quantile.MIN_TAIL_UNITS:
-            notes.append(f"{metric.name}: about {beyond:.3g} units per arm lie beyond its "
-                         f"{quantile_name(metric)}; the closed form needs about "
-                         f"{engine.quantile.MIN_TAIL_UNITS}, so check this row by simulation.")
-    return notes
+    if metric.kind != "quantile" or metric.quantile_level is None:
+        return None
+    n = min(row.units_control, row.units_treatment)
+    if not np.isfinite(n):
+        return None
+    beyond = n * min(metric.quantile_level, 1.0 - metric.quantile_level)
+    if beyond >= engine.quantile.MIN_TAIL_UNITS:
+        return None
+    return (f"{metric.name}: about {beyond:.3g} units per arm lie beyond its "
+            f"{quantile_name(metric)}; the closed form needs about "
+            f"{engine.quantile.MIN_TAIL_UNITS}, so check this row by simulation.")
 
 
 def guardrail_direction(better: str, margin: float) -> tuple[str, float]:

@@ -1,6 +1,7 @@
 """The plan document: plan-wide settings and one row per metric.
 
-Plain dataclasses with no behaviour beyond construction; every change a user makes goes through
+Plain dataclasses with no behaviour beyond construction (a metric row also counts its changes,
+see :attr:`Metric.stamp`); every change a user makes goes through
 :mod:`fourfold.plan.commands` (which validates with :func:`fourfold.plan.fields.validate_field`),
 and files go through :mod:`fourfold.plan.storage`, which checks every field on load.
 
@@ -10,6 +11,7 @@ storing only what it changes; :mod:`fourfold.plan.scenarios` builds a scenario's
 
 from __future__ import annotations
 
+import itertools
 import os
 from dataclasses import dataclass, field
 from typing import Any
@@ -27,6 +29,9 @@ def new_row_id() -> str:
     (8, True)
     """
     return os.urandom(4).hex()
+
+
+_STAMPS = itertools.count()
 
 
 @dataclass
@@ -174,6 +179,11 @@ class Metric:
         The row's stable identity, which scenarios use to name the row (not a field a user
         edits, and not compared: two rows with the same values are equal). A new row gets a
         fresh one; a copy keeps it until a command inserts it into a plan that has that id.
+    stamp : int
+        Not a field: a number no other row object has had, renewed by every assignment to
+        the row, so that a cache tells the rows changed since it last looked from the others
+        without comparing their fields (:class:`fourfold.plan.evaluation.RowCache`). A copy
+        made without its constructor (``copy.copy``) keeps it, as it keeps the values.
 
     Examples
     --------
@@ -214,6 +224,10 @@ class Metric:
     windowed: bool = False
     windows: tuple[dict, ...] = ()
     id: str = field(default_factory=new_row_id, compare=False, repr=False)
+
+    def __setattr__(self, name: str, value: Any) -> None:
+        object.__setattr__(self, name, value)
+        object.__setattr__(self, "stamp", next(_STAMPS))
 
 
 @dataclass

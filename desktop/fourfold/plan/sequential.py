@@ -24,6 +24,7 @@ Trials*. Chapman & Hall/CRC, ch. 2 and 7 (inflation factors, expected sample siz
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -110,14 +111,35 @@ def row_design(settings, alpha: float, power: float, alternative: str,
     key = (float(alpha), float(power), alternative == "two-sided", timing)
     if designs is not None and key in designs:
         return designs[key]
-    made = sequential.design(
-        settings.looks, alpha=alpha, power=power, alternative=alternative,
-        spending=settings.spending, timing=timing,
-        futility=FUTILITY_FAMILY[settings.spending] if settings.futility else None,
-    )
+    made = shared_design(settings.looks, settings.spending, bool(settings.futility), *key)
     if designs is not None:
         designs[key] = made
     return made
+
+
+@functools.lru_cache(maxsize=4096)
+def shared_design(looks: int, spending: str, futility: bool, alpha: float, power: float,
+                  two_sided: bool, timing: tuple[float, ...] | None) -> SequentialDesign:
+    """The design of :func:`row_design`, made once for every evaluation, scenario and curve
+    that asks for it (the design is a pure function of these values; "greater" and "less"
+    share their boundaries, so a one-sided design is made as "greater").
+
+    Raises
+    ------
+    ValueError
+        When the design is impossible (a failed design is not remembered).
+
+    Examples
+    --------
+    >>> shared_design(3, "pocock", False, 0.05, 0.8, True, None) is shared_design(
+    ...     3, "pocock", False, 0.05, 0.8, True, None)
+    True
+    """
+    return sequential.design(
+        looks, alpha=alpha, power=power, alternative="two-sided" if two_sided else "greater",
+        spending=spending, timing=timing,
+        futility=FUTILITY_FAMILY[spending] if futility else None,
+    )
 
 
 def inflation(made: SequentialDesign | None) -> float:
@@ -136,8 +158,15 @@ def power_of(made: SequentialDesign, fixed_power: float) -> float:
     >>> round(power_of(made, 0.8), 3), round(power_of(made, 0.5), 3)
     (0.795, 0.494)
     """
+    return _power_of(made, float(fixed_power))
+
+
+@functools.lru_cache(maxsize=65536)
+def _power_of(made: SequentialDesign, fixed_power: float) -> float:
+    """:func:`power_of`, remembered: rows of one design at one size ask for it again after
+    every edit of another row (a design is hashed as the object it is)."""
     side = made.alpha / 2.0 if made.alternative == "two-sided" else made.alpha
-    clipped = min(max(float(fixed_power), 1e-15), 1.0 - 1e-15)
+    clipped = min(max(fixed_power, 1e-15), 1.0 - 1e-15)
     return sequential.power_at(made, float(ndtri(1.0 - side) + ndtri(clipped)))
 
 

@@ -63,11 +63,12 @@ import numpy as np
 from scipy.special import ndtri
 
 from fourfold import engine
+from fourfold.engine.inflation import inflations
 from fourfold.formatting import format_days
 from fourfold.plan import kinds, sequential, traffic, windows
 from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.evaluation import PlanResult, RowResult, compute
-from fourfold.plan.model import Metric, Plan, Settings
+from fourfold.plan.model import Metric, Plan
 from fourfold.plan.rules import is_margin_row
 
 FIGURES = ("effect", "power", "alpha", "runtime")
@@ -269,17 +270,34 @@ def _empty_figure(name: str, title: str, x_label: str, y_label: str, reason: str
                   (math.nan, math.nan), blank, math.nan, "", reason)
 
 
-@functools.lru_cache(maxsize=256)
+@functools.lru_cache(maxsize=4096)
 def _inflation(looks: int, spending: str, futility: bool, alpha: float, power: float,
-               alternative: str, whole_weeks: bool, days: float) -> float:
-    """Maximum ÷ fixed units of the row design the evaluation uses (nan when impossible); its
-    looks fall on the week ends of a run of ``days`` in a plan of whole weeks."""
-    staged = Settings(looks=looks, spending=spending, futility=futility, whole_weeks=whole_weeks)
+               two_sided: bool, timing: tuple[float, ...] | None) -> float:
+    """Maximum ÷ fixed units of the design the evaluation gives a row at this α and power
+    with its looks at ``timing`` (nan when impossible): the evaluation's own design
+    (:func:`fourfold.plan.sequential.shared_design`), made once for every curve and row."""
     try:
-        return sequential.inflation(sequential.row_design(staged, alpha, power, alternative,
-                                                          days=days))
+        return sequential.shared_design(looks, spending, futility, alpha, power, two_sided,
+                                        timing).inflation
     except ValueError:
         return math.nan
+
+
+@functools.lru_cache(maxsize=1024)
+def _node_inflations(looks: int, spending: str, futility: bool, two_sided: bool,
+                     timing: tuple[float, ...] | None, along_alpha: bool, fixed: float,
+                     nodes: tuple[float, ...]) -> tuple[float, ...]:
+    """The inflation at each node of a curve along α (at power ``fixed``) or along power (at
+    α ``fixed``); remembered, so that a curve drawn again, in another scenario with the same
+    looks or after an edit elsewhere costs nothing."""
+    grid = np.array(nodes)
+    other = np.full(grid.size, fixed)
+    alphas, powers = (grid, other) if along_alpha else (other, grid)
+    return tuple(inflations(looks, alphas, powers,
+                            alternative="two-sided" if two_sided else "greater",
+                            spending=spending, timing=timing,
+                            futility=sequential.FUTILITY_FAMILY[spending] if futility else None
+                            ).tolist())
 
 
 class _Row:
@@ -302,18 +320,22 @@ class _Row:
         ``design``, the row's own value, so that the design point stays exact) and
         interpolated on the normal-quantile scale of α or power, where it is close to a
         straight line (within 0.2 % of the exact designs with five nodes, where linear
-        interpolation in power missed by 1 % near power 0.99); each group sequential design
-        costs milliseconds. In a plan of whole weeks the looks keep the week ends of the row's
+        interpolation in power missed by 1 % near power 0.99). The nodes other than the
+        row's own come from :func:`fourfold.engine.inflation.inflations` (one call, each α's
+        boundaries made once, about 10⁻⁴ from the exact designs), remembered by the values
+        that decide them. In a plan of whole weeks the looks keep the week ends of the row's
         own run along the curves.
         """
         settings = self.plan.settings
         if settings.looks <= 1:
             return 1.0
 
+        timing = sequential.week_timing(settings, float(self.row.days))
+        two_sided = self.metric.alternative == "two-sided"
+
         def at(a: float, p: float) -> float:
-            return _inflation(settings.looks, settings.spending, settings.futility, float(a),
-                              float(p), self.metric.alternative, settings.whole_weeks,
-                              float(self.row.days))
+            return _inflation(settings.looks, settings.spending, bool(settings.futility),
+                              float(a), float(p), two_sided, timing)
 
         alpha, power = np.asarray(alpha, dtype=float), np.asarray(power, dtype=float)
         if alpha.ndim == 0 and power.ndim == 0:
@@ -321,7 +343,12 @@ class _Row:
         grid, fixed, along_alpha = (alpha, power, True) if alpha.ndim else (power, alpha, False)
         nodes = np.unique(np.concatenate([grid[:: max(1, grid.size // INFLATION_NODES)],
                                           grid[-1:], [] if design is None else [design]]))
-        values = [at(x, fixed) if along_alpha else at(fixed, x) for x in nodes]
+        values = np.array(_node_inflations(
+            settings.looks, settings.spending, bool(settings.futility), two_sided, timing,
+            along_alpha, float(fixed), tuple(nodes.tolist())))
+        if design is not None:  # the row's own point: its evaluation's exact design
+            own = nodes == design
+            values[own] = (at(design, fixed) if along_alpha else at(fixed, design))
         return np.interp(ndtri(grid), ndtri(nodes), values)
 
     def units(self, *curves: tuple) -> list[np.ndarray]:

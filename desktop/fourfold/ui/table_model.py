@@ -14,7 +14,9 @@ What the cells show is in :mod:`fourfold.ui.table_display`, sorting in
 from __future__ import annotations
 
 import math
+import operator
 
+import numpy as np
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPointF, Qt
 from PySide6.QtGui import QColor, QFont, QIcon, QPainter, QPixmap, QPolygonF
 
@@ -64,11 +66,6 @@ def _marker_icon(colour: QColor) -> QIcon:
     return QIcon(pixmap)
 
 
-def _same(a, b) -> bool:
-    """Equal numbers, nan equal to nan."""
-    return a == b or (isinstance(a, float) and isinstance(b, float) and a != a and b != b)
-
-
 class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableModel):
     """One row per metric, one column per input and output (see :mod:`fourfold.ui.columns`).
 
@@ -108,17 +105,20 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
 
     def _result_rows(self) -> list:
         """The document's row results in table order; their powers at the plan's duration go
-        to ``_powers``, keyed by result (a row's result moves with it)."""
+        to ``_row_powers``, in the same order (a row's power moves with its result when rows
+        move before the next recompute)."""
         result = self.document.result
         rows = list(result.rows) if result is not None else []
-        powers = result.duration_powers if result is not None else ()
-        self._powers = {id(row): (row, power) for row, power in zip(rows, powers, strict=True)}
-        rows += [None] * (len(self._rows) - len(rows))
+        powers = list(result.duration_powers) if result is not None else []
+        missing = len(self._rows) - len(rows)
+        rows += [None] * missing
+        powers += [math.nan] * missing
+        self._row_powers = powers[: len(self._rows)]
         return rows[: len(self._rows)]
 
     def duration_power(self, row: int) -> float:
         """The power of ``row`` at the plan's duration (nan when not known)."""
-        return self._powers.get(id(self._results[row]), (None, math.nan))[1]
+        return self._row_powers[row]
 
     def _binding_index(self) -> int | None:
         result = self.document.result
@@ -147,6 +147,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
                 self.beginInsertRows(QModelIndex(), first, last)
                 self._rows[first:first] = metrics[first:last + 1]
                 self._results[first:first] = [None] * (last - first + 1)
+                self._row_powers[first:first] = [math.nan] * (last - first + 1)
                 self._cache.clear()
                 self.endInsertRows()
         elif kind == "rows_removed":
@@ -154,6 +155,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
                 self.beginRemoveRows(QModelIndex(), first, last)
                 del self._rows[first:last + 1]
                 del self._results[first:last + 1]
+                del self._row_powers[first:last + 1]
                 self._cache.clear()
                 self.endRemoveRows()
         elif kind == "rows_moved":
@@ -163,6 +165,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
                 self.beginMoveRows(QModelIndex(), source, source, QModelIndex(), after)
                 self._rows.insert(target, self._rows.pop(source))
                 self._results.insert(target, self._results.pop(source))
+                self._row_powers.insert(target, self._row_powers.pop(source))
                 self._cache.clear()
                 self.endMoveRows()
         elif kind == "rows_reordered":
@@ -180,6 +183,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         new = [self.index(position[index.row()], index.column()) for index in old]
         self._rows = [self._rows[row] for row in order]
         self._results = [self._results[row] for row in order]
+        self._row_powers = [self._row_powers[row] for row in order]
         if self._binding is not None:
             self._binding = position[self._binding]
         self._cache.clear()
@@ -196,7 +200,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         if len(self._rows) != len(self.document.plan.metrics):
             self._reset_rows()
             return
-        old, old_powers = self._results, self._powers
+        old, old_powers = self._results, self._row_powers
         self._rows = list(self.document.plan.metrics)
         self._results = self._result_rows()
         binding = self._binding_index()
@@ -209,10 +213,14 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
             first = 0
             self._cache.clear()
         else:
-            # the document's row cache hands back the same RowResult for an unchanged row
-            touched.update(i for i, (a, b) in enumerate(zip(old, self._results, strict=True))
-                           if a is not b or not _same(old_powers.get(id(a), (None, None))[1],
-                                                      self._powers.get(id(b), (None, None))[1]))
+            # the document's row cache hands back the same RowResult for an unchanged row; a
+            # row is changed too when its power at the plan's duration is (nan equal to nan)
+            size = len(self._rows)
+            moved = np.fromiter(map(operator.is_not, old, self._results), bool, size)
+            before, after = np.array(old_powers, dtype=float), np.array(self._row_powers,
+                                                                      dtype=float)
+            moved |= (before != after) & ~(np.isnan(before) & np.isnan(after))
+            touched.update(np.flatnonzero(moved).tolist())
             if not touched:
                 return
             first, last = min(touched), max(touched)

@@ -17,6 +17,8 @@ order and that column's values are the ones sorted.
 
 from __future__ import annotations
 
+import operator
+
 from PySide6.QtCore import QItemSelection, QItemSelectionModel, Qt, Signal
 from PySide6.QtGui import QFont, QFontMetrics, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import (
@@ -34,6 +36,10 @@ from fourfold.ui.delegates import PlanDelegate
 from fourfold.ui.table_model import PlanTableModel
 
 MAX_ERRORS_SHOWN = 3
+_KIND = operator.attrgetter("kind")
+_WINDOWS = operator.attrgetter("windows")
+_COLUMN_FIELDS = frozenset({"kind", "windows"})
+"""The metric fields that decide which columns are shown (see :meth:`follow_looks`)."""
 MAX_COLUMN_CHARS = 30
 
 
@@ -67,6 +73,7 @@ class PlanTableView(QTableView):
 
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
+        self._columns_stale = False
         self.setItemDelegate(PlanDelegate(self))
         self.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectItems)
         self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
@@ -104,7 +111,8 @@ class PlanTableView(QTableView):
 
     def setModel(self, model) -> None:  # noqa: N802 (Qt's name)
         super().setModel(model)
-        model.document.computed.connect(self.follow_looks)
+        model.document.changed.connect(self._note_change)
+        model.document.computed.connect(self._follow_if_stale)
         model.document.computed.connect(self._check_sort)
         model.dataChanged.connect(self.widen_columns)
         for signal in (model.rowsAboutToBeRemoved, model.rowsAboutToBeMoved,
@@ -118,14 +126,25 @@ class PlanTableView(QTableView):
             self.widen_columns(model.index(0, 0),
                                model.index(model.rowCount() - 1, model.columnCount() - 1), ())
 
+    def _note_change(self, change) -> None:
+        """The columns shown may change with the rows, the settings or a row's kind or
+        windows; not with any other cell (a recompute of a large plan need not look)."""
+        if change.kind != "cells" or _COLUMN_FIELDS.intersection(change.fields):
+            self._columns_stale = True
+
+    def _follow_if_stale(self) -> None:
+        if self._columns_stale:
+            self._columns_stale = False
+            self.follow_looks()
+
     def follow_looks(self) -> None:
         """Show the interim-look columns only while the plan has more than one look, a kind's
         own columns only while the plan has a row of that kind, and "By window" only while a
         row has history windows."""
         plan = self.plan_model().document.plan
         hidden = plan.settings.looks <= 1
-        present = {metric.kind for metric in plan.metrics}
-        windows = any(metric.windows for metric in plan.metrics)
+        present = set(map(_KIND, plan.metrics))  # C loops: a recompute of a large plan
+        windows = any(map(_WINDOWS, plan.metrics))
         for position, column in enumerate(COLUMNS):
             if column.sequential:
                 self.setColumnHidden(position, hidden)

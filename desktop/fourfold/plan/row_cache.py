@@ -1,0 +1,125 @@
+"""What an open document's evaluations remember, so that an edit costs what it changes.
+
+:class:`RowCache` belongs to one open document (the window keeps one per scenario). Between two
+evaluations it tells the rows that may have changed from the others by their
+:attr:`~fourfold.plan.model.Metric.stamp` (every assignment to a row renews it), and keeps, in
+the plan's order, each row's key (its corrected α and its inputs), α, result, whether it waits
+for the plan's duration or follows its history windows, its power at the plan's duration and
+what the summary reads of it (:class:`fourfold.plan.summary.RowFacts`). An edit of one row of
+a large plan then looks at that row only; a change of the settings, of the number of rows or of
+the number of primary rows (which moves every primary row's α) reads every row again. Results
+are the same as without a cache: rows are reused only when their key and the settings are
+those they were computed with (``tests/plan/test_evaluation_cache.py`` holds the two equal
+under random edits, in place and by replacement).
+"""
+
+from __future__ import annotations
+
+import operator
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from fourfold.plan import kinds, windows
+from fourfold.plan.fields import SETTINGS_FIELDS
+from fourfold.plan.model import Plan
+from fourfold.plan.rows import waits_for_duration
+from fourfold.plan.summary import RowFacts, stamps
+
+ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative", "margin",
+              "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n",
+              *kinds.RATIO_FIELDS, *kinds.QUANTILE_FIELDS)
+"""The metric fields a row's result depends on (with its corrected α and the settings)."""
+
+row_inputs = operator.attrgetter(*ROW_INPUTS)
+
+_SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
+
+
+def settings_key(settings) -> tuple:
+    """The settings a row's result depends on, as a tuple to compare."""
+    return tuple(getattr(settings, name) for name in _SETTINGS_INPUTS)
+
+
+@dataclass
+class RowCache:
+    """Row results of earlier evaluations, so that :func:`~fourfold.plan.evaluation.compute`
+    solves only changed rows (see the module notes).
+
+    One cache belongs to one open document (the window's); pass it to every ``compute`` of
+    that document. A row is reused when its inputs, its corrected α and the plan's settings
+    are those it was computed with, so the result is the same as without the cache; rows with
+    the same inputs share one :class:`~fourfold.plan.results.RowResult`. Only the rows of the
+    latest evaluation are kept.
+
+    Examples
+    --------
+    >>> from fourfold.plan.evaluation import compute
+    >>> plan, cache = Plan.empty(), RowCache()
+    >>> first = compute(plan, cache=cache)
+    >>> compute(plan, cache=cache).rows[0] is first.rows[0], len(cache.rows)
+    (True, 1)
+    """
+
+    settings: tuple | None = None
+    rows: dict = field(default_factory=dict)
+    """Row results by key."""
+    designs: dict = field(default_factory=dict)
+    keys: list = field(default_factory=list)
+    """The latest evaluation's row keys, in the plan's order."""
+    results: tuple = ()
+    """The latest evaluation's row results, in the plan's order."""
+    uses: dict = field(default_factory=dict)
+    """How many rows of the latest evaluation have each key of ``rows``."""
+    alphas: list = field(default_factory=list)
+    """The latest evaluation's corrected α of each row."""
+    primaries: int = -1
+    """The latest evaluation's number of primary rows."""
+    stamps: np.ndarray | None = None
+    """The stamps of the rows last seen by :meth:`sync`."""
+    primary: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
+    waits: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
+    """Rows that take their units from the plan's duration."""
+    follows: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
+    """Rows that take their figures from their history windows."""
+    powers: list = field(default_factory=list)
+    """The latest evaluation's powers at the plan's duration, in the plan's order."""
+    powers_at: tuple | None = None
+    """The units and days of the duration those powers are at."""
+    facts: RowFacts | None = None
+    """What the summary read of the rows last summarised."""
+
+    def sync(self, plan: Plan) -> list[int] | None:
+        """Note the rows of ``plan`` that changed since the last call: their indices, or
+        ``None`` when every row is to be read again (new settings, rows added or removed)."""
+        settings = settings_key(plan.settings)
+        if settings != self.settings:
+            self.__init__()
+            self.settings = settings
+        metrics = plan.metrics
+        now = stamps(metrics)
+        if self.stamps is None or now.size != self.stamps.size:
+            changed = None
+            self.primary = np.array([metric.role == "primary" for metric in metrics], dtype=bool)
+            self.waits = np.array([waits_for_duration(plan.settings, metric)
+                                   for metric in metrics], dtype=bool)
+            self.follows = np.array([windows.follows(metric) for metric in metrics],
+                                    dtype=bool)
+        else:
+            changed = np.flatnonzero(now != self.stamps).tolist()
+            for index in changed:
+                metric = metrics[index]
+                self.primary[index] = metric.role == "primary"
+                self.waits[index] = waits_for_duration(plan.settings, metric)
+                self.follows[index] = windows.follows(metric)
+        self.stamps = now
+        return changed
+
+    def summary_facts(self, plan: Plan, rows) -> RowFacts:
+        """The summary's :class:`RowFacts` of ``rows`` (of the plan last synced), read again
+        where they changed."""
+        if self.facts is None:
+            self.facts = RowFacts(plan.metrics, rows)
+        else:
+            self.facts.reread(plan.metrics, rows, self.stamps)
+        return self.facts

@@ -1,0 +1,202 @@
+"""The plan-level results of an evaluation: which row binds, the duration, the total, the notes.
+
+:func:`summarise` reads the rows through :class:`RowFacts`, the few numbers of each row it
+needs (role, whether it was computed, whether it solved for sample size, days, units, its
+quantile caution) kept as arrays. An open document keeps one :class:`RowFacts` in its row cache
+and refreshes only the rows that changed, so that an edit of one row of a large plan does not
+read every row again; without a cache the facts are read afresh. The rules are those of
+:mod:`fourfold.plan.evaluation` (binding metric, runtime, incomplete plans).
+
+References
+----------
+Kohavi, R., Tang, D. & Xu, Y. (2020). *Trustworthy Online Controlled Experiments*. Cambridge
+University Press (ch. 17: guardrails and the metrics that decide).
+"""
+
+from __future__ import annotations
+
+import math
+import operator
+
+import numpy as np
+
+from fourfold.plan import kinds, sequential, traffic
+from fourfold.plan.arms import treatment_ratio
+from fourfold.plan.fields import CORRECTION_LABELS
+from fourfold.plan.model import Plan
+from fourfold.plan.results import PlanResult, RowResult, Unfinished
+from fourfold.plan.rows import runtime_units
+
+DECIDING_ROLES = ("primary", "guardrail")
+
+_ROLES = {"primary": 0, "secondary": 1, "guardrail": 2}
+_PRIMARY, _SECONDARY = _ROLES["primary"], _ROLES["secondary"]
+_STAMP = operator.attrgetter("stamp")
+
+
+def stamps(metrics) -> np.ndarray:
+    """The rows' :attr:`~fourfold.plan.model.Metric.stamp` values, in order."""
+    return np.fromiter(map(_STAMP, metrics), np.int64, len(metrics))
+
+
+class RowFacts:
+    """What :func:`summarise` reads of each row, as arrays in the plan's order.
+
+    Parameters
+    ----------
+    metrics : list of Metric
+    rows : sequence of RowResult
+        One per metric.
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Metric, Plan
+    >>> from fourfold.plan.evaluation import compute
+    >>> plan = Plan(metrics=[Metric(role="primary"), Metric(role="guardrail", effect=None)])
+    >>> facts = RowFacts(plan.metrics, compute(plan).rows)
+    >>> facts.role.tolist(), facts.failed.tolist()
+    ([0, 2], [False, True])
+    """
+
+    def __init__(self, metrics, rows) -> None:
+        self._allocate(0)
+        self.reread(metrics, rows, stamps(metrics))
+
+    def _allocate(self, size: int) -> None:
+        self.role = np.full(size, -1, dtype=np.int8)
+        self.asks_units = np.zeros(size, dtype=bool)
+        """The row's own ``solve`` is the sample size (what a fixed runtime replaces)."""
+        self.failed = np.zeros(size, dtype=bool)
+        self.sample = np.zeros(size, dtype=bool)
+        """The row solved for sample size."""
+        self.days = np.zeros(size)
+        """Days, 0 where not known (what the binding row's choice counts)."""
+        self.units = np.zeros(size)
+        self.tails: dict[int, str] = {}
+        self.rows: tuple[RowResult, ...] = ()
+        self.stamps = np.full(size, -1, dtype=np.int64)
+
+    def reread(self, metrics, rows, now: np.ndarray) -> None:
+        """Read again the rows whose metric or result changed since the facts were read
+        (``now``: the metrics' :func:`stamps`)."""
+        if now.size != self.role.size:
+            self._allocate(now.size)
+            changed = range(now.size)
+        else:
+            moved = np.fromiter(map(operator.is_not, rows, self.rows), bool, len(rows))
+            changed = np.flatnonzero(moved | (now != self.stamps)).tolist()
+        for index in changed:
+            self._read(index, metrics[index], rows[index])
+        self.rows, self.stamps = tuple(rows), now
+
+    def _read(self, index: int, metric, row: RowResult) -> None:
+        self.role[index] = _ROLES.get(metric.role, -1)
+        self.asks_units[index] = metric.solve == "sample_size"
+        self.failed[index] = bool(row.reason)
+        self.sample[index] = row.solved == "sample_size"
+        self.days[index] = 0.0 if math.isnan(row.days) else row.days
+        self.units[index] = row.units_total
+        note = kinds.tail_note(metric, row)
+        if note is None:
+            self.tails.pop(index, None)
+        else:
+            self.tails[index] = note
+
+    def tail_notes(self) -> list[str]:
+        """The quantile rows' cautions (:func:`fourfold.plan.kinds.tail_note`), in order."""
+        return [self.tails[index] for index in sorted(self.tails)]
+
+
+def _binding(deciding: np.ndarray, facts: RowFacts) -> int:
+    """The deciding row needing the most days, then the most units; the first of equals.
+
+    The units of a computed row are finite (a row whose units cannot be counted fails), so
+    the comparison is a plain one.
+    """
+    days = facts.days[deciding]
+    longest = days == days.max()
+    units = facts.units[deciding]
+    most = longest & (units == units[longest].max())
+    return int(deciding[np.flatnonzero(most)[0]])
+
+
+def summarise(plan: Plan, rows: tuple[RowResult, ...], facts: RowFacts,
+              designs: dict | None = None, waiting: np.ndarray | None = None) -> PlanResult:
+    """The plan-level results of ``rows`` (read through ``facts``); rows marked in the
+    boolean array ``waiting`` (still to be solved at the plan's duration) neither count as not
+    computed nor get a note."""
+    settings = plan.settings
+    metrics = plan.metrics
+    notes = []
+    if settings.correction != "none":
+        primaries = int(np.count_nonzero(facts.role == _PRIMARY))
+        arms = f"{settings.arms} {'arm' if settings.arms == 1 else 'arms'}"
+        counted = f"{primaries} primary {'metric' if primaries == 1 else 'metrics'}"
+        dunnett = (" (Dunnett's critical value over the arms, Bonferroni over the metrics)"
+                   if settings.correction == "dunnett" else "")
+        notes.append(f"α corrected ({CORRECTION_LABELS[settings.correction]}): primary rows for "
+                     f"{arms} × {counted}, other rows for {arms}{dunnett}.")
+    notes.extend(sequential.plan_notes(plan, rows, designs))
+    notes.extend(facts.tail_notes())
+    counted = np.ones(len(rows), dtype=bool) if waiting is None else ~waiting
+    unfinished = []
+    for index in np.flatnonzero(facts.failed & counted).tolist():
+        metric, reason = metrics[index], rows[index].reason
+        notes.append(f"{metric.name}: not computed — {reason}.")
+        if metric.role in DECIDING_ROLES:
+            unfinished.append(Unfinished(index, metric.name, reason))
+    if unfinished:
+        roles = "primary or guardrail row" if len(unfinished) == 1 else "primary or guardrail rows"
+        notes.insert(0, f"Incomplete plan: {len(unfinished)} {roles} cannot be computed, so the "
+                        "plan has no duration until they can.")
+        return PlanResult(rows, None, None, None, None, tuple(notes), tuple(unfinished))
+
+    if settings.runtime_days is not None:
+        units = runtime_units(settings)
+        if facts.asks_units.any():
+            notes.append(f"Fixed runtime of {settings.runtime_days:g} days: rows that solve for "
+                         "sample size show the effect they can detect instead (a margin row: "
+                         "the tightest margin it rules out).")
+        total = None if units is None else units * (1.0 + settings.arms
+                                                    * treatment_ratio(settings))
+        notes.extend(traffic_notes(settings, float(settings.runtime_days)))
+        return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
+
+    solved = facts.sample & ~facts.failed & counted
+    deciding = np.flatnonzero(solved & ((facts.role == _PRIMARY)
+                                        | (facts.role == _ROLES["guardrail"])))
+    if not deciding.size:
+        notes.append("No primary or guardrail row solves for sample size: nothing sets the "
+                     "duration.")
+        return PlanResult(rows, None, None, None, None, tuple(notes))
+
+    binding = _binding(deciding, facts)
+    name = metrics[binding].name
+    notes.append(f"{name} needs the most traffic among primary and guardrail rows and sets "
+                 "the duration; secondary rows are informational.")
+    duration = rows[binding].days
+    total = rows[binding].units_total
+    secondary = np.flatnonzero(solved & (facts.role == _SECONDARY) & (facts.units > total))
+    for index in secondary.tolist():
+        metric, row = metrics[index], rows[index]
+        if math.isfinite(duration):
+            gap = f"{row.days:g} days for its power; the test runs {duration:g}"
+        else:
+            gap = f"{row.units_total:,.0f} units for its power; the test has {total:,.0f}"
+        notes.append(f"{metric.name} (secondary) would need {gap}.")
+    notes.extend(traffic_notes(settings, duration, total))
+    return PlanResult(rows, None if math.isnan(duration) else duration, total, binding, name,
+                      tuple(notes))
+
+
+def traffic_notes(settings, days: float, total: float | None = None) -> list[str]:
+    """The traffic model's flags: a duration beyond the reach curve, a capped ramp-up."""
+    notes = []
+    flag = traffic.extrapolation_note(settings, days, total)
+    if flag:
+        notes.append(flag)
+    found = traffic.model(settings) if traffic.uses_model(settings) else None
+    if found is not None and found.capped:
+        notes.append(f"Ramp-up steps above the plan's share ({settings.share * 100:.3g} %) are "
+                     "capped at it.")
+    return notes
