@@ -215,3 +215,19 @@ def test_describe_names_each_change_in_words():
         plan, "Accept +7 % conversion lift")
     assert "ramp-up days 1–2 at 5 %, days 3–4 at 25 % (base none)" in sc.describe(
         plan, "Returning visitors, ramp-up to all traffic")
+
+
+def test_a_changed_row_is_the_same_object_until_its_base_row_or_its_changes_move():
+    # The effective rows are kept between resolves (the row cache then sees nothing changed);
+    # any edit of the base row or of the scenario's changes must still show at once.
+    stack = _stack_with_scenario()
+    stack.do(SetField(0, "baseline", 0.04))
+    first = effective(stack.plan, "B").metrics[0]
+    assert effective(stack.plan, "B").metrics[0] is first and first.baseline == 0.04
+    stack.do(SetField(0, "baseline", 0.05))
+    assert effective(stack.plan, "B").metrics[0].baseline == 0.05
+    stack.plan.metrics[0].effect = 0.07  # a base field the scenario does not change
+    moved = effective(stack.plan, "B").metrics[0]
+    assert moved is not first and (moved.baseline, moved.effect) == (0.05, 0.07)
+    stack.undo()
+    assert effective(stack.plan, "B").metrics[0].baseline == 0.04

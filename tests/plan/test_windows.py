@@ -121,3 +121,19 @@ def test_windows_are_stored_and_read_back():
     plan = Plan(SETTINGS, [row((7, 5.0), (14, 7.0))])
     again = loads(dumps(plan))
     assert again.metrics[0].windows == plan.metrics[0].windows and again.metrics[0].windowed
+
+
+def test_a_cached_settle_is_reused_only_while_settings_and_rows_are_unchanged():
+    from fourfold.plan.evaluation import RowCache
+
+    plan, cache = Plan(SETTINGS, [row((7, 5.0), (14, 7.0), (21, 8.0))]), RowCache()
+    first = compute(plan, cache=cache)
+    assert compute(plan, cache=cache) is first and first.duration_days == 21.0
+    plan.settings.daily_units = 200  # 8,038 units → 40.2 days: past the last window
+    moved = compute(plan, cache=cache)
+    assert moved is not first and moved.duration_days == compute(plan).duration_days
+    plan.settings.daily_units = 400
+    plan.metrics[0].effect = 1.0  # σ 5 over 7 d: 393 per arm, 2 days → one week
+    again = compute(plan, cache=cache)
+    assert again.duration_days == compute(plan).duration_days == 7.0
+    assert again.rows[0].units_control == math.ceil(2 * 25 * Z2)

@@ -217,7 +217,13 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
         return _settle(plan, None) if windows.uses_windows(plan) else _compute(plan, None)
     dirty = cache.sync(plan)
     if cache.follows.any():
-        return _settle(plan, cache)
+        settings, rows = cache.settings, cache.stamps.copy()
+        memo = cache.settled
+        if memo is not None and memo[0] == settings and np.array_equal(memo[1], rows):
+            return memo[2]
+        result = _settle(plan, cache)
+        cache.settled = (settings, rows, result)
+        return result
     return _compute(plan, cache, dirty)
 
 

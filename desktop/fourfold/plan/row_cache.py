@@ -88,6 +88,10 @@ class RowCache:
     """The units and days of the duration those powers are at."""
     facts: RowFacts | None = None
     """What the summary read of the rows last summarised."""
+    settled: tuple | None = None
+    """``(settings key, row stamps, result)`` of the latest plan whose rows follow their
+    history windows: the same result again for the same settings and rows (the fixed point's
+    rounds, which sync the cache with their own plans, are not run again)."""
 
     def sync(self, plan: Plan) -> list[int] | None:
         """Note the rows of ``plan`` that changed since the last call: their indices, or

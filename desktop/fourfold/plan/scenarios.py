@@ -182,8 +182,27 @@ def _listed(fields: Mapping[str, Any]) -> str:
     return ", ".join(fields) if fields else "nothing"
 
 
+_CHANGED: dict[tuple[int, str], tuple[Metric, tuple[str, ...]]] = {}
+"""Rows of effective plans by the base row's stamp and the scenario's changes in text: an
+unchanged scenario row is the same object, with the same stamp, on every resolve, so the row
+cache (and the fixed point of rows that follow their windows) finds it unchanged."""
+_CHANGED_KEPT = 1024
+
+
 def _changed(metric: Metric, fields: Mapping[str, Any], problems: list[str]) -> Metric:
-    """``metric`` with the known fields of ``fields`` laid over it."""
+    """``metric`` with the known fields of ``fields`` laid over it (read-only: shared)."""
+    key = (metric.stamp, repr(sorted(fields.items())))
+    found = _CHANGED.get(key)
+    if found is None:
+        said: list[str] = []
+        found = _CHANGED[key] = (_laid_over(metric, fields, said), tuple(said))
+        if len(_CHANGED) > _CHANGED_KEPT:
+            del _CHANGED[next(iter(_CHANGED))]
+    problems.extend(found[1])
+    return found[0]
+
+
+def _laid_over(metric: Metric, fields: Mapping[str, Any], problems: list[str]) -> Metric:
     known = {field: value for field, value in fields.items() if field in METRIC_FIELDS}
     for field in fields:
         if field not in known:
