@@ -15,7 +15,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from fourfold.plan import Plan, load, sample_path
+from fourfold.plan.comparison import Caches, outcomes
 from fourfold.plan.evaluation import RowCache, compute
+from fourfold.plan.model import Scenario
 
 INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative",
           "margin", "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n")
@@ -99,3 +101,65 @@ def test_cached_results_equal_uncached_ones_after_any_edits(edits):
             j = keys.index(key)           # the plan's duration are solved anew each time)
             if plan.metrics[i].solve == "sample_size" or plan.metrics[i].n is not None:
                 assert cached.rows[i] is cached.rows[j]
+
+
+def _same_result(cached, fresh) -> None:
+    for x, y in zip(cached.rows, fresh.rows, strict=True):
+        for name in (f.name for f in dataclasses.fields(x)):
+            assert _same(getattr(x, name), getattr(y, name)), name
+    assert (cached.duration_days, cached.binding_index) == (fresh.duration_days,
+                                                            fresh.binding_index)
+    assert all(_same(x, y) for x, y in zip(cached.duration_powers, fresh.duration_powers,
+                                           strict=True))
+
+
+@settings(max_examples=10, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.tuples(EDITS, EDITS), min_size=1, max_size=5))
+def test_caches_that_share_a_pool_give_each_plan_its_own_results(edits):
+    # Two plans (as two scenarios of one document) whose rows are partly alike, each with its
+    # own cache and one shared pool: each result equals that plan evaluated without a cache.
+    caches = Caches()
+    plans = [_plan(12), _plan(12)]
+    for plan, name in zip(plans, ("a", "b"), strict=True):
+        compute(plan, cache=caches.get(name))
+    for one, other in edits:
+        _apply(plans[0], one)
+        _apply(plans[1], other)
+        for plan, name in zip(plans, ("a", "b"), strict=True):
+            _same_result(compute(plan, cache=caches.get(name)), compute(plan))
+
+
+def test_a_row_shown_alike_in_several_scenarios_is_solved_once(monkeypatch):
+    from fourfold.plan import rows as plan_rows
+    from fourfold.plan import scenarios
+
+    plan = _plan(6)
+    ids = [metric.id for metric in plan.metrics]
+    plan.scenarios = [Scenario("Larger effect", rows={ids[0]: {"effect": 0.07}}),
+                      Scenario("Without row 2", omitted=[ids[1]])]
+    caches = Caches()
+    outcomes(plan, caches)
+    solved = []
+    real = plan_rows.solve_rows
+
+    def counting(plan, designs, alphas, indices, results, *args):
+        solved.append(len(indices))
+        return real(plan, designs, alphas, indices, results, *args)
+
+    monkeypatch.setattr("fourfold.plan.evaluation.solve_rows", counting)
+    plan.metrics[3].baseline *= 1.1
+    found = outcomes(plan, caches)
+    assert sum(solved) == 1  # the base and every scenario show the edited row alike
+    for outcome in found:
+        _same_result(outcome.result, compute(scenarios.effective(plan, outcome.name)))
+
+
+def test_an_evaluation_without_powers_leaves_the_cache_right_for_the_next():
+    plan, cache = _plan(12), RowCache()
+    compute(plan, cache=cache)
+    plan.metrics[3].baseline *= 1.2
+    quick = compute(plan, cache=cache, powers=False)
+    fresh = compute(plan)
+    assert quick.duration_days == fresh.duration_days
+    assert all(math.isnan(power) for power in quick.duration_powers)
+    _same_result(compute(plan, cache=cache), fresh)

@@ -107,12 +107,14 @@ class Caches:
     """
 
     caches: dict = field(default_factory=dict)
+    pool: dict = field(default_factory=dict)
+    """Row results the caches share (:attr:`RowCache.shared`)."""
 
     def get(self, name: str | None) -> RowCache:
         """The cache of scenario ``name``, made on first use."""
         cache = self.caches.get(name)
         if cache is None:
-            cache = self.caches[name] = RowCache()
+            cache = self.caches[name] = RowCache(shared=self.pool)
         return cache
 
     def keep(self, names) -> None:

@@ -156,8 +156,12 @@ def _evaluate_rows(plan: Plan, designs: dict, cache: RowCache | None = None,
         results[index] = cache.rows.get(keys[index])
         if results[index] is None:
             missing.append(index)
+    if missing and cache.shared is not None:
+        missing = cache.borrow(keys, missing, results)
     if missing:
         solve_rows(plan, designs, alphas, missing, results)
+        if cache.shared is not None:
+            cache.lend(keys, missing, results)
     _remember(cache, keys, changed, results)
     cache.alphas, cache.primaries = alphas, primaries
     return tuple(results), changed
@@ -186,7 +190,7 @@ def _remember(cache: RowCache, keys: list, changed: list, results: list) -> None
     cache.keys, cache.results = keys, tuple(results)
 
 
-def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
+def compute(plan: Plan, *, cache: RowCache | None = None, powers: bool = True) -> PlanResult:
     """Evaluate every metric row of a plan and the plan's duration.
 
     Parameters
@@ -196,6 +200,9 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
     cache : RowCache, optional
         The document's cache: rows whose inputs did not change since the last call are not
         solved again (the result is the same).
+    powers : bool
+        Also each row's power at the plan's duration (``duration_powers``); ``False`` leaves
+        them ``nan``, for a caller that reads only the duration and the rows.
 
     Returns
     -------
@@ -214,25 +221,28 @@ def compute(plan: Plan, *, cache: RowCache | None = None) -> PlanResult:
     (1570.0, 'Spend')
     """
     if cache is None:
-        return _settle(plan, None) if windows.uses_windows(plan) else _compute(plan, None)
+        return (_settle(plan, None, powers) if windows.uses_windows(plan)
+                else _compute(plan, None, powers=powers))
     dirty = cache.sync(plan)
     if cache.follows.any():
+        if not powers:
+            return _settle(plan, cache, powers)
         settings, rows = cache.settings, cache.stamps.copy()
         memo = cache.settled
         if memo is not None and memo[0] == settings and np.array_equal(memo[1], rows):
             return memo[2]
-        result = _settle(plan, cache)
+        result = _settle(plan, cache, powers)
         cache.settled = (settings, rows, result)
         return result
-    return _compute(plan, cache, dirty)
+    return _compute(plan, cache, dirty, powers)
 
 
-def _settle(plan: Plan, cache: RowCache | None) -> PlanResult:
+def _settle(plan: Plan, cache: RowCache | None, powers: bool) -> PlanResult:
     """Rows that follow their history windows: the fixed point of duration and figures
     (:mod:`fourfold.plan.windows`)."""
     runtime = plan.settings.runtime_days
     if runtime is not None:
-        result = _compute(windows.at_days(plan, runtime), cache)
+        result = _compute(windows.at_days(plan, runtime), cache, powers=powers)
         return dataclasses.replace(result, window_days=float(runtime), notes=(
             *result.notes, *windows.notes(plan, runtime, "the fixed runtime")))
     days = windows.start(plan)
@@ -240,7 +250,7 @@ def _settle(plan: Plan, cache: RowCache | None) -> PlanResult:
     found: list[float] = []
     for _ in range(windows.MAX_ROUNDS):
         shown = windows.at_days(plan, days)
-        result = _compute(shown, cache)
+        result = _compute(shown, cache, powers=powers)
         duration = result.duration_days
         if duration is None or windows.is_settled(days, duration):
             why = ("the plan's duration" if duration is not None else
@@ -258,7 +268,7 @@ def _settle(plan: Plan, cache: RowCache | None) -> PlanResult:
     bracket = windows.bracket(tried, found)
     while bracket is not None and (days := windows.between(*bracket, step)) is not None:
         shown = windows.at_days(plan, days)
-        result = _compute(shown, cache)
+        result = _compute(shown, cache, powers=powers)
         duration = result.duration_days
         if duration is None or windows.is_settled(days, duration):
             return dataclasses.replace(result, window_days=days, notes=(
@@ -297,7 +307,8 @@ class _Summary:
         return summarise(self.plan, rows, facts, self.designs, waiting)
 
 
-def _compute(plan: Plan, cache: RowCache | None, dirty: list[int] | None = None) -> PlanResult:
+def _compute(plan: Plan, cache: RowCache | None, dirty: list[int] | None = None,
+             powers: bool = True) -> PlanResult:
     """:func:`compute` of a plan whose rows' figures are fixed (``dirty``: the rows
     :meth:`RowCache.sync` found changed, when the caller has synced the cache already)."""
     if cache is None:
@@ -318,10 +329,13 @@ def _compute(plan: Plan, cache: RowCache | None, dirty: list[int] | None = None)
         alphas = cache.alphas if cache is not None else row_alphas(plan)
         result = _solve_waiting(plan, rows, designs, alphas, waiting, result, at, summary)
         at = at if result.status == "complete" else None
-    powers = (math.nan,) * len(rows)
-    if at is not None and rows:
-        powers = _duration_powers(plan, result.rows, at, designs, cache, changed)
-    return dataclasses.replace(result, duration_powers=powers)
+    found = (math.nan,) * len(rows)
+    if not powers:
+        if cache is not None:
+            cache.powers_at = None  # the rows changed now are not in the kept powers
+    elif at is not None and rows:
+        found = _duration_powers(plan, result.rows, at, designs, cache, changed)
+    return dataclasses.replace(result, duration_powers=found)
 
 
 def _at_duration(plan: Plan, result: PlanResult) -> AtDuration | None:

@@ -10,7 +10,9 @@ a large plan then looks at that row only; a change of the settings, of the numbe
 the number of primary rows (which moves every primary row's α) reads every row again. Results
 are the same as without a cache: rows are reused only when their key and the settings are
 those they were computed with (``tests/plan/test_evaluation_cache.py`` holds the two equal
-under random edits, in place and by replacement).
+under random edits, in place and by replacement). The caches of one document's scenarios share
+a pool of results by settings and key, so that a base row several scenarios show alike is
+solved once for all of them.
 """
 
 from __future__ import annotations
@@ -32,6 +34,9 @@ ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alterna
 """The metric fields a row's result depends on (with its corrected α and the settings)."""
 
 row_inputs = operator.attrgetter(*ROW_INPUTS)
+
+SHARED_KEPT = 50_000
+"""The most row results a shared pool keeps (about 100 scenarios of a 500-row plan)."""
 
 _SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
 
@@ -88,6 +93,9 @@ class RowCache:
     """The units and days of the duration those powers are at."""
     facts: RowFacts | None = None
     """What the summary read of the rows last summarised."""
+    shared: dict | None = None
+    """Row results by settings and key, shared with the caches of the plan's other scenarios
+    (:class:`fourfold.plan.comparison.Caches`; ``None``: not shared)."""
     settled: tuple | None = None
     """``(settings key, row stamps, result)`` of the latest plan whose rows follow their
     history windows: the same result again for the same settings and rows (the fixed point's
@@ -98,8 +106,9 @@ class RowCache:
         ``None`` when every row is to be read again (new settings, rows added or removed)."""
         settings = settings_key(plan.settings)
         if settings != self.settings:
+            shared = self.shared
             self.__init__()
-            self.settings = settings
+            self.settings, self.shared = settings, shared
         metrics = plan.metrics
         now = stamps(metrics)
         if self.stamps is None or now.size != self.stamps.size:
@@ -127,3 +136,22 @@ class RowCache:
         else:
             self.facts.reread(plan.metrics, rows, self.stamps)
         return self.facts
+
+    def borrow(self, keys: list, missing: list[int], results: list) -> list[int]:
+        """Fill ``results`` at ``missing`` from the shared pool; the indices still missing."""
+        pool, settings, left = self.shared, self.settings, []
+        for index in missing:
+            found = pool.get((settings, keys[index]))
+            if found is None:
+                left.append(index)
+            else:
+                results[index] = found
+        return left
+
+    def lend(self, keys: list, solved: list[int], results: list) -> None:
+        """Put the rows just ``solved`` into the shared pool (the oldest go past its size)."""
+        pool, settings = self.shared, self.settings
+        for index in solved:
+            pool[(settings, keys[index])] = results[index]
+        while len(pool) > SHARED_KEPT:
+            del pool[next(iter(pool))]

@@ -4,8 +4,9 @@ For the binding row's baseline, its sd, its effect (its margin when the effect i
 for a non-inferiority guardrail), its CUPED ρ when it uses one, and the plan's daily units
 and traffic share, :func:`sensitivity` gives the duration with that one input scaled by
 ``1 − amount`` and ``1 + amount`` (the share at most 100 %, ρ below 1), every other input as
-planned. The whole plan is evaluated again each time, so another row may become binding; an
-input that makes the plan incomplete gives no duration for that side. The assumptions come
+planned. The plan's primary and guardrail rows — the only rows the duration reads — are
+evaluated again each time, so another row may become binding; an input that makes the plan
+incomplete gives no duration for that side. The assumptions come
 sorted by swing — the spread of their two durations — largest first: the plan is most fragile
 to the first.
 
@@ -117,7 +118,7 @@ def _complete(plan: Plan, result: PlanResult) -> bool:
 
 def _duration(plan: Plan, cache: RowCache) -> tuple[float, float]:
     """The plan's duration, and its days before rounding up (to order equal durations)."""
-    result = compute(plan, cache=cache)
+    result = compute(plan, cache=cache, powers=False)
     if not _complete(plan, result) or result.duration_days is None:
         return math.nan, math.nan
     return float(result.duration_days), _exact(plan.settings, result.total_units)
@@ -201,14 +202,16 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
         return Sensitivity(amount, days, None, (), why)
     cache = RowCache() if cache is None else cache
     metric = plan.metrics[index]
+    deciding = [row for row, each in enumerate(plan.metrics) if each.role in DECIDING_ROLES]
+    at = deciding.index(index)
     swings = []
     for label, field, low, high in _row_inputs(metric):
         value = getattr(metric, field)
         sides = []
         for factor in (1 - amount, 1 + amount):
             changed = dataclasses.replace(metric, **{field: _scaled(value, factor, low, high)})
-            metrics = list(plan.metrics)
-            metrics[index] = changed
+            metrics = [plan.metrics[row] for row in deciding]
+            metrics[at] = changed
             sides.append((getattr(changed, field),
                           *_duration(Plan(settings, metrics), cache)))
         percent = ((field == "baseline" and metric.kind == "proportion")
