@@ -146,16 +146,6 @@ LOOKS = (2, 3, 4, 5)
 LOOK_RUNS = 5
 
 
-def _forget_designs() -> None:
-    """Empty every cache of group sequential designs, so that each run meets them first."""
-    from fourfold.engine import sequential as engine_sequential
-    from fourfold.plan import sequential, tradeoffs
-
-    for cached in (engine_sequential._boundaries, sequential.shared_design,
-                   sequential._power_of, tradeoffs._inflation, tradeoffs._node_inflations):
-        cached.cache_clear()
-
-
 def looks(rows: int | None = None) -> None:
     """The number of interim looks changed (1 → 2 → 3 → 4 → 5, each met for the first time:
     the design caches are emptied before each run) on the sample plan (7 rows, 4 scenarios;
@@ -166,6 +156,7 @@ def looks(rows: int | None = None) -> None:
     import statistics
 
     from PySide6.QtCore import QEvent, QObject
+    from timing import forget_designs
     from windows import close_window, open_window
 
     from fourfold.plan import Plan, load, sample_path
@@ -196,7 +187,7 @@ def looks(rows: int | None = None) -> None:
         spin.setValue(1)
         for _ in range(5):
             app.processEvents()
-        _forget_designs()
+        forget_designs()
         for k in LOOKS:
             start = time.perf_counter()
             compute(window.document.plan)

@@ -1,4 +1,4 @@
-"""Timing helper shared by the benchmark scripts in this folder (imported as ``timing``: a
+"""Helpers shared by the benchmark scripts in this folder (imported as ``timing``: a
 script's own folder is on ``sys.path`` when it runs)."""
 
 from __future__ import annotations
@@ -16,3 +16,14 @@ def median_ms(fn, repeat: int = 200) -> float:
         fn()
         times.append(time.perf_counter() - start)
     return statistics.median(times) * 1e3
+
+
+def forget_designs() -> None:
+    """Empty every cache of group sequential designs, so that the next computation meets its
+    designs for the first time (as after a change of the number of looks)."""
+    from fourfold.engine import sequential as engine_sequential
+    from fourfold.plan import sequential, tradeoffs
+
+    for cached in (engine_sequential._boundaries, sequential.shared_design,
+                   sequential._power_of, tradeoffs._inflation, tradeoffs._node_inflations):
+        cached.cache_clear()

@@ -195,12 +195,12 @@ def _log_gap(prob: Callable[[float], float], target: float) -> Callable[[float],
     return lambda x: math.log(max(prob(x), _LOG_FLOOR)) - log_target
 
 
-def _upper_for(before: grid.Density | None, t: float, drift: float, target: float) -> float:
-    """Boundary c with P(still running, Z ≥ c) = target at fraction ``t``."""
+def _upper_for(look: grid.Look, target: float) -> float:
+    """Boundary c with P(still running, Z ≥ c) = target at the look."""
     if target <= 0.0:
         return math.inf
-    gap = _log_gap(lambda c: grid.exceed(before, t, drift, c), target)
-    hi = drift * math.sqrt(t) - float(ndtri(target))
+    gap = _log_gap(look.exceed, target)
+    hi = look.drift * look.root - float(ndtri(target))
     g_hi = gap(hi)
     if g_hi == 0.0:
         return hi
@@ -224,17 +224,16 @@ def _upper_for(before: grid.Density | None, t: float, drift: float, target: floa
     return _illinois(gap, lo, hi, g_lo, g_hi)
 
 
-def _lower_for(
-    before: grid.Density | None, t: float, drift: float, target: float, ceiling: float
-) -> float:
-    """Boundary l ≤ ceiling with P(still running, Z < l) = target, or ``ceiling`` if short."""
+def _lower_for(look: grid.Look, target: float, ceiling: float) -> float:
+    """Boundary l ≤ ceiling with P(still running, Z < l) = target at the look, or ``ceiling``
+    if short."""
     if target <= 0.0:
         return -math.inf
-    prob = lambda c: grid.below(before, t, drift, c)  # noqa: E731
+    prob = look.below
     if prob(ceiling) <= target:
         return ceiling
     gap = _log_gap(prob, target)
-    lo = drift * math.sqrt(t) + float(ndtri(target))
+    lo = look.drift * look.root + float(ndtri(target))
     g_lo = gap(lo)
     if g_lo >= 0.0:
         return lo
@@ -266,12 +265,12 @@ def _efficacy(t: np.ndarray, side_alpha: float, two_sided: bool, spending: str, 
     upper = np.empty(t.size)
     up = np.empty(t.size)
     state: grid.Density | None = None
-    for k, t_k in enumerate(t):
-        upper[k] = _upper_for(state, t_k, 0.0, increments[k])
-        up[k] = grid.exceed(state, t_k, 0.0, upper[k])
+    for k, t_k in enumerate(t.tolist()):
+        look = grid.Look(state, t_k, 0.0)
+        upper[k] = _upper_for(look, increments[k])
+        up[k] = look.exceed(upper[k])
         if k + 1 < t.size:
-            state = grid.advance(state, t_k, 0.0, -upper[k] if two_sided else -np.inf, upper[k],
-                                 r)
+            state = look.advance(-upper[k] if two_sided else -np.inf, upper[k], r)
     return upper, up
 
 
@@ -296,17 +295,18 @@ def _with_futility(
     down = np.empty(t.size)
     slope = 0.0
     state: grid.Density | None = None
-    for k, t_k in enumerate(t):
-        up[k] = grid.exceed(state, t_k, drift, upper[k])
-        slope += grid.exceed_slope(state, t_k, drift, upper[k])
+    for k, t_k in enumerate(t.tolist()):
+        look = grid.Look(state, t_k, drift)
+        up[k], rise = look.exceed_and_slope(upper[k])
+        slope += rise
         if k + 1 < t.size:
-            level = _lower_for(state, t_k, drift, beta_steps[k], upper[k])
+            level = _lower_for(look, beta_steps[k], upper[k])
         else:
             level = upper[k]
         lower[k] = max(level, floor[k])
-        down[k] = grid.below(state, t_k, drift, lower[k])
+        down[k] = look.below(lower[k])
         if k + 1 < t.size:
-            state = grid.advance(state, t_k, drift, lower[k], upper[k], r)
+            state = look.advance(lower[k], upper[k], r)
     return lower, up, down, slope
 
 
