@@ -4,7 +4,7 @@ The reference is the way the table was built before it was made columnar: one di
 of the metric's fields and ``dataclasses.asdict`` of its result, then
 ``pandas.DataFrame.from_records`` (a consistency check, no outside source). The two must be
 equal value for value and dtype for dtype, for plans with every kind of row, incomplete rows,
-interim looks, scenarios and no rows at all.
+interim looks, scenarios, fields given as whole numbers or None, and no rows at all.
 """
 
 import dataclasses
@@ -47,6 +47,18 @@ def _plans():
         Metric(name="B", solve="detectable_effect")])
     yield "runtime", Plan(dataclasses.replace(sample.settings, runtime_days=21.0),
                           sample.metrics)
+    # Fields as a notebook may give them: whole numbers, None beside numbers (the table keeps
+    # what pandas makes of them: int64, float64 with NaN, object).
+    yield "whole numbers", Plan(Settings(daily_units=10_000), [
+        Metric(name="Spend", role="primary", kind="mean", baseline=10, sd=5, effect=1,
+               relative=False, rho=0, n=None),
+        Metric(name="Visits", role="guardrail", kind="mean", baseline=3, sd=2, effect=1,
+               relative=False, rho=0.5, alpha=0.01, n=None)])
+    yield "mixed", Plan(Settings(daily_units=10_000), [
+        Metric(name="A", role="primary", kind="mean", baseline=10, sd=5.0, effect=1,
+               relative=False),
+        Metric(name="B", kind="mean", baseline=10.5, sd=None, effect=0.5, relative=False,
+               n=500, solve="power")])
 
 
 @pytest.mark.parametrize(("name", "plan"), list(_plans()), ids=[n for n, _ in _plans()])
