@@ -252,11 +252,12 @@ class PlotPanel(QWidget):
         now : bool
             Redraw at once instead of on the coalescing timer: for a caller that is itself
             coalesced (a recompute), so that table and plots are painted in the same pass.
-        others : sequence of fourfold.plan.comparison.Outcome
+        others : sequence of fourfold.plan.comparison.Outcome, or a callable returning one
             Other scenarios: the same row (by id) is drawn faintly where it is comparable
-            (same kind, effect scale, direction and quantity solved).
+            (same kind, effect scale, direction and quantity solved). A callable is called
+            when the plots are drawn (the other scenarios are evaluated only then).
         """
-        self._pending = (plan, result, index, tuple(others))
+        self._pending = (plan, result, index, others)
         if now:
             self._redraw_timer.stop()
             self._redraw()
@@ -300,6 +301,7 @@ class PlotPanel(QWidget):
             return
         plan, result, index, others = self._pending
         self._pending = None
+        others = tuple(others() if callable(others) else others)
         if index is None or not 0 <= index < len(plan.metrics):
             self._drawn = None
             self.grid.blank()
