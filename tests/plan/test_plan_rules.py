@@ -192,3 +192,35 @@ def test_a_guardrails_automatic_direction_is_never_refused():
     assert compute(stack.plan).rows[2].reason == ""
     message = _refused(stack, SetField(2, "margin", 0.01))  # now a rule the row keeps
     assert message.endswith("allowed here: above +3 % and below +777.2 %.")
+
+
+class _Watched:
+    """Settings that note each field a rule reads."""
+
+    def __init__(self, settings: Settings, read: set) -> None:
+        object.__setattr__(self, "_settings", settings)
+        object.__setattr__(self, "_read", read)
+
+    def __getattr__(self, name):
+        self._read.add(name)
+        return getattr(self._settings, name)
+
+
+_t_rows = st.builds(Metric, kind=st.just("mean"), method=st.just("t"), sd=st.just(2.0),
+                   n=st.sampled_from([None, 1.0, 50.0]),
+                   solve=st.sampled_from(["sample_size", "power", "detectable_effect"]))
+
+
+@settings(max_examples=200, deadline=None)
+@given(_rows | _t_rows, st.sampled_from(["fixed", "sqrt-k"]), st.sampled_from([1, 3]))
+def test_rules_read_no_setting_beyond_those_a_setting_change_is_checked_for(metric, allocation,
+                                                                             arms):
+    # check_setting skips the rows for any other setting (interim looks, traffic, …): that is
+    # right only while no rule reads one.
+    from fourfold.plan.rules import RULE_SETTINGS, RULES
+
+    read: set = set()
+    watched = _Watched(Settings(allocation=allocation, arms=arms), read)
+    for rule in RULES:
+        rule.holds(metric, watched)
+    assert read <= RULE_SETTINGS, read - RULE_SETTINGS

@@ -71,3 +71,20 @@ def test_a_row_scrolled_into_view_widens_its_column(qtbot, make_window):
     window.table.scrollTo(window.model.index(row, column_index("units_control")))
     qtbot.waitUntil(lambda: window.table.columnWidth(column_index("units_control"))
                     >= _advance(window, row, "units_control"))
+
+
+def test_a_kinds_columns_shown_by_an_edit_get_the_widths_a_fresh_fit_gives(qtbot, make_window):
+    # Columns hidden at the fit (no ratio row yet) are sized when a row first needs them.
+    sample = load(sample_path())
+    plan = Plan(sample.settings, [m for m in sample.metrics if m.kind != "ratio"])
+    window = make_window(plan)
+    window.show()
+    qtbot.waitExposed(window)
+    ratio_columns = [column_index(key) for key in
+                     ("denominator", "numerator_sd", "denominator_sd", "correlation")]
+    assert all(window.table.isColumnHidden(position) for position in ratio_columns)
+    _edit(qtbot, window, 1, "kind", "ratio")
+    assert not any(window.table.isColumnHidden(position) for position in ratio_columns)
+    shown = [window.table.columnWidth(position) for position in ratio_columns]
+    window.table.fit_columns()
+    assert shown == [window.table.columnWidth(position) for position in ratio_columns]

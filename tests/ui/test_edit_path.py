@@ -100,17 +100,43 @@ def test_the_plots_skip_an_edit_of_another_row_and_follow_their_own(qtbot, monke
     assert units[0] == compute(document.plan).rows[1].units_control
 
 
-def test_a_recompute_redraws_the_plots_in_the_same_pass(make_window):
-    # The recompute is coalesced already; the plots follow it at once, so that the table and
-    # the plots are painted in one pass of the event loop instead of two.
+def test_after_an_edit_the_table_is_painted_before_the_plots_and_scenarios_are_redrawn(
+        make_window, qtbot):
+    # The recompute evaluates the scenario on show and the table is painted with it; the plots
+    # and the other scenarios (for the overlays and the comparison) follow in the next turns,
+    # with no further recompute and showing the same edit.
+    from PySide6.QtCore import QEvent, QObject
+
     window = make_window()
+    window.show()
+    qtbot.waitExposed(window)
     window.table.setCurrentIndex(window.model.index(1, column_index("sd")))
     window.document.recompute_now()
+    qtbot.waitUntil(lambda: window.plots.tradeoffs is not None)
+    order = []
+
+    class Painted(QObject):
+        def eventFilter(self, obj, event):  # noqa: N802 (Qt's name)
+            if event.type() == QEvent.Type.Paint and "table" not in order:
+                order.append("table")
+            return False
+
+    painted = Painted()
+    window.table.viewport().installEventFilter(painted)
+    drawn = window.plots._redraw
+
+    def redraw():
+        order.append("plots")
+        drawn()
+
+    window.plots._redraw_timer.timeout.disconnect()
+    window.plots._redraw_timer.timeout.connect(redraw)
     before = window.plots.tradeoffs
-    window.document.apply(SetField(1, "sd", window.document.plan.metrics[1].sd * 1.5))
-    window.document.recompute_now()
-    shown = window.plots.tradeoffs
-    assert shown is not before
+    sd = window.document.plan.metrics[1].sd * 1.5
+    window.model.setData(window.model.index(1, column_index("sd")), f"{sd:g}")
+    qtbot.waitUntil(lambda: window.plots.tradeoffs is not before)
+    assert order[:2] == ["table", "plots"]
+    assert window.document.outcomes[0].result.rows[1] is window.document.result.rows[1]
     effect = window.plots.grid.plots["effect"]
     assert effect.points("point")[1][0] == compute(window.document.plan).rows[1].units_control
 

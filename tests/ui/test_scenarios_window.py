@@ -20,7 +20,9 @@ RETURNING = "Returning visitors, ramp-up to all traffic"
 
 
 def _settle(qtbot, window) -> None:
-    qtbot.waitUntil(lambda: not window.document.pending())
+    """Wait for the recompute and the scenarios tab's refresh after it."""
+    qtbot.waitUntil(lambda: not window.document.pending()
+                    and not window.scenario_panel.pending())
 
 
 def _shown(qtbot, make_window, **kwargs):

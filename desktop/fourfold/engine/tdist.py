@@ -46,6 +46,8 @@ Examples
 True
 """
 
+import functools
+
 import numpy as np
 from scipy import special
 
@@ -59,15 +61,29 @@ _QUADRATURE_NC = 40.0
 _QUADRATURE_T = 10.0
 _BLOCK = 4096
 
-_HERMITE_NODES, _HERMITE_WEIGHTS = np.polynomial.hermite_e.hermegauss(64)
-_HERMITE_WEIGHTS = _HERMITE_WEIGHTS / _HERMITE_WEIGHTS.sum()
-_WH_BANDS = tuple((low, *np.polynomial.hermite_e.hermegauss(points))
-                  for low, points in ((QUADRATURE_DF, 24), (100.0, 16), (300.0, 12)))
-"""(lowest ν, nodes, weights) of the quadrature's bands: fewer nodes where ν is larger and
-the integrand smoother (each band's error is below 10⁻¹⁵ on the checks' grid)."""
-_NODES, _WEIGHTS = np.polynomial.legendre.leggauss(96)
-_NODES = 0.5 * (_NODES + 1.0)
-_WEIGHTS = 0.5 * _WEIGHTS
+
+
+@functools.cache
+def _hermite() -> tuple[np.ndarray, np.ndarray]:
+    """Gauss–Hermite nodes and weights (summing to 1) of the large-noncentrality layer (made on
+    first use: they are not needed to start the program)."""
+    nodes, weights = np.polynomial.hermite_e.hermegauss(64)
+    return nodes, weights / weights.sum()
+
+
+@functools.cache
+def _wh_bands() -> tuple[tuple[float, np.ndarray, np.ndarray], ...]:
+    """(lowest ν, nodes, weights) of the quadrature's bands: fewer nodes where ν is larger and
+    the integrand smoother (each band's error is below 10⁻¹⁵ on the checks' grid)."""
+    return tuple((low, *np.polynomial.hermite_e.hermegauss(points))
+                 for low, points in ((QUADRATURE_DF, 24), (100.0, 16), (300.0, 12)))
+
+
+@functools.cache
+def _legendre() -> tuple[np.ndarray, np.ndarray]:
+    """Gauss–Legendre nodes and weights on (0, 1) of the chi quantile quadrature."""
+    nodes, weights = np.polynomial.legendre.leggauss(96)
+    return 0.5 * (nodes + 1.0), 0.5 * weights
 
 
 def _limit_sf(df, nc, t):
@@ -84,9 +100,10 @@ def _limit_sf(df, nc, t):
 
 
 def _quadrature_sf(df, nc, t):
-    v = special.chdtri(df[:, None], _NODES[None, :])
+    nodes, weights = _legendre()
+    v = special.chdtri(df[:, None], nodes[None, :])
     s = np.sqrt(v / df[:, None])
-    return (special.ndtr(nc[:, None] - t[:, None] * s) * _WEIGHTS).sum(axis=1)
+    return (special.ndtr(nc[:, None] - t[:, None] * s) * weights).sum(axis=1)
 
 
 def _chi_weights(df, nodes, weights):
@@ -117,7 +134,7 @@ def _quadrature_tails(df, nc, t, both: bool):
     arrays of nodes stay in the processor's cache."""
     out = np.empty(df.shape)
     upper = np.inf
-    for low, nodes, weights in reversed(_WH_BANDS):
+    for low, nodes, weights in reversed(_wh_bands()):
         band = np.flatnonzero((df >= low) & (df < upper))
         upper = low
         for start in range(0, band.size, _BLOCK):
@@ -138,13 +155,14 @@ def _in_quadrature(df, nc, t):
 
 
 def _large_nc_sf(df, nc, t):
-    m = nc[:, None] + _HERMITE_NODES[None, :]
+    nodes, weights = _hermite()
+    m = nc[:, None] + nodes[None, :]
     ratio = m / np.where(t == 0, 1.0, t)[:, None]
     q = df[:, None] * ratio * ratio
     above = np.where(m > 0, special.chdtr(df[:, None], q), 0.0)
     below = np.where(m >= 0, 1.0, special.chdtrc(df[:, None], q))
     value = np.where(t[:, None] > 0, above, np.where(t[:, None] < 0, below, 1.0 * (m > 0)))
-    return (value * _HERMITE_WEIGHTS).sum(axis=1)
+    return (value * weights).sum(axis=1)
 
 
 def nct_sf(df, nc, t):

@@ -96,6 +96,11 @@ def _absolute(metric: Metric, value: float) -> float:
     return value * metric.baseline if metric.relative else value
 
 
+RULE_SETTINGS = frozenset({"alpha", "power", "ratio", "allocation", "arms"})
+"""The settings a rule reads (α, power and the treatment ratio); a change of any other
+setting breaks no rule, so :func:`check_setting` does not look at the rows for it."""
+
+
 def _power(metric: Metric, settings: Settings) -> float:
     return settings.power if metric.power is None else metric.power
 
@@ -407,6 +412,8 @@ def check_edits(plan, added: list[Metric], new: dict[tuple[int, str], Any],
 def check_setting(plan, field: str, value: Any) -> None:
     """Refuse a setting that makes a row of ``plan`` break a rule it kept (α above a row's
     power, say); :class:`~fourfold.plan.fields.PlanError` names the setting and the row."""
+    if field not in RULE_SETTINGS:
+        return
     changed = dataclasses.replace(plan.settings, **{field: value})
     for row, metric in enumerate(plan.metrics):
         message = refusal(row, metric, metric, field, changed, plan.settings)

@@ -121,6 +121,8 @@ def run_shot(plan_path: str | None, output: str, size: tuple[int, int] = (1400, 
         window.lower_tabs.setCurrentIndex(1 if tab == "scenarios" else 0)
         window.show()
         app.processEvents()
+        window.plots.finish()  # the plots are drawn after the first paint: draw them now
+        app.processEvents()
         image = window.grab().toImage()
         _close(window, app)
     encoded = QByteArray()

@@ -7,8 +7,10 @@ recomputed and redrawn once per burst.
 
 A plan with scenarios shows one of them (or the base): :attr:`PlanDocument.plan` is the plan
 shown and edited, :attr:`PlanDocument.whole` the document with every scenario (what is saved).
-Every recompute evaluates the base and each scenario with a row cache of its own
-(:func:`fourfold.plan.comparison.outcomes`), for the comparison view.
+A recompute evaluates the scenario on show; the base and the other scenarios, each with a row
+cache of its own, are evaluated when first asked for after it (:attr:`PlanDocument.outcomes`,
+:meth:`PlanDocument.outcome`: the comparison view, the overlays, the summary's difference from
+the base), so that the table is painted before they are.
 """
 
 from __future__ import annotations
@@ -21,8 +23,7 @@ from PySide6.QtCore import QObject, QTimer, Signal
 from fourfold.errors import FourfoldError
 from fourfold.plan import Plan
 from fourfold.plan.commands import CommandStack
-from fourfold.plan.comparison import Caches, Outcome, outcomes
-from fourfold.plan.evaluation import compute
+from fourfold.plan.comparison import Caches, Outcome, outcome
 
 UNTITLED = "Untitled plan"
 _NOT_IN_FILE_NAMES = re.compile(r'[\\/:*?"<>|\x00-\x1f]+')
@@ -78,8 +79,7 @@ class PlanDocument(QObject):
         self.compute_error = ""
         self._unsaved = False
         self._caches = Caches()
-        self.outcomes: list[Outcome] = []
-        """The base and every scenario, evaluated (empty for a plan without scenarios)."""
+        self._outcomes: dict[str | None, Outcome] = {}
         self.stack = CommandStack(plan)
         self.stack.subscribe(self._on_change)
         self.path = pathlib.Path(path) if path is not None else None
@@ -173,22 +173,57 @@ class PlanDocument(QObject):
             self._timer.start()
 
     def _compute(self):
+        """The result of the scenario on show (the others wait until asked for)."""
         whole = self.stack.plan
+        self._outcomes = {}
         try:
             if whole.scenarios:
-                self.outcomes = outcomes(whole, self._caches)
-                result = next(found.result for found in self.outcomes
-                              if found.name == whole.active)
+                names = {None, *(scenario.name for scenario in whole.scenarios)}
+                self._caches.keep(names)
+                shown = self._evaluated(whole.active)
+                result = shown.result
             else:
-                self.outcomes = []
                 self._caches.keep([None])
-                result = compute(whole, cache=self._caches.get(None))
+                result = outcome(whole, None, self._caches.get(None)).result
         except FourfoldError as error:
             self.compute_error = str(error)
-            self.outcomes = []
             return None
         self.compute_error = ""
         return result
+
+    def _evaluated(self, name: str | None) -> Outcome:
+        found = self._outcomes.get(name)
+        if found is None:
+            found = self._outcomes[name] = outcome(self.stack.plan, name, self._caches.get(name))
+        return found
+
+    def outcome(self, name: str | None) -> Outcome | None:
+        """Scenario ``name`` (``None``: the base) as of the latest recompute, evaluated on first
+        ask; ``None`` for a plan without scenarios or one that could not be computed."""
+        whole = self.stack.plan
+        if self.result is None or not whole.scenarios:
+            return None
+        if name is not None and all(scenario.name != name for scenario in whole.scenarios):
+            return None
+        try:
+            return self._evaluated(name)
+        except FourfoldError as error:
+            self.message.emit(str(error))
+            return None
+
+    @property
+    def outcomes(self) -> list[Outcome]:
+        """The base and every scenario, evaluated (empty for a plan without scenarios, or
+        when the plan could not be computed); base first, then the scenarios in order."""
+        whole = self.stack.plan
+        if self.result is None or not whole.scenarios:
+            return []
+        try:
+            return [self._evaluated(name)
+                    for name in (None, *(scenario.name for scenario in whole.scenarios))]
+        except FourfoldError as error:
+            self.message.emit(str(error))
+            return []
 
     def pending(self) -> bool:
         """Whether a recompute is scheduled but has not run yet."""

@@ -211,8 +211,8 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         return index.row()
 
     def _show_computed(self) -> None:
-        # a recompute is coalesced already: its plots are drawn in the table's paint pass
-        self._show_row(now=True)
+        # the plots are redrawn just after the table's repaint (the timer's next turn)
+        self._show_row()
 
     def _show_row(self, *_args, now: bool = False) -> None:
         if self.model.rowCount() != len(self.document.plan.metrics) or self.document.pending():
@@ -222,7 +222,7 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
             self.table.setCurrentIndex(self.model.index(0, 0))  # calls back with row 0
             return
         self.plots.show_row(self.document.plan, self.document.result, row, now=now,
-                            others=self._other_scenarios(row))
+                            others=lambda: self._other_scenarios(row))
         self.boundaries.setVisible(self.document.plan.settings.looks > 1)
         self.boundaries.show_row(self.document.plan, self.document.result, row)
         if row is None:

@@ -177,7 +177,9 @@ class PlotPanel(QWidget):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self._text_scale = 1.0
-        self.grid = FigureGrid(self)
+        self._grid: FigureGrid | None = None  # made at the first paint or use (see grid)
+        self._painted = False
+        self._waiting = QWidget(self)  # where the figures will be until they are made
         self.slider = QSlider(Qt.Orientation.Horizontal, self)
         self.slider.setSingleStep(1)
         self.slider.setPageStep(10)
@@ -203,7 +205,7 @@ class PlotPanel(QWidget):
         self.empty.setAlignment(Qt.AlignmentFlag.AlignCenter)
         self.empty.setWordWrap(True)
         self.pages = QStackedLayout()
-        self.pages.addWidget(self.grid)
+        self.pages.addWidget(self._waiting)
         self.pages.addWidget(self.empty)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
@@ -226,17 +228,46 @@ class PlotPanel(QWidget):
         self._drag_timer.setSingleShot(True)
         self._drag_timer.setInterval(DRAG_INTERVAL_MS)
         self._drag_timer.timeout.connect(self._send)
-        self.grid.handle.sigDragged.connect(self._handle_dragged)
-        self.grid.handle.sigPositionChangeFinished.connect(self._handle_released)
         self.slider.valueChanged.connect(self._slider_moved)
         self.slider.sliderReleased.connect(self._flush)
         self._set_controls_enabled(False)
-        self._style_texts(self.grid.style)
+        self._style_texts(style_from_palette(self.palette(), self._text_scale))
+
+    @property
+    def grid(self) -> FigureGrid:
+        """The view of the four figures, made on first use: the window's first paint does not
+        wait for its plots (a panel shown before it was painted draws its row just after)."""
+        if self._grid is None:
+            self._grid = FigureGrid(self, style_from_palette(self.palette(), self._text_scale))
+            self._grid.handle.sigDragged.connect(self._handle_dragged)
+            self._grid.handle.sigPositionChangeFinished.connect(self._handle_released)
+            place = self._waiting.geometry()
+            self.pages.replaceWidget(self._waiting, self._grid)
+            self._waiting.deleteLater()
+            if self.pages.currentWidget() is self._grid:
+                self._grid.show()  # a child made after its window was shown starts hidden
+            self._grid.setGeometry(place)  # the figures laid out at its size now
+            if self._pending is not None:
+                self._redraw_timer.start()
+        return self._grid
 
     @property
     def tradeoffs(self) -> Tradeoffs | None:
         """The curve data on show (``None`` before the first row)."""
-        return self.grid.shown
+        return None if self._grid is None else self._grid.shown
+
+    def paintEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        super().paintEvent(event)
+        if not self._painted:
+            self._painted = True
+            if self._pending is not None:
+                self._redraw_timer.start()
+
+    def finish(self) -> None:
+        """Draw a redraw still waiting, now (before a picture of the window is taken)."""
+        self._painted = True
+        self._redraw_timer.stop()
+        self._redraw()
 
     def show_row(self, plan, result, index: int | None, *, now: bool = False,
                  others=()) -> None:
@@ -252,11 +283,12 @@ class PlotPanel(QWidget):
         now : bool
             Redraw at once instead of on the coalescing timer: for a caller that is itself
             coalesced (a recompute), so that table and plots are painted in the same pass.
-        others : sequence of fourfold.plan.comparison.Outcome
+        others : sequence of fourfold.plan.comparison.Outcome, or a callable returning one
             Other scenarios: the same row (by id) is drawn faintly where it is comparable
-            (same kind, effect scale, direction and quantity solved).
+            (same kind, effect scale, direction and quantity solved). A callable is called
+            when the plots are drawn (the other scenarios are evaluated only then).
         """
-        self._pending = (plan, result, index, tuple(others))
+        self._pending = (plan, result, index, others)
         if now:
             self._redraw_timer.stop()
             self._redraw()
@@ -284,7 +316,8 @@ class PlotPanel(QWidget):
 
     def _restyle(self) -> None:
         style = style_from_palette(self.palette(), self._text_scale)
-        self.grid.apply_style(style)
+        if self._grid is not None:
+            self._grid.apply_style(style)
         self._style_texts(style)
 
     def _style_texts(self, style: Style) -> None:
@@ -296,10 +329,12 @@ class PlotPanel(QWidget):
         self.empty.setFont(style.font(HEADING_POINTS))
 
     def _redraw(self) -> None:
-        if self._pending is None:
-            return
+        if self._pending is None or (self._grid is None and self.isVisible()
+                                     and not self._painted):
+            return  # shown but not painted yet: the first paint draws the row just after
         plan, result, index, others = self._pending
         self._pending = None
+        others = tuple(others() if callable(others) else others)
         if index is None or not 0 <= index < len(plan.metrics):
             self._drawn = None
             self.grid.blank()

@@ -12,7 +12,7 @@ the tab is visible (and once when it is shown again).
 
 from __future__ import annotations
 
-from PySide6.QtCore import QAbstractTableModel, QModelIndex, QRectF, QSize, Qt, Signal
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QRectF, QSize, Qt, QTimer, Signal
 from PySide6.QtGui import QColor, QFont, QFontMetrics, QPainter
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -324,7 +324,12 @@ class ScenarioPanel(QWidget):
         layout.addLayout(top)
         layout.addWidget(self.hint)
         layout.addWidget(split, 1)
-        document.computed.connect(self.refresh)
+        # after a recompute, the plan table is painted first; the scenarios follow
+        self._refresh_timer = QTimer(self)
+        self._refresh_timer.setSingleShot(True)
+        self._refresh_timer.setInterval(0)
+        self._refresh_timer.timeout.connect(self.refresh)
+        document.computed.connect(self._refresh_timer.start)
 
     def showEvent(self, event) -> None:  # noqa: N802 (Qt's name)
         super().showEvent(event)
@@ -340,8 +345,13 @@ class ScenarioPanel(QWidget):
                        self.comparison.verticalHeader(), self.bars):
             widget.setFont(font)
 
+    def pending(self) -> bool:
+        """Whether a refresh after the latest recompute has not run yet."""
+        return self._refresh_timer.isActive()
+
     def refresh(self) -> None:
         """Show the document's latest evaluation (later, when the tab is hidden)."""
+        self._refresh_timer.stop()
         if not self.isVisible():
             self._stale = True
             return

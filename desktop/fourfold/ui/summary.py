@@ -173,9 +173,9 @@ class SummaryBar(QFrame):
             duration = ("— (enter the reach curve)" if settings.traffic == "reach" else
                         "— (set daily units)")
         text = f"Duration <b>{duration}</b>"
-        outcomes = self.document.outcomes
-        if self.document.scenario is not None and outcomes and outcomes[0].complete:
-            delta = base_delta(result.duration_days, outcomes[0].result.duration_days)
+        base = self.document.outcome(None) if self.document.scenario is not None else None
+        if base is not None and base.complete:
+            delta = base_delta(result.duration_days, base.result.duration_days)
             if delta:
                 text += f" ({delta})"
         text += self._extrapolated(settings, result.duration_days)

@@ -98,6 +98,7 @@ class PlanTableView(QTableView):
         self.setSortingEnabled(True)
         header.sortIndicatorChanged.connect(self._sorted)
         self._sort_state: tuple | None = None
+        self._unfitted: set[int] = set()  # columns not sized since the last fit_columns
         vertical = self.verticalHeader()
         vertical.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
         vertical.setDefaultAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
@@ -147,11 +148,17 @@ class PlanTableView(QTableView):
         windows = any(map(_WINDOWS, plan.metrics))
         for position, column in enumerate(COLUMNS):
             if column.sequential:
-                self.setColumnHidden(position, hidden)
+                self._show_column(position, not hidden)
             elif column.kind is not None:
-                self.setColumnHidden(position, column.kind not in present)
+                self._show_column(position, column.kind in present)
             elif column.windows:
-                self.setColumnHidden(position, not windows)
+                self._show_column(position, windows)
+
+    def _show_column(self, position: int, shown: bool) -> None:
+        """Show or hide a column; one shown for the first time since the last fit is fitted."""
+        self.setColumnHidden(position, not shown)
+        if shown and position in self._unfitted:
+            self._fit_column(position)
 
     # -- sorting ------------------------------------------------------------------------
 
@@ -197,18 +204,29 @@ class PlanTableView(QTableView):
     def fit_columns(self) -> None:
         """Size rows and columns to the current font and contents (after load or rescale)."""
         metrics = self.fontMetrics()
-        char = metrics.averageCharWidth()
         bold = QFont(self.horizontalHeader().font())
         bold.setBold(True)
         header_metrics = QFontMetrics(bold)
         self.verticalHeader().setDefaultSectionSize(int(metrics.height() * 1.7))
         self.horizontalHeader().setFixedHeight(int(header_metrics.height() * 2.0 + 10))
-        for position, column in enumerate(COLUMNS):
-            title = max(header_metrics.horizontalAdvance(line)
-                        for line in column.header.split("\n")) + 16
-            content = self.sizeHintForColumn(position) + 6
-            wanted = max(title, min(content, MAX_COLUMN_CHARS * char), column.width * char)
-            self.setColumnWidth(position, wanted)
+        self._unfitted = set(range(len(COLUMNS)))  # hidden ones are fitted when first shown
+        for position in range(len(COLUMNS)):
+            if not self.isColumnHidden(position):
+                self._fit_column(position)
+
+    def _fit_column(self, position: int) -> None:
+        """Size one column to its title, its contents and its least width."""
+        self._unfitted.discard(position)
+        column = COLUMNS[position]
+        char = self.fontMetrics().averageCharWidth()
+        bold = QFont(self.horizontalHeader().font())
+        bold.setBold(True)
+        header_metrics = QFontMetrics(bold)
+        title = max(header_metrics.horizontalAdvance(line)
+                    for line in column.header.split("\n")) + 16
+        content = self.sizeHintForColumn(position) + 6
+        wanted = max(title, min(content, MAX_COLUMN_CHARS * char), column.width * char)
+        self.setColumnWidth(position, wanted)
 
     def widen_columns(self, top_left, bottom_right, roles) -> None:
         """Widen the name, number and result columns whose changed cells no longer fit (the
