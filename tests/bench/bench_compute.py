@@ -19,9 +19,8 @@ from __future__ import annotations
 
 import dataclasses
 
-from timing import median_ms
+from timing import median_ms, repeated_sample
 
-from fourfold.plan import Plan, load, sample_path
 from fourfold.plan.evaluation import RowCache, compute
 from fourfold.plan.tradeoffs import tradeoffs
 
@@ -31,10 +30,7 @@ ROW = 1
 
 
 def main() -> None:
-    sample = load(sample_path())
-    metrics = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
-               for i in range(ROWS)]
-    plan = Plan(sample.settings, metrics)
+    plan = repeated_sample(ROWS)
     cache = RowCache()
     compute(plan, cache=cache)
     step = iter(range(10**9))

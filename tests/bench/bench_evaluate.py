@@ -13,11 +13,11 @@ once, lazily).
 
 from __future__ import annotations
 
-import dataclasses
 import statistics
 import time
 
-from fourfold.plan import Plan, load, sample_path
+from timing import repeated_sample
+
 from fourfold.plan.evaluation import compute, evaluate
 
 ROWS = 5_000
@@ -26,10 +26,7 @@ TARGET = 1.3
 
 
 def main() -> None:
-    sample = load(sample_path())
-    metrics = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
-               for i in range(ROWS)]
-    plan = Plan(sample.settings, metrics)
+    plan = repeated_sample(ROWS)
     evaluate(plan)
     times: dict[str, list[float]] = {"compute": [], "evaluate": []}
     for _ in range(RUNS):

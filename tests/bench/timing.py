@@ -27,3 +27,16 @@ def forget_designs() -> None:
     for cached in (engine_sequential._boundaries, sequential.shared_design,
                    sequential._power_of, tradeoffs._inflation, tradeoffs._node_inflations):
         cached.cache_clear()
+
+
+def repeated_sample(rows: int):
+    """A plan of ``rows`` rows: the sample plan's rows repeated, named ``Metric i``, with the
+    sample's settings (no scenarios)."""
+    import dataclasses
+
+    from fourfold.plan import Plan, load, sample_path
+
+    sample = load(sample_path())
+    return Plan(sample.settings, [
+        dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
+        for i in range(rows)])
