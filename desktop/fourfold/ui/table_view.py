@@ -99,6 +99,8 @@ class PlanTableView(QTableView):
         header.sortIndicatorChanged.connect(self._sorted)
         self._sort_state: tuple | None = None
         self._unfitted: set[int] = set()  # columns not sized since the last fit_columns
+        # rows shown before the first fit, or while a fit sizes the rows, are measured by it
+        self._measuring = True
         vertical = self.verticalHeader()
         vertical.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
         vertical.setDefaultAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
@@ -123,7 +125,7 @@ class PlanTableView(QTableView):
 
     def _widen_shown(self, *_args) -> None:
         model = self.model()
-        if model is not None and model.rowCount():
+        if not self._measuring and model is not None and model.rowCount():
             self.widen_columns(model.index(0, 0),
                                model.index(model.rowCount() - 1, model.columnCount() - 1), ())
 
@@ -207,12 +209,14 @@ class PlanTableView(QTableView):
         bold = QFont(self.horizontalHeader().font())
         bold.setBold(True)
         header_metrics = QFontMetrics(bold)
+        self._measuring = True
         self.verticalHeader().setDefaultSectionSize(int(metrics.height() * 1.7))
         self.horizontalHeader().setFixedHeight(int(header_metrics.height() * 2.0 + 10))
         self._unfitted = set(range(len(COLUMNS)))  # hidden ones are fitted when first shown
         for position in range(len(COLUMNS)):
             if not self.isColumnHidden(position):
                 self._fit_column(position)
+        self._measuring = False
 
     def _fit_column(self, position: int) -> None:
         """Size one column to its title, its contents and its least width."""
