@@ -68,11 +68,11 @@ def test_a_setting_announces_every_row(qtbot):
 
 
 def test_the_plots_skip_an_edit_of_another_row_and_follow_their_own(qtbot, monkeypatch):
-    import fourfold.ui.plots as plots_module
+    import fourfold.plan.tradeoffs as tradeoffs_module
 
     calls = []
-    real = plots_module.tradeoffs
-    monkeypatch.setattr(plots_module, "tradeoffs",
+    real = tradeoffs_module.tradeoffs
+    monkeypatch.setattr(tradeoffs_module, "tradeoffs",
                         lambda *args, **kwargs: calls.append(args[1]) or real(*args, **kwargs))
     panel = PlotPanel()
     qtbot.addWidget(panel)

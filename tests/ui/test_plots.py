@@ -69,11 +69,11 @@ def test_show_row_reuses_plot_items_and_follows_edits(qtbot, panel):
 
 
 def test_bursts_of_show_row_are_coalesced(qtbot, panel, monkeypatch):
-    import fourfold.ui.plots as plots_module
+    import fourfold.plan.tradeoffs as tradeoffs_module
 
     calls = []
-    real = plots_module.tradeoffs
-    monkeypatch.setattr(plots_module, "tradeoffs",
+    real = tradeoffs_module.tradeoffs
+    monkeypatch.setattr(tradeoffs_module, "tradeoffs",
                         lambda *args, **kwargs: calls.append(args[1]) or real(*args, **kwargs))
     plan = make_plan()
     result = compute(plan)

@@ -17,7 +17,7 @@ from fourfold.plan.evaluation import compute
 from fourfold.plan.tradeoffs import tradeoffs
 from fourfold.simulation import check_metric
 from fourfold.ui import simulation_cells, theme
-from fourfold.ui.plots import FigureGrid
+from fourfold.ui.figure_grid import FigureGrid
 
 
 @pytest.fixture

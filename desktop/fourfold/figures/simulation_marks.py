@@ -69,7 +69,7 @@ def show_simulation(grid, plan, result, index) -> None:
     """Draw row ``index``'s stored check on ``grid``'s power figure (or clear it).
 
     ``grid`` is a :class:`fourfold.figures.tradeoffs.TradeoffFigures` (or the window's
-    :class:`fourfold.ui.plots.FigureGrid` that shows one) already showing the row's
+    :class:`fourfold.ui.figure_grid.FigureGrid` that shows one) already showing the row's
     trade-offs; the mark is created on first use and reused.
     """
     mark = getattr(grid, "simulation_mark", None)

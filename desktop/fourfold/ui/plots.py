@@ -5,12 +5,15 @@ user selected: it reuses their items on every update, coalesces bursts of update
 redraw, and lets the user drag the effect marker (or move the slider below the plots) to change
 the row's effect. It can also draw the same row's curves in other scenarios faintly; their
 curves are kept between redraws while those scenarios do not change. The same figures go into
-the PDF through :func:`fourfold.figures.tradeoffs.paint_tradeoffs`.
+the PDF through :func:`fourfold.figures.tradeoffs.paint_tradeoffs`. The figures' view
+(:class:`fourfold.ui.figure_grid.FigureGrid`) and the modules that draw them are made after the
+window's first paint, and imported then.
 """
 
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 import pyqtgraph as pg
 from PySide6.QtCore import QEvent, Qt, QTimer, Signal
@@ -25,11 +28,12 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from fourfold.figures.simulation_marks import show_simulation
 from fourfold.figures.style import Style, style_from_palette
-from fourfold.figures.tradeoffs import TradeoffFigures, effect_text
 from fourfold.plan.evaluation import compute
-from fourfold.plan.tradeoffs import Tradeoffs, tradeoffs
+
+if TYPE_CHECKING:
+    from fourfold.plan.tradeoffs import Tradeoffs
+    from fourfold.ui.figure_grid import FigureGrid
 
 DRAG_INTERVAL_MS = 40
 SLIDER_STEPS = 200
@@ -37,72 +41,6 @@ HEADING_POINTS = 10.5
 EMPTY_TEXT = ("No metric row to plot. Add one with Plan → Add metric (Ctrl+Shift+N), or "
               "paste rows from a spreadsheet.")
 KEPT_OVERLAYS = 64
-
-
-class FigureGrid(pg.GraphicsView):
-    """The view that shows a row's :class:`~fourfold.figures.tradeoffs.TradeoffFigures`.
-
-    Its figures, effect marker, data and style are those of :attr:`figures`.
-    """
-
-    def __init__(self, parent: QWidget | None = None, style: Style | None = None) -> None:
-        super().__init__(parent)
-        self.figures = TradeoffFigures(style or style_from_palette(self.palette()))
-        self.setCentralItem(self.figures)
-        self.setBackground(self.figures.style.background)
-        # pyqtgraph's scene offers "Export..." in the context menus of its items; the figures
-        # have none, so it could never be reached (the PDF report exports the figures)
-        scene = self.scene()
-        for action in scene.contextMenu:
-            action.setParent(None)
-        scene.contextMenu = []
-
-    @property
-    def plots(self) -> dict:
-        """The figures by name: "effect", "power", "alpha", "runtime"."""
-        return self.figures.plots
-
-    @property
-    def handle(self) -> pg.InfiniteLine:
-        """The draggable effect marker on the effect figure."""
-        return self.figures.handle
-
-    @property
-    def shown(self) -> Tradeoffs | None:
-        """The curve data on show (``None`` when blank)."""
-        return self.figures.shown
-
-    @property
-    def style(self) -> Style:
-        """The style the figures are drawn with."""
-        return self.figures.style
-
-    def apply_style(self, style: Style) -> None:
-        """Recolour and resize text and lines; the data stays."""
-        self.setBackground(style.background)
-        self.figures.apply_style(style)
-
-    def settle(self) -> None:
-        """Apply pending layout changes now, so that the next frame is final."""
-        self.figures.settle()
-
-    def blank(self) -> None:
-        """Show empty plots (no row selected)."""
-        self.figures.blank()
-
-    def set_tradeoffs(self, data: Tradeoffs, *, keep_handle: bool = False,
-                      sticky: bool = False, others=()) -> None:
-        """Show a row's figures (see :meth:`TradeoffFigures.set_tradeoffs`)."""
-        self.figures.set_tradeoffs(data, keep_handle=keep_handle, sticky=sticky,
-                                   others=others)
-
-    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
-        super().resizeEvent(event)
-        # pyqtgraph resizes once before __init__ ends, and again in close() after it has
-        # emptied the scene.
-        figures = getattr(self, "figures", None)
-        if figures is not None and not self.closed:
-            figures.settle()  # the new size lays out the figures, then places their texts
 
 
 def slider_step(low: float, high: float) -> float:
@@ -238,6 +176,8 @@ class PlotPanel(QWidget):
         """The view of the four figures, made on first use: the window's first paint does not
         wait for its plots (a panel shown before it was painted draws its row just after)."""
         if self._grid is None:
+            from fourfold.ui.figure_grid import FigureGrid
+
             self._grid = FigureGrid(self, style_from_palette(self.palette(), self._text_scale))
             self._grid.handle.sigDragged.connect(self._handle_dragged)
             self._grid.handle.sigPositionChangeFinished.connect(self._handle_released)
@@ -332,6 +272,9 @@ class PlotPanel(QWidget):
         if self._pending is None or (self._grid is None and self.isVisible()
                                      and not self._painted):
             return  # shown but not painted yet: the first paint draws the row just after
+        from fourfold.figures.simulation_marks import show_simulation
+        from fourfold.plan.tradeoffs import tradeoffs
+
         plan, result, index, others = self._pending
         self._pending = None
         others = tuple(others() if callable(others) else others)
@@ -381,6 +324,8 @@ class PlotPanel(QWidget):
         key = (*_overlay_key(other, row), span)
         found = self._overlays.get(key)
         if found is None:
+            from fourfold.plan.tradeoffs import tradeoffs
+
             if len(self._overlays) >= KEPT_OVERLAYS:
                 self._overlays.clear()
             found = self._overlays[key] = tradeoffs(other.plan, row, other.result,
@@ -411,6 +356,8 @@ class PlotPanel(QWidget):
 
     @staticmethod
     def _effect_text(effect: float, data: Tradeoffs) -> str:
+        from fourfold.figures.tradeoffs import effect_text
+
         return effect_text(effect * data.effect_scale, data.effect_unit)
 
     def _slider_moved(self, position: int) -> None:

@@ -7,7 +7,8 @@ and emits :attr:`ComparisonView.chosen` with a scenario's name when the user cli
 :class:`SensitivityView` paints :func:`fourfold.figures.sensitivity.paint_sensitivity` of the
 plan shown. :class:`ScenarioPanel` holds both, the scenario actions' tool bar, the amount of
 the sensitivity bars and a line naming stale scenario changes. Both views recompute only while
-the tab is visible (and once when it is shown again).
+the tab is visible (and once when it is shown again); the comparison's lines and the bars'
+painter are imported when first needed, not before the window's first paint.
 """
 
 from __future__ import annotations
@@ -30,8 +31,6 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from fourfold.export.comparison import comparison_lines
-from fourfold.figures.sensitivity import SensitivityStyle, paint_sensitivity
 from fourfold.plan import scenarios
 from fourfold.plan.comparison import Outcome, complete
 from fourfold.plan.evaluation import RowCache
@@ -101,6 +100,8 @@ class ComparisonModel(QAbstractTableModel):
 
     def set_outcomes(self, found: list[Outcome], active: str | None, whole) -> None:
         """Show ``found``; the same shape repaints its cells, another resets the table."""
+        from fourfold.export.comparison import comparison_lines
+
         lines = comparison_lines(found) if found else []
         shape = ([each.name for each in found], [line.label for line in lines])
         same = shape == ([each.name for each in self.found], [line.label for line in self.lines])
@@ -260,6 +261,8 @@ class SensitivityView(QWidget):
     def paintEvent(self, event) -> None:  # noqa: N802 (Qt's name)
         if self.found is None:
             return
+        from fourfold.figures.sensitivity import SensitivityStyle, paint_sensitivity
+
         palette = self.palette()
         tints = theme.tints()
         style = SensitivityStyle(palette.windowText().color(), tints.muted,
