@@ -344,3 +344,35 @@ def test_the_scenario_put_on_show_is_scrolled_into_the_comparisons_view(qtbot, m
     qtbot.keyClick(window.table, Qt.Key.Key_0, modifiers)  # back to the base
     _settle(qtbot, window)
     qtbot.waitUntil(lambda: visible(None))
+
+
+def test_switching_back_to_a_scenario_redraws_its_curves_without_solving_them_again(
+        qtbot, make_window, monkeypatch):
+    import fourfold.plan.tradeoffs as tradeoffs_module
+
+    calls = []
+    real = tradeoffs_module.tradeoffs
+    monkeypatch.setattr(tradeoffs_module, "tradeoffs",
+                        lambda *args, **kwargs: calls.append(args[1]) or real(*args, **kwargs))
+    window = _shown(qtbot, make_window)
+    modifiers = Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.AltModifier
+    names = [None, *(s.name for s in window.document.whole.scenarios)]
+
+    def next_scenario():
+        qtbot.keyClick(window.table, Qt.Key.Key_PageDown, modifiers)
+        _settle(qtbot, window)
+        qtbot.waitUntil(lambda: not window.plots._redraw_timer.isActive()
+                        and window.plots.tradeoffs is not None)
+
+    for _ in names:  # once round: each scenario's curves are solved
+        next_scenario()
+    solved = len(calls)
+    for name in names:  # and again: drawn from the kept curves
+        next_scenario()
+        shown = window.document.scenario
+        row = window.table.currentIndex().row()
+        _, units = window.plots.grid.plots["effect"].points("point")
+        result = compute(effective(window.document.whole, shown))
+        assert units[0] == result.rows[row].units_control  # the scenario's own numbers
+    assert len(calls) == solved
+    assert window.document.scenario is None  # round to the base

@@ -40,7 +40,7 @@ SLIDER_STEPS = 200
 HEADING_POINTS = 10.5
 EMPTY_TEXT = ("No metric row to plot. Add one with Plan → Add metric (Ctrl+Shift+N), or "
               "paste rows from a spreadsheet.")
-KEPT_OVERLAYS = 64
+KEPT_CURVES = 64
 
 
 def slider_step(low: float, high: float) -> float:
@@ -153,7 +153,7 @@ class PlotPanel(QWidget):
         layout.addLayout(controls)
 
         self._pending: tuple | None = None
-        self._overlays: dict[tuple, Tradeoffs] = {}
+        self._kept: dict[tuple, Tradeoffs] = {}  # curves by their inputs (see _curves)
         self._span_key: tuple | None = None
         self._drawn: tuple | None = None
         self._queued: float | None = None
@@ -273,7 +273,6 @@ class PlotPanel(QWidget):
                                      and not self._painted):
             return  # shown but not painted yet: the first paint draws the row just after
         from fourfold.figures.simulation_marks import show_simulation
-        from fourfold.plan.tradeoffs import tradeoffs
 
         plan, result, index, others = self._pending
         self._pending = None
@@ -301,12 +300,13 @@ class PlotPanel(QWidget):
         key = (index, metric.kind, metric.relative, metric.alternative, metric.margin,
                metric.solve)
         span = self.grid.shown.effect_span if key == self._span_key and self.grid.shown else None
-        data = tradeoffs(plan, index, result, effect_span=span)
+        data = self._curves(plan, result, index, span)
         if span is not None and not dragging and _near_edge(data):
-            data = tradeoffs(plan, index, result)  # re-centre once the user lets go
+            data = self._curves(plan, result, index, None)  # re-centre once the user lets go
         sticky = key == self._span_key
         self._span_key = key
-        overlays = [self._overlay(other, row, data.effect_span) for other, row in overlaid]
+        overlays = [self._curves(other.plan, other.result, row, data.effect_span)
+                    for other, row in overlaid]
         self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving, sticky=sticky,
                                 others=overlays)
         show_simulation(self.grid, plan, result, index)
@@ -319,17 +319,19 @@ class PlotPanel(QWidget):
             self.heading.setText(text)
             self.heading.setToolTip(text)
 
-    def _overlay(self, other, row: int, span: tuple[float, float]) -> Tradeoffs:
-        """The curves of ``row`` in scenario ``other`` on the shown effect span (kept)."""
-        key = (*_overlay_key(other, row), span)
-        found = self._overlays.get(key)
+    def _curves(self, plan, result, row: int, span: tuple[float, float] | None) -> Tradeoffs:
+        """The curves of ``row`` of ``plan`` on the effect ``span``, kept by their inputs: a
+        scenario's curves drawn faintly become its own when it is put on show, and switching
+        back and forth between scenarios draws without solving again."""
+        key = (row, repr(plan.settings), repr(plan.metrics[row]), repr(result.rows[row]),
+               result.duration_days, span)
+        found = self._kept.get(key)
         if found is None:
             from fourfold.plan.tradeoffs import tradeoffs
 
-            if len(self._overlays) >= KEPT_OVERLAYS:
-                self._overlays.clear()
-            found = self._overlays[key] = tradeoffs(other.plan, row, other.result,
-                                                    effect_span=span)
+            if len(self._kept) >= KEPT_CURVES:
+                self._kept.clear()
+            found = self._kept[key] = tradeoffs(plan, row, result, effect_span=span)
         return found
 
     def _set_controls_enabled(self, enabled: bool) -> None:
