@@ -135,10 +135,10 @@ def edits(traffic: str = "constant", rows: int = 500) -> None:
     window.table.setCurrentIndex(model.index(row, column))
     app.processEvents()
     count = EDITS if rows <= 5_000 else EDITS // 2
-    reference, timings = paired(app, window, lambda step: model.setData(
+    reference, timings, first = paired(app, window, lambda step: model.setData(
         model.index(row, column), f"{14.0 + 0.01 * step:.2f}"), count)
     report(f"edit of a {rows:,}-row plan ({traffic} traffic) → table and plots", reference,
-           timings)
+           timings, first)
     close_window(app, window)
 
 
