@@ -215,15 +215,13 @@ class PlanDocument(QObject):
     def outcomes(self) -> list[Outcome]:
         """The base and every scenario, evaluated (empty for a plan without scenarios, or
         when the plan could not be computed); base first, then the scenarios in order."""
-        whole = self.stack.plan
-        if self.result is None or not whole.scenarios:
-            return []
-        try:
-            return [self._evaluated(name)
-                    for name in (None, *(scenario.name for scenario in whole.scenarios))]
-        except FourfoldError as error:
-            self.message.emit(str(error))
-            return []
+        found = []
+        for name in (None, *(scenario.name for scenario in self.stack.plan.scenarios)):
+            each = self.outcome(name)
+            if each is None:
+                return []
+            found.append(each)
+        return found
 
     def pending(self) -> bool:
         """Whether a recompute is scheduled but has not run yet."""

@@ -129,7 +129,8 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         self.document.changed.connect(self.plots.cancel_pending)
         self.document.history.connect(self._after_change)
         self.document.replaced.connect(self._after_replace)
-        self.document.computed.connect(self._show_computed)
+        # the plots follow the table: drawn on their timer's next turn, after its repaint
+        self.document.computed.connect(self._show_row)
         self.table.selectionModel().currentRowChanged.connect(self._show_row)
         self.plots.effect_dragged.connect(self._effect_dragged)
         self.model.rowsInserted.connect(self._rows_added)
@@ -210,18 +211,14 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
             return None
         return index.row()
 
-    def _show_computed(self) -> None:
-        # the plots are redrawn just after the table's repaint (the timer's next turn)
-        self._show_row()
-
-    def _show_row(self, *_args, now: bool = False) -> None:
+    def _show_row(self, *_args) -> None:
         if self.model.rowCount() != len(self.document.plan.metrics) or self.document.pending():
             return  # the plan changed: the recompute that follows shows the row
         row = self.current_row()
         if row is None and self.model.rowCount():
             self.table.setCurrentIndex(self.model.index(0, 0))  # calls back with row 0
             return
-        self.plots.show_row(self.document.plan, self.document.result, row, now=now,
+        self.plots.show_row(self.document.plan, self.document.result, row,
                             others=lambda: self._other_scenarios(row))
         self.boundaries.setVisible(self.document.plan.settings.looks > 1)
         self.boundaries.show_row(self.document.plan, self.document.result, row)

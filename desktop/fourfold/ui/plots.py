@@ -86,9 +86,10 @@ def _comparable(metric, others) -> list[tuple]:
     return found
 
 
-def _overlay_key(other, row: int) -> tuple:
-    return (other.name, repr(other.plan.settings), repr(other.plan.metrics[row]),
-            repr(other.result.rows[row]), other.result.duration_days)
+def _inputs(plan, result, row: int) -> tuple:
+    """What a row's curves are made of: the row, the settings, its inputs and its result."""
+    return (row, repr(plan.settings), repr(plan.metrics[row]), repr(result.rows[row]),
+            result.duration_days)
 
 
 def _near_edge(data: Tradeoffs) -> bool:
@@ -209,8 +210,7 @@ class PlotPanel(QWidget):
         self._redraw_timer.stop()
         self._redraw()
 
-    def show_row(self, plan, result, index: int | None, *, now: bool = False,
-                 others=()) -> None:
+    def show_row(self, plan, result, index: int | None, *, others=()) -> None:
         """Show row ``index`` of ``plan`` (with its computed ``result``); ``None`` clears.
 
         Parameters
@@ -220,20 +220,13 @@ class PlotPanel(QWidget):
             The plan's computed result; ``None`` computes it.
         index : int or None
             The row, from 0.
-        now : bool
-            Redraw at once instead of on the coalescing timer: for a caller that is itself
-            coalesced (a recompute), so that table and plots are painted in the same pass.
         others : sequence of fourfold.plan.comparison.Outcome, or a callable returning one
             Other scenarios: the same row (by id) is drawn faintly where it is comparable
             (same kind, effect scale, direction and quantity solved). A callable is called
             when the plots are drawn (the other scenarios are evaluated only then).
         """
         self._pending = (plan, result, index, others)
-        if now:
-            self._redraw_timer.stop()
-            self._redraw()
-        else:
-            self._redraw_timer.start()
+        self._redraw_timer.start()
 
     def cancel_pending(self, *_args) -> None:
         """Forget a queued redraw (its plan changed; the caller shows the row again)."""
@@ -292,21 +285,22 @@ class PlotPanel(QWidget):
         dragging = self.grid.handle.moving or self.slider.isSliderDown()
         # an edit of another row leaves this row's inputs, result and settings as drawn
         overlaid = _comparable(metric, others)
-        drawn = (index, repr(plan.settings), repr(metric), repr(result.rows[index]),
-                 result.duration_days, tuple(_overlay_key(o, j) for o, j in overlaid))
+        inputs = [_inputs(plan, result, index),
+                  *(_inputs(other.plan, other.result, row) for other, row in overlaid)]
+        drawn = tuple(inputs)
         if drawn == self._drawn and not dragging:
             return
         self._drawn = None if dragging else drawn
         key = (index, metric.kind, metric.relative, metric.alternative, metric.margin,
                metric.solve)
         span = self.grid.shown.effect_span if key == self._span_key and self.grid.shown else None
-        data = self._curves(plan, result, index, span)
+        data = self._curves(plan, result, index, span, inputs[0])
         if span is not None and not dragging and _near_edge(data):
-            data = self._curves(plan, result, index, None)  # re-centre once the user lets go
+            data = self._curves(plan, result, index, None, inputs[0])  # re-centre on release
         sticky = key == self._span_key
         self._span_key = key
-        overlays = [self._curves(other.plan, other.result, row, data.effect_span)
-                    for other, row in overlaid]
+        overlays = [self._curves(other.plan, other.result, row, data.effect_span, made_of)
+                    for (other, row), made_of in zip(overlaid, inputs[1:], strict=True)]
         self.grid.set_tradeoffs(data, keep_handle=self.grid.handle.moving, sticky=sticky,
                                 others=overlays)
         show_simulation(self.grid, plan, result, index)
@@ -319,12 +313,12 @@ class PlotPanel(QWidget):
             self.heading.setText(text)
             self.heading.setToolTip(text)
 
-    def _curves(self, plan, result, row: int, span: tuple[float, float] | None) -> Tradeoffs:
-        """The curves of ``row`` of ``plan`` on the effect ``span``, kept by their inputs: a
-        scenario's curves drawn faintly become its own when it is put on show, and switching
-        back and forth between scenarios draws without solving again."""
-        key = (row, repr(plan.settings), repr(plan.metrics[row]), repr(result.rows[row]),
-               result.duration_days, span)
+    def _curves(self, plan, result, row: int, span: tuple[float, float] | None,
+                inputs: tuple) -> Tradeoffs:
+        """The curves of ``row`` of ``plan`` on the effect ``span``, kept by their ``inputs``
+        (:func:`_inputs`): a scenario's curves drawn faintly become its own when it is put on
+        show, and switching back and forth between scenarios draws without solving again."""
+        key = (*inputs, span)
         found = self._kept.get(key)
         if found is None:
             from fourfold.plan.tradeoffs import tradeoffs
