@@ -38,6 +38,11 @@ def make_window(qtbot, qsettings, tmp_path):
     yield build
     for window in windows:
         window.document.stack.mark_clean()
+        window.close()
+        window.deleteLater()
+    # gone before the next test: a window closed but not yet deleted (one never shown, say)
+    # would still run its timers and take part in the next test's window activation
+    QApplication.sendPostedEvents(None, QEvent.Type.DeferredDelete)
 
 
 @pytest.fixture
