@@ -3,9 +3,9 @@
 :func:`summarise` reads the rows through :class:`RowFacts`, the few numbers of each row it
 needs (role, whether it was computed, whether it solved for sample size, days, units, its
 quantile caution) kept as arrays. An open document keeps one :class:`RowFacts` in its row cache
-and refreshes only the rows that changed, so that an edit of one row of a large plan does not
-read every row again; without a cache the facts are read afresh. The rules are those of
-:mod:`fourfold.plan.evaluation` (binding metric, runtime, incomplete plans).
+and refreshes only the rows that changed (the cache names them), so that an edit of one row of
+a large plan does not read every row again; without a cache the facts are read afresh. The
+rules are those of :mod:`fourfold.plan.evaluation` (binding metric, runtime, incomplete plans).
 
 References
 ----------
@@ -59,35 +59,28 @@ class RowFacts:
     """
 
     def __init__(self, metrics, rows) -> None:
-        self._allocate(0)
-        self.reread(metrics, rows, stamps(metrics))
-
-    def _allocate(self, size: int) -> None:
-        self.role = np.full(size, -1, dtype=np.int8)
-        self.asks_units = np.zeros(size, dtype=bool)
+        self.role = np.full(len(rows), -1, dtype=np.int8)
+        self.asks_units = np.zeros(len(rows), dtype=bool)
         """The row's own ``solve`` is the sample size (what a fixed runtime replaces)."""
-        self.failed = np.zeros(size, dtype=bool)
-        self.sample = np.zeros(size, dtype=bool)
+        self.failed = np.zeros(len(rows), dtype=bool)
+        self.sample = np.zeros(len(rows), dtype=bool)
         """The row solved for sample size."""
-        self.days = np.zeros(size)
+        self.days = np.zeros(len(rows))
         """Days, 0 where not known (what the binding row's choice counts)."""
-        self.units = np.zeros(size)
+        self.units = np.zeros(len(rows))
         self.tails: dict[int, str] = {}
-        self.rows: tuple[RowResult, ...] = ()
-        self.stamps = np.full(size, -1, dtype=np.int64)
+        self.reread(metrics, rows, range(len(rows)))
 
-    def reread(self, metrics, rows, now: np.ndarray) -> None:
-        """Read again the rows whose metric or result changed since the facts were read
-        (``now``: the metrics' :func:`stamps`)."""
-        if now.size != self.role.size:
-            self._allocate(now.size)
-            changed = range(now.size)
-        else:
-            moved = np.fromiter(map(operator.is_not, rows, self.rows), bool, len(rows))
-            changed = np.flatnonzero(moved | (now != self.stamps)).tolist()
-        for index in changed:
+    @property
+    def size(self) -> int:
+        """The number of rows."""
+        return self.role.size
+
+    def reread(self, metrics, rows, indices) -> None:
+        """Read again the rows at ``indices``: those whose metric or result changed since the
+        facts read them (a row cache names them: its ``unread``)."""
+        for index in indices:
             self._read(index, metrics[index], rows[index])
-        self.rows, self.stamps = tuple(rows), now
 
     def _read(self, index: int, metric, row: RowResult) -> None:
         self.role[index] = _ROLES.get(metric.role, -1)
