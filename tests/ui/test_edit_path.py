@@ -5,14 +5,20 @@ that would draw the same thing. Expected values come from a freshly built model 
 
 from __future__ import annotations
 
+import copy
 import dataclasses
 
-from fourfold.plan import Plan, load, sample_path
+import pytest
+from user_steps import click_cell, show, type_into_cell
+
+from fourfold.plan import Metric, Plan, load, sample_path
 from fourfold.plan.commands import SetField, SetSetting
 from fourfold.plan.evaluation import compute
+from fourfold.plan.fields import METRIC_FIELDS
 from fourfold.ui.columns import COLUMNS, column_index
 from fourfold.ui.document import PlanDocument
 from fourfold.ui.plots import PlotPanel
+from fourfold.ui.summary import SummaryBar
 from fourfold.ui.table_model import PlanTableModel
 
 
@@ -176,3 +182,63 @@ def test_an_edit_of_one_row_of_20000_reads_solves_and_announces_that_row_only(qt
     for name in ("duration_days", "total_units", "binding_index", "notes", "incomplete"):
         assert getattr(after, name) == getattr(fresh, name), name
     assert after.duration_powers == fresh.duration_powers
+
+
+_READ: set[int] = set()
+
+
+class _Watched(Metric):
+    """A metric row that notes every read of its fields (the rows an edit looks at)."""
+
+    def __getattribute__(self, name):
+        _READ.add(id(self))
+        return object.__getattribute__(self, name)
+
+
+def test_typing_into_a_cell_of_a_large_plan_reads_no_row_off_screen(make_window, qtbot):
+    # An edit costs what it changes: the edited row is read, keyed, solved and repainted,
+    # the binding row named; no other row is looked at, not even to see that it is unchanged.
+    sample = load(sample_path())
+    metrics = [_Watched(**{name: getattr(sample.metrics[i % len(sample.metrics)], name)
+                           for name in METRIC_FIELDS}) for i in range(3_000)]
+    window = make_window(Plan(sample.settings, metrics))
+    show(qtbot, window)
+    row = _mean_row(window.document.plan, 20)
+    click_cell(qtbot, window, row, "sd")
+    qtbot.waitUntil(lambda: not window.plots._redraw_timer.isActive())
+    sd = window.document.plan.metrics[row].sd
+    _READ.clear()
+    type_into_cell(qtbot, window, row, "sd", f"{sd * 1.5:g}")
+    qtbot.waitUntil(lambda: not window.document.pending()
+                    and not window.plots._redraw_timer.isActive())
+    assert window.document.plan.metrics[row].sd == pytest.approx(sd * 1.5)
+    read = {index for index, metric in enumerate(metrics) if id(metric) in _READ}
+    table = window.table
+    shown = range(table.rowAt(0), table.rowAt(table.viewport().height() - 1) + 1)
+    assert read <= {row, window.document.result.binding_index, *shown}
+
+
+def _row_texts(model, row: int) -> list:
+    return [model.data(model.index(row, column)) for column in range(len(COLUMNS))]
+
+
+def test_typing_into_a_row_beside_rows_that_follow_their_windows_shows_its_new_units(
+        make_window, qtbot):
+    # The sample's returning-visitors scenario: five rows follow their history windows and
+    # are evaluated in rounds; "Page load time" does not, and its new sd must reach the table.
+    window = make_window()
+    show(qtbot, window)
+    returning = next(scenario.name for scenario in window.document.whole.scenarios
+                     if "reach" in scenario.settings)
+    window.switch_scenario(returning)
+    qtbot.waitUntil(lambda: not window.document.pending())
+    plan = window.document.plan
+    row = next(index for index, metric in enumerate(plan.metrics)
+               if metric.kind == "mean" and not metric.windowed)
+    before = window.model.row_result(row).units_control
+    type_into_cell(qtbot, window, row, "sd", f"{plan.metrics[row].sd * 2:g}")
+    qtbot.waitUntil(lambda: not window.document.pending())
+    fresh = PlanTableModel(PlanDocument(copy.deepcopy(window.document.whole)))
+    assert window.model.row_result(row).units_control > before
+    assert _row_texts(window.model, row) == _row_texts(fresh, row)
+    assert window.summary.texts() == SummaryBar(fresh.document).texts()
