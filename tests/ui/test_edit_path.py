@@ -242,3 +242,33 @@ def test_typing_into_a_row_beside_rows_that_follow_their_windows_shows_its_new_u
     assert window.model.row_result(row).units_control > before
     assert _row_texts(window.model, row) == _row_texts(fresh, row)
     assert window.summary.texts() == SummaryBar(fresh.document).texts()
+
+
+def test_an_edit_beside_rows_solved_at_the_duration_solves_only_its_row(qtbot, monkeypatch):
+    # Rows without units of their own (power at the plan's duration) are solved again only
+    # when the duration moves or they change, not on every edit of another row.
+    import fourfold.plan.evaluation as evaluation
+
+    plan = _big_plan(2_000)
+    for index in range(2, len(plan.metrics), 7):
+        plan.metrics[index] = dataclasses.replace(plan.metrics[index], solve="power", n=None)
+    document = PlanDocument(plan)
+    model = PlanTableModel(document)
+    solved = []
+    real = evaluation.solve_rows
+    monkeypatch.setattr(evaluation, "solve_rows", lambda plan, designs, alphas, rows, *rest:
+                        solved.append(list(rows)) or real(plan, designs, alphas, rows, *rest))
+    ranges = _recorded(model)
+    row = _mean_row(document.plan, 1_001)
+    duration = document.result.duration_days
+    assert document.apply(SetField(row, "sd", document.plan.metrics[row].sd * 1.5))
+    qtbot.waitUntil(lambda: not document.pending())
+    assert document.result.duration_days == duration
+    assert [rows for rows in solved if rows] == [[row]]
+    assert ranges == [(row, 0, row, len(COLUMNS) - 1)]
+    fresh = compute(document.plan)
+    assert document.result.rows == fresh.rows
+    assert document.result.duration_powers == fresh.duration_powers
+    last = range(2, len(plan.metrics), 7)[-1]  # a row solved at the duration, still shown so
+    assert document.plan.metrics[last].solve == "power" == document.result.rows[last].solved
+    assert document.result.rows[last].power > 0.5

@@ -354,6 +354,7 @@ class _Summary:
         else:
             self.cache.mark(*fresh)
             facts = self.cache.summary_facts(self.plan, rows)
+            self.cache.summarised = rows
         return summarise(self.plan, rows, facts, self.designs, waiting)
 
 
@@ -369,18 +370,30 @@ def _compute(plan: Plan, cache: RowCache | None, powers: bool = True,
         if not synced:
             cache.sync(plan)
         designs, waits = cache.designs, cache.waits
-    rows, changed = _evaluate_rows(plan, designs, cache)
+    base, changed = _evaluate_rows(plan, designs, cache)
+    rows, fresh = base, (changed,)
     waiting = np.flatnonzero(waits).tolist()
+    held = None if cache is None or not waiting else cache.take_held()
     if waiting:  # solved at the duration below; the cache keeps their results before it
-        rows = list(rows)
+        if held is not None and len(cache.summarised) == len(base):
+            # the rows as last summarised: the waiting rows as they were made then (at the
+            # duration, say), the rows whose keys changed as they are now
+            rows = list(cache.summarised)
+            for index in changed:
+                rows[index] = base[index]
+        else:
+            rows, fresh, held = list(base), (changed, waiting), _BEFORE
     summary = _Summary(plan, designs, cache)
-    # the rows waiting for the duration hold their results from before it (as the cache does)
-    result = summary(rows, waits, fresh=(changed, waiting))
+    result = summary(rows, waits, fresh=fresh)
     at = _at_duration(plan, result)
     if waiting:
         alphas = cache.alphas if cache is not None else row_alphas(plan)
-        result = _solve_waiting(plan, rows, designs, alphas, waiting, result, at, summary)
+        redo = waiting if cache is None else [index for index in changed if waits[index]]
+        result, held = _solve_waiting(plan, (base, rows), designs, alphas, (waiting, redo),
+                                      held, result, at, summary)
         at = at if result.status == "complete" else None
+        if cache is not None:
+            cache.held = held
     found, where, solved = (math.nan,) * len(rows), None, None
     if not powers:
         if cache is not None:
@@ -415,26 +428,39 @@ def _at_duration(plan: Plan, result: PlanResult) -> AtDuration | None:
     return AtDuration(runtime_units(dataclasses.replace(settings, runtime_days=days)), days)
 
 
-def _solve_waiting(plan: Plan, rows: list, designs: dict, alphas: list[float],
-                   waiting: list[int], result: PlanResult, at: AtDuration | None,
-                   summary: _Summary) -> PlanResult:
-    """Solve the rows without units of their own at the plan's duration, then summarise.
+_BEFORE, _WITHOUT = ("before",), ("without",)
+"""What the waiting rows of a list of rows hold: their results before the duration, or
+without one (the plan is incomplete); ``("at", units, days)``: solved at that duration."""
 
-    Without a duration they stay not computed; when one of them leaves the plan incomplete,
-    the others lose the duration they were solved at too.
+
+def _solve_waiting(plan: Plan, lists: tuple[list, list], designs: dict, alphas: list[float],
+                   todo: tuple[list[int], list[int]], held: tuple, result: PlanResult,
+                   at: AtDuration | None, summary: _Summary) -> tuple[PlanResult, tuple | None]:
+    """Solve the rows without units of their own at the plan's duration, then summarise; the
+    final result and what its waiting rows hold (``None``: not known).
+
+    ``lists``: the rows' results before the duration and the rows summarised, whose waiting
+    rows hold ``held``; ``todo``: the waiting rows and those of them that changed (only they
+    are made again when the waiting rows are to hold what they hold). Without a duration they
+    stay not computed; when one of them leaves the plan incomplete, the others lose the
+    duration they were solved at too.
     """
+    base, rows = lists
+    waiting, changed = todo
+    target = ("at", *_where(at)) if at is not None else _WITHOUT if result.incomplete else _BEFORE
+    redo = changed if held == target else waiting
     if at is not None:
-        solve_rows(plan, designs, alphas, waiting, rows, at)
-    elif result.incomplete:
-        for index in waiting:
-            rows[index] = without_duration(rows[index])
-    final = summary(rows, fresh=(waiting,))
+        solve_rows(plan, designs, alphas, redo, rows, at)
+    else:
+        for index in redo:
+            rows[index] = without_duration(base[index]) if target is _WITHOUT else base[index]
+    final = summary(rows, fresh=(redo,))
     if at is not None and final.incomplete:
         for index in waiting:
             if not rows[index].reason:
                 rows[index] = without_duration(rows[index])
-        final = summary(rows, fresh=(waiting,))
-    return final
+        return summary(rows, fresh=(waiting,)), None
+    return final, target
 
 
 def _duration_powers(plan: Plan, rows: tuple[RowResult, ...], at: AtDuration, designs: dict,

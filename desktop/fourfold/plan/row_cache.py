@@ -121,6 +121,11 @@ class RowCache:
     """The powers at the duration of the latest evaluation (for :meth:`note_powers`)."""
     shown_at: tuple | None = None
     """The units and days those powers are at (``None``: not computed, all ``nan``)."""
+    summarised: tuple = ()
+    """The rows the summary's facts last read (the latest evaluation's, at its duration)."""
+    held: tuple | None = None
+    """What the rows waiting for the duration hold in :attr:`summarised` (their results
+    before the duration, without one, or at a duration; ``None``: not known)."""
     plain: bool = False
     """Whether the latest result came from one evaluation of the plan's rows as they are (not
     from the rounds of rows that follow their history windows)."""
@@ -175,6 +180,11 @@ class RowCache:
         for found in (self.unread, self.moved):
             if found is not None:
                 found.update(*rows)
+
+    def take_held(self) -> tuple | None:
+        """:attr:`held`, not known from now on (until an evaluation sets it again)."""
+        found, self.held = self.held, None
+        return found
 
     def take_unkeyed(self) -> list[int] | None:
         """The rows whose keys are to be built again, ascending (``None``: every row); from
