@@ -272,3 +272,33 @@ def test_an_edit_beside_rows_solved_at_the_duration_solves_only_its_row(qtbot, m
     last = range(2, len(plan.metrics), 7)[-1]  # a row solved at the duration, still shown so
     assert document.plan.metrics[last].solve == "power" == document.result.rows[last].solved
     assert document.result.rows[last].power > 0.5
+
+
+def test_an_edit_leaves_the_notes_of_other_rows_as_they_were_written(make_window, qtbot):
+    # Secondary rows that need more than the plan gives get a note each (here over 400); an
+    # edit of another row (a secondary mean's sd lowered) neither writes them out again nor
+    # refills the notes' tooltip.
+    sample = load(sample_path())
+    metrics = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
+               for i in range(3_000)]
+    for index, metric in enumerate(metrics):
+        if metric.role == "secondary" and metric.kind == "proportion":
+            metrics[index] = dataclasses.replace(metric, effect=metric.effect / 4)
+    window = make_window(Plan(sample.settings, metrics))
+    show(qtbot, window)
+    before = window.document.result.notes
+    needy = {note for note in before if "(secondary) would need" in note}
+    assert len(needy) > 400
+    written = []
+    window.summary.notes.setToolTip = written.append
+    row = next(index for index in range(20, len(metrics))
+               if metrics[index].kind == "mean" and metrics[index].role == "secondary")
+    units, sd = window.document.result.rows[row].units_control, metrics[row].sd
+    type_into_cell(qtbot, window, row, "sd", f"{sd * 0.8:g}")
+    qtbot.waitUntil(lambda: not window.document.pending())
+    after = window.document.result
+    assert window.document.plan.metrics[row].sd == pytest.approx(sd * 0.8)
+    assert after.rows[row].units_control < units
+    assert after.notes == compute(window.document.plan).notes == before
+    assert all(a is b for a, b in zip(before, after.notes, strict=True) if a in needy)
+    assert written == []
