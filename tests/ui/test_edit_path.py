@@ -302,3 +302,27 @@ def test_an_edit_leaves_the_notes_of_other_rows_as_they_were_written(make_window
     assert after.notes == compute(window.document.plan).notes == before
     assert all(a is b for a, b in zip(before, after.notes, strict=True) if a in needy)
     assert written == []
+
+
+def test_an_edit_of_a_sorted_large_plan_reads_the_sort_keys_of_its_row_only(make_window,
+                                                                              qtbot):
+    # The header shows the sort while the rows hold it: after an edit only the rows the
+    # recompute changed are checked, and an edit that breaks the order still clears it.
+    window = make_window(_big_plan(3_000))
+    show(qtbot, window)
+    table, model = window.table, window.model
+    table.sort_column(column_index("baseline"))
+    qtbot.waitUntil(lambda: not window.document.pending())
+    header = table.horizontalHeader()
+    assert header.sortIndicatorSection() == column_index("baseline")
+    read = []
+    real = model.sort_key
+    model.sort_key = lambda row, column: read.append(row) or real(row, column)
+    row = _mean_row(window.document.plan, 20)
+    type_into_cell(qtbot, window, row, "sd", f"{window.document.plan.metrics[row].sd * 1.5:g}")
+    qtbot.waitUntil(lambda: not window.document.pending())
+    assert header.sortIndicatorSection() == column_index("baseline")  # the order holds
+    assert read == [row]
+    type_into_cell(qtbot, window, row, "baseline", "0")  # a mean of 0 goes first: not sorted
+    qtbot.waitUntil(lambda: not window.document.pending())
+    assert header.sortIndicatorSection() == -1
