@@ -80,6 +80,27 @@ def test_opening_the_window_does_not_import_the_history_reader():
     assert out.stdout.strip() == "[]"
 
 
+def test_the_window_imports_its_models_before_pyside6():
+    # PySide6's import hook reads the source of every module imported after it: the window's
+    # start-up imports numpy, scipy.special and the plan first (the command's order).
+    code = (
+        "import sys\n"
+        "order = []\n"
+        "class Seen:\n"
+        "    def find_spec(self, name, path=None, target=None):\n"
+        "        order.append(name)\n"
+        "sys.meta_path.insert(0, Seen())\n"
+        "from fourfold import cli\n"
+        "from fourfold.ui.app import run_window\n"
+        "print(' '.join(order))"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    order = out.stdout.split()
+    assert "PySide6" in order
+    for model in ("numpy", "scipy.special", "fourfold.plan", "fourfold.engine"):
+        assert order.index(model) < order.index("PySide6"), model
+
+
 def test_history_help_lists_its_options(capsys):
     with pytest.raises(SystemExit) as stop:
         cli.main(["history", "--help"])

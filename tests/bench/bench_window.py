@@ -8,7 +8,8 @@
    first paint; the trade-off plots are built right after it, and the time to their first paint
    is printed too. The processes run with their own empty settings and data folders and may
    write bytecode (an installed package has its ``.pyc`` files; one untimed run of each writes
-   them first).
+   them first). The process imports the window's modules in the command's order before the
+   classes it watches the paint with (PySide6 is slower to import modules after it).
 2. Edit: one cell edit of a 500-row plan → recomputed, table repainted, plots redrawn; median of
    60 edits (target ≤ 16 ms). Reference: :func:`fourfold.plan.evaluation.compute` alone on the
    same plan without the row cache, measured before each edit. The same again with the sample's
@@ -42,11 +43,11 @@ print("ready", flush=True)
 
 FIRST_PAINT = """
 import os
-from PySide6.QtCore import QEvent, QObject
-from PySide6.QtWidgets import QApplication, QTableView
-import pyqtgraph
 from fourfold import cli
 from fourfold.ui import app as app_module
+from PySide6.QtCore import QEvent, QObject
+from PySide6.QtWidgets import QTableView
+import pyqtgraph
 
 class Watch(QObject):
     table = False

@@ -187,14 +187,21 @@ def test_exact_t_sample_size_agrees_with_the_former_solver(alternative, monkeypa
 
 def test_a_family_of_rows_starts_at_its_root(monkeypatch):
     # 10,000 rows of one family: a few are solved first, and every other row is found at
-    # its first evaluation (one evaluation of the exact power over the whole family).
+    # its first evaluation: one screened evaluation over the whole family, and the exact
+    # power only for the rows the screen does not reach (ν < 50 or ν ≥ 10⁴).
     from fourfold.engine import _power
 
-    sizes = []
-    real = tdist.nct_sf_both
-    monkeypatch.setattr(tdist, "nct_sf_both", lambda df, *rest: sizes.append(np.size(df))
+    exact, screened = [], []
+    real, real_screen = tdist.nct_sf_both, tdist.screen_sf
+    monkeypatch.setattr(tdist, "nct_sf_both", lambda df, *rest: exact.append(np.asarray(df))
                         or real(df, *rest))
+    monkeypatch.setattr(tdist, "screen_sf", lambda df, *rest: screened.append(np.size(df))
+                        or real_screen(df, *rest))
     effect = np.random.default_rng(8).uniform(0.05, 0.8, 10_000)
     engine.sample_size("mean", 0.0, effect, sd=1.0, method="t")
     assert _power.tdist is tdist
-    assert [size for size in sizes if size > _t_family.NODES] == [10_000]
+    assert [size for size in screened if size > _t_family.NODES] == [10_000]
+    outside = [df for df in exact if df.size > _t_family.NODES]
+    assert len(outside) <= 1
+    assert all(np.all((df < tdist.QUADRATURE_DF) | (df >= tdist.NORMAL_LIMIT_DF))
+               for df in outside)

@@ -10,8 +10,10 @@ Chebyshev points of its range of x, fits a Chebyshev polynomial through their ga
 every row at n_z plus the fitted gap. The fit is good to about 10⁻¹⁰ of n on A/B-test inputs,
 within the solver's tolerance on the power, so that the solver's first evaluation at the start
 usually ends its search; a row whose start is not that close is searched as before. The start
-never replaces the check: every row's units are those at which the exact power was evaluated
-and found within the tolerance.
+never replaces the check: every row's units are those at which the power was found within the
+tolerance. That first check may be a screen (:func:`screened`): a power good to a known bound
+at half the cost, trusted only where it is inside the tolerance by more than the bound, so
+that the exact power is inside too and the row's units are the same bit for bit.
 
 Examples
 --------
@@ -21,6 +23,8 @@ Examples
 """
 
 import numpy as np
+
+from . import tdist
 
 FAMILY_ROWS = 64
 """Rows a family needs before solving some of them first pays."""
@@ -88,3 +92,30 @@ def start(normal: np.ndarray, alpha, power, ratio, solve) -> tuple[np.ndarray, n
         found[members] = np.where(guess > 0, guess, np.nan)
         found[members[picked][good]] = exact[good]
     return found, np.isfinite(found)
+
+
+def screened(func, screen, rows: np.ndarray, ftol: float):
+    """``func(y, j)`` for a root search whose first call, at the starts, uses ``screen(y, j)``
+    (within :data:`~fourfold.engine.tdist.SCREEN_ERROR` of ``func``, nan where it has no value)
+    for the elements in ``rows`` where it is within ``ftol`` by more than that bound, and
+    ``func`` for the others; every later call is ``func``'s.
+
+    The search then accepts the same starts as with ``func`` alone and searches the others
+    from ``func``'s values, so that its results are the same bit for bit.
+    """
+    first = [True]
+
+    def f(y, j):
+        if not first:
+            return func(y, j)
+        first.clear()
+        values = np.full(j.size, np.nan)
+        mine = np.flatnonzero(np.isin(j, rows))
+        values[mine] = screen(y[mine], j[mine])
+        sure = np.abs(values) <= ftol - tdist.SCREEN_ERROR
+        rest = np.flatnonzero(~sure)
+        if rest.size:
+            values[rest] = func(y[rest], j[rest])
+        return values
+
+    return f

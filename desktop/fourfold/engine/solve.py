@@ -44,6 +44,7 @@ from ._power import (
     distance_search,
     limit_power_and_slope,
     power_of,
+    screen_power,
 )
 from .checks import KIND_MODULES, prepare
 from .margin import solve_margin
@@ -197,6 +198,12 @@ def _sample_size(p):
         sub = _subset(j, i.size, *moments, ratio, alpha)
         return _power_from(p, sub[:4], sub[4], np.exp(y), sub[5]) - target[j]
 
+    if covered.any():  # the family's starts are checked by a screen first
+        def screen(y, j):
+            dj, s0j, rj, aj = _subset(j, i.size, d, s0, ratio, alpha)
+            return screen_power(dj, s0j, np.exp(y), aj, p.alternative, rj) - target[j]
+
+        f = _t_family.screened(f, screen, np.flatnonzero(covered), _FTOL_T)
     y, status = roots.find_root(
         f, y, 1e-6, y_min, np.full(i.size, _LOG_N_MAX), model=model,
         ftol=_FTOL_T if exact_t else _FTOL_Z,
