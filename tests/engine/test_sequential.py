@@ -26,7 +26,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.stats import multivariate_normal, norm
 
-from fourfold.engine.sequential import SPENDING, design, peeking_alpha, power_at
+from fourfold.engine.sequential import SPENDING, boundaries, design, peeking_alpha, power_at
 
 SCIPY_VERSION = scipy.__version__  # 1.17.1 when these checks were written
 
@@ -228,9 +228,7 @@ def test_results_are_read_only():
         d.upper[0] = 1.0
 
 
-@pytest.mark.parametrize(
-    ("kwargs", "word"),
-    [
+BAD_ARGUMENTS = [
         ({"looks": 0}, "looks"),
         ({"looks": 21}, "looks"),
         ({"looks": 2.5}, "looks"),
@@ -251,12 +249,42 @@ def test_results_are_read_only():
         ({"looks": 3, "gamma": 1.0}, "gamma"),
         ({"looks": 3, "spending": "hsd", "gamma": 41.0}, "gamma"),
         ({"looks": 3, "spending": "hsd", "gamma": "steep"}, "gamma"),
-    ],
-)
+]
+
+
+@pytest.mark.parametrize(("kwargs", "word"), BAD_ARGUMENTS)
 def test_design_rejects_bad_arguments(kwargs, word):
+    kwargs = dict(kwargs)
     looks = kwargs.pop("looks")
     with pytest.raises(ValueError, match=word):
         design(looks, **kwargs)
+
+
+@pytest.mark.parametrize(("kwargs", "word"),
+                         [(kwargs, word) for kwargs, word in BAD_ARGUMENTS if word != "futility"])
+def test_boundaries_reject_what_the_design_rejects(kwargs, word):
+    """A design that cannot be made has no boundaries either (a power not above the
+    one-sided α among them, though the boundaries do not depend on the power)."""
+    kwargs = dict(kwargs)
+    looks = kwargs.pop("looks")
+    with pytest.raises(ValueError, match=word):
+        boundaries(looks, **kwargs)
+
+
+@pytest.mark.parametrize("spending", SPENDING)
+@pytest.mark.parametrize("alternative", ["two-sided", "greater"])
+@pytest.mark.parametrize("timing", [None, (0.3, 0.55, 1.0)])
+def test_boundaries_give_the_designs_powers(spending, alternative, timing):
+    """The boundaries alone (without the design's drift) are the design's, and so is the
+    power of their test at every drift, to the last bit."""
+    made = design(3, alpha=0.03, power=0.85, alternative=alternative, spending=spending,
+                  timing=timing)
+    bare = boundaries(3, alpha=0.03, power=0.85, alternative=alternative, spending=spending,
+                      timing=timing)
+    np.testing.assert_array_equal(bare.upper, made.upper)
+    np.testing.assert_array_equal(bare.fractions, made.fractions)
+    for drift in (0.0, 1.3, made.drift, 4.0):
+        assert power_at(bare, drift) == power_at(made, drift)
 
 
 @pytest.mark.parametrize(("looks", "nominal"), [(0, 0.05), (101, 0.05), (3, 0.0), (3, 1.5)])

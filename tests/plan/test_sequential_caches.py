@@ -17,7 +17,8 @@ from fourfold.plan.evaluation import RowCache, compute
 
 def _forget():
     for cached in (engine_sequential._boundaries, sequential.shared_design,
-                   sequential._power_of, tradeoffs._inflation, tradeoffs._node_inflations):
+                   sequential.shared_boundaries, sequential._power_of, tradeoffs._inflation,
+                   tradeoffs._node_inflations):
         cached.cache_clear()
 
 

@@ -29,6 +29,7 @@ from __future__ import annotations
 import numpy as np
 from scipy.special import ndtri
 
+from fourfold.engine import _sequential_args as args
 from fourfold.engine import sequential
 from fourfold.engine._sequential_spending import spent
 
@@ -65,8 +66,8 @@ def inflations(looks: int, alphas, powers, *, alternative: str = "two-sided",
     if futility is not None and futility not in sequential.FUTILITY:
         raise ValueError(f"futility must be None or one of {sequential.FUTILITY}, got "
                          f"{futility!r}")
-    t = sequential._fractions(timing, sequential._count("looks", looks, sequential.MAX_LOOKS))
-    gamma = sequential._gamma(gamma, (spending, futility))
+    t = args.fractions(timing, args.count("looks", looks, args.MAX_LOOKS))
+    gamma = args.gamma_of(gamma, (spending, futility))
     fractions = tuple(float(x) for x in t)
     two_sided = alternative == "two-sided"
     found = np.full(alphas.shape, np.nan)

@@ -49,7 +49,6 @@ from __future__ import annotations
 
 import functools
 import math
-import operator
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
@@ -57,27 +56,24 @@ import numpy as np
 from scipy.special import ndtr, ndtri
 
 from fourfold.engine import _sequential_grid as grid
-from fourfold.engine._sequential_spending import (
-    CLASSIC,
-    SPENDING_FUNCTIONS,
-    boundary_shape,
-    spent,
+from fourfold.engine._sequential_args import (
+    ALTERNATIVES,
+    DEFAULT_GAMMA,
+    FUTILITY,
+    GAMMA_RANGE,
+    MAX_LOOKS,
+    MAX_PEEKS,
+    MIN_GAP,
+    SPENDING,
+    checked,
+    count,
+    probability,
 )
+from fourfold.engine._sequential_spending import CLASSIC, boundary_shape, spent
 
-SPENDING = ("ld-obrien-fleming", "ld-pocock", "hsd", "obrien-fleming", "pocock")
-"""Boundary families: Lan–DeMets spending functions, Hwang–Shih–DeCani, classic shapes."""
-
-FUTILITY = SPENDING_FUNCTIONS
-"""Families a futility (β-spending) boundary may use."""
-
-ALTERNATIVES = ("two-sided", "greater", "less")
-MAX_LOOKS = 20
-MAX_PEEKS = 100
-GAMMA_RANGE = (-40.0, 40.0)
-MIN_GAP = 0.01
-"""Smallest step between information fractions: closer looks are beyond the grid's accuracy."""
-DEFAULT_GAMMA = -4.0
-"""γ of the Hwang–Shih–DeCani family when none is given (an O'Brien–Fleming-like shape)."""
+__all__ = ["ALTERNATIVES", "DEFAULT_GAMMA", "FUTILITY", "GAMMA_RANGE", "MAX_LOOKS", "MAX_PEEKS",
+           "MIN_GAP", "SPENDING", "Boundaries", "SequentialDesign", "boundaries", "design",
+           "peeking_alpha", "power_at", "solve_drift"]
 
 _LOG_FLOOR = 1e-300
 
@@ -340,63 +336,6 @@ def _frozen(values: np.ndarray) -> np.ndarray:
     return values
 
 
-def _probability(name: str, value: float) -> float:
-    try:
-        value = float(value)
-    except (TypeError, ValueError):
-        raise ValueError(f"{name} must be a number between 0 and 1, got {value!r}") from None
-    if not 0.0 < value < 1.0:
-        raise ValueError(f"{name} must be between 0 and 1 (exclusive), got {value!r}")
-    return value
-
-
-def _count(name: str, value: int, top: int) -> int:
-    try:
-        count = operator.index(value)
-    except TypeError:
-        raise ValueError(f"{name} must be a whole number from 1 to {top}, got {value!r}") from None
-    if isinstance(value, bool) or not 1 <= count <= top:
-        raise ValueError(f"{name} must be a whole number from 1 to {top}, got {value!r}")
-    return count
-
-
-def _fractions(timing: Sequence[float] | None, looks: int) -> np.ndarray:
-    if timing is None:
-        return np.arange(1, looks + 1) / looks
-    try:
-        t = np.array(timing, dtype=float).reshape(-1)
-    except (TypeError, ValueError):
-        raise ValueError(f"timing must be a list of {looks} fractions, got {timing!r}") from None
-    if t.size != looks:
-        raise ValueError(f"timing must have one fraction per look ({looks}), got {t.size}")
-    if not np.all(np.isfinite(t)) or t[0] <= 0.0 or np.any(np.diff(t) <= 0.0):
-        raise ValueError("timing must increase strictly, with every fraction in (0, 1]")
-    if np.any(np.diff(t) < MIN_GAP - 1e-12):
-        raise ValueError(f"timing: successive looks must be at least {MIN_GAP:g} apart "
-                         "(a share of the maximum size)")
-    if abs(t[-1] - 1.0) > 1e-9:
-        raise ValueError(f"timing must end at 1 (the maximum size), got {t[-1]!r}")
-    t[-1] = 1.0
-    return t
-
-
-def _gamma(gamma: float | None, families: tuple[str | None, ...]) -> float | None:
-    if "hsd" not in families:
-        if gamma is not None:
-            raise ValueError("gamma applies only to the 'hsd' spending family")
-        return None
-    if gamma is None:
-        return DEFAULT_GAMMA
-    low, high = GAMMA_RANGE
-    try:
-        gamma = float(gamma)
-    except (TypeError, ValueError):
-        raise ValueError(f"gamma must be a number from {low:g} to {high:g}") from None
-    if not low <= gamma <= high:
-        raise ValueError(f"gamma must be from {low:g} to {high:g}, got {gamma!r}")
-    return gamma
-
-
 def design(
     looks: int,
     *,
@@ -456,22 +395,8 @@ def design(
     >>> bool(d.expected_h1 < 1.0 < d.inflation)
     True
     """
-    looks = _count("looks", looks, MAX_LOOKS)
-    alpha = _probability("alpha", alpha)
-    power = _probability("power", power)
-    if alternative not in ALTERNATIVES:
-        raise ValueError(f"alternative must be one of {ALTERNATIVES}, got {alternative!r}")
-    if spending not in SPENDING:
-        raise ValueError(f"spending must be one of {SPENDING}, got {spending!r}")
-    if futility is not None and futility not in FUTILITY:
-        raise ValueError(f"futility must be None or one of {FUTILITY}, got {futility!r}")
-    gamma = _gamma(gamma, (spending, futility))
-    t = _fractions(timing, looks)
-    two_sided = alternative == "two-sided"
-    side_alpha = alpha / 2.0 if two_sided else alpha
-    if power <= side_alpha:
-        raise ValueError(f"power must exceed the one-sided α ({side_alpha:g}), got {power!r}")
-
+    looks, alpha, power, gamma, t, two_sided, side_alpha = checked(
+        looks, alpha, power, alternative, spending, timing, gamma, futility)
     upper, up_h0 = _boundaries(tuple(float(x) for x in t), side_alpha, two_sided, spending,
                                gamma)
     floor = -upper if two_sided else np.full(looks, -np.inf)
@@ -509,6 +434,55 @@ def design(
     )
 
 
+@dataclass(frozen=True, eq=False)
+class Boundaries:
+    """The efficacy boundaries of a design without a futility bound: all that the power of
+    its test at some size needs (:func:`power_at`), without the search for the drift that
+    gives the design its power and inflation. Attributes as :class:`SequentialDesign`'s."""
+
+    looks: int
+    alpha: float
+    alternative: str
+    fractions: np.ndarray
+    upper: np.ndarray
+    lower = None
+    """No futility boundary."""
+
+
+def boundaries(
+    looks: int,
+    *,
+    alpha: float = 0.05,
+    power: float = 0.8,
+    alternative: str = "two-sided",
+    spending: str = "ld-obrien-fleming",
+    timing: Sequence[float] | None = None,
+    gamma: float | None = None,
+) -> Boundaries:
+    """The efficacy boundaries :func:`design` gives for these arguments without futility.
+
+    The arguments are checked as :func:`design` checks them (``power`` is only checked:
+    the boundaries do not depend on it), so that a design that cannot be made has no
+    boundaries either.
+
+    Raises
+    ------
+    ValueError
+        An argument outside its range, naming the argument.
+
+    Examples
+    --------
+    >>> made = design(4, alpha=0.03)
+    >>> bare = boundaries(4, alpha=0.03)
+    >>> bool((bare.upper == made.upper).all()), power_at(bare, 2.5) == power_at(made, 2.5)
+    (True, True)
+    """
+    looks, alpha, _, gamma, t, two_sided, side_alpha = checked(
+        looks, alpha, power, alternative, spending, timing, gamma, None)
+    upper, _ = _boundaries(tuple(float(x) for x in t), side_alpha, two_sided, spending, gamma)
+    return Boundaries(looks, alpha, alternative, _frozen(t), _frozen(upper))
+
+
 def peeking_alpha(looks: int, nominal: float = 0.05) -> float:
     """False-positive rate of a test checked ``looks`` times at an unadjusted two-sided level.
 
@@ -538,15 +512,15 @@ def peeking_alpha(looks: int, nominal: float = 0.05) -> float:
     >>> print(f"{peeking_alpha(5):.0%}")
     14%
     """
-    looks = _count("looks", looks, MAX_PEEKS)
-    nominal = _probability("nominal", nominal)
+    looks = count("looks", looks, MAX_PEEKS)
+    nominal = probability("nominal", nominal)
     t = np.arange(1, looks + 1) / looks
     c = np.full(looks, float(-ndtri(nominal / 2.0)))
     up, down, _ = grid.crossings(t, c, -c, 0.0)
     return float(up.sum() + down.sum())
 
 
-def power_at(sequential: SequentialDesign, drift: float) -> float:
+def power_at(sequential: SequentialDesign | Boundaries, drift: float) -> float:
     """Power of a design's boundaries when E[Z] at the maximum size is ``drift``.
 
     Counts crossings of the efficacy boundary in the direction of the alternative, with the
@@ -556,8 +530,9 @@ def power_at(sequential: SequentialDesign, drift: float) -> float:
 
     Parameters
     ----------
-    sequential : SequentialDesign
-        A result of :func:`design`.
+    sequential : SequentialDesign or Boundaries
+        A result of :func:`design` (or of :func:`boundaries`: the same power without
+        futility).
     drift : float
         Expected z statistic at the maximum size; 0 is H0.
 

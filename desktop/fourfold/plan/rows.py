@@ -19,13 +19,7 @@ from fourfold.plan.arms import treatment_ratio
 from fourfold.plan.model import Metric, Plan, Settings
 from fourfold.plan.results import RowResult
 from fourfold.plan.rules import is_margin_row
-
-
-def _ceil(value: float) -> float:
-    """Round up to a whole number, forgiving floating-point dust just above an integer."""
-    if not math.isfinite(value):
-        return math.nan
-    return float(math.ceil(value - 1e-9 * max(1.0, abs(value))))
+from fourfold.plan.solved_rows import Solved, column, days_of, failed, finish
 
 
 def runtime_units(settings: Settings) -> float | None:
@@ -58,12 +52,6 @@ def _runtime_reason(settings: Settings, units: float) -> str:
         return (f"the burn-in ({settings.burn_in} days) takes the whole fixed runtime "
                 f"({settings.runtime_days:g} days): no units are analysed")
     return ""
-
-
-def _failed(solved: str, factor: float, alpha: float, power: float, reason: str) -> RowResult:
-    nan = math.nan
-    return RowResult(nan, nan, nan, nan, nan, nan, power, alpha, reason, solved, factor,
-                     nan, nan, nan, None)
 
 
 @dataclass(frozen=True)
@@ -136,70 +124,28 @@ def _prepare_row(plan: Plan, metric: Metric, alpha: float, factor: float, design
         if n_control is None:
             why = (f"a fixed runtime needs {traffic.needs_text(settings)}" if runtime else
                    needs_units_text(solved))
-            return _failed(solved, factor, shown_alpha, shown_power, why)
+            return failed(solved, factor, shown_alpha, shown_power, why)
         if runtime and _runtime_reason(settings, n_control):
-            return _failed(solved, factor, shown_alpha, shown_power,
-                           _runtime_reason(settings, n_control))
+            return failed(solved, factor, shown_alpha, shown_power,
+                          _runtime_reason(settings, n_control))
     days = math.nan  # the run of a row with units of its own: its looks may fall on week ends
     if n_control is not None and settings.looks > 1 and settings.whole_weeks:
         days = (float(settings.runtime_days) if runtime else
                 at_duration.days if waiting and at_duration is not None else
-                _days_of(settings, n_control))
+                float(days_of(settings, n_control)))
     try:
         staged = sequential.row_design(settings, alpha, power, metric.alternative, designs,
                                        days)
     except ValueError as error:
-        return _failed(solved, factor, shown_alpha, shown_power, str(error))
+        return failed(solved, factor, shown_alpha, shown_power, str(error))
     if staged is not None and solved == "significance_level":
-        return _failed(solved, factor, shown_alpha, shown_power, sequential.NO_ALPHA_SOLVE)
+        return failed(solved, factor, shown_alpha, shown_power, sequential.NO_ALPHA_SOLVE)
     if solved != "detectable_effect" and metric.effect is None:
-        return _failed(solved, factor, shown_alpha, shown_power,
-                       "needs an effect to solve for " + solved.replace("_", " "))
+        return failed(solved, factor, shown_alpha, shown_power,
+                      "needs an effect to solve for " + solved.replace("_", " "))
     n_effective = None if n_control is None else n_control / factor
     return _Pending(solved, alpha, power, factor, staged, n_control, n_effective,
                     waiting and at_duration is not None)
-
-
-def _totals(settings: Settings, n_control: float) -> tuple[float, float, float]:
-    """Whole units: control, each treatment arm, all arms."""
-    units_control = _ceil(n_control)
-    units_treatment = _ceil(treatment_ratio(settings) * units_control)
-    return units_control, units_treatment, units_control + settings.arms * units_treatment
-
-
-def _days_of(settings: Settings, n_control: float) -> float:
-    """Days for ``n_control`` control units, as :func:`fourfold.engine.duration_days` counts
-    them (whole days, whole weeks when asked; nan without daily units)."""
-    if not traffic.has_traffic(settings):
-        return math.nan
-    if not traffic.is_plain(settings):
-        return float(traffic.days_for(settings, _totals(settings, n_control)[2]))
-    days = _ceil(_totals(settings, n_control)[2] / (settings.daily_units * settings.share))
-    return 7.0 * math.ceil(days / 7.0) if settings.whole_weeks else days
-
-
-def _on_week_ends(plan: Plan, index: int, row: _Pending, fixed: float, day: float,
-                  designs: dict) -> tuple[tuple[float, float, float], float, Any]:
-    """A sample-size row with interim looks in a plan of whole weeks: the design with its looks
-    at the ends of the row's weeks, its units (``fixed`` × that design's inflation) and days.
-
-    The weeks come from the units and the units from the design at those weeks: from the
-    equally spaced design's days, the run grows by weeks until its traffic holds the units.
-    """
-    settings = plan.settings
-    alternative = plan.metrics[index].alternative
-    for _ in range(6):
-        made = sequential.row_design(settings, row.alpha, row.power, alternative, designs, day)
-        units = _totals(settings, fixed * made.inflation)
-        needed = _days_of(settings, fixed * made.inflation)
-        if needed <= day:
-            break
-        day = needed
-    return units, day, made
-
-
-def _column(values: list, dtype: type = float) -> np.ndarray:
-    return np.array(values, dtype=dtype)
 
 
 def _solve_group(plan: Plan, key: tuple, members: list[int],
@@ -212,15 +158,15 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
     kind, method, alternative, solved, has_sd = key
     metrics = [plan.metrics[index] for index in members]
     rows = [pending[index] for index in members]
-    baseline = _column([metric.baseline for metric in metrics])
-    alpha = _column([row.alpha for row in rows])
-    power = _column([row.power for row in rows])
+    baseline = column([metric.baseline for metric in metrics])
+    alpha = column([row.alpha for row in rows])
+    power = column([row.power for row in rows])
     sd, own = kinds.unit_sds(metrics)  # a ratio's or quantile's sd, from its own inputs
     common = dict(
         sd=None if sd is None else np.where(own == "", sd, 1.0), alternative=alternative,
         ratio=treatment_ratio(plan.settings), method=method,
-        relative=_column([metric.relative for metric in metrics], bool),
-        margin=_column([metric.margin for metric in metrics]),
+        relative=column([metric.relative for metric in metrics], bool),
+        margin=column([metric.margin for metric in metrics]),
     )
     values, reasons = _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common)
     return np.where(own == "", values, np.nan), np.where(own == "", reasons, own)
@@ -228,12 +174,12 @@ def _solve_group(plan: Plan, key: tuple, members: list[int],
 
 def _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common):
     """The engine's values and reasons for a group (see :func:`_solve_group`)."""
-    effect = _column([metric.effect for metric in metrics])
+    effect = column([metric.effect for metric in metrics])
     if solved in ("detectable_effect", "detectable_margin"):
         if solved == "detectable_margin":
             common = dict(common, effect=effect)
-        n_effective = _column([row.n_effective for row in rows])
-        inflation = _column([sequential.inflation(row.staged) for row in rows])
+        n_effective = column([row.n_effective for row in rows])
+        inflation = column([sequential.inflation(row.staged) for row in rows])
         values, reasons = engine.values_and_reasons(solved, kind, baseline,
                                                     n=n_effective / inflation, alpha=alpha,
                                                     power=power, **common)
@@ -242,7 +188,7 @@ def _engine_call(solved, kind, baseline, metrics, rows, alpha, power, common):
                                     power=power, **common)
             reasons = np.where(first != "", first, reasons)
         return values, reasons
-    n_effective = None if solved == "sample_size" else _column([row.n_effective for row in rows])
+    n_effective = None if solved == "sample_size" else column([row.n_effective for row in rows])
     return engine.values_and_reasons(solved, kind, baseline, effect=effect, n=n_effective,
                                      alpha=alpha, power=power, **common)
 
@@ -254,14 +200,20 @@ def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int
     With ``at_duration``, rows that wait for the plan's duration (:func:`waits_for_duration`)
     take its units and days.
     """
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):  # as Python's floats
+        _solve_rows(plan, designs, alphas, missing, results, at_duration)
+
+
+def _solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int],
+                results: list, at_duration: AtDuration | None) -> None:
     settings = plan.settings
     metrics = plan.metrics
     todo = [metrics[index] for index in missing]
     factors = engine.variance_factor(
-        _column([metric.rho for metric in todo]),
-        _column([metric.cluster_size for metric in todo]),
-        _column([metric.icc for metric in todo]),
-        _column([metric.cluster_cv for metric in todo]),
+        column([metric.rho for metric in todo]),
+        column([metric.cluster_size for metric in todo]),
+        column([metric.icc for metric in todo]),
+        column([metric.cluster_cv for metric in todo]),
     )
     pending: dict[int, _Pending] = {}
     groups: dict[tuple, list[int]] = {}
@@ -275,118 +227,34 @@ def solve_rows(plan: Plan, designs: dict, alphas: list[float], missing: list[int
                kinds.has_sd(metric))
         groups.setdefault(key, []).append(index)
 
-    solved_rows, fixed = [], {}
+    parts = []
     for key, members in groups.items():
         values, reasons = _solve_group(plan, key, members, pending)
-        for index, value, reason in zip(members, values.tolist(), reasons.tolist(),
-                                        strict=True):
-            row = pending[index]
-            fixed[index] = value * row.factor  # the fixed design's units (sample-size rows)
-            outcome = _solved_row(plan.metrics[index], row, value, str(reason), settings)
-            if isinstance(outcome, RowResult):
-                results[index] = outcome
-            else:
-                solved_rows.append((index, outcome))
-
-    if solved_rows:
-        _finish_rows(plan, solved_rows, pending, results, at_duration, (fixed, designs))
-
-
-def _finish_rows(plan: Plan, solved_rows: list, pending: dict[int, _Pending], results: list,
-                 at_duration: AtDuration | None, weekly: tuple[dict, dict]) -> None:
-    """Days (one engine call for all rows) and the sequential fields of the solved rows;
-    ``weekly`` holds the fixed design's units per row and the evaluation's designs, for
-    looks at week ends."""
-    settings = plan.settings
-    totals = _column([outcome[2] for _, outcome in solved_rows])
-    if settings.runtime_days is not None:
-        days = [float(settings.runtime_days)] * len(solved_rows)
-    elif not traffic.has_traffic(settings):
-        days = [math.nan] * len(solved_rows)
-    else:
-        days = np.asarray(traffic.days_for(settings, totals)).tolist()
-    weeks = settings.looks > 1 and settings.whole_weeks and settings.runtime_days is None
-    for (index, outcome), day in zip(solved_rows, days, strict=True):
-        row = pending[index]
-        staged = row.staged
-        if row.at_duration:
-            day = at_duration.days
-        if settings.daily_units is not None and not math.isfinite(day):  # 1e-320 a day
-            why = f"needs more days than can be counted at {settings.daily_units:g} daily units"
-            results[index] = _failed(row.solved, row.factor, outcome[6], outcome[5], why)
-            continue
-        if weeks and row.solved == "sample_size" and math.isfinite(day):
-            units, day, staged = _on_week_ends(plan, index, row, weekly[0][index], day,
-                                               weekly[1])
-            outcome = (*units, *outcome[3:])
-        units_total = outcome[2]
-        if row.solved == "sample_size" and math.isnan(day) and traffic.has_traffic(settings):
-            results[index] = _failed(row.solved, row.factor, row.alpha, row.power,
-                                     traffic.unknown_text(settings, units_total))
-            continue
-        results[index] = RowResult(*outcome[:3], day, *outcome[3:7], "", row.solved, row.factor,
-                                   *sequential.row_fields(staged, units_total, day, settings),
-                                   *outcome[7:])
-
-
-def _solved_row(metric: Metric, row: _Pending, value: float, reason: str,
-                settings: Settings) -> RowResult | tuple:
-    """A failed :class:`RowResult`, or the row's units, effect, power and α (days to come)."""
-    solved, factor = row.solved, row.factor
-    shown_alpha = math.nan if solved == "significance_level" else row.alpha
-    shown_power = math.nan if solved == "power" else row.power
-    if reason:
-        return _failed(solved, factor, shown_alpha, shown_power, reason)
-    n_control, effect, power, alpha = row.n_control, metric.effect, row.power, row.alpha
-    margin = metric.margin
-    if solved == "sample_size":
-        n_control = value * (factor * sequential.inflation(row.staged))
-    elif solved == "detectable_effect":
-        effect = value
-    elif solved == "detectable_margin":
-        margin = value
-    elif solved == "power":
-        power = value
-        if row.staged is not None:
-            power = sequential.power_of(row.staged, power)
-    else:
-        alpha = value
-    if math.isfinite(value) and not math.isfinite(
-            n_control * (1 + settings.arms * treatment_ratio(settings))):
-        return _failed(solved, factor, shown_alpha, shown_power, "needs more units than can be "
-                       "counted" + (f" (variance factor {factor:g})" if factor != 1 else ""))
-    if not all(math.isfinite(number) for number in (n_control, effect, power, alpha, margin)):
-        return _failed(solved, factor, shown_alpha, shown_power,
-                       f"the engine found no finite {solved.replace('_', ' ')} for this row")
-    return (*_totals(settings, n_control), *_both(metric, effect), power, alpha,
-            *_both(metric, margin))
-
-
-def _both(metric: Metric, value: float) -> tuple[float, float]:
-    """An effect or margin in the row's units as (difference, fraction of the baseline)."""
-    if metric.relative:
-        return float(value * metric.baseline), float(value)
-    return float(value), (float(value / metric.baseline) if metric.baseline != 0 else math.nan)
-
-
+        part = Solved.of_group(settings, key[3], [metrics[index] for index in members],
+                               [pending[index] for index in members], members, values,
+                               reasons.tolist(), results)
+        if part is not None:
+            parts.append(part)
+    if parts:
+        finish(settings, Solved.joined(parts), results, at_duration, designs)
 
 
 def without_duration(row: RowResult) -> RowResult:
     """``row`` as not computed because the plan, being incomplete, has no duration."""
     solved = row.solved
-    return _failed(solved, row.design_factor,
-                   math.nan if solved == "significance_level" else row.alpha,
-                   math.nan if solved == "power" else row.power,
-                   "the plan is incomplete, so it has no duration to solve for "
+    return failed(solved, row.design_factor,
+                  math.nan if solved == "significance_level" else row.alpha,
+                  math.nan if solved == "power" else row.power,
+                  "the plan is incomplete, so it has no duration to solve for "
                    + solved.replace("_", " ") + " at")
 
 
 def not_settled(row: RowResult, reason: str) -> RowResult:
     """``row`` as not computed because the duration its figures depend on does not settle."""
     solved = row.solved
-    return _failed(solved, row.design_factor,
-                   math.nan if solved == "significance_level" else row.alpha,
-                   math.nan if solved == "power" else row.power, reason)
+    return failed(solved, row.design_factor,
+                  math.nan if solved == "significance_level" else row.alpha,
+                  math.nan if solved == "power" else row.power, reason)
 
 
 def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: AtDuration,
@@ -411,23 +279,39 @@ def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: A
         chosen = [rows[index] for index in members]
         sd, own = kinds.unit_sds(metrics)
         values, reasons = engine.values_and_reasons(
-            "power", kind, _column([metric.baseline for metric in metrics]),
-            effect=_column([row.effect_abs for row in chosen]),
-            n=at.units / _column([row.design_factor for row in chosen]),
+            "power", kind, column([metric.baseline for metric in metrics]),
+            effect=column([row.effect_abs for row in chosen]),
+            n=at.units / column([row.design_factor for row in chosen]),
             sd=None if sd is None else np.where(own == "", sd, 1.0),
-            alpha=_column([row.alpha for row in chosen]), alternative=alternative,
+            alpha=column([row.alpha for row in chosen]), alternative=alternative,
             ratio=treatment_ratio(settings), relative=False,
-            margin=_column([row.margin_abs for row in chosen]), method=method)
+            margin=column([row.margin_abs for row in chosen]), method=method)
         reasons = np.where(own == "", reasons, own)
-        for index, metric, row, value, reason in zip(members, metrics, chosen, values.tolist(),
-                                                     reasons.tolist(), strict=True):
-            if reason:
-                continue
-            target = settings.power if metric.power is None else metric.power
-            try:
-                staged = sequential.row_design(settings, row.alpha, target, alternative, designs,
-                                               at.days)
-            except ValueError:
-                continue
-            powers[index] = value if staged is None else sequential.power_of(staged, value)
+        found = [(index, metric, row, value) for index, metric, row, value, reason
+                 in zip(members, metrics, chosen, values.tolist(), reasons.tolist(),
+                        strict=True) if not reason]
+        if settings.looks > 1:
+            _through_looks(settings, alternative, found, powers, at.days, designs)
+        else:
+            for index, _, _, value in found:
+                powers[index] = value
     return [powers[index] for index in indices]
+
+
+def _through_looks(settings: Settings, alternative: str, found: list, powers: dict,
+                   days: float, designs: dict) -> None:
+    """The powers of rows' fixed designs (``found``: index, metric, result, power) as the
+    powers of their group sequential designs, into ``powers``: one design's boundaries per
+    α and power (a row whose design cannot be made has no power)."""
+    boundaries: dict[tuple[float, float], object] = {}
+    for index, metric, row, value in found:
+        key = (row.alpha, settings.power if metric.power is None else metric.power)
+        staged = boundaries.get(key)
+        if staged is None:
+            try:
+                staged = sequential.row_boundaries(settings, *key, alternative, designs, days)
+            except ValueError as error:
+                staged = error
+            boundaries[key] = staged
+        if not isinstance(staged, ValueError):
+            powers[index] = sequential.power_of(staged, value)

@@ -32,7 +32,7 @@ import numpy as np
 from scipy.special import ndtri
 
 from fourfold.engine import sequential
-from fourfold.engine.sequential import SequentialDesign
+from fourfold.engine.sequential import Boundaries, SequentialDesign
 from fourfold.plan import traffic
 
 FUTILITY_FAMILY = {
@@ -86,10 +86,12 @@ def row_design(settings, alpha: float, power: float, alternative: str,
                designs: dict | None = None, days: float = math.nan) -> SequentialDesign | None:
     """The group sequential design of a row, or ``None`` for a fixed design (one look).
 
-    ``designs`` may be a dict the caller keeps for one evaluation, so that rows sharing α,
-    power, sidedness and the timing of their looks share one design ("greater" and "less"
-    have the same boundaries). ``days`` is the row's run, for looks at week ends
-    (:func:`week_timing`).
+    ``designs`` may be a dict the caller keeps for one evaluation (or for every evaluation at
+    one plan's settings: a row cache's), so that rows sharing α, power, sidedness and the
+    timing of their looks share one design ("greater" and "less" have the same boundaries).
+    ``days`` is the row's run, for looks at week ends (:func:`week_timing`). The dict also
+    remembers the design by these arguments themselves, so that the rows of a large plan,
+    which share a few of them, do not work out the timing of their looks one by one.
 
     Raises
     ------
@@ -105,16 +107,70 @@ def row_design(settings, alpha: float, power: float, alternative: str,
     >>> row_design(Settings(), 0.05, 0.8, "two-sided") is None
     True
     """
+    return _remembered(settings, alpha, power, alternative, designs, days, whole=True)
+
+
+def row_boundaries(settings, alpha: float, power: float, alternative: str, designs: dict,
+                   days: float = math.nan) -> SequentialDesign | Boundaries | None:
+    """What :func:`power_of` needs of a row's design (``None`` for a fixed design): the
+    boundaries of :func:`row_design`'s design, without the search for the drift that gives
+    the design its power and inflation (most of a design's cost), unless the design has a
+    futility bound (which that search places) or ``designs`` holds the design already.
+
+    Raises
+    ------
+    ValueError
+        When the design is impossible (as :func:`row_design`).
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Settings
+    >>> settings, designs = Settings(looks=3), {}
+    >>> bare = row_boundaries(settings, 0.05, 0.8, "less", designs)
+    >>> made = row_design(settings, 0.05, 0.8, "greater")
+    >>> type(bare).__name__, power_of(bare, 0.7) == power_of(made, 0.7)
+    ('Boundaries', True)
+    """
+    if settings.futility:
+        return row_design(settings, alpha, power, alternative, designs, days)
+    return _remembered(settings, alpha, power, alternative, designs, days, whole=False)
+
+
+def _remembered(settings, alpha: float, power: float, alternative: str, designs: dict | None,
+                days: float, whole: bool) -> SequentialDesign | Boundaries | None:
+    """:func:`row_design` (``whole``) or :func:`row_boundaries`."""
     if settings.looks <= 1:
         return None
-    timing = week_timing(settings, days)
-    key = (float(alpha), float(power), alternative == "two-sided", timing)
-    if designs is not None and key in designs:
-        return designs[key]
-    made = shared_design(settings.looks, settings.spending, bool(settings.futility), *key)
-    if designs is not None:
-        designs[key] = made
+    make = shared_design if whole else shared_boundaries
+    if designs is None:
+        return make(settings.looks, settings.spending, bool(settings.futility),
+                    *_key(settings, alpha, power, alternative, days))
+    asked = ("design" if whole else "boundaries", alpha, power, alternative,
+             _days_key(settings, days))
+    made = designs.get(asked)
+    if made is None:
+        key = _key(settings, alpha, power, alternative, days)
+        made = designs.get(key)
+        if made is None:
+            made = make(settings.looks, settings.spending, bool(settings.futility), *key)
+            if whole:
+                designs[key] = made
+        designs[asked] = made
     return made
+
+
+def _key(settings, alpha: float, power: float, alternative: str, days: float) -> tuple:
+    """What a row's design is made of, besides the plan's looks, spending and futility."""
+    return (float(alpha), float(power), alternative == "two-sided", week_timing(settings, days))
+
+
+def _days_key(settings, days: float) -> float | None:
+    """What of a row's ``days`` its looks' timing depends on: the days themselves in a plan
+    of whole weeks, where the looks fall at week ends (``math.nan`` for any day not known,
+    so that it is one key), else nothing."""
+    if not settings.whole_weeks:
+        return None
+    return days if math.isfinite(days) else math.nan
 
 
 @functools.lru_cache(maxsize=4096)
@@ -142,12 +198,28 @@ def shared_design(looks: int, spending: str, futility: bool, alpha: float, power
     )
 
 
+@functools.lru_cache(maxsize=4096)
+def shared_boundaries(looks: int, spending: str, futility: bool, alpha: float, power: float,
+                      two_sided: bool, timing: tuple[float, ...] | None) -> Boundaries:
+    """The boundaries of :func:`shared_design`'s design without futility (``futility`` is
+    false), made once for every evaluation that asks for them.
+
+    Raises
+    ------
+    ValueError
+        When the design is impossible (failed boundaries are not remembered).
+    """
+    return sequential.boundaries(looks, alpha=alpha, power=power,
+                                 alternative="two-sided" if two_sided else "greater",
+                                 spending=spending, timing=timing)
+
+
 def inflation(made: SequentialDesign | None) -> float:
     """Maximum units ÷ fixed-design units (1 for a fixed design)."""
     return 1.0 if made is None else made.inflation
 
 
-def power_of(made: SequentialDesign, fixed_power: float) -> float:
+def power_of(made: SequentialDesign | Boundaries, fixed_power: float) -> float:
     """Power of the boundaries at a size where a fixed design would reach ``fixed_power``.
 
     The fixed design's drift there is z₁₋α/₂ + Φ⁻¹(fixed_power) (one-sided: z₁₋α).
@@ -162,7 +234,7 @@ def power_of(made: SequentialDesign, fixed_power: float) -> float:
 
 
 @functools.lru_cache(maxsize=65536)
-def _power_of(made: SequentialDesign, fixed_power: float) -> float:
+def _power_of(made: SequentialDesign | Boundaries, fixed_power: float) -> float:
     """:func:`power_of`, remembered: rows of one design at one size ask for it again after
     every edit of another row (a design is hashed as the object it is)."""
     side = made.alpha / 2.0 if made.alternative == "two-sided" else made.alpha
@@ -192,29 +264,54 @@ def look_days(made: SequentialDesign, days: float,
     return tuple(_ceil(t * days) for t in made.fractions[:-1]) + (float(days),)
 
 
-def row_fields(made: SequentialDesign | None, units_total: float, days: float,
-               settings=None) -> tuple[float, float, float, tuple[float, ...] | None]:
-    """``(units_max, units_expected_h1, days_expected_h1, look_days)`` of a computed row.
+def rows_fields(staged: list, units_total: np.ndarray, days: np.ndarray, settings,
+                designs: dict) -> tuple[list, list, list, list]:
+    """``(units_max, units_expected_h1, days_expected_h1, look_days)`` of computed rows, one
+    list each.
 
-    ``units_total`` and ``days`` are the row's maximum; a fixed design returns them unchanged.
-    ``settings`` give the traffic model for the look days (:func:`look_days`).
+    ``staged`` holds each row's design (``None``: fixed), ``units_total`` and ``days`` its
+    maximum; a fixed design's row keeps them unchanged. ``settings`` give the traffic model
+    for the look days (:func:`look_days`). A design's look days and expected days at a run of
+    some days are worked out once and kept in ``designs``, the evaluation's dict of designs
+    (:func:`row_design`), for every row of that design and run.
 
     Examples
     --------
+    >>> from fourfold.plan.model import Settings
     >>> made = sequential.design(4, spending="obrien-fleming")
-    >>> units, expected, expected_days, looks = row_fields(made, 10_000.0, 28.0)
+    >>> units, expected, expected_days, looks = rows_fields(
+    ...     [made, None], np.array([10_000.0, 500.0]), np.array([28.0, 7.0]), Settings(), {})
     >>> units, looks
-    (10000.0, (7.0, 14.0, 21.0, 28.0))
-    >>> bool(expected < units and expected_days < 28.0)
-    True
+    ([10000.0, 500.0], [(7.0, 14.0, 21.0, 28.0), None])
+    >>> bool(expected[0] < units[0] and expected_days[0] < 28.0), expected[1], expected_days[1]
+    (True, 500.0, 7.0)
     """
-    if made is None:
-        return units_total, units_total, days, None
-    share = made.expected_h1 / made.inflation
-    expected_units = _ceil(units_total * share) if math.isfinite(units_total) else math.nan
+    units = np.asarray(units_total, dtype=float)
+    expected_days = np.asarray(days, dtype=float).tolist()
+    looks: list = [None] * len(staged)
+    share = np.ones(units.shape)
+    staged_rows = np.zeros(units.shape, dtype=bool)
+    for index, (made, day) in enumerate(zip(staged, expected_days, strict=True)):
+        if made is not None:
+            key = ("looks", made, day if math.isfinite(day) else math.nan)
+            found = designs.get(key)
+            if found is None:
+                found = designs[key] = _look_fields(made, day, settings)
+            share[index], looks[index], expected_days[index] = found
+            staged_rows[index] = True
+    with np.errstate(invalid="ignore", over="ignore"):
+        scaled = units * share
+        rounded = np.ceil(scaled - 1e-9 * np.maximum(1.0, np.abs(scaled)))
+    expected = np.where(staged_rows, np.where(np.isfinite(units), rounded, np.nan), units)
+    return units.tolist(), expected.tolist(), expected_days, looks
+
+
+def _look_fields(made: SequentialDesign, days: float, settings) -> tuple:
+    """A design's share of its maximum expected under H1, its look days at a run of
+    ``days`` and the days expected under H1."""
     looks = look_days(made, days, settings)
     expected_days = math.nan if looks is None else _ceil(float(np.dot(made.stop_h1, looks)))
-    return units_total, expected_units, expected_days, looks
+    return made.expected_h1 / made.inflation, looks, expected_days
 
 
 def peeking_text(looks: int, alpha: float) -> str:
@@ -254,9 +351,12 @@ def plan_notes(plan, rows, designs: dict | None = None) -> tuple[str, ...]:
             f"{made.expected_h1 / made.inflation * 100:.0f} % of them on average."
         )
         break
-    short = [plan.metrics[index].name for index, row in enumerate(rows)
-             if settings.whole_weeks and not row.reason and week_timing(settings, row.days) is None
-             and math.isfinite(row.days)]
+    short = []
+    if settings.whole_weeks:  # each run of days looked at once, however many rows it has
+        runs = {row.days for row in rows if not row.reason and math.isfinite(row.days)}
+        equal = {days for days in runs if week_timing(settings, days) is None}
+        short = [plan.metrics[index].name for index, row in enumerate(rows)
+                 if not row.reason and row.days in equal]
     if short:
         names = ", ".join(short) if len(short) <= 3 else f"{len(short)} rows"
         notes.append(f"Fewer whole weeks than looks ({names}): those looks are equally spaced, "
