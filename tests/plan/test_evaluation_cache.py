@@ -6,6 +6,9 @@ changed by replacing its row, two rows swapped, a row's inputs copied onto anoth
 share one result), rows inserted and removed, a row override of α, the plan's correction; and,
 as the command stack makes them, assignments to a row in place: a cell, a name (no input), a
 role (which moves every primary row's α) and a row that comes to wait for the plan's duration.
+The same edits are made on plans whose rows follow their history windows, and with the cache
+told the rows edited in place (as the window's document tells it), where the rows it reports
+as moved must hold every row whose result or power at the duration changed.
 """
 
 import dataclasses
@@ -14,10 +17,11 @@ import math
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from fourfold.plan import Plan, load, sample_path
+from fourfold.plan import Plan, load, sample_path, scenarios
 from fourfold.plan.comparison import Caches, outcomes
 from fourfold.plan.evaluation import RowCache, compute
 from fourfold.plan.model import Scenario
+from fourfold.plan.windows import follows, uses_windows
 
 INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alternative",
           "margin", "power", "rho", "cluster_size", "icc", "cluster_cv", "solve", "n")
@@ -36,7 +40,9 @@ def _same(a, b) -> bool:
     return a == b or both_nan
 
 
-def _apply(plan: Plan, edit: tuple) -> None:
+def _apply(plan: Plan, edit: tuple) -> list[int] | None:
+    """Make ``edit``; the rows it assigned to in place (what the command stack reports for a
+    cell edit), ``None`` for any other edit."""
     what, first, second, scale = edit
     metrics = plan.metrics
     first, second = first % len(metrics), second % len(metrics)
@@ -65,6 +71,9 @@ def _apply(plan: Plan, edit: tuple) -> None:
         metrics[first].role = "secondary" if metrics[first].role == "primary" else "primary"
     elif what == "waits":
         metrics[first].solve, metrics[first].n = "power", None
+    else:
+        return None
+    return [first] if what in ("in_place", "rename", "role", "waits") else None
 
 
 EDITS = st.tuples(
@@ -131,7 +140,6 @@ def test_caches_that_share_a_pool_give_each_plan_its_own_results(edits):
 
 def test_a_row_shown_alike_in_several_scenarios_is_solved_once(monkeypatch):
     from fourfold.plan import rows as plan_rows
-    from fourfold.plan import scenarios
 
     plan = _plan(6)
     ids = [metric.id for metric in plan.metrics]
@@ -163,3 +171,53 @@ def test_an_evaluation_without_powers_leaves_the_cache_right_for_the_next():
     assert quick.duration_days == fresh.duration_days
     assert all(math.isnan(power) for power in quick.duration_powers)
     _same_result(compute(plan, cache=cache), fresh)
+
+
+def _windowed_plan(rows: int) -> Plan:
+    """The sample's returning-visitors scenario (five of its seven rows follow their history
+    windows, on a reach curve), its rows repeated to ``rows``."""
+    sample = load(sample_path())
+    name = next(scenario.name for scenario in sample.scenarios if "reach" in scenario.settings)
+    shown = scenarios.effective(sample, name)
+    metrics = [dataclasses.replace(shown.metrics[i % len(shown.metrics)], name=f"Metric {i}",
+                                   n=30_000.0 + i if i % 7 == 3 else None)
+               for i in range(rows)]
+    return Plan(shown.settings, metrics)
+
+
+def _differs(a, b) -> bool:
+    return any(not _same(getattr(a, f.name), getattr(b, f.name)) for f in dataclasses.fields(a))
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(EDITS, min_size=1, max_size=6), st.booleans(), st.booleans())
+def test_a_cache_told_the_rows_edited_in_place_gives_the_same_results(edits, told, windowed):
+    plan = _windowed_plan(14) if windowed else _plan(18)
+    assert uses_windows(plan) == windowed
+    cache = RowCache()
+    before = compute(plan, cache=cache)
+    for edit in edits:
+        edited = _apply(plan, edit)
+        cached = compute(plan, cache=cache, edited=edited if told else None)
+        fresh = compute(plan)
+        _same_result(cached, fresh)
+        for name in ("total_units", "binding_name", "notes", "incomplete"):
+            assert _same(getattr(cached, name), getattr(fresh, name)), (edit, name)
+        if cache.moved is not None and len(before.rows) == len(cached.rows):
+            changed = {index for index, (a, b) in enumerate(zip(before.rows, cached.rows,
+                                                                strict=True)) if _differs(a, b)}
+            changed |= {index for index, (a, b) in enumerate(zip(
+                before.duration_powers, cached.duration_powers, strict=True)) if not _same(a, b)}
+            assert changed <= cache.moved, edit
+        before = cached
+
+
+def test_an_edit_in_place_of_a_row_beside_rows_that_follow_their_windows_is_seen():
+    # The rows that follow their windows are evaluated in rounds, each with the plan at that
+    # round's days; a row edited in place must be solved again all the same.
+    plan, cache = _windowed_plan(7), RowCache()
+    compute(plan, cache=cache)
+    row = next(index for index, metric in enumerate(plan.metrics)
+               if not follows(metric) and metric.kind == "mean")
+    plan.metrics[row].sd *= 2
+    _same_result(compute(plan, cache=cache), compute(plan))

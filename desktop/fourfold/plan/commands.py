@@ -220,7 +220,7 @@ class SetFields(Command):
     def apply(self, plan: Plan) -> Change:
         count = len(plan.metrics)
         added = [validate_metric(metric) for metric in self.append]  # fresh copies each time
-        new = self._planned(plan, plan.metrics + added)
+        new = self._planned(plan, plan.metrics + added if added else plan.metrics)
         check_edits(plan, added, new, {(row, field) for row, field, _ in self.edits})
         self._ids = _identified(plan, added, self._ids)
         self._count = count

@@ -123,10 +123,13 @@ class Caches:
             del self.caches[name]
 
 
-def outcome(plan: Plan, name: str | None, cache: RowCache | None = None) -> Outcome:
-    """Evaluate scenario ``name`` of ``plan`` (``None``: the base)."""
+def outcome(plan: Plan, name: str | None, cache: RowCache | None = None, *,
+            edited: list[int] | None = None) -> Outcome:
+    """Evaluate scenario ``name`` of ``plan`` (``None``: the base); ``edited``: the rows of
+    the scenario's plan edited in place since ``cache`` last saw it, when known
+    (:func:`fourfold.plan.evaluation.compute`)."""
     resolved = scenarios.resolve(plan, name)
-    result = compute(resolved.plan, cache=cache)
+    result = compute(resolved.plan, cache=cache, edited=edited)
     return Outcome(name, scenarios.BASE if name is None else name, resolved.plan, result,
                    resolved.problems, complete(resolved.plan, result))
 

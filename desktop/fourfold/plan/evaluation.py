@@ -132,21 +132,38 @@ _metric_columns = _columns(_FRAME_METRIC_FIELDS)
 _result_columns = _columns(_RESULT_FIELDS)
 
 
-def _evaluate_rows(plan: Plan, designs: dict, cache: RowCache | None = None,
-                   dirty: list[int] | None = None) -> tuple[tuple[RowResult, ...], list]:
+def _evaluate_rows(plan: Plan, designs: dict, cache: RowCache | None = None
+                   ) -> tuple[list[RowResult], list[int]]:
     """Every row of the plan, with one engine call per group of rows that share a solve, and
     the rows whose key changed (all of them without a cache).
 
-    Rows found in ``cache`` are reused; the cache is left holding this plan's rows. ``dirty``
-    (from :meth:`RowCache.sync`) names the only rows that may have changed; ``None``: any.
+    Rows found in ``cache`` are reused; the cache is left holding this plan's rows, and the
+    list returned is its own (copy it before changing it). Only the rows the cache has not
+    keyed since they changed (:meth:`RowCache.take_unkeyed`, synced with this plan) may differ
+    from its keys.
     """
     metrics = plan.metrics
+    dirty = None if cache is None else cache.take_unkeyed()
     if not metrics:
-        return (), []
+        return [], []
     if cache is None:
         results: list[RowResult | None] = [None] * len(metrics)
         solve_rows(plan, designs, row_alphas(plan), range(len(metrics)), results)
-        return tuple(results), list(range(len(metrics)))
+        return results, list(range(len(metrics)))
+    try:
+        return _evaluate_cached(plan, designs, cache, dirty)
+    except BaseException:
+        # the cache's lists are changed in place: one left half done is not to be trusted
+        cache.keys, cache.results, cache.unkeyed = [], [], None
+        raise
+
+
+def _evaluate_cached(plan: Plan, designs: dict, cache: RowCache, dirty: list[int] | None
+                     ) -> tuple[list[RowResult], list[int]]:
+    """:func:`_evaluate_rows` with a cache (``dirty``: the rows not keyed since they changed;
+    ``None``: any row). The cache's α, keys and results change in place: an edit of one row
+    of a large plan copies none of them."""
+    metrics = plan.metrics
     primaries = int(np.count_nonzero(cache.primary))
     if dirty is None or primaries != cache.primaries or len(cache.keys) != len(metrics):
         alphas = row_alphas(plan, primaries=primaries)
@@ -154,19 +171,21 @@ def _evaluate_rows(plan: Plan, designs: dict, cache: RowCache | None = None,
         if len(keys) == len(cache.keys):  # an edit in place: look up only the rows that differ
             changed = [index for index, (key, before)
                        in enumerate(zip(keys, cache.keys, strict=True)) if key != before]
-            results = list(cache.results)
+            old, results = [cache.keys[index] for index in changed], cache.results
         else:
-            changed = list(range(len(keys)))
-            results = [None] * len(keys)
+            changed, old, results = list(range(len(keys))), None, [None] * len(keys)
+        cache.alphas, cache.keys = alphas, keys
     else:  # only the rows in ``dirty`` may differ, and no other row's α moved
-        alphas, keys, results = list(cache.alphas), list(cache.keys), list(cache.results)
-        changed = []
+        alphas, keys, results = cache.alphas, cache.keys, cache.results
+        changed, old = [], []
         for index, alpha in zip(dirty, row_alphas(plan, dirty, primaries), strict=True):
             alphas[index] = alpha
             key = (alpha, row_inputs(metrics[index]))
             if key != keys[index]:
+                old.append(keys[index])
                 keys[index] = key
                 changed.append(index)
+    cache.primaries = primaries
     missing = []
     for index in changed:
         results[index] = cache.rows.get(keys[index])
@@ -178,22 +197,21 @@ def _evaluate_rows(plan: Plan, designs: dict, cache: RowCache | None = None,
         solve_rows(plan, designs, alphas, missing, results)
         if cache.shared is not None:
             cache.lend(keys, missing, results)
-    _remember(cache, keys, changed, results)
-    cache.alphas, cache.primaries = alphas, primaries
-    return tuple(results), changed
+    _remember(cache, keys, changed, old, results)
+    return results, changed
 
 
-def _remember(cache: RowCache, keys: list, changed: list, results: list) -> None:
+def _remember(cache: RowCache, keys: list, changed: list, old: list | None,
+              results: list) -> None:
     """Leave ``cache`` holding exactly the rows of this evaluation.
 
     Rows with the same inputs share one result, now and next time; only the rows in
-    ``changed`` (all of them when the number of rows changed) are looked at.
+    ``changed``, whose keys were ``old`` (``None``: every row is new), are looked at.
     """
-    if len(changed) == len(keys):
+    if old is None:
         cache.rows, cache.uses = {}, {}
     else:
-        for index in changed:
-            before = cache.keys[index]
+        for before in old:
             left = cache.uses[before] - 1
             if left:
                 cache.uses[before] = left
@@ -203,10 +221,11 @@ def _remember(cache: RowCache, keys: list, changed: list, results: list) -> None
         key = keys[index]
         results[index] = cache.rows.setdefault(key, results[index])
         cache.uses[key] = cache.uses.get(key, 0) + 1
-    cache.keys, cache.results = keys, tuple(results)
+    cache.keys, cache.results = keys, results
 
 
-def compute(plan: Plan, *, cache: RowCache | None = None, powers: bool = True) -> PlanResult:
+def compute(plan: Plan, *, cache: RowCache | None = None, powers: bool = True,
+            edited: list[int] | None = None) -> PlanResult:
     """Evaluate every metric row of a plan and the plan's duration.
 
     Parameters
@@ -219,6 +238,10 @@ def compute(plan: Plan, *, cache: RowCache | None = None, powers: bool = True) -
     powers : bool
         Also each row's power at the plan's duration (``duration_powers``); ``False`` leaves
         them ``nan``, for a caller that reads only the duration and the rows.
+    edited : list of int, optional
+        With ``cache``: the rows assigned to in place since the cache last saw the plan, when
+        the caller knows them (the window's command stack reports them), so that the cache
+        looks at those rows only (:meth:`RowCache.sync`). ``None``: it looks at every row.
 
     Returns
     -------
@@ -239,8 +262,13 @@ def compute(plan: Plan, *, cache: RowCache | None = None, powers: bool = True) -
     if cache is None:
         return (_settle(plan, None, powers) if windows.uses_windows(plan)
                 else _compute(plan, None, powers=powers))
-    dirty = cache.sync(plan)
+    cache.start()
+    cache.sync(plan, edited)
     if cache.follows.any():
+        if edited is not None:
+            cache.sync(plan)  # the fixed point's rounds left other rows' stamps behind
+        # what the rounds give differs from the latest result in ways the cache does not note
+        cache.moved, cache.plain = None, False
         if not powers:
             return _settle(plan, cache, powers)
         settings, rows = cache.settings, cache.stamps.copy()
@@ -250,7 +278,8 @@ def compute(plan: Plan, *, cache: RowCache | None = None, powers: bool = True) -
         result = _settle(plan, cache, powers)
         cache.settled = (settings, rows, result)
         return result
-    return _compute(plan, cache, dirty, powers)
+    cache.plain = True
+    return _compute(plan, cache, powers, synced=True)
 
 
 def _settle(plan: Plan, cache: RowCache | None, powers: bool) -> PlanResult:
@@ -258,7 +287,7 @@ def _settle(plan: Plan, cache: RowCache | None, powers: bool) -> PlanResult:
     (:mod:`fourfold.plan.windows`)."""
     runtime = plan.settings.runtime_days
     if runtime is not None:
-        result = _compute(windows.at_days(plan, runtime), cache, powers=powers)
+        result = _compute(windows.at_days(plan, runtime), cache, powers)
         return dataclasses.replace(result, window_days=float(runtime), notes=(
             *result.notes, *windows.notes(plan, runtime, "the fixed runtime")))
     days = windows.start(plan)
@@ -266,7 +295,7 @@ def _settle(plan: Plan, cache: RowCache | None, powers: bool) -> PlanResult:
     found: list[float] = []
     for _ in range(windows.MAX_ROUNDS):
         shown = windows.at_days(plan, days)
-        result = _compute(shown, cache, powers=powers)
+        result = _compute(shown, cache, powers)
         duration = result.duration_days
         if duration is None or windows.is_settled(days, duration):
             why = ("the plan's duration" if duration is not None else
@@ -284,7 +313,7 @@ def _settle(plan: Plan, cache: RowCache | None, powers: bool) -> PlanResult:
     bracket = windows.bracket(tried, found)
     while bracket is not None and (days := windows.between(*bracket, step)) is not None:
         shown = windows.at_days(plan, days)
-        result = _compute(shown, cache, powers=powers)
+        result = _compute(shown, cache, powers)
         duration = result.duration_days
         if duration is None or windows.is_settled(days, duration):
             return dataclasses.replace(result, window_days=days, notes=(
@@ -316,42 +345,71 @@ class _Summary:
     def __init__(self, plan: Plan, designs: dict, cache: RowCache | None) -> None:
         self.plan, self.designs, self.cache = plan, designs, cache
 
-    def __call__(self, rows, waiting: np.ndarray | None = None) -> PlanResult:
+    def __call__(self, rows, waiting: np.ndarray | None = None, fresh=((),)) -> PlanResult:
+        """The summary of ``rows``; ``fresh``: lists of the rows whose results were replaced
+        since the last call."""
         rows = tuple(rows)
-        facts = (RowFacts(self.plan.metrics, rows) if self.cache is None
-                 else self.cache.summary_facts(self.plan, rows))
+        if self.cache is None:
+            facts = RowFacts(self.plan.metrics, rows)
+        else:
+            self.cache.mark(*fresh)
+            facts = self.cache.summary_facts(self.plan, rows)
+            self.cache.summarised = rows
         return summarise(self.plan, rows, facts, self.designs, waiting)
 
 
-def _compute(plan: Plan, cache: RowCache | None, dirty: list[int] | None = None,
-             powers: bool = True) -> PlanResult:
-    """:func:`compute` of a plan whose rows' figures are fixed (``dirty``: the rows
-    :meth:`RowCache.sync` found changed, when the caller has synced the cache already)."""
+def _compute(plan: Plan, cache: RowCache | None, powers: bool = True,
+             synced: bool = False) -> PlanResult:
+    """:func:`compute` of a plan whose rows' figures are fixed (``synced``: the caller has
+    synced the cache with ``plan`` already)."""
     if cache is None:
         designs: dict = {}
         waits = np.array([waits_for_duration(plan.settings, metric) for metric in plan.metrics],
                          dtype=bool)
     else:
-        if dirty is None:
-            dirty = cache.sync(plan)
+        if not synced:
+            cache.sync(plan)
         designs, waits = cache.designs, cache.waits
-    rows, changed = _evaluate_rows(plan, designs, cache, dirty)
-    rows = list(rows)
-    summary = _Summary(plan, designs, cache)
-    result = summary(rows, waits)
-    at = _at_duration(plan, result)
+    base, changed = _evaluate_rows(plan, designs, cache)
+    rows, fresh = base, (changed,)
     waiting = np.flatnonzero(waits).tolist()
+    held = None if cache is None or not waiting else cache.take_held()
+    if waiting:  # solved at the duration below; the cache keeps their results before it
+        if held is not None and len(cache.summarised) == len(base):
+            # the rows as last summarised: the waiting rows as they were made then (at the
+            # duration, say), the rows whose keys changed as they are now
+            rows = list(cache.summarised)
+            for index in changed:
+                rows[index] = base[index]
+        else:
+            rows, fresh, held = list(base), (changed, waiting), _BEFORE
+    summary = _Summary(plan, designs, cache)
+    result = summary(rows, waits, fresh=fresh)
+    at = _at_duration(plan, result)
     if waiting:
         alphas = cache.alphas if cache is not None else row_alphas(plan)
-        result = _solve_waiting(plan, rows, designs, alphas, waiting, result, at, summary)
+        redo = waiting if cache is None else [index for index in changed if waits[index]]
+        result, held = _solve_waiting(plan, (base, rows), designs, alphas, (waiting, redo),
+                                      held, result, at, summary)
         at = at if result.status == "complete" else None
-    found = (math.nan,) * len(rows)
+        if cache is not None:
+            cache.held = held
+    found, where, solved = (math.nan,) * len(rows), None, None
     if not powers:
         if cache is not None:
             cache.powers_at = None  # the rows changed now are not in the kept powers
     elif at is not None and rows:
-        found = _duration_powers(plan, result.rows, at, designs, cache, changed)
+        found, solved = _duration_powers(plan, result.rows, at, designs, cache, changed)
+        where = _where(at)
+    if cache is not None:
+        cache.note_powers(found, where, solved)
     return dataclasses.replace(result, duration_powers=found)
+
+
+def _where(at: AtDuration) -> tuple:
+    """The units and days of ``at`` as a key (days ``None`` without traffic: nan equals
+    nothing, not even itself)."""
+    return at.units, at.days if math.isfinite(at.days) else None
 
 
 def _at_duration(plan: Plan, result: PlanResult) -> AtDuration | None:
@@ -370,44 +428,59 @@ def _at_duration(plan: Plan, result: PlanResult) -> AtDuration | None:
     return AtDuration(runtime_units(dataclasses.replace(settings, runtime_days=days)), days)
 
 
-def _solve_waiting(plan: Plan, rows: list, designs: dict, alphas: list[float],
-                   waiting: list[int], result: PlanResult, at: AtDuration | None,
-                   summary: _Summary) -> PlanResult:
-    """Solve the rows without units of their own at the plan's duration, then summarise.
+_BEFORE, _WITHOUT = ("before",), ("without",)
+"""What the waiting rows of a list of rows hold: their results before the duration, or
+without one (the plan is incomplete); ``("at", units, days)``: solved at that duration."""
 
-    Without a duration they stay not computed; when one of them leaves the plan incomplete,
-    the others lose the duration they were solved at too.
+
+def _solve_waiting(plan: Plan, lists: tuple[list, list], designs: dict, alphas: list[float],
+                   todo: tuple[list[int], list[int]], held: tuple, result: PlanResult,
+                   at: AtDuration | None, summary: _Summary) -> tuple[PlanResult, tuple | None]:
+    """Solve the rows without units of their own at the plan's duration, then summarise; the
+    final result and what its waiting rows hold (``None``: not known).
+
+    ``lists``: the rows' results before the duration and the rows summarised, whose waiting
+    rows hold ``held``; ``todo``: the waiting rows and those of them that changed (only they
+    are made again when the waiting rows are to hold what they hold). Without a duration they
+    stay not computed; when one of them leaves the plan incomplete, the others lose the
+    duration they were solved at too.
     """
+    base, rows = lists
+    waiting, changed = todo
+    target = ("at", *_where(at)) if at is not None else _WITHOUT if result.incomplete else _BEFORE
+    redo = changed if held == target else waiting
     if at is not None:
-        solve_rows(plan, designs, alphas, waiting, rows, at)
-    elif result.incomplete:
-        for index in waiting:
-            rows[index] = without_duration(rows[index])
-    final = summary(rows)
+        solve_rows(plan, designs, alphas, redo, rows, at)
+    else:
+        for index in redo:
+            rows[index] = without_duration(base[index]) if target is _WITHOUT else base[index]
+    final = summary(rows, fresh=(redo,))
     if at is not None and final.incomplete:
         for index in waiting:
             if not rows[index].reason:
                 rows[index] = without_duration(rows[index])
-        final = summary(rows)
-    return final
+        return summary(rows, fresh=(waiting,)), None
+    return final, target
 
 
 def _duration_powers(plan: Plan, rows: tuple[RowResult, ...], at: AtDuration, designs: dict,
-                     cache: RowCache | None, changed: list[int]) -> tuple[float, ...]:
-    """Each row's power at the plan's duration; with a cache, only the rows whose key
-    changed (``changed``) are solved again while the duration's units and days stay."""
-    where = (at.units, at.days)
+                     cache: RowCache | None, changed: list[int]
+                     ) -> tuple[tuple[float, ...], list[int] | None]:
+    """Each row's power at the plan's duration, and the rows solved again (``None``: all);
+    with a cache, only the rows whose key changed (``changed``) are solved again while the
+    duration's units and days stay."""
+    where = _where(at)
     if cache is not None and cache.powers_at == where and len(cache.powers) == len(rows):
-        powers, missing = list(cache.powers), changed
+        powers, missing, solved = cache.powers, changed, changed  # changed in place
     else:
-        powers, missing = [math.nan] * len(rows), range(len(rows))
+        powers, missing, solved = [math.nan] * len(rows), range(len(rows)), None
     if missing:
         for index, power in zip(missing, powers_at(plan, rows, list(missing), at, designs),
                                 strict=True):
             powers[index] = power
     if cache is not None:
         cache.powers, cache.powers_at = powers, where
-    return tuple(powers)
+    return tuple(powers), solved
 
 
 def evaluate(plan: Plan) -> pandas.DataFrame:

@@ -13,11 +13,21 @@ those they were computed with (``tests/plan/test_evaluation_cache.py`` holds the
 under random edits, in place and by replacement). The caches of one document's scenarios share
 a pool of results by settings and key, so that a base row several scenarios show alike is
 solved once for all of them.
+
+What changed is kept as sets of row indices, each emptied by the step that reads it:
+:attr:`RowCache.unkeyed` (rows whose key is to be built again), :attr:`RowCache.unread` (rows
+the summary's facts are to read again) and :attr:`RowCache.moved` (rows whose inputs, result
+or power at the duration may differ from the latest result ``compute`` returned: what a table
+repaints). ``None`` in any of them means every row. A caller that knows which rows were
+assigned to since the cache last saw the plan (the window's command stack reports them) passes
+them to :meth:`RowCache.sync`, which then reads only those rows' stamps; without them it reads
+every row's, which also finds rows replaced, added, removed or reordered.
 """
 
 from __future__ import annotations
 
 import operator
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -72,7 +82,7 @@ class RowCache:
     designs: dict = field(default_factory=dict)
     keys: list = field(default_factory=list)
     """The latest evaluation's row keys, in the plan's order."""
-    results: tuple = ()
+    results: list = field(default_factory=list)
     """The latest evaluation's row results, in the plan's order."""
     uses: dict = field(default_factory=dict)
     """How many rows of the latest evaluation have each key of ``rows``."""
@@ -100,42 +110,119 @@ class RowCache:
     """``(settings key, row stamps, result)`` of the latest plan whose rows follow their
     history windows: the same result again for the same settings and rows (the fixed point's
     rounds, which sync the cache with their own plans, are not run again)."""
+    unkeyed: set | None = None
+    """Rows whose inputs changed since their keys were last built (``None``: every row)."""
+    unread: set | None = None
+    """Rows whose inputs or result changed since the summary's facts last read them."""
+    moved: set | None = None
+    """Rows whose inputs, result or power at the duration may differ from the latest result
+    :func:`~fourfold.plan.evaluation.compute` returned with this cache (``None``: any row)."""
+    shown_powers: tuple = ()
+    """The powers at the duration of the latest evaluation (for :meth:`note_powers`)."""
+    shown_at: tuple | None = None
+    """The units and days those powers are at (``None``: not computed, all ``nan``)."""
+    summarised: tuple = ()
+    """The rows the summary's facts last read (the latest evaluation's, at its duration)."""
+    held: tuple | None = None
+    """What the rows waiting for the duration hold in :attr:`summarised` (their results
+    before the duration, without one, or at a duration; ``None``: not known)."""
+    plain: bool = False
+    """Whether the latest result came from one evaluation of the plan's rows as they are (not
+    from the rounds of rows that follow their history windows)."""
 
-    def sync(self, plan: Plan) -> list[int] | None:
-        """Note the rows of ``plan`` that changed since the last call: their indices, or
-        ``None`` when every row is to be read again (new settings, rows added or removed)."""
+    def sync(self, plan: Plan, edited: Iterable[int] | None = None) -> None:
+        """Note the rows of ``plan`` that changed since the last call in :attr:`unkeyed`,
+        :attr:`unread` and :attr:`moved` (every row for new settings or rows added or removed).
+
+        ``edited``: the rows assigned to since the last call, when the caller knows them (the
+        rows of the command stack's cell edits); only their stamps are read. ``None``: every
+        row's stamp is read, which also finds rows replaced or reordered.
+        """
         settings = settings_key(plan.settings)
         if settings != self.settings:
             shared = self.shared
             self.__init__()
             self.settings, self.shared = settings, shared
         metrics = plan.metrics
-        now = stamps(metrics)
-        if self.stamps is None or now.size != self.stamps.size:
-            changed = None
+        size = len(metrics)
+        if edited is not None:
+            edited = sorted(set(edited))
+            if edited and not 0 <= edited[0] <= edited[-1] < size:
+                edited = None
+        if self.stamps is None or size != self.stamps.size:
+            self.stamps = stamps(metrics)
             self.primary = np.array([metric.role == "primary" for metric in metrics], dtype=bool)
             self.waits = np.array([waits_for_duration(plan.settings, metric)
                                    for metric in metrics], dtype=bool)
             self.follows = np.array([windows.follows(metric) for metric in metrics],
                                     dtype=bool)
-        else:
+            self.unkeyed = self.unread = self.moved = None
+            return
+        if edited is None:
+            now = stamps(metrics)
             changed = np.flatnonzero(now != self.stamps).tolist()
-            for index in changed:
-                metric = metrics[index]
-                self.primary[index] = metric.role == "primary"
-                self.waits[index] = waits_for_duration(plan.settings, metric)
-                self.follows[index] = windows.follows(metric)
-        self.stamps = now
-        return changed
+            self.stamps = now
+        else:
+            changed = [index for index in edited if metrics[index].stamp != self.stamps[index]]
+        for index in changed:
+            metric = metrics[index]
+            self.stamps[index] = metric.stamp
+            self.primary[index] = metric.role == "primary"
+            self.waits[index] = waits_for_duration(plan.settings, metric)
+            self.follows[index] = windows.follows(metric)
+        if self.unkeyed is not None:
+            self.unkeyed.update(changed)
+        self.mark(changed)
+
+    def mark(self, *rows: Iterable[int]) -> None:
+        """Note the rows of each of ``rows`` as changed for the summary's facts and in
+        :attr:`moved`."""
+        for found in (self.unread, self.moved):
+            if found is not None:
+                found.update(*rows)
+
+    def take_held(self) -> tuple | None:
+        """:attr:`held`, not known from now on (until an evaluation sets it again)."""
+        found, self.held = self.held, None
+        return found
+
+    def take_unkeyed(self) -> list[int] | None:
+        """The rows whose keys are to be built again, ascending (``None``: every row); from
+        now on none."""
+        found, self.unkeyed = self.unkeyed, set()
+        return None if found is None else sorted(found)
 
     def summary_facts(self, plan: Plan, rows) -> RowFacts:
         """The summary's :class:`RowFacts` of ``rows`` (of the plan last synced), read again
-        where they changed."""
-        if self.facts is None:
+        where they changed (:attr:`unread`)."""
+        if self.facts is None or self.unread is None or self.facts.size != len(rows):
             self.facts = RowFacts(plan.metrics, rows)
         else:
-            self.facts.reread(plan.metrics, rows, self.stamps)
+            self.facts.reread(plan.metrics, rows, sorted(self.unread))
+        self.unread = set()
         return self.facts
+
+    def note_powers(self, powers: tuple, at: tuple | None, solved: Iterable[int] | None) -> None:
+        """Note in :attr:`moved` the rows whose power at the duration differs from the latest
+        evaluation's: only rows in ``solved`` (the powers solved again) while the duration
+        ``at`` (units and days; ``None``: no powers) stays; otherwise every row whose power
+        differs (``nan`` equal to ``nan``)."""
+        before = self.shown_powers
+        if at is not None and at == self.shown_at and solved is not None:
+            self.mark(solved)
+        elif at is None and self.shown_at is None and len(before) == len(powers):
+            pass  # all nan, before and now
+        elif len(before) == len(powers):
+            old, new = np.array(before, dtype=float), np.array(powers, dtype=float)
+            self.mark(np.flatnonzero((old != new) & ~(np.isnan(old) & np.isnan(new))).tolist())
+        else:
+            self.moved = None
+        self.shown_powers, self.shown_at = powers, at
+
+    def start(self) -> None:
+        """Begin an evaluation's record of :attr:`moved` (what differs from the latest result):
+        empty, or every row when there is no latest result it can be told from."""
+        self.moved = set() if self.stamps is not None and self.plain else None
 
     def borrow(self, keys: list, missing: list[int], results: list) -> list[int]:
         """Fill ``results`` at ``missing`` from the shared pool; the indices still missing."""

@@ -3,9 +3,12 @@
 :func:`summarise` reads the rows through :class:`RowFacts`, the few numbers of each row it
 needs (role, whether it was computed, whether it solved for sample size, days, units, its
 quantile caution) kept as arrays. An open document keeps one :class:`RowFacts` in its row cache
-and refreshes only the rows that changed, so that an edit of one row of a large plan does not
-read every row again; without a cache the facts are read afresh. The rules are those of
-:mod:`fourfold.plan.evaluation` (binding metric, runtime, incomplete plans).
+and refreshes only the rows that changed (the cache names them), so that an edit of one row of
+a large plan does not read every row again; without a cache the facts are read afresh. The
+notes that name a row (not computed, a secondary row that needs more, a quantile's caution) are
+kept with the facts (:class:`RowTexts`) and their lists made again only when one of them or the
+rows they are of change. The rules are those of :mod:`fourfold.plan.evaluation` (binding
+metric, runtime, incomplete plans).
 
 References
 ----------
@@ -39,6 +42,56 @@ def stamps(metrics) -> np.ndarray:
     return np.fromiter(map(_STAMP, metrics), np.int64, len(metrics))
 
 
+class RowTexts:
+    """Texts of some rows (a note each), and their list for a set of rows, made again only
+    when a text or the set changes: a plan with thousands of notes does not write them out
+    again on an edit of one row.
+
+    Examples
+    --------
+    >>> texts = RowTexts()
+    >>> texts.put(3, "c"); texts.put(1, "a")
+    >>> texts.listed(np.array([1, 3])), texts.listed()
+    (['a', 'c'], ['a', 'c'])
+    """
+
+    def __init__(self) -> None:
+        self.texts: dict[int, object] = {}
+        self.version = 0
+        self._listed: tuple = (None, -1, [])
+
+    def put(self, index: int, text) -> None:
+        """Give row ``index`` its text (``None``: none)."""
+        if text is None:
+            if self.texts.pop(index, None) is not None:
+                self.version += 1
+        elif self.texts.get(index) != text:
+            self.texts[index] = text
+            self.version += 1
+
+    def clear(self) -> None:
+        """Forget every row's text."""
+        if self.texts:
+            self.texts = {}
+            self.version += 1
+
+    def listed(self, indices: np.ndarray | None = None, make=None) -> list:
+        """The texts of the rows at ``indices`` (ascending; ``None``: every row with a text),
+        in order; ``make(index)`` gives a row's missing text."""
+        kept, version, found = self._listed
+        if version == self.version and (indices is None if kept is None else
+                                        indices is not None and np.array_equal(kept, indices)):
+            return found
+        chosen = sorted(self.texts) if indices is None else indices.tolist()
+        if make is not None:
+            for index in chosen:
+                if index not in self.texts:
+                    self.put(index, make(index))
+        found = [self.texts[index] for index in chosen]
+        self._listed = (indices, self.version, found)
+        return found
+
+
 class RowFacts:
     """What :func:`summarise` reads of each row, as arrays in the plan's order.
 
@@ -59,35 +112,36 @@ class RowFacts:
     """
 
     def __init__(self, metrics, rows) -> None:
-        self._allocate(0)
-        self.reread(metrics, rows, stamps(metrics))
-
-    def _allocate(self, size: int) -> None:
-        self.role = np.full(size, -1, dtype=np.int8)
-        self.asks_units = np.zeros(size, dtype=bool)
+        self.role = np.full(len(rows), -1, dtype=np.int8)
+        self.asks_units = np.zeros(len(rows), dtype=bool)
         """The row's own ``solve`` is the sample size (what a fixed runtime replaces)."""
-        self.failed = np.zeros(size, dtype=bool)
-        self.sample = np.zeros(size, dtype=bool)
+        self.failed = np.zeros(len(rows), dtype=bool)
+        self.sample = np.zeros(len(rows), dtype=bool)
         """The row solved for sample size."""
-        self.days = np.zeros(size)
+        self.days = np.zeros(len(rows))
         """Days, 0 where not known (what the binding row's choice counts)."""
-        self.units = np.zeros(size)
-        self.tails: dict[int, str] = {}
-        self.rows: tuple[RowResult, ...] = ()
-        self.stamps = np.full(size, -1, dtype=np.int64)
+        self.units = np.zeros(len(rows))
+        self.tails = RowTexts()
+        """Quantile rows' cautions (:func:`fourfold.plan.kinds.tail_note`)."""
+        self.failures = RowTexts()
+        """Rows not computed: a note each (what the summary says of them)."""
+        self.unfinished = RowTexts()
+        """Rows not computed: their :class:`~fourfold.plan.results.Unfinished`."""
+        self.gaps = RowTexts()
+        """Secondary rows that need more than the plan gives: a note each, for :attr:`gaps_at`."""
+        self.gaps_at: tuple | None = None
+        self.reread(metrics, rows, range(len(rows)))
 
-    def reread(self, metrics, rows, now: np.ndarray) -> None:
-        """Read again the rows whose metric or result changed since the facts were read
-        (``now``: the metrics' :func:`stamps`)."""
-        if now.size != self.role.size:
-            self._allocate(now.size)
-            changed = range(now.size)
-        else:
-            moved = np.fromiter(map(operator.is_not, rows, self.rows), bool, len(rows))
-            changed = np.flatnonzero(moved | (now != self.stamps)).tolist()
-        for index in changed:
+    @property
+    def size(self) -> int:
+        """The number of rows."""
+        return self.role.size
+
+    def reread(self, metrics, rows, indices) -> None:
+        """Read again the rows at ``indices``: those whose metric or result changed since the
+        facts read them (a row cache names them: its ``unread``)."""
+        for index in indices:
             self._read(index, metrics[index], rows[index])
-        self.rows, self.stamps = tuple(rows), now
 
     def _read(self, index: int, metric, row: RowResult) -> None:
         self.role[index] = _ROLES.get(metric.role, -1)
@@ -97,14 +151,39 @@ class RowFacts:
         self.days[index] = 0.0 if math.isnan(row.days) else row.days
         self.units[index] = row.units_total
         note = kinds.tail_note(metric, row)
-        if note is None:
-            self.tails.pop(index, None)
-        else:
-            self.tails[index] = note
+        if note is not None or index in self.tails.texts:
+            self.tails.put(index, note)
+        reason = row.reason
+        if reason:
+            self.failures.put(index, f"{metric.name}: not computed — {reason}.")
+            self.unfinished.put(index, Unfinished(index, metric.name, reason))
+        elif index in self.failures.texts:
+            self.failures.put(index, None)
+            self.unfinished.put(index, None)
+        if index in self.gaps.texts:
+            self.gaps.put(index, None)
 
     def tail_notes(self) -> list[str]:
         """The quantile rows' cautions (:func:`fourfold.plan.kinds.tail_note`), in order."""
-        return [self.tails[index] for index in sorted(self.tails)]
+        return self.tails.listed()
+
+    def gap_notes(self, metrics, rows, indices: np.ndarray, duration: float,
+                  total: float) -> list[str]:
+        """The notes of the secondary rows at ``indices``, which need more than the plan's
+        ``duration`` (days; nan: none) or ``total`` units give."""
+        if self.gaps_at != (duration, total):
+            self.gaps.clear()
+            self.gaps_at = (duration, total)
+
+        def gap(index: int) -> str:
+            metric, row = metrics[index], rows[index]
+            if math.isfinite(duration):
+                need = f"{row.days:g} days for its power; the test runs {duration:g}"
+            else:
+                need = f"{row.units_total:,.0f} units for its power; the test has {total:,.0f}"
+            return f"{metric.name} (secondary) would need {need}."
+
+        return self.gaps.listed(indices, gap)
 
 
 def _binding(deciding: np.ndarray, facts: RowFacts) -> int:
@@ -139,12 +218,10 @@ def summarise(plan: Plan, rows: tuple[RowResult, ...], facts: RowFacts,
     notes.extend(sequential.plan_notes(plan, rows, designs))
     notes.extend(facts.tail_notes())
     counted = np.ones(len(rows), dtype=bool) if waiting is None else ~waiting
-    unfinished = []
-    for index in np.flatnonzero(facts.failed & counted).tolist():
-        metric, reason = metrics[index], rows[index].reason
-        notes.append(f"{metric.name}: not computed — {reason}.")
-        if metric.role in DECIDING_ROLES:
-            unfinished.append(Unfinished(index, metric.name, reason))
+    failed = facts.failed & counted
+    notes.extend(facts.failures.listed(np.flatnonzero(failed)))
+    deciding = (facts.role == _PRIMARY) | (facts.role == _ROLES["guardrail"])
+    unfinished = facts.unfinished.listed(np.flatnonzero(failed & deciding))
     if unfinished:
         roles = "primary or guardrail row" if len(unfinished) == 1 else "primary or guardrail rows"
         notes.insert(0, f"Incomplete plan: {len(unfinished)} {roles} cannot be computed, so the "
@@ -163,8 +240,7 @@ def summarise(plan: Plan, rows: tuple[RowResult, ...], facts: RowFacts,
         return PlanResult(rows, float(settings.runtime_days), total, None, None, tuple(notes))
 
     solved = facts.sample & ~facts.failed & counted
-    deciding = np.flatnonzero(solved & ((facts.role == _PRIMARY)
-                                        | (facts.role == _ROLES["guardrail"])))
+    deciding = np.flatnonzero(solved & deciding)
     if not deciding.size:
         notes.append("No primary or guardrail row solves for sample size: nothing sets the "
                      "duration.")
@@ -177,13 +253,7 @@ def summarise(plan: Plan, rows: tuple[RowResult, ...], facts: RowFacts,
     duration = rows[binding].days
     total = rows[binding].units_total
     secondary = np.flatnonzero(solved & (facts.role == _SECONDARY) & (facts.units > total))
-    for index in secondary.tolist():
-        metric, row = metrics[index], rows[index]
-        if math.isfinite(duration):
-            gap = f"{row.days:g} days for its power; the test runs {duration:g}"
-        else:
-            gap = f"{row.units_total:,.0f} units for its power; the test has {total:,.0f}"
-        notes.append(f"{metric.name} (secondary) would need {gap}.")
+    notes.extend(facts.gap_notes(metrics, rows, secondary, duration, total))
     notes.extend(traffic_notes(settings, duration, total))
     return PlanResult(rows, None if math.isnan(duration) else duration, total, binding, name,
                       tuple(notes))

@@ -11,6 +11,11 @@ A recompute evaluates the scenario on show; the base and the other scenarios, ea
 cache of its own, are evaluated when first asked for after it (:attr:`PlanDocument.outcomes`,
 :meth:`PlanDocument.outcome`: the comparison view, the overlays, the summary's difference from
 the base), so that the table is painted before they are.
+
+An edit in place (the stack's ``"cells"`` changes) names its rows; the document hands them to
+the shown scenario's row cache, which then looks at those rows only, and after the recompute
+:meth:`PlanDocument.changed_rows` names the rows whose inputs, result or power at the duration
+changed, for the table to repaint (any other change: every row).
 """
 
 from __future__ import annotations
@@ -80,6 +85,9 @@ class PlanDocument(QObject):
         self._unsaved = False
         self._caches = Caches()
         self._outcomes: dict[str | None, Outcome] = {}
+        self._edited: set[int] | None = None  # rows edited in place since the last recompute
+        self._moved: list[int] | None = None
+        self._shown_cache = None
         self.stack = CommandStack(plan)
         self.stack.subscribe(self._on_change)
         self.path = pathlib.Path(path) if path is not None else None
@@ -167,6 +175,10 @@ class PlanDocument(QObject):
             self.stack.redo()
 
     def _on_change(self, change) -> None:
+        if change.kind == "cells" and not change.settings and self._edited is not None:
+            self._edited.update(change.rows)
+        else:
+            self._edited = None
         self.changed.emit(change)
         self.history.emit()
         if not self._timer.isActive():
@@ -176,26 +188,35 @@ class PlanDocument(QObject):
         """The result of the scenario on show (the others wait until asked for)."""
         whole = self.stack.plan
         self._outcomes = {}
+        edited, self._edited = self._edited, set()
+        names = [None, *(scenario.name for scenario in whole.scenarios)]
+        self._caches.keep(names)
+        cache = self._caches.get(whole.active)
         try:
-            if whole.scenarios:
-                names = {None, *(scenario.name for scenario in whole.scenarios)}
-                self._caches.keep(names)
-                shown = self._evaluated(whole.active)
-                result = shown.result
-            else:
-                self._caches.keep([None])
-                result = outcome(whole, None, self._caches.get(None)).result
+            result = self._evaluated(whole.active, edited).result
         except FourfoldError as error:
             self.compute_error = str(error)
+            self._edited, self._moved, self._shown_cache = None, None, None
             return None
         self.compute_error = ""
+        self._moved = (sorted(cache.moved) if cache is self._shown_cache
+                       and cache.moved is not None else None)
+        self._shown_cache = cache
         return result
 
-    def _evaluated(self, name: str | None) -> Outcome:
+    def _evaluated(self, name: str | None, edited: set[int] | None = None) -> Outcome:
         found = self._outcomes.get(name)
         if found is None:
-            found = self._outcomes[name] = outcome(self.stack.plan, name, self._caches.get(name))
+            found = self._outcomes[name] = outcome(
+                self.stack.plan, name, self._caches.get(name),
+                edited=None if edited is None else sorted(edited))
         return found
+
+    def changed_rows(self) -> list[int] | None:
+        """The rows of the plan shown whose inputs, result or power at the duration the latest
+        recompute changed, ascending (``None``: any row — after a change other than cells
+        edited in place, a switch of scenario or a failed recompute)."""
+        return self._moved
 
     def outcome(self, name: str | None) -> Outcome | None:
         """Scenario ``name`` (``None``: the base) as of the latest recompute, evaluated on first

@@ -74,6 +74,7 @@ class SummaryBar(QFrame):
         self.setObjectName("summaryBar")
         self.document = document
         self._equal_cache = RowCache()
+        self._shown_notes: tuple | None = None
         layout = QHBoxLayout(self)
         layout.setContentsMargins(12, 6, 12, 6)
         layout.setSpacing(28)
@@ -161,6 +162,7 @@ class SummaryBar(QFrame):
             self.units.setText("")
             self.binding.setText("")
             self.notes.setText("")
+            self._shown_notes = None
             return
         self._notes(result)
         if result.incomplete:
@@ -215,6 +217,9 @@ class SummaryBar(QFrame):
         self.layout().setStretchFactor(self.duration, 1 if wide else 0)
 
     def _notes(self, result) -> None:
+        if result.notes == self._shown_notes:
+            return  # the same notes (thousands, on a large plan) are not written out again
+        self._shown_notes = result.notes
         count = len(result.notes)
         self.notes.setText(f"{count} note{'s' if count != 1 else ''} (hover)" if count else "")
         items = "".join(f"<li>{html.escape(note, quote=False)}</li>" for note in result.notes)

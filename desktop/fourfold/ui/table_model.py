@@ -78,7 +78,8 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
     def __init__(self, document: PlanDocument, parent=None) -> None:
         super().__init__(parent)
         self.document = document
-        self._rows = list(document.plan.metrics)
+        self._source = document.plan.metrics  # the plan's list of rows that _rows copies
+        self._rows = list(self._source)
         self._results = self._result_rows()
         self._binding = self._binding_index()
         self._tints = theme.tints()
@@ -103,11 +104,15 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
     def columnCount(self, parent=QModelIndex()) -> int:  # noqa: B008 - Qt's signature
         return 0 if parent.isValid() else len(COLUMNS)
 
-    def _result_rows(self) -> list:
+    def _result_rows(self):
         """The document's row results in table order; their powers at the plan's duration go
         to ``_row_powers``, in the same order (a row's power moves with its result when rows
-        move before the next recompute)."""
+        move before the next recompute). The result's own tuples when they fit the rows (a
+        change of rows makes them lists, :meth:`_on_change`)."""
         result = self.document.result
+        if result is not None and len(result.rows) == len(self._rows):
+            self._row_powers = result.duration_powers
+            return result.rows
         rows = list(result.rows) if result is not None else []
         powers = list(result.duration_powers) if result is not None else []
         missing = len(self._rows) - len(rows)
@@ -126,7 +131,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
 
     def _reset_rows(self) -> None:
         self.beginResetModel()
-        self._rows = list(self.document.plan.metrics)
+        self._follow_rows()
         self._results = self._result_rows()
         self._binding = self._binding_index()
         self._cache.clear()
@@ -142,6 +147,8 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
             self._touched = None
             self._cache.clear()
         metrics = self.document.plan.metrics
+        if kind in ("rows_inserted", "rows_removed", "rows_moved"):
+            self._results, self._row_powers = list(self._results), list(self._row_powers)
         if kind == "rows_inserted":
             for first, last in change.blocks():
                 self.beginInsertRows(QModelIndex(), first, last)
@@ -173,7 +180,18 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         elif kind == "reset" or len(metrics) != len(self._rows):
             self._reset_rows()
             return
-        self._rows = list(metrics)
+        self._follow_rows(change.rows if kind == "cells" else None)
+
+    def _follow_rows(self, edited=None) -> None:
+        """Take the plan's rows: only those ``edited`` in place while the plan's list of rows
+        is the one taken last (an edit of one row of a large plan copies no list), all of
+        them otherwise."""
+        metrics = self.document.plan.metrics
+        if edited is not None and metrics is self._source:
+            for row in edited:
+                self._rows[row] = metrics[row]
+        else:
+            self._rows, self._source = list(metrics), metrics
 
     def _reorder(self, order) -> None:
         """Follow a permutation of the rows; persistent indexes (selection, current) follow."""
@@ -201,7 +219,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
             self._reset_rows()
             return
         old, old_powers = self._results, self._row_powers
-        self._rows = list(self.document.plan.metrics)
+        self._follow_rows(())
         self._results = self._result_rows()
         binding = self._binding_index()
         if not self._rows:
@@ -213,18 +231,22 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
             first = 0
             self._cache.clear()
         else:
-            # the document's row cache hands back the same RowResult for an unchanged row; a
-            # row is changed too when its power at the plan's duration is (nan equal to nan)
-            size = len(self._rows)
-            moved = np.fromiter(map(operator.is_not, old, self._results), bool, size)
-            before, after = np.array(old_powers, dtype=float), np.array(self._row_powers,
-                                                                      dtype=float)
-            moved |= (before != after) & ~(np.isnan(before) & np.isnan(after))
-            touched.update(np.flatnonzero(moved).tolist())
+            moved = self.document.changed_rows()
+            if moved is None:
+                # the document's row cache hands back the same RowResult for an unchanged
+                # row; a row is changed too when its power at the plan's duration is (nan
+                # equal to nan)
+                size = len(self._rows)
+                found = np.fromiter(map(operator.is_not, old, self._results), bool, size)
+                before, after = np.array(old_powers, dtype=float), np.array(self._row_powers,
+                                                                          dtype=float)
+                found |= (before != after) & ~(np.isnan(before) & np.isnan(after))
+                moved = np.flatnonzero(found).tolist()
+            touched.update(moved)
             if not touched:
                 return
             first, last = min(touched), max(touched)
-            self._forget(range(first, last + 1))
+            self._forget(touched)
         self.dataChanged.emit(self.index(first, 0), self.index(last, len(COLUMNS) - 1))
         if binding != self._binding:
             self.headerDataChanged.emit(Qt.Orientation.Vertical, 0, len(self._rows) - 1)

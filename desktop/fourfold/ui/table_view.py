@@ -98,6 +98,7 @@ class PlanTableView(QTableView):
         self.setSortingEnabled(True)
         header.sortIndicatorChanged.connect(self._sorted)
         self._sort_state: tuple | None = None
+        self._sort_checked = False  # the snapshot held after a recompute: check what it changed
         self._unfitted: set[int] = set()  # columns not sized since the last fit_columns
         # rows shown before the first fit, or while a fit sizes the rows, are measured by it
         self._measuring = True
@@ -192,15 +193,29 @@ class PlanTableView(QTableView):
             self._sort_state = None
             return
         self._sort_state = (column, self._sort_snapshot(column))
+        self._sort_checked = False
         if self.currentIndex().isValid():
             self.scrollTo(self.currentIndex())
 
     def _check_sort(self) -> None:
-        """Clear the indicator once the rows or the sorted column's values have changed."""
+        """Clear the indicator once the rows or the sorted column's values have changed.
+
+        Once the rows held after a recompute, only the rows the next recompute changed are
+        looked at (all of them after a change other than cells edited in place): an edit of a
+        sorted large plan does not read every row.
+        """
         if self._sort_state is None:
             return
-        column, snapshot = self._sort_state
-        if self._sort_snapshot(column) != snapshot:
+        column, (ids, keys) = self._sort_state
+        model = self.plan_model()
+        rows = model.document.changed_rows()
+        if rows is None or not self._sort_checked or len(ids) != model.rowCount():
+            kept = self._sort_snapshot(column) == (ids, keys)
+            self._sort_checked = True
+        else:
+            kept = all(id(model.metric(row)) == ids[row] and model.sort_key(row, column)
+                       == keys[row] for row in rows)
+        if not kept:
             self.horizontalHeader().setSortIndicator(-1, Qt.SortOrder.AscendingOrder)
 
     def fit_columns(self) -> None:
