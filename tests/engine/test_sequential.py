@@ -309,6 +309,17 @@ def test_power_at_against_bivariate_normal():
     assert power_at(d, 2.0) == pytest.approx(_two_look_probabilities(0.4, c1, c2, 2.0), abs=1e-7)
 
 
+@pytest.mark.parametrize("futility", [None, "ld-pocock"])
+@pytest.mark.parametrize("looks", [2, 5])
+def test_power_at_is_a_probability_at_any_drift(looks, futility):
+    # A power is at most 1 (a probability; common practice, no source): the grid's sum of
+    # crossing probabilities overshoots 1 by about 1e-8 at large drifts and is capped.
+    d = design(looks, futility=futility)
+    powers = [power_at(d, x) for x in np.linspace(3.0, 40.0, 75)]
+    assert max(powers) <= 1.0
+    assert powers[-1] == 1.0
+
+
 @pytest.mark.parametrize("drift", [math.nan, math.inf, "far"])
 def test_power_at_rejects_bad_drift(drift):
     with pytest.raises(ValueError, match="drift"):

@@ -235,3 +235,23 @@ def test_csv_export_loads_neither_qt_nor_pandas(tmp_path):
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                           check=True)
     assert done.stdout.strip() == "[]"
+
+
+def test_the_exported_power_at_the_duration_is_a_probability_with_interim_looks(tmp_path):
+    """The sample plan with three interim looks, exported through the command line: every
+    row's power at the duration is at most 1 (a probability; common practice, no source). The
+    group sequential grid's sum of crossings overshot 1 by ~4e-8 for rows far past their
+    needed size before powers were capped."""
+    from fourfold.plan import save
+
+    sample = load(sample_path())
+    path = tmp_path / "three-looks.json"
+    save(dataclasses.replace(sample, settings=dataclasses.replace(sample.settings, looks=3)),
+         path)
+    done = subprocess.run([sys.executable, "-m", "fourfold", "export", str(path), "-o",
+                           str(tmp_path / "plan.csv")], capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
+    with open(tmp_path / "plan.csv", encoding="utf-8-sig", newline="") as handle:
+        powers = [float(row["power_at_duration_frac"]) for row in csv.DictReader(handle)]
+    assert len(powers) == len(sample.metrics)
+    assert max(powers) == 1.0
