@@ -21,6 +21,7 @@ Examples
 from __future__ import annotations
 
 import math
+import operator
 import os
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -169,14 +170,47 @@ def _row_lines(found: list[Outcome], positions: list[dict[str, int]], row_id: st
     ]
 
 
-def comparison_lines(found: list[Outcome]) -> list[Line]:
+def comparison_lines(found: list[Outcome], kept: dict | None = None) -> list[Line]:
     """The comparison's lines for evaluated scenarios (base first, as
-    :func:`fourfold.plan.comparison.outcomes` gives them)."""
+    :func:`fourfold.plan.comparison.outcomes` gives them).
+
+    ``kept``: a dictionary the caller keeps between calls (the window's comparison view): a
+    metric row's lines are made again only when its label, or in some scenario its row, the
+    row's stamp, its result or the scenario's completeness, is not what it was; otherwise the
+    same :class:`Line` objects come back.
+
+    Examples
+    --------
+    >>> from fourfold.plan import load, sample_path
+    >>> from fourfold.plan.comparison import outcomes
+    >>> found, kept = outcomes(load(sample_path())), {}
+    >>> first = comparison_lines(found, kept)
+    >>> again = comparison_lines(found, kept)
+    >>> again == first, again[-1] is first[-1]
+    (True, True)
+    """
     lines = _plan_lines(found)
-    positions = [{metric.id: index for index, metric in enumerate(each.plan.metrics)}
-                 for each in found]
+    positions = [each.positions for each in found]
+    made: dict = {}
     for row_id, label in deciding_rows(found):
-        lines += _row_lines(found, positions, row_id, label)
+        parts: list = [found[0].complete]
+        for each, position in zip(found, positions, strict=True):
+            index = position.get(row_id)
+            parts += ((None, None, each.complete) if index is None else
+                      (each.plan.metrics[index], each.result.rows[index], each.complete))
+        made_of = (label, [part.stamp for part in parts[1::3] if part is not None], parts)
+        earlier = None if kept is None else kept.get(row_id)
+        if (earlier is not None and earlier[0][:2] == made_of[:2]
+                and len(earlier[0][2]) == len(parts)
+                and all(map(operator.is_, earlier[0][2], parts))):
+            row_lines = earlier[1]
+        else:
+            row_lines = _row_lines(found, positions, row_id, label)
+        made[row_id] = (made_of, row_lines)
+        lines += row_lines
+    if kept is not None:
+        kept.clear()
+        kept.update(made)
     return lines
 
 

@@ -23,12 +23,17 @@ Examples
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+import operator
+from dataclasses import dataclass, field, fields
+from functools import cached_property
 from typing import TYPE_CHECKING
+
+import numpy as np
 
 from fourfold.plan import scenarios, traffic
 from fourfold.plan.evaluation import DECIDING_ROLES, PlanResult, RowCache, compute
-from fourfold.plan.model import Plan
+from fourfold.plan.model import Plan, Settings
+from fourfold.plan.summary import stamps
 
 if TYPE_CHECKING:
     import pandas
@@ -52,6 +57,9 @@ class Outcome:
         Its stale changes, in words.
     complete : bool
         Whether every primary and guardrail row could be computed (module notes).
+    inputs : tuple or None
+        The settings' values and the rows' stamps when they were evaluated (``None``: not
+        recorded), by which :func:`outcome` tells that the scenario is still what it was.
     """
 
     name: str | None
@@ -60,6 +68,12 @@ class Outcome:
     result: PlanResult
     problems: tuple[str, ...]
     complete: bool
+    inputs: tuple | None = field(default=None, compare=False, repr=False)
+
+    @cached_property
+    def positions(self) -> dict[str, int]:
+        """The index of each row of :attr:`plan` by its row id."""
+        return {metric.id: index for index, metric in enumerate(self.plan.metrics)}
 
     @property
     def duration_days(self) -> float:
@@ -124,14 +138,46 @@ class Caches:
 
 
 def outcome(plan: Plan, name: str | None, cache: RowCache | None = None, *,
-            edited: list[int] | None = None) -> Outcome:
+            edited: list[int] | None = None, kept: Outcome | None = None) -> Outcome:
     """Evaluate scenario ``name`` of ``plan`` (``None``: the base); ``edited``: the rows of
     the scenario's plan edited in place since ``cache`` last saw it, when known
-    (:func:`fourfold.plan.evaluation.compute`)."""
+    (:func:`fourfold.plan.evaluation.compute`).
+
+    ``kept``: an earlier outcome of the same scenario, returned as it is when the scenario's
+    settings, rows (the same objects, not assigned to since: their stamps) and stale changes
+    are still those it was evaluated with — nothing is computed again.
+
+    Examples
+    --------
+    >>> from fourfold.plan import load, sample_path
+    >>> plan = load(sample_path())
+    >>> first = outcome(plan, "Without arm B")
+    >>> outcome(plan, "Without arm B", kept=first) is first
+    True
+    >>> plan.metrics[0].effect = 0.06  # every scenario shows the base's row 0
+    >>> outcome(plan, "Without arm B", kept=first) is first
+    False
+    """
     resolved = scenarios.resolve(plan, name)
+    metrics = resolved.plan.metrics
+    settings = _SETTINGS(resolved.plan.settings)
+    if (kept is not None and kept.inputs is not None and kept.name == name
+            and kept.problems == resolved.problems and kept.inputs[0] == settings
+            and len(kept.plan.metrics) == len(metrics)
+            and all(map(operator.is_, kept.plan.metrics, metrics))
+            and np.array_equal(kept.inputs[1], stamps(metrics))):
+        return kept
     result = compute(resolved.plan, cache=cache, edited=edited)
+    # the stamps the cache has just seen (of these rows, unless rows that follow their
+    # windows were evaluated in rounds): an edit of one row reads no other row here either
+    seen = cache.stamps if cache is not None and cache.plain else None
+    found = seen.copy() if seen is not None and seen.size == len(metrics) else stamps(metrics)
     return Outcome(name, scenarios.BASE if name is None else name, resolved.plan, result,
-                   resolved.problems, complete(resolved.plan, result))
+                   resolved.problems, complete(resolved.plan, result), (settings, found))
+
+
+_SETTINGS = operator.attrgetter(*(each.name for each in fields(Settings)))
+"""Every settings value, as a tuple (settings are changed in place: a copy to compare)."""
 
 
 def outcomes(plan: Plan, caches: Caches | None = None) -> list[Outcome]:
@@ -180,7 +226,7 @@ def records(found: list[Outcome], base: Plan) -> list[dict]:
             "changes": ("" if each.name is None else scenarios.describe(base, each.name)),
             "notes": " ".join([*each.problems, *_failures(each), *_flags(each)]),
         }
-        index = {metric.id: row for row, metric in enumerate(each.plan.metrics)}
+        index = each.positions
         for row_id, label in rows:
             row = each.result.rows[index[row_id]] if row_id in index else None
             for column, value in _row_cells(row):

@@ -135,8 +135,12 @@ class SwitchScenario(ScenarioCommand):
             scenarios.find(plan, self.name)
         if self.name == plan.active:
             raise PlanError(f"{self.label} is shown already", "scenario")
-        self._save(plan)
+        self._active = plan.active  # a switch changes no scenario: nothing else to save
         plan.active = self.name
+        return Change("scenario")
+
+    def revert(self, plan: Plan) -> Change:
+        plan.active = self._active
         return Change("scenario")
 
 

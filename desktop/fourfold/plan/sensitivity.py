@@ -35,6 +35,7 @@ from dataclasses import dataclass
 from fourfold.plan import traffic, windows
 from fourfold.plan.evaluation import DECIDING_ROLES, PlanResult, RowCache, compute
 from fourfold.plan.model import Plan, Settings
+from fourfold.plan.row_cache import settings_key
 
 DEFAULT_AMOUNT = 0.2
 
@@ -235,6 +236,29 @@ def sensitivity(plan: Plan, amount: float = DEFAULT_AMOUNT, *,
     swings.sort(key=lambda pair: (math.isnan(pair[0].swing), -_finite(pair[0].swing),
                                   -_finite(pair[1])))
     return Sensitivity(amount, days, metric.name, tuple(swing for swing, _ in swings))
+
+
+def inputs(plan: Plan, amount: float, result: PlanResult) -> tuple:
+    """What :func:`sensitivity` of ``plan`` at ``amount`` with ``result`` reads, to compare:
+    the settings, the primary and guardrail rows (by their stamps, which every assignment
+    renews), and the result's duration, window days and binding row. Equal inputs give an
+    equal answer; a row that decides nothing does not move the bars.
+
+    Examples
+    --------
+    >>> from fourfold.plan import load, sample_path
+    >>> plan = load(sample_path())
+    >>> before = inputs(plan, 0.2, compute(plan))
+    >>> plan.metrics[1].sd = 15.0  # revenue per visitor, a secondary row
+    >>> inputs(plan, 0.2, compute(plan)) == before
+    True
+    >>> plan.metrics[0].baseline = 0.032  # the primary row
+    >>> inputs(plan, 0.2, compute(plan)) == before
+    False
+    """
+    return (amount, settings_key(plan.settings),
+            [metric.stamp for metric in plan.metrics if metric.role in DECIDING_ROLES],
+            result.duration_days, result.window_days, result.binding_index)
 
 
 def _finite(value: float) -> float:

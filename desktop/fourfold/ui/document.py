@@ -85,6 +85,7 @@ class PlanDocument(QObject):
         self._unsaved = False
         self._caches = Caches()
         self._outcomes: dict[str | None, Outcome] = {}
+        self._earlier: dict[str | None, Outcome] = {}  # the outcomes before the recompute
         self._edited: set[int] | None = None  # rows edited in place since the last recompute
         self._moved: list[int] | None = None
         self._shown_cache = None
@@ -187,10 +188,13 @@ class PlanDocument(QObject):
     def _compute(self):
         """The result of the scenario on show (the others wait until asked for)."""
         whole = self.stack.plan
+        self._earlier = {**self._earlier, **self._outcomes}
         self._outcomes = {}
         edited, self._edited = self._edited, set()
         names = [None, *(scenario.name for scenario in whole.scenarios)]
         self._caches.keep(names)
+        self._earlier = {name: self._earlier[name] for name in names if name in self._earlier}
+        self._earlier.pop(whole.active, None)  # the scenario on show is evaluated afresh
         cache = self._caches.get(whole.active)
         try:
             result = self._evaluated(whole.active, edited).result
@@ -209,7 +213,8 @@ class PlanDocument(QObject):
         if found is None:
             found = self._outcomes[name] = outcome(
                 self.stack.plan, name, self._caches.get(name),
-                edited=None if edited is None else sorted(edited))
+                edited=None if edited is None else sorted(edited),
+                kept=self._earlier.get(name))
         return found
 
     def changed_rows(self) -> list[int] | None:

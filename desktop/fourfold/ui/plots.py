@@ -77,12 +77,13 @@ def _comparable(metric, others) -> list[tuple]:
     key = (metric.kind, metric.relative, metric.alternative, metric.solve)
     found = []
     for other in others:
-        for row, candidate in enumerate(other.plan.metrics):
-            if candidate.id == metric.id:
-                if (candidate.kind, candidate.relative, candidate.alternative,
-                        candidate.solve) == key and not other.result.rows[row].reason:
-                    found.append((other, row))
-                break
+        row = other.positions.get(metric.id)
+        if row is None:
+            continue
+        candidate = other.plan.metrics[row]
+        if (candidate.kind, candidate.relative, candidate.alternative,
+                candidate.solve) == key and not other.result.rows[row].reason:
+            found.append((other, row))
     return found
 
 

@@ -35,6 +35,7 @@ from fourfold.plan import scenarios
 from fourfold.plan.comparison import Outcome, complete
 from fourfold.plan.evaluation import RowCache
 from fourfold.plan.sensitivity import DEFAULT_AMOUNT, Sensitivity, sensitivity
+from fourfold.plan.sensitivity import inputs as sensitivity_inputs
 from fourfold.ui import theme
 from fourfold.ui.document import PlanDocument
 
@@ -88,6 +89,7 @@ class ComparisonModel(QAbstractTableModel):
         self.lines: list = []
         self.active: str | None = None
         self.whole = None
+        self._kept: dict = {}  # the metric rows' lines, made again when a row changes
         self.bold = QFont()
         self.bold.setBold(True)
         self.shade = QColor()
@@ -99,23 +101,56 @@ class ComparisonModel(QAbstractTableModel):
         return 0 if parent.isValid() else len(self.found)
 
     def set_outcomes(self, found: list[Outcome], active: str | None, whole) -> None:
-        """Show ``found``; the same shape repaints its cells, another resets the table."""
+        """Show ``found``; another shape resets the table, the same one announces the cells
+        whose texts changed (all of them for a new colour scheme; the columns of the scenario
+        that was and is on show for a switch) and the header when its texts changed."""
         from fourfold.export.comparison import comparison_lines
 
-        lines = comparison_lines(found) if found else []
-        shape = ([each.name for each in found], [line.label for line in lines])
+        lines = comparison_lines(found, self._kept) if found else []
+        names = [each.name for each in found]
+        shape = (names, [line.label for line in lines])
         same = shape == ([each.name for each in self.found], [line.label for line in self.lines])
-        self.shade = QColor(theme.tints().accent)
-        self.shade.setAlpha(28)
+        shade = QColor(theme.tints().accent)
+        shade.setAlpha(28)
+        every = shade != self.shade
+        self.shade = shade
         if not same:
             self.beginResetModel()
+        old_lines, old_active, old_labels = self.lines, self.active, self._labels()
         self.found, self.lines, self.active, self.whole = found, lines, active, whole
         if not same:
             self.endResetModel()
-        elif lines:
-            self.dataChanged.emit(self.index(0, 0),
-                                  self.index(len(lines) - 1, len(found) - 1))
-            self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(found) - 1)
+            return
+        if not lines:
+            return
+        last = len(found) - 1
+        if every:
+            self.dataChanged.emit(self.index(0, 0), self.index(len(lines) - 1, last))
+        else:
+            for row, (old, new) in enumerate(zip(old_lines, lines, strict=True)):
+                if old is not new:
+                    self._announce(row, old, new)
+            if active != old_active:
+                for column in {names.index(old_active), names.index(active)} \
+                        if old_active in names else {names.index(active)}:
+                    self.dataChanged.emit(self.index(0, column),
+                                          self.index(len(lines) - 1, column))
+        if self._labels() != old_labels:
+            self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, last)
+
+    def _announce(self, row: int, old, new) -> None:
+        """Announce the cells of line ``row`` whose text or difference changed, each alone:
+        the view repaints those cells, not the whole table."""
+        for column, (cell, delta, old_cell, old_delta) in enumerate(zip(
+                new.cells, new.deltas, old.cells, old.deltas, strict=True)):
+            if cell != old_cell or delta != old_delta:
+                index = self.index(row, column)
+                self.dataChanged.emit(index, index)
+
+    def _labels(self) -> list:
+        """The column headers' texts."""
+        return [self.headerData(column, Qt.Orientation.Horizontal)
+                for column in range(len(self.found))]
 
     def data(self, index, role=Qt.ItemDataRole.DisplayRole):
         line, each = self.lines[index.row()], self.found[index.column()]
@@ -161,6 +196,7 @@ class ComparisonView(QTableView):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self._measured: tuple[QFont, dict] = (QFont(), {})  # text widths, for one font
+        self._line_widths: dict = {}  # id(line): (line, its cells' widths in plain text)
         self.comparison = ComparisonModel(self)
         self.setModel(self.comparison)
         self.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
@@ -200,6 +236,7 @@ class ComparisonView(QTableView):
         font = self.font()
         if self._measured[0] != font or len(self._measured[1]) > 4096:
             self._measured = (QFont(font), {})
+            self._line_widths = {}
         plain = QFontMetrics(font)
         bold = QFontMetrics(_bolder(font))
         known = self._measured[1]
@@ -211,13 +248,27 @@ class ComparisonView(QTableView):
                     text)
             return found
 
+        def shown(line, column: int) -> str:
+            delta = line.deltas[column]
+            return line.cells[column] + (GAP + delta if delta else "")
+
+        # each line's widths in plain text, kept while the line is the same object
+        kept, widths = self._line_widths, {}
+        for line in model.lines:
+            found = kept.get(id(line))
+            if found is None or found[0] is not line:
+                found = (line, [width(shown(line, column), False)
+                                for column in range(len(line.cells))])
+            widths[id(line)] = found
+        self._line_widths = widths
+        columns = zip(*(found[1] for found in widths.values()), strict=True) if widths else ()
+        widest_plain = [max(column) for column in columns] or [0] * len(model.found)
         for column, each in enumerate(model.found):
-            strong = each.name == model.active
             header = model.headerData(column, Qt.Orientation.Horizontal)
-            widest = max([width(header, True)]
-                         + [width(line.cells[column] + (GAP + line.deltas[column]
-                                                        if line.deltas[column] else ""), strong)
-                            for line in model.lines])
+            widest = max(width(header, True), widest_plain[column])
+            if each.name == model.active:
+                widest = max([width(header, True)]
+                             + [width(shown(line, column), True) for line in model.lines])
             if self.columnWidth(column) != widest + 2 * CELL_PAD + 8:
                 self.setColumnWidth(column, widest + 2 * CELL_PAD + 8)
 
@@ -255,6 +306,9 @@ class SensitivityView(QWidget):
         return QSize(420, 280)
 
     def show_sensitivity(self, found: Sensitivity | None, title: str) -> None:
+        """Show ``found`` under ``title``; the same bars and title again repaint nothing."""
+        if found is self.found and title == self.title:
+            return
         self.found, self.title = found, title
         self.update()
 
@@ -289,6 +343,7 @@ class ScenarioPanel(QWidget):
         super().__init__(parent)
         self.document = document
         self._scratch = RowCache()
+        self._bars: tuple | None = None  # (what the bars were made of, the bars)
         self._stale = True
         self.tools = QToolBar(self)
         self.tools.addActions(actions)
@@ -385,8 +440,13 @@ class ScenarioPanel(QWidget):
         if result is None:
             self.bars.show_sensitivity(None, "")
             return
-        found = sensitivity(self.document.plan, self.amount.value() / 100.0, result=result,
-                            cache=self._scratch)
+        plan, amount = self.document.plan, self.amount.value() / 100.0
+        made_of = sensitivity_inputs(plan, amount, result)
+        if self._bars is not None and self._bars[0] == made_of:
+            found = self._bars[1]
+        else:
+            found = sensitivity(plan, amount, result=result, cache=self._scratch)
+            self._bars = (made_of, found)
         label = self.document.scenario or scenarios.BASE
         binding = f" · binding: {found.binding}" if found.binding else ""
         self.bars.show_sensitivity(found, f"{label}{binding}")

@@ -309,6 +309,11 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         row, column = index.row(), index.column()
         if role not in _CACHED_ROLES:
             return self._value(row, column, role)
+        return self.cell(row, column, role)
+
+    def cell(self, row: int, column: int, role: int):
+        """One display role of one cell (text, alignment, colours, font, check state), as
+        :meth:`data` gives it, without a model index: what the view measures with."""
         cells = self._cache.get(row)
         if cells is None:
             cells = self._cache[row] = {}

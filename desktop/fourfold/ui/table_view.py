@@ -41,6 +41,7 @@ _WINDOWS = operator.attrgetter("windows")
 _COLUMN_FIELDS = frozenset({"kind", "windows"})
 """The metric fields that decide which columns are shown (see :meth:`follow_looks`)."""
 MAX_COLUMN_CHARS = 30
+DISPLAY, FONT = int(Qt.ItemDataRole.DisplayRole), int(Qt.ItemDataRole.FontRole)
 
 
 def parse_grid(text: str) -> list[list[str]]:
@@ -278,11 +279,10 @@ class PlanTableView(QTableView):
                 continue
             widest = 0
             for row in rows:
-                index = model.index(row, position)
-                text = model.data(index, Qt.ItemDataRole.DisplayRole)
+                text = model.cell(row, position, DISPLAY)
                 if not text:
                     continue
-                font = model.data(index, Qt.ItemDataRole.FontRole)
+                font = model.cell(row, position, FONT)
                 key = (False, False) if font is None else (font.bold(), font.italic())
                 measure = measures.get(key)
                 if measure is None:
