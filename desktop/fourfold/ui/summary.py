@@ -13,7 +13,7 @@ import math
 import re
 
 from PySide6.QtCore import Qt, Signal
-from PySide6.QtWidgets import QComboBox, QFrame, QHBoxLayout, QLabel, QSizePolicy
+from PySide6.QtWidgets import QComboBox, QFrame, QHBoxLayout, QLabel, QSizePolicy, QVBoxLayout
 
 from fourfold.formatting import MINUS, format_count, format_days, format_number, whole_days
 from fourfold.plan import traffic
@@ -62,6 +62,10 @@ def base_delta(days: float | None, base: float | None) -> str:
     return f"{sign}{format_number(abs(delta), sig=3)} d vs base"
 
 
+SPACING = 28
+"""Pixels between the items of a line of the summary."""
+
+
 class SummaryBar(QFrame):
     """One line under the settings: the scenario on show, duration, total units, binding
     metric, notes on hover. :attr:`chosen` carries a scenario picked in the drop-down
@@ -75,16 +79,22 @@ class SummaryBar(QFrame):
         self.document = document
         self._equal_cache = RowCache()
         self._shown_notes: tuple | None = None
-        layout = QHBoxLayout(self)
-        layout.setContentsMargins(12, 6, 12, 6)
-        layout.setSpacing(28)
+        lines = QVBoxLayout(self)
+        lines.setContentsMargins(12, 6, 12, 6)
+        lines.setSpacing(4)
+        self._lines = (QHBoxLayout(), QHBoxLayout())
+        for line in self._lines:
+            line.setSpacing(SPACING)
+            lines.addLayout(line)
+        self._second: tuple = ()
         self.scenario = QComboBox()
         self.scenario.setObjectName("scenarioChoice")
         self.scenario.setAccessibleName("Scenario on show")
         self.scenario.setToolTip("The scenario on show: edits change only it (Base: the plan "
                                  "as entered)")
         self.scenario.activated.connect(self._picked)
-        layout.addWidget(self.scenario)
+        first = self._lines[0]
+        first.addWidget(self.scenario)
         self.duration = QLabel()
         self.units = QLabel()
         self.binding = QLabel()
@@ -93,13 +103,48 @@ class SummaryBar(QFrame):
             label.setObjectName("summaryItem")
             label.setMinimumWidth(40)
             label.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Preferred)
-            layout.addWidget(label)
-        layout.addStretch(1)
+            first.addWidget(label)
+        first.addStretch(1)
         self.notes = QLabel()
         self.notes.setObjectName("summaryNotes")
-        layout.addWidget(self.notes)
+        first.addWidget(self.notes)
+        self._lines[1].addStretch(1)
         document.computed.connect(self.refresh)
         self.refresh()
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        super().resizeEvent(event)
+        self._arrange()
+
+    def _arrange(self) -> None:
+        """Keep every item whole: the items that do not fit on the first line beside the
+        notes go, in their order, to a second line (a clipped item would show a cut number).
+
+        An incomplete plan's reasons wrap in the duration item, which then takes the first
+        line alone with the notes."""
+        room = self.contentsRect().width() - 24 - self.notes.sizeHint().width() - SPACING
+        items = [self.scenario] if not self.scenario.isHidden() else []
+        items += [self.duration, self.units, self.binding]
+        second = []
+        for item in items:
+            width = item.sizeHint().width()
+            shown = item is self.scenario or (item.text() and not item.wordWrap())
+            if shown and (second or width > room):
+                second.append(item)
+            room -= width + SPACING
+        if tuple(second) == self._second:
+            return
+        self._second = tuple(second)
+        first, below = self._lines
+        for item in items:
+            (below if item in second else first).removeWidget(item)
+        at = 0
+        for item in items:
+            if item in second:
+                below.insertWidget(below.count() - 1, item)
+            else:
+                first.insertWidget(at, item, 1 if item is self.duration and item.wordWrap() else 0)
+                at += 1
 
     def texts(self) -> tuple[str, str, str]:
         """The three items as plain text (for tests and the status of a shot)."""
@@ -117,6 +162,7 @@ class SummaryBar(QFrame):
                               f'</b> until these rows can be computed — {rows}</span>')
         self.units.setText("")
         self.binding.setText("")
+        self._arrange()
 
     def _saving_text(self, result) -> str:
         """What a √k split saves against an equal one ("" for any other split)."""
@@ -163,6 +209,7 @@ class SummaryBar(QFrame):
             self.binding.setText("")
             self.notes.setText("")
             self._shown_notes = None
+            self._arrange()
             return
         self._notes(result)
         if result.incomplete:
@@ -195,6 +242,7 @@ class SummaryBar(QFrame):
             self.binding.setText("Fixed runtime: rows report what it allows")
         else:
             self.binding.setText("No binding metric (no primary or guardrail row sized)")
+        self._arrange()
 
     @staticmethod
     def _extrapolated(settings, days: float | None) -> str:
@@ -214,7 +262,8 @@ class SummaryBar(QFrame):
         self.duration.setWordWrap(wide)
         horizontal = QSizePolicy.Policy.Expanding if wide else QSizePolicy.Policy.Preferred
         self.duration.setSizePolicy(horizontal, QSizePolicy.Policy.Preferred)
-        self.layout().setStretchFactor(self.duration, 1 if wide else 0)
+        for line in self._lines:
+            line.setStretchFactor(self.duration, 1 if wide else 0)
 
     def _notes(self, result) -> None:
         if result.notes == self._shown_notes:
