@@ -10,7 +10,7 @@ to three lines tall (it scrolls beyond), committed when the user leaves it or pr
 
 from __future__ import annotations
 
-from PySide6.QtCore import QRect, Qt, Signal
+from PySide6.QtCore import QRect, QSize, Qt, Signal
 from PySide6.QtWidgets import (
     QApplication,
     QCheckBox,
@@ -19,6 +19,7 @@ from PySide6.QtWidgets import (
     QGridLayout,
     QHBoxLayout,
     QLabel,
+    QLayout,
     QLineEdit,
     QPlainTextEdit,
     QPushButton,
@@ -153,16 +154,21 @@ def _group(title: str) -> tuple[QFrame, QGridLayout]:
     frame = QFrame()
     frame.setObjectName("settingsGroup")
     outer = QVBoxLayout(frame)
-    outer.setContentsMargins(10, 6, 10, 8)
+    outer.setContentsMargins(8, 6, 8, 8)
     outer.setSpacing(4)
     heading = QLabel(title.upper())
     heading.setObjectName("groupHeading")
     outer.addWidget(heading)
     grid = QGridLayout()
-    grid.setHorizontalSpacing(8)
+    grid.setHorizontalSpacing(6)
     grid.setVerticalSpacing(4)
     outer.addLayout(grid)
     return frame, grid
+
+
+GROUP_SPACING = 6
+GROUP_STRETCH = (2, 1, 2, 2)
+"""How the groups (test, arms, traffic, interim looks) share a row's extra width."""
 
 
 class SettingsPanel(QWidget):
@@ -187,12 +193,15 @@ class SettingsPanel(QWidget):
         outer = QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
         outer.setSpacing(6)
+        outer.setSizeConstraint(QLayout.SizeConstraint.SetNoConstraint)  # see minimumSizeHint
         names = QHBoxLayout()
         names.setSpacing(16)
         outer.addLayout(names)
-        layout = QHBoxLayout()
-        layout.setSpacing(8)
-        outer.addLayout(layout)
+        self._groups = QGridLayout()
+        self._groups.setSpacing(GROUP_SPACING)
+        outer.addLayout(self._groups)
+        self._frames: list[QFrame] = []
+        self._two_rows: bool | None = None
 
         self.title = QLineEdit()
         self.title.setObjectName("planTitle")
@@ -217,7 +226,7 @@ class SettingsPanel(QWidget):
                      "arms that share one control, needs fewer units than Bonferroni or Šidák; "
                      "the table's α column shows the level of each comparison.",
                      CORRECTION_LABELS, span=3)
-        layout.addWidget(frame, 2)
+        self._frames.append(frame)
 
         frame, grid = _group("Arms")
         self._spin(grid, 0, "arms", "Treatment arms", MAX_ARMS,
@@ -228,7 +237,7 @@ class SettingsPanel(QWidget):
                      "√k rule: the control gets √k times the units of each of the k treatment "
                      "arms, which needs the fewest units in all; the summary says what it saves "
                      "against an equal split.", ALLOCATION_LABELS)
-        layout.addWidget(frame, 1)
+        self._frames.append(frame)
 
         frame, grid = _group("Traffic")
         self._number(grid, 0, 0, "daily_units")
@@ -243,7 +252,7 @@ class SettingsPanel(QWidget):
         self.traffic_button.setObjectName("trafficModel")
         self.traffic_button.clicked.connect(lambda _checked=False: self.traffic_requested.emit())
         grid.addWidget(self.traffic_button, 0, 4, 2, 1)
-        layout.addWidget(frame, 2)
+        self._frames.append(frame)
 
         frame, grid = _group("Interim looks")
         self._spin(grid, 0, "looks", "Looks", MAX_LOOKS,
@@ -255,11 +264,45 @@ class SettingsPanel(QWidget):
         grid.addWidget(futility, 0, 2)
         self._choice(grid, 1, 0, "spending", "Spending",
                      SPENDING_TIP, SPENDING_LABELS, span=2)
-        layout.addWidget(frame, 2)
+        self._frames.append(frame)
+        self._arrange(two_rows=False)
 
         document.changed.connect(self._on_change)
         document.replaced.connect(self.refresh)
         self.refresh()
+
+    def _one_row_width(self) -> int:
+        """The narrowest width that holds the four groups side by side."""
+        return (sum(frame.minimumSizeHint().width() for frame in self._frames)
+                + GROUP_SPACING * (len(self._frames) - 1))
+
+    def minimumSizeHint(self) -> QSize:  # noqa: N802 (Qt's name)
+        """As narrow as the groups in two rows allow (the window can then be narrower than
+        four groups side by side), as tall as they are now."""
+        test, arms, traffic, looks = (frame.minimumSizeHint().width() for frame in self._frames)
+        width = max(test, traffic) + max(arms, looks) + GROUP_SPACING
+        return QSize(width, self.layout().minimumSize().height())
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        super().resizeEvent(event)
+        self._arrange(self.width() < self._one_row_width())
+
+    def _arrange(self, two_rows: bool) -> None:
+        """The groups side by side, or in two rows of two when the panel is narrower than
+        they need (a squeezed group would cut its fields' numbers)."""
+        if two_rows == self._two_rows:
+            return
+        self._two_rows = two_rows
+        for frame in self._frames:
+            self._groups.removeWidget(frame)
+        for column in range(4):
+            self._groups.setColumnStretch(column, 0)
+        spots = ((0, 0), (0, 1), (1, 0), (1, 1)) if two_rows else tuple((0, i) for i in range(4))
+        for frame, (row, column) in zip(self._frames, spots, strict=True):
+            self._groups.addWidget(frame, row, column)
+        for column, stretch in enumerate((1, 1) if two_rows else GROUP_STRETCH):
+            self._groups.setColumnStretch(column, stretch)
+        self.updateGeometry()
 
     @staticmethod
     def _label(text: str, buddy: QWidget) -> QLabel:
@@ -299,7 +342,7 @@ class SettingsPanel(QWidget):
         combo = QComboBox()
         combo.setToolTip(tooltip)
         combo.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
-        combo.setMinimumContentsLength(8)
+        combo.setMinimumContentsLength(6)
         for value in CHOICES[field]:
             combo.addItem(labels.get(value, value), value)
         combo.activated.connect(lambda _=0: self._commit(field, combo.currentData()))

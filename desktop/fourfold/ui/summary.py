@@ -82,11 +82,11 @@ class SummaryBar(QFrame):
         lines = QVBoxLayout(self)
         lines.setContentsMargins(12, 6, 12, 6)
         lines.setSpacing(4)
-        self._lines = (QHBoxLayout(), QHBoxLayout())
+        self._lines = tuple(QHBoxLayout() for _ in range(4))  # one item a line at most
         for line in self._lines:
             line.setSpacing(SPACING)
             lines.addLayout(line)
-        self._second: tuple = ()
+        self._places: tuple = ()
         self.scenario = QComboBox()
         self.scenario.setObjectName("scenarioChoice")
         self.scenario.setAccessibleName("Scenario on show")
@@ -108,7 +108,8 @@ class SummaryBar(QFrame):
         self.notes = QLabel()
         self.notes.setObjectName("summaryNotes")
         first.addWidget(self.notes)
-        self._lines[1].addStretch(1)
+        for line in self._lines[1:]:
+            line.addStretch(1)
         document.computed.connect(self.refresh)
         self.refresh()
 
@@ -117,34 +118,37 @@ class SummaryBar(QFrame):
         self._arrange()
 
     def _arrange(self) -> None:
-        """Keep every item whole: the items that do not fit on the first line beside the
-        notes go, in their order, to a second line (a clipped item would show a cut number).
+        """Keep every item whole (a clipped item would show a cut number): the items go, in
+        their order, on the first line beside the notes while they fit, then on the next
+        lines, each as full as it can be.
 
-        An incomplete plan's reasons wrap in the duration item, which then takes the first
-        line alone with the notes."""
-        room = self.contentsRect().width() - 24 - self.notes.sizeHint().width() - SPACING
+        An incomplete plan's reasons wrap in the duration item, which takes the free width of
+        its line."""
+        full = self.contentsRect().width() - 24
+        room = full - self.notes.sizeHint().width() - SPACING
         items = [self.scenario] if not self.scenario.isHidden() else []
         items += [self.duration, self.units, self.binding]
-        second = []
+        places, line, used = [], 0, 0
         for item in items:
-            width = item.sizeHint().width()
-            shown = item is self.scenario or (item.text() and not item.wordWrap())
-            if shown and (second or width > room):
-                second.append(item)
-            room -= width + SPACING
-        if tuple(second) == self._second:
+            if item is self.scenario or (item.text() and not item.wordWrap()):
+                width = item.sizeHint().width()
+                if used and used + width > room and line + 1 < len(self._lines):
+                    line, used, room = line + 1, 0, full  # not after the others on this line
+                elif not used and line == 0 and width > room:
+                    line, room = 1, full  # not even alone beside the notes
+                used += width + SPACING
+            places.append(line)
+        if tuple(places) == self._places:
             return
-        self._second = tuple(second)
-        first, below = self._lines
+        self._places = tuple(places)
         for item in items:
-            (below if item in second else first).removeWidget(item)
-        at = 0
-        for item in items:
-            if item in second:
-                below.insertWidget(below.count() - 1, item)
-            else:
-                first.insertWidget(at, item, 1 if item is self.duration and item.wordWrap() else 0)
-                at += 1
+            for layout in self._lines:
+                layout.removeWidget(item)
+        for item, line in zip(items, places, strict=True):
+            layout = self._lines[line]
+            at = layout.count() - (2 if line == 0 else 1)  # before the stretch (and notes)
+            stretch = 1 if item is self.duration and item.wordWrap() else 0
+            layout.insertWidget(at, item, stretch)
 
     def texts(self) -> tuple[str, str, str]:
         """The three items as plain text (for tests and the status of a shot)."""
