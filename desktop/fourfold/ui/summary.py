@@ -65,6 +65,9 @@ def base_delta(days: float | None, base: float | None) -> str:
 SPACING = 28
 """Pixels between the items of a line of the summary."""
 
+SCENARIO_CHARS = 28
+"""Characters of the scenario on show the drop-down keeps room for."""
+
 
 class SummaryBar(QFrame):
     """One line under the settings: the scenario on show, duration, total units, binding
@@ -90,9 +93,12 @@ class SummaryBar(QFrame):
         self.scenario = QComboBox()
         self.scenario.setObjectName("scenarioChoice")
         self.scenario.setAccessibleName("Scenario on show")
-        self.scenario.setToolTip("The scenario on show: edits change only it (Base: the plan "
-                                 "as entered)")
         self.scenario.activated.connect(self._picked)
+        # as wide as a usual name (a long one is cut short with "…"; its list shows it whole),
+        # so that the summary's other items keep to one line whichever scenario is on show
+        self.scenario.setSizeAdjustPolicy(
+            QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+        self.scenario.setMinimumContentsLength(SCENARIO_CHARS)
         first = self._lines[0]
         first.addWidget(self.scenario)
         self.duration = QLabel()
@@ -196,7 +202,13 @@ class SummaryBar(QFrame):
             self.scenario.clear()
             for name in names:
                 self.scenario.addItem(f"Scenario: {name}" if name else f"Showing: {BASE}", name)
+            measure = self.scenario.view().fontMetrics()
+            self.scenario.view().setMinimumWidth(max(
+                measure.horizontalAdvance(self.scenario.itemText(i))
+                for i in range(self.scenario.count())) + 32)
         self.scenario.setCurrentIndex(names.index(whole.active))
+        self.scenario.setToolTip(f"{self.scenario.currentText()}. The scenario on show: edits "
+                                 "change only it (Base: the plan as entered)")
         self.scenario.blockSignals(False)
         self.scenario.setVisible(bool(whole.scenarios))
         self.scenario.setProperty("active", whole.active is not None)
