@@ -78,3 +78,21 @@ def test_the_window_fits_a_laptop_screen_with_the_settings_whole(make_window, qt
     assert window.width() == width  # not held wider than the screen by its minimum size
     assert window.settings_panel._two_rows is two_rows
     assert _cut_settings(window) == []
+
+
+def test_the_sample_plan_keeps_one_summary_line_through_its_scenarios(make_window, qtbot):
+    # at 1,400 px the summary does not change its height on a switch (the window's layout
+    # would move with it); a long scenario name is cut short in the drop-down, whole in its list
+    window = make_window()
+    window.resize(1400, 900)
+    window.show()
+    qtbot.waitExposed(window)
+    _settle(qtbot, window)
+    for _ in range(len(window.document.whole.scenarios) + 1):
+        window.next_scenario_action.trigger()
+        _settle(qtbot, window)
+        assert set(window.summary._places) == {0}, window.document.scenario
+        assert _clipped(window) == []
+    names = [window.summary.scenario.itemText(i) for i in range(window.summary.scenario.count())]
+    view = window.summary.scenario.view()
+    assert view.minimumWidth() > max(view.fontMetrics().horizontalAdvance(n) for n in names)
