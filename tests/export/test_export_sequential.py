@@ -81,3 +81,20 @@ def test_pdf_has_the_looks_section_only_with_looks(tmp_path):
     assert "Stopping boundaries" in texts[5] and "Armitage" in texts[5]
     assert "4.877" in texts[5]
     assert "Stopping boundaries" not in texts[1] and "Armitage" not in texts[1]
+
+
+@pytest.mark.qt
+@pytest.mark.parametrize("whole_weeks", [True, False])
+def test_pdf_methods_say_where_the_looks_fall(tmp_path, whole_weeks):
+    # The looks table of a plan in whole weeks shows its looks at week ends (40, 80, 100 % of
+    # the units for 3 looks in 5 weeks); the methods must say so, not "equal shares".
+    from fourfold.export.pdf import write_pdf
+
+    plan = _plan(looks=3, whole_weeks=whole_weeks)
+    path = tmp_path / "plan.pdf"
+    write_pdf(plan, path)
+    text = " ".join(" ".join(page.extract_text() for page in PdfReader(path).pages).split())
+    if whole_weeks:
+        assert "3 looks, at week ends" in text and "equal shares of the maximum" not in text
+    else:
+        assert "3 looks, at equal shares of the maximum units" in text

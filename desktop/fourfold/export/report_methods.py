@@ -208,6 +208,15 @@ def methods(plan) -> list[Method]:
     return list(used.values())
 
 
+
+def _look_placing(s) -> str:
+    """Where a plan's interim looks fall, as :mod:`fourfold.plan.sequential` places them."""
+    if s.whole_weeks:
+        return ("at week ends (look k of K at the end of week ⌈k·W/K⌉ of a row's W whole "
+                "weeks; a run of fewer weeks than looks keeps equal shares)")
+    return "at equal shares of the maximum units"
+
+
 def _plan_methods(plan, add) -> None:
     s = plan.settings
     if s.correction == "bonferroni":
@@ -242,10 +251,10 @@ def _plan_methods(plan, add) -> None:
     if s.looks > 1:
         futility = " and a futility bound" if s.futility else ""
         add("sequential", "Group-sequential design with α spending",
-            f"{s.looks} looks at equal shares of the maximum units, "
-            f"{SPENDING_LABELS[s.spending]} boundaries{futility}; the maximum is the fixed "
-            "design's units times the design's inflation factor, and the expected units assume "
-            "the planned effect is real.",
+            f"{s.looks} looks, {_look_placing(s)}, "
+            f"{SPENDING_LABELS[s.spending]} boundaries{futility} at the looks' shares of the "
+            "units; the maximum is the fixed design's units times the design's inflation "
+            "factor, and the expected units assume the planned effect is real.",
             f"{SPENDING_SOURCES[s.spending]} Jennison, C. & Turnbull, B. W. (2000). Group "
             "Sequential Methods with Applications to Clinical Trials. Chapman & Hall/CRC.")
         add("peeking", "Unadjusted repeated looks",
