@@ -94,11 +94,16 @@ def screen_power(distance, s0, n, alpha, alternative, ratio):
     the cost of :func:`power_of`, nan where the screen does not reach (see
     :func:`fourfold.engine.tdist.screen_sf`): for a solver's first look at its starts."""
     df = degrees_of_freedom(n, ratio)
-    u = tdist.screen_quantile(df, tail_probability(alpha, alternative))
-    nc = distance * np.sqrt(n) / s0
-    if alternative == "less":
-        nc = -nc
-    return np.minimum(tdist.screen_sf(df, nc, u, alternative == "two-sided"), 1.0)
+    out = np.full(df.shape, np.nan)
+    near = np.flatnonzero((df >= tdist.QUADRATURE_DF) & (df < tdist.NORMAL_LIMIT_DF))
+    if near.size:
+        df = df[near]
+        u = tdist.screen_quantile(df, tail_probability(alpha[near], alternative))
+        nc = distance[near] * np.sqrt(n[near]) / s0[near]
+        if alternative == "less":
+            nc = -nc
+        out[near] = np.minimum(tdist.screen_sf(df, nc, u, alternative == "two-sided"), 1.0)
+    return out
 
 
 def limit_power_and_slope(distance, s0, s1, cc, n, u, alternative, exact_t, ratio):

@@ -97,11 +97,14 @@ def start(normal: np.ndarray, alpha, power, ratio, solve) -> tuple[np.ndarray, n
 def screened(func, screen, rows: np.ndarray, ftol: float):
     """``func(y, j)`` for a root search whose first call, at the starts, uses ``screen(y, j)``
     (within :data:`~fourfold.engine.tdist.SCREEN_ERROR` of ``func``, nan where it has no value)
-    for the elements in ``rows`` where it is within ``ftol`` by more than that bound, and
-    ``func`` for the others; every later call is ``func``'s.
+    for the elements where ``rows`` (a mask over the elements) is true and the screen is within
+    ``ftol`` by more than that bound, and ``func`` for the others; every later call is
+    ``func``'s.
 
     The search then accepts the same starts as with ``func`` alone and searches the others
-    from ``func``'s values, so that its results are the same bit for bit.
+    from ``func``'s values, so that its results are the same bit for bit. Where the screen
+    leaves more than three quarters of the elements unsure, the first call is ``func``'s for
+    all of them (a subset's copies of every input would cost more than they save).
     """
     first = [True]
 
@@ -110,10 +113,12 @@ def screened(func, screen, rows: np.ndarray, ftol: float):
             return func(y, j)
         first.clear()
         values = np.full(j.size, np.nan)
-        mine = np.flatnonzero(np.isin(j, rows))
+        mine = np.flatnonzero(rows[j])
         values[mine] = screen(y[mine], j[mine])
         sure = np.abs(values) <= ftol - tdist.SCREEN_ERROR
         rest = np.flatnonzero(~sure)
+        if rest.size > 0.75 * j.size:  # a subset's copies of every input would cost more
+            return func(y, j)
         if rest.size:
             values[rest] = func(y[rest], j[rest])
         return values

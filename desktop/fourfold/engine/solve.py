@@ -203,7 +203,7 @@ def _sample_size(p):
             dj, s0j, rj, aj = _subset(j, i.size, d, s0, ratio, alpha)
             return screen_power(dj, s0j, np.exp(y), aj, p.alternative, rj) - target[j]
 
-        f = _t_family.screened(f, screen, np.flatnonzero(covered), _FTOL_T)
+        f = _t_family.screened(f, screen, covered, _FTOL_T)
     y, status = roots.find_root(
         f, y, 1e-6, y_min, np.full(i.size, _LOG_N_MAX), model=model,
         ftol=_FTOL_T if exact_t else _FTOL_Z,

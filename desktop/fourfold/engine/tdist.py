@@ -356,8 +356,9 @@ def screen_sf(df, nc, t, both: bool):
 
 
 def screen_quantile(df, p):
-    """:func:`t_upper_quantile` within 10⁻¹⁴ for ν ≥ 50 and 10⁻⁴ ≤ p ≤ ½ (nan elsewhere), at a
-    fraction of the cost of ``stdtrit`` for many ν of one p.
+    """:func:`t_upper_quantile` within 10⁻¹⁴ for 50 ≤ ν < 10⁴ (the quadrature layer, where
+    :func:`screen_sf` has values) and 10⁻⁴ ≤ p ≤ ½ (nan elsewhere), at a fraction of the
+    cost of ``stdtrit`` for many ν of one p.
 
     The quantile is smooth in 1/ν: for each p of at least :data:`_SCREEN_ROWS` elements it is
     the Chebyshev interpolant in 1/ν through ``stdtrit`` at :data:`_SCREEN_NODES` points of the
@@ -370,7 +371,7 @@ def screen_quantile(df, p):
     2.000298
     """
     out = np.full(df.shape, np.nan)
-    usable = (df >= QUADRATURE_DF) & (p >= _SCREEN_P) & (p <= 0.5)
+    usable = (df >= QUADRATURE_DF) & (df < NORMAL_LIMIT_DF) & (p >= _SCREEN_P) & (p <= 0.5)
     if not usable.any():
         return out
     kept = np.flatnonzero(usable)
