@@ -18,11 +18,11 @@ import math
 import subprocess
 import sys
 import warnings
-from fractions import Fraction
 
 import mpmath
 import numpy as np
 import pytest
+from history_frames import exact_moments
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
@@ -56,15 +56,6 @@ def _refused(result: subprocess.CompletedProcess, *words: str) -> str:
 def _one_line(error: HistoryError) -> None:
     message = str(error)
     assert message and "\n" not in message and len(message) < 600, message
-
-
-def _exact(numbers: list[float]) -> tuple[float, float]:
-    exact = [Fraction(v) for v in numbers]
-    mean = sum(exact) / len(exact)
-    variance = sum((v - mean) ** 2 for v in exact) / (len(exact) - 1)
-    with mpmath.workdps(40):
-        sd = mpmath.sqrt(mpmath.mpf(variance.numerator) / variance.denominator)
-        return float(mpmath.mpf(mean.numerator) / mean.denominator), float(sd)
 
 
 # --- Parquet, generated -----------------------------------------------------------------------
@@ -158,7 +149,7 @@ def test_a_parquet_file_is_read_right_or_refused_in_one_line(tmp_path_factory, d
     assert not any(math.isinf(x) for x in present)
     metric = summary["x"]
     assert (metric.n, metric.missing) == (len(present), len(xs) - len(present))
-    mean, sd = _exact(present)
+    mean, sd = exact_moments(present)
     scale = max(abs(x) for x in present)
     assert math.isclose(metric.mean, mean, rel_tol=1e-9, abs_tol=max(1e-300, 1e-12 * scale))
     assert math.isclose(metric.sd, sd, rel_tol=1e-9, abs_tol=max(1e-300, 1e-12 * scale))
