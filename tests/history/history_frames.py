@@ -4,6 +4,9 @@ A helper module, not a conftest: pytest collects doctests from every module here
 modules called ``conftest`` in folders without ``__init__.py`` would clash.
 """
 
+from fractions import Fraction
+
+import mpmath
 import numpy as np
 import pandas as pd
 
@@ -84,3 +87,14 @@ def make_visits(units: int = 800, days: int = 30, seed: int = 7) -> pd.DataFrame
     })
     frame["time"] = frame["time"].str.replace("T", " ")
     return frame.sort_values("time", kind="stable").reset_index(drop=True)
+
+
+def exact_moments(numbers: list[float]) -> tuple[float, float]:
+    """The mean and sample sd of doubles, exactly with ``fractions`` and mpmath 1.3 (square root
+    at 40 digits), rounded once to doubles."""
+    exact = [Fraction(v) for v in numbers]
+    mean = sum(exact) / len(exact)
+    variance = sum((v - mean) ** 2 for v in exact) / (len(exact) - 1)
+    with mpmath.workdps(40):
+        sd = mpmath.sqrt(mpmath.mpf(variance.numerator) / variance.denominator)
+        return float(mpmath.mpf(mean.numerator) / mean.denominator), float(sd)

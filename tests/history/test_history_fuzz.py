@@ -15,6 +15,7 @@ from fractions import Fraction
 
 import mpmath
 import pytest
+from history_frames import exact_moments
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
@@ -31,15 +32,6 @@ values = st.one_of(
     st.integers(-10**9, 10**9).map(float),
     st.sampled_from([0.0, 1e308, -1e308, 1e-300, 5e-324, 1.7976931348623157e308]),
 )
-
-
-def _exact(numbers: list[float]) -> tuple[float, float]:
-    exact = [Fraction(v) for v in numbers]
-    mean = sum(exact) / len(exact)
-    variance = sum((v - mean) ** 2 for v in exact) / (len(exact) - 1)
-    with mpmath.workdps(40):
-        sd = mpmath.sqrt(mpmath.mpf(variance.numerator) / variance.denominator)
-        return float(mpmath.mpf(mean.numerator) / mean.denominator), float(sd)
 
 
 def _close(found: float, expected: float, scale: float) -> bool:
@@ -103,7 +95,7 @@ def test_a_history_file_is_read_right_or_refused_in_one_line(tmp_path_factory, d
     assume(plain)  # damaged bytes may still make a readable file: no answer to check then
     metric = summary["x"]
     assert (metric.n, metric.missing) == (len(present), len(xs) - len(present))
-    mean, sd = _exact(present)
+    mean, sd = exact_moments(present)
     scale = max(abs(x) for x in present)
     assert _close(metric.mean, mean, scale) and _close(metric.sd, sd, scale), (metric, mean, sd)
 

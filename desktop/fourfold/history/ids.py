@@ -114,14 +114,17 @@ def utf8_cells(series, pad: int = 16):
         array = pa.array([None if v is None or v != v else str(v) for v in series])
     if isinstance(array, pa.ChunkedArray):
         array = array.combine_chunks()
-    if not (pa.types.is_string(array.type) or pa.types.is_large_string(array.type)):
+    if pa.types.is_binary(array.type):
+        array = array.cast(pa.large_binary())  # ids as bytes: hashed as they are
+    elif not (pa.types.is_string(array.type) or pa.types.is_large_string(array.type)
+              or pa.types.is_large_binary(array.type)):
         array = array.cast(pa.large_string())
     buffers = array.buffers()
     n = len(array)
     valid = np.ones(n, bool)
     if array.null_count:
         valid = np.asarray(array.is_valid().to_numpy(zero_copy_only=False), bool)
-    offset_type = np.int64 if pa.types.is_large_string(array.type) else np.int32
+    offset_type = np.int32 if pa.types.is_string(array.type) else np.int64
     offsets = np.frombuffer(buffers[1], dtype=offset_type, count=n + 1,
                             offset=array.offset * np.dtype(offset_type).itemsize).astype(np.int64)
     data = np.frombuffer(buffers[2], dtype=np.uint8) if buffers[2] is not None else \

@@ -41,6 +41,12 @@ def _scale_of(power: int) -> int:
     return power if SAFE_EXPONENT < abs(power) and power > _NO_SIZE else 0
 
 
+def _mean(x: np.ndarray, constant: bool) -> float:
+    """The mean of a chunk; a chunk of one value repeated has that value (numpy's sum of n
+    copies divided by n may miss it by an ulp, which would give it a spread)."""
+    return float(x[0]) if constant else float(x.mean())
+
+
 def _exponent(top: float) -> int:
     """The power-of-two scale for values whose largest magnitude is ``top`` (0: none)."""
     if top == 0 or not math.isfinite(top):
@@ -83,10 +89,11 @@ class Moments:
         n = int(x.size)
         if n == 0:
             return cls()
-        exponent = _exponent(max(float(x.max()), -float(x.min())))
+        high, low = float(x.max()), float(x.min())
+        exponent = _exponent(max(high, -low))
         if exponent:
             x = np.ldexp(x, -exponent)
-        mean = float(x.mean())
+        mean = _mean(x, high == low)
         dev = x - mean
         return cls(n, math.ldexp(mean, exponent), float(np.sum(dev * dev)), exponent)
 
@@ -206,13 +213,14 @@ class CoMoments:
             raise ValueError(f"x and y must have the same length, not {x.size} and {y.size}")
         if x.size == 0:
             return cls()
-        ex = _exponent(max(float(x.max()), -float(x.min())))
-        ey = _exponent(max(float(y.max()), -float(y.min())))
+        x_high, x_low, y_high, y_low = (float(v) for v in (x.max(), x.min(), y.max(), y.min()))
+        ex = _exponent(max(x_high, -x_low))
+        ey = _exponent(max(y_high, -y_low))
         if ex:
             x = np.ldexp(x, -ex)
         if ey:
             y = np.ldexp(y, -ey)
-        mx, my = float(x.mean()), float(y.mean())
+        mx, my = _mean(x, x_high == x_low), _mean(y, y_high == y_low)
         dx, dy = x - mx, y - my
         return cls(
             Moments(int(x.size), math.ldexp(mx, ex), float(np.sum(dx * dx)), ex),

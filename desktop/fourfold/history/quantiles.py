@@ -76,17 +76,36 @@ class QuantileSketch:
     def estimate(self) -> QuantileEstimate:
         """The quantile and Silverman's bandwidth (nan for fewer than 2 values)."""
         n = self.moments.n
-        if n < 2:
+        if n < 2 or not self.moments.m2 > 0:  # one value, or one value repeated
             return QuantileEstimate(self.level, math.nan, True, math.nan, n)
         from fourfold.engine import quantile  # scipy.special: off the command line's start-up
 
-        share = self.level if self.sign > 0 else 1.0 - self.level
-        found = self.tail.estimate(100.0 * share)
+        value, exact = self._quantile(n)
         sample = self.tail.sample
         low, high = np.percentile(self.sign * sample, [25.0, 75.0])
         iqr = abs(high - low)
         h = float(quantile.silverman_bandwidth(n, self.moments.sd, iqr))
-        return QuantileEstimate(self.level, self.sign * found.value, found.exact, h, n)
+        return QuantileEstimate(self.level, value, exact, h, n)
+
+    def _quantile(self, n: int) -> tuple[float, bool]:
+        """numpy's linear quantile at the level, and whether it is exact.
+
+        Below one half the tail holds −x, the values' ranks counted from the top: the ranks
+        and weight are those of x, so a level within 2⁻⁵³ of 0 (whose 1 − p rounds to 1)
+        still gives x₍₀₎ + p·(n − 1)·(x₍₁₎ − x₍₀₎).
+        """
+        h = (n - 1) * self.level
+        low = math.floor(h)
+        high = min(low + 1, n - 1)
+        if self.sign > 0:
+            value = self.tail.between(low, high, h - low)
+        else:
+            value = self.tail.between(n - 1 - low, n - 1 - high, h - low)
+        if value is not None:
+            return self.sign * value, True
+        share = self.level if self.sign > 0 else 1.0 - self.level
+        share = min(100.0 * share, math.nextafter(100.0, 0.0))
+        return self.sign * float(np.percentile(self.tail.sample, share)), False
 
 
 def kernel_sum(values, estimate: QuantileEstimate) -> float:
@@ -94,9 +113,14 @@ def kernel_sum(values, estimate: QuantileEstimate) -> float:
     x = np.asarray(values, dtype=float)
     total = 0.0
     for start in range(0, x.size, _CHUNK):
-        u = (estimate.value - x[start:start + _CHUNK]) / estimate.bandwidth
-        total += float(np.exp(-0.5 * u * u).sum())
+        with np.errstate(over="ignore"):  # a value too far for a double adds φ(∞) = 0
+            u = (estimate.value - x[start:start + _CHUNK]) / estimate.bandwidth
+            total += float(np.exp(-0.5 * u * u).sum())
     return total / math.sqrt(2.0 * math.pi)
+
+
+def _spread(estimate: QuantileEstimate) -> str:
+    return "narrowly" if estimate.bandwidth < 1.0 else "widely"
 
 
 def finish_quantile(spec, tally, estimate: QuantileEstimate | None):
@@ -112,7 +136,14 @@ def finish_quantile(spec, tally, estimate: QuantileEstimate | None):
             f"column {spec.column!r} has the same value ({values.mean:g}) on almost every row: "
             "its density at the quantile cannot be estimated"
         )
-    density = tally.kernel / (values.n * estimate.bandwidth)
+    density = tally.kernel / values.n / estimate.bandwidth  # n·h alone may overflow
+    sd = math.sqrt(spec.level * (1.0 - spec.level)) / density if density > 0 else math.inf
+    if not (math.isfinite(density) and 0 < sd < math.inf):
+        raise HistoryError(
+            f"column {spec.column!r}: its values are spread so {_spread(estimate)} (kernel "
+            f"bandwidth {estimate.bandwidth:.3g}) that the density at the quantile is beyond "
+            "what a double holds; rescale the column (e.g. to other units)"
+        )
     sd = float(quantile.unit_sd(spec.level, density))
     parts = {"quantile_level": float(spec.level), "density": density, "exact": estimate.exact}
     return MetricSummary(spec.name, spec.kind, values.n, tally.rows - values.n, estimate.value,

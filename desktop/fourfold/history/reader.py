@@ -67,7 +67,9 @@ def read_columns(path: str | os.PathLike) -> list[str]:
     if not path.is_file():
         raise HistoryError(f"{path}: no such file")
     if is_parquet(path):
-        return _parquet_file(path).schema_arrow.names
+        names = _parquet_file(path).schema_arrow.names
+        _check_unique(path, names, "the file's schema")
+        return names
     with open(path, "rb") as handle:
         head = handle.read(_PROBE_BYTES)
     if not head.strip():
@@ -89,17 +91,17 @@ def read_columns(path: str | os.PathLike) -> list[str]:
             from None
     if not any(name.strip() for name in header):
         raise HistoryError(f"{path.name}: the first line must name the columns")
-    _check_unique(path, header)
+    _check_unique(path, header, "the first line")
     _check_last_line(path, len(header), line_break(head))
     return header
 
 
-def _check_unique(path: Path, header: list[str]) -> None:
+def _check_unique(path: Path, header: list[str], where: str) -> None:
     seen: dict[str, int] = {}
     for number, name in enumerate(header, start=1):
         if name.strip() and name in seen:
             raise HistoryError(
-                f"{path.name}: the first line names column {name!r} twice (columns "
+                f"{path.name}: {where} names column {name!r} twice (columns "
                 f"{seen[name]} and {number}); give each column its own name"
             )
         seen.setdefault(name, number)
@@ -136,7 +138,8 @@ def _parquet_file(path: Path):
     try:
         return pq.ParquetFile(path)
     except Exception as error:  # pyarrow raises several unrelated types for a bad file
-        raise HistoryError(f"{path.name}: not a readable Parquet file ({error})") from None
+        raise HistoryError(f"{path.name}: not a readable Parquet file ({_said(error)})") \
+            from None
 
 
 def iter_chunks(path: str | os.PathLike, columns: list[str], chunk_rows: int) -> Iterator[Chunk]:
@@ -210,18 +213,53 @@ def _parser_message(error: Exception, lines_before: int = 0) -> str:
 
 def _parquet_chunks(path: Path, columns: list[str], chunk_rows: int) -> Iterator[Chunk]:
     parquet = _parquet_file(path)
+    import pyarrow as pa
+
+    _check_parquet_types(path, parquet.schema_arrow, columns)
     total = max(parquet.metadata.num_rows, 1)
     start = 0
     try:
         for batch in parquet.iter_batches(batch_size=chunk_rows, columns=columns):
-            frame = batch.to_pandas()
-            rows = len(frame)
+            rows = batch.num_rows
             start_next = start + rows
-            yield Chunk({name: frame[name] for name in columns}, start, rows,
-                        min(start_next / total, 1.0))
+            yield Chunk({name: _parquet_column(path, batch, name) for name in columns}, start,
+                        rows, min(start_next / total, 1.0))
             start = start_next
-    except OSError as error:
-        raise HistoryError(f"{path.name}: the Parquet file cannot be read ({error})") from None
+    except (OSError, pa.ArrowException) as error:
+        raise HistoryError(f"{path.name}: the Parquet file cannot be read ({_said(error)})") \
+            from None
+
+
+def _check_parquet_types(path: Path, schema, columns: list[str]) -> None:
+    """Refuse a mapped column of nested values (lists, structs, maps): one value a cell."""
+    import pyarrow as pa
+
+    for name in columns:
+        kind = schema.field(name).type
+        if pa.types.is_dictionary(kind):
+            kind = kind.value_type
+        if pa.types.is_nested(kind):
+            raise HistoryError(f"{path.name}: column {name!r} holds {kind} values, not one "
+                               "number, id or time a cell")
+
+
+def _parquet_column(path: Path, batch, name: str):
+    """One column of a batch as a pandas Series, or a HistoryError naming it."""
+    import pyarrow as pa
+
+    try:
+        column = batch.column(name)
+        column.validate(full=True)  # text that is not UTF-8 fails here, not in pandas later
+        return column.to_pandas()
+    except (pa.ArrowException, ValueError, OverflowError) as error:
+        raise HistoryError(f"{path.name}: column {name!r} holds values that cannot be read "
+                           f"({_said(error)})") from None
+
+
+def _said(error: Exception) -> str:
+    """pyarrow's message on one line, cut at 300 characters (it may span several)."""
+    text = " ".join(str(error).split())
+    return text if len(text) <= 300 else text[:299] + "…"
 
 
 def numbers(series, column: str, *, proportion: bool, path, start: int) -> np.ndarray:
@@ -262,7 +300,11 @@ def _parse_cells(values: np.ndarray, column: str, *, proportion: bool, path, sta
 
     cells = pd.Series(values, dtype=object)
     missing = cells.isna().to_numpy().copy()
-    text = cells.where(~missing, "").astype(str).str.strip()
+    try:
+        text = cells.where(~missing, "").astype(str).str.strip()
+    except UnicodeDecodeError:
+        raise HistoryError(f"{Path(path).name}: column {column!r} holds binary data that is "
+                           "not text, so not numbers") from None
     missing |= (text == "").to_numpy()
     parsed = pd.to_numeric(text.where(~missing, None), errors="coerce")
     out = parsed.to_numpy(np.float64, copy=True)

@@ -127,12 +127,33 @@ class TailSketch:
             return TailEstimate(percentile, math.nan, True)
         h = (n - 1) * percentile / 100.0
         low = math.floor(h)
-        high = min(low + 1, n - 1)
-        # Order statistic k (0-based from the bottom) sits at top[k - (n - len(top))].
-        offset = n - self._top.size
-        if low >= offset:
-            top = np.sort(self._top)
-            a = top[low - offset]
-            b = top[high - offset]
-            return TailEstimate(percentile, float(a + (h - low) * (b - a)), True)
-        return TailEstimate(percentile, float(np.percentile(self._sample, percentile)), False)
+        value = self.between(low, min(low + 1, n - 1), h - low)
+        if value is None:
+            return TailEstimate(percentile, float(np.percentile(self._sample, percentile)),
+                                False)
+        return TailEstimate(percentile, value, True)
+
+    @property
+    def first_kept(self) -> int:
+        """The lowest rank (0-based from the bottom) of the values kept exactly."""
+        return self._seen - self._top.size
+
+    def between(self, a: int, b: int, fraction: float) -> float | None:
+        """x₍a₎ + fraction·(x₍b₎ − x₍a₎) for ranks a, b (0-based from the bottom), or None
+        when either is below the values kept exactly."""
+        offset = self.first_kept
+        if min(a, b) < offset:
+            return None
+        top = np.sort(self._top)
+        x_a, x_b = float(top[a - offset]), float(top[b - offset])
+        return _between(x_a, x_b, fraction)
+
+
+def _between(a: float, b: float, t: float) -> float:
+    """a + t·(b − a) as numpy's linear method writes it (from b when t ≥ 1/2, so that a
+    weight within an ulp of 1 gives b's neighbourhood), and without overflow when b − a is
+    beyond a double."""
+    diff = b - a
+    if not math.isfinite(diff):
+        return a * (1.0 - t) + b * t
+    return a + t * diff if t < 0.5 else b - (1.0 - t) * diff
