@@ -130,7 +130,8 @@ class SummaryBar(QFrame):
 
         An incomplete plan's reasons wrap in the duration item, which takes the free width of
         its line."""
-        full = self.contentsRect().width() - 24
+        margins = self.layout().contentsMargins()
+        full = self.contentsRect().width() - margins.left() - margins.right()
         room = full - self.notes.sizeHint().width() - SPACING
         items = [self.scenario] if not self.scenario.isHidden() else []
         items += [self.duration, self.units, self.binding]
