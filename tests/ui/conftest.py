@@ -3,8 +3,9 @@
 from __future__ import annotations
 
 import pytest
-from PySide6.QtCore import QEvent, QObject, QSettings
+from PySide6.QtCore import QEvent, QObject, QSettings, Qt
 from PySide6.QtGui import QAction
+from PySide6.QtTest import QTest
 from PySide6.QtWidgets import QApplication, QMessageBox
 
 from fourfold.plan import load, sample_path
@@ -36,6 +37,10 @@ def make_window(qtbot, qsettings, tmp_path):
         return window
 
     yield build
+    if windows:
+        # QTest.keyClick with modifiers (Ctrl+Alt+PageDown, say) leaves the application's
+        # modifier state at Ctrl: the next test's setCurrentIndex would add to the selection
+        QTest.keyRelease(windows[-1], Qt.Key.Key_Control)
     for window in windows:
         window.document.stack.mark_clean()
         window.close()
