@@ -35,11 +35,23 @@ CHOICES_ROLE = Qt.ItemDataRole.UserRole + 2
 """Role returning a choice cell's allowed values as ``[(label, value), ...]``."""
 
 ROLE = Qt.ItemDataRole
-_CACHED_ROLES = frozenset(int(role) for role in (
-    ROLE.DisplayRole, ROLE.TextAlignmentRole, ROLE.BackgroundRole, ROLE.ForegroundRole,
-    ROLE.FontRole, ROLE.CheckStateRole))
-_ANSWERED_ROLES = _CACHED_ROLES | {int(ROLE.EditRole), int(ROLE.ToolTipRole), SORT_ROLE,
-                                   CHOICES_ROLE}
+DISPLAY, _EDIT, _TOOLTIP = int(ROLE.DisplayRole), int(ROLE.EditRole), int(ROLE.ToolTipRole)
+_ALIGNMENT, _CHECK_STATE = int(ROLE.TextAlignmentRole), int(ROLE.CheckStateRole)
+_FONT, _BACKGROUND, _FOREGROUND = int(ROLE.FontRole), int(ROLE.BackgroundRole), \
+    int(ROLE.ForegroundRole)
+_STYLE_ROLES = {_FONT: 0, _BACKGROUND: 1, _FOREGROUND: 2}
+"""The roles :meth:`PlanTableModel._style` gives, and their place in what it returns."""
+_UNCACHED_ROLES = frozenset({_EDIT, _TOOLTIP, SORT_ROLE, CHOICES_ROLE})
+"""Roles worked out on each request (editors, tooltips, sorting); every other role a view asks
+for is kept per cell until the row changes (None for the roles the table does not answer)."""
+_SPAN = len(COLUMNS)
+"""A cached role's key in its row's dict is ``role * _SPAN + column`` (one int, no tuple)."""
+_MISSING = object()
+_RIGHT = int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+_LEFT = int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
+_ALIGNMENTS = tuple(_RIGHT if column.editor == NUMBER or column.computed else _LEFT
+                    for column in COLUMNS)
+_COMPUTED = tuple(column.computed for column in COLUMNS)
 
 
 def _column_flags(column) -> Qt.ItemFlag:
@@ -51,7 +63,9 @@ def _column_flags(column) -> Qt.ItemFlag:
     return base | Qt.ItemFlag.ItemIsEditable
 
 
-_FLAGS = tuple(_column_flags(column) for column in COLUMNS)
+_FLAGS = dict(enumerate(_column_flags(column) for column in COLUMNS))
+"""Flags by column position (an invalid index, column -1, has none)."""
+_NO_FLAGS = Qt.ItemFlag.NoItemFlags
 
 
 def _marker_icon(colour: QColor) -> QIcon:
@@ -302,14 +316,19 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         column = COLUMN_KINDS.get(key)
         return column is not None and column != metric.kind
 
-    def data(self, index, role=ROLE.DisplayRole):
-        role = int(role)
-        if role not in _ANSWERED_ROLES or not index.isValid():
+    def data(self, index, role=DISPLAY):
+        # the view asks for seven roles of every cell it paints: a kept role is two look-ups
+        cells = self._cache.get(index.row())
+        if cells is not None:
+            value = cells.get(role * _SPAN + index.column(), _MISSING)
+            if value is not _MISSING:
+                return value
+        if not index.isValid():
             return None
-        row, column = index.row(), index.column()
-        if role not in _CACHED_ROLES:
-            return self._value(row, column, role)
-        return self.cell(row, column, role)
+        role = int(role)
+        if role in _UNCACHED_ROLES:
+            return self._value(index.row(), index.column(), role)
+        return self.cell(index.row(), index.column(), role)
 
     def cell(self, row: int, column: int, role: int):
         """One display role of one cell (text, alignment, colours, font, check state), as
@@ -317,56 +336,69 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         cells = self._cache.get(row)
         if cells is None:
             cells = self._cache[row] = {}
-        key = (column, role)
-        try:
-            return cells[key]
-        except KeyError:
+        key = role * _SPAN + column
+        value = cells.get(key, _MISSING)
+        if value is _MISSING:
+            if role in _STYLE_ROLES and role != _FONT:  # asked for together when painted
+                font, background, foreground = self._style(row, column)
+                cells[_FONT * _SPAN + column] = font
+                cells[_BACKGROUND * _SPAN + column] = background
+                cells[_FOREGROUND * _SPAN + column] = foreground
+                return cells[key]
             value = cells[key] = self._value(row, column, role)
-            return value
+        return value
+
+    def _style(self, row: int, column: int) -> tuple:
+        """A cell's font, background and text colour (None where the view's own)."""
+        key = COLUMNS[column].key
+        solved = key in SOLVED_COLUMN.get(self._solved(row), ())
+        if solved:
+            background = self._tints.solved
+        elif _COMPUTED[column]:
+            background = self._tints.computed
+        else:
+            background = self._scenario_tint if self.changed_here(row, key) else None
+        return self._font(row, column, solved), background, self._foreground(row, column)
+
+    def _font(self, row: int, column: int, solved: bool) -> QFont | None:
+        """A cell's font: bold where the row's solved quantity, italic for results, plan
+        defaults and usual methods (None: the view's font)."""
+        if solved:
+            return self._bold
+        if _COMPUTED[column]:
+            return self._italic
+        key = COLUMNS[column].key
+        if key in ("alpha", "power") and getattr(self._rows[row], key) is None:
+            return self._italic
+        if key == "method" and self._rows[row].method is None:
+            return self._italic
+        return None
 
     def _value(self, row: int, column: int, role: int):
         """One role of one cell (the uncached work behind :meth:`data`)."""
-        col = COLUMNS[column]
-        if role == ROLE.DisplayRole:
+        if role == DISPLAY:
             return self.display_text(row, column)
-        if role == ROLE.EditRole:
+        if role == _ALIGNMENT:
+            return _ALIGNMENTS[column]
+        if role == _FONT:  # alone: what widen_columns measures off screen with
+            return self._font(row, column, self.is_solved(row, column))
+        if role in _STYLE_ROLES:
+            return self._style(row, column)[_STYLE_ROLES[role]]
+        col = COLUMNS[column]
+        if role == _CHECK_STATE:
+            if col.editor != CHECK:
+                return None
+            checked = bool(getattr(self._rows[row], col.key))
+            return Qt.CheckState.Checked if checked else Qt.CheckState.Unchecked
+        if role == _EDIT:
             return self.edit_text(row, column)
         if role == SORT_ROLE:
             return self.sort_value(row, column)
-        if role == ROLE.CheckStateRole and col.editor == CHECK:
-            checked = bool(getattr(self._rows[row], col.key))
-            return Qt.CheckState.Checked if checked else Qt.CheckState.Unchecked
-        if role == ROLE.ToolTipRole:
+        if role == _TOOLTIP:
             return self._tooltip(row, column)
-        if role == ROLE.TextAlignmentRole:
-            if col.editor == NUMBER or col.computed:
-                return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-            return int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
-        if role == ROLE.BackgroundRole:
-            if self.is_solved(row, column):
-                return self._tints.solved
-            if col.computed:
-                return self._tints.computed
-            if self.changed_here(row, col.key):
-                return self._scenario_tint
-            return None
-        if role == ROLE.ForegroundRole:
-            return self._foreground(row, column)
-        if role == ROLE.FontRole:
-            if self.is_solved(row, column):
-                return self._bold
-            if col.computed:
-                return self._italic
-            if col.key in ("alpha", "power") and getattr(self._rows[row], col.key) is None:
-                return self._italic
-            if col.key == "method" and self._rows[row].method is None:
-                return self._italic
-            return None
         if role == CHOICES_ROLE and col.editor == CHOICE:
             return self.choices(row, column)
         return None
 
     def flags(self, index):
-        if not index.isValid():
-            return Qt.ItemFlag.NoItemFlags
-        return _FLAGS[index.column()]
+        return _FLAGS.get(index.column(), _NO_FLAGS)

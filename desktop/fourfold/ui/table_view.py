@@ -42,6 +42,11 @@ _COLUMN_FIELDS = frozenset({"kind", "windows"})
 """The metric fields that decide which columns are shown (see :meth:`follow_looks`)."""
 MAX_COLUMN_CHARS = 30
 DISPLAY, FONT = int(Qt.ItemDataRole.DisplayRole), int(Qt.ItemDataRole.FontRole)
+_MEASURED = tuple(column.computed or column.editor == NUMBER or column.key == "name"
+                  for column in COLUMNS)
+"""The columns :meth:`PlanTableView.widen_columns` widens: names, numbers and results."""
+MAX_WIDTHS_KEPT = 20_000
+"""Texts whose widths are kept per cell font before they are forgotten and measured anew."""
 
 
 def parse_grid(text: str) -> list[list[str]]:
@@ -101,6 +106,9 @@ class PlanTableView(QTableView):
         self._sort_state: tuple | None = None
         self._sort_checked = False  # the snapshot held after a recompute: check what it changed
         self._unfitted: set[int] = set()  # columns not sized since the last fit_columns
+        # the widths of cell texts measured in the table's font, by cell font (widen_columns)
+        self._widths_font = QFont()
+        self._widths: dict[tuple[bool, bool], tuple] = {}
         # rows shown before the first fit, or while a fit sizes the rows, are measured by it
         self._measuring = True
         vertical = self.verticalHeader()
@@ -270,29 +278,42 @@ class PlanTableView(QTableView):
         margin = 2 * (self.style().pixelMetric(QStyle.PixelMetric.PM_FocusFrameHMargin, None,
                                                self) + 1) + 6
         base = self.font()
-        measures: dict[tuple[bool, bool], QFontMetrics] = {}
+        if self._widths_font != base:  # the widths measured in another font are of no use
+            self._widths_font, self._widths = QFont(base), {}
+        styles: dict[int, tuple] = {}  # id(font) → its metrics and measured texts (this call)
         widest_name = MAX_COLUMN_CHARS * self.fontMetrics().averageCharWidth()
+        cell = model.cell
         for position in range(top_left.column(), bottom_right.column() + 1):
-            column = COLUMNS[position]
-            if not (column.computed or column.editor == NUMBER or column.key == "name") \
-                    or self.isColumnHidden(position):
+            if not _MEASURED[position] or self.isColumnHidden(position):
                 continue
             widest = 0
             for row in rows:
-                text = model.cell(row, position, DISPLAY)
+                text = cell(row, position, DISPLAY)
                 if not text:
                     continue
-                font = model.cell(row, position, FONT)
-                key = (False, False) if font is None else (font.bold(), font.italic())
-                measure = measures.get(key)
-                if measure is None:
-                    measure = measures[key] = QFontMetrics(
-                        base if font is None else font.resolve(base))
-                widest = max(widest, measure.horizontalAdvance(text))
-            if column.key == "name":
+                font = cell(row, position, FONT)
+                style = styles.get(id(font))
+                if style is None:
+                    style = styles[id(font)] = self._style_widths(base, font)
+                width = style[1].get(text)
+                if width is None:
+                    width = style[1][text] = style[0].horizontalAdvance(text)
+                if width > widest:
+                    widest = width
+            if COLUMNS[position].key == "name":
                 widest = min(widest, widest_name)
             if widest + margin > self.columnWidth(position):
                 self.setColumnWidth(position, widest + margin)
+
+    def _style_widths(self, base: QFont, font: QFont | None) -> tuple:
+        """The metrics of a cell font (None: the table's) and the widths of the texts measured
+        in it so far (forgotten when the table's font changes or there are too many)."""
+        key = (False, False) if font is None else (font.bold(), font.italic())
+        style = self._widths.get(key)
+        if style is None or len(style[1]) > MAX_WIDTHS_KEPT:
+            style = self._widths[key] = (
+                QFontMetrics(base if font is None else font.resolve(base)), {})
+        return style
 
     def wanted_height(self, rows: int) -> int:
         """Height showing the header and ``rows`` rows without scrolling."""
