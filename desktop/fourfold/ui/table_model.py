@@ -52,6 +52,14 @@ _LEFT = int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
 _ALIGNMENTS = tuple(_RIGHT if column.editor == NUMBER or column.computed else _LEFT
                     for column in COLUMNS)
 _COMPUTED = tuple(column.computed for column in COLUMNS)
+_BLANK = {
+    **{_ALIGNMENT * _SPAN + position: alignment for position, alignment in enumerate(_ALIGNMENTS)},
+    **{int(ROLE.DecorationRole) * _SPAN + position: None for position in range(_SPAN)},
+    **{_CHECK_STATE * _SPAN + position: None for position, column in enumerate(COLUMNS)
+       if column.editor != CHECK},
+}
+"""The roles of a row's cells that its values do not decide (the alignment, no icon, no check
+box), with which a row's kept roles start: the view's first paint of a cell finds them kept."""
 
 
 def _column_flags(column) -> Qt.ItemFlag:
@@ -335,7 +343,7 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         :meth:`data` gives it, without a model index: what the view measures with."""
         cells = self._cache.get(row)
         if cells is None:
-            cells = self._cache[row] = {}
+            cells = self._cache[row] = _BLANK.copy()
         key = role * _SPAN + column
         value = cells.get(key, _MISSING)
         if value is _MISSING:
