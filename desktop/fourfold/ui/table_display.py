@@ -18,6 +18,8 @@ from fourfold.ui import cells, simulation_cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, TEXT
 
 ROLE = Qt.ItemDataRole
+MAX_DERIVED_KEPT = 50_000
+"""Derived texts kept (by row stamp) before they are forgotten and worked out anew."""
 
 DERIVED_SD_TIPS = {
     "ratio": "Derived from the numerator's and denominator's means, sds and correlation by the "
@@ -123,14 +125,29 @@ class TableDisplay:
             return self._default_text(key)
         if value is None and key == "sd" and metric.kind == "rate":
             return "= mean"
-        if key == "sd" and metric.kind in kinds.DERIVED_SD:
-            return cells.show_value(metric, key, kinds.unit_sd(metric), with_unit=True) \
-                or cells.DASH
-        if key == "density" and value is None and metric.kind == "quantile":
-            return cells.show_value(metric, key, float(kinds.quantile_densities([metric])[0][0]))
+        if (key == "sd" and metric.kind in kinds.DERIVED_SD) or (
+                key == "density" and value is None and metric.kind == "quantile"):
+            return self._derived_text(metric, key)
         if col.kind is not None and metric.kind != col.kind:
             return ""
         return cells.show_value(metric, key, value, with_unit=True)
+
+    def _derived_text(self, metric, key: str) -> str:
+        """The text of a figure derived from the row's own fields alone (a ratio's or
+        quantile's sd, a quantile's fitted density): worked out once per state of the row
+        (its stamp), not on every recompute, as it costs an engine call."""
+        found = self._derived.get((metric.stamp, key))
+        if found is None:
+            if len(self._derived) > MAX_DERIVED_KEPT:
+                self._derived.clear()
+            if key == "sd":
+                found = cells.show_value(metric, key, kinds.unit_sd(metric), with_unit=True) \
+                    or cells.DASH
+            else:
+                found = cells.show_value(metric, key,
+                                         float(kinds.quantile_densities([metric])[0][0]))
+            self._derived[metric.stamp, key] = found
+        return found
 
     def edit_text(self, row: int, column: int) -> str:
         """The text an editor starts with (empty for unset optional values)."""
