@@ -11,11 +11,12 @@ from __future__ import annotations
 
 import dataclasses
 
+from cell_typing import type_in_cell
 from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
 
 from fourfold.plan import Plan, load, sample_path
-from fourfold.ui.columns import COLUMNS
+from fourfold.ui.columns import COLUMNS, column_index
 
 ROLE = Qt.ItemDataRole
 ROLES = (ROLE.DisplayRole, ROLE.FontRole, ROLE.ForegroundRole, ROLE.BackgroundRole,
@@ -118,3 +119,24 @@ def test_widths_measured_in_a_larger_text_are_measured_again(qtbot, make_window)
     fresh = _open(qtbot, make_window, _with_looks(plan, 5))
     assert fresh.table.font() == window.table.font()
     assert _widths(window) == _widths(fresh)
+
+
+def test_typed_inputs_of_a_derived_sd_and_density_show_in_them(qtbot, make_window):
+    """A ratio's sd and a quantile's fitted density are kept per state of their row: typing
+    one of the fields they are derived from shows the figure a fresh window shows."""
+    window = _open(qtbot, make_window, _plan(7))
+    model = window.model
+    ratio = next(row for row in range(7) if model.metric(row).kind == "ratio")
+    quantile = next(row for row in range(7) if model.metric(row).kind == "quantile")
+    before = (model.data(model.index(ratio, column_index("sd"))),
+              model.data(model.index(quantile, column_index("density"))))
+    type_in_cell(qtbot, window, ratio, "numerator_sd", "9")
+    type_in_cell(qtbot, window, quantile, "second_value", "2.5")
+    _settle(qtbot, window)
+    after = (model.data(model.index(ratio, column_index("sd"))),
+             model.data(model.index(quantile, column_index("density"))))
+    assert after[0] != before[0] and after[1] != before[1]
+    plan = window.document.plan
+    fresh = _open(qtbot, make_window, Plan(dataclasses.replace(plan.settings),
+                                           [dataclasses.replace(row) for row in plan.metrics]))
+    assert _cells(window) == _cells(fresh)
