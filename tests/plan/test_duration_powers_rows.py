@@ -1,0 +1,100 @@
+"""Every row's power at the plan's duration is the power of that row asked alone.
+
+:func:`fourfold.plan.rows.powers_at` reads the rows as columns, makes one engine call per group
+of rows and, with interim looks, asks each design's boundaries once per distinct fixed power of
+its rows (:func:`fourfold.plan.rows._through_looks`). The reference here is the row asked alone,
+the way the rule reads: one engine call of one element with the row's α, effect, margin and
+design factor at the duration's units, then, with looks, the boundaries of its own design
+(:func:`fourfold.plan.sequential.row_boundaries`) through
+:func:`fourfold.plan.sequential.power_of`. A consistency check (no outside source): a row given
+another row's design, fixed power or engine group would differ; the two must agree to the
+last bit.
+"""
+
+import dataclasses
+import math
+
+import numpy as np
+import pytest
+from test_solved_rows import _reach, _rows
+
+from fourfold import engine
+from fourfold.plan import Metric, Plan, compute, kinds, load, sample_path, sequential
+from fourfold.plan.arms import treatment_ratio
+from fourfold.plan.rows import AtDuration, powers_at, runtime_units
+
+
+def _alone(plan: Plan, result, index: int, at: AtDuration) -> float:
+    """Row ``index``'s power at ``at``, asked on its own."""
+    metric, row = plan.metrics[index], result.rows[index]
+    if row.reason:
+        return math.nan
+    sd, own = kinds.unit_sds([metric])
+    values, reasons = engine.values_and_reasons(
+        "power", metric.kind, np.array([metric.baseline]), effect=np.array([row.effect_abs]),
+        n=at.units / np.array([row.design_factor]),
+        sd=None if sd is None else np.where(own == "", sd, 1.0), alpha=np.array([row.alpha]),
+        alternative=metric.alternative, ratio=treatment_ratio(plan.settings), relative=False,
+        margin=np.array([row.margin_abs]), method=metric.method)
+    if own[0] or reasons[0]:
+        return math.nan
+    value = float(values[0])
+    settings = plan.settings
+    if settings.looks <= 1:
+        return value
+    power = settings.power if metric.power is None else metric.power
+    try:
+        staged = sequential.row_boundaries(settings, row.alpha, power, metric.alternative, {},
+                                           at.days)
+    except ValueError:
+        return math.nan
+    return sequential.power_of(staged, value)
+
+
+def _at(plan: Plan, result) -> AtDuration:
+    settings = plan.settings
+    if settings.runtime_days is not None:
+        return AtDuration(runtime_units(settings), float(settings.runtime_days))
+    days = result.duration_days
+    return AtDuration(runtime_units(dataclasses.replace(settings, runtime_days=days)), days)
+
+
+def _varied() -> list:
+    """The rows of ``test_solved_rows`` twice over (rows of one design and fixed power
+    apart), with rows that fail (no effect) and a power asked of one row only."""
+    rows = _rows()
+    conversion = rows[0]
+    return [*rows,
+            dataclasses.replace(conversion, name="No effect", role="secondary", effect=None),
+            dataclasses.replace(rows[5], name="Revenue at power 0.85", power=0.85),
+            Metric(name="Impossible design", role="secondary", kind="mean", baseline=1.0,
+                   sd=1.0, effect=0.1, power=0.01, alpha=0.2),
+            *[dataclasses.replace(row, name=f"{row.name} again") for row in rows]]
+
+
+@pytest.mark.parametrize("settings", [
+    dict(looks=1),
+    dict(looks=2),
+    dict(looks=3, futility=True),
+    dict(looks=4, whole_weeks=False),
+    dict(looks=5, spending="pocock"),
+    dict(looks=6),
+    dict(looks=3, runtime_days=28.0),
+    dict(looks=4, correction="bonferroni"),
+    "reach",
+], ids=["fixed design", "2 looks", "futility", "4 looks by day", "5 Pocock looks",
+        "6 looks", "fixed runtime", "bonferroni", "reach curve"])
+def test_each_rows_power_at_the_duration_is_the_row_asked_alone(settings):
+    base = _reach().settings if settings == "reach" else load(sample_path()).settings
+    chosen = dict(looks=3) if settings == "reach" else settings
+    plan = Plan(dataclasses.replace(base, **chosen), _varied())
+    result = compute(plan)
+    at = _at(plan, result)
+    expected = [_alone(plan, result, index, at) for index in range(len(plan.metrics))]
+    assert any(math.isnan(value) for value in expected)  # a row not computed
+    assert len({value for value in expected if not math.isnan(value)}) > 5
+    np.testing.assert_array_equal(np.array(result.duration_powers), np.array(expected))
+    some = list(range(len(plan.metrics)))[::3]  # a part of the rows, as an edit asks
+    np.testing.assert_array_equal(
+        np.array(powers_at(plan, result.rows, some, at, {})),
+        np.array([expected[index] for index in some]))
