@@ -98,3 +98,41 @@ def test_each_rows_power_at_the_duration_is_the_row_asked_alone(settings):
     np.testing.assert_array_equal(
         np.array(powers_at(plan, result.rows, some, at, {})),
         np.array([expected[index] for index in some]))
+
+
+
+def test_derived_sds_are_kept_by_row_stamp_through_a_looks_change(monkeypatch):
+    """The ratio and quantile rows' sds are kept by row stamp (a row cache keeps them through
+    a change of the settings); a row edited in place gets a new stamp, so its sd alone is
+    worked out again, and the cache's powers stay those of an evaluation without it."""
+    from fourfold.plan import rows as rows_module
+    from fourfold.plan.row_cache import RowCache
+
+    plan = Plan(load(sample_path()).settings, _varied())
+    cache = RowCache()
+    for looks in (2, 3):
+        shown = dataclasses.replace(plan, settings=dataclasses.replace(plan.settings,
+                                                                       looks=looks))
+        compute(shown, cache=cache)
+    ratio = next(index for index, metric in enumerate(plan.metrics) if metric.kind == "ratio")
+    plan.metrics[ratio].numerator_sd *= 1.5
+    shown = dataclasses.replace(plan, settings=dataclasses.replace(plan.settings, looks=4))
+    found = compute(shown, cache=cache)
+    np.testing.assert_array_equal(np.array(found.duration_powers),
+                                  np.array(compute(shown).duration_powers))
+
+    asked = []
+    made = kinds.unit_sds
+    monkeypatch.setattr(rows_module.kinds, "unit_sds",
+                        lambda metrics: asked.append([m.name for m in metrics]) or made(metrics))
+    sds = dict(cache.sds)
+    plan.metrics[ratio].numerator_sd *= 1.5
+    at = _at(shown, found)
+    everything = list(range(len(plan.metrics)))
+    powers = powers_at(shown, found.rows, everything, at, {}, sds)
+    derived = [names for names in asked if plan.metrics[ratio].name in names
+               or any("p95" in name for name in names)]
+    assert derived == [[plan.metrics[ratio].name]]
+    monkeypatch.setattr(rows_module.kinds, "unit_sds", made)
+    np.testing.assert_array_equal(np.array(powers),
+                                  np.array(powers_at(shown, found.rows, everything, at, {})))

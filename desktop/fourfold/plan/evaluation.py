@@ -475,8 +475,9 @@ def _duration_powers(plan: Plan, rows: tuple[RowResult, ...], at: AtDuration, de
     else:
         powers, missing, solved = [math.nan] * len(rows), range(len(rows)), None
     if missing:
-        for index, power in zip(missing, powers_at(plan, rows, list(missing), at, designs),
-                                strict=True):
+        found = powers_at(plan, rows, list(missing), at, designs,
+                          None if cache is None else cache.sds)
+        for index, power in zip(missing, found, strict=True):
             powers[index] = power
     if cache is not None:
         cache.powers, cache.powers_at = powers, where
