@@ -136,3 +136,40 @@ def test_derived_sds_are_kept_by_row_stamp_through_a_looks_change(monkeypatch):
     monkeypatch.setattr(rows_module.kinds, "unit_sds", made)
     np.testing.assert_array_equal(np.array(powers),
                                   np.array(powers_at(shown, found.rows, everything, at, {})))
+
+
+def test_powers_met_before_come_from_the_documents_pool(monkeypatch):
+    """Caches sharing a pool (a document's scenarios) take a row's power at a duration from it
+    for the same settings, row key and duration: back to a number of looks met before, no
+    power is asked of the engine or a design, and the powers are those of an evaluation
+    without a cache; a duration not met before asks again."""
+    from fourfold.plan import evaluation
+    from fourfold.plan.comparison import Caches
+
+    sample = load(sample_path())
+    plan = Plan(sample.settings, _varied())
+
+    def at(looks: int, metrics=None) -> Plan:
+        return Plan(dataclasses.replace(plan.settings, looks=looks), metrics or plan.metrics)
+
+    fresh = compute(at(3))
+    binding = fresh.binding_index
+    longer = list(plan.metrics)
+    longer[binding] = dataclasses.replace(longer[binding], effect=longer[binding].effect * 0.9)
+    fresh_longer = compute(at(3, longer))
+    assert fresh_longer.duration_days > fresh.duration_days
+    caches = Caches()
+    for looks in (3, 4):
+        compute(at(looks), cache=caches.get(None))
+    asked = []
+    made = evaluation.powers_at
+    monkeypatch.setattr(evaluation, "powers_at",
+                        lambda *args, **kwargs: asked.append(args[2]) or made(*args, **kwargs))
+    found = compute(at(3), cache=caches.get("other scenario"))
+    assert asked == []
+    np.testing.assert_array_equal(np.array(found.duration_powers),
+                                  np.array(fresh.duration_powers))
+    found = compute(at(3, longer), cache=caches.get(None))
+    assert asked == [list(range(len(longer)))]
+    np.testing.assert_array_equal(np.array(found.duration_powers),
+                                  np.array(fresh_longer.duration_powers))

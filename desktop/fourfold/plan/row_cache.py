@@ -12,7 +12,9 @@ are the same as without a cache: rows are reused only when their key and the set
 those they were computed with (``tests/plan/test_evaluation_cache.py`` holds the two equal
 under random edits, in place and by replacement). The caches of one document's scenarios share
 a pool of results by settings and key, so that a base row several scenarios show alike is
-solved once for all of them.
+solved once for all of them, and of its powers at a duration by settings, duration and key,
+so that a change of the settings back to ones met before (a number of looks, say) solves no
+power again.
 
 What changed is kept as sets of row indices, each emptied by the step that reads it:
 :attr:`RowCache.unkeyed` (rows whose key is to be built again), :attr:`RowCache.unread` (rows
@@ -45,8 +47,13 @@ ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alterna
 
 row_inputs = operator.attrgetter(*ROW_INPUTS)
 
-SHARED_KEPT = 50_000
-"""The most row results a shared pool keeps (about 100 scenarios of a 500-row plan)."""
+SHARED_KEPT = 100_000
+"""The most entries a shared pool keeps: row results and their powers at a duration (about
+100 scenarios of a 500-row plan)."""
+
+_POWER = "power at"
+"""The first item of a shared pool's key of a row's power at a duration (a row result's key
+has two items: settings and row key)."""
 
 _SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
 
@@ -246,5 +253,30 @@ class RowCache:
         pool, settings = self.shared, self.settings
         for index in solved:
             pool[(settings, keys[index])] = results[index]
+        self._trim()
+
+    def borrow_powers(self, where: tuple, missing: Iterable[int], powers: list) -> list[int]:
+        """Fill ``powers`` at ``missing`` with the powers at the duration ``where`` (units and
+        days) the shared pool holds for rows of the same settings and keys (:attr:`keys`: a
+        row's power there depends on nothing else); the indices still missing."""
+        pool, head, keys, left = self.shared, (_POWER, self.settings, where), self.keys, []
+        for index in missing:
+            found = pool.get((*head, keys[index]))
+            if found is None:
+                left.append(index)
+            else:
+                powers[index] = found
+        return left
+
+    def lend_powers(self, where: tuple, solved: list[int], powers: list) -> None:
+        """Put the powers at the duration ``where`` of the rows just ``solved`` into the
+        shared pool (the oldest entries go past its size)."""
+        pool, head, keys = self.shared, (_POWER, self.settings, where), self.keys
+        for index in solved:
+            pool[(*head, keys[index])] = powers[index]
+        self._trim()
+
+    def _trim(self) -> None:
+        pool = self.shared
         while len(pool) > SHARED_KEPT:
             del pool[next(iter(pool))]
