@@ -222,6 +222,22 @@ def test_uneven_timing_keeps_alpha_and_power(cuts, spending, futility):
     assert d.stop_h0.sum() == pytest.approx(1.0, abs=1e-8)
 
 
+def test_designs_made_on_two_threads_at_once_are_those_made_alone():
+    # the recursion keeps its kernels' space per thread (common practice, no source: a
+    # design is a pure function of its arguments, whatever else runs beside it)
+    from concurrent.futures import ThreadPoolExecutor
+
+    asked = [dict(looks=looks, alpha=alpha, futility=futility)
+             for looks in (3, 7, 12) for alpha in (0.05, 0.01)
+             for futility in (None, "ld-pocock")]
+    alone = [design(**kwargs) for kwargs in asked]
+    with ThreadPoolExecutor(2) as pool:
+        together = list(pool.map(lambda kwargs: design(**kwargs), asked * 3))
+    for made, again in zip(alone * 3, together, strict=True):
+        assert (made.drift, made.inflation) == (again.drift, again.inflation)
+        np.testing.assert_array_equal(made.stop_h1, again.stop_h1)
+
+
 def test_results_are_read_only():
     d = design(3)
     with pytest.raises(ValueError):

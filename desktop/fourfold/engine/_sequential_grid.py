@@ -10,11 +10,11 @@ crossing a boundary at look k is integrated directly from the previous look's su
 the normal distribution function, which needs no grid of its own.
 
 A :class:`Look` computes each node's mean and the increment's sd once for every level asked
-about at that look, and builds the transition kernel in place (two arrays of grid × grid
-instead of six temporaries, whose fresh pages cost more than the arithmetic). The arithmetic is
-that of the formulas, operation for operation and in the same order, so that the results do not
-depend on how they are computed: keep it so (a rewrite for speed is checked bit for bit,
-``np.array_equal`` on saved designs).
+about at that look, and builds the transition kernel in place, in two arrays of grid × grid
+that each thread keeps for all its kernels (fresh pages cost more than the arithmetic). The
+arithmetic is that of the formulas, operation for operation and in the same order, so that the
+results do not depend on how they are computed: keep it so (a rewrite for speed is checked bit
+for bit, ``np.array_equal`` on saved designs).
 
 Nothing here checks arguments; :mod:`fourfold.engine.sequential` does.
 
@@ -31,6 +31,7 @@ from __future__ import annotations
 
 import functools
 import math
+import threading
 from typing import NamedTuple
 
 import numpy as np
@@ -96,6 +97,20 @@ def _simpson(points: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     weights[2::2] += sixth
     weights[1::2] = 4.0 * widths / 6.0
     return nodes, weights
+
+
+_SCRATCH = threading.local()
+
+
+def _scratch(rows: int, columns: int) -> tuple[np.ndarray, np.ndarray]:
+    """Two arrays of ``rows`` × ``columns`` for a transition kernel, from space this thread
+    keeps (grown when too small): a kernel is built, used and dropped within one
+    :meth:`Look.advance`, and fresh pages for each cost more than the arithmetic."""
+    size = rows * columns
+    space = getattr(_SCRATCH, "space", None)
+    if space is None or space.shape[1] < size:
+        space = _SCRATCH.space = np.empty((2, size))
+    return space[0, :size].reshape(rows, columns), space[1, :size].reshape(rows, columns)
 
 
 class Look:
@@ -169,9 +184,10 @@ class Look:
             density = np.exp(-0.5 * (nodes - centre) ** 2) * _INV_SQRT_2PI
         else:
             sd = self.sd
-            u = np.subtract.outer(score, self.mean)
+            u, kernel = _scratch(score.size, self.mean.size)
+            np.subtract.outer(score, self.mean, out=u)
             u /= sd
-            kernel = np.multiply(u, -0.5)
+            np.multiply(u, -0.5, out=kernel)
             kernel *= u
             np.exp(kernel, out=kernel)
             kernel *= _INV_SQRT_2PI * root / sd
