@@ -239,44 +239,40 @@ class RowCache:
 
     def borrow(self, keys: list, missing: list[int], results: list) -> list[int]:
         """Fill ``results`` at ``missing`` from the shared pool; the indices still missing."""
-        pool, settings, left = self.shared, self.settings, []
-        for index in missing:
-            found = pool.get((settings, keys[index]))
-            if found is None:
-                left.append(index)
-            else:
-                results[index] = found
-        return left
+        return self._take((self.settings,), keys, missing, results)
 
     def lend(self, keys: list, solved: list[int], results: list) -> None:
         """Put the rows just ``solved`` into the shared pool (the oldest go past its size)."""
-        pool, settings = self.shared, self.settings
-        for index in solved:
-            pool[(settings, keys[index])] = results[index]
-        self._trim()
+        self._put((self.settings,), keys, solved, results)
 
     def borrow_powers(self, where: tuple, missing: Iterable[int], powers: list) -> list[int]:
         """Fill ``powers`` at ``missing`` with the powers at the duration ``where`` (units and
         days) the shared pool holds for rows of the same settings and keys (:attr:`keys`: a
         row's power there depends on nothing else); the indices still missing."""
-        pool, head, keys, left = self.shared, (_POWER, self.settings, where), self.keys, []
+        return self._take((_POWER, self.settings, where), self.keys, missing, powers)
+
+    def lend_powers(self, where: tuple, solved: list[int], powers: list) -> None:
+        """Put the powers at the duration ``where`` of the rows just ``solved`` into the
+        shared pool (the oldest entries go past its size)."""
+        self._put((_POWER, self.settings, where), self.keys, solved, powers)
+
+    def _take(self, head: tuple, keys: list, missing: Iterable[int], into: list) -> list[int]:
+        """Fill ``into`` at ``missing`` with the pool's entries ``(*head, key)``; the indices
+        it has none for."""
+        pool, left = self.shared, []
         for index in missing:
             found = pool.get((*head, keys[index]))
             if found is None:
                 left.append(index)
             else:
-                powers[index] = found
+                into[index] = found
         return left
 
-    def lend_powers(self, where: tuple, solved: list[int], powers: list) -> None:
-        """Put the powers at the duration ``where`` of the rows just ``solved`` into the
-        shared pool (the oldest entries go past its size)."""
-        pool, head, keys = self.shared, (_POWER, self.settings, where), self.keys
-        for index in solved:
-            pool[(*head, keys[index])] = powers[index]
-        self._trim()
-
-    def _trim(self) -> None:
+    def _put(self, head: tuple, keys: list, indices: list[int], values: list) -> None:
+        """Keep ``values`` at ``indices`` as the pool's entries ``(*head, key)``; the oldest
+        entries go past the pool's size."""
         pool = self.shared
+        for index in indices:
+            pool[(*head, keys[index])] = values[index]
         while len(pool) > SHARED_KEPT:
             del pool[next(iter(pool))]
