@@ -7,8 +7,9 @@ Table 2.1 — from memory.
 from __future__ import annotations
 
 import pytest
-from PySide6.QtCore import QRectF
+from PySide6.QtCore import QRectF, Qt
 from PySide6.QtGui import QColor, QImage, QPainter
+from PySide6.QtTest import QTest
 
 from fourfold.figures.boundaries import FIXED_TEXT, BoundaryStyle, paint_boundaries
 from fourfold.plan.evaluation import compute
@@ -119,3 +120,40 @@ def test_window_shows_the_figure_only_with_interim_looks(make_window):
     assert "at most" not in window.summary.texts()[0]
     assert window.table.isColumnHidden(
         next(i for i, c in enumerate(COLUMNS) if c.key == "look_days"))
+
+
+def test_the_caption_follows_the_looks_and_alpha_typed(make_window):
+    """The caption's price of peeking is worked out again when the looks or α typed in the
+    settings change, and only then (Armitage, McPherson & Rowe (1969): 3 looks at 0.05 give
+    0.107, 4 looks 0.126 — from memory)."""
+    from unittest import mock
+
+    from fourfold.ui import boundaries_plot
+
+    window = make_window(_plan())
+    window.show()
+    fields = window.settings_panel.fields
+
+    def typed(field: str, text: str) -> None:
+        fields[field].setFocus()
+        fields[field].selectAll() if field == "alpha" else fields[field].lineEdit().selectAll()
+        QTest.keyClicks(fields[field], text)
+        QTest.keyClick(fields[field], Qt.Key.Key_Return)
+        window.document.recompute_now()
+
+    with mock.patch.object(boundaries_plot, "peeking_text",
+                           wraps=boundaries_plot.peeking_text) as asked:
+        typed("looks", "3")
+        assert window.boundaries.caption.startswith("Checking 3 times at p < 0.05 unadjusted "
+                                                    "gives a false-positive rate of 11 %")
+        typed("alpha", "0.01")
+        assert window.boundaries.caption.startswith("Checking 3 times at p < 0.01")
+        typed("looks", "4")
+        assert window.boundaries.caption.startswith("Checking 4 times at p < 0.01")
+        typed("alpha", "0.05")
+        assert window.boundaries.caption.startswith("Checking 4 times at p < 0.05 unadjusted "
+                                                    "gives a false-positive rate of 13 %")
+        calls = asked.call_count
+        window.document.recompute_now()
+        window.table.setCurrentIndex(window.model.index(0, 1))
+        assert asked.call_count == calls == 4

@@ -468,16 +468,23 @@ def _duration_powers(plan: Plan, rows: tuple[RowResult, ...], at: AtDuration, de
                      ) -> tuple[tuple[float, ...], list[int] | None]:
     """Each row's power at the plan's duration, and the rows solved again (``None``: all);
     with a cache, only the rows whose key changed (``changed``) are solved again while the
-    duration's units and days stay."""
+    duration's units and days stay, and a shared pool's powers of rows with the same settings,
+    key and duration are taken from it (:meth:`RowCache.borrow_powers`)."""
     where = _where(at)
     if cache is not None and cache.powers_at == where and len(cache.powers) == len(rows):
         powers, missing, solved = cache.powers, changed, changed  # changed in place
     else:
         powers, missing, solved = [math.nan] * len(rows), range(len(rows)), None
+    pooled = cache is not None and cache.shared is not None
+    if missing and pooled:
+        missing = cache.borrow_powers(where, missing, powers)
     if missing:
-        for index, power in zip(missing, powers_at(plan, rows, list(missing), at, designs),
-                                strict=True):
+        found = powers_at(plan, rows, list(missing), at, designs,
+                          None if cache is None else cache.sds)
+        for index, power in zip(missing, found, strict=True):
             powers[index] = power
+        if pooled:
+            cache.lend_powers(where, missing, powers)
     if cache is not None:
         cache.powers, cache.powers_at = powers, where
     return tuple(powers), solved

@@ -12,7 +12,9 @@ are the same as without a cache: rows are reused only when their key and the set
 those they were computed with (``tests/plan/test_evaluation_cache.py`` holds the two equal
 under random edits, in place and by replacement). The caches of one document's scenarios share
 a pool of results by settings and key, so that a base row several scenarios show alike is
-solved once for all of them.
+solved once for all of them, and of its powers at a duration by settings, duration and key,
+so that a change of the settings back to ones met before (a number of looks, say) solves no
+power again.
 
 What changed is kept as sets of row indices, each emptied by the step that reads it:
 :attr:`RowCache.unkeyed` (rows whose key is to be built again), :attr:`RowCache.unread` (rows
@@ -45,8 +47,13 @@ ROW_INPUTS = ("kind", "method", "baseline", "sd", "effect", "relative", "alterna
 
 row_inputs = operator.attrgetter(*ROW_INPUTS)
 
-SHARED_KEPT = 50_000
-"""The most row results a shared pool keeps (about 100 scenarios of a 500-row plan)."""
+SHARED_KEPT = 100_000
+"""The most entries a shared pool keeps: row results and their powers at a duration (about
+100 scenarios of a 500-row plan)."""
+
+_POWER = "power at"
+"""The first item of a shared pool's key of a row's power at a duration (a row result's key
+has two items: settings and row key)."""
 
 _SETTINGS_INPUTS = tuple(name for name in SETTINGS_FIELDS if name not in ("title", "description"))
 
@@ -126,6 +133,10 @@ class RowCache:
     held: tuple | None = None
     """What the rows waiting for the duration hold in :attr:`summarised` (their results
     before the duration, without one, or at a duration; ``None``: not known)."""
+    sds: dict = field(default_factory=dict)
+    """The derived per-unit sds of ratio and quantile rows, with their reasons, by row stamp
+    (:func:`fourfold.plan.rows.powers_at`): a row's sd depends on its own fields alone, so
+    they outlive a change of the settings (a change of the number of looks reads none again)."""
     plain: bool = False
     """Whether the latest result came from one evaluation of the plan's rows as they are (not
     from the rounds of rows that follow their history windows)."""
@@ -140,15 +151,17 @@ class RowCache:
         """
         settings = settings_key(plan.settings)
         if settings != self.settings:
-            shared = self.shared
+            shared, sds = self.shared, self.sds
             self.__init__()
-            self.settings, self.shared = settings, shared
+            self.settings, self.shared, self.sds = settings, shared, sds
         metrics = plan.metrics
         size = len(metrics)
         if edited is not None:
             edited = sorted(set(edited))
             if edited and not 0 <= edited[0] <= edited[-1] < size:
                 edited = None
+        if len(self.sds) > 2 * size + 64:  # mostly rows edited or gone since: start again
+            self.sds = {}
         if self.stamps is None or size != self.stamps.size:
             self.stamps = stamps(metrics)
             self.primary = np.array([metric.role == "primary" for metric in metrics], dtype=bool)
@@ -226,19 +239,40 @@ class RowCache:
 
     def borrow(self, keys: list, missing: list[int], results: list) -> list[int]:
         """Fill ``results`` at ``missing`` from the shared pool; the indices still missing."""
-        pool, settings, left = self.shared, self.settings, []
-        for index in missing:
-            found = pool.get((settings, keys[index]))
-            if found is None:
-                left.append(index)
-            else:
-                results[index] = found
-        return left
+        return self._take((self.settings,), keys, missing, results)
 
     def lend(self, keys: list, solved: list[int], results: list) -> None:
         """Put the rows just ``solved`` into the shared pool (the oldest go past its size)."""
-        pool, settings = self.shared, self.settings
-        for index in solved:
-            pool[(settings, keys[index])] = results[index]
+        self._put((self.settings,), keys, solved, results)
+
+    def borrow_powers(self, where: tuple, missing: Iterable[int], powers: list) -> list[int]:
+        """Fill ``powers`` at ``missing`` with the powers at the duration ``where`` (units and
+        days) the shared pool holds for rows of the same settings and keys (:attr:`keys`: a
+        row's power there depends on nothing else); the indices still missing."""
+        return self._take((_POWER, self.settings, where), self.keys, missing, powers)
+
+    def lend_powers(self, where: tuple, solved: list[int], powers: list) -> None:
+        """Put the powers at the duration ``where`` of the rows just ``solved`` into the
+        shared pool (the oldest entries go past its size)."""
+        self._put((_POWER, self.settings, where), self.keys, solved, powers)
+
+    def _take(self, head: tuple, keys: list, missing: Iterable[int], into: list) -> list[int]:
+        """Fill ``into`` at ``missing`` with the pool's entries ``(*head, key)``; the indices
+        it has none for."""
+        pool, left = self.shared, []
+        for index in missing:
+            found = pool.get((*head, keys[index]))
+            if found is None:
+                left.append(index)
+            else:
+                into[index] = found
+        return left
+
+    def _put(self, head: tuple, keys: list, indices: list[int], values: list) -> None:
+        """Keep ``values`` at ``indices`` as the pool's entries ``(*head, key)``; the oldest
+        entries go past the pool's size."""
+        pool = self.shared
+        for index in indices:
+            pool[(*head, keys[index])] = values[index]
         while len(pool) > SHARED_KEPT:
             del pool[next(iter(pool))]

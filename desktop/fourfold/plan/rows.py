@@ -258,60 +258,105 @@ def not_settled(row: RowResult, reason: str) -> RowResult:
 
 
 def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: AtDuration,
-              designs: dict) -> list[float]:
+              designs: dict, sds: dict | None = None) -> list[float]:
     """The power of each row in ``indices`` with the control units ``at`` brings.
 
     The row's test as computed: its α (corrected or solved), its effect (given or solved) and
     margin (given or solved), its design factor; with interim looks the units are the maximum
-    of its group sequential design. ``nan`` for a row that was not computed. One engine call
-    per group of rows that share kind, method, direction and sd-or-not.
+    of its group sequential design (:func:`_through_looks`). ``nan`` for a row that was not
+    computed. One engine call per group of rows that share kind, method, direction and
+    sd-or-not, with the group's rows in the order of ``indices``; the rows' fields are read
+    once, as columns over ``indices``. ``sds``: derived per-unit sds by row stamp, read and
+    filled for ratio and quantile rows (a row cache's :attr:`~fourfold.plan.row_cache.
+    RowCache.sds`).
+
+    Examples
+    --------
+    >>> from fourfold.plan.evaluation import compute
+    >>> plan = Plan(Settings(looks=3), [Metric(role="primary", baseline=0.1, effect=0.05)] * 2)
+    >>> result = compute(plan)
+    >>> at = AtDuration(result.rows[0].units_control, math.nan)
+    >>> powers_at(plan, result.rows, [0, 1], at, {}) == list(result.duration_powers)
+    True
     """
     settings = plan.settings
-    powers = dict.fromkeys(indices, math.nan)
-    groups: dict[tuple, list[int]] = {}
-    for index in indices:
-        metric = plan.metrics[index]
-        if not rows[index].reason:
-            key = (metric.kind, metric.method, metric.alternative, kinds.has_sd(metric))
-            groups.setdefault(key, []).append(index)
-    for (kind, method, alternative, _), members in groups.items():
-        metrics = [plan.metrics[index] for index in members]
-        chosen = [rows[index] for index in members]
-        sd, own = kinds.unit_sds(metrics)
+    metrics = [plan.metrics[index] for index in indices]
+    chosen = [rows[index] for index in indices]
+    powers = np.full(len(indices), np.nan)
+    codes: dict[tuple, int] = {}
+    code = np.fromiter(
+        (-1 if row.reason else codes.setdefault(
+            (metric.kind, metric.method, metric.alternative,
+             metric.kind in kinds.DERIVED_SD or metric.sd is not None), len(codes))
+         for metric, row in zip(metrics, chosen, strict=True)), np.int64, len(indices))
+    if not codes:
+        return powers.tolist()
+    baseline = column([metric.baseline for metric in metrics])
+    effect = column([row.effect_abs for row in chosen])
+    factor = column([row.design_factor for row in chosen])
+    alpha = column([row.alpha for row in chosen])
+    margin = column([row.margin_abs for row in chosen])
+    asked = column([settings.power if metric.power is None else metric.power
+                    for metric in metrics]) if settings.looks > 1 else None
+    ratio = treatment_ratio(settings)
+    for (kind, method, alternative, _), number in codes.items():
+        members = np.flatnonzero(code == number)
+        sd, own = _unit_sds([metrics[place] for place in members.tolist()], sds)
         values, reasons = engine.values_and_reasons(
-            "power", kind, column([metric.baseline for metric in metrics]),
-            effect=column([row.effect_abs for row in chosen]),
-            n=at.units / column([row.design_factor for row in chosen]),
-            sd=None if sd is None else np.where(own == "", sd, 1.0),
-            alpha=column([row.alpha for row in chosen]), alternative=alternative,
-            ratio=treatment_ratio(settings), relative=False,
-            margin=column([row.margin_abs for row in chosen]), method=method)
-        reasons = np.where(own == "", reasons, own)
-        found = [(index, metric, row, value) for index, metric, row, value, reason
-                 in zip(members, metrics, chosen, values.tolist(), reasons.tolist(),
-                        strict=True) if not reason]
-        if settings.looks > 1:
-            _through_looks(settings, alternative, found, powers, at.days, designs)
-        else:
-            for index, _, _, value in found:
-                powers[index] = value
-    return [powers[index] for index in indices]
+            "power", kind, baseline[members], effect=effect[members],
+            n=at.units / factor[members], sd=None if sd is None else np.where(own == "", sd, 1.0),
+            alpha=alpha[members], alternative=alternative, ratio=ratio, relative=False,
+            margin=margin[members], method=method)
+        good = (own == "") & (reasons == "")
+        members, values = members[good], values[good]
+        if asked is not None:
+            values = _through_looks(settings, alternative, alpha[members], asked[members],
+                                    values, at.days, designs)
+        powers[members] = values
+    return powers.tolist()
 
 
-def _through_looks(settings: Settings, alternative: str, found: list, powers: dict,
-                   days: float, designs: dict) -> None:
-    """The powers of rows' fixed designs (``found``: index, metric, result, power) as the
-    powers of their group sequential designs, into ``powers``: one design's boundaries per
-    α and power (a row whose design cannot be made has no power)."""
-    boundaries: dict[tuple[float, float], object] = {}
-    for index, metric, row, value in found:
-        key = (row.alpha, settings.power if metric.power is None else metric.power)
-        staged = boundaries.get(key)
-        if staged is None:
-            try:
-                staged = sequential.row_boundaries(settings, *key, alternative, designs, days)
-            except ValueError as error:
-                staged = error
-            boundaries[key] = staged
-        if not isinstance(staged, ValueError):
-            powers[index] = sequential.power_of(staged, value)
+def _unit_sds(metrics: list[Metric], sds: dict | None) -> tuple[np.ndarray | None, np.ndarray]:
+    """:func:`fourfold.plan.kinds.unit_sds` of a group of rows, through ``sds`` (derived sds
+    and reasons by row stamp) when given: read there, and worked out (and kept) for the rows
+    it does not hold."""
+    if sds is None or metrics[0].kind not in kinds.DERIVED_SD:
+        return kinds.unit_sds(metrics)
+    known = [sds.get(metric.stamp) for metric in metrics]
+    if None in known:
+        unknown = [metric for metric, each in zip(metrics, known, strict=True) if each is None]
+        sd, own = kinds.unit_sds(unknown)
+        sds.update(zip([metric.stamp for metric in unknown],
+                       zip(sd.tolist(), own.tolist(), strict=True), strict=True))
+        known = [sds[metric.stamp] for metric in metrics]
+    return (np.array([each[0] for each in known], dtype=float),
+            np.array([each[1] for each in known], dtype=object))
+
+
+def _through_looks(settings: Settings, alternative: str, alphas: np.ndarray,
+                   asked: np.ndarray, values: np.ndarray, days: float,
+                   designs: dict) -> np.ndarray:
+    """The powers of rows' group sequential designs from their fixed designs' powers
+    ``values``, the rows' α and the power their designs were asked for (``asked``); nan where
+    a row's design cannot be made.
+
+    Rows are grouped by their design: one design's boundaries per distinct α and power
+    (:func:`fourfold.plan.sequential.row_boundaries`), and
+    :func:`fourfold.plan.sequential.power_of` is asked once per distinct fixed power of a
+    design's rows, its answer spread over them.
+    """
+    found = np.full(values.shape, np.nan)
+    pairs: dict[tuple[float, float], int] = {}
+    which = np.fromiter((pairs.setdefault(pair, len(pairs)) for pair
+                         in zip(alphas.tolist(), asked.tolist(), strict=True)),
+                        np.int64, values.size)
+    for key, number in pairs.items():
+        try:
+            staged = sequential.row_boundaries(settings, *key, alternative, designs, days)
+        except ValueError:
+            continue
+        members = np.flatnonzero(which == number) if len(pairs) > 1 else slice(None)
+        fixed, spread = np.unique(values[members], return_inverse=True)
+        reached = np.array([sequential.power_of(staged, value) for value in fixed.tolist()])
+        found[members] = reached[spread.reshape(-1)]
+    return found

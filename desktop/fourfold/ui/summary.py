@@ -212,9 +212,11 @@ class SummaryBar(QFrame):
                                  "change only it (Base: the plan as entered)")
         self.scenario.blockSignals(False)
         self.scenario.setVisible(bool(whole.scenarios))
-        self.scenario.setProperty("active", whole.active is not None)
-        self.scenario.style().unpolish(self.scenario)
-        self.scenario.style().polish(self.scenario)
+        active = whole.active is not None
+        if self.scenario.property("active") != active:  # its style follows; else nothing to do
+            self.scenario.setProperty("active", active)
+            self.scenario.style().unpolish(self.scenario)
+            self.scenario.style().polish(self.scenario)
 
     def refresh(self) -> None:
         """Show the document's current result."""
