@@ -81,9 +81,7 @@ class QuantileSketch:
         from fourfold.engine import quantile  # scipy.special: off the command line's start-up
 
         value, exact = self._quantile(n)
-        sample = self.tail.sample
-        low, high = np.percentile(self.sign * sample, [25.0, 75.0])
-        iqr = abs(high - low)
+        iqr = _quartile_gap(self.sign * self.tail.sample)
         h = float(quantile.silverman_bandwidth(n, self.moments.sd, iqr))
         return QuantileEstimate(self.level, value, exact, h, n)
 
@@ -106,6 +104,29 @@ class QuantileSketch:
         share = self.level if self.sign > 0 else 1.0 - self.level
         share = min(100.0 * share, math.nextafter(100.0, 0.0))
         return self.sign * float(np.percentile(self.tail.sample, share)), False
+
+
+def _quartile_gap(sample: np.ndarray) -> float:
+    """The interquartile range of ``sample`` (numpy's linear percentiles), inf where it is
+    beyond a double: quartiles whose difference overflows are taken of the halved values
+    (exact for any value the halving keeps normal), whose range does fit, and doubled.
+
+    Examples
+    --------
+    >>> _quartile_gap(np.array([1.0, 2.0, 3.0, 4.0, 5.0]))
+    2.0
+    >>> _quartile_gap(np.array([-1.7e308, 1.7e308]))  # numpy's interpolation overflows here
+    1.7e+308
+    >>> _quartile_gap(np.array([-1.7e308, -1.7e308, 1.7e308, 1.7e308]))
+    inf
+    """
+    with np.errstate(over="ignore", invalid="ignore"):
+        low, high = np.percentile(sample, [25.0, 75.0])
+        gap = abs(float(high) - float(low))
+    if math.isfinite(gap):
+        return gap
+    low, high = np.percentile(0.5 * sample, [25.0, 75.0])
+    return 2.0 * abs(float(high) - float(low))
 
 
 def kernel_sum(values, estimate: QuantileEstimate) -> float:
