@@ -62,3 +62,20 @@ def test_a_shared_design_is_the_design_of_its_values(alternative):
         np.testing.assert_array_equal(getattr(made, name), getattr(fresh, name))
     assert made.inflation == fresh.inflation and made.drift == fresh.drift
     assert sequential.power_of(made, 0.7) == sequential.power_of(fresh, 0.7)
+
+
+@pytest.mark.parametrize("looks", range(1, 21))
+def test_equal_shares_are_the_fractions_of_equally_spaced_looks(looks):
+    # the key that lets week ends at equal shares share the equally spaced design must be
+    # the design's own fractions to the last bit (consistency check, no outside source)
+    assert sequential._equal_shares(looks) == tuple(engine_sequential.design(looks).fractions)
+
+
+def test_week_ends_at_equal_shares_share_the_equally_spaced_design():
+    settings = dataclasses.replace(load(sample_path()).settings, looks=4, whole_weeks=True)
+    designs = {}
+    at_week_ends = sequential.row_design(settings, 0.05, 0.8, "two-sided", designs, 28.0)
+    equally_spaced = sequential.row_design(settings, 0.05, 0.8, "two-sided", designs)
+    assert at_week_ends is equally_spaced
+    later = sequential.row_design(settings, 0.05, 0.8, "two-sided", designs, 35.0)
+    assert later is not equally_spaced and tuple(later.fractions) == (0.4, 0.6, 0.8, 1.0)

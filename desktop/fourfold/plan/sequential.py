@@ -159,9 +159,35 @@ def _remembered(settings, alpha: float, power: float, alternative: str, designs:
     return made
 
 
+def design_timing(settings, days: float) -> tuple[float, ...] | None:
+    """:func:`week_timing` as a design is keyed by it: ``None`` too where the week ends fall
+    at equal shares to the last bit (four looks in four weeks of constant traffic), so that
+    those rows share the equally spaced design instead of making the same one again.
+
+    Examples
+    --------
+    >>> from fourfold.plan.model import Settings
+    >>> design_timing(Settings(looks=4, whole_weeks=True), 28.0) is None
+    True
+    >>> design_timing(Settings(looks=4, whole_weeks=True), 35.0)
+    (0.4, 0.6, 0.8, 1.0)
+    """
+    timing = week_timing(settings, days)
+    if timing is not None and timing == _equal_shares(settings.looks):
+        return None
+    return timing
+
+
+@functools.lru_cache(maxsize=32)
+def _equal_shares(looks: int) -> tuple[float, ...]:
+    """The fractions :func:`fourfold.engine.sequential.design` gives equally spaced looks."""
+    return tuple((np.arange(1, looks + 1) / looks).tolist())
+
+
 def _key(settings, alpha: float, power: float, alternative: str, days: float) -> tuple:
     """What a row's design is made of, besides the plan's looks, spending and futility."""
-    return (float(alpha), float(power), alternative == "two-sided", week_timing(settings, days))
+    return (float(alpha), float(power), alternative == "two-sided",
+            design_timing(settings, days))
 
 
 def _days_key(settings, days: float) -> float | None:

@@ -330,7 +330,7 @@ class _Row:
         if settings.looks <= 1:
             return 1.0
 
-        timing = sequential.week_timing(settings, float(self.row.days))
+        timing = sequential.design_timing(settings, float(self.row.days))
         two_sided = self.metric.alternative == "two-sided"
 
         def at(a: float, p: float) -> float:
