@@ -25,8 +25,8 @@ def forget_designs() -> None:
     from fourfold.plan import sequential, tradeoffs
 
     for cached in (engine_sequential._boundaries, sequential.shared_design,
-                   sequential.shared_boundaries, sequential._power_of, tradeoffs._inflation,
-                   tradeoffs._node_inflations):
+                   sequential.shared_boundaries, sequential._power_of, sequential.peeking_text,
+                   tradeoffs._inflation, tradeoffs._node_inflations):
         cached.cache_clear()
 
 

@@ -124,11 +124,11 @@ def test_window_shows_the_figure_only_with_interim_looks(make_window):
 
 def test_the_caption_follows_the_looks_and_alpha_typed(make_window):
     """The caption's price of peeking is worked out again when the looks or α typed in the
-    settings change, and only then (Armitage, McPherson & Rowe (1969): 3 looks at 0.05 give
-    0.107, 4 looks 0.126 — from memory)."""
+    settings change, and only then: the false-positive rate of each pair once (Armitage,
+    McPherson & Rowe (1969): 3 looks at 0.05 give 0.107, 4 looks 0.126 — from memory)."""
     from unittest import mock
 
-    from fourfold.ui import boundaries_plot
+    from fourfold.plan import sequential
 
     window = make_window(_plan())
     window.show()
@@ -141,8 +141,9 @@ def test_the_caption_follows_the_looks_and_alpha_typed(make_window):
         QTest.keyClick(fields[field], Qt.Key.Key_Return)
         window.document.recompute_now()
 
-    with mock.patch.object(boundaries_plot, "peeking_text",
-                           wraps=boundaries_plot.peeking_text) as asked:
+    sequential.peeking_text.cache_clear()
+    with mock.patch.object(sequential.sequential, "peeking_alpha",
+                           wraps=sequential.sequential.peeking_alpha) as asked:
         typed("looks", "3")
         assert window.boundaries.caption.startswith("Checking 3 times at p < 0.05 unadjusted "
                                                     "gives a false-positive rate of 11 %")

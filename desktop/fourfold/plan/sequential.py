@@ -340,8 +340,11 @@ def _look_fields(made: SequentialDesign, days: float, settings) -> tuple:
     return made.expected_h1 / made.inflation, looks, expected_days
 
 
+@functools.lru_cache(maxsize=256)
 def peeking_text(looks: int, alpha: float) -> str:
-    """The price of unadjusted peeking, in words.
+    """The price of unadjusted peeking, in words (remembered: it sums every look's crossings,
+    a quarter of a millisecond, and the summary and the boundaries figure ask for it after
+    every recompute).
 
     Examples
     --------

@@ -35,7 +35,6 @@ class BoundariesView(QWidget):
         self.title = ""
         self.caption = ""
         self.two_sided = True
-        self._peeking_at: tuple = (None, None, "")
         self.setMinimumSize(280, 180)
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Expanding)
 
@@ -50,17 +49,11 @@ class BoundariesView(QWidget):
             self.looks = row_looks(plan, result, index)
             self.title = f"Stopping boundaries — {plan.metrics[index].name}"
             settings = plan.settings
-            self.caption = self._peeking(settings.looks, settings.alpha) if self.looks else ""
+            self.caption = (peeking_text(settings.looks, settings.alpha) if self.looks
+                            else "")
             self.two_sided = plan.metrics[index].alternative == "two-sided"
         self.setToolTip(looks_text(self.looks, self.two_sided))
         self.update()
-
-    def _peeking(self, looks: int, alpha: float) -> str:
-        """The price of peeking at the plan's looks and α (the caption), worked out again only
-        when they change (it sums the crossings of every look: a quarter of a millisecond)."""
-        if self._peeking_at[:2] != (looks, alpha):
-            self._peeking_at = (looks, alpha, peeking_text(looks, alpha))
-        return self._peeking_at[2]
 
     def paintEvent(self, event) -> None:  # noqa: N802 (Qt's name)
         painter = QPainter(self)
