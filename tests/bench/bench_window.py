@@ -161,8 +161,9 @@ def looks(rows: int | None = None, fresh: bool = False) -> None:
     After the first of the runs the document's pool of row results (shared by its scenarios'
     caches) holds every row at each number of looks, so the rows are taken from it and only
     the designs are made again. ``fresh`` empties that pool too before each run: the rows are
-    solved as when a plan meets a number of looks for the first time (no target yet; it shows
-    what solving the rows costs)."""
+    solved as when a plan meets a number of looks for the first time, the path a user takes
+    on a plan just opened (same target; each design met for the first time costs about
+    1.6 ms of it, see DEVELOPERS.md)."""
     import statistics
 
     from PySide6.QtCore import QEvent, QObject
