@@ -286,8 +286,8 @@ def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: A
     codes: dict[tuple, int] = {}
     code = np.fromiter(
         (-1 if row.reason else codes.setdefault(
-            (metric.kind, metric.method, metric.alternative,
-             metric.kind in kinds.DERIVED_SD or metric.sd is not None), len(codes))
+            (metric.kind, metric.method, metric.alternative, kinds.has_sd(metric)),
+            len(codes))
          for metric, row in zip(metrics, chosen, strict=True)), np.int64, len(indices))
     if not codes:
         return powers.tolist()

@@ -130,7 +130,7 @@ class RowFacts:
         self.gaps = RowTexts()
         """Secondary rows that need more than the plan gives: a note each, for :attr:`gaps_at`."""
         self.gaps_at: tuple | None = None
-        self._read_all(metrics, rows)
+        self.reread(metrics, rows, range(len(rows)))
 
     @property
     def size(self) -> int:
@@ -142,24 +142,6 @@ class RowFacts:
         facts read them (a row cache names them: its ``unread``)."""
         for index in indices:
             self._read(index, metrics[index], rows[index])
-
-    def _read_all(self, metrics, rows) -> None:
-        """Read every row (a new plan, new settings), column by column: what :meth:`_read`
-        reads of each row, with the texts of the quantile rows and the rows not computed."""
-        size = len(rows)
-        self.role[:] = [_ROLES.get(metric.role, -1) for metric in metrics]
-        self.asks_units[:] = [metric.solve == "sample_size" for metric in metrics]
-        self.failed[:] = [bool(row.reason) for row in rows]
-        self.sample[:] = [row.solved == "sample_size" for row in rows]
-        days = np.fromiter([row.days for row in rows], float, size)
-        self.days[:] = np.where(np.isnan(days), 0.0, days)
-        self.units[:] = [row.units_total for row in rows]
-        for index in [index for index, metric in enumerate(metrics) if metric.kind == "quantile"]:
-            self.tails.put(index, kinds.tail_note(metrics[index], rows[index]))
-        for index in np.flatnonzero(self.failed).tolist():
-            metric, reason = metrics[index], rows[index].reason
-            self.failures.put(index, f"{metric.name}: not computed — {reason}.")
-            self.unfinished.put(index, Unfinished(index, metric.name, reason))
 
     def _read(self, index: int, metric, row: RowResult) -> None:
         self.role[index] = _ROLES.get(metric.role, -1)
