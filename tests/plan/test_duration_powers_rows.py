@@ -102,9 +102,9 @@ def test_each_rows_power_at_the_duration_is_the_row_asked_alone(settings):
 
 
 def test_derived_sds_are_kept_by_row_stamp_through_a_looks_change(monkeypatch):
-    """The ratio and quantile rows' sds are kept by row stamp (a row cache keeps them through
-    a change of the settings); a row edited in place gets a new stamp, so its sd alone is
-    worked out again, and the cache's powers stay those of an evaluation without it."""
+    """The ratio and quantile rows' sds are kept by row stamp (they outlive a change of the
+    settings); a row edited in place gets a new stamp, so its sd alone is worked out again,
+    and the powers stay those of an evaluation with nothing kept."""
     from fourfold.plan import rows as rows_module
     from fourfold.plan.row_cache import RowCache
 
@@ -125,15 +125,15 @@ def test_derived_sds_are_kept_by_row_stamp_through_a_looks_change(monkeypatch):
     made = kinds.unit_sds
     monkeypatch.setattr(rows_module.kinds, "unit_sds",
                         lambda metrics: asked.append([m.name for m in metrics]) or made(metrics))
-    sds = dict(cache.sds)
     plan.metrics[ratio].numerator_sd *= 1.5
     at = _at(shown, found)
     everything = list(range(len(plan.metrics)))
-    powers = powers_at(shown, found.rows, everything, at, {}, sds)
+    powers = powers_at(shown, found.rows, everything, at, {})
     derived = [names for names in asked if plan.metrics[ratio].name in names
                or any("p95" in name for name in names)]
     assert derived == [[plan.metrics[ratio].name]]
     monkeypatch.setattr(rows_module.kinds, "unit_sds", made)
+    kinds._kept.clear()
     np.testing.assert_array_equal(np.array(powers),
                                   np.array(powers_at(shown, found.rows, everything, at, {})))
 

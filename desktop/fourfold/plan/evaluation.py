@@ -479,8 +479,7 @@ def _duration_powers(plan: Plan, rows: tuple[RowResult, ...], at: AtDuration, de
     if missing and pooled:
         missing = cache.borrow_powers(where, missing, powers)
     if missing:
-        found = powers_at(plan, rows, list(missing), at, designs,
-                          None if cache is None else cache.sds)
+        found = powers_at(plan, rows, list(missing), at, designs)
         for index, power in zip(missing, found, strict=True):
             powers[index] = power
         if pooled:

@@ -118,6 +118,61 @@ def unit_sds(metrics: list[Metric]) -> tuple[np.ndarray | None, np.ndarray]:
     return np.where(reasons == "", sd, np.nan), reasons
 
 
+KEPT = 50_000
+"""Derived figures :func:`kept_unit_sds` and :func:`kept_density` keep before they start
+again."""
+
+_kept: dict[tuple[int, str], tuple] = {}
+"""Derived figures by (row stamp, what): an sd with its reason, or a fitted density."""
+
+
+def _keep(key: tuple[int, str], value: tuple) -> None:
+    if len(_kept) >= KEPT:  # mostly rows edited or gone since
+        _kept.clear()
+    _kept[key] = value
+
+
+def kept_unit_sds(metrics: list[Metric]) -> tuple[np.ndarray | None, np.ndarray]:
+    """:func:`unit_sds`, remembered by row stamp for the kinds whose sd is derived.
+
+    A ratio's or quantile's sd depends on the row's own fields alone, and a row's stamp is
+    renewed on every change of them (:attr:`fourfold.plan.model.Metric.stamp`), so every
+    evaluation at any settings and the window's table share one engine call per state of a
+    row.
+
+    Examples
+    --------
+    >>> row = Metric(kind="ratio", baseline=2.0, denominator=1.0, numerator_sd=1.0,
+    ...              denominator_sd=0.5, correlation=0.0)
+    >>> kept_unit_sds([row])[0].tolist() == unit_sds([row])[0].tolist()
+    True
+    """
+    if metrics[0].kind not in DERIVED_SD:
+        return unit_sds(metrics)
+    known = [_kept.get((metric.stamp, "sd")) for metric in metrics]
+    if None in known:
+        unknown = [metric for metric, each in zip(metrics, known, strict=True) if each is None]
+        sd, own = unit_sds(unknown)
+        made = dict(zip([metric.stamp for metric in unknown],
+                        zip(sd.tolist(), own.tolist(), strict=True), strict=True))
+        for stamp, each in made.items():
+            _keep((stamp, "sd"), each)
+        known = [made[metric.stamp] if each is None else each
+                 for metric, each in zip(metrics, known, strict=True)]
+    return (np.array([each[0] for each in known], dtype=float),
+            np.array([each[1] for each in known], dtype=object))
+
+
+def kept_density(metric: Metric) -> float:
+    """The density at the quantile a quantile row uses (:func:`quantile_densities`; nan where
+    it has none), remembered by row stamp as :func:`kept_unit_sds` is."""
+    found = _kept.get((metric.stamp, "density"))
+    if found is None:
+        found = (float(quantile_densities([metric])[0][0]),)
+        _keep((metric.stamp, "density"), found)
+    return found[0]
+
+
 def unit_sd(metric: Metric) -> float:
     """The per-unit sd the engine uses for one row (nan when it has none).
 

@@ -133,10 +133,6 @@ class RowCache:
     held: tuple | None = None
     """What the rows waiting for the duration hold in :attr:`summarised` (their results
     before the duration, without one, or at a duration; ``None``: not known)."""
-    sds: dict = field(default_factory=dict)
-    """The derived per-unit sds of ratio and quantile rows, with their reasons, by row stamp
-    (:func:`fourfold.plan.rows.powers_at`): a row's sd depends on its own fields alone, so
-    they outlive a change of the settings (a change of the number of looks reads none again)."""
     plain: bool = False
     """Whether the latest result came from one evaluation of the plan's rows as they are (not
     from the rounds of rows that follow their history windows)."""
@@ -151,17 +147,15 @@ class RowCache:
         """
         settings = settings_key(plan.settings)
         if settings != self.settings:
-            shared, sds = self.shared, self.sds
+            shared = self.shared
             self.__init__()
-            self.settings, self.shared, self.sds = settings, shared, sds
+            self.settings, self.shared = settings, shared
         metrics = plan.metrics
         size = len(metrics)
         if edited is not None:
             edited = sorted(set(edited))
             if edited and not 0 <= edited[0] <= edited[-1] < size:
                 edited = None
-        if len(self.sds) > 2 * size + 64:  # mostly rows edited or gone since: start again
-            self.sds = {}
         if self.stamps is None or size != self.stamps.size:
             self.stamps = stamps(metrics)
             self.primary = np.array([metric.role == "primary" for metric in metrics], dtype=bool)

@@ -258,7 +258,7 @@ def not_settled(row: RowResult, reason: str) -> RowResult:
 
 
 def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: AtDuration,
-              designs: dict, sds: dict | None = None) -> list[float]:
+              designs: dict) -> list[float]:
     """The power of each row in ``indices`` with the control units ``at`` brings.
 
     The row's test as computed: its α (corrected or solved), its effect (given or solved) and
@@ -266,9 +266,8 @@ def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: A
     of its group sequential design (:func:`_through_looks`). ``nan`` for a row that was not
     computed. One engine call per group of rows that share kind, method, direction and
     sd-or-not, with the group's rows in the order of ``indices``; the rows' fields are read
-    once, as columns over ``indices``. ``sds``: derived per-unit sds by row stamp, read and
-    filled for ratio and quantile rows (a row cache's :attr:`~fourfold.plan.row_cache.
-    RowCache.sds`).
+    once, as columns over ``indices``; a ratio's or quantile's sd is read as kept by its row's
+    stamp (:func:`fourfold.plan.kinds.kept_unit_sds`).
 
     Examples
     --------
@@ -301,7 +300,7 @@ def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: A
     ratio = treatment_ratio(settings)
     for (kind, method, alternative, _), number in codes.items():
         members = np.flatnonzero(code == number)
-        sd, own = _unit_sds([metrics[place] for place in members.tolist()], sds)
+        sd, own = kinds.kept_unit_sds([metrics[place] for place in members.tolist()])
         values, reasons = engine.values_and_reasons(
             "power", kind, baseline[members], effect=effect[members],
             n=at.units / factor[members], sd=None if sd is None else np.where(own == "", sd, 1.0),
@@ -314,23 +313,6 @@ def powers_at(plan: Plan, rows: tuple[RowResult, ...], indices: list[int], at: A
                                     values, at.days, designs)
         powers[members] = values
     return powers.tolist()
-
-
-def _unit_sds(metrics: list[Metric], sds: dict | None) -> tuple[np.ndarray | None, np.ndarray]:
-    """:func:`fourfold.plan.kinds.unit_sds` of a group of rows, through ``sds`` (derived sds
-    and reasons by row stamp) when given: read there, and worked out (and kept) for the rows
-    it does not hold."""
-    if sds is None or metrics[0].kind not in kinds.DERIVED_SD:
-        return kinds.unit_sds(metrics)
-    known = [sds.get(metric.stamp) for metric in metrics]
-    if None in known:
-        unknown = [metric for metric, each in zip(metrics, known, strict=True) if each is None]
-        sd, own = kinds.unit_sds(unknown)
-        sds.update(zip([metric.stamp for metric in unknown],
-                       zip(sd.tolist(), own.tolist(), strict=True), strict=True))
-        known = [sds[metric.stamp] for metric in metrics]
-    return (np.array([each[0] for each in known], dtype=float),
-            np.array([each[1] for each in known], dtype=object))
 
 
 def _through_looks(settings: Settings, alternative: str, alphas: np.ndarray,

@@ -18,8 +18,6 @@ from fourfold.ui import cells, simulation_cells
 from fourfold.ui.columns import CHECK, CHOICE, COLUMNS, NUMBER, TEXT
 
 ROLE = Qt.ItemDataRole
-MAX_DERIVED_KEPT = 50_000
-"""Derived texts kept (by row stamp) before they are forgotten and worked out anew."""
 
 DERIVED_SD_TIPS = {
     "ratio": "Derived from the numerator's and denominator's means, sds and correlation by the "
@@ -134,20 +132,12 @@ class TableDisplay:
 
     def _derived_text(self, metric, key: str) -> str:
         """The text of a figure derived from the row's own fields alone (a ratio's or
-        quantile's sd, a quantile's fitted density): worked out once per state of the row
-        (its stamp), not on every recompute, as it costs an engine call."""
-        found = self._derived.get((metric.stamp, key))
-        if found is None:
-            if len(self._derived) > MAX_DERIVED_KEPT:
-                self._derived.clear()
-            if key == "sd":
-                found = cells.show_value(metric, key, kinds.unit_sd(metric), with_unit=True) \
-                    or cells.DASH
-            else:
-                found = cells.show_value(metric, key,
-                                         float(kinds.quantile_densities([metric])[0][0]))
-            self._derived[metric.stamp, key] = found
-        return found
+        quantile's sd, a quantile's fitted density), as the plan keeps it by the row's stamp
+        (an engine call once per state of the row, not on every recompute)."""
+        if key == "sd":
+            sd = float(kinds.kept_unit_sds([metric])[0][0])
+            return cells.show_value(metric, key, sd, with_unit=True) or cells.DASH
+        return cells.show_value(metric, key, kinds.kept_density(metric))
 
     def edit_text(self, row: int, column: int) -> str:
         """The text an editor starts with (empty for unset optional values)."""

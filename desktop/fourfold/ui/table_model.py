@@ -115,7 +115,6 @@ class PlanTableModel(TableDisplay, TableSorting, TableEditing, QAbstractTableMod
         self._scenario_tint.setAlpha(45)
         self._cache: dict[int, dict[tuple[int, int], object]] = {}  # row → (column, role)
         self._touched: set[int] | None = set()
-        self._derived: dict[tuple[int, str], str] = {}  # (row stamp, key) → text
         document.changed.connect(self._on_change)
         document.computed.connect(self._on_computed)
 
