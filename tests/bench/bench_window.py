@@ -17,7 +17,9 @@
    add nothing noticeable.
 3. Looks: the number of interim looks changed, 1 → 5 with every design met for the first time,
    on the sample plan and on a 500-row plan, to the table's first repaint (target ≤ 16 ms); the
-   500-row plan again with its rows solved afresh too (:func:`looks`).
+   500-row plan again with its rows solved afresh too, and the 500-row plan with its rows and
+   designs met afresh, stepped by one look with the spin box's arrow after the window was
+   idle (its work ahead for the neighbouring numbers of looks done) (:func:`looks`).
 """
 
 from __future__ import annotations
@@ -150,7 +152,7 @@ LOOKS = (2, 3, 4, 5)
 LOOK_RUNS = 5
 
 
-def looks(rows: int | None = None, fresh: bool = False) -> None:
+def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False) -> None:
     """The number of interim looks changed (1 → 2 → 3 → 4 → 5, each met for the first time:
     the design caches are emptied before each run) on the sample plan (7 rows, 4 scenarios;
     ``rows`` None) or a plan of ``rows`` of its rows without scenarios: the time from the
@@ -163,7 +165,10 @@ def looks(rows: int | None = None, fresh: bool = False) -> None:
     the designs are made again. ``fresh`` empties that pool too before each run: the rows are
     solved as when a plan meets a number of looks for the first time, the path a user takes
     on a plan just opened (same target; each design met for the first time costs about
-    1.6 ms of it, see DEVELOPERS.md)."""
+    1.6 ms of it, see DEVELOPERS.md). ``stepped`` (with ``fresh``) steps the looks up by one
+    with the spin box's arrow (:meth:`QSpinBox.stepUp`) after the window was idle, as a user
+    steps them, its work ahead for the neighbouring numbers of looks done
+    (:mod:`fourfold.plan.prepare`; the waits are not timed): the path of a step."""
     import statistics
 
     from PySide6.QtCore import QEvent, QObject
@@ -207,8 +212,14 @@ def looks(rows: int | None = None, fresh: bool = False) -> None:
             reference.append(time.perf_counter() - start)
             computed.clear()
             painted.at = None
-            start = time.perf_counter()
-            spin.setValue(k)
+            if stepped:
+                while window.document.preparing():
+                    app.processEvents()
+                start = time.perf_counter()
+                spin.stepUp()
+            else:
+                start = time.perf_counter()
+                spin.setValue(k)
             while painted.at is None:
                 app.processEvents()
             first[k].append(painted.at - start)
@@ -221,6 +232,8 @@ def looks(rows: int | None = None, fresh: bool = False) -> None:
             if rows is None else f"a {rows}-row plan")
     if fresh:
         name += ", its rows solved afresh (no pooled rows)"
+    if stepped:
+        name += ", stepped by one after the window was idle"
     print(f"looks changed, {name}: compute alone {ref:.1f} ms")
     for k in LOOKS:
         shown, done = statistics.median(first[k]) * 1e3, statistics.median(settled[k]) * 1e3
@@ -242,3 +255,4 @@ if __name__ == "__main__":
         looks()
         looks(500)
         looks(500, fresh=True)
+        looks(500, fresh=True, stepped=True)

@@ -1,0 +1,116 @@
+"""Work done ahead for the neighbouring numbers of looks: it makes the later evaluation cheap
+and never changes it.
+
+The reference is the same evaluation with every cache of designs emptied and no pool (a
+consistency check, no outside source).
+"""
+
+import dataclasses
+
+import pytest
+
+from fourfold.engine import sequential as engine_sequential
+from fourfold.plan import evaluation, load, prepare, sample_path, sequential, tradeoffs
+from fourfold.plan.evaluation import RowCache, compute
+from fourfold.plan.model import Plan
+
+
+def _forget():
+    for cached in (engine_sequential._boundaries, sequential.shared_design,
+                   sequential.shared_boundaries, sequential._power_of, tradeoffs._inflation,
+                   tradeoffs._node_inflations):
+        cached.cache_clear()
+
+
+class _Counted:
+    """Counts the grid work (designs, boundaries) and the rows solved."""
+
+    def __init__(self, monkeypatch):
+        self.designs, self.rows = 0, 0
+        design, bounds, solve = (engine_sequential.design, engine_sequential.boundaries,
+                                 evaluation.solve_rows)
+
+        def counted_design(*args, **kwargs):
+            self.designs += 1
+            return design(*args, **kwargs)
+
+        def counted_bounds(*args, **kwargs):
+            self.designs += 1
+            return bounds(*args, **kwargs)
+
+        def counted_solve(plan, designs, alphas, missing, *rest, **kwargs):
+            self.rows += len(missing)
+            return solve(plan, designs, alphas, missing, *rest, **kwargs)
+
+        monkeypatch.setattr(engine_sequential, "design", counted_design)
+        monkeypatch.setattr(engine_sequential, "boundaries", counted_bounds)
+        monkeypatch.setattr(evaluation, "solve_rows", counted_solve)
+
+
+def _with_looks(plan, looks, **settings):
+    return dataclasses.replace(plan, settings=dataclasses.replace(plan.settings, looks=looks,
+                                                                   **settings))
+
+
+def _run(plan, pool):
+    for _ in prepare.preparation(plan, pool):
+        pass
+
+
+@pytest.mark.parametrize("settings", [{}, {"whole_weeks": True}, {"whole_weeks": False},
+                                      {"futility": True}, {"spending": "pocock"}])
+def test_after_the_work_ahead_a_step_of_looks_makes_no_design_and_solves_no_row(
+        monkeypatch, settings):
+    plan = _with_looks(load(sample_path()), 3, **settings)
+    pool = {}
+    _forget()
+    _run(plan, pool)
+    counted = _Counted(monkeypatch)
+    for looks in (4, 2):
+        prepared = compute(_with_looks(plan, looks, **settings), cache=RowCache(shared=pool))
+        assert (counted.designs, counted.rows) == (0, 0), looks
+        monkeypatch.undo()
+        _forget()
+        fresh = compute(_with_looks(plan, looks, **settings))
+        assert prepared.rows == fresh.rows
+        assert prepared.notes == fresh.notes
+        assert prepared.duration_powers == fresh.duration_powers
+        assert prepared.duration_days == fresh.duration_days
+        _run(plan, pool)
+        counted = _Counted(monkeypatch)
+
+
+def test_without_the_work_ahead_the_same_step_makes_designs_and_solves_rows(monkeypatch):
+    # the counts above can fail: the same step on an empty pool and caches does the work
+    plan = _with_looks(load(sample_path()), 3)
+    _forget()
+    counted = _Counted(monkeypatch)
+    compute(_with_looks(plan, 4), cache=RowCache(shared={}))
+    assert counted.designs > 0 and counted.rows == len(plan.metrics)
+
+
+def test_a_large_plan_gets_its_designs_ahead_but_not_its_rows(monkeypatch):
+    sample = _with_looks(load(sample_path()), 3)
+    rows = [dataclasses.replace(sample.metrics[i % len(sample.metrics)], name=f"Metric {i}")
+            for i in range(prepare.PREPARED_ROWS + 1)]
+    plan = Plan(sample.settings, rows)
+    pool = {}
+    _forget()
+    _run(plan, pool)
+    assert pool == {}
+    keys = prepare.design_keys(_with_looks(plan, 4))
+    counted = _Counted(monkeypatch)
+    for alpha, power, two_sided in keys:
+        sequential.shared_design(4, plan.settings.spending, bool(plan.settings.futility),
+                                 alpha, power, two_sided, None)
+    assert keys and counted.designs == 0
+
+
+def test_an_impossible_design_is_left_for_the_evaluation_to_report():
+    # power not above the one-sided α: the design cannot be made; the work ahead goes on and
+    # the row says why when the plan is evaluated at that number of looks
+    plan = load(sample_path())
+    plan = _with_looks(plan, 2, alpha=0.5, power=0.2)
+    _run(plan, {})
+    result = compute(_with_looks(plan, 3))
+    assert any(row.reason for row in result.rows)
