@@ -213,7 +213,7 @@ def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False) -
             computed.clear()
             painted.at = None
             if stepped:
-                while window.document.preparing():
+                while window.work_ahead.preparing():
                     app.processEvents()
                 start = time.perf_counter()
                 spin.stepUp()

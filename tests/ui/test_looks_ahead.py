@@ -19,6 +19,7 @@ from PySide6.QtTest import QTest
 
 from fourfold.engine import sequential as engine_sequential
 from fourfold.plan import Plan, evaluation, load, sample_path, sequential, tradeoffs
+from fourfold.plan.commands import SetSetting
 from fourfold.ui.columns import COLUMNS
 
 
@@ -77,7 +78,7 @@ def _open(qtbot, make_window, plan):
 
 
 def _idle(qtbot, window):
-    qtbot.waitUntil(lambda: not window.document.preparing(), timeout=10_000)
+    qtbot.waitUntil(lambda: not window.work_ahead.preparing(), timeout=10_000)
 
 
 def _step(qtbot, window, key):
@@ -115,7 +116,7 @@ def test_a_step_before_the_window_was_idle_does_the_work_itself(
     # the counts above can fail: straight after opening, nothing has been prepared yet
     _forget()
     window = _open(qtbot, make_window, _plan(3))
-    assert window.document.preparing()
+    assert window.work_ahead.preparing()
     counted = _Counted(monkeypatch, window.document)
     _step(qtbot, window, Qt.Key.Key_Up)
     assert counted.designs > 0 and counted.rows == 30
@@ -128,9 +129,25 @@ def test_after_an_edit_the_work_ahead_is_that_of_the_edited_plan(
     _idle(qtbot, window)
     type_in_cell(qtbot, window, 1, "effect", "2.5")
     qtbot.waitUntil(lambda: not window.document.pending())
-    assert window.document.preparing()
+    assert window.work_ahead.preparing()
     _idle(qtbot, window)
     counted = _Counted(monkeypatch, window.document)
     _step(qtbot, window, Qt.Key.Key_Up)
     assert window.document.plan.metrics[1].effect == 0.025  # a relative effect, typed in %
     assert (counted.designs, counted.rows) == (0, 0)
+
+
+def test_an_idle_document_runs_no_timer(qtbot):
+    # a document without a window (a dialog's, a test's) may be freed by Python's cycle
+    # collector in whichever thread triggers it, a worker's included; a Qt timer still
+    # running then is stopped from the wrong thread, which Qt warns about or crashes on
+    # (seen with a simulation worker). The work ahead's timer belongs to the window.
+    from PySide6.QtCore import QTimer
+
+    from fourfold.ui.document import PlanDocument
+
+    document = PlanDocument(_plan(3))
+    document.stack.do(SetSetting("looks", 4))
+    qtbot.waitUntil(lambda: not document.pending())
+    assert [timer for timer in document.findChildren(QTimer) if timer.isActive()] == []
+

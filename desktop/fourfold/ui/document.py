@@ -16,11 +16,6 @@ An edit in place (the stack's ``"cells"`` changes) names its rows; the document 
 the shown scenario's row cache, which then looks at those rows only, and after the recompute
 :meth:`PlanDocument.changed_rows` names the rows whose inputs, result or power at the duration
 changed, for the table to repaint (any other change: every row).
-
-While the window is idle after a recompute (:data:`AHEAD_AFTER_MS`), the document prepares
-the plan on show at one look more and one fewer (:mod:`fourfold.plan.prepare`), a slice of a
-few milliseconds per turn of the event loop, so that a step of the number of looks finds its
-designs and rows made; any change drops that work and a recompute starts it again.
 """
 
 from __future__ import annotations
@@ -39,10 +34,6 @@ from fourfold.plan.prepare import preparation
 UNTITLED = "Untitled plan"
 _NOT_IN_FILE_NAMES = re.compile(r'[\\/:*?"<>|\x00-\x1f]+')
 MAX_NAME_CHARS = 80
-AHEAD_AFTER_MS = 250
-"""How long the window is left idle after a recompute (its redraws done) before the work
-ahead for the neighbouring numbers of looks starts."""
-_DONE = object()
 
 
 def file_name_for(title: str) -> str:
@@ -91,10 +82,6 @@ class PlanDocument(QObject):
         self._timer.setSingleShot(True)
         self._timer.setInterval(0)
         self._timer.timeout.connect(self.recompute_now)
-        self._ahead = QTimer(self)
-        self._ahead.setSingleShot(True)
-        self._ahead.timeout.connect(self._work_ahead)
-        self._preparation = None
         self.compute_error = ""
         self._unsaved = False
         self._caches = Caches()
@@ -107,7 +94,6 @@ class PlanDocument(QObject):
         self.stack.subscribe(self._on_change)
         self.path = pathlib.Path(path) if path is not None else None
         self.result = self._compute()
-        self._start_ahead()
 
     @property
     def plan(self) -> Plan:
@@ -195,8 +181,6 @@ class PlanDocument(QObject):
             self._edited.update(change.rows)
         else:
             self._edited = None
-        self._ahead.stop()
-        self._preparation = None
         self.changed.emit(change)
         self.history.emit()
         if not self._timer.isActive():
@@ -266,6 +250,12 @@ class PlanDocument(QObject):
             found.append(each)
         return found
 
+    def preparation(self):
+        """The work ahead for the plan on show at its neighbouring numbers of looks, a
+        generator of slices (:func:`fourfold.plan.prepare.preparation`, into the pool its
+        scenarios' row caches share), or ``None`` when the plan could not be computed."""
+        return None if self.result is None else preparation(self.plan, self._caches.pool)
+
     def pending(self) -> bool:
         """Whether a recompute is scheduled but has not run yet."""
         return self._timer.isActive()
@@ -277,24 +267,3 @@ class PlanDocument(QObject):
         if self.compute_error:
             self.message.emit(self.compute_error)
         self.computed.emit()
-        self._start_ahead()
-
-    def preparing(self) -> bool:
-        """Whether work ahead for the neighbouring numbers of looks is still to be done."""
-        return self._preparation is not None
-
-    def _start_ahead(self) -> None:
-        """Start the work ahead for the plan on show once the window has been idle a while."""
-        self._preparation = (None if self.result is None
-                             else preparation(self.plan, self._caches.pool))
-        if self._preparation is not None:
-            self._ahead.start(AHEAD_AFTER_MS)
-
-    def _work_ahead(self) -> None:
-        """One slice of the work ahead; the next runs in the next turn of the event loop."""
-        if self._preparation is None:
-            return
-        if next(self._preparation, _DONE) is _DONE:
-            self._preparation = None
-        else:
-            self._ahead.start(0)

@@ -45,6 +45,7 @@ from fourfold.ui.window_files import WindowFiles
 from fourfold.ui.window_look import WindowLook
 from fourfold.ui.window_recovery import WindowRecovery, data_directory
 from fourfold.ui.window_scenarios import WindowScenarios
+from fourfold.ui.work_ahead import WorkAhead
 
 AUTOSAVE_MS = 60_000
 
@@ -71,6 +72,7 @@ class MainWindow(WindowActions, WindowFiles, WindowRecovery, WindowLook, WindowS
         self.settings = settings if settings is not None else QSettings()
         self.recovery = Recovery(data_dir if data_dir is not None else data_directory())
         self.document = PlanDocument(plan, path, self)
+        self.work_ahead = WorkAhead(self.document, self)
         self.model = PlanTableModel(self.document, self)
         self.dark = theme.system_is_dark()
         self.setWindowIcon(theme.app_icon())
