@@ -44,6 +44,10 @@ def _problems(figures: dict[str, dict[str, list[QRectF]]]) -> list[str]:
         for kind, box in texts:
             if kind != "legend" and any(box.intersects(dot) for dot in boxes["markers"]):
                 found.append(f"{name}: {kind} on a marker")
+        for box in boxes.get("axis titles", []):
+            (whole,) = boxes["figure"]
+            if not whole.contains(box):
+                found.append(f"{name}: an axis title leaves its figure")
     return found
 
 
@@ -60,6 +64,9 @@ def test_window_figures_keep_their_texts_apart(make_window, qtbot, size):
                         and window.plots.tradeoffs.index == row)
         window.plots.grid.settle()
         found = _problems(window.plots.grid.figures.label_boxes())
+        if size == (1400, 900):  # the default window has room for every axis title
+            found += [f"{name}: {side} axis title left out" for name, plot
+                      in window.plots.grid.plots.items() for side in plot.hidden_axis_titles()]
         if found:
             problems[window.model.metric(row).name] = found
     assert problems == {}

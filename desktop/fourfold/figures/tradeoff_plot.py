@@ -351,9 +351,14 @@ class FigurePlot:
 
     def label_boxes(self) -> dict[str, list[QRectF]]:
         """The boxes of the texts and markers on show, in scene coordinates, by kind: "area"
-        (the plot area), "legend", "point label", "guide label", "mark labels" and "markers"
-        (the effect marker's label is :meth:`TradeoffFigures.label_boxes`')."""
+        (the plot area), "legend", "point label", "guide label", "mark labels", "markers",
+        "figure" (the whole figure) and "axis titles" (the effect marker's label is
+        :meth:`TradeoffFigures.label_boxes`')."""
         boxes: dict[str, list[QRectF]] = {"area": [self.item.vb.sceneBoundingRect()]}
+        boxes["figure"] = [self.item.sceneBoundingRect()]
+        boxes["axis titles"] = [_title_box(axis.label) for axis in self.axes.values()
+                                if axis.isVisible() and axis.label.isVisible()
+                                and axis.label.toPlainText()]
         boxes["legend"] = [self.legend.sceneBoundingRect()] if self.legend.isVisible() else []
         boxes["point label"] = [box for box in self.layer.label_boxes("point") if box]
         boxes["mark labels"] = [box for box in self.layer.label_boxes("marks") if box]
@@ -374,14 +379,41 @@ class FigurePlot:
                 boxes.append(QRectF(at.x() - radius, at.y() - radius, 2 * radius, 2 * radius))
         return boxes
 
+    def hidden_axis_titles(self) -> list[str]:
+        """The sides whose axis is on show without its title (:meth:`_fit_axis_titles`)."""
+        return [side for side, axis in self.axes.items()
+                if axis.isVisible() and axis.label.toPlainText() and not axis.label.isVisible()]
+
+    def _fit_axis_titles(self) -> None:
+        """Show an axis title only where its text stays within the figure: a figure made too
+        small for it shows none rather than one cut off or running into its neighbour's."""
+        whole = self.item.sceneBoundingRect()
+        changed = False
+        for side, axis in self.axes.items():
+            label = axis.label
+            if not axis.isVisible() or not label.toPlainText():
+                continue
+            half = (label.boundingRect().width() - 2 * label.document().documentMargin()) / 2
+            centre = axis.sceneBoundingRect().center()
+            fits = (whole.top() <= centre.y() - half and centre.y() + half <= whole.bottom()
+                    if side == "left" else
+                    whole.left() <= centre.x() - half and centre.x() + half <= whole.right())
+            if fits != label.isVisible():
+                axis.showLabel(fits)
+                changed = True
+        if changed:
+            self.item.layout.activate()
+
     def place_labels(self, line: pg.InfiniteLine | None = None) -> None:
         """Put the texts where they overlap neither each other nor a marker, inside the plot
-        area; a text with no such place is left out.
+        area; a text with no such place is left out (an axis title too, where it would leave
+        the figure).
 
         In order: the design point's label (below or above it, left or right), the label of
         ``line`` (the effect marker, moved along it and to either side), the guide's label,
         then the week labels (those in the way are left out).
         """
+        self._fit_axis_titles()
         box = self.item.vb
         box.updateMatrix()  # the view range set since the last paint, as the paint will use
         area = box.sceneBoundingRect()
@@ -505,3 +537,10 @@ def _settled(low: float, high: float, padding: float,
     below = HEADROOM if current is not None and low < current[0] else padding
     above = HEADROOM if current is not None and high > current[1] else padding
     return (low - max(below, padding) * span, high + max(above, padding) * span)
+
+
+def _title_box(label) -> QRectF:
+    """Where an axis title's text is, in scene coordinates (its item's box less the text
+    document's margin)."""
+    margin = label.document().documentMargin()
+    return label.sceneBoundingRect().adjusted(margin, margin, -margin, -margin)

@@ -462,7 +462,9 @@ def tradeoffs(plan: Plan, index: int, result: PlanResult | None = None, *,
 
 def _labels(plan: Plan, metric: Metric, quantity: str, effect_text: str,
             unit: str) -> dict[str, tuple[str, str, str]]:
-    """Title, x label and y label of each figure."""
+    """Title, x label and y label of each figure. The weekly figure's y label gives the unit
+    alone (its axis is the figure's short side; the first figure's x label says what the
+    effect is a difference in)."""
     y_units = ("units per arm" if treatment_ratio(plan.settings) == 1.0
                else "control-arm units")
     sided = "two-sided" if metric.alternative == "two-sided" else "one-sided"
@@ -470,10 +472,10 @@ def _labels(plan: Plan, metric: Metric, quantity: str, effect_text: str,
     if quantity == "margin":
         first = ("Sample size against the margin", f"margin ({effect_text})")
         runtime = ("What each week can rule out",
-                   f"margin ruled out ({effect_text})" if unit else "margin ruled out")
+                   f"margin ruled out ({unit})" if unit else "margin ruled out")
     else:
         first = ("Sample size against effect", f"effect ({effect_text})")
-        runtime = ("What each week can detect", f"MDE ({effect_text})" if unit else "MDE")
+        runtime = ("What each week can detect", f"MDE ({unit})" if unit else "MDE")
     return {
         "effect": (*first, y_units),
         "power": ("Sample size against power", "power (%)", y_units),
