@@ -164,8 +164,8 @@ def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False) -
     caches) holds every row at each number of looks, so the rows are taken from it and only
     the designs are made again. ``fresh`` empties that pool too before each run: the rows are
     solved as when a plan meets a number of looks for the first time, the path a user takes
-    on a plan just opened (same target; each design met for the first time costs about
-    1.6 ms of it, see DEVELOPERS.md). ``stepped`` (with ``fresh``) steps the looks up by one
+    on a plan just opened (same target; each design met for the first time costs some
+    milliseconds of it, see DEVELOPERS.md). ``stepped`` (with ``fresh``) steps the looks up by one
     with the spin box's arrow (:meth:`QSpinBox.stepUp`) after the window was idle, as a user
     steps them, its work ahead for the neighbouring numbers of looks done
     (:mod:`fourfold.plan.prepare`; the waits are not timed): the path of a step."""
