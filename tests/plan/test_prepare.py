@@ -1,16 +1,22 @@
 """Work done ahead for the neighbouring numbers of looks: it makes the later evaluation cheap
 and never changes it.
 
-The reference is the same evaluation with every cache of designs emptied and no pool (a
-consistency check, no outside source).
+The reference is the same evaluation with every cache of designs emptied and no pool, or
+without a cache (a consistency check, no outside source); the varied plans are made by the
+edits of ``test_evaluation_cache``.
 """
 
 import dataclasses
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+from test_evaluation_cache import EDITS, _apply, _same_result
+from test_evaluation_cache import _plan as _evaluation_plan
 
 from fourfold.engine import sequential as engine_sequential
 from fourfold.plan import evaluation, load, prepare, sample_path, sequential, tradeoffs
+from fourfold.plan.comparison import Caches
 from fourfold.plan.evaluation import RowCache, compute
 from fourfold.plan.model import Plan
 
@@ -114,3 +120,25 @@ def test_an_impossible_design_is_left_for_the_evaluation_to_report():
     _run(plan, {})
     result = compute(_with_looks(plan, 3))
     assert any(row.reason for row in result.rows)
+
+
+@settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.integers(1, 5), st.booleans(), st.booleans(),
+       st.sampled_from(["ld-obrien-fleming", "pocock", "hsd"]),
+       st.sampled_from([None, 28.0]), st.lists(EDITS, max_size=4))
+def test_a_varied_plan_prepared_ahead_gives_the_fresh_result(looks, weeks, futility, spending,
+                                                            runtime, edits):
+    # the document's path: its shown cache has the plan at its looks, the work ahead fills
+    # the shared pool, then the looks change and the same cache evaluates the plan again
+    plan = _evaluation_plan(12)
+    plan.settings = dataclasses.replace(plan.settings, looks=looks, whole_weeks=weeks,
+                                        futility=futility, spending=spending,
+                                        runtime_days=runtime)
+    for edit in edits:
+        _apply(plan, edit)
+    caches = Caches()
+    compute(plan, cache=caches.get(None))
+    _run(plan, caches.pool)
+    for moved in prepare.neighbours(looks):
+        stepped = _with_looks(plan, moved)
+        _same_result(compute(stepped, cache=caches.get(None)), compute(stepped))
