@@ -106,9 +106,8 @@ def test_a_large_plan_gets_its_designs_ahead_but_not_its_rows(monkeypatch):
     assert pool == {}
     keys = prepare.design_keys(_with_looks(plan, 4))
     counted = _Counted(monkeypatch)
-    for alpha, power, two_sided in keys:
-        sequential.shared_design(4, plan.settings.spending, bool(plan.settings.futility),
-                                 alpha, power, two_sided, None)
+    for alpha, power, alternative in keys:
+        sequential.row_design(_with_looks(plan, 4).settings, alpha, power, alternative)
     assert keys and counted.designs == 0
 
 

@@ -59,10 +59,11 @@ def neighbours(looks: int) -> tuple[int, ...]:
     return tuple(k for k in (looks + 1, looks - 1) if 1 <= k <= MAX_LOOKS)
 
 
-def design_keys(plan: Plan) -> list[tuple[float, float, bool]]:
-    """The distinct (α, power, two-sided) of the rows' equally spaced designs, in row order,
-    at most :data:`MOST_DESIGNS` of them: a row's α after the plan's correction and its power
-    (its own, else the plan's), as :func:`fourfold.plan.rows.solve_rows` asks for them.
+def design_keys(plan: Plan) -> list[tuple[float, float, str]]:
+    """The distinct (α, power, alternative) the rows ask their designs for, in row order, at
+    most :data:`MOST_DESIGNS` of them: a row's α after the plan's correction and its power
+    (its own, else the plan's), as :func:`fourfold.plan.rows.solve_rows` asks
+    :func:`fourfold.plan.sequential.row_design`.
 
     Examples
     --------
@@ -70,12 +71,11 @@ def design_keys(plan: Plan) -> list[tuple[float, float, bool]]:
     >>> plan = Plan(Settings(alpha=0.05, power=0.8),
     ...             [Metric(), Metric(power=0.9), Metric(alternative="greater"), Metric()])
     >>> design_keys(plan)
-    [(0.05, 0.8, True), (0.05, 0.9, True), (0.05, 0.8, False)]
+    [(0.05, 0.8, 'two-sided'), (0.05, 0.9, 'two-sided'), (0.05, 0.8, 'greater')]
     """
     power = plan.settings.power
     keys = dict.fromkeys(
-        (float(alpha), float(power if metric.power is None else metric.power),
-         metric.alternative == "two-sided")
+        (alpha, power if metric.power is None else metric.power, metric.alternative)
         for alpha, metric in zip(row_alphas(plan), plan.metrics, strict=True))
     return list(keys)[:MOST_DESIGNS]
 
@@ -91,10 +91,9 @@ def preparation(plan: Plan, pool: dict) -> Iterator[None]:
         moved = dataclasses.replace(plan, settings=settings)
         keys = design_keys(moved) if looks > 1 else []
         yield
-        for alpha, power, two_sided in keys:
+        for alpha, power, alternative in keys:
             try:
-                sequential.shared_design(looks, settings.spending, bool(settings.futility),
-                                         alpha, power, two_sided, None)
+                sequential.row_design(settings, alpha, power, alternative)
             except ValueError:
                 pass  # an impossible design: the row says so when it is solved
             yield
