@@ -332,6 +332,9 @@ class SettingsPanel(QWidget):
         spin = QSpinBox()
         spin.setRange(1, most)
         spin.setToolTip(tooltip)
+        # a number typed is one change, made on Enter or on leaving the field ("12" is not a
+        # change to 1 and another to 12); the arrows, keys and wheel change it at once
+        spin.setKeyboardTracking(False)
         spin.valueChanged.connect(lambda value: self._commit(field, value))
         self.fields[field] = spin
         grid.addWidget(self._label(text, spin), row, 0)
