@@ -1,5 +1,5 @@
-"""Work done ahead for the neighbouring numbers of looks: it makes the later evaluation cheap
-and never changes it.
+"""Work done ahead for the other numbers of looks: it makes the later evaluation cheap and
+never changes it.
 
 The reference is the same evaluation with every cache of designs emptied and no pool, or
 without a cache (a consistency check, no outside source); the varied plans are made by the
@@ -7,6 +7,7 @@ edits of ``test_evaluation_cache``.
 """
 
 import dataclasses
+from unittest import mock
 
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -18,6 +19,7 @@ from fourfold.engine import sequential as engine_sequential
 from fourfold.plan import evaluation, load, prepare, sample_path, sequential, tradeoffs
 from fourfold.plan.comparison import Caches
 from fourfold.plan.evaluation import RowCache, compute
+from fourfold.plan.fields import MAX_LOOKS
 from fourfold.plan.model import Plan
 
 
@@ -63,27 +65,44 @@ def _run(plan, pool):
         pass
 
 
+@pytest.mark.parametrize("looks", range(1, MAX_LOOKS + 1))
+def test_the_work_ahead_meets_every_other_number_of_looks_the_nearest_first(looks):
+    ahead = prepare.looks_ahead(looks)
+    assert sorted(ahead) == [k for k in range(1, MAX_LOOKS + 1) if k != looks]
+    distances = [abs(k - looks) for k in ahead]
+    assert distances == sorted(distances)
+    for first, second in zip(ahead, ahead[1:], strict=False):
+        if abs(first - looks) == abs(second - looks):
+            assert first > looks > second  # one more before one fewer
+
+
+COMPARED = (1, 2, 4, 8, 20)
+"""The numbers of looks whose prepared result is held to a fresh one (every number is
+checked for work left undone; a fresh result at each would double the time)."""
+
+
 @pytest.mark.parametrize("settings", [{}, {"whole_weeks": True}, {"whole_weeks": False},
                                       {"futility": True}, {"spending": "pocock"}])
-def test_after_the_work_ahead_a_step_of_looks_makes_no_design_and_solves_no_row(
+def test_after_the_work_ahead_any_number_of_looks_makes_no_design_and_solves_no_row(
         monkeypatch, settings):
+    # a step (4, 2) or a number typed (any other): the evaluation finds its work done
     plan = _with_looks(load(sample_path()), 3, **settings)
     pool = {}
     _forget()
     _run(plan, pool)
     counted = _Counted(monkeypatch)
-    for looks in (4, 2):
-        prepared = compute(_with_looks(plan, looks, **settings), cache=RowCache(shared=pool))
+    prepared = {}
+    for looks in prepare.looks_ahead(3):
+        prepared[looks] = compute(_with_looks(plan, looks), cache=RowCache(shared=pool))
         assert (counted.designs, counted.rows) == (0, 0), looks
-        monkeypatch.undo()
-        _forget()
-        fresh = compute(_with_looks(plan, looks, **settings))
-        assert prepared.rows == fresh.rows
-        assert prepared.notes == fresh.notes
-        assert prepared.duration_powers == fresh.duration_powers
-        assert prepared.duration_days == fresh.duration_days
-        _run(plan, pool)
-        counted = _Counted(monkeypatch)
+    monkeypatch.undo()
+    _forget()
+    for looks in COMPARED:
+        fresh = compute(_with_looks(plan, looks))
+        assert prepared[looks].rows == fresh.rows
+        assert prepared[looks].notes == fresh.notes
+        assert prepared[looks].duration_powers == fresh.duration_powers
+        assert prepared[looks].duration_days == fresh.duration_days
 
 
 def test_without_the_work_ahead_the_same_step_makes_designs_and_solves_rows(monkeypatch):
@@ -122,13 +141,15 @@ def test_an_impossible_design_is_left_for_the_evaluation_to_report():
 
 
 @settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(st.integers(1, 5), st.booleans(), st.booleans(),
+@given(st.integers(1, 5), st.integers(1, MAX_LOOKS), st.booleans(), st.booleans(),
        st.sampled_from(["ld-obrien-fleming", "pocock", "hsd"]),
        st.sampled_from([None, 28.0]), st.lists(EDITS, max_size=4))
-def test_a_varied_plan_prepared_ahead_gives_the_fresh_result(looks, weeks, futility, spending,
-                                                            runtime, edits):
+def test_a_varied_plan_prepared_ahead_gives_the_fresh_result(looks, target, weeks, futility,
+                                                            spending, runtime, edits):
     # the document's path: its shown cache has the plan at its looks, the work ahead fills
-    # the shared pool, then the looks change and the same cache evaluates the plan again
+    # the shared pool, then the looks change (a step, or a number typed: ``target``) and the
+    # same cache evaluates the plan again. The work ahead is held to the step up and the
+    # target here (each number is prepared alike; all of them would take 20 × as long).
     plan = _evaluation_plan(12)
     plan.settings = dataclasses.replace(plan.settings, looks=looks, whole_weeks=weeks,
                                         futility=futility, spending=spending,
@@ -137,7 +158,9 @@ def test_a_varied_plan_prepared_ahead_gives_the_fresh_result(looks, weeks, futil
         _apply(plan, edit)
     caches = Caches()
     compute(plan, cache=caches.get(None))
-    _run(plan, caches.pool)
-    for moved in prepare.neighbours(looks):
+    moves = tuple(dict.fromkeys(k for k in (looks + 1, target) if k != looks))
+    with mock.patch.object(prepare, "looks_ahead", lambda _looks: moves):
+        _run(plan, caches.pool)
+    for moved in moves:
         stepped = _with_looks(plan, moved)
         _same_result(compute(stepped, cache=caches.get(None)), compute(stepped))

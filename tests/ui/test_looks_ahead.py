@@ -1,7 +1,7 @@
-"""A step of the number of looks after the window was idle finds its designs and rows made.
+"""A change of the number of looks after the window was idle finds its designs and rows made.
 
-The user steps the looks with the spin box's arrow keys; the window, idle a moment after each
-recompute, has prepared the plan at one look more and one fewer
+The user steps the looks with the spin box's arrow keys or types a number; the window, idle a
+moment after each recompute, has prepared the plan at every other number of looks
 (:mod:`fourfold.plan.prepare`). These checks count the grid work (designs, boundaries) and the
 rows solved between the key press and the recompute's end, and hold the window's result and
 table texts to a window opened on the changed plan with every cache emptied (a consistency
@@ -109,6 +109,56 @@ def test_a_step_after_the_window_was_idle_makes_no_design_and_solves_no_row(
     fresh = _open(qtbot, make_window, _plan(looks))
     assert window.document.result == fresh.document.result
     assert _texts(window) == _texts(fresh)
+
+
+def _type(qtbot, window, text, end=Qt.Key.Key_Return):
+    field = window.settings_panel.fields["looks"]
+    field.setFocus()
+    QTest.keyClick(field, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClicks(field, text)
+    if end is None:
+        window.table.setFocus()  # leaving the field ends the number
+    else:
+        QTest.keyClick(field, end)
+    qtbot.waitUntil(lambda: not window.document.pending())
+
+
+@pytest.mark.parametrize("looks", [12, 1, 20])
+def test_a_number_typed_after_the_window_was_idle_makes_no_design_and_solves_no_row(
+        qtbot, make_window, monkeypatch, looks):
+    _forget()
+    window = _open(qtbot, make_window, _plan(3))
+    _idle(qtbot, window)
+    counted = _Counted(monkeypatch, window.document)
+    _type(qtbot, window, str(looks))
+    assert window.document.plan.settings.looks == looks
+    assert (counted.designs, counted.rows) == (0, 0)
+    monkeypatch.undo()
+    _forget()
+    fresh = _open(qtbot, make_window, _plan(looks))
+    assert window.document.result == fresh.document.result
+    assert _texts(window) == _texts(fresh)
+
+
+@pytest.mark.parametrize("end", [Qt.Key.Key_Return, Qt.Key.Key_Enter, None])
+def test_a_number_typed_is_one_change_made_when_it_is_ended(qtbot, make_window, end):
+    # "12" typed is not a change to 1 look and another to 12: nothing changes while typing,
+    # Enter (either key) or leaving the field makes one change, and one undo returns to 3
+    window = _open(qtbot, make_window, _plan(3))
+    field = window.settings_panel.fields["looks"]
+    field.setFocus()
+    QTest.keyClick(field, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClicks(field, "12")
+    qtbot.wait(10)
+    assert window.document.plan.settings.looks == 3
+    assert not window.document.stack.can_undo
+    _type(qtbot, window, "12", end)
+    assert window.document.plan.settings.looks == 12
+    window.undo_action.trigger()
+    qtbot.waitUntil(lambda: not window.document.pending())
+    assert window.document.plan.settings.looks == 3
+    assert field.value() == 3
+    assert not window.document.stack.can_undo
 
 
 def test_a_step_before_the_window_was_idle_does_the_work_itself(

@@ -1,10 +1,12 @@
-"""Work done ahead, while the window is idle, so that stepping the number of looks is quick.
+"""Work done ahead, while the window is idle, so that a change of the number of looks is quick.
 
 A plan meeting a number of interim looks for the first time has to make each group sequential
 design its rows need (a millisecond or more each: a recursion over a grid at every look, for
 the boundaries and for the drift that gives the design its power) and to solve its rows with
-them. :func:`preparation` does that work ahead for the plan at one look more and one fewer
-than it has, in slices of a few milliseconds, each slice a ``next()`` of the generator:
+them. :func:`preparation` does that work ahead for the plan at every other number of looks,
+the nearest first (:func:`looks_ahead`: one look more, one fewer, two more, ...), so that a
+step and a number typed both find their work done, in slices of a few milliseconds, each
+slice a ``next()`` of the generator. For each number of looks:
 
 1. the equally spaced designs of the rows' α, power and sidedness at that number of looks,
    one slice each (:func:`fourfold.plan.sequential.shared_design` keeps them for every later
@@ -16,6 +18,12 @@ than it has, in slices of a few milliseconds, each slice a ``next()`` of the gen
    boundaries). A plan of more than :data:`PREPARED_ROWS` rows gets its designs only (its
    rows would be one slice too long).
 
+The first time (a plan just opened, or a new α, power, spending or sidedness) this is about
+0.55 s of processor time for the sample plan and 0.85 s for a 500-row plan on the 2-core
+development machine; after an edit the pool holds every row the edit left alone, and the work
+is what the edit changed (0.02–0.4 s there). Its longest slices, 16–22 ms there, are the
+designs at 17 looks or more, which come last.
+
 Nothing here changes a result: designs are pure functions of their keys, and the pool gives a
 row only to an evaluation of the same settings and the same row key. A change of the plan
 makes the work out of date; the caller drops the generator and starts a new one.
@@ -24,8 +32,8 @@ Examples
 --------
 >>> from fourfold.plan import load, sample_path
 >>> plan = load(sample_path())
->>> neighbours(4), neighbours(1), neighbours(20)
-((5, 3), (2,), (19,))
+>>> looks_ahead(4)[:6], looks_ahead(1)[:3], looks_ahead(20)[:3]
+((5, 3, 6, 2, 7, 1), (2, 3, 4), (19, 18, 17))
 >>> pool = {}
 >>> slices = sum(1 for _ in preparation(plan, pool))
 >>> slices > 2 and len(pool) > 0
@@ -54,9 +62,12 @@ MOST_DESIGNS = 16
 sidedness of the rows, the first met first)."""
 
 
-def neighbours(looks: int) -> tuple[int, ...]:
-    """The numbers of looks prepared ahead of a plan with ``looks``: one more, one fewer."""
-    return tuple(k for k in (looks + 1, looks - 1) if 1 <= k <= MAX_LOOKS)
+def looks_ahead(looks: int) -> tuple[int, ...]:
+    """The numbers of looks prepared ahead of a plan with ``looks``, in the order they are
+    prepared: every other number from 1 to :data:`~fourfold.plan.fields.MAX_LOOKS`, the
+    nearest first, one more before one fewer."""
+    return tuple(sorted((k for k in range(1, MAX_LOOKS + 1) if k != looks),
+                        key=lambda k: (abs(k - looks), k < looks)))
 
 
 def design_keys(plan: Plan) -> list[tuple[float, float, str]]:
@@ -81,12 +92,12 @@ def design_keys(plan: Plan) -> list[tuple[float, float, str]]:
 
 
 def preparation(plan: Plan, pool: dict) -> Iterator[None]:
-    """Prepare ``plan`` at its :func:`neighbours` numbers of looks, one slice per ``next()``.
+    """Prepare ``plan`` at its :func:`looks_ahead` numbers of looks, one slice per ``next()``.
 
     ``pool`` is the shared pool of the document's row caches. A design or a plan that cannot
     be made is left for the evaluation that needs it, which reports why.
     """
-    for looks in neighbours(plan.settings.looks):
+    for looks in looks_ahead(plan.settings.looks):
         settings = dataclasses.replace(plan.settings, looks=looks)
         moved = dataclasses.replace(plan, settings=settings)
         keys = design_keys(moved) if looks > 1 else []

@@ -251,7 +251,7 @@ class PlanDocument(QObject):
         return found
 
     def preparation(self):
-        """The work ahead for the plan on show at its neighbouring numbers of looks, a
+        """The work ahead for the plan on show at its other numbers of looks, a
         generator of slices (:func:`fourfold.plan.prepare.preparation`, into the pool its
         scenarios' row caches share), or ``None`` when the plan could not be computed."""
         return None if self.result is None else preparation(self.plan, self._caches.pool)

@@ -1,11 +1,11 @@
-"""Work done while the window is idle, so that stepping the number of looks is quick.
+"""Work done while the window is idle, so that a change of the number of looks is quick.
 
 :class:`WorkAhead` belongs to the window (its parent, so that its timer lives and dies in the
 window's thread). :data:`AHEAD_AFTER_MS` after a recompute it runs the document's
 :meth:`~fourfold.ui.document.PlanDocument.preparation` (:mod:`fourfold.plan.prepare`: the plan
-on show at one look more and one fewer), one slice of a few milliseconds per turn of the event
-loop, so that input is served between slices. Any change of the plan drops the work; the
-recompute that follows starts it again for the changed plan.
+on show at every other number of looks, the nearest first), one slice of a few milliseconds
+per turn of the event loop, so that input is served between slices. Any change of the plan
+drops the work; the recompute that follows starts it again for the changed plan.
 """
 
 from __future__ import annotations
