@@ -19,7 +19,8 @@
    on the sample plan and on a 500-row plan, to the table's first repaint (target ≤ 16 ms); the
    500-row plan again with its rows solved afresh too, and the 500-row plan with its rows and
    designs met afresh, stepped by one look with the spin box's arrow after the window was
-   idle (its work ahead for the neighbouring numbers of looks done) (:func:`looks`).
+   idle, and the same plan with numbers typed after the window was idle (1 → 3 → 7 → 12 →
+   20; its work ahead for every other number of looks done) (:func:`looks`).
 """
 
 from __future__ import annotations
@@ -149,10 +150,12 @@ def edits(traffic: str = "constant", rows: int = 500) -> None:
 
 
 LOOKS = (2, 3, 4, 5)
+TYPED = (3, 7, 12, 20)
 LOOK_RUNS = 5
 
 
-def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False) -> None:
+def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False,
+          typed: bool = False) -> None:
     """The number of interim looks changed (1 → 2 → 3 → 4 → 5, each met for the first time:
     the design caches are emptied before each run) on the sample plan (7 rows, 4 scenarios;
     ``rows`` None) or a plan of ``rows`` of its rows without scenarios: the time from the
@@ -168,10 +171,16 @@ def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False) -
     milliseconds of it, see DEVELOPERS.md). ``stepped`` (with ``fresh``) steps the looks up by one
     with the spin box's arrow (:meth:`QSpinBox.stepUp`) after the window was idle, as a user
     steps them, its work ahead for the neighbouring numbers of looks done
-    (:mod:`fourfold.plan.prepare`; the waits are not timed): the path of a step."""
+    (:mod:`fourfold.plan.prepare`; the waits are not timed): the path of a step. ``typed``
+    (with ``fresh``) types the numbers 3, 7, 12 and 20 into the field instead, each after the
+    window was idle (its work ahead done for every other number of looks), timed from the
+    Enter key: the path of a number typed. Waiting for the work ahead is not timed; the
+    first wait of each run takes most of a second of processor time (see
+    :mod:`fourfold.plan.prepare`)."""
     import statistics
 
-    from PySide6.QtCore import QEvent, QObject
+    from PySide6.QtCore import QEvent, QObject, Qt
+    from PySide6.QtTest import QTest
     from timing import forget_designs
     from windows import close_window, open_window
 
@@ -196,8 +205,9 @@ def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False) -
     painted, computed = Painted(), []
     window.table.viewport().installEventFilter(painted)
     window.document.computed.connect(lambda: computed.append(True))
-    first = {k: [] for k in LOOKS}
-    settled = {k: [] for k in LOOKS}
+    numbers = TYPED if typed else LOOKS
+    first = {k: [] for k in numbers}
+    settled = {k: [] for k in numbers}
     reference = []
     for _ in range(LOOK_RUNS):
         spin.setValue(1)
@@ -206,15 +216,22 @@ def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False) -
         forget_designs()
         if fresh:
             window.document._caches.pool.clear()
-        for k in LOOKS:
+        for k in numbers:
             start = time.perf_counter()
             compute(window.document.plan)
             reference.append(time.perf_counter() - start)
             computed.clear()
             painted.at = None
-            if stepped:
+            if stepped or typed:
                 while window.work_ahead.preparing():
                     app.processEvents()
+            if typed:
+                spin.setFocus()
+                QTest.keyClick(spin, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+                QTest.keyClicks(spin, str(k))
+                start = time.perf_counter()
+                QTest.keyClick(spin, Qt.Key.Key_Return)
+            elif stepped:
                 start = time.perf_counter()
                 spin.stepUp()
             else:
@@ -234,8 +251,10 @@ def looks(rows: int | None = None, fresh: bool = False, stepped: bool = False) -
         name += ", its rows solved afresh (no pooled rows)"
     if stepped:
         name += ", stepped by one after the window was idle"
+    if typed:
+        name += ", numbers typed after the window was idle"
     print(f"looks changed, {name}: compute alone {ref:.1f} ms")
-    for k in LOOKS:
+    for k in numbers:
         shown, done = statistics.median(first[k]) * 1e3, statistics.median(settled[k]) * 1e3
         print(f"  to {k} looks: first repaint {shown:.1f} ms (target ≤ 16 ms; ratio "
               f"{shown / ref:.2f}); all redrawn {done:.1f} ms")
@@ -256,3 +275,4 @@ if __name__ == "__main__":
         looks(500)
         looks(500, fresh=True)
         looks(500, fresh=True, stepped=True)
+        looks(500, fresh=True, typed=True)
