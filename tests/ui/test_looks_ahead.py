@@ -201,3 +201,15 @@ def test_an_idle_document_runs_no_timer(qtbot):
     qtbot.waitUntil(lambda: not document.pending())
     assert [timer for timer in document.findChildren(QTimer) if timer.isActive()] == []
 
+
+
+def test_a_closed_window_drops_its_work_ahead(qtbot, make_window, monkeypatch):
+    # a window closed but not yet deleted must not go on preparing a plan no one sees (it
+    # would take the processor from the window in use)
+    window = _open(qtbot, make_window, _plan(3))
+    assert window.work_ahead.preparing()
+    window.document.stack.mark_clean()
+    window.close()
+    counted = _Counted(monkeypatch, window.document)
+    qtbot.waitUntil(lambda: not window.work_ahead.preparing(), timeout=5_000)
+    assert (counted.designs, counted.rows) == (0, 0)

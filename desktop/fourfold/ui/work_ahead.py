@@ -5,12 +5,15 @@ window's thread). :data:`AHEAD_AFTER_MS` after a recompute it runs the document'
 :meth:`~fourfold.ui.document.PlanDocument.preparation` (:mod:`fourfold.plan.prepare`: the plan
 on show at every other number of looks, the nearest first), one slice of a few milliseconds
 per turn of the event loop, so that input is served between slices. Any change of the plan
-drops the work; the recompute that follows starts it again for the changed plan.
+drops the work; the recompute that follows starts it again for the changed plan. A window
+closed (hidden) drops its work: a window closed but not yet deleted would otherwise go on
+working for a plan no one sees, taking the processor from the window in use.
 """
 
 from __future__ import annotations
 
 from PySide6.QtCore import QObject, QTimer
+from PySide6.QtWidgets import QWidget
 
 from fourfold.ui.document import PlanDocument
 
@@ -22,10 +25,11 @@ _DONE = object()
 
 
 class WorkAhead(QObject):
-    """Runs ``document``'s work ahead while the window is idle."""
+    """Runs ``document``'s work ahead while ``window`` is idle and shown."""
 
-    def __init__(self, document: PlanDocument, parent: QObject) -> None:
-        super().__init__(parent)
+    def __init__(self, document: PlanDocument, window: QWidget) -> None:
+        super().__init__(window)
+        self._window = window
         self.document = document
         self._timer = QTimer(self)
         self._timer.setSingleShot(True)
@@ -54,6 +58,9 @@ class WorkAhead(QObject):
     def _step(self) -> None:
         """One slice; the next runs in the next turn of the event loop."""
         if self._slices is None:
+            return
+        if not self._window.isVisible():
+            self._slices = None
             return
         if next(self._slices, _DONE) is _DONE:
             self._slices = None
