@@ -158,3 +158,26 @@ def test_the_caption_follows_the_looks_and_alpha_typed(make_window):
         window.document.recompute_now()
         window.table.setCurrentIndex(window.model.index(0, 1))
         assert asked.call_count == calls == 4
+
+
+def test_a_boundary_above_the_axes_is_marked_beyond_them_with_its_z(qtbot):
+    # 12 equally spaced O'Brien–Fleming-type looks: the first boundaries lie above z 6, the
+    # top of the axes. A dot at the top would read as z 6; each such look gets the upward
+    # marker, and its label (z, not p) sits beside it.
+    plan = _plan(looks=12, whole_weeks=False)
+    looks = row_looks(plan, compute(plan), 0)
+    high = [k for k, look in enumerate(looks) if look.z_efficacy > 6.0]
+    assert high and high == list(range(len(high)))  # the earliest looks, not the last
+    style = BoundaryStyle(QColor("#000000"), QColor("#777777"), QColor("#dddddd"),
+                          QColor("#0000ff"), QColor("#ff0000"))
+    image = QImage(700, 320, QImage.Format.Format_RGB32)
+    image.fill(QColor("#ffffff"))
+    painter = QPainter(image)
+    drawn = paint_boundaries(painter, QRectF(0, 0, 700, 320), looks, style, "Boundaries")
+    painter.end()
+    markers = [box for kind, box in drawn if kind == "beyond"]
+    labels = [box for kind, box in drawn if kind == "label"]
+    assert len(markers) == len(high)
+    for marker in markers:
+        near = marker.adjusted(-12, -22, 12, 22)
+        assert any(near.intersects(label) for label in labels)

@@ -10,6 +10,7 @@ numbers come from :func:`fourfold.plan.sequential.row_looks`; nothing is compute
 from __future__ import annotations
 
 import math
+from collections.abc import Container
 from dataclasses import dataclass
 
 from PySide6.QtCore import QPointF, QRectF, Qt
@@ -21,7 +22,8 @@ from fourfold.formatting import MINUS
 from fourfold.plan.sequential import Look
 
 Z_CAP = 6.0
-"""Highest z drawn; earlier boundaries above it are drawn at the cap with their value."""
+"""Highest z drawn; earlier boundaries above it are drawn at the cap as an upward triangle
+(the boundary lies beyond the axis), labelled with their z where there is room."""
 MAX_LABELS = 10
 
 FIXED_TEXT = ("One look: a fixed design. Set looks above 1 to plan interim analyses and see "
@@ -82,7 +84,8 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     -------
     list of (str, QRectF)
         What was drawn where, by kind: "plot" (the axes' box), "title", "legend", "tick",
-        "axis", "label" (a look's p) and "caption".
+        "axis", "label" (a look's p, or its z when beyond the axes), "beyond" (the marker of
+        a look whose boundary lies above the axes) and "caption".
     """
     px, font = begin_painting(painter, style.points)
     drawn: list[tuple[str, QRectF]] = []
@@ -112,7 +115,9 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     futile = [look.z_futility for look in looks if math.isfinite(look.z_futility)]
     z_low = min(0.0, math.floor(min(futile))) if futile else 0.0
     z_high = min(Z_CAP, math.ceil(max(look.z_efficacy for look in looks) + 0.3))
+    beyond = {k for k, look in enumerate(looks) if look.z_efficacy > z_high}
     labelled = set(range(len(looks) - 1, -1, -max(1, math.ceil(len(looks) / MAX_LABELS))))
+    labelled |= beyond
     labels = [f"z {z_text(look.z_efficacy)}" if look.z_efficacy > z_high
               else p_text(look.p_efficacy) for look in looks]
     items = _legend_items(style, bool(futile))
@@ -152,18 +157,24 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
         _shade(painter, floor, plot.bottom(), plot.right(), style.futility, 0.14)
         _curve(painter, floor, style.futility, Qt.PenStyle.DashLine, px)
 
-    _curve(painter, efficacy, style.efficacy, Qt.PenStyle.SolidLine, px)
+    _curve(painter, efficacy, style.efficacy, Qt.PenStyle.SolidLine, px, beyond)
     painter.setPen(style.foreground)
     dots = [QRectF(point.x() - 3 * px, point.y() - 3 * px, 6 * px, 6 * px)
             for point in efficacy]
+    drawn += [("beyond", dots[k]) for k in sorted(beyond)]
     taken = list(dots)
-    for k in sorted(labelled, reverse=True):  # the last look's label first: it matters most
+    last = len(looks) - 1
+    # the last look's label first (it matters most), then those beyond the axis (their z is
+    # not read off it), then the others from the last
+    for k in sorted(labelled, key=lambda k: (k != last, k not in beyond, -k)):
         width = metrics.horizontalAdvance(labels[k]) + 2 * px
         point = efficacy[k]
         # above and right of a falling boundary first, then below and left (clear of it)
-        places = [QRectF(point.x() + dx, point.y() + dy, width, line)
-                  for dx, dy in ((5 * px, -line - 2 * px), (-5 * px - width, 2 * px),
-                                 (-5 * px - width, -line - 2 * px), (5 * px, 2 * px))]
+        offsets = [(5 * px, -line - 2 * px), (-5 * px - width, 2 * px),
+                   (-5 * px - width, -line - 2 * px), (5 * px, 2 * px)]
+        if k in beyond:  # at the top of the axes: below it, further down, or centred
+            offsets += [(5 * px, line + 4 * px), (-width / 2, 6 * px)]
+        places = [QRectF(point.x() + dx, point.y() + dy, width, line) for dx, dy in offsets]
         found = first_clear(places, plot, taken)
         if found is not None:
             taken.append(places[found])
@@ -205,15 +216,23 @@ def _shade(painter, points, edge, right, colour, alpha):
     painter.fillPath(region, shade)
 
 
-def _curve(painter: QPainter, points: list[QPointF], colour: QColor, dash, px: float) -> None:
+def _curve(painter: QPainter, points: list[QPointF], colour: QColor, dash, px: float,
+           beyond: Container[int] = ()) -> None:
+    """A boundary's line and its looks' markers: a dot, or an upward triangle for a look
+    whose boundary lies above the axes (``beyond``: drawn at the top)."""
     pen = QPen(colour, 2.0 * px)
     pen.setStyle(dash)
     painter.setPen(pen)
     painter.drawPolyline(QPolygonF(points))
     painter.setPen(QPen(colour, px))
     painter.setBrush(colour)
-    for point in points:
-        painter.drawEllipse(point, 3.0 * px, 3.0 * px)
+    for k, point in enumerate(points):
+        if k in beyond:
+            painter.drawPolygon(QPolygonF([point + QPointF(0, -4 * px),
+                                           point + QPointF(-4 * px, 3 * px),
+                                           point + QPointF(4 * px, 3 * px)]))
+        else:
+            painter.drawEllipse(point, 3.0 * px, 3.0 * px)
     painter.setBrush(Qt.BrushStyle.NoBrush)
 
 
