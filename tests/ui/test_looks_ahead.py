@@ -94,23 +94,6 @@ def _texts(window):
             for row in range(model.rowCount()) for column in range(len(COLUMNS))]
 
 
-@pytest.mark.parametrize(("key", "looks"), [(Qt.Key.Key_Up, 4), (Qt.Key.Key_Down, 2)])
-def test_a_step_after_the_window_was_idle_makes_no_design_and_solves_no_row(
-        qtbot, make_window, monkeypatch, key, looks):
-    _forget()
-    window = _open(qtbot, make_window, _plan(3))
-    _idle(qtbot, window)
-    counted = _Counted(monkeypatch, window.document)
-    _step(qtbot, window, key)
-    assert window.document.plan.settings.looks == looks
-    assert (counted.designs, counted.rows) == (0, 0)
-    monkeypatch.undo()
-    _forget()
-    fresh = _open(qtbot, make_window, _plan(looks))
-    assert window.document.result == fresh.document.result
-    assert _texts(window) == _texts(fresh)
-
-
 def _type(qtbot, window, text, end=Qt.Key.Key_Return):
     field = window.settings_panel.fields["looks"]
     field.setFocus()
@@ -123,14 +106,20 @@ def _type(qtbot, window, text, end=Qt.Key.Key_Return):
     qtbot.waitUntil(lambda: not window.document.pending())
 
 
-@pytest.mark.parametrize("looks", [12, 1, 20])
-def test_a_number_typed_after_the_window_was_idle_makes_no_design_and_solves_no_row(
-        qtbot, make_window, monkeypatch, looks):
+@pytest.mark.parametrize(("keys", "looks"), [
+    (Qt.Key.Key_Up, 4), (Qt.Key.Key_Down, 2),  # a step with the arrow keys
+    ("12", 12), ("1", 1), ("20", 20),  # a number typed, ended with Enter
+])
+def test_a_change_after_the_window_was_idle_makes_no_design_and_solves_no_row(
+        qtbot, make_window, monkeypatch, keys, looks):
     _forget()
     window = _open(qtbot, make_window, _plan(3))
     _idle(qtbot, window)
     counted = _Counted(monkeypatch, window.document)
-    _type(qtbot, window, str(looks))
+    if isinstance(keys, str):
+        _type(qtbot, window, keys)
+    else:
+        _step(qtbot, window, keys)
     assert window.document.plan.settings.looks == looks
     assert (counted.designs, counted.rows) == (0, 0)
     monkeypatch.undo()
