@@ -354,12 +354,23 @@ class SettingsPanel(QWidget):
         grid.addWidget(combo, row, column + 1, 1, span)
 
     def commit_pending(self) -> None:
-        """Commit a field the user is still typing in (before a save, so the file has it)."""
+        """Commit a field the user is still typing in (before a save or any other action of
+        the window, so that it acts on what the field shows)."""
         focused = QApplication.focusWidget()
         if focused is self.description:
             self.description.commit()
         elif isinstance(focused, QLineEdit) and focused in self.fields.values():
             focused.editingFinished.emit()
+        elif isinstance(focused, QSpinBox) and focused in self.fields.values():
+            focused.interpretText()  # a number typed, not yet ended by Enter
+
+    def drop_pending(self) -> None:
+        """Drop a number or choice the user is still typing in a field (before Undo or Redo,
+        which act on the plan): the fields show the plan again. The description's text is
+        left alone (it is committed when the description loses the focus)."""
+        focused = QApplication.focusWidget()
+        if focused is not self.description and focused in self.fields.values():
+            self.refresh()
 
     def _commit_number(self, field: str, edit: QLineEdit) -> None:
         text, _, percent, optional = NUMBER_FIELDS[field]

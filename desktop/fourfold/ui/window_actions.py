@@ -23,7 +23,10 @@ class WindowActions:
 
         An open cell editor is closed first: its text is put into the plan (``keep_edit``;
         when the plan refuses it the editor stays open and the action does not run) or
-        dropped, as Escape would (Undo and Redo act on what was in the plan).
+        dropped, as Escape would (Undo and Redo act on what was in the plan). With
+        ``keep_edit`` a settings field still being typed in is committed first too (a number
+        typed into Looks, then Ctrl+S, saves that number); before Undo and Redo its text is
+        dropped, as the cell editor's is.
         """
         action = QAction(text, self)
         if shortcut is not None:
@@ -37,10 +40,20 @@ class WindowActions:
         action.setStatusTip(tip)
         # triggered(bool) would hand its "checked" flag to a slot's first optional parameter
         # (Edit → Paste once pasted ``False``): the slot is called without arguments
-        action.triggered.connect(
-            lambda _checked=False: self.table.finish_editing(commit=keep_edit) and slot())
+        action.triggered.connect(lambda _checked=False: self._before_action(keep_edit) and slot())
         self.addAction(action)
         return action
+
+    def _before_action(self, keep_edit: bool) -> bool:
+        """Close an open cell editor and commit (``keep_edit``) or drop what a settings field
+        still holds typed; False when the action must wait (a refused cell)."""
+        if not self.table.finish_editing(commit=keep_edit):
+            return False
+        if keep_edit:
+            self.settings_panel.commit_pending()
+        else:
+            self.settings_panel.drop_pending()
+        return True
 
     def name_actions(self) -> None:
         """Name every action kept as an attribute after that attribute (``paste_action``)."""
