@@ -120,3 +120,15 @@ def test_the_comparison_gives_a_guardrails_margin_not_its_assumed_effect(tmp_pat
     lines = capsys.readouterr().out.splitlines()
     at = next(i for i, line in enumerate(lines) if line.startswith("Support contacts"))
     assert lines[at + 2].split()[:4] == ["Detectable", "effect", "margin", "+8.61"]
+
+
+def test_a_report_with_two_looks_on_one_day_says_so(qapp, tmp_path):
+    # the sample at 12 looks: its 7-day guardrails look on days 1, 2, 2, 3, 3, … (12 equal
+    # shares of 7 days, rounded up to whole days; counted by hand)
+    plan = load(sample_path())
+    plan.settings.looks = 12
+    path = tmp_path / "twelve.json"
+    path.write_text(dumps(plan), encoding="utf-8")
+    text = " ".join(_export(tmp_path, path))
+    assert ("Two looks or more on one day (Page load time (s), Page load time, p95): each is "
+            "taken when its share of the units is in, part-way through that day.") in text

@@ -138,3 +138,43 @@ def test_looks_table_matches_the_design():
     assert [look.z_futility for look in looks] == pytest.approx(list(made.lower))
     assert looks[-1].units == result.rows[0].units_total
     assert looks[-1].day == result.rows[0].days
+
+
+def _crowded(plan: Plan, result) -> list[str]:
+    """The rows whose look days repeat, read off each row (the note's claim, by hand)."""
+    return [metric.name for metric, row in zip(plan.metrics, result.rows, strict=True)
+            if row.look_days and len(set(row.look_days)) < len(row.look_days)]
+
+
+def test_a_row_with_more_looks_than_days_is_named_in_a_note():
+    # 8 equally spaced looks: a run of fewer than 8 days puts two looks on one day (days
+    # counted by hand; no outside source)
+    plan = Plan(Settings(daily_units=500, whole_weeks=False, looks=8),
+                [_mean_row(), _mean_row(name="Short", effect=0.6)])
+    result = compute(plan)
+    assert 3 <= result.rows[1].days < 8 <= result.rows[0].days
+    assert _crowded(plan, result) == ["Short"]
+    assert ("Two looks or more on one day (Short): each is taken when its share of the units "
+            "is in, part-way through that day.") in result.notes
+    assert not any(note.startswith("Two looks or more") for note in
+                   compute(_with(plan, looks=3)).notes)
+
+
+@pytest.mark.parametrize("scenario", [None, "Returning visitors, ramp-up to all traffic"])
+def test_the_note_names_exactly_the_rows_whose_look_days_repeat(scenario):
+    # on the sample at 12 looks, with constant traffic and with a reach curve and ramp-up
+    # (where a ramp's step puts two looks on one day even in a run longer than 12 days)
+    from fourfold.plan import effective, load, sample_path
+
+    sample = load(sample_path())
+    sample.settings = dataclasses.replace(sample.settings, looks=12)
+    plan = sample if scenario is None else effective(sample, scenario)
+    result = compute(plan)
+    named = _crowded(plan, result)
+    notes = [note for note in result.notes if note.startswith("Two looks or more")]
+    if named:
+        listed = ", ".join(named) if len(named) <= 3 else f"{len(named)} rows"
+        assert notes == [f"Two looks or more on one day ({listed}): each is taken when its "
+                         "share of the units is in, part-way through that day."]
+    else:
+        assert notes == []

@@ -380,18 +380,29 @@ def plan_notes(plan, rows, designs: dict | None = None) -> tuple[str, ...]:
             f"{made.expected_h1 / made.inflation * 100:.0f} % of them on average."
         )
         break
-    short = []
-    if settings.whole_weeks:  # each run of days looked at once, however many rows it has
-        runs = {row.days for row in rows if not row.reason and math.isfinite(row.days)}
+    # a row's look days follow from its run alone (the looks' shares, equal or at week ends,
+    # and the traffic), so each run of days is looked at once, however many rows it has
+    runs = {row.days: row.look_days for row in rows
+            if not row.reason and math.isfinite(row.days)}
+    if settings.whole_weeks:
         equal = {days for days in runs if week_timing(settings, days) is None}
-        short = [plan.metrics[index].name for index, row in enumerate(rows)
-                 if not row.reason and row.days in equal]
-    if short:
-        names = ", ".join(short) if len(short) <= 3 else f"{len(short)} rows"
-        notes.append(f"Fewer whole weeks than looks ({names}): those looks are equally spaced, "
-                     "not at week ends.")
+        _note_rows(notes, plan, rows, equal, "Fewer whole weeks than looks ({}): those looks "
+                   "are equally spaced, not at week ends.")
+    crowded = {days for days, at in runs.items() if at and len(set(at)) < len(at)}
+    _note_rows(notes, plan, rows, crowded, "Two looks or more on one day ({}): each is taken "
+               "when its share of the units is in, part-way through that day.")
     notes.append(peeking_text(settings.looks, settings.alpha))
     return tuple(notes)
+
+
+def _note_rows(notes: list, plan, rows, runs: set, text: str) -> None:
+    """Add ``text`` naming the computed rows whose run of days is in ``runs`` (up to three by
+    name, else their count)."""
+    if not runs:
+        return
+    named = [plan.metrics[index].name for index, row in enumerate(rows)
+             if not row.reason and row.days in runs]
+    notes.append(text.format(", ".join(named) if len(named) <= 3 else f"{len(named)} rows"))
 
 
 @dataclass(frozen=True)
