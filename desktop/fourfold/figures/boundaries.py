@@ -118,8 +118,8 @@ def paint_boundaries(painter: QPainter, rect: QRectF, looks: tuple[Look, ...],
     beyond = {k for k, look in enumerate(looks) if look.z_efficacy > z_high}
     labelled = set(range(len(looks) - 1, -1, -max(1, math.ceil(len(looks) / MAX_LABELS))))
     labelled |= beyond
-    labels = [f"z {z_text(look.z_efficacy)}" if look.z_efficacy > z_high
-              else p_text(look.p_efficacy) for look in looks]
+    labels = [f"z {z_text(look.z_efficacy)}" if k in beyond else p_text(look.p_efficacy)
+              for k, look in enumerate(looks)]
     items = _legend_items(style, bool(futile))
     stacked = (sum(30 * px + metrics.horizontalAdvance(words) for _, words in items)
                > rect.width())

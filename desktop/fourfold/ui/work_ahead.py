@@ -29,7 +29,6 @@ class WorkAhead(QObject):
 
     def __init__(self, document: PlanDocument, window: QWidget) -> None:
         super().__init__(window)
-        self._window = window
         self.document = document
         self._timer = QTimer(self)
         self._timer.setSingleShot(True)
@@ -59,7 +58,7 @@ class WorkAhead(QObject):
         """One slice; the next runs in the next turn of the event loop."""
         if self._slices is None:
             return
-        if not self._window.isVisible():
+        if not self.parent().isVisible():
             self._slices = None
             return
         if next(self._slices, _DONE) is _DONE:
